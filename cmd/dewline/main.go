@@ -1,0 +1,118 @@
+// Command dewline analyses air-handler trend logs for dehumidification and
+// reheat energy. Run "dewline help" for the commands.
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"sort"
+	"syscall"
+
+	"github.com/rs/zerolog"
+)
+
+// command is one subcommand of dewline.
+type command struct {
+	summary string
+	run     func(ctx context.Context, env *env, args []string) error
+}
+
+// env is what every command gets from main: streams and the root logger.
+type env struct {
+	stdout, stderr io.Writer
+	log            zerolog.Logger
+}
+
+var commands = map[string]command{
+	"air": {"compute one moist-air state (dry bulb with RH, dew point, wet bulb or humidity ratio)", runAir},
+}
+
+// usageError is a mistake in the command line: it prints the reason and exits 2.
+type usageError struct{ msg string }
+
+func (e *usageError) Error() string { return e.msg }
+
+func usagef(format string, a ...any) error { return &usageError{fmt.Sprintf(format, a...)} }
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	os.Exit(run(ctx, os.Args[1:], os.Stdout, os.Stderr))
+}
+
+// run executes one command line and returns the process exit code.
+func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	global := flag.NewFlagSet("dewline", flag.ContinueOnError)
+	global.SetOutput(stderr)
+	logLevel := global.String("log-level", "info", "log level: debug, info, warn, error")
+	logFormat := global.String("log-format", "json", "log format: json or console")
+	global.Usage = func() { printUsage(stderr) }
+	if err := global.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return 0
+		}
+		return 2
+	}
+	log, err := newLogger(stderr, *logLevel, *logFormat)
+	if err != nil {
+		fmt.Fprintln(stderr, "dewline:", err)
+		return 2
+	}
+	rest := global.Args()
+	if len(rest) == 0 || rest[0] == "help" || rest[0] == "-h" || rest[0] == "--help" {
+		printUsage(stdout)
+		return 0
+	}
+	cmd, ok := commands[rest[0]]
+	if !ok {
+		fmt.Fprintf(stderr, "dewline: unknown command %q; run \"dewline help\" for the list\n", rest[0])
+		return 2
+	}
+	e := &env{stdout: stdout, stderr: stderr, log: log.With().Str("command", rest[0]).Logger()}
+	if err := cmd.run(ctx, e, rest[1:]); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return 0
+		}
+		fmt.Fprintf(stderr, "dewline %s: %v\n", rest[0], err)
+		var ue *usageError
+		if errors.As(err, &ue) {
+			return 2
+		}
+		return 1
+	}
+	return 0
+}
+
+func newLogger(w io.Writer, level, format string) (zerolog.Logger, error) {
+	lvl, err := zerolog.ParseLevel(level)
+	if err != nil || level == "" {
+		return zerolog.Logger{}, fmt.Errorf("--log-level %q: use debug, info, warn or error", level)
+	}
+	switch format {
+	case "json":
+		return zerolog.New(w).Level(lvl).With().Timestamp().Logger(), nil
+	case "console":
+		return zerolog.New(zerolog.ConsoleWriter{Out: w}).Level(lvl).With().Timestamp().Logger(), nil
+	}
+	return zerolog.Logger{}, fmt.Errorf("--log-format %q: use json or console", format)
+}
+
+func printUsage(w io.Writer) {
+	fmt.Fprintln(w, "dewline: dehumidification and reheat energy from air-handler trend logs")
+	fmt.Fprintln(w, "\nusage: dewline [--log-level L] [--log-format json|console] COMMAND [flags]")
+	fmt.Fprintln(w, "\ncommands:")
+	names := make([]string, 0, len(commands))
+	for n := range commands {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	for _, n := range names {
+		fmt.Fprintf(w, "  %-10s %s\n", n, commands[n].summary)
+	}
+	fmt.Fprintln(w, "\nRun \"dewline COMMAND -h\" for a command's flags.")
+}

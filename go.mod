@@ -1,0 +1,21 @@
+module github.com/dewline/dewline
+
+go 1.26.8
+
+require (
+	github.com/influxdata/influxdb-client-go/v2 v2.14.0
+	github.com/stretchr/testify v1.12.1
+)
+
+require (
+	github.com/apapsch/go-jsonmerge/v2 v2.0.0 // indirect
+	github.com/google/uuid v1.3.1 // indirect
+	github.com/influxdata/line-protocol v0.0.0-20200327222509-2487e7298839 // indirect
+	github.com/mattn/go-colorable v0.1.14 // indirect
+	github.com/mattn/go-isatty v0.0.20 // indirect
+	github.com/oapi-codegen/runtime v1.0.0 // indirect
+	github.com/rs/zerolog v1.35.1 // indirect
+	go.yaml.in/yaml/v3 v3.0.5 // indirect
+	golang.org/x/net v0.23.0 // indirect
+	golang.org/x/sys v0.29.0 // indirect
+)

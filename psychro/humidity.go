@@ -1,0 +1,257 @@
+package psychro
+
+import "math"
+
+// HumRatioFromVapPressure returns W (kg/kg) from the partial pressure of
+// water vapour pwPa and the total pressure pPa (ASHRAE ch. 1 eq. 20).
+func HumRatioFromVapPressure(pwPa, pPa float64) (float64, error) {
+	if err := checkPressure(pPa); err != nil {
+		return 0, err
+	}
+	if !finite(pwPa) {
+		return 0, notFinite(inVapPressure, pwPa)
+	}
+	if pwPa < 0 {
+		return 0, outOfRange(inVapPressure, pwPa, "must not be negative")
+	}
+	if pwPa >= pPa {
+		return 0, outOfRange(inPressure, pPa, "at or below the vapour pressure; check the pressure unit")
+	}
+	return MolarMassRatio * pwPa / (pPa - pwPa), nil
+}
+
+// VapPressureFromHumRatio returns the partial pressure of water vapour in Pa
+// from W (kg/kg) and total pressure pPa (eq. 20 solved for p_w).
+func VapPressureFromHumRatio(w, pPa float64) (float64, error) {
+	if err := checkPressure(pPa); err != nil {
+		return 0, err
+	}
+	if err := checkHumRatio(w); err != nil {
+		return 0, err
+	}
+	return pPa * w / (MolarMassRatio + w), nil
+}
+
+// SatHumRatio returns the humidity ratio at saturation W_s (kg/kg) at tC and
+// pPa (eq. 20 with p_w = p_ws(t)). It is an error when p_ws(t) reaches the total pressure
+// (boiling), where no saturated moist air exists.
+func SatHumRatio(tC, pPa float64) (float64, error) {
+	if err := checkTemp(inDryBulb, tC); err != nil {
+		return 0, err
+	}
+	if err := checkPressure(pPa); err != nil {
+		return 0, err
+	}
+	pws := satVapPressure(tC)
+	if pws >= pPa {
+		return 0, outOfRange(inPressure, pPa, "at or below the saturation pressure at this temperature (water boils)")
+	}
+	return MolarMassRatio * pws / (pPa - pws), nil
+}
+
+// HumRatioFromRH returns W (kg/kg) from dry bulb tC, relative humidity rhFrac
+// (0..1) and total pressure pPa (eqs. 22 and 20; RH as defined by eq. 24).
+func HumRatioFromRH(tC, rhFrac, pPa float64) (float64, error) {
+	if err := checkTemp(inDryBulb, tC); err != nil {
+		return 0, err
+	}
+	if err := checkRH(inRH, rhFrac); err != nil {
+		return 0, err
+	}
+	if err := checkPressure(pPa); err != nil {
+		return 0, err
+	}
+	pw := rhFrac * satVapPressure(tC)
+	if pw >= pPa {
+		return 0, outOfRange(inPressure, pPa, "at or below the vapour pressure; check the pressure unit")
+	}
+	return MolarMassRatio * pw / (pPa - pw), nil
+}
+
+// RHFromHumRatio returns the relative humidity (fraction) of air at tC with
+// humidity ratio w at pressure pPa (eq. 24). A result above 1 means the
+// values describe supersaturated air (fog) or a sensor error; callers decide.
+func RHFromHumRatio(tC, w, pPa float64) (float64, error) {
+	if err := checkTemp(inDryBulb, tC); err != nil {
+		return 0, err
+	}
+	pw, err := VapPressureFromHumRatio(w, pPa)
+	if err != nil {
+		return 0, err
+	}
+	return pw / satVapPressure(tC), nil
+}
+
+// HumRatioFromDewPoint returns W (kg/kg) of air whose dew point is tdC at
+// pressure pPa (eq. 20 with p_w = p_ws(t_d)).
+func HumRatioFromDewPoint(tdC, pPa float64) (float64, error) {
+	if err := checkTemp(inDewPoint, tdC); err != nil {
+		return 0, err
+	}
+	if err := checkPressure(pPa); err != nil {
+		return 0, err
+	}
+	pw := satVapPressure(tdC)
+	if pw >= pPa {
+		return 0, outOfRange(inPressure, pPa, "at or below the vapour pressure at this dew point")
+	}
+	return MolarMassRatio * pw / (pPa - pw), nil
+}
+
+// DewPointFromHumRatio returns the dew point (°C) of air with humidity ratio
+// w at pressure pPa. W = 0 has no dew point and is an error.
+func DewPointFromHumRatio(w, pPa float64) (float64, error) {
+	pw, err := VapPressureFromHumRatio(w, pPa)
+	if err != nil {
+		return 0, err
+	}
+	if pw < satPressureMin {
+		return 0, outOfRange(inHumRatio, w, "too dry: the dew point would be below -100 °C")
+	}
+	if pw > satPressureMax {
+		return 0, outOfRange(inHumRatio, w, "the dew point would be above 200 °C")
+	}
+	return dewPoint(pw)
+}
+
+// HumRatioFromWetBulb returns W (kg/kg) from dry bulb tC, thermodynamic wet
+// bulb twbC and pressure pPa: ASHRAE ch. 1 eq. 33 when the wet bulb is at or
+// above freezing, eq. 35 (ice bulb) below.
+func HumRatioFromWetBulb(tC, twbC, pPa float64) (float64, error) {
+	return humRatioFromWetBulb(&wbSI, tC, twbC, pPa)
+}
+
+func humRatioFromWetBulb(form *wbForm, tC, twbC, pPa float64) (float64, error) {
+	if err := checkTemp(inDryBulb, tC); err != nil {
+		return 0, err
+	}
+	if err := checkTemp(inWetBulb, twbC); err != nil {
+		return 0, err
+	}
+	if err := checkPressure(pPa); err != nil {
+		return 0, err
+	}
+	if twbC > tC {
+		return 0, outOfRange(inWetBulb, twbC, "above the dry bulb; swap the values or check the units")
+	}
+	pws := satVapPressure(twbC)
+	if pws >= pPa {
+		return 0, outOfRange(inPressure, pPa, "at or below the saturation pressure at the wet bulb")
+	}
+	w := form.w(tC, twbC, MolarMassRatio*pws/(pPa-pws))
+	if w < 0 {
+		return 0, outOfRange(inWetBulb, twbC, "too low for this dry bulb: no moist air has that wet bulb")
+	}
+	return w, nil
+}
+
+// wbForm holds the coefficients of eq. 33 (wet bulb over water) and eq. 35
+// (over ice) in one unit system. The handbook prints an SI and an IP form
+// whose coefficients are rounded separately, so they differ by up to 0.3 %
+// in W below freezing; each system's results use its own form.
+type wbForm struct {
+	toSys      func(tC float64) float64 // °C to the form's temperature unit
+	perK       float64                  // the form's degrees per kelvin
+	freezing   float64                  // wet bulb where eq. 35 takes over, in the form's unit
+	cpa, cpv   float64                  // dry-air and vapour specific heats
+	aW, bW, fW float64                  // eq. 33: ((aW - bW t*) Ws* - cpa (t - t*)) / (aW + cpv t - fW t*)
+	aI, bI, fI float64                  // eq. 35, the same shape with ice terms
+}
+
+var (
+	wbSI = wbForm{toSys: func(c float64) float64 { return c }, perK: 1, freezing: 0,
+		cpa: CpDryAir, cpv: CpVapour, aW: HgZero, bW: 2.326, fW: CpLiquidWater, aI: 2830, bI: 0.24, fI: CpIce}
+	wbIP = wbForm{toSys: CToF, perK: 1.8, freezing: 32,
+		cpa: 0.240, cpv: 0.444, aW: 1093, bW: 0.556, fW: 1, aI: 1220, bI: 0.04, fI: 0.48}
+)
+
+// w returns W from eq. 33 or 35 given W_s* at the wet bulb (temperatures in °C).
+func (f *wbForm) w(tC, twbC, wsStar float64) float64 {
+	t, ts := f.toSys(tC), f.toSys(twbC)
+	a, b, g := f.aW, f.bW, f.fW
+	if ts < f.freezing {
+		a, b, g = f.aI, f.bI, f.fI
+	}
+	return ((a-b*ts)*wsStar - f.cpa*(t-ts)) / (a + f.cpv*t - g*ts)
+}
+
+// dw is dW/dt* in 1/K, given dWs*/dt* in 1/K, for Newton's method.
+func (f *wbForm) dw(tC, twbC, wsStar, dWsStarK float64) float64 {
+	t, ts := f.toSys(tC), f.toSys(twbC)
+	a, b, g := f.aW, f.bW, f.fW
+	if ts < f.freezing {
+		a, b, g = f.aI, f.bI, f.fI
+	}
+	n := (a-b*ts)*wsStar - f.cpa*(t-ts)
+	den := a + f.cpv*t - g*ts
+	dn := -b*wsStar + (a-b*ts)*dWsStarK/f.perK + f.cpa // per degree of the form
+	return (dn*den + n*g) / (den * den) * f.perK
+}
+
+// WetBulbFromHumRatio returns the thermodynamic wet bulb (°C) of air at tC
+// with humidity ratio w and pressure pPa: eq. 33/35 solved for t* by a
+// Newton iteration kept inside the bracket [dew point, dry bulb].
+func WetBulbFromHumRatio(tC, w, pPa float64) (float64, error) {
+	if err := checkTemp(inDryBulb, tC); err != nil {
+		return 0, err
+	}
+	td, err := DewPointFromHumRatio(w, pPa)
+	if err != nil {
+		return 0, err
+	}
+	if td > tC+1e-9 {
+		return 0, outOfRange(inHumRatio, w, "above saturation at this dry bulb (dew point above dry bulb)")
+	}
+	return wetBulb(&wbSI, tC, w, pPa, math.Min(td, tC))
+}
+
+// wetBulb solves for t* given a valid state and its dew point tdC.
+func wetBulb(form *wbForm, tC, w, pPa, tdC float64) (float64, error) {
+	lo, hi := tdC, tC
+	if hi-lo < 1e-9 {
+		return tC, nil
+	}
+	// Seed: the wet bulb sits about a third of the way down from the dry
+	// bulb to the dew point in the HVAC range (common practice, no source);
+	// Newton then converges in two to four steps.
+	t := tC - (tC-tdC)/3
+	for i := 0; i < 60; i++ {
+		pws := satVapPressure(t)
+		if pws >= pPa {
+			// Only near boiling; step down by bisection.
+			hi = t
+			t = 0.5 * (lo + hi)
+			continue
+		}
+		ws := MolarMassRatio * pws / (pPa - pws)
+		f := form.w(tC, t, ws) - w
+		if f > 0 {
+			hi = t
+		} else {
+			lo = t
+		}
+		dws := MolarMassRatio * pPa * pws * dLnSatVapPressure(t) / ((pPa - pws) * (pPa - pws))
+		df := form.dw(tC, t, ws, dws)
+		next := t - f/df
+		if !(next > lo && next < hi) || df <= 0 {
+			next = 0.5 * (lo + hi) // Newton left the bracket: bisect instead.
+		}
+		if math.Abs(next-t) < 1e-9 || hi-lo < 1e-9 {
+			return next, nil
+		}
+		t = next
+	}
+	return 0, &InputError{Input: inHumRatio, Value: w, Reason: "wet bulb iteration did not converge", Err: ErrNoConvergence}
+}
+
+// DegreeOfSaturation returns μ = W / W_s(t, p) (ASHRAE ch. 1 definition of the degree of saturation).
+func DegreeOfSaturation(tC, w, pPa float64) (float64, error) {
+	if err := checkHumRatio(w); err != nil {
+		return 0, err
+	}
+	ws, err := SatHumRatio(tC, pPa)
+	if err != nil {
+		return 0, err
+	}
+	return w / ws, nil
+}

@@ -1,0 +1,110 @@
+package psychro
+
+import "math"
+
+// Hyland-Wexler coefficients, ASHRAE Handbook - Fundamentals (2017) ch. 1.
+// Eq. 5, over ice, -100..0 °C.
+const (
+	c1 = -5.6745359e+03
+	c2 = 6.3925247e+00
+	c3 = -9.6778430e-03
+	c4 = 6.2215701e-07
+	c5 = 2.0747825e-09
+	c6 = -9.4840240e-13
+	c7 = 4.1635019e+00
+)
+
+// Eq. 6, over liquid water, 0..200 °C.
+const (
+	c8  = -5.8002206e+03
+	c9  = 1.3914993e+00
+	c10 = -4.8640239e-02
+	c11 = 4.1764768e-05
+	c12 = -1.4452093e-08
+	c13 = 6.5459673e+00
+)
+
+// SatVapPressure returns the saturation pressure of water vapour in Pa at
+// tC (°C): over ice at or below the triple point (ASHRAE ch. 1 eq. 5), over
+// liquid water above it (eq. 6). Valid for -100..200 °C.
+func SatVapPressure(tC float64) (float64, error) {
+	if err := checkTemp(inTemperature, tC); err != nil {
+		return 0, err
+	}
+	return satVapPressure(tC), nil
+}
+
+// lnSatVapPressure is ln(p_ws / Pa) from eqs. 5 and 6, unchecked.
+func lnSatVapPressure(tC float64) float64 {
+	t := tC + ZeroCelsiusK
+	if tC <= TriplePointC {
+		return c1/t + c2 + t*(c3+t*(c4+t*(c5+t*c6))) + c7*math.Log(t)
+	}
+	return c8/t + c9 + t*(c10+t*(c11+t*c12)) + c13*math.Log(t)
+}
+
+// dLnSatVapPressure is d ln(p_ws)/dt in 1/K, the analytic derivative of eqs. 5 and 6.
+func dLnSatVapPressure(tC float64) float64 {
+	t := tC + ZeroCelsiusK
+	if tC <= TriplePointC {
+		return -c1/(t*t) + c3 + t*(2*c4+t*(3*c5+t*4*c6)) + c7/t
+	}
+	return -c8/(t*t) + c10 + t*(2*c11+t*3*c12) + c13/t
+}
+
+func satVapPressure(tC float64) float64 { return math.Exp(lnSatVapPressure(tC)) }
+
+// satPressureMin and satPressureMax are p_ws at the ends of the valid range.
+var (
+	satPressureMin = satVapPressure(MinTempC)
+	satPressureMax = satVapPressure(MaxTempC)
+)
+
+// DewPointFromVapPressure returns the dew point (°C; frost point below the
+// triple point) at which the saturation pressure equals pwPa, by Newton
+// iteration on ln p_ws (eqs. 5 and 6 inverted). The handbook's explicit fits
+// (eqs. 39-40) are less accurate and narrower, so they only seed the iteration.
+func DewPointFromVapPressure(pwPa float64) (float64, error) {
+	if !finite(pwPa) {
+		return 0, notFinite(inVapPressure, pwPa)
+	}
+	if pwPa < satPressureMin || pwPa > satPressureMax {
+		return 0, outOfRange(inVapPressure, pwPa, "outside the saturation pressures of -100..200 °C")
+	}
+	return dewPoint(pwPa)
+}
+
+// dewPoint inverts eqs. 5/6 for a pressure already known to be in range.
+func dewPoint(pwPa float64) (float64, error) {
+	lnPw := math.Log(pwPa)
+	// Seed with the Magnus form over water or ice (a few hundredths of a
+	// kelvin from the answer in the HVAC range), then Newton: ln p_ws is
+	// smooth and nearly linear in 1/T, so two or three steps reach 1e-9 K.
+	var td float64
+	g := lnPw - math.Log(611.2)
+	if g >= 0 {
+		td = 243.12 * g / (17.62 - g)
+	} else {
+		td = 272.62 * g / (22.46 - g)
+	}
+	td = clamp(td, MinTempC, MaxTempC)
+	for i := 0; i < 50; i++ {
+		step := (lnSatVapPressure(td) - lnPw) / dLnSatVapPressure(td)
+		next := clamp(td-step, MinTempC, MaxTempC)
+		if math.Abs(next-td) < 1e-9 {
+			return next, nil
+		}
+		td = next
+	}
+	return 0, &InputError{Input: inVapPressure, Value: pwPa, Reason: "dew point iteration did not converge", Err: ErrNoConvergence}
+}
+
+func clamp(v, lo, hi float64) float64 {
+	if v < lo {
+		return lo
+	}
+	if v > hi {
+		return hi
+	}
+	return v
+}
