@@ -167,9 +167,14 @@ var (
 
 // w returns W from eq. 33 or 35 given W_s* at the wet bulb (temperatures in °C).
 func (f *wbForm) w(tC, twbC, wsStar float64) float64 {
+	return f.wBranch(tC, twbC, wsStar, f.toSys(twbC) < f.freezing)
+}
+
+// wBranch evaluates eq. 35 (ice) when ice is true, else eq. 33.
+func (f *wbForm) wBranch(tC, twbC, wsStar float64, ice bool) float64 {
 	t, ts := f.toSys(tC), f.toSys(twbC)
 	a, b, g := f.aW, f.bW, f.fW
-	if ts < f.freezing {
+	if ice {
 		a, b, g = f.aI, f.bI, f.fI
 	}
 	return ((a-b*ts)*wsStar - f.cpa*(t-ts)) / (a + f.cpv*t - g*ts)
@@ -210,6 +215,17 @@ func wetBulb(form *wbForm, tC, w, pPa, tdC float64) (float64, error) {
 	lo, hi := tdC, tC
 	if hi-lo < 1e-9 {
 		return tC, nil
+	}
+	// At the freezing point eq. 35 gives a larger W than eq. 33, so for very
+	// dry air a band of W has a root on both branches. Physically the wetted
+	// bulb then sits on the ice-water plateau at the freezing point, which is
+	// the answer returned (ASHRAE's equations leave the choice open).
+	if lo < 0 && hi > 0 && pPa > satVapPressure(0) {
+		pws0 := satVapPressure(0)
+		ws0 := MolarMassRatio * pws0 / (pPa - pws0)
+		if form.wBranch(tC, 0, ws0, false) < w && w < form.wBranch(tC, 0, ws0, true) {
+			return 0, nil
+		}
 	}
 	// Seed: the wet bulb sits about a third of the way down from the dry
 	// bulb to the dew point in the HVAC range (common practice, no source);
