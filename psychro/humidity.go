@@ -150,20 +150,22 @@ func humRatioFromWetBulb(form *wbForm, tC, twbC, pPa float64) (float64, error) {
 // whose coefficients are rounded separately, so they differ by up to 0.3 %
 // in W below freezing; each system's results use its own form.
 type wbForm struct {
-	toSys      func(tC float64) float64 // °C to the form's temperature unit
-	perK       float64                  // the form's degrees per kelvin
-	freezing   float64                  // wet bulb where eq. 35 takes over, in the form's unit
-	cpa, cpv   float64                  // dry-air and vapour specific heats
-	aW, bW, fW float64                  // eq. 33: ((aW - bW t*) Ws* - cpa (t - t*)) / (aW + cpv t - fW t*)
-	aI, bI, fI float64                  // eq. 35, the same shape with ice terms
+	perK, off  float64 // the form's temperature = perK °C + off
+	freezing   float64 // wet bulb where eq. 35 takes over, in the form's unit
+	cpa, cpv   float64 // dry-air and vapour specific heats
+	aW, bW, fW float64 // eq. 33: ((aW - bW t*) Ws* - cpa (t - t*)) / (aW + cpv t - fW t*)
+	aI, bI, fI float64 // eq. 35, the same shape with ice terms
 }
 
 var (
-	wbSI = wbForm{toSys: func(c float64) float64 { return c }, perK: 1, freezing: 0,
+	wbSI = wbForm{perK: 1, off: 0, freezing: 0,
 		cpa: CpDryAir, cpv: CpVapour, aW: HgZero, bW: 2.326, fW: CpLiquidWater, aI: 2830, bI: 0.24, fI: CpIce}
-	wbIP = wbForm{toSys: CToF, perK: 1.8, freezing: 32,
+	wbIP = wbForm{perK: 1.8, off: 32, freezing: 32,
 		cpa: 0.240, cpv: 0.444, aW: 1093, bW: 0.556, fW: 1, aI: 1220, bI: 0.04, fI: 0.48}
 )
+
+// toSys converts °C to the form's temperature unit.
+func (f *wbForm) toSys(tC float64) float64 { return tC*f.perK + f.off }
 
 // w returns W from eq. 33 or 35 given W_s* at the wet bulb (temperatures in °C).
 func (f *wbForm) w(tC, twbC, wsStar float64) float64 {
@@ -178,6 +180,26 @@ func (f *wbForm) wBranch(tC, twbC, wsStar float64, ice bool) float64 {
 		a, b, g = f.aI, f.bI, f.fI
 	}
 	return ((a-b*ts)*wsStar - f.cpa*(t-ts)) / (a + f.cpv*t - g*ts)
+}
+
+// linearSeed solves the form's equation for t* with W_s(t*) replaced by
+// w + slope (t* - tdC), slope in 1/K. The branch is chosen by the dew point.
+func (f *wbForm) linearSeed(tC, tdC, w, slope float64) float64 {
+	a, b, g := f.aW, f.bW, f.fW
+	if f.toSys(tdC) < f.freezing {
+		a, b, g = f.aI, f.bI, f.fI
+	}
+	// In the form's units: (a - b x)(w + s (x - xd)) - cpa (t - x) = w (a + cpv t - g x),
+	// a quadratic in x; the -b s x² term is small, so one fixed-point pass
+	// on the linear part is enough for a seed.
+	s := slope / f.perK
+	t, xd := f.toSys(tC), f.toSys(tdC)
+	// Collected: den x - b s x² = num, with den and num below.
+	den := a*s - b*w + b*s*xd + f.cpa + g*w
+	num := a*s*xd + f.cpa*t + w*f.cpv*t
+	x := num / den
+	x = (num + b*s*x*x) / den // one fixed-point pass for the quadratic term
+	return (x - f.off) / f.perK
 }
 
 // dw is dW/dt* in 1/K, given dWs*/dt* in 1/K, for Newton's method.
@@ -227,10 +249,16 @@ func wetBulb(form *wbForm, tC, w, pPa, tdC float64) (float64, error) {
 			return 0, nil
 		}
 	}
-	// Seed: the wet bulb sits about a third of the way down from the dry
-	// bulb to the dew point in the HVAC range (common practice, no source);
-	// Newton then converges in two to four steps.
-	t := tC - (tC-tdC)/3
+	// Seed: replace W_s(t*) by its tangent at the dew point, where W_s = W,
+	// and solve eq. 33/35 for t* (linear then). The tangent lies below the
+	// convex W_s curve, so the seed overshoots a little; Newton then needs
+	// two or three steps.
+	pwd := pPa * w / (MolarMassRatio + w)
+	slope := MolarMassRatio * pPa * pwd * dLnSatVapPressure(tdC) / ((pPa - pwd) * (pPa - pwd))
+	t := form.linearSeed(tC, tdC, w, slope)
+	if !(t > lo && t < hi) {
+		t = 0.5 * (lo + hi)
+	}
 	for i := 0; i < 60; i++ {
 		pws := satVapPressure(t)
 		if pws >= pPa {
@@ -241,6 +269,9 @@ func wetBulb(form *wbForm, tC, w, pPa, tdC float64) (float64, error) {
 		}
 		ws := MolarMassRatio * pws / (pPa - pws)
 		f := form.w(tC, t, ws) - w
+		if f == 0 {
+			return t, nil
+		}
 		if f > 0 {
 			hi = t
 		} else {
@@ -252,7 +283,10 @@ func wetBulb(form *wbForm, tC, w, pPa, tdC float64) (float64, error) {
 		if !(next > lo && next < hi) || df <= 0 {
 			next = 0.5 * (lo + hi) // Newton left the bracket: bisect instead.
 		}
-		if math.Abs(next-t) < 1e-9 || hi-lo < 1e-9 {
+		// Quadratic convergence: the error left after a step d is about
+		// C d² with C = |f''/2f'| < 0.1 /K for eq. 33/35 (W_s grows by under
+		// 10 %/K), so a step below 1e-4 K leaves less than 1e-9 K.
+		if math.Abs(next-t) < 1e-4 || hi-lo < 1e-9 {
 			return next, nil
 		}
 		t = next

@@ -147,3 +147,21 @@ func TestWetBulb_Continuity(t *testing.T) {
 		prev = s.WetBulbC
 	}
 }
+
+// TestWetBulb_RoundTrip: the wet bulb returned satisfies eq. 33/35, i.e.
+// feeding it back gives the humidity ratio it came from (the plateau states
+// of very dry air near 0 °C excepted, where no single root exists).
+func TestWetBulb_RoundTrip(t *testing.T) {
+	for tc := -30.0; tc <= 55; tc += 1.7 {
+		for rh := 0.02; rh <= 1.0; rh += 0.049 {
+			s, err := psychro.NewStateRH(tc, rh, 95000)
+			require.NoError(t, err)
+			if s.WetBulbC == 0 {
+				continue
+			}
+			w, err := psychro.HumRatioFromWetBulb(tc, s.WetBulbC, 95000)
+			require.NoError(t, err)
+			assert.InDelta(t, s.HumRatio, w, 1e-9*math.Max(s.HumRatio, 1e-3), "t=%.1f rh=%.3f", tc, rh)
+		}
+	}
+}

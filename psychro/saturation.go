@@ -81,7 +81,7 @@ func dewPoint(pwPa float64) (float64, error) {
 	// kelvin from the answer in the HVAC range), then Newton: ln p_ws is
 	// smooth and nearly linear in 1/T, so two or three steps reach 1e-9 K.
 	var td float64
-	g := lnPw - math.Log(611.2)
+	g := lnPw - lnMagnusP0
 	if g >= 0 {
 		td = 243.12 * g / (17.62 - g)
 	} else {
@@ -91,13 +91,19 @@ func dewPoint(pwPa float64) (float64, error) {
 	for i := 0; i < 50; i++ {
 		step := (lnSatVapPressure(td) - lnPw) / dLnSatVapPressure(td)
 		next := clamp(td-step, MinTempC, MaxTempC)
-		if math.Abs(next-td) < 1e-9 {
+		// Newton converges quadratically and ln p_ws is nearly linear in t
+		// (|f''/2f'| < 0.01 /K), so after a step below 1e-4 K the error
+		// left is below 1e-10 K.
+		if math.Abs(next-td) < 1e-4 {
 			return next, nil
 		}
 		td = next
 	}
 	return 0, &InputError{Input: inVapPressure, Value: pwPa, Reason: "dew point iteration did not converge", Err: ErrNoConvergence}
 }
+
+// lnMagnusP0 is ln(611.2 Pa), the reference pressure of the Magnus seed.
+var lnMagnusP0 = math.Log(611.2)
 
 func clamp(v, lo, hi float64) float64 {
 	if v < lo {
