@@ -1,0 +1,15 @@
+#!/usr/bin/env bash
+# Runs dewline's benchmarks. The psychro benchmarks named ...VsPsychrolib also
+# time npm psychrolib on the same state grid in the same run and report the
+# ratio (x_psychrolib). Extra arguments go to `go test` (e.g. -benchtime=3s).
+set -euo pipefail
+ROOT=$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd -P)
+cd "$ROOT"
+command -v go >/dev/null || PATH=/usr/local/go/bin:$PATH
+CACHE=${DEWLINE_CACHE:-${XDG_CACHE_HOME:-$HOME/.cache}/dewline}
+if [[ ! -f $CACHE/npm/node_modules/psychrolib/psychrolib.js ]]; then
+	mkdir -p "$CACHE/npm"
+	npm install --prefix "$CACHE/npm" --no-audit --no-fund --loglevel=error psychrolib@1.1.1 >&2
+fi
+export DEWLINE_PSYCHROLIB=$CACHE/npm/node_modules/psychrolib
+go test -run '^$' -bench . -benchmem "$@" ./psychro/...
