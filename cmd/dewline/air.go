@@ -8,7 +8,6 @@ import (
 	"io"
 	"strings"
 
-	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/psychro"
 )
 
@@ -30,7 +29,6 @@ type airJSON struct {
 
 func runAir(_ context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("air", flag.ContinueOnError)
-	fs.SetOutput(e.stderr)
 	db := fs.String("db", "", "dry bulb, e.g. 75F or 24C (required)")
 	rh := fs.String("rh", "", "relative humidity, e.g. 50 or 50%")
 	dp := fs.String("dp", "", "dew point, e.g. 55F or 13C")
@@ -41,14 +39,11 @@ func runAir(_ context.Context, e *env, args []string) error {
 	units := fs.String("units", "auto", "display units: si, ip, or auto (those of --db)")
 	asJSON := fs.Bool("json", false, "print one JSON object with SI values")
 	fs.Usage = func() {
-		fmt.Fprintln(e.stderr, "usage: dewline air --db T (--rh RH | --dp T | --wb T | --w W) [--altitude Z | --pressure P] [--units si|ip] [--json]")
+		fmt.Fprintln(fs.Output(), "usage: dewline air --db T (--rh RH | --dp T | --wb T | --w W) [--altitude Z | --pressure P] [--units si|ip] [--json]")
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
+	if err := parseFlags(fs, args, e.stdout); err != nil {
 		return err
-	}
-	if fs.NArg() > 0 {
-		return usagef("unexpected argument %q", fs.Arg(0))
 	}
 	if *units != "auto" && *units != "si" && *units != "ip" {
 		return usagef("--units %q: use si, ip or auto", *units)
@@ -65,7 +60,7 @@ func runAir(_ context.Context, e *env, args []string) error {
 	if *db == "" {
 		return usagef("--db is required, e.g. --db 75F")
 	}
-	tC, tUnit, err := ingest.ParseQuantity(*db, ingest.KindTemperature, defT)
+	tC, tUnit, err := psychro.ParseQuantity(*db, psychro.KindTemperature, defT)
 	if err != nil {
 		return usagef("--db: %v", err)
 	}
@@ -76,7 +71,7 @@ func runAir(_ context.Context, e *env, args []string) error {
 	case *alt != "" && *pres != "":
 		return usagef("give --altitude or --pressure, not both")
 	case *alt != "":
-		z, _, err := ingest.ParseQuantity(*alt, ingest.KindLength, defL)
+		z, _, err := psychro.ParseQuantity(*alt, psychro.KindLength, defL)
 		if err != nil {
 			return usagef("--altitude: %v", err)
 		}
@@ -84,7 +79,7 @@ func runAir(_ context.Context, e *env, args []string) error {
 			return fmt.Errorf("--altitude: %w", err)
 		}
 	case *pres != "":
-		if pPa, _, err = ingest.ParseQuantity(*pres, ingest.KindPressure, defP); err != nil {
+		if pPa, _, err = psychro.ParseQuantity(*pres, psychro.KindPressure, defP); err != nil {
 			return usagef("--pressure: %v", err)
 		}
 	}
@@ -101,7 +96,7 @@ func runAir(_ context.Context, e *env, args []string) error {
 	var s psychro.State
 	switch {
 	case *rh != "":
-		v, _, err := ingest.ParseQuantity(*rh, ingest.KindRH, "%")
+		v, _, err := psychro.ParseQuantity(*rh, psychro.KindRH, "%")
 		if err != nil {
 			return usagef("--rh: %v", err)
 		}
@@ -113,7 +108,7 @@ func runAir(_ context.Context, e *env, args []string) error {
 			return fmt.Errorf("--rh: %w", err)
 		}
 	case *dp != "":
-		v, _, err := ingest.ParseQuantity(*dp, ingest.KindTemperature, defT)
+		v, _, err := psychro.ParseQuantity(*dp, psychro.KindTemperature, defT)
 		if err != nil {
 			return usagef("--dp: %v", err)
 		}
@@ -121,7 +116,7 @@ func runAir(_ context.Context, e *env, args []string) error {
 			return fmt.Errorf("--dp: %w", err)
 		}
 	case *wb != "":
-		v, _, err := ingest.ParseQuantity(*wb, ingest.KindTemperature, defT)
+		v, _, err := psychro.ParseQuantity(*wb, psychro.KindTemperature, defT)
 		if err != nil {
 			return usagef("--wb: %v", err)
 		}
@@ -135,7 +130,7 @@ func runAir(_ context.Context, e *env, args []string) error {
 			return fmt.Errorf("--wb: %w", err)
 		}
 	default:
-		v, _, err := ingest.ParseQuantity(*hr, ingest.KindHumRatio, "kg/kg")
+		v, _, err := psychro.ParseQuantity(*hr, psychro.KindHumRatio, "kg/kg")
 		if err != nil {
 			return usagef("--w: %v", err)
 		}

@@ -88,6 +88,27 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	return 0
 }
 
+// parseFlags parses a command's flags. Mistakes come back as a one-line
+// usage error; -h prints the flags to w and returns flag.ErrHelp.
+func parseFlags(fs *flag.FlagSet, args []string, w io.Writer) error {
+	usage := fs.Usage
+	fs.SetOutput(io.Discard)
+	fs.Usage = func() {}
+	err := fs.Parse(args)
+	if errors.Is(err, flag.ErrHelp) {
+		fs.SetOutput(w)
+		usage()
+		return err
+	}
+	if err != nil {
+		return usagef("%v (run \"dewline %s -h\" for the flags)", err, fs.Name())
+	}
+	if fs.NArg() > 0 {
+		return usagef("unexpected argument %q (run \"dewline %s -h\" for the flags)", fs.Arg(0), fs.Name())
+	}
+	return nil
+}
+
 func newLogger(w io.Writer, level, format string) (zerolog.Logger, error) {
 	lvl, err := zerolog.ParseLevel(level)
 	if err != nil || level == "" {

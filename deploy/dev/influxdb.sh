@@ -12,6 +12,7 @@ set -euo pipefail
 
 INFLUXDB_VERSION=v1.8.3
 INFLUXDB_PKG=github.com/influxdata/influxdb/cmd/influxd
+[[ -n ${HOME:-} ]] || export HOME=~
 CACHE=${DEWLINE_CACHE:-${XDG_CACHE_HOME:-$HOME/.cache}/dewline}
 INFLUXD=$CACHE/bin/influxd
 TEST_DB=${DEWLINE_INFLUX_TEST_DB:-dewline_test}
@@ -89,7 +90,7 @@ http_status() {
 	local path=/${url#http://*/}
 	local body=
 	if [[ -n $form ]]; then
-		local k=${form%%=*} v=${form#*=} enc= c j
+		local k=${form%%=*} v=${form#*=} enc='' c j
 		for ((j = 0; j < ${#v}; j++)); do
 			c=${v:j:1}
 			case $c in
@@ -100,6 +101,7 @@ http_status() {
 		body="$k=$enc"
 	fi
 	local status
+	# shellcheck disable=SC2016 # expanded by the inner shell
 	status=$(timeout 5 bash -c '
 		exec 3<>"/dev/tcp/${1%:*}/${1##*:}" || exit 1
 		printf "%s %s HTTP/1.0\r\nHost: %s\r\nContent-Type: application/x-www-form-urlencoded\r\nContent-Length: %d\r\n\r\n%s" \
@@ -257,6 +259,10 @@ cmd_start() {
 			continue
 		fi
 		log_tail "$logfile"
+		if ! kill -0 "$pid" 2>/dev/null; then
+			rm -f "$pidfile"
+			die "influxd exited before answering GET /ping"
+		fi
 		cmd_stop "$dir" || true
 		die "influxd did not answer GET /ping with 204 within ${START_TIMEOUT}s (last status $status)"
 	done

@@ -18,6 +18,11 @@ set -euo pipefail
 ROOT=$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd -P)
 cd "$ROOT"
 
+# CI may hand over a bare environment: go and npm need HOME, and go may not be
+# on PATH yet where it was just unpacked.
+[[ -n ${HOME:-} ]] || export HOME=~
+command -v go >/dev/null || PATH=/usr/local/go/bin:$PATH
+
 export DEWLINE_CACHE=${DEWLINE_CACHE:-${XDG_CACHE_HOME:-$HOME/.cache}/dewline}
 CACHE=$DEWLINE_CACHE
 PSYCHROLIB_VERSION=1.1.1
@@ -30,11 +35,12 @@ FUZZ_TIME=${DEWLINE_FUZZ_TIME:-10s}
 #   "./psychro FuzzDewPoint"
 # Each runs as: go test -run='^$' -fuzz='^FuzzName$' -fuzztime=$FUZZ_TIME PACKAGE
 FUZZ_TARGETS=(
+	"./psychro FuzzState"
 )
 
-# setup_extras: installs what browser tests need before `go test` runs (for
-# Chromium: Debian's chromium and chromium-driver through apt-get, skipped when
-# /usr/bin/chromium is already there) and exports where to find it.
+# setup_extras: set-up that runs just before `go test`; empty for now. Browser
+# tests put their install here (Debian's chromium and chromium-driver through
+# apt-get, skipped when /usr/bin/chromium exists) and export where it is.
 setup_extras() {
 	:
 }
@@ -84,7 +90,7 @@ names_packages() {
 full_run=true
 (($# == 0)) || full_run=false
 
-command -v go >/dev/null || fail "go not found on PATH"
+command -v go >/dev/null || fail "go not found on PATH (nor in /usr/local/go/bin)"
 step "toolchain: $(go version)"
 
 step "go build ./..."

@@ -1,4 +1,4 @@
-package ingest
+package psychro
 
 import (
 	"fmt"
@@ -6,8 +6,6 @@ import (
 	"sort"
 	"strconv"
 	"strings"
-
-	"github.com/dewline/dewline/psychro"
 )
 
 // Kind is the physical quantity a value measures.
@@ -65,17 +63,17 @@ var unitTable = []struct {
 }{
 	{Unit{"°C", KindTemperature, 1, 0}, []string{"c", "°c", "degc", "deg c", "celsius", "degrees c", "℃"}},
 	{Unit{"°F", KindTemperature, 1 / 1.8, -32 / 1.8}, []string{"f", "°f", "degf", "deg f", "fahrenheit", "degrees f", "℉"}},
-	{Unit{"K", KindTemperature, 1, -psychro.ZeroCelsiusK}, []string{"k", "kelvin"}},
+	{Unit{"K", KindTemperature, 1, -ZeroCelsiusK}, []string{"k", "kelvin"}},
 
 	{Unit{"Pa", KindPressure, 1, 0}, []string{"pa"}},
 	{Unit{"hPa", KindPressure, 100, 0}, []string{"hpa", "mbar"}},
 	{Unit{"kPa", KindPressure, 1000, 0}, []string{"kpa"}},
 	{Unit{"bar", KindPressure, 1e5, 0}, []string{"bar"}},
-	{Unit{"psi", KindPressure, psychro.PaPerPsi, 0}, []string{"psi", "psia"}},
-	{Unit{"inHg", KindPressure, psychro.PaPerInHg, 0}, []string{"inhg", "in hg", "\"hg"}},
+	{Unit{"psi", KindPressure, PaPerPsi, 0}, []string{"psi", "psia"}},
+	{Unit{"inHg", KindPressure, PaPerInHg, 0}, []string{"inhg", "in hg", "\"hg"}},
 
 	{Unit{"m", KindLength, 1, 0}, []string{"m", "metre", "meter", "metres", "meters"}},
-	{Unit{"ft", KindLength, psychro.MetrePerFoot, 0}, []string{"ft", "feet", "foot", "'"}},
+	{Unit{"ft", KindLength, MetrePerFoot, 0}, []string{"ft", "feet", "foot", "'"}},
 
 	{Unit{"%", KindRH, 0.01, 0}, []string{"%", "%rh", "% rh", "pct", "percent"}},
 	{Unit{"fraction", KindRH, 1, 0}, []string{"fraction", "frac", "0-1"}},
@@ -83,31 +81,31 @@ var unitTable = []struct {
 	{Unit{"m³/s", KindFlow, 1, 0}, []string{"m3/s", "m³/s", "cms"}},
 	{Unit{"m³/h", KindFlow, 1.0 / 3600, 0}, []string{"m3/h", "m³/h", "m3/hr", "cmh"}},
 	{Unit{"L/s", KindFlow, 0.001, 0}, []string{"l/s", "lps"}},
-	{Unit{"CFM", KindFlow, psychro.M3sPerCFM, 0}, []string{"cfm", "ft3/min", "ft³/min"}},
+	{Unit{"CFM", KindFlow, M3sPerCFM, 0}, []string{"cfm", "ft3/min", "ft³/min"}},
 
 	{Unit{"kW", KindPower, 1, 0}, []string{"kw"}},
 	{Unit{"W", KindPower, 0.001, 0}, []string{"w"}},
 	{Unit{"MW", KindPower, 1000, 0}, []string{"mw"}},
-	{Unit{"Btu/h", KindPower, 1 / psychro.BtuPerHourPerKW, 0}, []string{"btu/h", "btuh", "btu/hr"}},
-	{Unit{"MBH", KindPower, 1000 / psychro.BtuPerHourPerKW, 0}, []string{"mbh", "kbtu/h", "kbtuh"}},
-	{Unit{"ton", KindPower, psychro.BtuPerHourPerTon / psychro.BtuPerHourPerKW, 0}, []string{"ton", "tons", "tr"}},
+	{Unit{"Btu/h", KindPower, 1 / BtuPerHourPerKW, 0}, []string{"btu/h", "btuh", "btu/hr"}},
+	{Unit{"MBH", KindPower, 1000 / BtuPerHourPerKW, 0}, []string{"mbh", "kbtu/h", "kbtuh"}},
+	{Unit{"ton", KindPower, BtuPerHourPerTon / BtuPerHourPerKW, 0}, []string{"ton", "tons", "tr"}},
 
 	{Unit{"kWh", KindEnergy, 1, 0}, []string{"kwh"}},
 	{Unit{"Wh", KindEnergy, 0.001, 0}, []string{"wh"}},
 	{Unit{"MWh", KindEnergy, 1000, 0}, []string{"mwh"}},
-	{Unit{"kJ", KindEnergy, 1 / psychro.KJPerKWh, 0}, []string{"kj"}},
-	{Unit{"MJ", KindEnergy, 1000 / psychro.KJPerKWh, 0}, []string{"mj"}},
-	{Unit{"Btu", KindEnergy, psychro.JoulePerBtu / 1000 / psychro.KJPerKWh, 0}, []string{"btu"}},
-	{Unit{"kBtu", KindEnergy, psychro.JoulePerBtu / psychro.KJPerKWh, 0}, []string{"kbtu"}},
-	{Unit{"therm", KindEnergy, 1e5 * psychro.JoulePerBtu / 1000 / psychro.KJPerKWh, 0}, []string{"therm", "therms", "thm"}},
+	{Unit{"kJ", KindEnergy, 1 / KJPerKWh, 0}, []string{"kj"}},
+	{Unit{"MJ", KindEnergy, 1000 / KJPerKWh, 0}, []string{"mj"}},
+	{Unit{"Btu", KindEnergy, JoulePerBtu / 1000 / KJPerKWh, 0}, []string{"btu"}},
+	{Unit{"kBtu", KindEnergy, JoulePerBtu / KJPerKWh, 0}, []string{"kbtu"}},
+	{Unit{"therm", KindEnergy, 1e5 * JoulePerBtu / 1000 / KJPerKWh, 0}, []string{"therm", "therms", "thm"}},
 
 	{Unit{"kg", KindMass, 1, 0}, []string{"kg"}},
 	{Unit{"g", KindMass, 0.001, 0}, []string{"g"}},
-	{Unit{"lb", KindMass, psychro.KgPerLb, 0}, []string{"lb", "lbs", "lbm"}},
+	{Unit{"lb", KindMass, KgPerLb, 0}, []string{"lb", "lbs", "lbm"}},
 
 	{Unit{"kg/kg", KindHumRatio, 1, 0}, []string{"kg/kg", "lb/lb"}},
 	{Unit{"g/kg", KindHumRatio, 0.001, 0}, []string{"g/kg"}},
-	{Unit{"gr/lb", KindHumRatio, 1 / psychro.GrainsPerLb, 0}, []string{"gr/lb", "grains/lb", "grains"}},
+	{Unit{"gr/lb", KindHumRatio, 1 / GrainsPerLb, 0}, []string{"gr/lb", "grains/lb", "grains"}},
 
 	{Unit{"%", KindFraction, 0.01, 0}, []string{"%", "pct", "percent"}},
 	{Unit{"fraction", KindFraction, 1, 0}, []string{"fraction", "frac", "0-1"}},
