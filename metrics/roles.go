@@ -1,0 +1,97 @@
+package metrics
+
+import (
+	"sort"
+	"time"
+
+	"github.com/dewline/dewline/psychro"
+)
+
+// Role is what a trend point measures on an air handler.
+type Role string
+
+// The roles dewline understands. Temperatures are °C, RH and positions
+// fractions 0..1, airflow m³/s, power kW once converted.
+const (
+	RoleEnteringTemp     Role = "entering_temp"     // air entering the cooling coil (mixed air)
+	RoleEnteringRH       Role = "entering_rh"       // RH of the entering air
+	RoleEnteringDewPoint Role = "entering_dewpoint" // dew point of the entering air
+	RoleLeavingTemp      Role = "leaving_temp"      // air leaving the cooling coil
+	RoleLeavingRH        Role = "leaving_rh"        // RH leaving the coil (optional; often saturates)
+	RoleLeavingDewPoint  Role = "leaving_dewpoint"  // dew point leaving the coil (optional)
+	RoleSupplyTemp       Role = "supply_temp"       // supply air, after reheat and fan
+	RoleSupplyFlow       Role = "supply_flow"       // supply airflow
+	RoleOutdoorTemp      Role = "outdoor_temp"      // outdoor air temperature
+	RoleOutdoorRH        Role = "outdoor_rh"        // outdoor air RH
+	RoleCoolingPower     Role = "cooling_kw"        // compressor or cooling electric power
+	RoleReheatPower      Role = "reheat_kw"         // electric reheat power
+	RoleFanPower         Role = "fan_kw"            // supply fan power
+	RoleSpaceTemp        Role = "space_temp"        // space (or return) temperature
+	RoleSpaceRH          Role = "space_rh"          // space (or return) RH
+	RoleCoolingValve     Role = "cooling_valve"     // cooling valve or capacity command, fraction open
+	RoleReheatValve      Role = "reheat_valve"      // reheat valve or stage command, fraction open
+)
+
+// RoleSpec describes a role: the kind of quantity, the physically plausible
+// SI range (values outside are flagged and excluded, never clipped), and how
+// long a logged value may hold before it is stale.
+type RoleSpec struct {
+	Role     Role
+	Kind     psychro.Kind
+	Min, Max float64       // plausible SI range, inclusive
+	Stale    time.Duration // default hold limit for change-of-value logs
+	Doc      string
+}
+
+// Plausible ranges are generous on purpose: they catch wrong units and dead
+// sensors (a °F value in a °C column, -273 °C, RH of 150 %), not unusual
+// weather. Common practice, no source.
+var roleSpecs = []RoleSpec{
+	{RoleEnteringTemp, psychro.KindTemperature, -40, 60, 15 * time.Minute, "air entering the cooling coil (mixed air)"},
+	{RoleEnteringRH, psychro.KindRH, 0, 1, 15 * time.Minute, "relative humidity of the entering air"},
+	{RoleEnteringDewPoint, psychro.KindTemperature, -60, 40, 15 * time.Minute, "dew point of the entering air"},
+	{RoleLeavingTemp, psychro.KindTemperature, -10, 50, 15 * time.Minute, "air leaving the cooling coil"},
+	{RoleLeavingRH, psychro.KindRH, 0, 1, 15 * time.Minute, "relative humidity leaving the cooling coil"},
+	{RoleLeavingDewPoint, psychro.KindTemperature, -60, 40, 15 * time.Minute, "dew point leaving the cooling coil"},
+	{RoleSupplyTemp, psychro.KindTemperature, -10, 70, 15 * time.Minute, "supply air after reheat and fan"},
+	{RoleSupplyFlow, psychro.KindFlow, 0, 200, 15 * time.Minute, "supply airflow"},
+	{RoleOutdoorTemp, psychro.KindTemperature, -60, 60, 60 * time.Minute, "outdoor air temperature"},
+	{RoleOutdoorRH, psychro.KindRH, 0, 1, 60 * time.Minute, "outdoor air relative humidity"},
+	{RoleCoolingPower, psychro.KindPower, 0, 20000, 15 * time.Minute, "compressor or cooling electric power"},
+	{RoleReheatPower, psychro.KindPower, 0, 20000, 15 * time.Minute, "electric reheat power"},
+	{RoleFanPower, psychro.KindPower, 0, 5000, 15 * time.Minute, "supply fan electric power"},
+	{RoleSpaceTemp, psychro.KindTemperature, -10, 50, 30 * time.Minute, "space or return air temperature"},
+	{RoleSpaceRH, psychro.KindRH, 0, 1, 30 * time.Minute, "space or return air relative humidity"},
+	{RoleCoolingValve, psychro.KindFraction, 0, 1, 15 * time.Minute, "cooling valve or capacity command"},
+	{RoleReheatValve, psychro.KindFraction, 0, 1, 15 * time.Minute, "reheat valve or stage command"},
+}
+
+var roleIndex = func() map[Role]RoleSpec {
+	m := make(map[Role]RoleSpec, len(roleSpecs))
+	for _, s := range roleSpecs {
+		m[s.Role] = s
+	}
+	return m
+}()
+
+// LookupRole returns the spec of a role by name.
+func LookupRole(name string) (RoleSpec, bool) {
+	s, ok := roleIndex[Role(name)]
+	return s, ok
+}
+
+// Roles returns every role spec, in a stable order.
+func Roles() []RoleSpec { return append([]RoleSpec(nil), roleSpecs...) }
+
+// RoleNames returns the role names, sorted.
+func RoleNames() []string {
+	out := make([]string, 0, len(roleSpecs))
+	for _, s := range roleSpecs {
+		out = append(out, string(s.Role))
+	}
+	sort.Strings(out)
+	return out
+}
+
+// Plausible reports whether v (SI) lies in the role's physical range.
+func (s RoleSpec) Plausible(v float64) bool { return v >= s.Min && v <= s.Max }
