@@ -1,0 +1,296 @@
+package agent
+
+import (
+	"bytes"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+	"time"
+
+	"go.yaml.in/yaml/v3"
+
+	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
+)
+
+// ConfigVersion is the configuration schema this binary reads.
+const ConfigVersion = 1
+
+// Config is a dewline configuration file.
+type Config struct {
+	Version     int          `yaml:"version"`
+	Site        Site         `yaml:"site"`
+	Store       Store        `yaml:"store"`
+	Grid        Grid         `yaml:"grid"`
+	Prices      Prices       `yaml:"prices"`
+	AirHandlers []AirHandler `yaml:"air_handlers"`
+
+	// Resolved by Parse from the fields above.
+	Location   *time.Location `yaml:"-"`
+	PressurePa float64        `yaml:"-"` // site barometric pressure
+	baseDir    string
+}
+
+// Site describes where the air handlers are.
+type Site struct {
+	Name     string `yaml:"name"`
+	TimeZone string `yaml:"timezone"` // IANA zone, e.g. America/New_York
+	Altitude string `yaml:"altitude"` // e.g. 15m or 50ft; sets the standard-atmosphere pressure
+	Pressure string `yaml:"pressure"` // e.g. 101.1kPa; instead of altitude
+	Units    string `yaml:"units"`    // display units: si or ip
+}
+
+// Store names where trend samples are read and results written.
+type Store struct {
+	Kind     string        `yaml:"kind"` // embedded or influxdb
+	Path     string        `yaml:"path"` // embedded: the SQLite file, relative to the config file
+	InfluxDB *InfluxConfig `yaml:"influxdb"`
+}
+
+// InfluxConfig locates an InfluxDB 2.x/Cloud bucket or a 1.8 database/retention policy.
+type InfluxConfig struct {
+	URL       string        `yaml:"url"`
+	Org       string        `yaml:"org"`        // 2.x; empty for 1.8
+	Bucket    string        `yaml:"bucket"`     // 2.x bucket, or "db/rp" for 1.8
+	TokenEnv  string        `yaml:"token_env"`  // environment variable holding the token ("user:pass" for 1.8)
+	TokenFile string        `yaml:"token_file"` // or a file holding it
+	Timeout   time.Duration `yaml:"timeout"`    // per request
+}
+
+// Grid sets the time grid trend points are aligned onto.
+type Grid struct {
+	Step  time.Duration            `yaml:"step"`  // default 1m
+	Stale map[string]time.Duration `yaml:"stale"` // per role: how long a logged value may hold
+}
+
+// Prices converts energy to money and CO2.
+type Prices struct {
+	Currency               string  `yaml:"currency"`
+	ElectricityPerKWh      float64 `yaml:"electricity_per_kwh"`
+	FuelPerKWh             float64 `yaml:"fuel_per_kwh"` // fuel energy (higher heating value)
+	ElectricityCO2KgPerKWh float64 `yaml:"electricity_co2_kg_per_kwh"`
+	FuelCO2KgPerKWh        float64 `yaml:"fuel_co2_kg_per_kwh"`
+}
+
+// AirHandler is one unit: its equipment facts, humidity target and point map.
+type AirHandler struct {
+	ID        string                      `yaml:"id"`
+	Name      string                      `yaml:"name"`
+	Cooling   Cooling                     `yaml:"cooling"`
+	Reheat    Reheat                      `yaml:"reheat"`
+	Airflow   Airflow                     `yaml:"airflow"`
+	Fan       Fan                         `yaml:"fan"`
+	LeavingRH string                      `yaml:"leaving_rh"` // assumed coil leaving RH when not measured, default 95%
+	Target    Target                      `yaml:"target"`
+	Points    map[string]metrics.PointRef `yaml:"points"`
+
+	// Resolved by Parse.
+	LeavingRHFrac float64 `yaml:"-"`
+}
+
+// Cooling describes the cooling source.
+type Cooling struct {
+	Kind          string  `yaml:"kind"`             // dx or chilled_water
+	RatedEER      float64 `yaml:"rated_eer"`        // dx without a metered cooling_kw point: Btu/Wh at rating conditions
+	RatedOutdoor  string  `yaml:"rated_outdoor"`    // outdoor temperature of the rating, default 95F
+	EERPerKelvin  float64 `yaml:"eer_per_kelvin"`   // change of EER per K of outdoor temperature above the rating (negative), default -0.1
+	PlantKWPerTon float64 `yaml:"plant_kw_per_ton"` // chilled water: plant kW per ton of coil load
+}
+
+// Reheat describes the reheat source.
+type Reheat struct {
+	Kind             string  `yaml:"kind"`              // electric, hot_water, recovered or none
+	BoilerEfficiency float64 `yaml:"boiler_efficiency"` // hot_water: fuel-to-heat efficiency, 0..1
+}
+
+// Airflow says how the supply airflow point is to be read.
+type Airflow struct {
+	Basis string `yaml:"basis"` // standard (standard air, 1.204 kg/m³) or actual (at the supply state)
+}
+
+// Fan says where the supply fan sits and how much heat it adds.
+type Fan struct {
+	Position string `yaml:"position"`  // draw_through (between coil and supply sensor), blow_through or none
+	HeatRise string `yaml:"heat_rise"` // temperature rise when no fan_kw point is trended, e.g. 0.6K or 1F
+}
+
+// Target is the humidity the air handler must hold; give exactly one form.
+type Target struct {
+	MaxSupplyDewPoint string `yaml:"max_supply_dewpoint"` // e.g. 52F
+	MaxSpaceDewPoint  string `yaml:"max_space_dewpoint"`  // e.g. 55F
+	MaxSpaceRH        string `yaml:"max_space_rh"`        // e.g. 55%, at the space temperature
+	SpaceTemp         string `yaml:"space_temp"`          // with max_space_rh when no space_temp point is trended
+}
+
+// Defaults applied before validation.
+const (
+	DefaultStep       = time.Minute
+	DefaultStorePath  = "dewline.db"
+	DefaultLeavingRH  = "95%"
+	DefaultInfluxWait = 30 * time.Second
+)
+
+// requiredRoles must be mapped for every air handler; entering humidity may
+// be RH or dew point.
+var requiredRoles = []metrics.Role{metrics.RoleEnteringTemp, metrics.RoleLeavingTemp, metrics.RoleSupplyTemp, metrics.RoleSupplyFlow}
+
+// LoadConfig reads and parses a configuration file. Relative paths in it
+// are resolved against the file's folder.
+func LoadConfig(path string) (*Config, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("read config: %w", err)
+	}
+	cfg, err := parse(bytes.NewReader(b), path)
+	if err != nil {
+		return nil, err
+	}
+	cfg.baseDir = filepath.Dir(path)
+	return cfg, nil
+}
+
+// ParseConfig decodes, fills defaults into and validates a configuration.
+// name is used in error messages only.
+func ParseConfig(r io.Reader, name string) (*Config, error) { return parse(r, name) }
+
+func parse(r io.Reader, name string) (*Config, error) {
+	data, err := io.ReadAll(r)
+	if err != nil {
+		return nil, fmt.Errorf("read config %s: %w", name, err)
+	}
+	ce := &ConfigError{File: name}
+	var root yaml.Node
+	if err := yaml.Unmarshal(data, &root); err != nil {
+		ce.add(yamlLine(err.Error()), "", strings.TrimPrefix(err.Error(), "yaml: "), "fix the YAML syntax (indentation uses spaces; quote values that contain ':' or '#')")
+		return nil, ce
+	}
+	if len(root.Content) == 0 {
+		ce.add(0, "", "the file is empty", "start from deploy/examples/dewline.yaml")
+		return nil, ce
+	}
+	cfg := &Config{}
+	dec := yaml.NewDecoder(bytes.NewReader(data))
+	dec.KnownFields(true)
+	if err := dec.Decode(cfg); err != nil {
+		ce.addDecodeErrors(err)
+	}
+	cfg.applyDefaults()
+	cfg.validate(ce, &root)
+	if len(ce.Problems) > 0 {
+		sort.SliceStable(ce.Problems, func(i, j int) bool { return ce.Problems[i].Line < ce.Problems[j].Line })
+		return nil, ce
+	}
+	return cfg, nil
+}
+
+func (c *Config) applyDefaults() {
+	if c.Store.Kind == "" {
+		c.Store.Kind = "embedded"
+	}
+	if c.Store.Kind == "embedded" && c.Store.Path == "" {
+		c.Store.Path = DefaultStorePath
+	}
+	if c.Store.InfluxDB != nil && c.Store.InfluxDB.Timeout == 0 {
+		c.Store.InfluxDB.Timeout = DefaultInfluxWait
+	}
+	if c.Grid.Step == 0 {
+		c.Grid.Step = DefaultStep
+	}
+	if c.Site.Units == "" {
+		c.Site.Units = "si"
+	}
+	if c.Prices.Currency == "" {
+		c.Prices.Currency = "USD"
+	}
+	for i := range c.AirHandlers {
+		a := &c.AirHandlers[i]
+		if a.LeavingRH == "" {
+			a.LeavingRH = DefaultLeavingRH
+		}
+		if a.Cooling.RatedOutdoor == "" {
+			a.Cooling.RatedOutdoor = "95F"
+		}
+		if a.Cooling.EERPerKelvin == 0 {
+			a.Cooling.EERPerKelvin = -0.1
+		}
+	}
+}
+
+// StorePath returns the embedded store's file, resolved against the
+// configuration file's folder.
+func (c *Config) StorePath() string {
+	if filepath.IsAbs(c.Store.Path) || c.baseDir == "" {
+		return c.Store.Path
+	}
+	return filepath.Join(c.baseDir, c.Store.Path)
+}
+
+// StaleLimit returns how long a value of role may hold on this site's grid.
+func (c *Config) StaleLimit(role metrics.Role) time.Duration {
+	if d, ok := c.Grid.Stale[string(role)]; ok {
+		return d
+	}
+	if s, ok := metrics.LookupRole(string(role)); ok {
+		return s.Stale
+	}
+	return 15 * time.Minute
+}
+
+// Token returns the InfluxDB token from the environment variable or file
+// the configuration names; empty when it names neither (InfluxDB 1.8 without
+// authentication). The token is a secret: never log it.
+func (ic *InfluxConfig) Token() (string, error) {
+	switch {
+	case ic.TokenEnv != "":
+		v, ok := os.LookupEnv(ic.TokenEnv)
+		if !ok {
+			return "", fmt.Errorf("store.influxdb.token_env: environment variable %s is not set; export it with the InfluxDB token", ic.TokenEnv)
+		}
+		return strings.TrimSpace(v), nil
+	case ic.TokenFile != "":
+		b, err := os.ReadFile(ic.TokenFile)
+		if err != nil {
+			return "", fmt.Errorf("store.influxdb.token_file: %w", err)
+		}
+		return strings.TrimSpace(string(b)), nil
+	}
+	return "", nil
+}
+
+// AirHandler returns the air handler with the given id.
+func (c *Config) AirHandler(id string) (*AirHandler, bool) {
+	for i := range c.AirHandlers {
+		if c.AirHandlers[i].ID == id {
+			return &c.AirHandlers[i], true
+		}
+	}
+	return nil, false
+}
+
+// Roles returns the air handler's mapped roles with their specs, in the
+// stable order of metrics.Roles.
+func (a *AirHandler) Roles() []metrics.RoleSpec {
+	var out []metrics.RoleSpec
+	for _, s := range metrics.Roles() {
+		if _, ok := a.Points[string(s.Role)]; ok {
+			out = append(out, s)
+		}
+	}
+	return out
+}
+
+// Point returns the point mapped to role.
+func (a *AirHandler) Point(role metrics.Role) (metrics.PointRef, bool) {
+	p, ok := a.Points[string(role)]
+	return p, ok
+}
+
+// Unit returns the psychro unit a point is logged in; Parse has checked it.
+func Unit(role metrics.Role, p metrics.PointRef) psychro.Unit {
+	spec, _ := metrics.LookupRole(string(role))
+	u, _ := psychro.LookupUnit(spec.Kind, p.Unit)
+	return u
+}

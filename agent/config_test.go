@@ -1,0 +1,115 @@
+package agent
+
+import (
+	"errors"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+)
+
+func TestLoadConfig_Good(t *testing.T) {
+	files, err := filepath.Glob("../testdata/config/*.good.yaml")
+	require.NoError(t, err)
+	files = append(files, "../deploy/examples/dewline.yaml") // the shipped example must stay valid
+	require.GreaterOrEqual(t, len(files), 3)
+	for _, f := range files {
+		t.Run(filepath.Base(f), func(t *testing.T) {
+			cfg, err := LoadConfig(f)
+			require.NoError(t, err)
+			require.NotNil(t, cfg.Location)
+			assert.Greater(t, cfg.PressurePa, 50000.0)
+			for _, a := range cfg.AirHandlers {
+				assert.InDelta(t, 0.95, a.LeavingRHFrac, 0.05)
+			}
+		})
+	}
+}
+
+// TestLoadConfig_Bad: every problem of a broken file is reported at once,
+// with its line and a fix.
+func TestLoadConfig_Bad(t *testing.T) {
+	tests := []struct {
+		file string
+		want []string // substrings, each expected somewhere in the error
+	}{
+		{"unknown-key.bad.yaml", []string{
+			`:2: unknown key "unitz"; did you mean "units"?`,
+			`:11: unknown key "colum"; did you mean "column"?`,
+		}},
+		{"many.bad.yaml", []string{
+			`:3: site.timezone: unknown time zone "Mars/Olympus"`,
+			`site: neither altitude nor pressure is given`,
+			`:8: unknown key "token"; secrets do not belong in the file`,
+			`store.influxdb.url: "ftp://example" is not an http(s) URL`,
+			`store.influxdb.bucket: missing bucket`,
+			`air_handlers[0].cooling.rated_eer: a DX unit needs a cooling_kw point or a rated EER`,
+			`air_handlers[0].reheat.boiler_efficiency: hot-water reheat needs the boiler efficiency`,
+			`air_handlers[0].airflow.basis: unknown basis "nominal"`,
+			`air_handlers[0].fan.heat_rise: a draw-through fan heats the air`,
+			`air_handlers[0].leaving_rh: 120% is outside 50-100 %`,
+			`air_handlers[0].target.max_space_dewpoint: "55" has no unit`,
+			`air_handlers[0].target: 2 humidity targets given`,
+			`air_handlers[0].target.space_temp: max_space_rh needs the space temperature`,
+			`air_handlers[0].points.entering_temp.unit: "degF2" is not a unit of temperature`,
+			`air_handlers[0].points.supply_flow.unit: "F" is not a unit of airflow`,
+			`the point "MAT" is also mapped to entering_temp`,
+			`unknown role "leaving_tmp"; did you mean "leaving_temp"?`,
+			`required role leaving_temp is not mapped`,
+			`entering humidity is not mapped`,
+			`air_handlers[1].id: id "A" is also used by air_handlers[0]`,
+			`air_handlers[1].cooling.kind: unknown cooling kind "steam"`,
+		}},
+	}
+	for _, tt := range tests {
+		t.Run(tt.file, func(t *testing.T) {
+			_, err := LoadConfig(filepath.Join("../testdata/config", tt.file))
+			require.Error(t, err)
+			var ce *ConfigError
+			require.True(t, errors.As(err, &ce))
+			for _, w := range tt.want {
+				assert.Contains(t, err.Error(), w)
+			}
+			for _, p := range ce.Problems {
+				assert.NotEmpty(t, p.Msg)
+			}
+			assert.NotContains(t, err.Error(), "hunter2", "a secret in the file is never echoed")
+		})
+	}
+}
+
+func TestParseConfig_Syntax(t *testing.T) {
+	_, err := ParseConfig(strings.NewReader("version: 1\nsite: [unclosed\n"), "broken.yaml")
+	require.Error(t, err)
+	assert.Contains(t, err.Error(), "broken.yaml:")
+	assert.Contains(t, err.Error(), "fix the YAML syntax")
+	_, err = ParseConfig(strings.NewReader(""), "empty.yaml")
+	assert.ErrorContains(t, err, "the file is empty")
+	_, err = ParseConfig(strings.NewReader("version: 1\ngrid: {step: soon}\n"), "d.yaml")
+	assert.ErrorContains(t, err, `"soon" is not a valid duration`)
+}
+
+func TestInfluxConfig_Token(t *testing.T) {
+	ic := &InfluxConfig{TokenEnv: "DEWLINE_TEST_TOKEN_XYZ"}
+	_, err := ic.Token()
+	assert.ErrorContains(t, err, "DEWLINE_TEST_TOKEN_XYZ is not set")
+	t.Setenv("DEWLINE_TEST_TOKEN_XYZ", " s3cret\n")
+	tok, err := ic.Token()
+	require.NoError(t, err)
+	assert.Equal(t, "s3cret", tok)
+	f := filepath.Join(t.TempDir(), "tok")
+	require.NoError(t, os.WriteFile(f, []byte("filetoken\n"), 0o600))
+	tok, err = (&InfluxConfig{TokenFile: f}).Token()
+	require.NoError(t, err)
+	assert.Equal(t, "filetoken", tok)
+}
+
+func TestAirHandler_FanHeatRiseK(t *testing.T) {
+	for in, want := range map[string]float64{"0.6K": 0.6, "0.6C": 0.6, "1F": 1 / 1.8, "": 0} {
+		a := AirHandler{Fan: Fan{HeatRise: in}}
+		assert.InDelta(t, want, a.FanHeatRiseK(), 1e-12, in)
+	}
+}

@@ -1,0 +1,226 @@
+package agent
+
+import (
+	"errors"
+	"fmt"
+	"reflect"
+	"regexp"
+	"sort"
+	"strconv"
+	"strings"
+
+	"go.yaml.in/yaml/v3"
+
+	"github.com/dewline/dewline/metrics"
+)
+
+// Problem is one mistake in a configuration file.
+type Problem struct {
+	Line int    // 1-based line in the file, 0 when unknown
+	Path string // key path, e.g. air_handlers[0].points.entering_temp.unit
+	Msg  string // what is wrong
+	Fix  string // what to do
+}
+
+// ConfigError lists every problem found in a configuration file.
+type ConfigError struct {
+	File     string
+	Problems []Problem
+}
+
+func (e *ConfigError) Error() string {
+	var b strings.Builder
+	fmt.Fprintf(&b, "%s: %d problem", e.File, len(e.Problems))
+	if len(e.Problems) != 1 {
+		b.WriteString("s")
+	}
+	for _, p := range e.Problems {
+		b.WriteString("\n  ")
+		b.WriteString(e.File)
+		if p.Line > 0 {
+			fmt.Fprintf(&b, ":%d", p.Line)
+		}
+		b.WriteString(": ")
+		if p.Path != "" {
+			b.WriteString(p.Path + ": ")
+		}
+		b.WriteString(p.Msg)
+		if p.Fix != "" {
+			b.WriteString("; " + p.Fix)
+		}
+	}
+	return b.String()
+}
+
+func (e *ConfigError) add(line int, path, msg, fix string) {
+	e.Problems = append(e.Problems, Problem{Line: line, Path: path, Msg: msg, Fix: fix})
+}
+
+var (
+	reLine      = regexp.MustCompile(`line (\d+)`)
+	reUnknown   = regexp.MustCompile(`^line (\d+): field (\S+) not found in type (\S+)$`)
+	reTypeError = regexp.MustCompile(`^line (\d+): cannot unmarshal !!(\w+) ` + "`" + `([^` + "`" + `]*)` + "`" + ` into (\S+)$`)
+)
+
+func yamlLine(msg string) int {
+	if m := reLine.FindStringSubmatch(msg); m != nil {
+		n, _ := strconv.Atoi(m[1])
+		return n
+	}
+	return 0
+}
+
+// addDecodeErrors turns the YAML decoder's errors into problems with fixes:
+// an unknown key lists the keys allowed there and the nearest one.
+func (e *ConfigError) addDecodeErrors(err error) {
+	var te *yaml.TypeError
+	if !errors.As(err, &te) {
+		e.add(yamlLine(err.Error()), "", strings.TrimPrefix(err.Error(), "yaml: "), "fix the YAML")
+		return
+	}
+	for _, msg := range te.Errors {
+		line := yamlLine(msg)
+		if m := reUnknown.FindStringSubmatch(msg); m != nil {
+			key, typ := m[2], m[3]
+			allowed := keysOf(typ)
+			fix := "remove it"
+			if len(allowed) > 0 {
+				fix = "allowed keys here: " + strings.Join(allowed, ", ")
+				if near := nearest(key, allowed); near != "" {
+					fix = fmt.Sprintf("did you mean %q? %s", near, fix)
+				}
+			}
+			if key == "token" || key == "password" {
+				fix = "secrets do not belong in the file: name an environment variable with token_env or a file with token_file"
+			}
+			e.add(line, "", fmt.Sprintf("unknown key %q", key), fix)
+			continue
+		}
+		if m := reTypeError.FindStringSubmatch(msg); m != nil {
+			want := m[4]
+			fix := "give a " + friendlyType(want)
+			if want == "time.Duration" {
+				fix = "give a duration such as 90s, 15m or 1h"
+			}
+			e.add(line, "", fmt.Sprintf("%q is not a valid %s", m[3], friendlyType(want)), fix)
+			continue
+		}
+		e.add(line, "", strings.TrimPrefix(msg, fmt.Sprintf("line %d: ", line)), "")
+	}
+}
+
+func friendlyType(t string) string {
+	switch t {
+	case "float64":
+		return "number"
+	case "int":
+		return "whole number"
+	case "string":
+		return "text value"
+	case "time.Duration":
+		return "duration"
+	}
+	if strings.HasPrefix(t, "map[") || strings.HasPrefix(t, "agent.") || strings.HasPrefix(t, "metrics.") {
+		return "mapping (key: value lines)"
+	}
+	if strings.HasPrefix(t, "[]") {
+		return "list"
+	}
+	return t
+}
+
+// configTypes maps the type names the YAML decoder reports to their Go types.
+var configTypes = map[string]reflect.Type{
+	"agent.Config": reflect.TypeOf(Config{}), "agent.Site": reflect.TypeOf(Site{}),
+	"agent.Store": reflect.TypeOf(Store{}), "agent.InfluxConfig": reflect.TypeOf(InfluxConfig{}),
+	"agent.Grid": reflect.TypeOf(Grid{}), "agent.Prices": reflect.TypeOf(Prices{}),
+	"agent.AirHandler": reflect.TypeOf(AirHandler{}), "agent.Cooling": reflect.TypeOf(Cooling{}),
+	"agent.Reheat": reflect.TypeOf(Reheat{}), "agent.Airflow": reflect.TypeOf(Airflow{}),
+	"agent.Fan": reflect.TypeOf(Fan{}), "agent.Target": reflect.TypeOf(Target{}),
+	"metrics.PointRef": reflect.TypeOf(metrics.PointRef{}),
+}
+
+func keysOf(typ string) []string {
+	t, ok := configTypes[typ]
+	if !ok {
+		return nil
+	}
+	var keys []string
+	for i := 0; i < t.NumField(); i++ {
+		tag := strings.Split(t.Field(i).Tag.Get("yaml"), ",")[0]
+		if tag != "" && tag != "-" {
+			keys = append(keys, tag)
+		}
+	}
+	sort.Strings(keys)
+	return keys
+}
+
+// nearest returns the candidate within edit distance 2 of s, if any.
+func nearest(s string, candidates []string) string {
+	best, bestD := "", 3
+	for _, c := range candidates {
+		if d := editDistance(s, c); d < bestD {
+			best, bestD = c, d
+		}
+	}
+	return best
+}
+
+func editDistance(a, b string) int {
+	prev := make([]int, len(b)+1)
+	cur := make([]int, len(b)+1)
+	for j := range prev {
+		prev[j] = j
+	}
+	for i := 1; i <= len(a); i++ {
+		cur[0] = i
+		for j := 1; j <= len(b); j++ {
+			cost := 1
+			if a[i-1] == b[j-1] {
+				cost = 0
+			}
+			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
+		}
+		prev, cur = cur, prev
+	}
+	return prev[len(b)]
+}
+
+// lineOf finds the line of the value at a key path in the YAML tree:
+// strings step into mappings, ints into sequences. It returns the deepest
+// line found, so a missing key reports its parent's line.
+func lineOf(root *yaml.Node, path ...any) int {
+	n := root
+	if n.Kind == yaml.DocumentNode && len(n.Content) > 0 {
+		n = n.Content[0]
+	}
+	line := n.Line
+	for _, p := range path {
+		switch k := p.(type) {
+		case string:
+			if n.Kind != yaml.MappingNode {
+				return line
+			}
+			found := false
+			for i := 0; i+1 < len(n.Content); i += 2 {
+				if n.Content[i].Value == k {
+					line = n.Content[i].Line
+					n = n.Content[i+1]
+					found = true
+					break
+				}
+			}
+			if !found {
+				return line
+			}
+		case int:
+			if n.Kind != yaml.SequenceNode || k >= len(n.Content) {
+				return line
+			}
+			n = n.Content[k]
+			line = n.Line
+		}
+	}
+	return line
+}

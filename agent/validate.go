@@ -1,0 +1,388 @@
+package agent
+
+import (
+	"fmt"
+	"net/url"
+	"sort"
+	"strings"
+	"time"
+
+	"go.yaml.in/yaml/v3"
+
+	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
+)
+
+// validator collects problems with their lines.
+type validator struct {
+	ce   *ConfigError
+	root *yaml.Node
+}
+
+func (v *validator) bad(path []any, msg, fix string) {
+	v.ce.add(lineOf(v.root, path...), pathString(path), msg, fix)
+}
+
+func pathString(path []any) string {
+	var b strings.Builder
+	for _, p := range path {
+		switch k := p.(type) {
+		case string:
+			if b.Len() > 0 {
+				b.WriteByte('.')
+			}
+			b.WriteString(k)
+		case int:
+			fmt.Fprintf(&b, "[%d]", k)
+		}
+	}
+	return b.String()
+}
+
+func at(path []any, more ...any) []any {
+	return append(append([]any(nil), path...), more...)
+}
+
+// quantity parses a configured value with its unit; bare numbers are
+// refused so that 55 is never read in the wrong scale.
+func (v *validator) quantity(path []any, s string, kind psychro.Kind) (float64, bool) {
+	x, _, err := psychro.ParseQuantity(s, kind, "")
+	if err != nil {
+		v.bad(path, err.Error(), "")
+		return 0, false
+	}
+	return x, true
+}
+
+func (c *Config) validate(ce *ConfigError, root *yaml.Node) {
+	v := &validator{ce: ce, root: root}
+	if c.Version != ConfigVersion {
+		v.bad([]any{"version"}, fmt.Sprintf("version %d is not supported", c.Version), fmt.Sprintf("set version: %d", ConfigVersion))
+	}
+	c.validateSite(v)
+	c.validateStore(v)
+	c.validateGrid(v)
+	c.validatePrices(v)
+	if len(c.AirHandlers) == 0 {
+		v.bad([]any{"air_handlers"}, "no air handlers are configured", "add at least one under air_handlers")
+	}
+	ids := map[string]int{}
+	units := map[string]string{} // point name -> unit, across air handlers
+	for i := range c.AirHandlers {
+		a := &c.AirHandlers[i]
+		p := []any{"air_handlers", i}
+		if strings.TrimSpace(a.ID) == "" {
+			v.bad(at(p, "id"), "missing id", "give each air handler a short unique id such as AHU-1")
+		} else if j, dup := ids[a.ID]; dup {
+			v.bad(at(p, "id"), fmt.Sprintf("id %q is also used by air_handlers[%d]", a.ID, j), "ids must be unique")
+		} else {
+			ids[a.ID] = i
+		}
+		a.validate(v, p, c, units)
+	}
+}
+
+func (c *Config) validateSite(v *validator) {
+	p := []any{"site"}
+	if c.Site.TimeZone == "" {
+		v.bad(at(p, "timezone"), "missing time zone", "set site.timezone to an IANA zone such as America/New_York; local times in exports are read in it")
+	} else if loc, err := time.LoadLocation(c.Site.TimeZone); err != nil {
+		v.bad(at(p, "timezone"), fmt.Sprintf("unknown time zone %q", c.Site.TimeZone), "use an IANA zone name such as America/Chicago or Europe/Berlin")
+	} else {
+		c.Location = loc
+	}
+	switch {
+	case c.Site.Altitude != "" && c.Site.Pressure != "":
+		v.bad(at(p, "pressure"), "both altitude and pressure are given", "keep one: altitude sets the standard-atmosphere pressure")
+	case c.Site.Pressure != "":
+		if x, ok := v.quantity(at(p, "pressure"), c.Site.Pressure, psychro.KindPressure); ok {
+			if x < 50000 || x > 110000 {
+				v.bad(at(p, "pressure"), fmt.Sprintf("%s is not a barometric pressure at a building site", c.Site.Pressure), "give the site's mean barometric pressure, e.g. 101.1kPa or 29.85inHg")
+			} else {
+				c.PressurePa = x
+			}
+		}
+	case c.Site.Altitude != "":
+		if z, ok := v.quantity(at(p, "altitude"), c.Site.Altitude, psychro.KindLength); ok {
+			if pa, err := psychro.PressureFromAltitude(z); err != nil || z > 5500 {
+				v.bad(at(p, "altitude"), fmt.Sprintf("%s is outside -500..5500 m", c.Site.Altitude), "give the site's elevation, e.g. 15m or 850ft")
+			} else {
+				c.PressurePa = pa
+			}
+		}
+	default:
+		v.bad(p, "neither altitude nor pressure is given", "set site.altitude (e.g. 15m) or site.pressure (e.g. 101.1kPa); at altitude air is thinner and every mass flow depends on it")
+	}
+	if c.Site.Units != "si" && c.Site.Units != "ip" {
+		v.bad(at(p, "units"), fmt.Sprintf("unknown display units %q", c.Site.Units), "use si or ip")
+	}
+}
+
+func (c *Config) validateStore(v *validator) {
+	p := []any{"store"}
+	switch c.Store.Kind {
+	case "embedded":
+		if c.Store.InfluxDB != nil {
+			v.bad(at(p, "influxdb"), "influxdb settings given for the embedded store", "set store.kind: influxdb, or remove store.influxdb")
+		}
+	case "influxdb":
+		ic := c.Store.InfluxDB
+		if ic == nil {
+			v.bad(p, "store.kind is influxdb but store.influxdb is missing", "add store.influxdb with url and bucket")
+			return
+		}
+		ip := at(p, "influxdb")
+		if ic.URL == "" {
+			v.bad(at(ip, "url"), "missing url", "e.g. http://127.0.0.1:8086")
+		} else if u, err := url.Parse(ic.URL); err != nil || (u.Scheme != "http" && u.Scheme != "https") || u.Host == "" {
+			v.bad(at(ip, "url"), fmt.Sprintf("%q is not an http(s) URL", ic.URL), "e.g. http://127.0.0.1:8086")
+		} else if u.User != nil {
+			v.bad(at(ip, "url"), "the URL carries credentials", "remove them; use token_env or token_file")
+		}
+		if ic.Bucket == "" {
+			v.bad(at(ip, "bucket"), "missing bucket", "give the 2.x bucket, or database/retention_policy for 1.8 (e.g. bms/autogen)")
+		}
+		if ic.TokenEnv != "" && ic.TokenFile != "" {
+			v.bad(at(ip, "token_file"), "both token_env and token_file are given", "keep one")
+		}
+		if c.Store.Path != "" {
+			v.bad(at(p, "path"), "path is for the embedded store", "remove store.path or set store.kind: embedded")
+		}
+	default:
+		v.bad(at(p, "kind"), fmt.Sprintf("unknown store kind %q", c.Store.Kind), "use embedded (one local file, the default) or influxdb")
+	}
+}
+
+func (c *Config) validateGrid(v *validator) {
+	p := []any{"grid"}
+	if c.Grid.Step < time.Second || c.Grid.Step > 15*time.Minute || time.Hour%c.Grid.Step != 0 {
+		v.bad(at(p, "step"), fmt.Sprintf("step %v must divide an hour and lie between 1s and 15m", c.Grid.Step), "use 1m (the default), 5m or 15m")
+	}
+	roles := make([]string, 0, len(c.Grid.Stale))
+	for r := range c.Grid.Stale {
+		roles = append(roles, r)
+	}
+	sort.Strings(roles)
+	for _, r := range roles {
+		if _, ok := metrics.LookupRole(r); !ok {
+			v.bad(at(p, "stale", r), fmt.Sprintf("unknown role %q", r), roleFix(r))
+		} else if d := c.Grid.Stale[r]; d < c.Grid.Step || d > 24*time.Hour {
+			v.bad(at(p, "stale", r), fmt.Sprintf("stale limit %v must lie between the grid step and 24h", d), "a change-of-value point typically holds 15m to 1h")
+		}
+	}
+}
+
+func (c *Config) validatePrices(v *validator) {
+	p := []any{"prices"}
+	for _, f := range []struct {
+		key string
+		val float64
+	}{
+		{"electricity_per_kwh", c.Prices.ElectricityPerKWh}, {"fuel_per_kwh", c.Prices.FuelPerKWh},
+		{"electricity_co2_kg_per_kwh", c.Prices.ElectricityCO2KgPerKWh}, {"fuel_co2_kg_per_kwh", c.Prices.FuelCO2KgPerKWh},
+	} {
+		if f.val < 0 {
+			v.bad(at(p, f.key), "must not be negative", "")
+		}
+	}
+	if len(c.Prices.Currency) != 3 {
+		v.bad(at(p, "currency"), fmt.Sprintf("%q is not a currency code", c.Prices.Currency), "use an ISO 4217 code such as USD or EUR")
+	}
+}
+
+func roleFix(name string) string {
+	fix := "roles: " + strings.Join(metrics.RoleNames(), ", ")
+	if near := nearest(name, metrics.RoleNames()); near != "" {
+		fix = fmt.Sprintf("did you mean %q? %s", near, fix)
+	}
+	return fix
+}
+
+func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string]string) {
+	// Point map: known roles, a location, a unit of the right kind, no duplicates.
+	pp := at(p, "points")
+	roles := make([]string, 0, len(a.Points))
+	for r := range a.Points {
+		roles = append(roles, r)
+	}
+	sort.Strings(roles)
+	seen := map[string]string{}
+	for _, r := range roles {
+		ref := a.Points[r]
+		rp := at(pp, r)
+		spec, ok := metrics.LookupRole(r)
+		if !ok {
+			v.bad(rp, fmt.Sprintf("unknown role %q", r), roleFix(r))
+			continue
+		}
+		hasCSV := ref.Column != "" || ref.Point != ""
+		hasInflux := ref.Measurement != "" || ref.Field != ""
+		switch {
+		case ref.Column != "" && ref.Point != "":
+			v.bad(rp, "both column and point are given", "column is for wide exports, point for long exports and the embedded store; keep one")
+		case !hasCSV && !hasInflux:
+			v.bad(rp, "no location", "give column (wide CSV), point (long CSV / embedded store) or measurement and field (InfluxDB)")
+		case hasInflux && (ref.Measurement == "" || ref.Field == ""):
+			v.bad(rp, "measurement and field go together", "give both")
+		case c.Store.Kind == "influxdb" && !hasInflux && !hasCSV:
+			v.bad(rp, "no InfluxDB location", "give measurement and field")
+		}
+		if ref.Unit == "" {
+			v.bad(at(rp, "unit"), "missing unit", fmt.Sprintf("give the unit the point is logged in: %s", strings.Join(psychro.UnitNames(spec.Kind), ", ")))
+		} else if _, err := psychro.LookupUnit(spec.Kind, ref.Unit); err != nil {
+			v.bad(at(rp, "unit"), fmt.Sprintf("%q is not a unit of %s", ref.Unit, spec.Kind), "use one of "+strings.Join(psychro.UnitNames(spec.Kind), ", "))
+		}
+		key := ref.Name()
+		if other, dup := seen[key]; dup {
+			v.bad(rp, fmt.Sprintf("the point %q is also mapped to %s", key, other), "each role needs its own point; remove one mapping")
+		} else {
+			seen[key] = r
+		}
+		if u, ok := units[key]; ok && validUnit(spec.Kind, u) && validUnit(spec.Kind, ref.Unit) && !sameUnit(spec.Kind, u, ref.Unit) {
+			v.bad(at(rp, "unit"), fmt.Sprintf("the point %q is declared in %s elsewhere and %s here", key, u, ref.Unit), "a shared point has one unit; correct one of them")
+		} else if ref.Unit != "" {
+			units[key] = ref.Unit
+		}
+	}
+	for _, r := range requiredRoles {
+		if _, ok := a.Points[string(r)]; !ok {
+			v.bad(pp, fmt.Sprintf("required role %s is not mapped", r), "map it to the trend point that measures it")
+		}
+	}
+	_, rh := a.Points[string(metrics.RoleEnteringRH)]
+	_, dp := a.Points[string(metrics.RoleEnteringDewPoint)]
+	if !rh && !dp {
+		v.bad(pp, "entering humidity is not mapped", "map entering_rh or entering_dewpoint (a return or mixed-air RH sensor)")
+	}
+
+	// Cooling source.
+	cp := at(p, "cooling")
+	_, metered := a.Points[string(metrics.RoleCoolingPower)]
+	switch a.Cooling.Kind {
+	case "dx":
+		if !metered && a.Cooling.RatedEER <= 0 {
+			v.bad(at(cp, "rated_eer"), "a DX unit needs a cooling_kw point or a rated EER", "map cooling_kw, or set rated_eer (Btu/Wh) from the nameplate")
+		}
+		if a.Cooling.RatedEER < 0 || a.Cooling.RatedEER > 40 {
+			v.bad(at(cp, "rated_eer"), fmt.Sprintf("EER %g is not plausible", a.Cooling.RatedEER), "give the rated EER in Btu/Wh, typically 8-16")
+		}
+		v.quantity(at(cp, "rated_outdoor"), a.Cooling.RatedOutdoor, psychro.KindTemperature)
+	case "chilled_water":
+		if !metered && (a.Cooling.PlantKWPerTon <= 0 || a.Cooling.PlantKWPerTon > 3) {
+			v.bad(at(cp, "plant_kw_per_ton"), "chilled water needs the plant's kW per ton (0 < x <= 3)", "set plant_kw_per_ton, typically 0.6-1.2")
+		}
+	case "":
+		v.bad(at(cp, "kind"), "missing cooling kind", "use dx or chilled_water")
+	default:
+		v.bad(at(cp, "kind"), fmt.Sprintf("unknown cooling kind %q", a.Cooling.Kind), "use dx or chilled_water")
+	}
+
+	// Reheat source.
+	hp := at(p, "reheat")
+	switch a.Reheat.Kind {
+	case "electric", "recovered", "none":
+		if a.Reheat.BoilerEfficiency != 0 {
+			v.bad(at(hp, "boiler_efficiency"), "boiler efficiency is for hot_water reheat", "remove it or set kind: hot_water")
+		}
+	case "hot_water":
+		if e := a.Reheat.BoilerEfficiency; e <= 0 || e > 1 {
+			v.bad(at(hp, "boiler_efficiency"), "hot-water reheat needs the boiler efficiency (0 < x <= 1)", "set boiler_efficiency, e.g. 0.82; the fuel is priced with prices.fuel_per_kwh")
+		}
+	case "":
+		v.bad(at(hp, "kind"), "missing reheat kind", "use electric, hot_water, recovered or none")
+	default:
+		v.bad(at(hp, "kind"), fmt.Sprintf("unknown reheat kind %q", a.Reheat.Kind), "use electric, hot_water, recovered or none")
+	}
+
+	// Airflow basis: made explicit because the two differ by 10-20 % at altitude.
+	switch a.Airflow.Basis {
+	case "standard", "actual":
+	case "":
+		v.bad(at(p, "airflow", "basis"), "missing airflow basis", "say whether the airflow station reports standard air (standard) or volume at the supply state (actual)")
+	default:
+		v.bad(at(p, "airflow", "basis"), fmt.Sprintf("unknown basis %q", a.Airflow.Basis), "use standard or actual")
+	}
+
+	// Supply fan heat.
+	fp := at(p, "fan")
+	_, fanKW := a.Points[string(metrics.RoleFanPower)]
+	switch a.Fan.Position {
+	case "draw_through":
+		if !fanKW && a.Fan.HeatRise == "" {
+			v.bad(at(fp, "heat_rise"), "a draw-through fan heats the air between coil and supply sensor", "map fan_kw, or set heat_rise (typically 0.3-0.8K)")
+		}
+	case "blow_through", "none":
+	case "":
+		v.bad(at(fp, "position"), "missing fan position", "use draw_through (fan between coil and supply sensor), blow_through or none")
+	default:
+		v.bad(at(fp, "position"), fmt.Sprintf("unknown fan position %q", a.Fan.Position), "use draw_through, blow_through or none")
+	}
+	if a.Fan.HeatRise != "" {
+		if u, ok := temperatureDelta(a.Fan.HeatRise); !ok || u < 0 || u > 5 {
+			v.bad(at(fp, "heat_rise"), fmt.Sprintf("%q is not a temperature rise of 0-5 K", a.Fan.HeatRise), "write it as 0.6K or 1F")
+		}
+	}
+
+	// Assumed leaving RH.
+	if x, ok := v.quantity(at(p, "leaving_rh"), a.LeavingRH, psychro.KindRH); ok {
+		if x < 0.5 || x > 1 {
+			v.bad(at(p, "leaving_rh"), fmt.Sprintf("%s is outside 50-100 %%", a.LeavingRH), "air leaving a wet coil is typically 90-95 %")
+		} else {
+			a.LeavingRHFrac = x
+		}
+	}
+
+	// Humidity target: exactly one form.
+	tp := at(p, "target")
+	forms := 0
+	if a.Target.MaxSupplyDewPoint != "" {
+		forms++
+		v.quantity(at(tp, "max_supply_dewpoint"), a.Target.MaxSupplyDewPoint, psychro.KindTemperature)
+	}
+	if a.Target.MaxSpaceDewPoint != "" {
+		forms++
+		v.quantity(at(tp, "max_space_dewpoint"), a.Target.MaxSpaceDewPoint, psychro.KindTemperature)
+	}
+	if a.Target.MaxSpaceRH != "" {
+		forms++
+		v.quantity(at(tp, "max_space_rh"), a.Target.MaxSpaceRH, psychro.KindRH)
+		_, spaceT := a.Points[string(metrics.RoleSpaceTemp)]
+		if !spaceT && a.Target.SpaceTemp == "" {
+			v.bad(at(tp, "space_temp"), "max_space_rh needs the space temperature", "map space_temp or set target.space_temp (e.g. 74F)")
+		}
+	}
+	if a.Target.SpaceTemp != "" {
+		v.quantity(at(tp, "space_temp"), a.Target.SpaceTemp, psychro.KindTemperature)
+	}
+	if forms != 1 {
+		v.bad(tp, fmt.Sprintf("%d humidity targets given", forms), "give exactly one of max_supply_dewpoint, max_space_dewpoint or max_space_rh")
+	}
+}
+
+// temperatureDelta parses a temperature difference such as 0.6K, 0.6C or
+// 1F into kelvin: the offset of the scale does not apply to a difference.
+func temperatureDelta(s string) (float64, bool) {
+	x, u, err := psychro.ParseQuantity(s, psychro.KindTemperature, "")
+	if err != nil {
+		return 0, false
+	}
+	return u.DeltaToSI(u.FromSI(x)), true
+}
+
+// FanHeatRiseK returns the configured supply-fan temperature rise in kelvin
+// (0 when none is configured).
+func (a *AirHandler) FanHeatRiseK() float64 {
+	d, _ := temperatureDelta(a.Fan.HeatRise)
+	return d
+}
+
+func validUnit(kind psychro.Kind, name string) bool {
+	_, err := psychro.LookupUnit(kind, name)
+	return err == nil
+}
+
+func sameUnit(kind psychro.Kind, a, b string) bool {
+	ua, e1 := psychro.LookupUnit(kind, a)
+	ub, e2 := psychro.LookupUnit(kind, b)
+	return e1 == nil && e2 == nil && ua.Name == ub.Name
+}
