@@ -1,0 +1,137 @@
+package ingest
+
+import (
+	"math"
+	"testing"
+	"time"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/metrics"
+)
+
+var t0 = time.Date(2026, 7, 14, 12, 0, 0, 0, time.UTC)
+
+func at(d string) time.Time {
+	x, err := time.ParseDuration(d)
+	if err != nil {
+		panic(err)
+	}
+	return t0.Add(x)
+}
+
+func alignHours(t *testing.T, hours int, series ...Series) []*metrics.Hour {
+	t.Helper()
+	var out []*metrics.Hour
+	require.NoError(t, Align("AHU-T", t0, hours, time.Minute, series, func(h *metrics.Hour) error {
+		out = append(out, h)
+		return nil
+	}))
+	require.Len(t, out, hours)
+	return out
+}
+
+// steps returns the indexes of non-NaN values.
+func present(vals []float64) (n int, first, last int) {
+	first, last = -1, -1
+	for i, v := range vals {
+		if !math.IsNaN(v) {
+			if first < 0 {
+				first = i
+			}
+			last = i
+			n++
+		}
+	}
+	return
+}
+
+// The expectations below are worked out by hand from the rule: a step's
+// value is the last good sample at or before the step's midpoint
+// (hh:mm:30), if it is no older than the stale limit.
+func TestAlign_Interval(t *testing.T) {
+	var s []Sample
+	for i := 0; i < 60; i++ {
+		s = append(s, Sample{t0.Add(time.Duration(i) * time.Minute), 20 + float64(i)/10})
+	}
+	h := alignHours(t, 1, Series{Role: metrics.RoleSupplyTemp, Samples: s})[0]
+	v := h.Values[metrics.RoleSupplyTemp]
+	assert.Equal(t, 1.0, h.Quality[metrics.RoleSupplyTemp].Coverage)
+	assert.Equal(t, 60, h.Quality[metrics.RoleSupplyTemp].Samples)
+	assert.InDelta(t, 20.0, v[0], 1e-12)
+	assert.InDelta(t, 25.9, v[59], 1e-12)
+}
+
+func TestAlign_ChangeOfValueAndStale(t *testing.T) {
+	s := []Sample{{at("10s"), 20}, {at("20m"), 22}}
+	h := alignHours(t, 1, Series{Role: metrics.RoleSupplyTemp, Stale: 15 * time.Minute, Samples: s})[0]
+	v := h.Values[metrics.RoleSupplyTemp]
+	// 20 holds for midpoints 12:00:30 .. 12:14:30 (15 steps, 12:15:30 is
+	// more than 15 min after 12:00:10); 22 for 12:20:30 .. 12:34:30 (15
+	// steps), after which it too is older than the stale limit.
+	n, first, _ := present(v[:20])
+	assert.Equal(t, 15, n)
+	assert.Equal(t, 0, first)
+	assert.True(t, math.IsNaN(v[15]))
+	assert.Equal(t, 22.0, v[20])
+	n, _, last := present(v[20:])
+	assert.Equal(t, 15, n)
+	assert.Equal(t, 14, last)
+	assert.InDelta(t, 30.0/60, h.Quality[metrics.RoleSupplyTemp].Coverage, 1e-12)
+}
+
+func TestAlign_OutOfRangeEndsHold(t *testing.T) {
+	s := []Sample{{at("0s"), 0.5}, {at("30m"), 1.5}, {at("45m"), 0.6}}
+	h := alignHours(t, 1, Series{Role: metrics.RoleEnteringRH, Stale: time.Hour, Samples: s})[0]
+	v := h.Values[metrics.RoleEnteringRH]
+	q := h.Quality[metrics.RoleEnteringRH]
+	assert.Equal(t, 0.5, v[29])
+	assert.True(t, math.IsNaN(v[30]), "RH 150 %% is excluded and the 0.5 no longer holds")
+	assert.True(t, math.IsNaN(v[44]))
+	assert.Equal(t, 0.6, v[45])
+	assert.Equal(t, 1, q.OutOfRange)
+	assert.Equal(t, 3, q.Samples)
+	assert.InDelta(t, 45.0/60, q.Coverage, 1e-12)
+}
+
+func TestAlign_LeadInAndGapAcrossHours(t *testing.T) {
+	s := []Sample{
+		{at("-5m"), 10},  // logged before the first hour: holds to 12:10
+		{at("90m"), 11},  // 13:30, after a gap
+		{at("100m"), math.NaN()},
+	}
+	hs := alignHours(t, 2, Series{Role: metrics.RoleLeavingTemp, Stale: 15 * time.Minute, Samples: s})
+	n, first, last := present(hs[0].Values[metrics.RoleLeavingTemp])
+	assert.Equal(t, 10, n) // midpoints 12:00:30 .. 12:09:30
+	assert.Equal(t, 0, first)
+	assert.Equal(t, 9, last)
+	assert.Equal(t, 0, hs[0].Quality[metrics.RoleLeavingTemp].Samples)
+	n, first, last = present(hs[1].Values[metrics.RoleLeavingTemp])
+	assert.Equal(t, 10, n) // 13:30:30 .. 13:39:30; the NaN at 13:40 ends it
+	assert.Equal(t, 30, first)
+	assert.Equal(t, 39, last)
+	assert.Equal(t, 1, hs[1].Quality[metrics.RoleLeavingTemp].NotFinite)
+	assert.Equal(t, 2, hs[1].Quality[metrics.RoleLeavingTemp].Samples)
+}
+
+func TestAlign_UnsortedAndMultipleRoles(t *testing.T) {
+	flow := []Sample{{at("30m"), 5}, {at("0s"), 4}} // out of order
+	temp := []Sample{{at("59m59s"), 13}}            // last sample after the last midpoint
+	h := alignHours(t, 1,
+		Series{Role: metrics.RoleSupplyFlow, Stale: time.Hour, Samples: flow},
+		Series{Role: metrics.RoleLeavingTemp, Samples: temp})[0]
+	assert.Equal(t, 4.0, h.Values[metrics.RoleSupplyFlow][0])
+	assert.Equal(t, 5.0, h.Values[metrics.RoleSupplyFlow][30])
+	assert.Equal(t, 1.0, h.Coverage(metrics.RoleSupplyFlow))
+	assert.Equal(t, 0.0, h.Coverage(metrics.RoleLeavingTemp))
+	assert.Equal(t, 1, h.Quality[metrics.RoleLeavingTemp].Samples, "counted in the hour it was logged")
+	assert.False(t, h.Has(metrics.RoleReheatPower))
+}
+
+func TestAlign_Errors(t *testing.T) {
+	err := Align("A", t0, 1, 7*time.Minute, nil, func(*metrics.Hour) error { return nil })
+	assert.ErrorContains(t, err, "does not divide an hour")
+	err = Align("A", t0, 1, time.Minute, []Series{{Role: "humidity"}}, func(*metrics.Hour) error { return nil })
+	assert.ErrorContains(t, err, `unknown role "humidity"`)
+}
