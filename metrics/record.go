@@ -1,0 +1,169 @@
+package metrics
+
+import (
+	"math"
+	"time"
+)
+
+// RecordSchema is the version of the hourly record's field set. It changes
+// when a field is renamed or its meaning changes; adding a field does not.
+const RecordSchema = 1
+
+// Record is one air handler-hour of results, SI, with units in the names.
+// Energies are kWh over the hour's covered steps: an hour with partial
+// coverage is reported as measured, with its coverage, never scaled up.
+type Record struct {
+	HourStart time.Time // UTC
+	AHU       string
+	Coverage  float64 // share of grid steps with every required reading, 0..1
+
+	DryAirKg          float64
+	WaterRemovedKg    float64
+	CoilSensibleKWh   float64
+	CoilLatentKWh     float64
+	CoilTotalKWh      float64 // with the condensate term
+	CoilTotalGrossKWh float64 // without it
+	ReheatKWh         float64 // heat added by the reheat coil
+	ReheatNeededKWh   float64
+	ReheatAvoidKWh    float64
+	ReheatInputKWh    float64 // purchased: electricity, or fuel for hot water, 0 for recovered heat
+	CoolingInputKWh   float64 // electricity for cooling (metered or modelled)
+	CoolingAvoidKWh   float64 // cooling input caused by over-cooling
+	FanHeatKWh        float64
+	ElectricityKWh    float64 // cooling input + electric reheat input
+	FuelKWh           float64 // hot-water reheat fuel
+
+	ReheatCoilRatio float64 // reheat / coil total
+	CoilEER         float64 // Btu/Wh: coil total / cooling input
+	EffectiveEER    float64 // Btu/Wh: (coil total - reheat) / (cooling input + reheat input); may be negative
+	SHR             float64 // sensible heat ratio of the coil
+	WaterPerKWhL    float64 // litres of water removed per kWh of input
+	SHCHours        float64 // time with cooling and reheat both running
+	SHCUnneededH    float64 // of which the humidity target did not need the cooling
+
+	EnteringTempC     float64 // means over covered steps
+	EnteringDewPointC float64
+	LeavingTempC      float64
+	RequiredLeavingC  float64 // mean over steps where the target needed dehumidification; NaN when it never did
+	SupplyTempC       float64
+	OvercoolingK      float64 // mean over coil-on steps of (needed coil temperature - actual), when positive
+	HumidityNeedHours float64 // time the entering air was wetter than the target allowed
+
+	Cost           float64 // currency of the configuration
+	CostAvoidable  float64
+	CO2Kg          float64
+	CO2AvoidableKg float64
+
+	WaterRemovedKgU95 float64 // 95 % half-widths
+	CoilTotalKWhU95   float64
+	ReheatKWhU95      float64
+	ReheatAvoidKWhU95 float64
+
+	Flags []string
+}
+
+// Field is one named value of a record.
+type Field struct {
+	Name  string
+	Value float64
+}
+
+// Fields returns the record's numeric fields in the documented order, with
+// the names used in CSV, JSON, the embedded store and InfluxDB.
+func (r *Record) Fields() []Field {
+	return []Field{
+		{"coverage", r.Coverage},
+		{"dry_air_kg", r.DryAirKg},
+		{"water_removed_kg", r.WaterRemovedKg},
+		{"coil_sensible_kwh", r.CoilSensibleKWh},
+		{"coil_latent_kwh", r.CoilLatentKWh},
+		{"coil_total_kwh", r.CoilTotalKWh},
+		{"coil_total_gross_kwh", r.CoilTotalGrossKWh},
+		{"reheat_kwh", r.ReheatKWh},
+		{"reheat_needed_kwh", r.ReheatNeededKWh},
+		{"reheat_avoidable_kwh", r.ReheatAvoidKWh},
+		{"reheat_input_kwh", r.ReheatInputKWh},
+		{"cooling_input_kwh", r.CoolingInputKWh},
+		{"cooling_avoidable_input_kwh", r.CoolingAvoidKWh},
+		{"fan_heat_kwh", r.FanHeatKWh},
+		{"electricity_kwh", r.ElectricityKWh},
+		{"fuel_kwh", r.FuelKWh},
+		{"reheat_coil_ratio", r.ReheatCoilRatio},
+		{"coil_eer", r.CoilEER},
+		{"effective_eer", r.EffectiveEER},
+		{"shr", r.SHR},
+		{"water_per_kwh_l", r.WaterPerKWhL},
+		{"shc_h", r.SHCHours},
+		{"shc_unneeded_h", r.SHCUnneededH},
+		{"entering_temp_c", r.EnteringTempC},
+		{"entering_dewpoint_c", r.EnteringDewPointC},
+		{"leaving_temp_c", r.LeavingTempC},
+		{"required_leaving_temp_c", r.RequiredLeavingC},
+		{"supply_temp_c", r.SupplyTempC},
+		{"overcooling_k", r.OvercoolingK},
+		{"humidity_need_h", r.HumidityNeedHours},
+		{"cost", r.Cost},
+		{"cost_avoidable", r.CostAvoidable},
+		{"co2_kg", r.CO2Kg},
+		{"co2_avoidable_kg", r.CO2AvoidableKg},
+		{"water_removed_kg_u95", r.WaterRemovedKgU95},
+		{"coil_total_kwh_u95", r.CoilTotalKWhU95},
+		{"reheat_kwh_u95", r.ReheatKWhU95},
+		{"reheat_avoidable_kwh_u95", r.ReheatAvoidKWhU95},
+	}
+}
+
+// FieldNames returns the names of Fields, in order.
+func FieldNames() []string {
+	var r Record
+	f := r.Fields()
+	out := make([]string, len(f))
+	for i := range f {
+		out[i] = f[i].Name
+	}
+	return out
+}
+
+// SetField sets a field by name; it reports false for an unknown name. It
+// lets stores read records back from their field maps.
+func (r *Record) SetField(name string, v float64) bool {
+	p, ok := r.fieldPtrs()[name]
+	if ok {
+		*p = v
+	}
+	return ok
+}
+
+func (r *Record) fieldPtrs() map[string]*float64 {
+	return map[string]*float64{
+		"coverage": &r.Coverage, "dry_air_kg": &r.DryAirKg, "water_removed_kg": &r.WaterRemovedKg,
+		"coil_sensible_kwh": &r.CoilSensibleKWh, "coil_latent_kwh": &r.CoilLatentKWh, "coil_total_kwh": &r.CoilTotalKWh,
+		"coil_total_gross_kwh": &r.CoilTotalGrossKWh, "reheat_kwh": &r.ReheatKWh, "reheat_needed_kwh": &r.ReheatNeededKWh,
+		"reheat_avoidable_kwh": &r.ReheatAvoidKWh, "reheat_input_kwh": &r.ReheatInputKWh, "cooling_input_kwh": &r.CoolingInputKWh,
+		"cooling_avoidable_input_kwh": &r.CoolingAvoidKWh, "fan_heat_kwh": &r.FanHeatKWh, "electricity_kwh": &r.ElectricityKWh,
+		"fuel_kwh": &r.FuelKWh, "reheat_coil_ratio": &r.ReheatCoilRatio, "coil_eer": &r.CoilEER, "effective_eer": &r.EffectiveEER,
+		"shr": &r.SHR, "water_per_kwh_l": &r.WaterPerKWhL, "shc_h": &r.SHCHours, "shc_unneeded_h": &r.SHCUnneededH,
+		"entering_temp_c": &r.EnteringTempC, "entering_dewpoint_c": &r.EnteringDewPointC, "leaving_temp_c": &r.LeavingTempC,
+		"required_leaving_temp_c": &r.RequiredLeavingC, "supply_temp_c": &r.SupplyTempC, "overcooling_k": &r.OvercoolingK,
+		"humidity_need_h": &r.HumidityNeedHours, "cost": &r.Cost, "cost_avoidable": &r.CostAvoidable, "co2_kg": &r.CO2Kg,
+		"co2_avoidable_kg": &r.CO2AvoidableKg, "water_removed_kg_u95": &r.WaterRemovedKgU95, "coil_total_kwh_u95": &r.CoilTotalKWhU95,
+		"reheat_kwh_u95": &r.ReheatKWhU95, "reheat_avoidable_kwh_u95": &r.ReheatAvoidKWhU95,
+	}
+}
+
+// HasFlag reports whether the record carries flag f.
+func (r *Record) HasFlag(f string) bool {
+	for _, x := range r.Flags {
+		if x == f {
+			return true
+		}
+	}
+	return false
+}
+
+func ratio(a, b float64) float64 {
+	if b == 0 || math.IsNaN(a) || math.IsNaN(b) {
+		return math.NaN()
+	}
+	return a / b
+}

@@ -1,0 +1,129 @@
+package metrics
+
+import "math"
+
+// CoolingKind is the cooling source of an air handler.
+type CoolingKind int
+
+// Cooling sources.
+const (
+	CoolingDX           CoolingKind = iota + 1 // direct expansion; compressor kW metered or from a rated EER
+	CoolingChilledWater                        // chilled-water coil; plant kW from kW per ton
+)
+
+// ReheatKind is the reheat source of an air handler.
+type ReheatKind int
+
+// Reheat sources.
+const (
+	ReheatNone      ReheatKind = iota + 1 // no reheat coil
+	ReheatElectric                        // resistance heat, COP 1
+	ReheatHotWater                        // boiler hot water: fuel = heat / boiler efficiency
+	ReheatRecovered                       // site-recovered heat (hot gas, heat pipe, condenser): no purchased energy
+)
+
+// Basis is how an airflow reading turns into dry-air mass flow.
+type Basis int
+
+// Airflow bases.
+const (
+	BasisStandard Basis = iota + 1 // standard air: m_da = 1.204 kg/m³ × Q
+	BasisActual                    // volume at the sensor's state: m_da = Q / v
+)
+
+// FanPosition is where the supply fan sits relative to the coil and the supply sensor.
+type FanPosition int
+
+// Fan positions.
+const (
+	FanNone        FanPosition = iota + 1
+	FanBlowThrough             // before the coil: its heat is part of the coil load
+	FanDrawThrough             // between coil and supply sensor: its heat is not reheat
+)
+
+// TargetKind is the form of the humidity target.
+type TargetKind int
+
+// Humidity target forms.
+const (
+	TargetSupplyDewPoint TargetKind = iota + 1 // supply dew point at or below DewPointC
+	TargetSpaceDewPoint                        // space dew point at or below DewPointC
+	TargetSpaceRH                              // space RH at or below RH at the space temperature
+)
+
+// Target is an air handler's humidity target.
+type Target struct {
+	Kind       TargetKind
+	DewPointC  float64 // supply or space dew point limit
+	RH         float64 // space RH limit, fraction
+	SpaceTempC float64 // space temperature when none is trended (TargetSpaceRH)
+}
+
+// Prices turn energy into money and CO2.
+type Prices struct {
+	ElectricityPerKWh      float64
+	FuelPerKWh             float64
+	ElectricityCO2KgPerKWh float64
+	FuelCO2KgPerKWh        float64
+}
+
+// Accuracy holds sensor accuracies, read as 95 % half-widths of a bias
+// that is the same through an hour (calibration error, not noise).
+type Accuracy struct {
+	TempK     float64 // dry-bulb sensors, K
+	RH        float64 // RH sensors, fraction (0.03 = 3 % RH)
+	DewPointK float64 // dew-point sensors, K
+	FlowFrac  float64 // airflow, fraction of reading
+	PowerFrac float64 // kW meters, fraction of reading
+}
+
+// DefaultAccuracy is typical of building-automation sensors: ±0.3 K, ±3 %
+// RH, ±0.5 K dew point, ±7 % airflow, ±2 % power (memory, typical
+// catalogue figures; override with site knowledge).
+var DefaultAccuracy = Accuracy{TempK: 0.3, RH: 0.03, DewPointK: 0.5, FlowFrac: 0.07, PowerFrac: 0.02}
+
+// Thresholds decide when a coil or reheat coil counts as running.
+type Thresholds struct {
+	CoilDeadbandK   float64 // coil counts as cooling when entering - leaving exceeds this, default 0.5 K
+	ReheatDeadbandK float64 // reheat counts when supply - leaving - fan rise exceeds this, default 0.5 K
+	MeterTolerance  float64 // computed vs metered reheat may differ by this fraction, default 0.25
+	MinCoverage     float64 // hours below this coverage are flagged, default 0.9
+}
+
+// DefaultThresholds are dewline's defaults (common practice, no source:
+// about the combined accuracy of two temperature sensors).
+var DefaultThresholds = Thresholds{CoilDeadbandK: 0.5, ReheatDeadbandK: 0.5, MeterTolerance: 0.25, MinCoverage: 0.9}
+
+// Unit is everything the engine needs to know about one air handler.
+type Unit struct {
+	ID         string
+	PressurePa float64
+
+	Cooling       CoolingKind
+	RatedCOP      float64 // DX model: COP at the rating outdoor temperature
+	RatedOutdoorC float64
+	COPPerK       float64 // change of COP per K of outdoor temperature above the rating (negative)
+	PlantKWPerKW  float64 // chilled water: plant kW per kW of coil load (kW/ton ÷ 3.517)
+	Reheat        ReheatKind
+	BoilerEff     float64
+	Basis         Basis
+	FlowAt        Role // where the airflow sensor sits for BasisActual: RoleSupplyTemp (default), RoleEnteringTemp or RoleLeavingTemp
+	Fan           FanPosition
+	FanRiseK      float64 // used when no fan_kw is trended
+	LeavingRH     float64 // assumed coil leaving RH when not measured, fraction
+	Target        Target
+	Prices        Prices
+	Accuracy      Accuracy
+	Thresholds    Thresholds
+}
+
+// copAt returns the DX model's COP at outdoor temperature tOutC (NaN: the
+// rated COP). The correction is linear and held between 40 % and 160 % of
+// the rated COP, a guard against extrapolating a nameplate too far.
+func (u *Unit) copAt(tOutC float64) float64 {
+	if math.IsNaN(tOutC) {
+		return u.RatedCOP
+	}
+	c := u.RatedCOP + u.COPPerK*(tOutC-u.RatedOutdoorC)
+	return math.Max(0.4*u.RatedCOP, math.Min(1.6*u.RatedCOP, c))
+}
