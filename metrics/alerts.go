@@ -1,0 +1,257 @@
+package metrics
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+	"time"
+)
+
+// Severity of an alert.
+type Severity string
+
+// Severities, in rising order.
+const (
+	SeverityInfo     Severity = "info"
+	SeverityWarning  Severity = "warning"
+	SeverityCritical Severity = "critical"
+)
+
+// Status of an alert.
+type Status string
+
+// Alert statuses: a condition seen for fewer hours than the rule's
+// persistence is pending; it opens once it persists and closes after the
+// rule's clear time without it.
+const (
+	StatusPending Status = "pending"
+	StatusOpen    Status = "open"
+	StatusClosed  Status = "closed"
+)
+
+// Alert kinds: our own names for what the rules find.
+const (
+	AlertReheatNotNeeded   = "reheat_not_needed"
+	AlertOvercooling       = "coil_colder_than_needed"
+	AlertLowEfficiency     = "low_effective_eer"
+	AlertTargetMissed      = "humidity_target_missed"
+	AlertDataGap           = "data_gap"
+	AlertSensorFlat        = "sensor_flat"
+	AlertSensorImplausible = "sensor_implausible"
+	AlertReheatMeter       = "reheat_meter_mismatch"
+)
+
+// RuleParams are the site's thresholds for the alert rules.
+type RuleParams struct {
+	MinAvoidableKWh  float64 // avoidable energy in an hour that counts, default 1 kWh
+	OvercoolingK     float64 // over-cooling beyond the need that counts, default 1.5 K
+	MinEffectiveEER  float64 // Btu/Wh below which efficiency alerts, default 5
+	CoilMinLeavingC  float64 // the coldest the coil can reach, default 10 °C
+	MinCoverage      float64 // coverage below which data is missing, default 0.5
+	ElectricityPrice float64 // for money at stake when a record has no cost split
+}
+
+// DefaultRuleParams are dewline's defaults (common practice, no source).
+var DefaultRuleParams = RuleParams{MinAvoidableKWh: 1, OvercoolingK: 1.5, MinEffectiveEER: 5, CoilMinLeavingC: 10, MinCoverage: 0.5}
+
+// Rule is one alert rule: a condition on an hourly record, with the hours
+// it must persist before an alert opens and the clear hours before it closes.
+type Rule struct {
+	Kind     string
+	Severity Severity
+	Persist  int
+	Clear    int
+	// Check reports whether the condition holds in the hour, the energy
+	// (kWh) and money at stake in it, and a plain-language reason.
+	Check func(r *Record, p RuleParams) (hit bool, kwh, money float64, reason string)
+}
+
+// Rules returns dewline's alert rules.
+func Rules() []Rule {
+	return []Rule{
+		{AlertReheatNotNeeded, SeverityWarning, 2, 2, checkReheatNotNeeded},
+		{AlertOvercooling, SeverityWarning, 3, 2, checkOvercooling},
+		{AlertLowEfficiency, SeverityInfo, 3, 3, checkLowEfficiency},
+		{AlertTargetMissed, SeverityCritical, 2, 2, checkTargetMissed},
+		{AlertDataGap, SeverityWarning, 2, 1, checkDataGap},
+		{AlertSensorFlat, SeverityWarning, 6, 2, checkFlat},
+		{AlertSensorImplausible, SeverityWarning, 2, 2, checkImplausible},
+		{AlertReheatMeter, SeverityInfo, 3, 3, checkReheatMeter},
+	}
+}
+
+func covered(r *Record) bool { return r.Coverage > 0 }
+
+func checkReheatNotNeeded(r *Record, p RuleParams) (bool, float64, float64, string) {
+	if !covered(r) || r.ReheatAvoidKWh < p.MinAvoidableKWh || r.HumidityNeedHours > 0.1*r.Coverage {
+		return false, 0, 0, ""
+	}
+	kwh := r.ReheatAvoidKWh
+	return true, kwh, r.CostAvoidable, fmt.Sprintf(
+		"reheat added %.1f kWh while the entering air (dew point %.1f °C) was already drier than the humidity target; %.1f kWh of it was not needed",
+		r.ReheatKWh, r.EnteringDewPointC, kwh)
+}
+
+func checkOvercooling(r *Record, p RuleParams) (bool, float64, float64, string) {
+	if !covered(r) || math.IsNaN(r.OvercoolingK) || r.OvercoolingK < p.OvercoolingK {
+		return false, 0, 0, ""
+	}
+	kwh := r.CoolingAvoidKWh + r.ReheatAvoidKWh
+	if kwh < p.MinAvoidableKWh {
+		return false, 0, 0, ""
+	}
+	need := "the supply temperature"
+	if !math.IsNaN(r.RequiredLeavingC) {
+		need = fmt.Sprintf("the humidity target (%.1f °C)", r.RequiredLeavingC)
+	}
+	return true, kwh, r.CostAvoidable, fmt.Sprintf(
+		"the coil left air at %.1f °C, %.1f K colder than %s needed; that cost %.1f kWh of cooling and %.1f kWh of reheat",
+		r.LeavingTempC, r.OvercoolingK, need, r.CoolingAvoidKWh, r.ReheatAvoidKWh)
+}
+
+func checkLowEfficiency(r *Record, p RuleParams) (bool, float64, float64, string) {
+	if !covered(r) || r.CoilTotalKWh < 1 || math.IsNaN(r.EffectiveEER) || r.EffectiveEER >= p.MinEffectiveEER {
+		return false, 0, 0, ""
+	}
+	return true, r.CoolingAvoidKWh + r.ReheatAvoidKWh, r.CostAvoidable, fmt.Sprintf(
+		"effective EER %.1f Btu/Wh (coil EER %.1f) is below %.1f: reheat took %.0f %% of the coil's work back",
+		r.EffectiveEER, r.CoilEER, p.MinEffectiveEER, 100*r.ReheatCoilRatio)
+}
+
+func checkTargetMissed(r *Record, p RuleParams) (bool, float64, float64, string) {
+	if !covered(r) || r.HumidityNeedHours < 0.5*r.Coverage || math.IsNaN(r.RequiredLeavingC) {
+		return false, 0, 0, ""
+	}
+	if r.LeavingTempC <= r.RequiredLeavingC+0.5 || r.LeavingTempC > p.CoilMinLeavingC+1 {
+		return false, 0, 0, ""
+	}
+	return true, 0, 0, fmt.Sprintf(
+		"the coil is at its coldest (%.1f °C leaving) but the humidity target needs %.1f °C: space humidity may rise above the target",
+		r.LeavingTempC, r.RequiredLeavingC)
+}
+
+func checkDataGap(r *Record, p RuleParams) (bool, float64, float64, string) {
+	if r.Coverage >= p.MinCoverage {
+		return false, 0, 0, ""
+	}
+	return true, 0, 0, fmt.Sprintf("only %.0f %% of the hour has every required reading; figures for it are incomplete", 100*r.Coverage)
+}
+
+func checkFlat(r *Record, _ RuleParams) (bool, float64, float64, string) {
+	var roles []string
+	for _, f := range r.Flags {
+		if strings.HasPrefix(f, FlagFlat) {
+			roles = append(roles, strings.TrimPrefix(f, FlagFlat))
+		}
+	}
+	if len(roles) == 0 {
+		return false, 0, 0, ""
+	}
+	return true, 0, 0, fmt.Sprintf("%s reads exactly the same value all hour; the sensor may be stuck", strings.Join(roles, ", "))
+}
+
+func checkImplausible(r *Record, _ RuleParams) (bool, float64, float64, string) {
+	var why []string
+	for _, f := range r.Flags {
+		switch {
+		case f == FlagMoistureAdded:
+			why = append(why, "the coil leaving humidity reads wetter than the entering air")
+		case f == FlagSupersaturated:
+			why = append(why, "the entering dew point reads above the dry bulb")
+		case f == FlagReheatWithoutCoil:
+			why = append(why, "the supply reads warmer than the coil leaving air on a unit without reheat")
+		case strings.HasPrefix(f, FlagOutOfRange):
+			why = append(why, strings.TrimPrefix(f, FlagOutOfRange)+" logged values outside its physical range")
+		}
+	}
+	if len(why) == 0 {
+		return false, 0, 0, ""
+	}
+	return true, 0, 0, strings.Join(why, "; ")
+}
+
+func checkReheatMeter(r *Record, _ RuleParams) (bool, float64, float64, string) {
+	if !r.HasFlag(FlagReheatMeter) {
+		return false, 0, 0, ""
+	}
+	return true, 0, 0, fmt.Sprintf("the reheat meter read %.1f kWh but the air-side rise gives %.1f kWh: check the supply and coil leaving sensors or the meter",
+		r.ReheatInputKWh, r.ReheatKWh)
+}
+
+// Alert is the state of one alert of one kind on one air handler.
+type Alert struct {
+	ID        string // ahu/kind/start hour, stable across restarts
+	AHU       string
+	Kind      string
+	Severity  Severity
+	Status    Status
+	Start     time.Time // first hour the condition held
+	End       time.Time // end of the last hour it held, once closed; zero while pending or open
+	LastSeen  time.Time // start of the last hour evaluated
+	Hits      int       // consecutive hours the condition held
+	Misses    int       // consecutive hours it did not
+	EnergyKWh float64   // at stake over the hours the condition held
+	Money     float64
+	Reason    string // the latest reason
+}
+
+// Transition is an alert that changed status in an hour.
+type Transition struct {
+	From, To Status
+	Alert    Alert
+	At       time.Time // end of the hour that caused it
+}
+
+// Evaluate applies the rules to one record, given the air handler's alert
+// states so far (keyed by kind; missing means inactive), and returns the
+// new states and the transitions that happened. It is pure: states are
+// copied, not changed. Records must be evaluated in hour order.
+func Evaluate(rules []Rule, p RuleParams, prev map[string]Alert, r *Record) (map[string]Alert, []Transition) {
+	next := make(map[string]Alert, len(prev))
+	for k, a := range prev {
+		if a.Status != StatusClosed {
+			next[k] = a
+		}
+	}
+	var out []Transition
+	end := r.HourStart.Add(time.Hour)
+	for _, rule := range rules {
+		hit, kwh, money, reason := rule.Check(r, p)
+		a, active := next[rule.Kind]
+		switch {
+		case hit && !active:
+			a = Alert{AHU: r.AHU, Kind: rule.Kind, Severity: rule.Severity, Status: StatusPending, Start: r.HourStart}
+			a.ID = fmt.Sprintf("%s/%s/%s", r.AHU, rule.Kind, r.HourStart.UTC().Format("20060102T15Z"))
+			fallthrough
+		case hit:
+			a.Hits++
+			a.Misses = 0
+			a.EnergyKWh += kwh
+			a.Money += money
+			a.Reason = reason
+			a.LastSeen = r.HourStart
+			if a.Status == StatusPending && a.Hits >= rule.Persist {
+				a.Status = StatusOpen
+				out = append(out, Transition{From: StatusPending, To: StatusOpen, Alert: a, At: end})
+			}
+			next[rule.Kind] = a
+		case active:
+			a.Misses++
+			a.LastSeen = r.HourStart
+			switch {
+			case a.Status == StatusPending:
+				delete(next, rule.Kind) // never persisted: drop quietly
+			case a.Misses >= rule.Clear:
+				a.Status = StatusClosed
+				a.End = r.HourStart.Add(-time.Duration(a.Misses-1) * time.Hour)
+				out = append(out, Transition{From: StatusOpen, To: StatusClosed, Alert: a, At: end})
+				delete(next, rule.Kind)
+			default:
+				next[rule.Kind] = a
+			}
+		}
+	}
+	sort.Slice(out, func(i, j int) bool { return out[i].Alert.Kind < out[j].Alert.Kind })
+	return next, out
+}

@@ -1,0 +1,115 @@
+package metrics_test
+
+import (
+	"testing"
+	"time"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/metrics"
+)
+
+// dryReheatHour is an hour with reheat while the entering air was dry.
+func dryReheatHour(h int, avoid float64) metrics.Record {
+	return metrics.Record{
+		HourStart: day0.Add(time.Duration(h) * time.Hour), AHU: "AHU-T", Coverage: 1,
+		ReheatKWh: avoid, ReheatAvoidKWh: avoid, CostAvoidable: avoid * 0.15, EnteringDewPointC: 7.5,
+		OvercoolingK: 0, LeavingTempC: 11, CoilTotalKWh: 30, EffectiveEER: 8, CoilEER: 11,
+	}
+}
+
+func quietHour(h int) metrics.Record {
+	return metrics.Record{HourStart: day0.Add(time.Duration(h) * time.Hour), AHU: "AHU-T", Coverage: 1,
+		HumidityNeedHours: 1, CoilTotalKWh: 30, EffectiveEER: 9, OvercoolingK: 0}
+}
+
+func TestEvaluate_Lifecycle(t *testing.T) {
+	rules, p := metrics.Rules(), metrics.DefaultRuleParams
+	state := map[string]metrics.Alert{}
+	var all []metrics.Transition
+	hours := []metrics.Record{dryReheatHour(0, 12), dryReheatHour(1, 10), dryReheatHour(2, 8), quietHour(3), quietHour(4), quietHour(5)}
+	var open []map[string]metrics.Alert
+	for i := range hours {
+		var tr []metrics.Transition
+		state, tr = metrics.Evaluate(rules, p, state, &hours[i])
+		all = append(all, tr...)
+		open = append(open, state)
+	}
+	require.Len(t, all, 2)
+	opened, closed := all[0], all[1]
+	assert.Equal(t, metrics.StatusPending, opened.From)
+	assert.Equal(t, metrics.StatusOpen, opened.To)
+	assert.Equal(t, day0.Add(2*time.Hour), opened.At, "opens at the end of its second hour (persistence 2)")
+	assert.Equal(t, metrics.AlertReheatNotNeeded, opened.Alert.Kind)
+	assert.Equal(t, "AHU-T/reheat_not_needed/20260714T00Z", opened.Alert.ID)
+	assert.Contains(t, opened.Alert.Reason, "10.0 kWh of it was not needed")
+	assert.Contains(t, opened.Alert.Reason, "dew point 7.5 °C")
+
+	assert.Equal(t, metrics.StatusClosed, closed.To)
+	assert.Equal(t, day0.Add(5*time.Hour), closed.At, "closes after two clear hours")
+	assert.Equal(t, day0.Add(3*time.Hour), closed.Alert.End, "ended when the condition last held")
+	assert.InDelta(t, 30, closed.Alert.EnergyKWh, 1e-9)
+	assert.InDelta(t, 4.5, closed.Alert.Money, 1e-9)
+	assert.Equal(t, opened.Alert.ID, closed.Alert.ID)
+	assert.Empty(t, open[5], "nothing left active")
+	assert.Equal(t, metrics.StatusPending, open[0][metrics.AlertReheatNotNeeded].Status)
+}
+
+func TestEvaluate_PendingNeverOpens(t *testing.T) {
+	state := map[string]metrics.Alert{}
+	var tr []metrics.Transition
+	r0, r1 := dryReheatHour(0, 5), quietHour(1)
+	state, tr = metrics.Evaluate(metrics.Rules(), metrics.DefaultRuleParams, state, &r0)
+	assert.Empty(t, tr)
+	state, tr = metrics.Evaluate(metrics.Rules(), metrics.DefaultRuleParams, state, &r1)
+	assert.Empty(t, tr)
+	assert.Empty(t, state)
+}
+
+func TestEvaluate_Pure(t *testing.T) {
+	prev := map[string]metrics.Alert{}
+	r := dryReheatHour(0, 5)
+	next, _ := metrics.Evaluate(metrics.Rules(), metrics.DefaultRuleParams, prev, &r)
+	assert.Empty(t, prev, "the input map is not changed")
+	assert.Len(t, next, 1)
+}
+
+func TestRules_Conditions(t *testing.T) {
+	p := metrics.DefaultRuleParams
+	find := func(kind string) metrics.Rule {
+		for _, r := range metrics.Rules() {
+			if r.Kind == kind {
+				return r
+			}
+		}
+		t.Fatalf("no rule %s", kind)
+		return metrics.Rule{}
+	}
+	tests := []struct {
+		name string
+		kind string
+		rec  metrics.Record
+		hit  bool
+		in   string
+	}{
+		{"over-cooled coil", metrics.AlertOvercooling, metrics.Record{Coverage: 1, OvercoolingK: 2.5, LeavingTempC: 9.5, RequiredLeavingC: 12, CoolingAvoidKWh: 3, ReheatAvoidKWh: 4}, true, "2.5 K colder than the humidity target (12.0 °C)"},
+		{"small over-cooling", metrics.AlertOvercooling, metrics.Record{Coverage: 1, OvercoolingK: 0.5, CoolingAvoidKWh: 3}, false, ""},
+		{"negative effective EER", metrics.AlertLowEfficiency, metrics.Record{Coverage: 1, CoilTotalKWh: 20, EffectiveEER: -1.2, CoilEER: 10, ReheatCoilRatio: 1.2}, true, "effective EER -1.2 Btu/Wh"},
+		{"coil at its coldest, still humid", metrics.AlertTargetMissed, metrics.Record{Coverage: 1, HumidityNeedHours: 1, RequiredLeavingC: 8, LeavingTempC: 10.2}, true, "space humidity may rise"},
+		{"coil could go colder", metrics.AlertTargetMissed, metrics.Record{Coverage: 1, HumidityNeedHours: 1, RequiredLeavingC: 8, LeavingTempC: 14}, false, ""},
+		{"gap", metrics.AlertDataGap, metrics.Record{Coverage: 0.3}, true, "only 30 %"},
+		{"flat RH", metrics.AlertSensorFlat, metrics.Record{Coverage: 1, Flags: []string{metrics.FlagFlat + "entering_rh"}}, true, "entering_rh reads exactly the same value"},
+		{"wet leaving sensor", metrics.AlertSensorImplausible, metrics.Record{Coverage: 1, Flags: []string{metrics.FlagMoistureAdded}}, true, "wetter than the entering air"},
+		{"meter", metrics.AlertReheatMeter, metrics.Record{Coverage: 1, ReheatInputKWh: 80, ReheatKWh: 30, Flags: []string{metrics.FlagReheatMeter}}, true, "80.0 kWh"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			hit, _, _, reason := find(tt.kind).Check(&tt.rec, p)
+			assert.Equal(t, tt.hit, hit)
+			if tt.hit {
+				assert.Contains(t, reason, tt.in)
+			}
+		})
+	}
+}
