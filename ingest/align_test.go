@@ -135,3 +135,32 @@ func TestAlign_Errors(t *testing.T) {
 	err = Align("A", t0, 1, time.Minute, []Series{{Role: "humidity"}}, func(*metrics.Hour) error { return nil })
 	assert.ErrorContains(t, err, `unknown role "humidity"`)
 }
+
+// TestAligner_Incremental: pushing samples as they are read and emitting
+// hour by hour gives the same hours as aligning all at once, and a sample
+// for an hour already emitted is counted as late.
+func TestAligner_Incremental(t *testing.T) {
+	var s []Sample
+	for i := -10; i < 180; i++ {
+		s = append(s, Sample{t0.Add(time.Duration(i) * time.Minute), 20 + float64(i%17)/3})
+	}
+	batch := alignHours(t, 3, Series{Role: metrics.RoleSupplyTemp, Samples: s})
+
+	a, err := NewAligner("AHU-T", t0, time.Minute, map[metrics.Role]time.Duration{metrics.RoleSupplyTemp: 0})
+	require.NoError(t, err)
+	var got []*metrics.Hour
+	emit := func(h *metrics.Hour) error { got = append(got, h); return nil }
+	for _, smp := range s {
+		a.Push(metrics.RoleSupplyTemp, smp)
+		require.NoError(t, a.Emit(smp.Time, emit))
+	}
+	require.NoError(t, a.Emit(t0.Add(3*time.Hour), emit))
+	require.Len(t, got, 3)
+	for i := range got {
+		assert.Equal(t, batch[i].Values, got[i].Values)
+		assert.Equal(t, batch[i].Quality, got[i].Quality)
+	}
+	a.Push(metrics.RoleSupplyTemp, Sample{t0.Add(30 * time.Minute), 99})
+	assert.Equal(t, 1, a.Late())
+	assert.Equal(t, t0.Add(3*time.Hour), a.Next())
+}
