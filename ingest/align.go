@@ -55,8 +55,9 @@ type Aligner struct {
 	n     int
 	next  time.Time // start of the next hour to emit
 	roles []*roleStream
-	index map[metrics.Role]int
-	late  int
+	index   map[metrics.Role]int
+	late    int
+	emitted bool // an hour has been emitted: samples before next are late
 }
 
 type roleStream struct {
@@ -106,9 +107,9 @@ func (a *Aligner) Next() time.Time { return a.next }
 func (a *Aligner) Late() int { return a.late }
 
 // Push adds a sample of role. Samples of one role should come in time
-// order; an earlier one is put in its place while its hour is still open,
-// and dropped (counted by Late) once the hour has been emitted. Samples of
-// unknown roles are ignored.
+// order; an earlier one is put in its place while its hour is still open.
+// Once an hour has been emitted, samples before the next hour are dropped
+// and counted by Late. Samples of unknown roles are ignored.
 func (a *Aligner) Push(role metrics.Role, s Sample) {
 	i, ok := a.index[role]
 	if !ok {
@@ -116,16 +117,16 @@ func (a *Aligner) Push(role metrics.Role, s Sample) {
 	}
 	r := a.roles[i]
 	switch {
+	case a.emitted && s.Time.Before(a.next):
+		a.late++
 	case len(r.queue) == 0 || !s.Time.Before(r.last):
 		r.queue = append(r.queue, s)
 		r.last = s.Time
-	case !s.Time.Before(a.next) || len(r.queue) > 0 && !s.Time.Before(r.queue[0].Time):
+	default:
 		j := sort.Search(len(r.queue), func(k int) bool { return r.queue[k].Time.After(s.Time) })
 		r.queue = append(r.queue, Sample{})
 		copy(r.queue[j+1:], r.queue[j:])
 		r.queue[j] = s
-	default:
-		a.late++
 	}
 }
 
@@ -137,6 +138,7 @@ func (a *Aligner) Emit(until time.Time, fn func(*metrics.Hour) error) error {
 			return err
 		}
 		a.next = a.next.Add(time.Hour)
+		a.emitted = true
 	}
 	return nil
 }
