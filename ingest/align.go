@@ -50,11 +50,11 @@ func Align(ahu string, from time.Time, hours int, step time.Duration, series []S
 // they also end the hold of the sample before them, because at that moment
 // the true value is unknown. Nothing is clipped or filled.
 type Aligner struct {
-	ahu   string
-	step  time.Duration
-	n     int
-	next  time.Time // start of the next hour to emit
-	roles []*roleStream
+	ahu     string
+	step    time.Duration
+	n       int
+	next    time.Time // start of the next hour to emit
+	roles   []*roleStream
 	index   map[metrics.Role]int
 	late    int
 	emitted bool // an hour has been emitted: samples before next are late

@@ -97,8 +97,8 @@ func TestAlign_OutOfRangeEndsHold(t *testing.T) {
 
 func TestAlign_LeadInAndGapAcrossHours(t *testing.T) {
 	s := []Sample{
-		{at("-5m"), 10},  // logged before the first hour: holds to 12:10
-		{at("90m"), 11},  // 13:30, after a gap
+		{at("-5m"), 10}, // logged before the first hour: holds to 12:10
+		{at("90m"), 11}, // 13:30, after a gap
 		{at("100m"), math.NaN()},
 	}
 	hs := alignHours(t, 2, Series{Role: metrics.RoleLeavingTemp, Stale: 15 * time.Minute, Samples: s})
