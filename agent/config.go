@@ -26,6 +26,8 @@ type Config struct {
 	Store       Store        `yaml:"store"`
 	Grid        Grid         `yaml:"grid"`
 	Prices      Prices       `yaml:"prices"`
+	Sensors     Sensors      `yaml:"sensors"`
+	Alerts      Alerts       `yaml:"alerts"`
 	AirHandlers []AirHandler `yaml:"air_handlers"`
 
 	// Resolved by Parse from the fields above.
@@ -75,6 +77,25 @@ type Prices struct {
 	FuelCO2KgPerKWh        float64 `yaml:"fuel_co2_kg_per_kwh"`
 }
 
+// Sensors gives the accuracy of the site's sensors as 95 % half-widths of
+// a calibration bias; empty values take metrics.DefaultAccuracy.
+type Sensors struct {
+	Temperature string `yaml:"temperature"` // e.g. 0.3K or 0.5F
+	RH          string `yaml:"rh"`          // e.g. 3%
+	DewPoint    string `yaml:"dewpoint"`    // e.g. 0.5K
+	Airflow     string `yaml:"airflow"`     // e.g. 7%
+	Power       string `yaml:"power"`       // e.g. 2%
+}
+
+// Alerts tunes the alert rules; empty values take metrics.DefaultRuleParams.
+type Alerts struct {
+	MinAvoidableKWh float64 `yaml:"min_avoidable_kwh"`
+	Overcooling     string  `yaml:"overcooling"`       // e.g. 1.5K
+	MinEffectiveEER float64 `yaml:"min_effective_eer"` // Btu/Wh
+	CoilMinLeaving  string  `yaml:"coil_min_leaving"`  // the coldest the coils can reach, e.g. 50F
+	MinCoverage     string  `yaml:"min_coverage"`      // e.g. 50%
+}
+
 // AirHandler is one unit: its equipment facts, humidity target and point map.
 type AirHandler struct {
 	ID        string                      `yaml:"id"`
@@ -108,7 +129,8 @@ type Reheat struct {
 
 // Airflow says how the supply airflow point is to be read.
 type Airflow struct {
-	Basis string `yaml:"basis"` // standard (standard air, 1.204 kg/m³) or actual (at the supply state)
+	Basis    string `yaml:"basis"`    // standard (standard air, 1.204 kg/m³) or actual (volume at the sensor's state)
+	Location string `yaml:"location"` // for actual: where the station sits: supply (default), entering or leaving
 }
 
 // Fan says where the supply fan sits and how much heat it adds.

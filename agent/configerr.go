@@ -137,6 +137,7 @@ var configTypes = map[string]reflect.Type{
 	"agent.AirHandler": reflect.TypeOf(AirHandler{}), "agent.Cooling": reflect.TypeOf(Cooling{}),
 	"agent.Reheat": reflect.TypeOf(Reheat{}), "agent.Airflow": reflect.TypeOf(Airflow{}),
 	"agent.Fan": reflect.TypeOf(Fan{}), "agent.Target": reflect.TypeOf(Target{}),
+	"agent.Sensors": reflect.TypeOf(Sensors{}), "agent.Alerts": reflect.TypeOf(Alerts{}),
 	"metrics.PointRef": reflect.TypeOf(metrics.PointRef{}),
 }
 

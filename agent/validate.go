@@ -63,6 +63,8 @@ func (c *Config) validate(ce *ConfigError, root *yaml.Node) {
 	c.validateStore(v)
 	c.validateGrid(v)
 	c.validatePrices(v)
+	c.validateSensors(v)
+	c.validateAlerts(v)
 	if len(c.AirHandlers) == 0 {
 		v.bad([]any{"air_handlers"}, "no air handlers are configured", "add at least one under air_handlers")
 	}
@@ -295,6 +297,14 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 	}
 
 	// Airflow basis: made explicit because the two differ by 10-20 % at altitude.
+	switch a.Airflow.Location {
+	case "", "supply", "entering", "leaving":
+		if a.Airflow.Location != "" && a.Airflow.Basis == "standard" {
+			v.bad(at(p, "airflow", "location"), "location matters only for the actual basis", "remove it, or set basis: actual")
+		}
+	default:
+		v.bad(at(p, "airflow", "location"), fmt.Sprintf("unknown location %q", a.Airflow.Location), "use supply, entering or leaving")
+	}
 	switch a.Airflow.Basis {
 	case "standard", "actual":
 	case "":
@@ -385,4 +395,57 @@ func sameUnit(kind psychro.Kind, a, b string) bool {
 	ua, e1 := psychro.LookupUnit(kind, a)
 	ub, e2 := psychro.LookupUnit(kind, b)
 	return e1 == nil && e2 == nil && ua.Name == ub.Name
+}
+
+// accuracy parses a sensor accuracy: a temperature difference for
+// temperature kinds, a share (e.g. 3%) otherwise.
+func (v *validator) accuracy(path []any, s string, temp bool, max float64) (float64, bool) {
+	if s == "" {
+		return 0, false
+	}
+	var x float64
+	var ok bool
+	if temp {
+		x, ok = temperatureDelta(s)
+		if !ok {
+			v.bad(path, fmt.Sprintf("%q is not a temperature difference", s), "write it as 0.3K or 0.5F")
+			return 0, false
+		}
+	} else {
+		var err error
+		x, _, err = psychro.ParseQuantity(s, psychro.KindFraction, "")
+		if err != nil {
+			v.bad(path, err.Error(), "write it as a percentage such as 3%")
+			return 0, false
+		}
+	}
+	if x <= 0 || x > max {
+		v.bad(path, fmt.Sprintf("%s is not a plausible sensor accuracy", s), "give the 95 % accuracy from the sensor's data sheet")
+		return 0, false
+	}
+	return x, true
+}
+
+func (c *Config) validateSensors(v *validator) {
+	p := []any{"sensors"}
+	v.accuracy(at(p, "temperature"), c.Sensors.Temperature, true, 5)
+	v.accuracy(at(p, "rh"), c.Sensors.RH, false, 0.2)
+	v.accuracy(at(p, "dewpoint"), c.Sensors.DewPoint, true, 5)
+	v.accuracy(at(p, "airflow"), c.Sensors.Airflow, false, 0.5)
+	v.accuracy(at(p, "power"), c.Sensors.Power, false, 0.5)
+}
+
+func (c *Config) validateAlerts(v *validator) {
+	p := []any{"alerts"}
+	if c.Alerts.MinAvoidableKWh < 0 {
+		v.bad(at(p, "min_avoidable_kwh"), "must not be negative", "")
+	}
+	if c.Alerts.MinEffectiveEER < 0 {
+		v.bad(at(p, "min_effective_eer"), "must not be negative", "")
+	}
+	v.accuracy(at(p, "overcooling"), c.Alerts.Overcooling, true, 20)
+	if c.Alerts.CoilMinLeaving != "" {
+		v.quantity(at(p, "coil_min_leaving"), c.Alerts.CoilMinLeaving, psychro.KindTemperature)
+	}
+	v.accuracy(at(p, "min_coverage"), c.Alerts.MinCoverage, false, 1)
 }
