@@ -1,0 +1,197 @@
+package agent
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"sort"
+	"time"
+
+	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
+)
+
+// HourSource yields aligned hours of air handlers in [from, to): for each
+// air handler its hours in order (air handlers may interleave).
+// ingest.StoreHours and ingest.CSVHours satisfy it.
+type HourSource interface {
+	Hours(ctx context.Context, ahus []string, from, to time.Time, fn func(*metrics.Hour) error) error
+}
+
+// ResultFunc receives each hour's record and the alert transitions it caused.
+type ResultFunc func(ctx context.Context, rec *metrics.Record, tr []metrics.Transition) error
+
+// Summary totals one air handler's hours.
+type Summary struct {
+	AHU              string
+	Hours            int     // hours evaluated
+	CoveredHours     float64 // sum of coverage
+	WaterKg          float64
+	CoilKWh          float64
+	ReheatKWh        float64
+	ReheatNeededKWh  float64
+	ReheatAvoidKWh   float64
+	ReheatInputKWh   float64
+	CoolingInputKWh  float64
+	CoolingAvoidKWh  float64
+	ElectricityKWh   float64
+	FuelKWh          float64
+	Cost             float64
+	CostAvoidable    float64
+	CO2Kg            float64
+	CO2AvoidableKg   float64
+	SHCHours         float64
+	SHCUnneededHours float64
+	WaterU95         float64 // hours' half-widths added in quadrature (hour biases taken as independent)
+	ReheatAvoidU95   float64
+	Failed           int             // hours whose computation failed (see Errors)
+	Alerts           []metrics.Alert // alerts pending or open at the end
+}
+
+// EffectiveEER is the period's effective EER in Btu/Wh.
+func (s *Summary) EffectiveEER() float64 {
+	in := s.CoolingInputKWh + s.ReheatInputKWh
+	if in == 0 {
+		return math.NaN()
+	}
+	return psychro.COPToEER((s.CoilKWh - s.ReheatKWh) / in)
+}
+
+// Coverage is the mean coverage of the period's hours.
+func (s *Summary) Coverage() float64 {
+	if s.Hours == 0 {
+		return 0
+	}
+	return s.CoveredHours / float64(s.Hours)
+}
+
+func (s *Summary) add(r *metrics.Record) {
+	s.Hours++
+	s.CoveredHours += r.Coverage
+	s.WaterKg += r.WaterRemovedKg
+	s.CoilKWh += r.CoilTotalKWh
+	s.ReheatKWh += r.ReheatKWh
+	s.ReheatNeededKWh += r.ReheatNeededKWh
+	s.ReheatAvoidKWh += r.ReheatAvoidKWh
+	s.ReheatInputKWh += r.ReheatInputKWh
+	s.CoolingInputKWh += r.CoolingInputKWh
+	s.CoolingAvoidKWh += r.CoolingAvoidKWh
+	s.ElectricityKWh += r.ElectricityKWh
+	s.FuelKWh += r.FuelKWh
+	s.Cost += r.Cost
+	s.CostAvoidable += r.CostAvoidable
+	s.CO2Kg += r.CO2Kg
+	s.CO2AvoidableKg += r.CO2AvoidableKg
+	s.SHCHours += r.SHCHours
+	s.SHCUnneededHours += r.SHCUnneededH
+	s.WaterU95 = math.Hypot(s.WaterU95, r.WaterRemovedKgU95)
+	s.ReheatAvoidU95 = math.Hypot(s.ReheatAvoidU95, r.ReheatAvoidKWhU95)
+}
+
+// Analyzer computes hourly records and alerts for a period.
+type Analyzer struct {
+	Cfg    *Config
+	Source HourSource
+	// Progress, when set, is called after each hour with the hours done and
+	// the hours in all (air handlers x hours of the period).
+	Progress func(done, total int)
+	// Alerts, when set, holds each air handler's alert states to continue
+	// from; it is updated as hours are evaluated.
+	Alerts map[string]map[string]metrics.Alert
+}
+
+// HourError is a computation that failed for one air handler-hour; the
+// other hours and air handlers carry on.
+type HourError struct {
+	AHU  string
+	Hour time.Time
+	Err  error
+}
+
+func (e *HourError) Error() string {
+	return fmt.Sprintf("%s %s: %v", e.AHU, e.Hour.UTC().Format(time.RFC3339), e.Err)
+}
+
+// Run analyses [from, to) for the named air handlers (all when ahus is
+// empty) and calls put for every hour in order per air handler. It returns
+// a summary per air handler and the hours that failed; it stops early only
+// when ctx ends or put fails.
+func (an *Analyzer) Run(ctx context.Context, from, to time.Time, ahus []string, put ResultFunc) (map[string]*Summary, []HourError, error) {
+	from, to = from.UTC().Truncate(time.Hour), to.UTC()
+	if !to.After(from) {
+		return nil, nil, fmt.Errorf("analyse: the period %s..%s is empty", from.Format(time.RFC3339), to.Format(time.RFC3339))
+	}
+	if len(ahus) == 0 {
+		for _, a := range an.Cfg.AirHandlers {
+			ahus = append(ahus, a.ID)
+		}
+	}
+	units := map[string]*metrics.Unit{}
+	for _, id := range ahus {
+		a, ok := an.Cfg.AirHandler(id)
+		if !ok {
+			return nil, nil, fmt.Errorf("analyse: no air handler %q in the configuration", id)
+		}
+		units[id] = an.Cfg.Unit(a)
+	}
+	if an.Alerts == nil {
+		an.Alerts = map[string]map[string]metrics.Alert{}
+	}
+	rules, params := metrics.Rules(), an.Cfg.RuleParams()
+	sums := map[string]*Summary{}
+	for _, id := range ahus {
+		sums[id] = &Summary{AHU: id}
+	}
+	total := len(ahus) * int(math.Ceil(to.Sub(from).Hours()))
+	done := 0
+	var failed []HourError
+	err := an.Source.Hours(ctx, ahus, from, to, func(h *metrics.Hour) error {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		u, ok := units[h.AHU]
+		if !ok {
+			return nil
+		}
+		rec, err := safeCompute(u, h)
+		done++
+		if err != nil {
+			failed = append(failed, HourError{AHU: h.AHU, Hour: h.Start, Err: err})
+			sums[h.AHU].Failed++
+			if an.Progress != nil {
+				an.Progress(done, total)
+			}
+			return nil
+		}
+		state, tr := metrics.Evaluate(rules, params, an.Alerts[h.AHU], &rec)
+		an.Alerts[h.AHU] = state
+		sums[h.AHU].add(&rec)
+		if put != nil {
+			if err := put(ctx, &rec, tr); err != nil {
+				return err
+			}
+		}
+		if an.Progress != nil {
+			an.Progress(done, total)
+		}
+		return nil
+	})
+	for id, s := range sums {
+		for _, a := range an.Alerts[id] {
+			s.Alerts = append(s.Alerts, a)
+		}
+		sort.Slice(s.Alerts, func(i, j int) bool { return s.Alerts[i].Kind < s.Alerts[j].Kind })
+	}
+	return sums, failed, err
+}
+
+// safeCompute runs the engine and turns a panic (a bug, or data the engine
+// did not foresee) into an error for that hour alone.
+func safeCompute(u *metrics.Unit, h *metrics.Hour) (rec metrics.Record, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			err = fmt.Errorf("computation failed: %v", p)
+		}
+	}()
+	return metrics.Compute(u, h), nil
+}
