@@ -51,7 +51,11 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 		if !ok {
 			return fmt.Errorf("read %s: no points configured", ahu)
 		}
-		a, err := NewAligner(ahu, from, s.Step, u.Stale)
+		stale := make(map[metrics.Role]time.Duration, len(u.Points))
+		for r := range u.Points {
+			stale[r] = staleOf(u, r)
+		}
+		a, err := NewAligner(ahu, from, s.Step, stale)
 		if err != nil {
 			return err
 		}
