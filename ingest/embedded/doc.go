@@ -1,0 +1,109 @@
+// Package embedded is dewline's default store: one local SQLite file that
+// holds imported trend samples, hourly results, alerts with their event
+// queue, and the agent's checkpoints. It needs no server and no cgo (the
+// driver is modernc.org/sqlite, registered as "sqlite"), and the file is
+// ordinary SQLite: the sqlite3 command-line tool, any SQLite library or a
+// spreadsheet's database import can read it.
+//
+// # Units and time
+//
+// Values are SI, as the ingest package delivers them; each series records
+// its SI unit and the unit the export logged. Every timestamp is an INTEGER
+// column of Unix milliseconds, UTC, named *_ms. Times are stored to the
+// millisecond: a sub-millisecond part is truncated (floored) on write, and
+// window bounds are compared as if the stored times were exact, so a read
+// of [from, to) returns exactly the stored samples with from <= t < to.
+// Times come back in UTC.
+//
+// # Not-a-number
+//
+// SQLite has no NaN: it stores a bound NaN as NULL. So WriteSamples refuses
+// NaN and ±Inf samples (ErrNotFinite, naming the series and time) before
+// writing anything; a missing reading is a missing row, not a NULL. In
+// hourly fields NaN and ±Inf are written as JSON null and read back as NaN.
+// In alerts a NaN energy or cost is stored as NULL and read back as NaN.
+//
+// # Schema (version 1)
+//
+//	series        one row per trend point
+//	  id          INTEGER PRIMARY KEY
+//	  name        TEXT UNIQUE NOT NULL   metrics.PointRef.Name(): CSV column or point name
+//	  kind        TEXT                   what it measures (free text, e.g. "temperature")
+//	  unit_si     TEXT                   unit of value as psychro names it: "°C", "Pa", "kW"
+//	  source_unit TEXT                   unit the export logged before conversion
+//	  created_ms  INTEGER
+//
+//	samples       WITHOUT ROWID; PRIMARY KEY (series_id, ts_ms)
+//	  series_id   INTEGER REFERENCES series(id) ON DELETE CASCADE
+//	  ts_ms       INTEGER                sample time
+//	  value       REAL NOT NULL          SI value, always finite
+//
+//	imports       one row per "dewline import" of a file (re-imports add rows)
+//	  id, file, sha256 (hex), rows_read, accepted, rejected, started_ms, finished_ms
+//
+//	hourly        WITHOUT ROWID; PRIMARY KEY (ahu, hour_ms); index (hour_ms, ahu)
+//	  ahu         TEXT
+//	  hour_ms     INTEGER                start of the hour; a multiple of 3600000
+//	  schema      INTEGER                version of the field set
+//	  fields      TEXT                   JSON object {"reheat_kwh": 1.5, "coverage": null, ...}
+//	  flags       TEXT                   JSON array of data-quality flags
+//	  written_ms  INTEGER
+//
+//	alerts        PRIMARY KEY id; index (ahu, start_ms)
+//	  id, ahu, kind, severity TEXT
+//	  state       TEXT                   'pending' | 'open' | 'closed'
+//	  start_ms    INTEGER
+//	  end_ms      INTEGER NULL           NULL while ongoing
+//	  energy_kwh  REAL NULL, cost REAL NULL (site currency); NULL = unknown
+//	  reason      TEXT, updated_ms INTEGER
+//
+//	alert_events  the notification queue
+//	  seq         INTEGER PRIMARY KEY AUTOINCREMENT (never reused)
+//	  alert_id    TEXT REFERENCES alerts(id) ON DELETE CASCADE
+//	  transition  TEXT, at_ms INTEGER
+//	  payload     TEXT                   JSON
+//	  delivered_ms INTEGER NULL          NULL until delivered; partial index on pending
+//
+//	checkpoints   WITHOUT ROWID
+//	  ahu         TEXT PRIMARY KEY
+//	  last_hour_ms INTEGER               last hour the agent completed (its start)
+//	  updated_ms  INTEGER
+//
+// Reading the file by hand, for example:
+//
+//	sqlite3 -readonly dewline.db "
+//	  SELECT s.name, datetime(x.ts_ms/1000, 'unixepoch') AS utc, x.value, s.unit_si
+//	  FROM samples x JOIN series s ON s.id = x.series_id
+//	  WHERE s.name = 'AHU-1 SAT' ORDER BY x.ts_ms LIMIT 10"
+//
+//	sqlite3 -readonly dewline.db "
+//	  SELECT ahu, datetime(hour_ms/1000, 'unixepoch'), json_extract(fields, '$.reheat_kwh')
+//	  FROM hourly ORDER BY hour_ms, ahu"
+//
+// # Versions and migrations
+//
+// PRAGMA user_version is the schema version and PRAGMA application_id marks
+// the file as dewline's ("dewl"). Open migrates an older file step by step,
+// each step in its own transaction; it refuses a file from a newer dewline
+// (ErrSchemaNewer, naming both versions: upgrade dewline) and an SQLite file
+// that belongs to another program (ErrNotStore). A read-only open never
+// migrates: it wants the current version (ErrSchemaOlder otherwise). To
+// change the schema, append a step to migrations in migrate.go; the comment
+// there lists what else to update.
+//
+// # Connections and concurrency
+//
+// Every connection runs in WAL mode with synchronous=NORMAL, foreign keys on
+// and a busy timeout (Options.BusyTimeout). A Store is safe for concurrent
+// use: writes are serialised in the process and each is one transaction
+// (BEGIN IMMEDIATE); reads run alongside them and see only committed data.
+// Other processes may read the file while dewline writes; a second writing
+// process waits up to the busy timeout for each write.
+//
+// # What it must never do
+//
+// It never logs (errors are returned, wrapped with what was being done),
+// never reads a clock except through Options.Now, never stores a NaN
+// sample, and never moves a checkpoint through PutHourlyAndCheckpoint
+// without the hour's row being stored in the same transaction.
+package embedded

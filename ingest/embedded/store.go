@@ -1,0 +1,228 @@
+package embedded
+
+import (
+	"context"
+	"database/sql"
+	"fmt"
+	"net/url"
+	"os"
+	"path/filepath"
+	"strconv"
+	"sync"
+	"time"
+
+	_ "modernc.org/sqlite" // registers the pure-Go "sqlite" database/sql driver
+)
+
+// driverName is the database/sql name modernc.org/sqlite registers.
+const driverName = "sqlite"
+
+// DefaultBusyTimeout is how long a statement waits for another process's
+// write lock before it fails with SQLITE_BUSY.
+const DefaultBusyTimeout = 5 * time.Second
+
+// Options adjusts Open. The zero value opens read-write with the defaults.
+type Options struct {
+	// ReadOnly opens an existing store without ever writing to it (for
+	// "dewline serve" and checks). The file must exist and be at this
+	// binary's schema version; every write method returns ErrReadOnly.
+	ReadOnly bool
+	// BusyTimeout is how long to wait for another process holding the write
+	// lock; DefaultBusyTimeout when zero.
+	BusyTimeout time.Duration
+	// Now stamps created_ms, written_ms and updated_ms; time.Now when nil.
+	Now func() time.Time
+}
+
+// Store is one dewline store file. Its methods are safe for concurrent use:
+// writes are serialised inside the process, and reads run in parallel with
+// them on their own pooled connections (WAL mode).
+type Store struct {
+	db       *sql.DB
+	path     string
+	readOnly bool
+	now      func() time.Time
+
+	// writeMu serialises this process's write transactions, so they queue
+	// in Go instead of meeting SQLite's lock and busy_timeout.
+	writeMu sync.Mutex
+
+	closeOnce sync.Once
+	closeErr  error
+}
+
+// Open opens the store at path. Read-write, it creates a missing file (not
+// its folder) and migrates an older file to SchemaVersion, each step in its
+// own transaction. A file written by a newer dewline is refused with
+// ErrSchemaNewer; an SQLite file that is not a dewline store with
+// ErrNotStore.
+func Open(ctx context.Context, path string, opt Options) (*Store, error) {
+	return open(ctx, path, opt, migrations)
+}
+
+// open is Open with the migration list as a parameter, so tests can show a
+// later binary upgrading a file without touching the package's list.
+func open(ctx context.Context, path string, opt Options, steps []migration) (*Store, error) {
+	if path == "" {
+		return nil, fmt.Errorf("open store: empty path: %w", ErrInvalid)
+	}
+	abs, err := filepath.Abs(path)
+	if err != nil {
+		return nil, fmt.Errorf("open store %s: %w", path, err)
+	}
+	if opt.ReadOnly {
+		// SQLite would say only "unable to open database file".
+		if _, err := os.Stat(abs); err != nil {
+			return nil, fmt.Errorf("open store %s read-only: %w", path, err)
+		}
+	}
+	if opt.BusyTimeout <= 0 {
+		opt.BusyTimeout = DefaultBusyTimeout
+	}
+	if opt.Now == nil {
+		opt.Now = time.Now
+	}
+
+	db, err := sql.Open(driverName, dsn(abs, opt))
+	if err != nil {
+		return nil, fmt.Errorf("open store %s: %w", path, err)
+	}
+	s := &Store{db: db, path: path, readOnly: opt.ReadOnly, now: opt.Now}
+	// A ping opens the first connection, which runs the DSN's PRAGMAs: a
+	// file that is not SQLite fails here.
+	if err := db.PingContext(ctx); err != nil {
+		db.Close()
+		return nil, fmt.Errorf("open store %s: %w", path, err)
+	}
+	if opt.ReadOnly {
+		err = checkVersion(ctx, db, len(steps))
+	} else {
+		err = migrate(ctx, db, steps)
+	}
+	if err != nil {
+		db.Close()
+		return nil, fmt.Errorf("open store %s: %w", path, err)
+	}
+	return s, nil
+}
+
+// dsn builds a file: URI for the driver. The URI form is needed for
+// mode=ro; url.URL escapes '?', '#' and '%' in the path, which SQLite
+// decodes again. Every pooled connection runs these settings when it opens:
+//
+//   - journal_mode=WAL: readers never block the writer nor the writer them;
+//   - synchronous=NORMAL: the usual pairing with WAL; a power cut may lose
+//     the last commits but never corrupts the file;
+//   - foreign_keys=1: SQLite leaves them off unless asked, per connection;
+//   - busy_timeout: wait for another process's write lock;
+//   - _txlock=immediate: a write transaction takes the write lock at BEGIN,
+//     so it cannot fail half-way when a read lock cannot be upgraded.
+func dsn(abs string, opt Options) string {
+	u := url.URL{Scheme: "file", Path: filepath.ToSlash(abs)}
+	q := "_busy_timeout=" + strconv.FormatInt(opt.BusyTimeout.Milliseconds(), 10) + "&_foreign_keys=1"
+	if opt.ReadOnly {
+		// No journal_mode: switching a file to WAL is a write.
+		q += "&mode=ro"
+	} else {
+		q += "&_journal_mode=WAL&_synchronous=NORMAL&_txlock=immediate"
+	}
+	return u.String() + "?" + q
+}
+
+// Path returns the path the store was opened with.
+func (s *Store) Path() string { return s.path }
+
+// ReadOnly reports whether the store was opened read-only.
+func (s *Store) ReadOnly() bool { return s.readOnly }
+
+// Close closes the file. Calling it again returns nil. Reads still
+// streaming on other goroutines finish before the connections close.
+func (s *Store) Close() error {
+	first := false
+	s.closeOnce.Do(func() {
+		first = true
+		if err := s.db.Close(); err != nil {
+			s.closeErr = fmt.Errorf("close store %s: %w", s.path, err)
+		}
+	})
+	if !first {
+		return nil
+	}
+	return s.closeErr
+}
+
+// write runs fn in one write transaction: serialised within the process,
+// committed when fn returns nil and rolled back otherwise (a cancelled ctx
+// rolls back too). what names the operation in the returned error.
+func (s *Store) write(ctx context.Context, what string, fn func(tx *sql.Tx) error) error {
+	if s.readOnly {
+		return fmt.Errorf("%s: %w", what, ErrReadOnly)
+	}
+	s.writeMu.Lock()
+	defer s.writeMu.Unlock()
+	tx, err := s.db.BeginTx(ctx, nil)
+	if err != nil {
+		return fmt.Errorf("%s: begin: %w", what, err)
+	}
+	if err := fn(tx); err != nil {
+		// The rollback error adds nothing the caller can act on; the
+		// transaction is gone either way.
+		_ = tx.Rollback()
+		return fmt.Errorf("%s: %w", what, err)
+	}
+	if err := tx.Commit(); err != nil {
+		return fmt.Errorf("%s: commit: %w", what, err)
+	}
+	return nil
+}
+
+// nowMs is the store clock in Unix milliseconds.
+func (s *Store) nowMs() int64 { return s.now().UnixMilli() }
+
+// toMs returns t in Unix milliseconds, truncating (flooring) any
+// sub-millisecond part: time.UnixMilli floors because its nanosecond part is
+// never negative, also before 1970.
+func toMs(t time.Time) int64 { return t.UnixMilli() }
+
+// ceilMs returns the first whole millisecond at or after t. Window bounds use
+// it so that, with stored times floored to the millisecond, from <= t < to
+// selects exactly the stored times ts with ceilMs(from) <= ts < ceilMs(to).
+func ceilMs(t time.Time) int64 {
+	ms := t.UnixMilli()
+	if t.Nanosecond()%int(time.Millisecond) != 0 {
+		ms++
+	}
+	return ms
+}
+
+// fromMs turns stored Unix milliseconds back into a UTC time.
+func fromMs(ms int64) time.Time { return time.UnixMilli(ms).UTC() }
+
+// nullMs reads a nullable millisecond column: NULL is the zero time.
+func nullMs(v sql.NullInt64) time.Time {
+	if !v.Valid {
+		return time.Time{}
+	}
+	return fromMs(v.Int64)
+}
+
+// msOrNull stores the zero time as NULL.
+func msOrNull(t time.Time) any {
+	if t.IsZero() {
+		return nil
+	}
+	return toMs(t)
+}
+
+// rowsDone closes rows and returns the first of err and the iteration's own
+// error, so a callback's error wins over the cursor's.
+func rowsDone(rows *sql.Rows, err error) error {
+	cerr := rows.Close()
+	if err != nil {
+		return err
+	}
+	if rerr := rows.Err(); rerr != nil {
+		return rerr
+	}
+	return cerr
+}
