@@ -113,12 +113,15 @@ func (e *HourError) Error() string {
 }
 
 // Run analyses [from, to) for the named air handlers (all when ahus is
-// empty) and calls put for every hour in order per air handler. It returns
+// empty; a zero bound leaves it to the source) and calls put for every hour in order per air handler. It returns
 // a summary per air handler and the hours that failed; it stops early only
 // when ctx ends or put fails.
 func (an *Analyzer) Run(ctx context.Context, from, to time.Time, ahus []string, put ResultFunc) (map[string]*Summary, []HourError, error) {
-	from, to = from.UTC().Truncate(time.Hour), to.UTC()
-	if !to.After(from) {
+	// A zero bound leaves the period to the source (the span of an export).
+	if !from.IsZero() {
+		from = from.UTC().Truncate(time.Hour)
+	}
+	if !from.IsZero() && !to.IsZero() && !to.After(from) {
 		return nil, nil, fmt.Errorf("analyse: the period %s..%s is empty", from.Format(time.RFC3339), to.Format(time.RFC3339))
 	}
 	if len(ahus) == 0 {
@@ -142,7 +145,10 @@ func (an *Analyzer) Run(ctx context.Context, from, to time.Time, ahus []string, 
 	for _, id := range ahus {
 		sums[id] = &Summary{AHU: id}
 	}
-	total := len(ahus) * int(math.Ceil(to.Sub(from).Hours()))
+	total := 0
+	if !from.IsZero() && !to.IsZero() {
+		total = len(ahus) * int(math.Ceil(to.Sub(from).Hours()))
+	}
 	done := 0
 	var failed []HourError
 	err := an.Source.Hours(ctx, ahus, from, to, func(h *metrics.Hour) error {

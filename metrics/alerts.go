@@ -148,7 +148,10 @@ func checkFlat(r *Record, _ RuleParams) (bool, float64, float64, string) {
 	if len(roles) == 0 {
 		return false, 0, 0, ""
 	}
-	return true, 0, 0, fmt.Sprintf("%s reads exactly the same value all hour; the sensor may be stuck", strings.Join(roles, ", "))
+	if len(roles) == 1 {
+		return true, 0, 0, fmt.Sprintf("%s reads exactly the same value all hour; the sensor may be stuck", roles[0])
+	}
+	return true, 0, 0, fmt.Sprintf("%s read exactly the same value all hour; the sensors may be stuck", strings.Join(roles, ", "))
 }
 
 func checkImplausible(r *Record, _ RuleParams) (bool, float64, float64, string) {

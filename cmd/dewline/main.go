@@ -29,7 +29,8 @@ type env struct {
 }
 
 var commands = map[string]command{
-	"air": {"compute one moist-air state (dry bulb with RH, dew point, wet bulb or humidity ratio)", runAir},
+	"air":     {"compute one moist-air state (dry bulb with RH, dew point, wet bulb or humidity ratio)", runAir},
+	"analyze": {"compute the hourly figures and alerts for a period, from the store or from exports", runAnalyze},
 }
 
 // usageError is a mistake in the command line: it prints the reason and exits 2.

@@ -1,0 +1,284 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"sort"
+	"strings"
+	"text/tabwriter"
+	"time"
+
+	"github.com/rs/zerolog"
+
+	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/ingest"
+	"github.com/dewline/dewline/ingest/csvfile"
+	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
+)
+
+// stringList is a repeatable flag.
+type stringList []string
+
+func (s *stringList) String() string     { return strings.Join(*s, ",") }
+func (s *stringList) Set(v string) error { *s = append(*s, v); return nil }
+
+func runAnalyze(ctx context.Context, e *env, args []string) error {
+	fs := flag.NewFlagSet("analyze", flag.ContinueOnError)
+	cfgPath := fs.String("config", "", "configuration file (required)")
+	fromS := fs.String("from", "", "start of the period: 2026-07-01 or 2026-07-01T06:00 (site time), or RFC 3339; default: the first data")
+	toS := fs.String("to", "", "end of the period (exclusive); default: the last data")
+	out := fs.String("out", "", "write the hourly records to this .csv or .json file")
+	noStore := fs.Bool("no-store", false, "do not write results to the configured store")
+	var inputs, units stringList
+	fs.Var(&inputs, "input", "trend export (CSV) to analyse directly, without importing; repeatable")
+	fs.Var(&units, "ahu", "analyse only this air handler; repeatable (default: all)")
+	fs.Usage = func() {
+		fmt.Fprintln(fs.Output(), "usage: dewline analyze --config FILE [--from T] [--to T] [--input trends.csv ...] [--out hourly.csv|hourly.json] [--ahu ID ...] [--no-store]")
+		fs.PrintDefaults()
+	}
+	if err := parseFlags(fs, args, e.stdout); err != nil {
+		return err
+	}
+	if *cfgPath == "" {
+		return usagef("--config is required")
+	}
+	cfg, err := agent.LoadConfig(*cfgPath)
+	if err != nil {
+		return err
+	}
+	var from, to time.Time
+	if *fromS != "" {
+		if from, err = parseTime(*fromS, cfg.Location); err != nil {
+			return usagef("--from: %v", err)
+		}
+	}
+	if *toS != "" {
+		if to, err = parseTime(*toS, cfg.Location); err != nil {
+			return usagef("--to: %v", err)
+		}
+	}
+	if len(inputs) == 0 && (from.IsZero() || to.IsZero()) {
+		return usagef("--from and --to are required when reading from the store")
+	}
+	if !from.IsZero() && !to.IsZero() && !to.After(from) {
+		return usagef("--to must be after --from")
+	}
+	ahus := []string(units)
+	if len(ahus) == 0 {
+		for _, a := range cfg.AirHandlers {
+			ahus = append(ahus, a.ID)
+		}
+	}
+	log := e.log
+
+	// Output file first: a bad path fails before any work.
+	var hw *ingest.HourlyWriter
+	var outFile *os.File
+	if *out != "" {
+		format, err := ingest.FormatFor(*out)
+		if err != nil {
+			return usagef("--out: %v", err)
+		}
+		if outFile, err = os.Create(*out); err != nil {
+			return fmt.Errorf("--out: %w", err)
+		}
+		defer outFile.Close()
+		if hw, err = ingest.NewHourlyWriter(outFile, format); err != nil {
+			return err
+		}
+	}
+
+	// The store: read from it unless exports are given; write results to it unless told not to.
+	var st *stores
+	if len(inputs) == 0 || !*noStore {
+		if st, err = openStore(ctx, cfg, false, log); err != nil {
+			return err
+		}
+		defer st.Close()
+	}
+
+	unitPoints := map[string]ingest.UnitPoints{}
+	for _, id := range ahus {
+		a, ok := cfg.AirHandler(id)
+		if !ok {
+			return usagef("--ahu %q: no such air handler in %s", id, *cfgPath)
+		}
+		unitPoints[id] = ingest.UnitPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
+	}
+	var src agent.HourSource
+	var files *csvfile.Files
+	var storeSrc *ingest.StoreHours
+	var recSrc *ingest.RecordHours
+	if len(inputs) > 0 {
+		files, err = csvfile.OpenFiles(inputs, csvfile.Options{Location: cfg.Location})
+		if err != nil {
+			return err
+		}
+		defer files.Close()
+		recSrc = &ingest.RecordHours{Src: files, Units: unitPoints, Step: cfg.Grid.Step}
+		src = recSrc
+	} else {
+		r, missing := st.reader()
+		storeSrc = &ingest.StoreHours{Reader: r, Units: unitPoints, Step: cfg.Grid.Step, IsMissing: missing}
+		src = storeSrc
+	}
+
+	prog := newProgress("analysing", log)
+	an := &agent.Analyzer{Cfg: cfg, Source: src}
+	if !from.IsZero() && !to.IsZero() {
+		an.Progress = prog.update
+	}
+	// Results are written in batches of a day per air handler, so a store
+	// write is a few calls, not thousands.
+	var batch []metrics.Record
+	var trs []metrics.Transition
+	flush := func(ctx context.Context) error {
+		if st != nil && !*noStore {
+			if err := st.putHourly(ctx, batch); err != nil {
+				return fmt.Errorf("write results: %w", err)
+			}
+			if err := st.putAlerts(ctx, trs); err != nil {
+				return fmt.Errorf("write alerts: %w", err)
+			}
+		}
+		batch, trs = batch[:0], trs[:0]
+		return nil
+	}
+	hours := 0
+	start := time.Now()
+	put := func(ctx context.Context, rec *metrics.Record, tr []metrics.Transition) error {
+		hours++
+		if hw != nil {
+			if err := hw.Write(rec); err != nil {
+				return fmt.Errorf("write %s: %w", *out, err)
+			}
+		}
+		batch = append(batch, *rec)
+		trs = append(trs, tr...)
+		if len(batch) >= 24*len(ahus) {
+			return flush(ctx)
+		}
+		return nil
+	}
+	runFrom, runTo := from, to
+	sums, failed, runErr := an.Run(ctx, runFrom, runTo, ahus, put)
+	if runErr == nil || errors.Is(runErr, context.Canceled) {
+		// Keep what was computed: flush the last batch even when interrupted.
+		if err := flush(context.WithoutCancel(ctx)); err != nil && runErr == nil {
+			runErr = err
+		}
+	}
+	if hw != nil {
+		if err := hw.Close(); err != nil && runErr == nil {
+			runErr = fmt.Errorf("write %s: %w", *out, err)
+		}
+	}
+	for _, f := range failed {
+		log.Error().Str("ahu", f.AHU).Time("hour", f.Hour).Err(f.Err).Msg("hour failed")
+	}
+	if storeSrc != nil {
+		for _, m := range storeSrc.Missing {
+			log.Warn().Str("point", m).Msg("point has no data in the store; run dewline import")
+		}
+	}
+	if recSrc != nil {
+		reportInputs(log, files, recSrc)
+	}
+	if runErr != nil {
+		return runErr
+	}
+	if hours == 0 {
+		return fmt.Errorf("no hours to analyse: the inputs hold no data for the configured points in the period")
+	}
+	log.Info().Int("hours", hours).Dur("took", time.Since(start)).Int("failed", len(failed)).Msg("analysis done")
+	return printSummary(e.stdout, cfg, ahus, sums)
+}
+
+// reportInputs logs what the exports held that was not used.
+func reportInputs(log zerolog.Logger, files *csvfile.Files, rh *ingest.RecordHours) {
+	for _, r := range files.Readers() {
+		s := r.Stats()
+		ev := log.Info().Str("file", r.Name()).Int("records", s.Records).Int("rejected", s.RejectedTotal())
+		ev.Msg("input read")
+		for _, rej := range s.Examples {
+			log.Warn().Str("file", r.Name()).Str("rejected", rej.String()).Msg("row rejected")
+		}
+	}
+	names := make([]string, 0, len(rh.Unmatched))
+	for n := range rh.Unmatched {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	for _, n := range names {
+		log.Debug().Str("series", n).Int("records", rh.Unmatched[n]).Msg("series not mapped to any air handler")
+	}
+}
+
+// printSummary prints the per-air-handler table, ranked by avoidable cost.
+func printSummary(w io.Writer, cfg *agent.Config, ahus []string, sums map[string]*agent.Summary) error {
+	rows := make([]*agent.Summary, 0, len(ahus))
+	for _, id := range ahus {
+		if s, ok := sums[id]; ok {
+			rows = append(rows, s)
+		}
+	}
+	sort.SliceStable(rows, func(i, j int) bool { return rows[i].CostAvoidable > rows[j].CostAvoidable })
+	ip := cfg.Site.Units == "ip"
+	cur := cfg.Prices.Currency
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	waterUnit := "water kg"
+	if ip {
+		waterUnit = "water lb"
+	}
+	fmt.Fprintf(tw, "air handler\thours\tcoverage\t%s\treheat kWh\tavoidable kWh\tavoidable %s\tcost %s\teff. EER\topen alerts\t\n", waterUnit, cur, cur)
+	var tot agent.Summary
+	var notes []string
+	for _, s := range rows {
+		water := s.WaterKg
+		if ip {
+			water = psychro.KgToLb(water)
+		}
+		open := 0
+		for _, a := range s.Alerts {
+			if a.Status == metrics.StatusOpen {
+				open++
+				notes = append(notes, fmt.Sprintf("  %s %s (%s, since %s): %s", s.AHU, a.Kind, a.Severity,
+					a.Start.In(cfg.Location).Format("2006-01-02 15:04"), a.Reason))
+			}
+		}
+		fmt.Fprintf(tw, "%s\t%d\t%.0f%%\t%.0f\t%.0f\t%.0f\t%.2f\t%.2f\t%s\t%d\t\n",
+			s.AHU, s.Hours, 100*s.Coverage(), water, s.ReheatKWh, s.ReheatAvoidKWh, s.CostAvoidable, s.Cost, eer(s.EffectiveEER()), open)
+		tot.CostAvoidable += s.CostAvoidable
+		tot.Cost += s.Cost
+		tot.ReheatKWh += s.ReheatKWh
+		tot.ReheatAvoidKWh += s.ReheatAvoidKWh
+	}
+	if err := tw.Flush(); err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "\ntotal: reheat %.0f kWh, of which %.0f kWh avoidable (%.2f %s of %.2f %s)\n",
+		tot.ReheatKWh, tot.ReheatAvoidKWh, tot.CostAvoidable, cur, tot.Cost, cur)
+	if len(notes) > 0 {
+		fmt.Fprintln(w, "\nopen alerts:")
+		for _, n := range notes {
+			fmt.Fprintln(w, n)
+		}
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintln(w, "Estimates from building sensors. Before raising coil temperatures or disabling reheat, have the engineer of record")
+	fmt.Fprintln(w, "review the change against the space's humidity limits (mould, comfort, codes); follow local codes and licensed practice.")
+	return nil
+}
+
+func eer(v float64) string {
+	if math.IsNaN(v) {
+		return "-"
+	}
+	return fmt.Sprintf("%.1f", v)
+}

@@ -1,0 +1,69 @@
+package main
+
+import (
+	"fmt"
+	"math"
+	"os"
+	"time"
+
+	"github.com/rs/zerolog"
+)
+
+// parseTime reads a period bound: RFC 3339 with an offset, or a local date
+// or date and time in the site's zone ("2026-07-01", "2026-07-01T06:00").
+func parseTime(s string, loc *time.Location) (time.Time, error) {
+	if t, err := time.Parse(time.RFC3339, s); err == nil {
+		return t, nil
+	}
+	for _, layout := range []string{"2006-01-02", "2006-01-02T15:04", "2006-01-02 15:04", "2006-01-02T15:04:05"} {
+		if t, err := time.ParseInLocation(layout, s, loc); err == nil {
+			return t, nil
+		}
+	}
+	return time.Time{}, fmt.Errorf("%q is not a time: use 2026-07-01, 2026-07-01T06:00 (site time) or RFC 3339 such as 2026-07-01T06:00:00Z", s)
+}
+
+func isBad(v float64) bool { return math.IsNaN(v) || math.IsInf(v, 0) }
+
+// progress shows long work: a line that redraws itself on a terminal, a
+// log line every tenth otherwise.
+type progress struct {
+	what string
+	tty  bool
+	log  zerolog.Logger
+	last int
+	w    *os.File
+}
+
+func newProgress(what string, log zerolog.Logger) *progress {
+	st, err := os.Stderr.Stat()
+	tty := err == nil && st.Mode()&os.ModeCharDevice != 0
+	return &progress{what: what, tty: tty, log: log, last: -1, w: os.Stderr}
+}
+
+func (p *progress) update(done, total int) {
+	if total <= 0 {
+		return
+	}
+	pct := done * 100 / total
+	if p.tty {
+		if pct != p.last || done == total {
+			width := 30
+			fill := done * width / total
+			bar := make([]byte, width)
+			for i := range bar {
+				bar[i] = '.'
+				if i < fill {
+					bar[i] = '#'
+				}
+			}
+			fmt.Fprintf(p.w, "\r%s [%s] %3d%% %d/%d", p.what, bar, pct, done, total)
+			if done == total {
+				fmt.Fprintln(p.w)
+			}
+		}
+	} else if pct/10 != p.last/10 || done == total {
+		p.log.Info().Int("done", done).Int("total", total).Int("percent", pct).Msg(p.what)
+	}
+	p.last = pct
+}

@@ -1,0 +1,146 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"time"
+
+	"github.com/rs/zerolog"
+
+	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/ingest"
+	"github.com/dewline/dewline/ingest/embedded"
+	"github.com/dewline/dewline/ingest/influx"
+	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
+)
+
+// Measurement names dewline writes to InfluxDB (documented in the README).
+const (
+	measurementHourly = "dewline_hourly"
+	measurementAlert  = "dewline_alert"
+)
+
+// stores is the configured store, opened: the embedded file or InfluxDB.
+type stores struct {
+	kind string
+	emb  *embedded.Store
+	flux *influx.Client
+}
+
+// openStore opens the configured store. readOnly opens the embedded file
+// without writing (it must exist).
+func openStore(ctx context.Context, cfg *agent.Config, readOnly bool, log zerolog.Logger) (*stores, error) {
+	switch cfg.Store.Kind {
+	case "influxdb":
+		ic := cfg.Store.InfluxDB
+		tok, err := ic.Token()
+		if err != nil {
+			return nil, err
+		}
+		c, err := influx.New(influx.Options{URL: ic.URL, Org: ic.Org, Bucket: ic.Bucket, Token: tok, Timeout: ic.Timeout})
+		if err != nil {
+			return nil, err
+		}
+		log.Debug().Str("store", "influxdb").Str("url", c.Options().String()).Msg("store opened")
+		return &stores{kind: "influxdb", flux: c}, nil
+	default:
+		s, err := embedded.Open(ctx, cfg.StorePath(), embedded.Options{ReadOnly: readOnly})
+		if err != nil {
+			return nil, fmt.Errorf("open the embedded store: %w", err)
+		}
+		log.Debug().Str("store", "embedded").Str("path", s.Path()).Msg("store opened")
+		return &stores{kind: "embedded", emb: s}, nil
+	}
+}
+
+func (s *stores) Close() {
+	if s.emb != nil {
+		_ = s.emb.Close()
+	}
+	if s.flux != nil {
+		s.flux.Close()
+	}
+}
+
+// reader returns the store as a series reader and the test for "point has no data".
+func (s *stores) reader() (ingest.SeriesReader, func(error) bool) {
+	if s.flux != nil {
+		return s.flux, func(err error) bool { return errors.Is(err, influx.ErrNoSuchPoint) }
+	}
+	return embeddedReader{s.emb}, func(err error) bool { return errors.Is(err, embedded.ErrUnknownSeries) }
+}
+
+// embeddedReader adapts the embedded store, which keeps SI values, to ingest.SeriesReader.
+type embeddedReader struct{ s *embedded.Store }
+
+func (r embeddedReader) ReadSeries(ctx context.Context, ref metrics.PointRef, _ psychro.Kind, from, to time.Time, fn func(ingest.Sample) error) error {
+	return r.s.ReadSeries(ctx, ref, from, to, fn)
+}
+
+// putHourly writes records; re-writing an hour replaces it.
+func (s *stores) putHourly(ctx context.Context, recs []metrics.Record) error {
+	if len(recs) == 0 {
+		return nil
+	}
+	if s.flux != nil {
+		pts := make([]influx.Point, 0, len(recs))
+		for _, r := range recs {
+			f := map[string]float64{}
+			for _, x := range r.Fields() {
+				if !isBad(x.Value) {
+					f[x.Name] = x.Value
+				}
+			}
+			pts = append(pts, influx.Point{Measurement: measurementHourly, Tags: map[string]string{"ahu": r.AHU}, Fields: f, Time: r.HourStart})
+		}
+		return s.flux.WritePoints(ctx, pts)
+	}
+	rows := make([]embedded.HourRow, 0, len(recs))
+	for _, r := range recs {
+		rows = append(rows, hourRow(&r))
+	}
+	return s.emb.PutHourly(ctx, rows)
+}
+
+func hourRow(r *metrics.Record) embedded.HourRow {
+	f := map[string]float64{}
+	for _, x := range r.Fields() {
+		f[x.Name] = x.Value
+	}
+	return embedded.HourRow{AHU: r.AHU, Hour: r.HourStart, Schema: metrics.RecordSchema, Fields: f, Flags: r.Flags}
+}
+
+// putAlerts records alert transitions as alert states and events.
+func (s *stores) putAlerts(ctx context.Context, tr []metrics.Transition) error {
+	for _, t := range tr {
+		a := t.Alert
+		if s.flux != nil {
+			err := s.flux.WritePoints(ctx, []influx.Point{{Measurement: measurementAlert,
+				Tags:   map[string]string{"ahu": a.AHU, "kind": a.Kind, "severity": string(a.Severity), "status": string(t.To)},
+				Fields: map[string]float64{"energy_kwh": a.EnergyKWh, "money": a.Money, "open": b2f(t.To == metrics.StatusOpen)},
+				Time:   t.At}})
+			if err != nil {
+				return err
+			}
+			continue
+		}
+		row := embedded.AlertRow{ID: a.ID, AHU: a.AHU, Kind: a.Kind, Severity: string(a.Severity), State: string(t.To),
+			Start: a.Start, End: a.End, EnergyKWh: a.EnergyKWh, Cost: a.Money, Reason: a.Reason}
+		if err := s.emb.PutAlert(ctx, row); err != nil {
+			return err
+		}
+		if _, err := s.emb.AppendAlertEvent(ctx, embedded.AlertEvent{AlertID: a.ID, Transition: string(t.To), At: t.At}); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func b2f(b bool) float64 {
+	if b {
+		return 1
+	}
+	return 0
+}
