@@ -9,7 +9,6 @@ import (
 	"time"
 
 	"github.com/dewline/dewline/metrics"
-	"github.com/dewline/dewline/psychro"
 )
 
 // RecordSource yields trend records in time order (ingest/csvfile.Files
@@ -34,31 +33,17 @@ type RecordHours struct {
 	Unmatched map[string]int
 }
 
-type target struct {
-	ahu  string
-	role metrics.Role
-	unit psychro.Unit
-}
-
 // Hours implements agent.HourSource. A zero from starts at the hour of the
 // first record; a zero to ends after the hour of the last.
 func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.Time, fn func(*metrics.Hour) error) error {
-	byName := map[string][]target{}
-	cfgUnit := map[string]string{}
 	for _, ahu := range ahus {
-		u, ok := rh.Units[ahu]
-		if !ok {
+		if _, ok := rh.Units[ahu]; !ok {
 			return fmt.Errorf("read %s: no points configured", ahu)
 		}
-		for role, ref := range u.Points {
-			spec, _ := metrics.LookupRole(string(role))
-			unit, err := psychro.LookupUnit(spec.Kind, ref.Unit)
-			if err != nil {
-				return fmt.Errorf("%s %s: %w", ahu, role, err)
-			}
-			byName[ref.Name()] = append(byName[ref.Name()], target{ahu, role, unit})
-			cfgUnit[ref.Name()] = ref.Unit
-		}
+	}
+	byName, err := NewPointIndex(pick(rh.Units, ahus))
+	if err != nil {
+		return err
 	}
 	rh.Unmatched = map[string]int{}
 	lead := time.Duration(0)
@@ -131,12 +116,10 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 			rh.Unmatched[rec.Series]++
 			continue
 		}
-		if !checked[rec.Series] && rec.Unit != "" {
+		if !checked[rec.Series] {
 			checked[rec.Series] = true
-			fileUnit, err := psychro.LookupUnit(targets[0].unit.Kind, rec.Unit)
-			if err == nil && fileUnit.Name != targets[0].unit.Name {
-				return fmt.Errorf("%s line %d: column %q is in %s according to the file but %s according to the configuration; correct the unit in the configuration",
-					rec.File, rec.Line, rec.Series, fileUnit.Name, cfgUnit[rec.Series])
+			if err := byName.CheckUnit(rec); err != nil {
+				return err
 			}
 		}
 		if len(order) == 0 {
@@ -149,7 +132,7 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 		}
 		rh.Records++
 		for _, tg := range targets {
-			aligners[tg.ahu].Push(tg.role, Sample{Time: rec.Time, Value: tg.unit.ToSI(rec.Value)})
+			aligners[tg.AHU].Push(tg.Role, Sample{Time: rec.Time, Value: tg.Unit.ToSI(rec.Value)})
 		}
 		if rec.Time.After(last) {
 			last = rec.Time
@@ -168,4 +151,16 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 		end = last.UTC().Truncate(time.Hour).Add(time.Hour)
 	}
 	return emit(end)
+}
+
+// pick returns the units of the named air handlers; unknown names are left
+// for the caller's own check.
+func pick(units map[string]UnitPoints, ahus []string) map[string]UnitPoints {
+	out := make(map[string]UnitPoints, len(ahus))
+	for _, a := range ahus {
+		if u, ok := units[a]; ok {
+			out[a] = u
+		}
+	}
+	return out
 }

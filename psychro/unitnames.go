@@ -232,3 +232,28 @@ func example(k Kind) string {
 	}
 	return "a number and a unit"
 }
+
+// SIUnitName returns the name of the SI unit dewline uses for kind k.
+func SIUnitName(k Kind) string {
+	switch k {
+	case KindTemperature:
+		return "°C"
+	case KindPressure:
+		return "Pa"
+	case KindLength:
+		return "m"
+	case KindRH, KindFraction:
+		return "fraction"
+	case KindFlow:
+		return "m³/s"
+	case KindPower:
+		return "kW"
+	case KindEnergy:
+		return "kWh"
+	case KindMass:
+		return "kg"
+	case KindHumRatio:
+		return "kg/kg"
+	}
+	return ""
+}

@@ -1,0 +1,281 @@
+package main
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"sort"
+	"time"
+
+	"github.com/rs/zerolog"
+
+	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/ingest"
+	"github.com/dewline/dewline/ingest/csvfile"
+	"github.com/dewline/dewline/ingest/embedded"
+	"github.com/dewline/dewline/psychro"
+)
+
+// importBatch is how many samples of one series are written at a time.
+const importBatch = 8192
+
+// importStats counts one file's import.
+type importStats struct {
+	file      string
+	rows      int
+	records   int
+	written   int
+	unmatched map[string]int
+	notFinite int
+	csv       csvfile.Stats
+}
+
+func runImport(ctx context.Context, e *env, args []string) error {
+	fs := flag.NewFlagSet("import", flag.ContinueOnError)
+	cfgPath := fs.String("config", "", "configuration file (required)")
+	fs.Usage = func() {
+		fmt.Fprintln(fs.Output(), "usage: dewline import --config FILE trends.csv [more.csv ...]")
+		fs.PrintDefaults()
+	}
+	// Files come after the flags.
+	var files []string
+	for i, a := range args {
+		if len(a) > 0 && a[0] != '-' && (i == 0 || args[i-1] != "--config" && args[i-1] != "-config") {
+			files = append(files, a)
+		}
+	}
+	flagArgs := make([]string, 0, len(args))
+	for _, a := range args {
+		if !contains(files, a) {
+			flagArgs = append(flagArgs, a)
+		}
+	}
+	if err := parseFlags(fs, flagArgs, e.stdout); err != nil {
+		return err
+	}
+	if *cfgPath == "" {
+		return usagef("--config is required")
+	}
+	if len(files) == 0 {
+		return usagef("name at least one trend export to import")
+	}
+	cfg, err := agent.LoadConfig(*cfgPath)
+	if err != nil {
+		return err
+	}
+	units := map[string]ingest.UnitPoints{}
+	for i := range cfg.AirHandlers {
+		a := &cfg.AirHandlers[i]
+		units[a.ID] = ingest.UnitPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
+	}
+	ix, err := ingest.NewPointIndex(units)
+	if err != nil {
+		return err
+	}
+	st, err := openStore(ctx, cfg, false, e.log)
+	if err != nil {
+		return err
+	}
+	defer st.Close()
+
+	var all []importStats
+	for _, path := range files {
+		s, err := importFile(ctx, e.log, cfg, st, ix, path)
+		all = append(all, s)
+		if err != nil {
+			printImport(e.stdout, all)
+			return err
+		}
+	}
+	printImport(e.stdout, all)
+	return nil
+}
+
+func contains(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
+}
+
+// importFile reads one export and writes its configured points to the
+// store, in batches per series. What was written before an error stays
+// written (re-importing the file later upserts, never duplicates).
+func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, st *stores, ix ingest.PointIndex, path string) (importStats, error) {
+	s := importStats{file: path, unmatched: map[string]int{}}
+	started := time.Now()
+	sum, err := fileSHA256(path)
+	if err != nil {
+		return s, err
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return s, fmt.Errorf("import: %w", err)
+	}
+	defer f.Close()
+	size := int64(0)
+	if fi, err := f.Stat(); err == nil {
+		size = fi.Size()
+	}
+	cr := &countingReader{r: f}
+	r, err := csvfile.NewReader(cr, path, csvfile.Options{Location: cfg.Location})
+	if err != nil {
+		return s, err
+	}
+	batches := map[string][]ingest.Sample{}
+	checked := map[string]bool{}
+	flush := func(name string) error {
+		b := batches[name]
+		if len(b) == 0 {
+			return nil
+		}
+		t := ix[name][0]
+		if st.flux != nil {
+			if err := st.flux.WriteSamples(ctx, t.Ref, t.Kind, b); err != nil {
+				return fmt.Errorf("import %s: write %s: %w", path, name, err)
+			}
+		} else {
+			si := psychro.SIUnitName(t.Kind)
+			if _, err := st.emb.WriteSamples(ctx, name, t.Kind.String(), si, t.Unit.Name, b); err != nil {
+				return fmt.Errorf("import %s: write %s: %w", path, name, err)
+			}
+		}
+		s.written += len(b)
+		batches[name] = b[:0]
+		return nil
+	}
+	prog := newProgress("importing "+path, log)
+	for n := 0; ; n++ {
+		if n%65536 == 0 {
+			if err := ctx.Err(); err != nil {
+				return s, err
+			}
+			if size > 0 {
+				prog.update(int(cr.n*1000/size), 1000)
+			}
+		}
+		rec, err := r.Next()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			return s, err
+		}
+		s.records++
+		ts, ok := ix[rec.Series]
+		if !ok {
+			s.unmatched[rec.Series]++
+			continue
+		}
+		if !checked[rec.Series] {
+			checked[rec.Series] = true
+			if err := ix.CheckUnit(rec); err != nil {
+				return s, err
+			}
+		}
+		v := ts[0].Unit.ToSI(rec.Value)
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			s.notFinite++
+			continue
+		}
+		batches[rec.Series] = append(batches[rec.Series], ingest.Sample{Time: rec.Time, Value: v})
+		if len(batches[rec.Series]) >= importBatch {
+			if err := flush(rec.Series); err != nil {
+				return s, err
+			}
+		}
+	}
+	names := make([]string, 0, len(batches))
+	for n := range batches {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	for _, n := range names {
+		if err := flush(n); err != nil {
+			return s, err
+		}
+	}
+	if size > 0 {
+		prog.update(1000, 1000)
+	}
+	s.csv = r.Stats()
+	s.rows = s.csv.Rows
+	if st.emb != nil {
+		rejected := s.csv.RejectedTotal() + s.notFinite
+		if err := st.emb.RecordImport(ctx, embedded.ImportLog{File: path, SHA256: sum, RowsRead: s.rows, Accepted: s.written,
+			Rejected: rejected, Started: started, Finished: time.Now()}); err != nil {
+			return s, err
+		}
+	}
+	log.Info().Str("file", path).Int("rows", s.rows).Int("written", s.written).Int("rejected", s.csv.RejectedTotal()).
+		Dur("took", time.Since(started)).Msg("imported")
+	return s, nil
+}
+
+func printImport(w io.Writer, all []importStats) {
+	for _, s := range all {
+		fmt.Fprintf(w, "%s: %d rows read, %d values accepted, %d written to the store\n", s.file, s.rows, s.records, s.written)
+		if s.csv.Missing > 0 {
+			fmt.Fprintf(w, "  %d empty or missing-value cells skipped\n", s.csv.Missing)
+		}
+		reasons := make([]string, 0, len(s.csv.Rejected))
+		for r := range s.csv.Rejected {
+			reasons = append(reasons, string(r))
+		}
+		sort.Strings(reasons)
+		for _, r := range reasons {
+			fmt.Fprintf(w, "  rejected, %s: %d\n", r, s.csv.Rejected[csvfile.Reason(r)])
+		}
+		for _, ex := range s.csv.Examples {
+			fmt.Fprintf(w, "    e.g. %s\n", ex.String())
+		}
+		if s.notFinite > 0 {
+			fmt.Fprintf(w, "  rejected, not a finite number after unit conversion: %d\n", s.notFinite)
+		}
+		if d := s.csv.DST; d.Repeated > 0 || d.Skipped > 0 {
+			fmt.Fprintf(w, "  daylight saving: %d rows in a repeated hour (%d read as the earlier offset, %d as the later); %d rows in a skipped hour rejected\n",
+				d.Repeated, d.RepeatedEarlier, d.RepeatedLater, d.Skipped)
+		}
+		names := make([]string, 0, len(s.unmatched))
+		for n := range s.unmatched {
+			names = append(names, n)
+		}
+		sort.Strings(names)
+		for _, n := range names {
+			fmt.Fprintf(w, "  not in the configuration, skipped: %q (%d values)\n", n, s.unmatched[n])
+		}
+	}
+}
+
+func fileSHA256(path string) (string, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return "", fmt.Errorf("import: %w", err)
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", fmt.Errorf("import: read %s: %w", path, err)
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// countingReader counts the bytes read, for progress.
+type countingReader struct {
+	r io.Reader
+	n int64
+}
+
+func (c *countingReader) Read(p []byte) (int, error) {
+	n, err := c.r.Read(p)
+	c.n += int64(n)
+	return n, err
+}
