@@ -41,29 +41,33 @@ type RoleSpec struct {
 	Min, Max float64       // plausible SI range, inclusive
 	Stale    time.Duration // default hold limit for change-of-value logs
 	Doc      string
+	// TypMin and TypMax bound the values a working air handler usually
+	// logs (SI); "dewline check" uses them to spot a wrong unit, such as a
+	// °F column declared as °C.
+	TypMin, TypMax float64
 }
 
 // Plausible ranges are generous on purpose: they catch wrong units and dead
 // sensors (a °F value in a °C column, -273 °C, RH of 150 %), not unusual
-// weather. Common practice, no source.
+// weather. The typical ranges are narrower. Both: common practice, no source.
 var roleSpecs = []RoleSpec{
-	{RoleEnteringTemp, psychro.KindTemperature, -40, 60, 15 * time.Minute, "air entering the cooling coil (mixed air)"},
-	{RoleEnteringRH, psychro.KindRH, 0, 1, 15 * time.Minute, "relative humidity of the entering air"},
-	{RoleEnteringDewPoint, psychro.KindTemperature, -60, 40, 15 * time.Minute, "dew point of the entering air"},
-	{RoleLeavingTemp, psychro.KindTemperature, -10, 50, 15 * time.Minute, "air leaving the cooling coil"},
-	{RoleLeavingRH, psychro.KindRH, 0, 1, 15 * time.Minute, "relative humidity leaving the cooling coil"},
-	{RoleLeavingDewPoint, psychro.KindTemperature, -60, 40, 15 * time.Minute, "dew point leaving the cooling coil"},
-	{RoleSupplyTemp, psychro.KindTemperature, -10, 70, 15 * time.Minute, "supply air after reheat and fan"},
-	{RoleSupplyFlow, psychro.KindFlow, 0, 200, 15 * time.Minute, "supply airflow"},
-	{RoleOutdoorTemp, psychro.KindTemperature, -60, 60, 60 * time.Minute, "outdoor air temperature"},
-	{RoleOutdoorRH, psychro.KindRH, 0, 1, 60 * time.Minute, "outdoor air relative humidity"},
-	{RoleCoolingPower, psychro.KindPower, 0, 20000, 15 * time.Minute, "compressor or cooling electric power"},
-	{RoleReheatPower, psychro.KindPower, 0, 20000, 15 * time.Minute, "electric reheat power"},
-	{RoleFanPower, psychro.KindPower, 0, 5000, 15 * time.Minute, "supply fan electric power"},
-	{RoleSpaceTemp, psychro.KindTemperature, -10, 50, 30 * time.Minute, "space or return air temperature"},
-	{RoleSpaceRH, psychro.KindRH, 0, 1, 30 * time.Minute, "space or return air relative humidity"},
-	{RoleCoolingValve, psychro.KindFraction, 0, 1, 15 * time.Minute, "cooling valve or capacity command"},
-	{RoleReheatValve, psychro.KindFraction, 0, 1, 15 * time.Minute, "reheat valve or stage command"},
+	{RoleEnteringTemp, psychro.KindTemperature, -40, 60, 15 * time.Minute, "air entering the cooling coil (mixed air)", 5, 40},
+	{RoleEnteringRH, psychro.KindRH, 0, 1, 15 * time.Minute, "relative humidity of the entering air", 0.1, 1},
+	{RoleEnteringDewPoint, psychro.KindTemperature, -60, 40, 15 * time.Minute, "dew point of the entering air", -10, 28},
+	{RoleLeavingTemp, psychro.KindTemperature, -10, 50, 15 * time.Minute, "air leaving the cooling coil", 2, 30},
+	{RoleLeavingRH, psychro.KindRH, 0, 1, 15 * time.Minute, "relative humidity leaving the cooling coil", 0.3, 1},
+	{RoleLeavingDewPoint, psychro.KindTemperature, -60, 40, 15 * time.Minute, "dew point leaving the cooling coil", -5, 25},
+	{RoleSupplyTemp, psychro.KindTemperature, -10, 70, 15 * time.Minute, "supply air after reheat and fan", 5, 50},
+	{RoleSupplyFlow, psychro.KindFlow, 0, 200, 15 * time.Minute, "supply airflow", 0.05, 100},
+	{RoleOutdoorTemp, psychro.KindTemperature, -60, 60, 60 * time.Minute, "outdoor air temperature", -40, 50},
+	{RoleOutdoorRH, psychro.KindRH, 0, 1, 60 * time.Minute, "outdoor air relative humidity", 0.05, 1},
+	{RoleCoolingPower, psychro.KindPower, 0, 20000, 15 * time.Minute, "compressor or cooling electric power", 0, 5000},
+	{RoleReheatPower, psychro.KindPower, 0, 20000, 15 * time.Minute, "electric reheat power", 0, 5000},
+	{RoleFanPower, psychro.KindPower, 0, 5000, 15 * time.Minute, "supply fan electric power", 0, 1000},
+	{RoleSpaceTemp, psychro.KindTemperature, -10, 50, 30 * time.Minute, "space or return air temperature", 12, 35},
+	{RoleSpaceRH, psychro.KindRH, 0, 1, 30 * time.Minute, "space or return air relative humidity", 0.1, 0.95},
+	{RoleCoolingValve, psychro.KindFraction, 0, 1, 15 * time.Minute, "cooling valve or capacity command", 0, 1},
+	{RoleReheatValve, psychro.KindFraction, 0, 1, 15 * time.Minute, "reheat valve or stage command", 0, 1},
 }
 
 var roleIndex = func() map[Role]RoleSpec {
@@ -92,6 +96,9 @@ func RoleNames() []string {
 	sort.Strings(out)
 	return out
 }
+
+// Typical reports whether v (SI) lies in the role's usual range.
+func (s RoleSpec) Typical(v float64) bool { return v >= s.TypMin && v <= s.TypMax }
 
 // Plausible reports whether v (SI) lies in the role's physical range.
 func (s RoleSpec) Plausible(v float64) bool { return v >= s.Min && v <= s.Max }

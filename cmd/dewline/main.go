@@ -30,6 +30,7 @@ type env struct {
 
 var commands = map[string]command{
 	"air":     {"compute one moist-air state (dry bulb with RH, dew point, wet bulb or humidity ratio)", runAir},
+	"check":   {"validate a configuration and inspect its points in exports or the store", runCheck},
 	"import":  {"load trend exports (CSV) into the configured store", runImport},
 	"analyze": {"compute the hourly figures and alerts for a period, from the store or from exports", runAnalyze},
 }
