@@ -39,8 +39,9 @@ func Compute(u *Unit, hr *Hour) Record {
 		meterSteps                                                                      int
 	)
 	in := &stepIn{}
+	c := e.columns(hr)
 	for i := 0; i < n; i++ {
-		e.fill(in, hr, i)
+		c.fill(in, i)
 		o, ok := e.step(in)
 		if !ok {
 			continue
@@ -243,34 +244,46 @@ func newEngine(u *Unit, hr *Hour) *engine {
 	return e
 }
 
-// fill copies step i of the hour into in (NaN for unmapped roles).
-func (e *engine) fill(in *stepIn, hr *Hour, i int) {
-	in.tIn = hr.Value(RoleEnteringTemp, i)
+// cols holds the hour's value slices by role, looked up once per hour
+// (nil for unmapped roles).
+type cols struct {
+	tIn, humIn, tLv, lvHum, tSup, flow, fanKW, coolKW, reheatKW, tOut, spaceT, spaceHum []float64
+}
+
+func (e *engine) columns(hr *Hour) cols {
+	c := cols{
+		tIn: hr.Values[RoleEnteringTemp], tLv: hr.Values[RoleLeavingTemp], tSup: hr.Values[RoleSupplyTemp],
+		flow: hr.Values[RoleSupplyFlow], fanKW: hr.Values[RoleFanPower], coolKW: hr.Values[RoleCoolingPower],
+		reheatKW: hr.Values[RoleReheatPower], tOut: hr.Values[RoleOutdoorTemp], spaceT: hr.Values[RoleSpaceTemp],
+		spaceHum: hr.Values[RoleSpaceRH],
+	}
 	switch e.humIn {
 	case humRH:
-		in.humIn = hr.Value(RoleEnteringRH, i)
+		c.humIn = hr.Values[RoleEnteringRH]
 	case humDewPoint:
-		in.humIn = hr.Value(RoleEnteringDewPoint, i)
-	default:
-		in.humIn = math.NaN()
+		c.humIn = hr.Values[RoleEnteringDewPoint]
 	}
-	in.tLv = hr.Value(RoleLeavingTemp, i)
 	switch e.lvHum {
 	case humRH:
-		in.lvHum = hr.Value(RoleLeavingRH, i)
+		c.lvHum = hr.Values[RoleLeavingRH]
 	case humDewPoint:
-		in.lvHum = hr.Value(RoleLeavingDewPoint, i)
-	default:
-		in.lvHum = math.NaN()
+		c.lvHum = hr.Values[RoleLeavingDewPoint]
 	}
-	in.tSup = hr.Value(RoleSupplyTemp, i)
-	in.flow = hr.Value(RoleSupplyFlow, i)
-	in.fanKW = hr.Value(RoleFanPower, i)
-	in.coolKW = hr.Value(RoleCoolingPower, i)
-	in.reheatKW = hr.Value(RoleReheatPower, i)
-	in.tOut = hr.Value(RoleOutdoorTemp, i)
-	in.spaceT = hr.Value(RoleSpaceTemp, i)
-	in.spaceHum = hr.Value(RoleSpaceRH, i)
+	return c
+}
+
+func at(v []float64, i int) float64 {
+	if v == nil {
+		return math.NaN()
+	}
+	return v[i]
+}
+
+// fill copies step i into in (NaN for unmapped roles).
+func (c *cols) fill(in *stepIn, i int) {
+	in.tIn, in.humIn, in.tLv, in.lvHum = at(c.tIn, i), at(c.humIn, i), at(c.tLv, i), at(c.lvHum, i)
+	in.tSup, in.flow, in.fanKW, in.coolKW = at(c.tSup, i), at(c.flow, i), at(c.fanKW, i), at(c.coolKW, i)
+	in.reheatKW, in.tOut, in.spaceT, in.spaceHum = at(c.reheatKW, i), at(c.tOut, i), at(c.spaceT, i), at(c.spaceHum, i)
 }
 
 // sensor is one reading whose calibration bias is propagated.
@@ -315,14 +328,16 @@ func (e *engine) uncertainty(hr *Hour, rec *Record) {
 	var sumSq [4]float64
 	n := hr.Steps()
 	dtH := hr.Step.Hours()
+	sensors := e.sensors()
+	eff := make([][4]float64, len(sensors))
+	c := e.columns(hr)
 	base, plus, minus := &stepIn{}, &stepIn{}, &stepIn{}
-	for _, s := range e.sensors() {
-		var eff [4]float64
-		for i := 0; i < n; i++ {
-			e.fill(base, hr, i)
-			if _, ok := e.step(base); !ok {
-				continue
-			}
+	for i := 0; i < n; i++ {
+		c.fill(base, i)
+		if _, ok := e.step(base); !ok {
+			continue
+		}
+		for k, s := range sensors {
 			*plus, *minus = *base, *base
 			s.shift(plus, s.delta)
 			s.shift(minus, -s.delta)
@@ -331,13 +346,15 @@ func (e *engine) uncertainty(hr *Hour, rec *Record) {
 			if !ok1 || !ok2 {
 				continue
 			}
-			eff[0] += (op.water - om.water) / 2 * 3600 * dtH
-			eff[1] += (op.total - om.total) / 2 * dtH
-			eff[2] += (op.reheat - om.reheat) / 2 * dtH
-			eff[3] += (op.reheatAvoid - om.reheatAvoid) / 2 * dtH
+			eff[k][0] += (op.water - om.water) / 2 * 3600 * dtH
+			eff[k][1] += (op.total - om.total) / 2 * dtH
+			eff[k][2] += (op.reheat - om.reheat) / 2 * dtH
+			eff[k][3] += (op.reheatAvoid - om.reheatAvoid) / 2 * dtH
 		}
-		for k := range eff {
-			sumSq[k] += eff[k] * eff[k]
+	}
+	for k := range eff {
+		for j := range eff[k] {
+			sumSq[j] += eff[k][j] * eff[k][j]
 		}
 	}
 	f := e.u.Accuracy.FlowFrac

@@ -86,6 +86,10 @@ func (e *engine) wFromHum(form int, tC, hum float64) (w float64, supersat bool, 
 // wAt returns W of air at tC and relative humidity rh.
 func (e *engine) wAt(tC, rh float64) float64 {
 	pws, _ := psychro.SatVapPressure(tC)
+	return e.wFromPws(pws, rh)
+}
+
+func (e *engine) wFromPws(pws, rh float64) float64 {
 	pw := rh * pws
 	return psychro.MolarMassRatio * pw / (e.p - pw)
 }
@@ -99,7 +103,7 @@ func (e *engine) leavingW(tLv, wIn float64) float64 {
 	if pws >= pwIn { // leaving at or above the entering dew point: dry coil
 		return wIn
 	}
-	return math.Min(wIn, e.wAt(tLv, e.u.LeavingRH))
+	return math.Min(wIn, e.wFromPws(pws, e.u.LeavingRH))
 }
 
 // tRequired returns the coil leaving temperature at which air at the
