@@ -39,6 +39,7 @@ func Compute(u *Unit, hr *Hour) Record {
 		meterSteps                                                                      int
 	)
 	in := &stepIn{}
+	var sens [nSens][4]float64
 	c := e.columns(hr)
 	for i := 0; i < n; i++ {
 		c.fill(in, i)
@@ -48,20 +49,28 @@ func Compute(u *Unit, hr *Hour) Record {
 		}
 		valid++
 		rec.DryAirKg += o.mDa * 3600 * dtH
-		rec.WaterRemovedKg += o.water * 3600 * dtH
+		rec.WaterRemovedKg += o.water.v * 3600 * dtH
 		rec.CoilSensibleKWh += o.sens * dtH
 		rec.CoilLatentKWh += o.lat * dtH
-		rec.CoilTotalKWh += o.total * dtH
+		rec.CoilTotalKWh += o.total.v * dtH
 		rec.CoilTotalGrossKWh += o.gross * dtH
-		rec.ReheatKWh += o.reheat * dtH
+		rec.ReheatKWh += o.reheat.v * dtH
 		rec.ReheatNeededKWh += o.reheatNeeded * dtH
-		rec.ReheatAvoidKWh += o.reheatAvoid * dtH
+		rec.ReheatAvoidKWh += o.reheatAvoid.v * dtH
+		// A sensor's bias is the same all hour: its effect on an hourly
+		// total is the sum of the steps' sensitivities.
+		for k := 0; k < nSens; k++ {
+			sens[k][0] += o.water.g[k] * 3600 * dtH
+			sens[k][1] += o.total.g[k] * dtH
+			sens[k][2] += o.reheat.g[k] * dtH
+			sens[k][3] += o.reheatAvoid.g[k] * dtH
+		}
 		rec.ReheatInputKWh += o.reheatIn * dtH
 		rec.CoolingInputKWh += o.coolIn * dtH
 		rec.CoolingAvoidKWh += o.coolAvoidIn * dtH
 		rec.FanHeatKWh += o.fanHeat * dtH
-		if o.reheat > 0 {
-			reheatAvoidIn += o.reheatIn * o.reheatAvoid / o.reheat * dtH
+		if o.reheat.v > 0 {
+			reheatAvoidIn += o.reheatIn * o.reheatAvoid.v / o.reheat.v * dtH
 		}
 		if u.Reheat == ReheatElectric {
 			reheatElecIn += o.reheatIn * dtH
@@ -69,14 +78,14 @@ func Compute(u *Unit, hr *Hour) Record {
 		if o.meteredHeat {
 			meterSteps++
 			meterHeat += o.reheatIn * dtH
-			computedHeat += o.reheat * dtH
+			computedHeat += o.reheat.v * dtH
 		}
 		if !o.meteredCool && o.coolOn {
 			modelled++
 		}
 		if o.coolOn && o.reheatOn {
 			rec.SHCHours += dtH
-			if !(o.humidityNeed && o.water > 0) {
+			if !(o.humidityNeed && o.water.v > 0) {
 				rec.SHCUnneededH += dtH
 			}
 		}
@@ -145,7 +154,7 @@ func Compute(u *Unit, hr *Hour) Record {
 	rec.CO2Kg = rec.ElectricityKWh*pr.ElectricityCO2KgPerKWh + rec.FuelKWh*pr.FuelCO2KgPerKWh
 	rec.CO2AvoidableKg = avoidElec*pr.ElectricityCO2KgPerKWh + avoidFuel*pr.FuelCO2KgPerKWh
 
-	e.uncertainty(hr, &rec)
+	e.uncertainty(&sens, &rec)
 
 	// Findings.
 	var flags []string
@@ -215,7 +224,7 @@ func isFlat(v []float64) bool {
 }
 
 func newEngine(u *Unit, hr *Hour) *engine {
-	e := &engine{u: u, p: u.PressurePa, cacheW: math.NaN()}
+	e := &engine{u: u, p: u.PressurePa}
 	switch {
 	case hr.Has(RoleEnteringRH):
 		e.humIn = humRH
@@ -286,81 +295,36 @@ func (c *cols) fill(in *stepIn, i int) {
 	in.reheatKW, in.tOut, in.spaceT, in.spaceHum = at(c.reheatKW, i), at(c.tOut, i), at(c.spaceT, i), at(c.spaceHum, i)
 }
 
-// sensor is one reading whose calibration bias is propagated.
-type sensor struct {
-	name  string
-	delta float64
-	shift func(in *stepIn, d float64)
-}
-
-func (e *engine) sensors() []sensor {
-	a := e.u.Accuracy
-	s := []sensor{
-		{"entering_temp", a.TempK, func(in *stepIn, d float64) { in.tIn += d }},
-		{"leaving_temp", a.TempK, func(in *stepIn, d float64) { in.tLv += d }},
-		{"supply_temp", a.TempK, func(in *stepIn, d float64) { in.tSup += d }},
-	}
-	switch e.humIn {
-	case humRH:
-		s = append(s, sensor{"entering_rh", a.RH, func(in *stepIn, d float64) { in.humIn = clamp01(in.humIn + d) }})
-	case humDewPoint:
-		s = append(s, sensor{"entering_dewpoint", a.DewPointK, func(in *stepIn, d float64) { in.humIn += d }})
-	}
-	switch e.lvHum {
-	case humRH:
-		s = append(s, sensor{"leaving_rh", a.RH, func(in *stepIn, d float64) { in.lvHum = clamp01(in.lvHum + d) }})
-	case humDewPoint:
-		s = append(s, sensor{"leaving_dewpoint", a.DewPointK, func(in *stepIn, d float64) { in.lvHum += d }})
-	}
-	return s
-}
-
-func clamp01(x float64) float64 { return math.Max(0, math.Min(1, x)) }
-
 // uncertainty sets the 95 % half-widths by first-order propagation of
 // sensor bias. A calibration error is the same all hour, so each sensor's
 // effect on an hourly total is the hour's sum of per-step sensitivities
-// times the sensor's accuracy (central differences over ±accuracy); the
-// sensors' effects are independent and add in quadrature. Airflow scales
-// every mass-proportional figure, so its share is the accuracy times the
-// figure itself.
-func (e *engine) uncertainty(hr *Hour, rec *Record) {
-	var sumSq [4]float64
-	n := hr.Steps()
-	dtH := hr.Step.Hours()
-	sensors := e.sensors()
-	eff := make([][4]float64, len(sensors))
-	c := e.columns(hr)
-	base, plus, minus := &stepIn{}, &stepIn{}, &stepIn{}
-	for i := 0; i < n; i++ {
-		c.fill(base, i)
-		if _, ok := e.step(base); !ok {
-			continue
-		}
-		for k, s := range sensors {
-			*plus, *minus = *base, *base
-			s.shift(plus, s.delta)
-			s.shift(minus, -s.delta)
-			op, ok1 := e.step(plus)
-			om, ok2 := e.step(minus)
-			if !ok1 || !ok2 {
-				continue
-			}
-			eff[k][0] += (op.water - om.water) / 2 * 3600 * dtH
-			eff[k][1] += (op.total - om.total) / 2 * dtH
-			eff[k][2] += (op.reheat - om.reheat) / 2 * dtH
-			eff[k][3] += (op.reheatAvoid - om.reheatAvoid) / 2 * dtH
+// (exact derivatives, carried through the step by dual numbers) times the
+// sensor's accuracy; the sensors' effects are independent and add in
+// quadrature. Airflow scales every mass-proportional figure, so its share
+// is the accuracy times the figure itself.
+func (e *engine) uncertainty(sens *[nSens][4]float64, rec *Record) {
+	a := e.u.Accuracy
+	var acc [nSens]float64
+	acc[sensTIn], acc[sensTLv], acc[sensTSup] = a.TempK, a.TempK, a.TempK
+	for _, x := range []struct {
+		form, idx int
+	}{{e.humIn, sensHumIn}, {e.lvHum, sensLvHum}} {
+		switch x.form {
+		case humRH:
+			acc[x.idx] = a.RH
+		case humDewPoint:
+			acc[x.idx] = a.DewPointK
 		}
 	}
-	for k := range eff {
-		for j := range eff[k] {
-			sumSq[j] += eff[k][j] * eff[k][j]
-		}
-	}
-	f := e.u.Accuracy.FlowFrac
 	vals := [4]float64{rec.WaterRemovedKg, rec.CoilTotalKWh, rec.ReheatKWh, rec.ReheatAvoidKWh}
-	for k := range vals {
-		sumSq[k] += (f * vals[k]) * (f * vals[k])
+	var sumSq [4]float64
+	for j := range vals {
+		for k := 0; k < nSens; k++ {
+			d := sens[k][j] * acc[k]
+			sumSq[j] += d * d
+		}
+		f := a.FlowFrac * vals[j]
+		sumSq[j] += f * f
 	}
 	rec.WaterRemovedKgU95 = math.Sqrt(sumSq[0])
 	rec.CoilTotalKWhU95 = math.Sqrt(sumSq[1])

@@ -22,27 +22,30 @@ const (
 	humDewPoint
 )
 
-// stepOut is the physics of one step, as rates (kW, kg/s).
+// stepOut is the physics of one step, as rates (kW, kg/s). The figures
+// that carry an uncertainty keep their gradient with respect to the sensors.
 type stepOut struct {
-	mDa                       float64 // dry-air mass flow, kg/s
-	wIn, wOut                 float64
-	water                     float64 // kg/s condensed
-	sens, lat, total, gross   float64 // coil, kW
-	fanHeat                   float64 // kW
-	reheat                    float64 // kW of heat added by the reheat coil
-	reheatNeeded, reheatAvoid float64 // kW
-	coilNeeded, coilAvoid     float64 // kW of coil load needed / caused by over-cooling
-	coolIn, coolAvoidIn       float64 // kW of cooling input (electric) total / avoidable
-	reheatIn                  float64 // kW of reheat input (electric, or fuel for hot water)
-	coolOn, reheatOn          bool
-	humidityNeed              bool    // entering air wetter than the target allows
-	tReq                      float64 // coil leaving temperature the target requires, +Inf when none
-	tNeed                     float64 // coil temperature needed (T_c)
-	wReq                      float64 // supply humidity ratio the target requires
-	moistureAdded             bool    // measured leaving air wetter than entering beyond uncertainty
-	enteringSupersat          bool    // entering dew point above dry bulb (sensor problem)
-	reheatWithoutCoil         bool    // supply warmer than leaving with no reheat coil
-	meteredCool, meteredHeat  bool
+	mDa                      float64 // dry-air mass flow, kg/s
+	wIn, wOut                float64
+	water                    dv // kg/s condensed
+	total                    dv // coil load with the condensate term, kW
+	sens, lat, gross         float64
+	fanHeat                  float64 // kW
+	reheat                   dv      // kW of heat added by the reheat coil
+	reheatNeeded             float64
+	reheatAvoid              dv
+	coilNeeded, coilAvoid    float64 // kW of coil load needed / caused by over-cooling
+	coolIn, coolAvoidIn      float64 // kW of cooling input (electric) total / avoidable
+	reheatIn                 float64 // kW of reheat input (electric, or fuel for hot water)
+	coolOn, reheatOn         bool
+	humidityNeed             bool    // entering air wetter than the target allows
+	tReq                     float64 // coil leaving temperature the target requires, +Inf when none
+	tNeed                    float64 // coil temperature needed (T_c)
+	wReq                     float64 // supply humidity ratio the target requires
+	moistureAdded            bool    // measured leaving air wetter than entering beyond uncertainty
+	enteringSupersat         bool    // entering dew point above dry bulb (sensor problem)
+	reheatWithoutCoil        bool    // supply warmer than leaving with no reheat coil
+	meteredCool, meteredHeat bool
 }
 
 // engine evaluates steps for one unit, caching the target's required temperature.
@@ -53,84 +56,77 @@ type engine struct {
 	hasFanKW, hasCoolKW    bool
 	hasReheatKW, hasSpaceT bool
 	wTarget                float64 // humidity ratio of the target (supply or space)
-	cacheW, cacheT         float64
 }
 
-// wFromHum returns W from a temperature and a humidity reading of the given form.
-func (e *engine) wFromHum(form int, tC, hum float64) (w float64, supersat bool, ok bool) {
+// wFromHum returns W from a dual temperature and a dual humidity reading of
+// the given form; supersat reports a dew point above the dry bulb (taken
+// as saturation).
+func (e *engine) wFromHum(form int, t, hum dv) (w dv, supersat, ok bool) {
 	switch form {
 	case humRH:
-		pws, err := psychro.SatVapPressure(tC)
-		if err != nil || hum < 0 {
-			return 0, false, false
+		if hum.v < 0 {
+			return dv{}, false, false
 		}
-		if hum > 1 {
-			hum = 1
+		if hum.v > 1 {
+			hum = cst(1)
 		}
-		pw := hum * pws
-		return psychro.MolarMassRatio * pw / (e.p - pw), false, pw < e.p
+		pws, ok := pwsD(t)
+		if !ok {
+			return dv{}, false, false
+		}
+		pw := pws.mul(hum)
+		if pw.v >= e.p {
+			return dv{}, false, false
+		}
+		return wFromPw(pw, e.p), false, true
 	case humDewPoint:
-		if hum > tC+0.01 {
+		if hum.v > t.v+0.01 {
 			supersat = true
-			hum = tC
+			hum = t
 		}
-		pw, err := psychro.SatVapPressure(hum)
-		if err != nil || pw >= e.p {
-			return 0, supersat, false
+		pw, ok := pwsD(hum)
+		if !ok || pw.v >= e.p {
+			return dv{}, supersat, false
 		}
-		return psychro.MolarMassRatio * pw / (e.p - pw), supersat, true
+		return wFromPw(pw, e.p), supersat, true
 	}
-	return 0, false, false
-}
-
-// wAt returns W of air at tC and relative humidity rh.
-func (e *engine) wAt(tC, rh float64) float64 {
-	pws, _ := psychro.SatVapPressure(tC)
-	return e.wFromPws(pws, rh)
-}
-
-func (e *engine) wFromPws(pws, rh float64) float64 {
-	pw := rh * pws
-	return psychro.MolarMassRatio * pw / (e.p - pw)
+	return dv{}, false, false
 }
 
 // leavingW is the coil leaving humidity ratio by the assumed-RH rule: the
 // coil condenses only when it cools below the entering dew point, and never
 // adds moisture.
-func (e *engine) leavingW(tLv, wIn float64) float64 {
-	pwIn := e.p * wIn / (psychro.MolarMassRatio + wIn)
-	pws, _ := psychro.SatVapPressure(tLv)
-	if pws >= pwIn { // leaving at or above the entering dew point: dry coil
+func (e *engine) leavingW(t, wIn dv) dv {
+	pwIn := pwFromW(wIn, e.p)
+	pws, ok := pwsD(t)
+	if !ok || pws.v >= pwIn.v { // at or above the entering dew point: dry coil
 		return wIn
 	}
-	return math.Min(wIn, e.wFromPws(pws, e.u.LeavingRH))
+	return dmin(wIn, wFromPw(pws.scale(e.u.LeavingRH), e.p))
 }
 
 // tRequired returns the coil leaving temperature at which air at the
-// assumed leaving RH has humidity ratio w (cached: targets change rarely).
-func (e *engine) tRequired(w float64) float64 {
-	if w == e.cacheW {
-		return e.cacheT
-	}
-	pw := e.p * w / (psychro.MolarMassRatio + w)
-	t, err := psychro.DewPointFromVapPressure(pw / e.u.LeavingRH)
+// assumed leaving RH has humidity ratio w: p_ws(T) = p_w(w) / RH.
+func (e *engine) tRequired(w dv) dv {
+	pw := pwFromW(w, e.p).scale(1 / e.u.LeavingRH)
+	t, err := psychro.DewPointFromVapPressure(pw.v)
 	if err != nil {
-		t = math.Inf(-1)
+		return cst(math.Inf(-1))
 	}
-	e.cacheW, e.cacheT = w, t
-	return t
+	_, d, _ := psychro.SatVapPressureSlope(t)
+	r := dv{v: t}
+	for i := range r.g {
+		r.g[i] = pw.g[i] / d
+	}
+	return r
 }
 
-func h(tC, w float64) float64 { return psychro.CpDryAir*tC + w*(psychro.HgZero+psychro.CpVapour*tC) }
-
-func cp(w float64) float64 { return psychro.CpDryAir + psychro.CpVapour*w }
-
-// condensate is the enthalpy of water leaving the coil at tC, kJ/kg.
-func condensate(tC float64) float64 {
-	if tC >= 0 {
-		return psychro.CpLiquidWater * tC
+// condensateD is the enthalpy of water leaving the coil at t, kJ/kg.
+func condensateD(t dv) dv {
+	if t.v >= 0 {
+		return t.scale(psychro.CpLiquidWater)
 	}
-	return -psychro.HeatOfFusion + psychro.CpIce*tC
+	return t.scale(psychro.CpIce).addc(-psychro.HeatOfFusion)
 }
 
 // step evaluates one step. ok is false when a required reading is missing
@@ -140,147 +136,155 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	if math.IsNaN(x.tIn) || math.IsNaN(x.humIn) || math.IsNaN(x.tLv) || math.IsNaN(x.tSup) || math.IsNaN(x.flow) {
 		return o, false
 	}
-	wIn, supersat, ok := e.wFromHum(e.humIn, x.tIn, x.humIn)
+	tIn, tLv, tSup := seed(x.tIn, sensTIn), seed(x.tLv, sensTLv), seed(x.tSup, sensTSup)
+	wIn, supersat, ok := e.wFromHum(e.humIn, tIn, seed(x.humIn, sensHumIn))
 	if !ok {
 		return o, false
 	}
-	o.wIn, o.enteringSupersat = wIn, supersat
+	o.wIn, o.enteringSupersat = wIn.v, supersat
 
 	// Leaving humidity: measured when a sensor reads, else the assumed-RH rule.
-	wOut := math.NaN()
+	var wOut dv
+	measured := false
 	if e.lvHum != humNone && !math.IsNaN(x.lvHum) {
-		if w, _, ok := e.wFromHum(e.lvHum, x.tLv, x.lvHum); ok {
-			wOut = w
+		if w, _, ok := e.wFromHum(e.lvHum, tLv, seed(x.lvHum, sensLvHum)); ok {
+			measured = true
 			// A leaving sensor that reads wetter than the entering air beyond
 			// its accuracy is a sensor finding, not a negative latent load.
 			tol := 0.0
 			switch e.lvHum {
 			case humRH:
-				tol = e.wAt(x.tLv, u.Accuracy.RH) // W span of the RH accuracy at the leaving temperature
+				tol = w.g[sensLvHum] * u.Accuracy.RH
 			case humDewPoint:
-				w2, _, _ := e.wFromHum(humDewPoint, x.tLv, x.lvHum-u.Accuracy.DewPointK)
-				tol = wOut - w2
+				tol = w.g[sensLvHum] * u.Accuracy.DewPointK
 			}
-			if wOut > wIn+tol {
+			if w.v > wIn.v+tol {
 				o.moistureAdded = true
 			}
-			wOut = math.Min(wOut, wIn)
+			wOut = dmin(w, wIn)
 		}
 	}
-	if math.IsNaN(wOut) {
-		wOut = e.leavingW(x.tLv, wIn)
+	if !measured {
+		wOut = e.leavingW(tLv, wIn)
 	}
-	o.wOut = wOut
+	o.wOut = wOut.v
 
 	// Dry-air mass flow on the configured basis.
+	var m dv
 	switch u.Basis {
 	case BasisStandard:
-		o.mDa = psychro.StandardAirDensity * x.flow
+		m = cst(psychro.StandardAirDensity * x.flow)
 	default:
-		t, w := x.tSup, wOut
+		t, w := tSup, wOut
 		switch u.FlowAt {
 		case RoleEnteringTemp:
-			t, w = x.tIn, wIn
+			t, w = tIn, wIn
 		case RoleLeavingTemp:
-			t = x.tLv
+			t = tLv
 		}
-		v := psychro.RDryAir * (t + psychro.ZeroCelsiusK) * (1 + 1.607858*w) / e.p
-		o.mDa = x.flow / v
+		v := t.addc(psychro.ZeroCelsiusK).mul(w.scale(1.607858).addc(1)).scale(psychro.RDryAir / e.p)
+		m = cst(x.flow).div(v)
 	}
-	m := o.mDa
+	o.mDa = m.v
 
 	// Cooling coil.
-	hIn, hOut := h(x.tIn, wIn), h(x.tLv, wOut)
-	if x.tIn-x.tLv > u.Thresholds.CoilDeadbandK && m > 0 {
+	hIn, hOut := hD(tIn, wIn), hD(tLv, wOut)
+	if x.tIn-x.tLv > u.Thresholds.CoilDeadbandK && m.v > 0 {
 		o.coolOn = true
-		o.water = m * (wIn - wOut)
-		o.gross = m * (hIn - hOut)
-		o.total = o.gross - o.water*condensate(x.tLv)
-		o.sens = m * cp(wIn) * (x.tIn - x.tLv)
-		o.lat = o.total - o.sens
+		o.water = m.mul(wIn.sub(wOut))
+		gross := m.mul(hIn.sub(hOut))
+		o.total = gross.sub(o.water.mul(condensateD(tLv)))
+		o.gross = gross.v
+		o.sens = m.v * cp(wIn.v) * (x.tIn - x.tLv)
+		o.lat = o.total.v - o.sens
 	}
 
 	// Supply fan heat between coil and supply sensor.
-	dtFan := 0.0
-	if u.Fan == FanDrawThrough && m > 0 {
+	dtFan := cst(0)
+	if u.Fan == FanDrawThrough && m.v > 0 {
 		if e.hasFanKW && !math.IsNaN(x.fanKW) {
 			o.fanHeat = x.fanKW
-			dtFan = x.fanKW / (m * cp(wOut))
+			dtFan = cst(x.fanKW).div(m.mul(cpD(wOut)))
 		} else {
-			dtFan = u.FanRiseK
-			o.fanHeat = m * cp(wOut) * dtFan
+			dtFan = cst(u.FanRiseK)
+			o.fanHeat = m.v * cp(wOut.v) * u.FanRiseK
 		}
 	}
 
 	// Reheat: the rise from coil leaving to supply that the fan does not explain.
-	tSupEff := x.tSup - dtFan
-	if rise := tSupEff - x.tLv; rise > u.Thresholds.ReheatDeadbandK && m > 0 {
+	tSupEff := tSup.sub(dtFan)
+	rise := tSupEff.sub(tLv)
+	if rise.v > u.Thresholds.ReheatDeadbandK && m.v > 0 {
 		if u.Reheat == ReheatNone {
 			o.reheatWithoutCoil = true
 		} else {
 			o.reheatOn = true
-			o.reheat = m * cp(wOut) * rise
+			o.reheat = m.mul(cpD(wOut)).mul(rise)
 		}
 	}
 
 	// What the humidity target required.
-	switch u.Target.Kind {
-	case TargetSupplyDewPoint:
-		o.wReq = e.wTarget
-	default:
+	wReq := cst(e.wTarget)
+	if u.Target.Kind != TargetSupplyDewPoint {
 		wSpace := e.wTarget
 		if u.Target.Kind == TargetSpaceRH {
 			ts := u.Target.SpaceTempC
 			if e.hasSpaceT && !math.IsNaN(x.spaceT) {
 				ts = x.spaceT
 			}
-			wSpace = e.wAt(ts, u.Target.RH)
+			wSpace = wAtRH(ts, u.Target.RH, e.p)
 		}
+		wReq = cst(wSpace)
 		// The supply must be drier than the space limit by the moisture the
 		// space adds, seen as the space's W above the supply's when both
-		// are trended.
-		gain := 0.0
+		// are trended (space sensors are taken as exact).
 		if e.spaceHum != humNone && e.hasSpaceT && !math.IsNaN(x.spaceT) && !math.IsNaN(x.spaceHum) {
-			if ws, _, ok := e.wFromHum(e.spaceHum, x.spaceT, x.spaceHum); ok && ws > wOut {
-				gain = ws - wOut
+			if ws, _, ok := e.wFromHum(e.spaceHum, cst(x.spaceT), cst(x.spaceHum)); ok && ws.v > wOut.v {
+				wReq = cst(wSpace - ws.v).add(wOut)
 			}
 		}
-		o.wReq = math.Max(wSpace-gain, 1e-5)
+		if wReq.v < 1e-5 {
+			wReq = cst(1e-5)
+		}
 	}
-	o.tReq = math.Inf(1)
-	if wIn > o.wReq {
+	o.wReq = wReq.v
+	tReq := cst(math.Inf(1))
+	if wIn.v > wReq.v {
 		o.humidityNeed = true
-		o.tReq = e.tRequired(o.wReq)
+		tReq = e.tRequired(wReq)
 	}
-	tc := math.Min(x.tIn, math.Min(tSupEff, o.tReq))
-	o.tNeed = tc
+	o.tReq = tReq.v
+	tc := dmin(tIn, dmin(tSupEff, tReq))
+	o.tNeed = tc.v
 	wc := wIn
-	if tc < x.tIn {
+	if tc.v < tIn.v {
 		wc = e.leavingW(tc, wIn)
-		mw := m * (wIn - wc)
-		o.coilNeeded = math.Max(0, m*(hIn-h(tc, wc))-mw*condensate(tc))
+		mw := m.v * (wIn.v - wc.v)
+		o.coilNeeded = math.Max(0, m.v*(hIn.v-h(tc.v, wc.v))-mw*condensate(tc.v))
 	}
 	if o.reheatOn {
-		o.reheatNeeded = math.Max(0, m*(h(tSupEff, wc)-h(tc, wc)))
-		o.reheatAvoid = math.Max(0, o.reheat-o.reheatNeeded)
+		needed := dmax(cst(0), m.mul(cpD(wc)).mul(tSupEff.sub(tc)))
+		o.reheatNeeded = needed.v
+		o.reheatAvoid = dmax(cst(0), o.reheat.sub(needed))
 	}
 	if o.coolOn {
-		o.coilAvoid = math.Max(0, o.total-o.coilNeeded)
+		o.coilAvoid = math.Max(0, o.total.v-o.coilNeeded)
 	}
 
 	// Purchased energy.
+	total := o.total.v
 	switch {
 	case e.hasCoolKW && !math.IsNaN(x.coolKW):
 		o.meteredCool = true
 		o.coolIn = x.coolKW
-		if o.total > 0 {
-			o.coolAvoidIn = x.coolKW * o.coilAvoid / o.total
+		if total > 0 {
+			o.coolAvoidIn = x.coolKW * o.coilAvoid / total
 		}
 	case u.Cooling == CoolingDX:
 		cop := u.copAt(x.tOut)
-		o.coolIn, o.coolAvoidIn = o.total/cop, o.coilAvoid/cop
+		o.coolIn, o.coolAvoidIn = total/cop, o.coilAvoid/cop
 	case u.Cooling == CoolingChilledWater:
-		o.coolIn, o.coolAvoidIn = o.total*u.PlantKWPerKW, o.coilAvoid*u.PlantKWPerKW
+		o.coolIn, o.coolAvoidIn = total*u.PlantKWPerKW, o.coilAvoid*u.PlantKWPerKW
 	}
 	switch u.Reheat {
 	case ReheatElectric:
@@ -288,10 +292,28 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 			o.meteredHeat = true
 			o.reheatIn = x.reheatKW
 		} else {
-			o.reheatIn = o.reheat
+			o.reheatIn = o.reheat.v
 		}
 	case ReheatHotWater:
-		o.reheatIn = o.reheat / u.BoilerEff
+		o.reheatIn = o.reheat.v / u.BoilerEff
 	}
 	return o, true
+}
+
+// h is moist-air enthalpy (eq. 32), kJ/kg.
+func h(tC, w float64) float64 { return psychro.CpDryAir*tC + w*(psychro.HgZero+psychro.CpVapour*tC) }
+
+func cp(w float64) float64 { return psychro.CpDryAir + psychro.CpVapour*w }
+
+// condensate is the enthalpy of water leaving the coil at tC, kJ/kg.
+func condensate(tC float64) float64 { return condensateD(cst(tC)).v }
+
+// wAtRH returns W of air at tC and relative humidity rh (0 when tC is out of range).
+func wAtRH(tC, rh, p float64) float64 {
+	pws, err := psychro.SatVapPressure(tC)
+	if err != nil {
+		return 0
+	}
+	pw := rh * pws
+	return psychro.MolarMassRatio * pw / (p - pw)
 }

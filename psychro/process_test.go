@@ -165,3 +165,19 @@ func TestWetBulb_RoundTrip(t *testing.T) {
 		}
 	}
 }
+
+// TestSatVapPressureSlope: the analytic slope matches a central difference
+// of eqs. 5 and 6 (away from the triple point, where the two meet).
+func TestSatVapPressureSlope(t *testing.T) {
+	for _, tc := range []float64{-40, -10, -0.5, 0.5, 12, 25, 45, 90} {
+		p, d, err := psychro.SatVapPressureSlope(tc)
+		require.NoError(t, err)
+		lo, _ := psychro.SatVapPressure(tc - 1e-4)
+		hi, _ := psychro.SatVapPressure(tc + 1e-4)
+		pp, _ := psychro.SatVapPressure(tc)
+		assert.Equal(t, pp, p)
+		assert.InEpsilon(t, (hi-lo)/2e-4, d, 1e-6, "t=%g", tc)
+	}
+	_, _, err := psychro.SatVapPressureSlope(math.NaN())
+	assert.ErrorIs(t, err, psychro.ErrNotFinite)
+}

@@ -114,3 +114,14 @@ func clamp(v, lo, hi float64) float64 {
 	}
 	return v
 }
+
+// SatVapPressureSlope returns the saturation pressure p_ws (Pa) at tC and
+// its derivative dp_ws/dt (Pa/K), from eqs. 5 and 6 differentiated
+// analytically; for propagating sensor errors without extra evaluations.
+func SatVapPressureSlope(tC float64) (pws, dPdT float64, err error) {
+	if err := checkTemp(inTemperature, tC); err != nil {
+		return 0, 0, err
+	}
+	p := satVapPressure(tC)
+	return p, p * dLnSatVapPressure(tC), nil
+}

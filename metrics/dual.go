@@ -1,0 +1,124 @@
+package metrics
+
+import "github.com/dewline/dewline/psychro"
+
+// The sensors whose calibration bias the engine propagates, as indexes of
+// a dual number's gradient.
+const (
+	sensTIn   = iota // entering dry bulb, per K
+	sensHumIn        // entering RH (per unit fraction) or dew point (per K)
+	sensTLv          // coil leaving dry bulb, per K
+	sensLvHum        // coil leaving RH or dew point
+	sensTSup         // supply dry bulb, per K
+	nSens
+)
+
+// dv is a value with its gradient with respect to the sensors (forward-mode
+// automatic differentiation). The engine computes every figure that carries
+// an uncertainty in dv arithmetic, so one pass yields the figure and its
+// first-order sensitivity to each sensor's bias, with no extra evaluation
+// of the psychrometric functions.
+type dv struct {
+	v float64
+	g [nSens]float64
+}
+
+func cst(v float64) dv { return dv{v: v} }
+
+func seed(v float64, i int) dv {
+	d := dv{v: v}
+	d.g[i] = 1
+	return d
+}
+
+func (a dv) add(b dv) dv {
+	a.v += b.v
+	for i := range a.g {
+		a.g[i] += b.g[i]
+	}
+	return a
+}
+
+func (a dv) sub(b dv) dv {
+	a.v -= b.v
+	for i := range a.g {
+		a.g[i] -= b.g[i]
+	}
+	return a
+}
+
+func (a dv) mul(b dv) dv {
+	r := dv{v: a.v * b.v}
+	for i := range r.g {
+		r.g[i] = a.g[i]*b.v + a.v*b.g[i]
+	}
+	return r
+}
+
+func (a dv) div(b dv) dv {
+	r := dv{v: a.v / b.v}
+	inv := 1 / (b.v * b.v)
+	for i := range r.g {
+		r.g[i] = (a.g[i]*b.v - a.v*b.g[i]) * inv
+	}
+	return r
+}
+
+func (a dv) scale(k float64) dv {
+	a.v *= k
+	for i := range a.g {
+		a.g[i] *= k
+	}
+	return a
+}
+
+func (a dv) addc(k float64) dv {
+	a.v += k
+	return a
+}
+
+// dmin and dmax pick a whole operand; at a tie the first wins.
+func dmin(a, b dv) dv {
+	if b.v < a.v {
+		return b
+	}
+	return a
+}
+
+func dmax(a, b dv) dv {
+	if b.v > a.v {
+		return b
+	}
+	return a
+}
+
+// pwsD is the saturation pressure of a dual temperature.
+func pwsD(t dv) (dv, bool) {
+	p, d, err := psychro.SatVapPressureSlope(t.v)
+	if err != nil {
+		return dv{}, false
+	}
+	r := dv{v: p}
+	for i := range r.g {
+		r.g[i] = d * t.g[i]
+	}
+	return r, true
+}
+
+// wFromPw is W = 0.621945 p_w / (p - p_w) (ASHRAE ch. 1 eq. 20).
+func wFromPw(pw dv, p float64) dv {
+	return pw.scale(psychro.MolarMassRatio).div(cst(p).sub(pw))
+}
+
+// pwFromW inverts wFromPw.
+func pwFromW(w dv, p float64) dv {
+	return w.scale(p).div(w.addc(psychro.MolarMassRatio))
+}
+
+// hD is moist-air enthalpy, eq. 32, in kJ/kg.
+func hD(t, w dv) dv {
+	return t.scale(psychro.CpDryAir).add(w.mul(t.scale(psychro.CpVapour).addc(psychro.HgZero)))
+}
+
+// cpD is the moist specific heat 1.006 + 1.86 W.
+func cpD(w dv) dv { return w.scale(psychro.CpVapour).addc(psychro.CpDryAir) }
