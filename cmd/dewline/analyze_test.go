@@ -1,0 +1,170 @@
+package main
+
+import (
+	"bytes"
+	"encoding/csv"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/metrics"
+)
+
+// A two-day scenario of our own: one DX air handler, IP units, a humid
+// day and a dry night, written as a wide export in local time.
+const analyzeConfig = `version: 1
+site: {timezone: America/Chicago, altitude: 15ft, units: ip}
+store: {kind: embedded, path: test.db}
+prices: {currency: USD, electricity_per_kwh: 0.12}
+air_handlers:
+  - id: AHU-7
+    cooling: {kind: dx, rated_eer: 11}
+    reheat: {kind: electric}
+    airflow: {basis: standard}
+    fan: {position: none}
+    target: {max_supply_dewpoint: 52F}
+    points:
+      entering_temp: {column: MAT, unit: F}
+      entering_rh:   {column: MARH, unit: "%"}
+      leaving_temp:  {column: LAT, unit: F}
+      supply_temp:   {column: SAT, unit: F}
+      supply_flow:   {column: CFM, unit: CFM}
+`
+
+func writeScenario(t *testing.T, dir string) (cfg, data string) {
+	t.Helper()
+	cfg = filepath.Join(dir, "site.yaml")
+	require.NoError(t, os.WriteFile(cfg, []byte(analyzeConfig), 0o600))
+	var b strings.Builder
+	b.WriteString("Time,MAT,MARH,LAT,SAT,CFM\n")
+	start := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
+	for m := 0; m < 48*60; m++ {
+		ts := start.Add(time.Duration(m) * time.Minute)
+		day := ts.Hour() >= 8 && ts.Hour() < 20
+		mat, rh, lat := 76.0+math.Sin(float64(m)/90), 60.0, 52.0
+		if !day {
+			rh, lat = 38, 55
+		}
+		fmt.Fprintf(&b, "%s,%.2f,%.1f,%.2f,%.2f,%d\n", ts.Format("2006-01-02 15:04:05"), mat, rh, lat, 62.0, 8000)
+	}
+	data = filepath.Join(dir, "export.csv")
+	require.NoError(t, os.WriteFile(data, []byte(b.String()), 0o600))
+	return cfg, data
+}
+
+func readHourly(t *testing.T, path string) (header []string, rows [][]string) {
+	t.Helper()
+	f, err := os.Open(path)
+	require.NoError(t, err)
+	defer f.Close()
+	all, err := csv.NewReader(f).ReadAll()
+	require.NoError(t, err)
+	return all[0], all[1:]
+}
+
+// TestAnalyze_ExportAndStoreAgree: analysing an export directly and
+// analysing the store after importing it give the same hours, and the
+// hourly file has every documented column.
+func TestAnalyze_ExportAndStoreAgree(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeScenario(t, dir)
+	direct, fromStore := filepath.Join(dir, "direct.csv"), filepath.Join(dir, "store.csv")
+
+	code, out, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data, "--out", direct, "--no-store")
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, out, "AHU-7")
+	assert.Contains(t, out, "engineer of record", "the caution is printed with the figures")
+
+	code, out, errOut = runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, out, "2880 rows read")
+	// Importing again replaces, never duplicates.
+	code, _, errOut = runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, errOut)
+
+	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-16", "--out", fromStore)
+	require.Equal(t, 0, code, errOut)
+
+	h1, r1 := readHourly(t, direct)
+	h2, r2 := readHourly(t, fromStore)
+	assert.Equal(t, h1, h2)
+	for _, name := range metrics.FieldNames() {
+		assert.Contains(t, h1, name)
+	}
+	require.Len(t, r1, 48, "two days from the first to the last export hour")
+	require.Len(t, r2, 48, "2026-07-14..16 in Chicago is 48 hours")
+	for i := range r1 {
+		assert.Equal(t, r1[i], r2[i], "hour %d", i)
+	}
+
+	// The hour 2026-07-14 14:00 CDT (19:00Z) is a humid day hour: the coil
+	// at 52 °F (11.1 °C) leaves air at 95 % RH, a dew point of about
+	// 10.4 °C, below the 52 °F target, and reheat to 62 °F is needed. By the
+	// sensible rule of thumb (common practice, no source) the reheat is
+	// about 1.08 x 8000 CFM x 10 °F = 86,400 Btu/h = 25.3 kWh in the hour.
+	col := map[string]int{}
+	for i, h := range h1 {
+		col[h] = i
+	}
+	var day []string
+	for _, r := range r1 {
+		if r[col["hour_start"]] == "2026-07-14T19:00:00Z" {
+			day = r
+		}
+	}
+	require.NotNil(t, day)
+	reheat, _ := strconv.ParseFloat(day[col["reheat_kwh"]], 64)
+	assert.InEpsilon(t, 25.3, reheat, 0.03)
+	cov, _ := strconv.ParseFloat(day[col["coverage"]], 64)
+	assert.Equal(t, 1.0, cov)
+}
+
+func TestAnalyze_BadInput(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeScenario(t, dir)
+	tests := []struct {
+		name string
+		args []string
+		code int
+		want string
+	}{
+		{"no config", []string{"analyze", "--input", data}, 2, "--config is required"},
+		{"store needs a period", []string{"analyze", "--config", cfg}, 2, "--from and --to are required"},
+		{"bad time", []string{"analyze", "--config", cfg, "--from", "July", "--to", "2026-07-16"}, 2, "is not a time"},
+		{"bad out", []string{"analyze", "--config", cfg, "--input", data, "--out", "x.xlsx"}, 2, ".csv or .json"},
+		{"unknown unit", []string{"analyze", "--config", cfg, "--input", data, "--ahu", "AHU-9"}, 2, `"AHU-9": no such air handler`},
+		{"missing file", []string{"analyze", "--config", cfg, "--input", filepath.Join(dir, "nope.csv")}, 1, "nope.csv"},
+		{"broken config", []string{"analyze", "--config", data, "--input", data}, 1, "export.csv"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			code, _, errOut := runCLI(t, append([]string{"--log-level", "error"}, tt.args...)...)
+			assert.Equal(t, tt.code, code, errOut)
+			assert.Contains(t, errOut, tt.want)
+		})
+	}
+}
+
+func TestCheck_Inputs(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeScenario(t, dir)
+	code, out, errOut := runCLI(t, "check", "--config", cfg, "--input", data)
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, out, "valid; 1 air handler(s), 5 point(s)")
+	assert.Contains(t, out, "wide layout, 2880 rows")
+	assert.Regexp(t, `AHU-7\s+supply_flow\s+CFM\s+CFM\s+2880\s+2026-07-14 00:00\s+2026-07-15 23:59\s+1m0s\s+0.0%`, out)
+	// Declaring the °F column as °C is caught.
+	wrong := filepath.Join(dir, "wrong.yaml")
+	require.NoError(t, os.WriteFile(wrong, bytes.ReplaceAll([]byte(analyzeConfig), []byte("{column: SAT, unit: F}"), []byte("{column: SAT, unit: C}")), 0o600))
+	code, out, _ = runCLI(t, "check", "--config", wrong, "--input", data)
+	require.Equal(t, 0, code)
+	assert.Contains(t, out, "values look like °F, not C")
+}
