@@ -163,4 +163,3 @@ func BenchmarkAnalyzeYear(b *testing.B) {
 		}
 	})
 }
-
