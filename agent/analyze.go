@@ -2,9 +2,13 @@ package agent
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
+	"runtime"
 	"sort"
+	"sync"
+	"sync/atomic"
 	"time"
 
 	"github.com/dewline/dewline/metrics"
@@ -149,9 +153,84 @@ func (an *Analyzer) Run(ctx context.Context, from, to time.Time, ahus []string, 
 	if !from.IsZero() && !to.IsZero() {
 		total = len(ahus) * int(math.Ceil(to.Sub(from).Hours()))
 	}
-	done := 0
-	var failed []HourError
+
+	// Hours are computed by a pool of workers, one per processor, while the
+	// source reads on; results are put back in order, because alert states
+	// run through each air handler's hours in sequence.
+	type job struct {
+		seq int
+		h   *metrics.Hour
+		u   *metrics.Unit
+	}
+	type result struct {
+		seq int
+		h   *metrics.Hour
+		rec metrics.Record
+		err error
+	}
+	workers := max(1, runtime.GOMAXPROCS(0))
+	jobs := make(chan job, 4*workers)
+	results := make(chan result, 4*workers)
+	var wg sync.WaitGroup
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for j := range jobs {
+				rec, err := safeCompute(j.u, j.h)
+				results <- result{seq: j.seq, h: j.h, rec: rec, err: err}
+			}
+		}()
+	}
+	var (
+		failed  []HourError
+		putErr  error
+		stopped atomic.Bool
+		done    = make(chan struct{})
+	)
+	go func() {
+		defer close(done)
+		pending := map[int]result{}
+		next, n := 0, 0
+		for r := range results {
+			pending[r.seq] = r
+			for {
+				r, ok := pending[next]
+				if !ok {
+					break
+				}
+				delete(pending, next)
+				next++
+				if putErr != nil {
+					continue // drain
+				}
+				n++
+				ahu := r.h.AHU
+				if r.err != nil {
+					failed = append(failed, HourError{AHU: ahu, Hour: r.h.Start, Err: r.err})
+					sums[ahu].Failed++
+				} else {
+					state, tr := metrics.Evaluate(rules, params, an.Alerts[ahu], &r.rec)
+					an.Alerts[ahu] = state
+					sums[ahu].add(&r.rec)
+					if put != nil {
+						if err := put(ctx, &r.rec, tr); err != nil {
+							putErr = err
+							stopped.Store(true)
+						}
+					}
+				}
+				if an.Progress != nil {
+					an.Progress(n, total)
+				}
+			}
+		}
+	}()
+	seq := 0
 	err := an.Source.Hours(ctx, ahus, from, to, func(h *metrics.Hour) error {
+		if stopped.Load() {
+			return errStopped
+		}
 		if err := ctx.Err(); err != nil {
 			return err
 		}
@@ -159,29 +238,21 @@ func (an *Analyzer) Run(ctx context.Context, from, to time.Time, ahus []string, 
 		if !ok {
 			return nil
 		}
-		rec, err := safeCompute(u, h)
-		done++
-		if err != nil {
-			failed = append(failed, HourError{AHU: h.AHU, Hour: h.Start, Err: err})
-			sums[h.AHU].Failed++
-			if an.Progress != nil {
-				an.Progress(done, total)
-			}
+		select {
+		case jobs <- job{seq: seq, h: h, u: u}:
+			seq++
 			return nil
+		case <-ctx.Done():
+			return ctx.Err()
 		}
-		state, tr := metrics.Evaluate(rules, params, an.Alerts[h.AHU], &rec)
-		an.Alerts[h.AHU] = state
-		sums[h.AHU].add(&rec)
-		if put != nil {
-			if err := put(ctx, &rec, tr); err != nil {
-				return err
-			}
-		}
-		if an.Progress != nil {
-			an.Progress(done, total)
-		}
-		return nil
 	})
+	close(jobs)
+	wg.Wait()
+	close(results)
+	<-done
+	if errors.Is(err, errStopped) || err == nil && putErr != nil {
+		err = putErr
+	}
 	for id, s := range sums {
 		for _, a := range an.Alerts[id] {
 			s.Alerts = append(s.Alerts, a)
@@ -190,6 +261,9 @@ func (an *Analyzer) Run(ctx context.Context, from, to time.Time, ahus []string, 
 	}
 	return sums, failed, err
 }
+
+// errStopped ends a source's reading once a result could not be put.
+var errStopped = errors.New("analysis stopped")
 
 // safeCompute runs the engine and turns a panic (a bug, or data the engine
 // did not foresee) into an error for that hour alone.
