@@ -28,6 +28,9 @@ type Config struct {
 	Prices      Prices       `yaml:"prices"`
 	Sensors     Sensors      `yaml:"sensors"`
 	Alerts      Alerts       `yaml:"alerts"`
+	Schedule    Schedule     `yaml:"schedule"`
+	HTTP        HTTP         `yaml:"http"`
+	Webhook     *Webhook     `yaml:"webhook"`
 	AirHandlers []AirHandler `yaml:"air_handlers"`
 
 	// Resolved by Parse from the fields above.
@@ -38,6 +41,7 @@ type Config struct {
 
 // Site describes where the air handlers are.
 type Site struct {
+	ID       string `yaml:"id"` // stable id of the site for sharding (default: name)
 	Name     string `yaml:"name"`
 	TimeZone string `yaml:"timezone"` // IANA zone, e.g. America/New_York
 	Altitude string `yaml:"altitude"` // e.g. 15m or 50ft; sets the standard-atmosphere pressure
@@ -75,6 +79,28 @@ type Prices struct {
 	FuelPerKWh             float64 `yaml:"fuel_per_kwh"` // fuel energy (higher heating value)
 	ElectricityCO2KgPerKWh float64 `yaml:"electricity_co2_kg_per_kwh"`
 	FuelCO2KgPerKWh        float64 `yaml:"fuel_co2_kg_per_kwh"`
+}
+
+// Schedule says when "dewline run" evaluates hours.
+type Schedule struct {
+	Cron     string        `yaml:"cron"`     // five-field cron spec in the site's time zone; default "7 * * * *"
+	Lookback time.Duration `yaml:"lookback"` // recent hours re-computed each run for late data; default 3h
+	Backfill time.Duration `yaml:"backfill"` // how far back a fresh or late agent catches up; default 168h
+	Timeout  time.Duration `yaml:"timeout"`  // limit of one run; default 45m
+}
+
+// HTTP is the agent's own endpoint: health, readiness, metrics and the dashboard.
+type HTTP struct {
+	Listen   string `yaml:"listen"`    // host:port; default 127.0.0.1:9470
+	TokenEnv string `yaml:"token_env"` // environment variable with a bearer token required by every page but /healthz
+}
+
+// Webhook is where opened and closed alerts are posted as JSON.
+type Webhook struct {
+	URL       string        `yaml:"url"`
+	SecretEnv string        `yaml:"secret_env"` // environment variable with the HMAC-SHA256 signing secret
+	Timeout   time.Duration `yaml:"timeout"`    // per request; default 10s
+	MaxAge    time.Duration `yaml:"max_age"`    // undelivered events older than this are dropped and counted; default 24h
 }
 
 // Sensors gives the accuracy of the site's sensors as 95 % half-widths of
@@ -227,6 +253,32 @@ func (c *Config) applyDefaults() {
 	if c.Prices.Currency == "" {
 		c.Prices.Currency = "USD"
 	}
+	if c.Schedule.Cron == "" {
+		c.Schedule.Cron = "7 * * * *"
+	}
+	if c.Schedule.Lookback == 0 {
+		c.Schedule.Lookback = 3 * time.Hour
+	}
+	if c.Schedule.Backfill == 0 {
+		c.Schedule.Backfill = 7 * 24 * time.Hour
+	}
+	if c.Schedule.Timeout == 0 {
+		c.Schedule.Timeout = 45 * time.Minute
+	}
+	if c.HTTP.Listen == "" {
+		c.HTTP.Listen = "127.0.0.1:9470"
+	}
+	if c.Webhook != nil {
+		if c.Webhook.Timeout == 0 {
+			c.Webhook.Timeout = 10 * time.Second
+		}
+		if c.Webhook.MaxAge == 0 {
+			c.Webhook.MaxAge = 24 * time.Hour
+		}
+	}
+	if c.Site.ID == "" {
+		c.Site.ID = c.Site.Name
+	}
 	for i := range c.AirHandlers {
 		a := &c.AirHandlers[i]
 		if a.LeavingRH == "" {
@@ -280,6 +332,19 @@ func (ic *InfluxConfig) Token() (string, error) {
 		return strings.TrimSpace(string(b)), nil
 	}
 	return "", nil
+}
+
+// SecretFromEnv reads a secret from the environment variable name; empty
+// name gives an empty secret. Never log the result.
+func SecretFromEnv(key, name string) (string, error) {
+	if name == "" {
+		return "", nil
+	}
+	v, ok := os.LookupEnv(name)
+	if !ok || strings.TrimSpace(v) == "" {
+		return "", fmt.Errorf("%s: environment variable %s is not set", key, name)
+	}
+	return strings.TrimSpace(v), nil
 }
 
 // AirHandler returns the air handler with the given id.

@@ -2,11 +2,13 @@ package agent
 
 import (
 	"fmt"
+	"net"
 	"net/url"
 	"sort"
 	"strings"
 	"time"
 
+	"github.com/robfig/cron/v3"
 	"go.yaml.in/yaml/v3"
 
 	"github.com/dewline/dewline/metrics"
@@ -65,6 +67,7 @@ func (c *Config) validate(ce *ConfigError, root *yaml.Node) {
 	c.validatePrices(v)
 	c.validateSensors(v)
 	c.validateAlerts(v)
+	c.validateSchedule(v)
 	if len(c.AirHandlers) == 0 {
 		v.bad([]any{"air_handlers"}, "no air handlers are configured", "add at least one under air_handlers")
 	}
@@ -448,4 +451,32 @@ func (c *Config) validateAlerts(v *validator) {
 		v.quantity(at(p, "coil_min_leaving"), c.Alerts.CoilMinLeaving, psychro.KindTemperature)
 	}
 	v.accuracy(at(p, "min_coverage"), c.Alerts.MinCoverage, false, 1)
+}
+
+func (c *Config) validateSchedule(v *validator) {
+	p := []any{"schedule"}
+	if _, err := cron.ParseStandard(c.Schedule.Cron); err != nil {
+		v.bad(at(p, "cron"), fmt.Sprintf("%q is not a cron schedule: %v", c.Schedule.Cron, err), "use five fields, e.g. \"7 * * * *\" for seven minutes past every hour")
+	}
+	if c.Schedule.Lookback < 0 || c.Schedule.Lookback > 7*24*time.Hour {
+		v.bad(at(p, "lookback"), fmt.Sprintf("lookback %v must lie between 0 and 168h", c.Schedule.Lookback), "late trend data rarely arrives after a few hours; 3h is typical")
+	}
+	if c.Schedule.Backfill < time.Hour || c.Schedule.Backfill > 3*366*24*time.Hour {
+		v.bad(at(p, "backfill"), fmt.Sprintf("backfill %v must lie between 1h and 3 years", c.Schedule.Backfill), "e.g. 168h (a week) or 720h (a month)")
+	}
+	if c.Schedule.Timeout < time.Minute {
+		v.bad(at(p, "timeout"), fmt.Sprintf("timeout %v is too short", c.Schedule.Timeout), "give a run at least a few minutes, less than the time between runs")
+	}
+	if _, port, err := net.SplitHostPort(c.HTTP.Listen); err != nil || port == "" {
+		v.bad([]any{"http", "listen"}, fmt.Sprintf("%q is not host:port", c.HTTP.Listen), "e.g. 127.0.0.1:9470 (loopback) or 0.0.0.0:9470 with a token")
+	}
+	if w := c.Webhook; w != nil {
+		wp := []any{"webhook"}
+		if u, err := url.Parse(w.URL); err != nil || (u.Scheme != "http" && u.Scheme != "https") || u.Host == "" {
+			v.bad(at(wp, "url"), fmt.Sprintf("%q is not an http(s) URL", w.URL), "give the receiver's URL, e.g. https://alerts.example.org/dewline")
+		}
+		if w.Timeout < 0 || w.MaxAge < 0 {
+			v.bad(wp, "negative durations", "")
+		}
+	}
 }
