@@ -36,6 +36,7 @@ FUZZ_TIME=${DEWLINE_FUZZ_TIME:-10s}
 # Each runs as: go test -run='^$' -fuzz='^FuzzName$' -fuzztime=$FUZZ_TIME PACKAGE
 FUZZ_TARGETS=(
 	"./psychro FuzzState"
+	"./agent FuzzParseConfig"
 )
 
 # setup_extras: set-up that runs just before `go test`; empty for now. Browser
