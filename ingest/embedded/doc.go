@@ -69,6 +69,14 @@
 //	  last_hour_ms INTEGER               last hour the agent completed (its start)
 //	  updated_ms  INTEGER
 //
+//	alert_states  WITHOUT ROWID (schema v2): the agent's alert rule states
+//	  ahu, kind   TEXT PRIMARY KEY (ahu, kind)
+//	  state       TEXT                   JSON (status, hour counters, energy at stake)
+//	  updated_ms  INTEGER
+//
+// Commit writes an air handler's hourly rows, alerts, events, rule states
+// and checkpoint in one transaction.
+//
 // Reading the file by hand, for example:
 //
 //	sqlite3 -readonly dewline.db "

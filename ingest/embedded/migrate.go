@@ -8,7 +8,7 @@ import (
 
 // SchemaVersion is the schema this binary writes and reads: the number of
 // steps in migrations. A file's version is its PRAGMA user_version.
-const SchemaVersion = 1
+const SchemaVersion = 2
 
 // applicationID marks the file as a dewline store in the SQLite header
 // (PRAGMA application_id, bytes 68-71; "dewl" in ASCII), so Open can tell a
@@ -38,7 +38,20 @@ type migration struct {
 // step leaves the file at the previous version, untouched.
 var migrations = []migration{
 	{name: "initial schema", sql: schemaV1},
+	{name: "alert rule states", sql: schemaV2},
 }
+
+// schemaV2 keeps the agent's alert rule states (pending and open alerts with
+// their hour counters) so evaluation continues across restarts.
+const schemaV2 = `
+CREATE TABLE alert_states (
+	ahu        TEXT    NOT NULL,
+	kind       TEXT    NOT NULL,
+	state      TEXT    NOT NULL CHECK (json_valid(state)),
+	updated_ms INTEGER NOT NULL,
+	PRIMARY KEY (ahu, kind)
+) WITHOUT ROWID;
+`
 
 // schemaV1 is described column by column in doc.go. Tables are not STRICT
 // so that sqlite3 builds older than 3.37 can still read the file; the Go

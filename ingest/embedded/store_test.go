@@ -138,12 +138,12 @@ func TestStore_OpenErrors(t *testing.T) {
 				s, err := Open(testCtx(t), path, Options{})
 				require.NoError(t, err)
 				require.NoError(t, s.Close())
-				_, err = plainDB(t, path).Exec("PRAGMA user_version = 2")
+				_, err = plainDB(t, path).Exec(fmt.Sprintf("PRAGMA user_version = %d", SchemaVersion+1))
 				require.NoError(t, err)
 			},
 			opt:     Options{ReadOnly: true},
 			wantErr: ErrSchemaNewer,
-			wantMsg: []string{"v2", "upgrade dewline"},
+			wantMsg: []string{fmt.Sprintf("v%d", SchemaVersion+1), "upgrade dewline"},
 		},
 		{
 			name: "other program's tables",
@@ -248,7 +248,7 @@ func TestStore_Migrations(t *testing.T) {
 		})
 		_, err := open(ctx, path, Options{}, bad)
 		require.Error(t, err)
-		assert.Contains(t, err.Error(), "v1 to v2 (broken)")
+		assert.Contains(t, err.Error(), fmt.Sprintf("v%d to v%d (broken)", SchemaVersion, SchemaVersion+1))
 
 		db := plainDB(t, path)
 		assert.Equal(t, SchemaVersion, pragmaInt(t, db, "user_version"), "the steps before the broken one stay applied")

@@ -1,0 +1,123 @@
+package embedded
+
+import (
+	"context"
+	"database/sql"
+	"encoding/json"
+	"fmt"
+	"time"
+)
+
+// Commit is everything one agent run writes for one air handler.
+type Commit struct {
+	AHU     string
+	Rows    []HourRow
+	Alerts  []AlertRow                 // alerts to insert or replace
+	Events  []AlertEvent               // transitions to deliver; their alerts are in Alerts or stored
+	States  map[string]json.RawMessage // the air handler's alert rule states by kind, replacing all stored ones
+	Through time.Time                  // the new checkpoint: the start of the last hour written
+}
+
+// Commit writes c in one transaction: hourly rows, alerts, events, rule
+// states and the checkpoint all land or none does, so a crash never leaves
+// a checkpoint past unwritten hours or alert events without their hours.
+// A zero Through leaves the checkpoint where it is.
+func (s *Store) Commit(ctx context.Context, c Commit) error {
+	what := fmt.Sprintf("commit %s through %s", quote(c.AHU), c.Through.UTC().Format(time.RFC3339))
+	if c.AHU == "" {
+		return fmt.Errorf("%s: ahu is empty", what)
+	}
+	if !c.Through.IsZero() {
+		if err := checkCheckpointArgs(c.AHU, c.Through); err != nil {
+			return fmt.Errorf("%s: %w", what, err)
+		}
+	}
+	if err := validateHours(c.Rows); err != nil {
+		return fmt.Errorf("%s: %w", what, err)
+	}
+	for _, a := range c.Alerts {
+		if err := a.validate(); err != nil {
+			return fmt.Errorf("%s: alert %s: %w", what, quote(a.ID), err)
+		}
+	}
+	for kind, st := range c.States {
+		if !json.Valid(st) {
+			return fmt.Errorf("%s: state of %s is not valid JSON", what, quote(kind))
+		}
+	}
+	return s.write(ctx, what, func(tx *sql.Tx) error {
+		now := s.nowMs()
+		if err := putHourly(ctx, tx, c.Rows, now); err != nil {
+			return err
+		}
+		for _, a := range c.Alerts {
+			_, err := tx.ExecContext(ctx, `INSERT INTO alerts
+				(id, ahu, kind, severity, state, start_ms, end_ms, energy_kwh, cost, reason, updated_ms)
+				VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
+				ON CONFLICT (id) DO UPDATE SET
+					ahu = excluded.ahu, kind = excluded.kind, severity = excluded.severity,
+					state = excluded.state, start_ms = excluded.start_ms, end_ms = excluded.end_ms,
+					energy_kwh = excluded.energy_kwh, cost = excluded.cost,
+					reason = excluded.reason, updated_ms = excluded.updated_ms`,
+				a.ID, a.AHU, a.Kind, a.Severity, a.State, toMs(a.Start), msOrNull(a.End),
+				floatOrNull(a.EnergyKWh), floatOrNull(a.Cost), a.Reason, now)
+			if err != nil {
+				return fmt.Errorf("put alert %s: %w", quote(a.ID), err)
+			}
+		}
+		for _, e := range c.Events {
+			payload := "{}"
+			if len(e.Payload) > 0 {
+				payload = string(e.Payload)
+			}
+			if _, err := tx.ExecContext(ctx, `INSERT INTO alert_events (alert_id, transition, at_ms, payload, delivered_ms)
+				VALUES (?, ?, ?, ?, NULL)`, e.AlertID, e.Transition, toMs(e.At), payload); err != nil {
+				return fmt.Errorf("append event for %s: %w", quote(e.AlertID), err)
+			}
+		}
+		if c.States != nil {
+			if _, err := tx.ExecContext(ctx, "DELETE FROM alert_states WHERE ahu = ?", c.AHU); err != nil {
+				return fmt.Errorf("replace alert states: %w", err)
+			}
+			for kind, st := range c.States {
+				if _, err := tx.ExecContext(ctx, "INSERT INTO alert_states (ahu, kind, state, updated_ms) VALUES (?, ?, ?, ?)",
+					c.AHU, kind, string(st), now); err != nil {
+					return fmt.Errorf("put alert state %s: %w", quote(kind), err)
+				}
+			}
+		}
+		if c.Through.IsZero() {
+			return nil
+		}
+		var n int
+		if err := tx.QueryRowContext(ctx, "SELECT count(*) FROM hourly WHERE ahu = ? AND hour_ms = ?",
+			c.AHU, toMs(c.Through)).Scan(&n); err != nil {
+			return fmt.Errorf("look up checkpoint hour: %w", err)
+		}
+		if n == 0 {
+			return fmt.Errorf("no hourly row for that hour: %w", ErrCheckpointAhead)
+		}
+		return setCheckpoint(ctx, tx, c.AHU, c.Through, now)
+	})
+}
+
+// AlertStates returns the air handler's stored alert rule states by kind.
+func (s *Store) AlertStates(ctx context.Context, ahu string) (map[string]json.RawMessage, error) {
+	rows, err := s.db.QueryContext(ctx, "SELECT kind, state FROM alert_states WHERE ahu = ? ORDER BY kind", ahu)
+	if err != nil {
+		return nil, fmt.Errorf("read alert states of %s: %w", quote(ahu), err)
+	}
+	out := map[string]json.RawMessage{}
+	for rows.Next() {
+		var kind, st string
+		if err := rows.Scan(&kind, &st); err != nil {
+			_ = rows.Close()
+			return nil, fmt.Errorf("read alert states of %s: %w", quote(ahu), err)
+		}
+		out[kind] = json.RawMessage(st)
+	}
+	if err := rowsDone(rows, nil); err != nil {
+		return nil, fmt.Errorf("read alert states of %s: %w", quote(ahu), err)
+	}
+	return out, nil
+}
