@@ -1,0 +1,235 @@
+package agent
+
+import (
+	"context"
+	"errors"
+	"sort"
+	"sync"
+	"testing"
+	"time"
+
+	"github.com/rs/zerolog"
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/metrics"
+)
+
+// memResults is a fake result store.
+type memResults struct {
+	mu      sync.Mutex
+	cp      map[string]time.Time
+	recs    map[string]map[time.Time]metrics.Record
+	states  map[string]map[string]metrics.Alert
+	events  []metrics.Transition
+	fail    error // every call fails with it while set
+	commits int
+}
+
+func newMemResults() *memResults {
+	return &memResults{cp: map[string]time.Time{}, recs: map[string]map[time.Time]metrics.Record{}, states: map[string]map[string]metrics.Alert{}}
+}
+
+func (m *memResults) Checkpoint(_ context.Context, ahu string) (time.Time, bool, error) {
+	m.mu.Lock()
+	defer m.mu.Unlock()
+	if m.fail != nil {
+		return time.Time{}, false, m.fail
+	}
+	t, ok := m.cp[ahu]
+	return t, ok, nil
+}
+
+func (m *memResults) Commit(_ context.Context, ahu string, recs []metrics.Record, up AlertUpdate, through time.Time) error {
+	m.mu.Lock()
+	defer m.mu.Unlock()
+	if m.fail != nil {
+		return m.fail
+	}
+	if m.recs[ahu] == nil {
+		m.recs[ahu] = map[time.Time]metrics.Record{}
+	}
+	for _, r := range recs {
+		m.recs[ahu][r.HourStart] = r
+	}
+	m.states[ahu] = up.States
+	m.events = append(m.events, up.Transitions...)
+	m.cp[ahu] = through
+	m.commits++
+	return nil
+}
+
+func (m *memResults) AlertStates(_ context.Context, ahu string) (map[string]metrics.Alert, error) {
+	m.mu.Lock()
+	defer m.mu.Unlock()
+	if m.fail != nil {
+		return nil, m.fail
+	}
+	return m.states[ahu], nil
+}
+
+var _ ResultStore = (*memResults)(nil)
+
+// spanSource yields every hour of [from, to) for each air handler, with
+// dry entering air and reheat (so reheat_not_needed fires), or an error.
+type spanSource struct {
+	mu    sync.Mutex
+	err   error
+	panic string // an air handler whose hours make the source panic
+	spans [][2]time.Time
+	late  float64 // added to the supply temperature: a late correction of the data
+}
+
+func (s *spanSource) Hours(ctx context.Context, ahus []string, from, to time.Time, fn func(*metrics.Hour) error) error {
+	s.mu.Lock()
+	s.spans = append(s.spans, [2]time.Time{from, to})
+	err, late := s.err, s.late
+	s.mu.Unlock()
+	if err != nil {
+		return err
+	}
+	for _, a := range ahus {
+		if a == s.panic {
+			panic("corrupt hour")
+		}
+		for h := from; h.Before(to); h = h.Add(time.Hour) {
+			hr := &metrics.Hour{AHU: a, Start: h, Step: time.Minute, Values: map[metrics.Role][]float64{}, Quality: map[metrics.Role]metrics.RoleQuality{}}
+			for r, v := range map[metrics.Role]float64{metrics.RoleEnteringTemp: 25, metrics.RoleEnteringRH: 0.35,
+				metrics.RoleLeavingTemp: 12, metrics.RoleSupplyTemp: 18 + late, metrics.RoleSupplyFlow: 2} {
+				vals := make([]float64, 60)
+				for k := range vals {
+					vals[k] = v + 0.01*float64(k%3)
+				}
+				hr.Values[r] = vals
+			}
+			if err := fn(hr); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}
+
+func runnerConfig(t *testing.T) *Config {
+	t.Helper()
+	cfg, err := LoadConfig("../testdata/config/minimal.good.yaml")
+	require.NoError(t, err)
+	cfg.AirHandlers[0].Reheat.Kind = "electric"
+	b := cfg.AirHandlers[0]
+	b.ID = "AHU-Y"
+	cfg.AirHandlers = append(cfg.AirHandlers, b)
+	cfg.Schedule.Backfill = 48 * time.Hour
+	cfg.Schedule.Lookback = 3 * time.Hour
+	return cfg
+}
+
+func TestRunner_BackfillThenHourly(t *testing.T) {
+	cfg := runnerConfig(t)
+	store, src := newMemResults(), &spanSource{}
+	now := time.Date(2026, 7, 14, 10, 7, 0, 0, time.UTC)
+	r := &Runner{Cfg: cfg, Source: src, Store: store, Clock: func() time.Time { return now }, Log: zerolog.Nop()}
+
+	rep, err := r.RunOnce(context.Background())
+	require.NoError(t, err)
+	slot := time.Date(2026, 7, 14, 9, 0, 0, 0, time.UTC)
+	assert.Equal(t, slot, rep.Slot, "the last complete hour, never the current one")
+	for _, a := range rep.AHUs {
+		require.NoError(t, a.Err)
+		assert.Equal(t, 48, a.Hours, "a fresh agent backfills the horizon")
+		assert.Equal(t, slot, a.Checkpoint)
+		assert.Equal(t, slot.Add(-47*time.Hour), a.From)
+	}
+	assert.Len(t, store.recs["AHU-X"], 48)
+	assert.Equal(t, 2*2, store.commits, "48 hours commit as two days per air handler")
+	opened := 0
+	for _, tr := range store.events {
+		if tr.To == metrics.StatusOpen && tr.Alert.Kind == metrics.AlertReheatNotNeeded {
+			opened++
+		}
+	}
+	assert.Equal(t, 2, opened, "reheat_not_needed opens once per air handler")
+
+	// An hour later: the new hour plus the lookback are computed; no alert
+	// is raised twice and the re-computed hours replace the old ones.
+	now = now.Add(time.Hour)
+	src.late = 0.5
+	before := len(store.events)
+	rep, err = r.RunOnce(context.Background())
+	require.NoError(t, err)
+	for _, a := range rep.AHUs {
+		assert.Equal(t, 3, a.Hours, "lookback of 3 h ending at the new slot")
+		assert.Equal(t, slot.Add(time.Hour), a.Checkpoint)
+	}
+	assert.Len(t, store.recs["AHU-X"], 49, "re-written hours replace, never duplicate")
+	assert.Empty(t, store.events[before:], "no alert is raised twice")
+	// The late correction reached the re-computed hour.
+	old := store.recs["AHU-X"][slot.Add(-time.Hour)]
+	assert.Greater(t, old.ReheatKWh, 0.0)
+
+	// Nothing pending in the same hour.
+	rep, err = r.RunOnce(context.Background())
+	require.NoError(t, err)
+	assert.Equal(t, 3, rep.AHUs[0].Hours, "only the lookback again")
+}
+
+func TestRunner_StoreDownKeepsCheckpoint(t *testing.T) {
+	cfg := runnerConfig(t)
+	store, src := newMemResults(), &spanSource{}
+	now := time.Date(2026, 7, 14, 10, 7, 0, 0, time.UTC)
+	r := &Runner{Cfg: cfg, Source: src, Store: store, Clock: func() time.Time { return now }, Log: zerolog.Nop()}
+	_, err := r.RunOnce(context.Background())
+	require.NoError(t, err)
+	cp := store.cp["AHU-X"]
+
+	// Five hours of outage: the trend store refuses reads.
+	src.err = errors.New("connection refused")
+	for i := 0; i < 5; i++ {
+		now = now.Add(time.Hour)
+		rep, err := r.RunOnce(context.Background())
+		require.Error(t, err, "every air handler failed")
+		assert.Len(t, rep.Failed(), 2)
+		assert.Equal(t, cp, store.cp["AHU-X"], "the checkpoint never moves past an unwritten hour")
+	}
+	// Recovery: every missed hour is computed, oldest first, exactly once.
+	src.err = nil
+	rep, err := r.RunOnce(context.Background())
+	require.NoError(t, err)
+	assert.Equal(t, 5, rep.AHUs[0].Hours, "the five missed hours (the 3 h lookback lies within them)")
+	assert.Equal(t, cp.Add(5*time.Hour), store.cp["AHU-X"])
+	hours := make([]time.Time, 0, len(store.recs["AHU-X"]))
+	for h := range store.recs["AHU-X"] {
+		hours = append(hours, h)
+	}
+	sort.Slice(hours, func(i, j int) bool { return hours[i].Before(hours[j]) })
+	for i := 1; i < len(hours); i++ {
+		assert.Equal(t, time.Hour, hours[i].Sub(hours[i-1]), "no hour missing")
+	}
+}
+
+func TestRunner_OneBrokenAirHandler(t *testing.T) {
+	cfg := runnerConfig(t)
+	store, src := newMemResults(), &spanSource{panic: "AHU-Y"}
+	now := time.Date(2026, 7, 14, 10, 7, 0, 0, time.UTC)
+	r := &Runner{Cfg: cfg, Source: src, Store: store, Clock: func() time.Time { return now }, Log: zerolog.Nop()}
+	rep, err := r.RunOnce(context.Background())
+	require.NoError(t, err, "one air handler failing does not fail the run")
+	failed := rep.Failed()
+	require.Len(t, failed, 1)
+	assert.Equal(t, "AHU-Y", failed[0].AHU)
+	assert.Contains(t, failed[0].Err.Error(), "panic: corrupt hour")
+	assert.Len(t, store.recs["AHU-X"], 48)
+	_, ok := store.cp["AHU-Y"]
+	assert.False(t, ok)
+}
+
+func TestSlot(t *testing.T) {
+	// A run at 02:30 on the night clocks go back in Chicago (2026-11-01,
+	// 01:00-02:00 local happens twice) evaluates whole UTC hours.
+	loc, err := time.LoadLocation("America/Chicago")
+	require.NoError(t, err)
+	first := time.Date(2026, 11, 1, 1, 30, 0, 0, loc) // CDT, 06:30Z
+	second := first.Add(time.Hour)                    // CST, 07:30Z, same wall clock
+	assert.Equal(t, time.Date(2026, 11, 1, 5, 0, 0, 0, time.UTC), Slot(first))
+	assert.Equal(t, time.Date(2026, 11, 1, 6, 0, 0, 0, time.UTC), Slot(second))
+	assert.Equal(t, first.Format("15:04"), second.Format("15:04"))
+}
