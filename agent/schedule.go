@@ -1,0 +1,135 @@
+package agent
+
+import (
+	"context"
+	"fmt"
+	"hash/fnv"
+	"sort"
+	"sync"
+	"sync/atomic"
+	"time"
+
+	"github.com/robfig/cron/v3"
+	"github.com/rs/zerolog"
+)
+
+// Serve runs the runner on the configured cron schedule (in the site's time
+// zone) until ctx ends: once at start to catch up, then at every tick. Runs
+// never overlap: a tick that finds the previous run still going is skipped
+// and counted. Each run gets the configured timeout. When ctx ends, no new
+// run starts; the one in flight has grace to finish, then its context is
+// cancelled: its commits are atomic, so an abandoned run never moves a
+// checkpoint past an unwritten hour.
+func (r *Runner) Serve(ctx context.Context, grace time.Duration) error {
+	sched, err := cron.ParseStandard(r.Cfg.Schedule.Cron)
+	if err != nil {
+		return fmt.Errorf("schedule: %w", err)
+	}
+	// Runs use their own context so that a shutdown can give the one in
+	// flight its grace before cancelling it.
+	runCtx, cancelRuns := context.WithCancel(context.WithoutCancel(ctx))
+	defer cancelRuns()
+	var running atomic.Bool
+	var wg sync.WaitGroup
+	job := func() {
+		if !running.CompareAndSwap(false, true) {
+			r.obs().RunSkipped()
+			r.Log.Warn().Msg("run skipped: the previous run is still going")
+			return
+		}
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			defer running.Store(false)
+			c, cancel := context.WithTimeout(runCtx, r.Cfg.Schedule.Timeout)
+			defer cancel()
+			if _, err := r.RunOnce(c); err != nil {
+				r.Log.Error().Err(err).Msg("run failed")
+			}
+		}()
+	}
+	c := cron.New(cron.WithLocation(r.Cfg.Location), cron.WithLogger(cronLog{r.Log}),
+		cron.WithChain(cron.Recover(cronLog{r.Log})))
+	c.Schedule(sched, cron.FuncJob(job))
+	job() // catch up at start
+	c.Start()
+	r.Log.Info().Str("schedule", r.Cfg.Schedule.Cron).Str("zone", r.Cfg.Location.String()).Time("next", sched.Next(time.Now())).Msg("agent started")
+	<-ctx.Done()
+	stopped := c.Stop() // no new ticks; ticks already started are tracked by wg
+	<-stopped.Done()
+	done := make(chan struct{})
+	go func() { wg.Wait(); close(done) }()
+	select {
+	case <-done:
+	case <-time.After(grace):
+		r.Log.Warn().Dur("grace", grace).Msg("abandoning the run in flight")
+		cancelRuns()
+		<-done
+	}
+	r.Log.Info().Msg("agent stopped")
+	return nil
+}
+
+// cronLog routes the cron library's logging to zerolog.
+type cronLog struct{ l zerolog.Logger }
+
+func (c cronLog) Info(msg string, kv ...any) {
+	c.l.Debug().Fields(kv).Msg("cron " + msg)
+}
+
+func (c cronLog) Error(err error, msg string, kv ...any) {
+	c.l.Error().Err(err).Fields(kv).Msg("cron " + msg)
+}
+
+// Shard is one of N replicas sharing a portfolio; the zero value owns all.
+type Shard struct {
+	Index, Count int
+}
+
+// ParseShard reads "i/n" (0 <= i < n).
+func ParseShard(s string) (Shard, error) {
+	var sh Shard
+	if _, err := fmt.Sscanf(s, "%d/%d", &sh.Index, &sh.Count); err != nil || sh.Count < 1 || sh.Index < 0 || sh.Index >= sh.Count {
+		return Shard{}, fmt.Errorf("shard %q: write it as i/n with 0 <= i < n, e.g. 0/3", s)
+	}
+	return sh, nil
+}
+
+// Owns reports whether this shard takes the air handler ahu of site by
+// rendezvous (highest random weight) hashing: every replica computes the
+// same owner without coordination, and changing n moves only the air
+// handlers whose winning replica changed (about 1/n of them).
+func (sh Shard) Owns(site, ahu string) bool {
+	if sh.Count <= 1 {
+		return true
+	}
+	best, bestScore := -1, uint64(0)
+	for i := 0; i < sh.Count; i++ {
+		h := fnv.New64a()
+		fmt.Fprintf(h, "%s\x00%s\x00%d", site, ahu, i)
+		// fnv alone mixes the low bits poorly for short keys; finish with
+		// the SplitMix64 finaliser.
+		x := h.Sum64()
+		x ^= x >> 30
+		x *= 0xbf58476d1ce4e5b9
+		x ^= x >> 27
+		x *= 0x94d049bb133111eb
+		x ^= x >> 31
+		if best < 0 || x > bestScore {
+			best, bestScore = i, x
+		}
+	}
+	return best == sh.Index
+}
+
+// Owned returns the configuration's air handlers this shard takes, sorted.
+func (sh Shard) Owned(cfg *Config) []string {
+	var out []string
+	for _, a := range cfg.AirHandlers {
+		if sh.Owns(cfg.Site.ID, a.ID) {
+			out = append(out, a.ID)
+		}
+	}
+	sort.Strings(out)
+	return out
+}
