@@ -37,6 +37,7 @@ FUZZ_TIME=${DEWLINE_FUZZ_TIME:-10s}
 FUZZ_TARGETS=(
 	"./psychro FuzzState"
 	"./agent FuzzParseConfig"
+	"./ingest/csvfile FuzzReader"
 )
 
 # setup_extras: set-up that runs just before `go test`; empty for now. Browser
