@@ -38,6 +38,7 @@ FUZZ_TARGETS=(
 	"./psychro FuzzState"
 	"./agent FuzzParseConfig"
 	"./ingest/csvfile FuzzReader"
+	"./ingest/influx FuzzFluxString"
 )
 
 # setup_extras: set-up that runs just before `go test`; empty for now. Browser

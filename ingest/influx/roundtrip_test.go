@@ -1,4 +1,4 @@
-package ingest
+package influx
 
 import (
 	"context"
@@ -6,7 +6,6 @@ import (
 	"net"
 	"os"
 	"strconv"
-	"strings"
 	"testing"
 	"time"
 
@@ -19,7 +18,7 @@ import (
 // and announces through DEWLINE_INFLUX_URL and DEWLINE_INFLUX_DB. Without them
 // the test is skipped on a developer's machine but fails in CI, where a
 // missing server means the harness is broken, not that the test is optional.
-func influxTestServer(t *testing.T) (url, db string) {
+func influxTestServer(t testing.TB) (url, db string) {
 	t.Helper()
 	url = os.Getenv("DEWLINE_INFLUX_URL")
 	db = os.Getenv("DEWLINE_INFLUX_DB")
@@ -75,10 +74,8 @@ func TestInflux_RoundTrip(t *testing.T) {
 		require.NoError(t, write.WritePoint(ctx, p), "write point at %s", s.at)
 	}
 
-	// Flux string literals: escape backslash, quote and interpolation.
-	quote := func(s string) string {
-		return `"` + strings.NewReplacer(`\`, `\\`, `"`, `\"`, `${`, `\${`).Replace(s) + `"`
-	}
+	// Flux string literals through the package's one escaping function.
+	quote := fluxString
 	flux := fmt.Sprintf(`from(bucket: %s)
   |> range(start: %s, stop: %s)
   |> filter(fn: (r) => r._measurement == %s and r.ahu == %s)`,

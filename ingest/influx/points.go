@@ -1,0 +1,145 @@
+package influx
+
+import (
+	"fmt"
+	"slices"
+	"strings"
+	"unicode/utf8"
+
+	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
+)
+
+// location is where one point's values live, ready for a query.
+type location struct {
+	name        string // metrics.PointRef.Name(), for messages
+	measurement string
+	field       string
+	tags        map[string]string
+	keys        []string // tag keys, sorted
+	own         bool     // the point's own location, logged in its unit; else the default location, in SI
+}
+
+// reservedKeys are column names a tag or field key must not take: Flux's
+// own columns, the annotated CSV's result and table, and line protocol's
+// time.
+var reservedKeys = map[string]bool{
+	colMeasurement: true, colField: true, colTime: true, colValue: true, colStart: true, colStop: true,
+	"result": true, "table": true, "time": true,
+}
+
+// locate works out where ref lives and checks that it can be queried.
+//
+// A point with both Measurement and Field set lives there, with its Tags,
+// and is logged in ref.Unit. A point with neither lives at dewline's default
+// location (metrics.DefaultMeasurement, tag point=Name(), field "value"),
+// where "dewline import" writes it in SI. Anything in between is an error
+// rather than a silent fall back to the default location.
+func locate(ref metrics.PointRef) (location, error) {
+	name := ref.Name()
+	fail := func(format string, args ...any) (location, error) {
+		return location{}, fmt.Errorf("point %q: %s: %w", name, fmt.Sprintf(format, args...), ErrInvalidPoint)
+	}
+	switch {
+	case ref.Column == "" && ref.Point == "" && ref.Measurement == "" && ref.Field == "":
+		return fail("it has no column, point name, or measurement and field; give one")
+	case ref.Measurement != "" && ref.Field == "":
+		return fail("measurement %q is set but field is not; an InfluxDB point needs both", ref.Measurement)
+	case ref.Measurement == "" && ref.Field != "":
+		return fail("field %q is set but measurement is not; an InfluxDB point needs both", ref.Field)
+	case ref.Measurement == "" && len(ref.Tags) > 0:
+		return fail("tags are set but measurement and field are not; give all three or none")
+	}
+	m, f, tags := ref.InfluxLocation()
+	loc := location{name: name, measurement: m, field: f, tags: tags, own: ref.Measurement != ""}
+	for k, v := range tags {
+		switch {
+		case k == "":
+			return fail("a tag has an empty key")
+		case reservedKeys[k]:
+			return fail("tag key %q is reserved by Flux; it cannot name a tag", k)
+		case v == "":
+			return fail("tag %q has an empty value; InfluxDB never stores empty tag values, so it would match nothing", k)
+		}
+		loc.keys = append(loc.keys, k)
+	}
+	slices.Sort(loc.keys)
+	return loc, nil
+}
+
+// predicate is the Flux condition selecting the location's series.
+func (l location) predicate() string {
+	var b strings.Builder
+	b.WriteString("r._measurement == ")
+	b.WriteString(fluxString(l.measurement))
+	b.WriteString(" and r._field == ")
+	b.WriteString(fluxString(l.field))
+	for _, k := range l.keys {
+		b.WriteString(" and ")
+		b.WriteString(fluxColumn(k))
+		b.WriteString(" == ")
+		b.WriteString(fluxString(l.tags[k]))
+	}
+	return b.String()
+}
+
+// describe names the location for messages.
+func (l location) describe() string {
+	var b strings.Builder
+	fmt.Fprintf(&b, "measurement %q, field %q", l.measurement, l.field)
+	if len(l.keys) > 0 {
+		b.WriteString(", tags ")
+		for i, k := range l.keys {
+			if i > 0 {
+				b.WriteString(", ")
+			}
+			fmt.Fprintf(&b, "%q=%q", k, l.tags[k])
+		}
+	}
+	return b.String()
+}
+
+// unitFor returns the conversion of a point's logged values to SI, checked
+// before any query: the unit must be known for the kind.
+func unitFor(ref metrics.PointRef, kind psychro.Kind) (psychro.Unit, error) {
+	u, err := psychro.LookupUnit(kind, ref.Unit)
+	if err != nil {
+		return psychro.Unit{}, fmt.Errorf("point %q: %w: %w", ref.Name(), err, ErrInvalidPoint)
+	}
+	return u, nil
+}
+
+// siUnit is the name of the SI unit dewline uses for kind, e.g. "°C".
+func siUnit(kind psychro.Kind) (string, error) {
+	for _, n := range psychro.UnitNames(kind) {
+		u, err := psychro.LookupUnit(kind, n)
+		if err == nil && u.ToSI(0) == 0 && u.ToSI(1) == 1 {
+			return u.Name, nil
+		}
+	}
+	return "", fmt.Errorf("no SI unit for %s: %w", kind, ErrInvalidPoint)
+}
+
+// checkName reports why name cannot be written through line protocol
+// unchanged, or "" when it can. The client library escapes commas, spaces
+// and equals signs but leaves a backslash alone, and InfluxDB stores a tab
+// or line break as the two characters of its escape; so those names would be
+// refused or silently renamed.
+func checkName(name string) string {
+	switch {
+	case name == "":
+		return "is empty"
+	case !utf8.ValidString(name):
+		return "is not valid UTF-8"
+	case strings.ContainsAny(name, "\n\r\t\f"):
+		return "contains a tab or line break, which line protocol cannot carry"
+	case strings.HasSuffix(name, `\`):
+		return "ends with a backslash, which line protocol cannot carry"
+	}
+	for i := 0; i+1 < len(name); i++ {
+		if name[i] == '\\' && strings.IndexByte(`, ="`, name[i+1]) >= 0 {
+			return fmt.Sprintf("has a backslash before %q, which InfluxDB would read as an escape", name[i+1])
+		}
+	}
+	return ""
+}
