@@ -77,6 +77,10 @@ type Options struct {
 	// TimeColumn names the time column (case-insensitive), when its name is
 	// not one of the usual ones or a file has several.
 	TimeColumn string
+	// Year supplies the year of dates written without one ("08/26 14:05",
+	// month and day in the order DayFirst or the data decides), as some
+	// laboratory and controller exports do. 0 reads no such dates.
+	Year int
 }
 
 func (o Options) validate() error {
@@ -92,6 +96,9 @@ func (o Options) validate() error {
 			(d >= '0' && d <= '9') || (d|0x20 >= 'a' && d|0x20 <= 'z') {
 			bad = append(bad, fmt.Sprintf("Delimiter %q cannot separate fields; use ',', ';', '\\t' or '|'", d))
 		}
+	}
+	if o.Year != 0 && (o.Year < minYear || o.Year > maxYear) {
+		bad = append(bad, fmt.Sprintf("Year %d is outside %d..%d", o.Year, minYear, maxYear))
 	}
 	for _, f := range []struct {
 		name string

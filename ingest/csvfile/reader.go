@@ -24,6 +24,7 @@ type Reader struct {
 	timeIdx    int // time column (the clock, when dateIdx >= 0)
 	dateIdx    int // date column when date and clock are apart, else -1
 	form       timeForm
+	yearBuf    []byte // scratch for Options.Year
 	order      dateOrder
 	unixDigits int
 
@@ -392,6 +393,11 @@ func (r *Reader) row() {
 }
 
 func (r *Reader) parseStamp(b []byte) (stamp, bool) {
+	if r.opt.Year != 0 {
+		if nb, ok := addYear(b, r.opt.Year, r.yearBuf); ok {
+			r.yearBuf, b = nb, nb
+		}
+	}
 	switch r.form {
 	case formISO:
 		return parseISO(b)

@@ -319,7 +319,13 @@ func (r *Reader) sniff(head []byte, atEOF bool) (needPass bool, err error) {
 		var cells []cellAt
 		for _, rec := range data {
 			if rec.st == recOK && i < len(rec.fields) {
-				cells = append(cells, cellAt{rec.line, rec.fields[i]})
+				b := rec.fields[i]
+				if r.opt.Year != 0 {
+					if nb, ok := addYear(b, r.opt.Year, nil); ok {
+						b = nb
+					}
+				}
+				cells = append(cells, cellAt{rec.line, b})
 			}
 		}
 		return cells

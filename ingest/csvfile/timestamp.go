@@ -1,5 +1,7 @@
 package csvfile
 
+import "strconv"
+
 // timeForm is the family of timestamps in a file's time column.
 type timeForm uint8
 
@@ -156,6 +158,39 @@ func parseISO(b []byte) (stamp, bool) {
 	st.nsec = nsec
 	st.off, st.hasOff, ok = scanZone(rest)
 	return st, ok
+}
+
+// addYear rewrites a date written without a year, "a/b hh:mm", into
+// "a/b/yyyy hh:mm" in buf, so the year-last parser reads it. It reports
+// false, leaving b alone, when b is not such a date.
+func addYear(b []byte, year int, buf []byte) ([]byte, bool) {
+	i := 0
+	digits := func() int {
+		n := 0
+		for i < len(b) && n < 3 && b[i]-'0' <= 9 {
+			i++
+			n++
+		}
+		return n
+	}
+	if n := digits(); n < 1 || n > 2 || i >= len(b) {
+		return b, false
+	}
+	sep := b[i]
+	if sep != '/' && sep != '.' && sep != '-' {
+		return b, false
+	}
+	i++
+	if n := digits(); n < 1 || n > 2 {
+		return b, false
+	}
+	if i < len(b) && (b[i] == sep || b[i]-'0' <= 9) {
+		return b, false // it has a year, or is something else
+	}
+	buf = append(buf[:0], b[:i]...)
+	buf = append(buf, sep)
+	buf = strconv.AppendInt(buf, int64(year), 10)
+	return append(buf, b[i:]...), true
 }
 
 // yearLast holds the parts of a year-last date before the order is known.
