@@ -31,6 +31,7 @@ type Config struct {
 	Schedule    Schedule     `yaml:"schedule"`
 	HTTP        HTTP         `yaml:"http"`
 	Webhook     *Webhook     `yaml:"webhook"`
+	Exports     Exports      `yaml:"exports"`
 	AirHandlers []AirHandler `yaml:"air_handlers"`
 
 	// Resolved by Parse from the fields above.
@@ -79,6 +80,17 @@ type Prices struct {
 	FuelPerKWh             float64 `yaml:"fuel_per_kwh"` // fuel energy (higher heating value)
 	ElectricityCO2KgPerKWh float64 `yaml:"electricity_co2_kg_per_kwh"`
 	FuelCO2KgPerKWh        float64 `yaml:"fuel_co2_kg_per_kwh"`
+}
+
+// Exports overrides what is detected in CSV trend exports, for files whose
+// format cannot be told from the data.
+type Exports struct {
+	Layout       string `yaml:"layout"`        // wide or long (default: detected)
+	Delimiter    string `yaml:"delimiter"`     // ",", ";", "tab" or "|" (default: detected)
+	DecimalComma string `yaml:"decimal_comma"` // yes or no (default: detected)
+	DayFirst     string `yaml:"day_first"`     // yes or no, for dates like 04/07/2026 (default: detected)
+	TimeColumn   string `yaml:"time_column"`   // name of the time column (default: detected)
+	Year         int    `yaml:"year"`          // year of dates written without one ("08/26 14:05")
 }
 
 // Schedule says when "dewline run" evaluates hours.

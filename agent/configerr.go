@@ -138,7 +138,7 @@ var configTypes = map[string]reflect.Type{
 	"agent.Reheat": reflect.TypeOf(Reheat{}), "agent.Airflow": reflect.TypeOf(Airflow{}),
 	"agent.Fan": reflect.TypeOf(Fan{}), "agent.Target": reflect.TypeOf(Target{}),
 	"agent.Sensors": reflect.TypeOf(Sensors{}), "agent.Alerts": reflect.TypeOf(Alerts{}),
-	"agent.Schedule": reflect.TypeOf(Schedule{}), "agent.HTTP": reflect.TypeOf(HTTP{}), "agent.Webhook": reflect.TypeOf(Webhook{}),
+	"agent.Exports": reflect.TypeOf(Exports{}), "agent.Schedule": reflect.TypeOf(Schedule{}), "agent.HTTP": reflect.TypeOf(HTTP{}), "agent.Webhook": reflect.TypeOf(Webhook{}),
 	"metrics.PointRef": reflect.TypeOf(metrics.PointRef{}),
 }
 

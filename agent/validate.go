@@ -68,6 +68,7 @@ func (c *Config) validate(ce *ConfigError, root *yaml.Node) {
 	c.validateSensors(v)
 	c.validateAlerts(v)
 	c.validateSchedule(v)
+	c.validateExports(v)
 	if len(c.AirHandlers) == 0 {
 		v.bad([]any{"air_handlers"}, "no air handlers are configured", "add at least one under air_handlers")
 	}
@@ -238,7 +239,7 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 			v.bad(at(rp, "unit"), fmt.Sprintf("%q is not a unit of %s", ref.Unit, spec.Kind), "use one of "+strings.Join(psychro.UnitNames(spec.Kind), ", "))
 		}
 		key := ref.Name()
-		if other, dup := seen[key]; dup {
+		if other, dup := seen[key]; dup && !sameSensorAllowed(other, r) {
 			v.bad(rp, fmt.Sprintf("the point %q is also mapped to %s", key, other), "each role needs its own point; remove one mapping")
 		} else {
 			seen[key] = r
@@ -478,5 +479,35 @@ func (c *Config) validateSchedule(v *validator) {
 		if w.Timeout < 0 || w.MaxAge < 0 {
 			v.bad(wp, "negative durations", "")
 		}
+	}
+}
+
+// sameSensorAllowed: a unit without reheat often has one discharge sensor,
+// which is both the coil leaving and the supply temperature.
+func sameSensorAllowed(a, b string) bool {
+	pair := map[string]bool{a: true, b: true}
+	return pair[string(metrics.RoleLeavingTemp)] && pair[string(metrics.RoleSupplyTemp)]
+}
+
+func (c *Config) validateExports(v *validator) {
+	p := []any{"exports"}
+	e := c.Exports
+	oneOf := func(key, val string, allowed ...string) {
+		if val == "" {
+			return
+		}
+		for _, a := range allowed {
+			if val == a {
+				return
+			}
+		}
+		v.bad(at(p, key), fmt.Sprintf("%q is not allowed", val), "use "+strings.Join(allowed, ", ")+" or leave it out to detect it")
+	}
+	oneOf("layout", e.Layout, "wide", "long")
+	oneOf("delimiter", e.Delimiter, ",", ";", "tab", "|")
+	oneOf("decimal_comma", e.DecimalComma, "yes", "no")
+	oneOf("day_first", e.DayFirst, "yes", "no")
+	if e.Year != 0 && (e.Year < 1900 || e.Year > 2199) {
+		v.bad(at(p, "year"), fmt.Sprintf("year %d is not plausible", e.Year), "give the year the export was logged in, e.g. 2026")
 	}
 }

@@ -116,7 +116,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	var storeSrc *ingest.StoreHours
 	var recSrc *ingest.RecordHours
 	if len(inputs) > 0 {
-		files, err = csvfile.OpenFiles(inputs, csvfile.Options{Location: cfg.Location})
+		files, err = csvfile.OpenFiles(inputs, csvOptions(cfg))
 		if err != nil {
 			return err
 		}

@@ -137,7 +137,7 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 		checks[name] = newPointCheck(name, ts)
 	}
 	if len(inputs) > 0 {
-		files, err := csvfile.OpenFiles(inputs, csvfile.Options{Location: cfg.Location})
+		files, err := csvfile.OpenFiles(inputs, csvOptions(cfg))
 		if err != nil {
 			return err
 		}

@@ -126,7 +126,7 @@ func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, st *
 		size = fi.Size()
 	}
 	cr := &countingReader{r: f}
-	r, err := csvfile.NewReader(cr, path, csvfile.Options{Location: cfg.Location})
+	r, err := csvfile.NewReader(cr, path, csvOptions(cfg))
 	if err != nil {
 		return s, err
 	}

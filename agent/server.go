@@ -1,0 +1,314 @@
+package agent
+
+import (
+	"context"
+	"crypto/sha256"
+	"crypto/subtle"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"log"
+	"net"
+	"net/http"
+	"strings"
+	"sync"
+	"time"
+
+	"github.com/rs/zerolog"
+)
+
+// ErrInsecureListen is returned by NewServer for an address other than
+// loopback without a bearer token.
+var ErrInsecureListen = errors.New("listening beyond loopback needs a bearer token")
+
+// ServerOptions configures the agent's HTTP endpoint.
+type ServerOptions struct {
+	// Listen is host:port; port 0 picks a free port (see Server.Addr).
+	Listen string
+	// BearerToken, when set, is required by every route but /healthz as
+	// "Authorization: Bearer <token>". It is required for an address other
+	// than loopback. It is a secret: it never reaches logs or errors.
+	BearerToken string
+	// Telemetry backs /readyz and /metrics; required.
+	Telemetry *Telemetry
+	// Pages is the dashboard, mounted at / when not nil.
+	Pages http.Handler
+	Log   zerolog.Logger
+}
+
+// Server is the agent's HTTP endpoint:
+//
+//	/healthz  liveness: 200 "ok" while the process serves; never needs the token
+//	/readyz   readiness as JSON (Telemetry.Readiness): 200 when ready, degraded
+//	          air handlers listed in the body; 503 when the store is down or
+//	          unchecked or the last run failed
+//	/metrics  the Prometheus exposition of Telemetry
+//	/         the dashboard, when ServerOptions.Pages is set
+//
+// Every response carries security headers (no sniffing, no framing, no
+// referrer, a same-origin Content-Security-Policy) and, unless the page sets
+// its own, Cache-Control: no-store.
+type Server struct {
+	opt     ServerOptions
+	log     zerolog.Logger
+	srv     *http.Server
+	tokenH  [sha256.Size]byte // hash of the token, compared in constant time
+	mu      sync.Mutex
+	ln      net.Listener
+	served  chan struct{} // closed when Serve returns
+	started bool
+}
+
+// Server timeouts: the endpoint serves small pages to a browser or a
+// scraper, so slow clients are cut off early.
+const (
+	serverReadHeaderTimeout = 5 * time.Second
+	serverReadTimeout       = 10 * time.Second
+	serverWriteTimeout      = 30 * time.Second
+	serverIdleTimeout       = 60 * time.Second
+	serverMaxHeaderBytes    = 16 << 10
+)
+
+// contentSecurityPolicy allows the dashboard its own scripts, styles, images
+// (and data: images for inline charts) and nothing from elsewhere; it may
+// not be framed, nor post forms elsewhere.
+const contentSecurityPolicy = "default-src 'self'; script-src 'self'; style-src 'self'; img-src 'self' data:; " +
+	"object-src 'none'; base-uri 'none'; form-action 'self'; frame-ancestors 'none'"
+
+// NewServer checks the options and builds the server; Start listens.
+func NewServer(opt ServerOptions) (*Server, error) {
+	if opt.Telemetry == nil {
+		return nil, errors.New("http server: telemetry is required")
+	}
+	host, _, err := net.SplitHostPort(opt.Listen)
+	if err != nil {
+		return nil, fmt.Errorf("http.listen %q: want host:port, e.g. 127.0.0.1:9470: %w", opt.Listen, err)
+	}
+	if opt.BearerToken == "" && !isLoopback(host) {
+		return nil, fmt.Errorf("http.listen %q: %w: set http.token_env to an environment variable holding a token, or listen on 127.0.0.1", opt.Listen, ErrInsecureListen)
+	}
+	s := &Server{opt: opt, log: opt.Log.With().Str("component", "http").Logger()}
+	if opt.BearerToken != "" {
+		s.tokenH = sha256.Sum256([]byte(opt.BearerToken))
+	}
+	s.srv = &http.Server{
+		Handler:           s.handler(),
+		ReadHeaderTimeout: serverReadHeaderTimeout,
+		ReadTimeout:       serverReadTimeout,
+		WriteTimeout:      serverWriteTimeout,
+		IdleTimeout:       serverIdleTimeout,
+		MaxHeaderBytes:    serverMaxHeaderBytes,
+		ErrorLog:          log.New(serverErrorLog{s.log}, "", 0),
+	}
+	return s, nil
+}
+
+// isLoopback reports whether host names only loopback interfaces. An empty
+// host or a wildcard (0.0.0.0, ::) listens on every interface; other names
+// are not resolved, because what they resolve to can change.
+func isLoopback(host string) bool {
+	if strings.EqualFold(host, "localhost") {
+		return true
+	}
+	ip := net.ParseIP(host)
+	return ip != nil && ip.IsLoopback()
+}
+
+// Start listens and serves in the background. It returns at once, with the
+// error when the address cannot be bound.
+func (s *Server) Start() error {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	if s.started {
+		return errors.New("http server: already started")
+	}
+	ln, err := net.Listen("tcp", s.opt.Listen)
+	if err != nil {
+		return fmt.Errorf("http server: listen on %s: %w", s.opt.Listen, err)
+	}
+	s.ln, s.started, s.served = ln, true, make(chan struct{})
+	go func() {
+		defer close(s.served)
+		if err := s.srv.Serve(ln); err != nil && !errors.Is(err, http.ErrServerClosed) {
+			s.log.Error().Err(err).Msg("http server stopped")
+		}
+	}()
+	s.log.Info().Str("addr", ln.Addr().String()).Bool("auth", s.opt.BearerToken != "").Msg("http server listening")
+	return nil
+}
+
+// Addr returns the address the server listens on, or "" before Start.
+func (s *Server) Addr() string {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	if s.ln == nil {
+		return ""
+	}
+	return s.ln.Addr().String()
+}
+
+// Shutdown stops accepting connections, waits for requests in flight until
+// ctx ends, and waits for the serving goroutine. It is a no-op before Start.
+func (s *Server) Shutdown(ctx context.Context) error {
+	s.mu.Lock()
+	started, served := s.started, s.served
+	s.mu.Unlock()
+	if !started {
+		return nil
+	}
+	err := s.srv.Shutdown(ctx)
+	if err != nil {
+		_ = s.srv.Close() // the deadline passed: drop the rest
+	}
+	select {
+	case <-served:
+	case <-ctx.Done():
+	}
+	if err != nil {
+		return fmt.Errorf("http server: shut down: %w", err)
+	}
+	return nil
+}
+
+func (s *Server) handler() http.Handler {
+	mux := http.NewServeMux()
+	mux.Handle("/healthz", onlyGet(http.HandlerFunc(func(w http.ResponseWriter, _ *http.Request) {
+		w.Header().Set("Content-Type", "text/plain; charset=utf-8")
+		_, _ = w.Write([]byte("ok\n"))
+	})))
+	mux.Handle("/readyz", onlyGet(http.HandlerFunc(s.readyz)))
+	mux.Handle("/metrics", onlyGet(s.opt.Telemetry.Handler()))
+	if s.opt.Pages != nil {
+		mux.Handle("/", s.opt.Pages)
+	}
+	return s.secure(s.logRequests(s.authorize(mux)))
+}
+
+func (s *Server) readyz(w http.ResponseWriter, _ *http.Request) {
+	r := s.opt.Telemetry.Readiness()
+	body, err := json.Marshal(r)
+	if err != nil { // plain strings and bools: cannot happen
+		http.Error(w, "encode readiness", http.StatusInternalServerError)
+		return
+	}
+	w.Header().Set("Content-Type", "application/json")
+	if r.Status == ReadinessUnready {
+		w.WriteHeader(http.StatusServiceUnavailable)
+	}
+	_, _ = w.Write(append(body, '\n'))
+}
+
+// onlyGet answers 405 to methods other than GET and HEAD.
+func onlyGet(h http.Handler) http.Handler {
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		if r.Method != http.MethodGet && r.Method != http.MethodHead {
+			w.Header().Set("Allow", "GET, HEAD")
+			http.Error(w, "method not allowed", http.StatusMethodNotAllowed)
+			return
+		}
+		h.ServeHTTP(w, r)
+	})
+}
+
+// secure sets the security headers on every response. Cache-Control is set
+// first so a page that may be cached (a static asset of the dashboard) can
+// replace it.
+func (s *Server) secure(h http.Handler) http.Handler {
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		hd := w.Header()
+		hd.Set("X-Content-Type-Options", "nosniff")
+		hd.Set("X-Frame-Options", "DENY")
+		hd.Set("Referrer-Policy", "no-referrer")
+		hd.Set("Content-Security-Policy", contentSecurityPolicy)
+		hd.Set("Cross-Origin-Opener-Policy", "same-origin")
+		hd.Set("Cross-Origin-Resource-Policy", "same-origin")
+		hd.Set("Cache-Control", "no-store")
+		h.ServeHTTP(w, r)
+	})
+}
+
+// authorize requires the bearer token on every path but /healthz, when a
+// token is set. The presented token and the expected one are hashed before
+// the constant-time compare so that neither their contents nor their
+// lengths show in the timing.
+func (s *Server) authorize(h http.Handler) http.Handler {
+	if s.opt.BearerToken == "" {
+		return h
+	}
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		if r.URL.Path == "/healthz" {
+			h.ServeHTTP(w, r)
+			return
+		}
+		scheme, token, found := strings.Cut(r.Header.Get("Authorization"), " ")
+		if !found || !strings.EqualFold(scheme, "Bearer") {
+			w.Header().Set("WWW-Authenticate", `Bearer realm="dewline"`)
+			http.Error(w, "unauthorized: send Authorization: Bearer <token>", http.StatusUnauthorized)
+			return
+		}
+		got := sha256.Sum256([]byte(strings.TrimSpace(token)))
+		if subtle.ConstantTimeCompare(got[:], s.tokenH[:]) != 1 {
+			w.Header().Set("WWW-Authenticate", `Bearer realm="dewline", error="invalid_token"`)
+			http.Error(w, "unauthorized: wrong token", http.StatusUnauthorized)
+			return
+		}
+		h.ServeHTTP(w, r)
+	})
+}
+
+// logRequests logs each request at debug level: method, path, status,
+// size, duration and peer. It logs no header (Authorization least of all)
+// and no query string.
+func (s *Server) logRequests(h http.Handler) http.Handler {
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		if s.log.GetLevel() > zerolog.DebugLevel {
+			h.ServeHTTP(w, r)
+			return
+		}
+		start := time.Now()
+		rec := &statusRecorder{ResponseWriter: w, status: http.StatusOK}
+		h.ServeHTTP(rec, r)
+		s.log.Debug().
+			Str("method", r.Method).
+			Str("path", r.URL.Path).
+			Int("status", rec.status).
+			Int64("bytes", rec.bytes).
+			Dur("duration", time.Since(start)).
+			Str("remote", r.RemoteAddr).
+			Msg("http request")
+	})
+}
+
+// statusRecorder notes the status and size of a response.
+type statusRecorder struct {
+	http.ResponseWriter
+	status int
+	bytes  int64
+	wrote  bool
+}
+
+func (r *statusRecorder) WriteHeader(code int) {
+	if !r.wrote {
+		r.status, r.wrote = code, true
+	}
+	r.ResponseWriter.WriteHeader(code)
+}
+
+func (r *statusRecorder) Write(b []byte) (int, error) {
+	r.wrote = true
+	n, err := r.ResponseWriter.Write(b)
+	r.bytes += int64(n)
+	return n, err
+}
+
+// Unwrap lets http.ResponseController reach the underlying writer.
+func (r *statusRecorder) Unwrap() http.ResponseWriter { return r.ResponseWriter }
+
+// serverErrorLog sends net/http's own messages (bad handshakes, accept
+// errors) to the component logger at warn level.
+type serverErrorLog struct{ log zerolog.Logger }
+
+func (l serverErrorLog) Write(p []byte) (int, error) {
+	l.log.Warn().Str("detail", strings.TrimSpace(string(p))).Msg("http server problem")
+	return len(p), nil
+}

@@ -1,0 +1,317 @@
+package agent
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"errors"
+	"io"
+	"net"
+	"net/http"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"github.com/rs/zerolog"
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+)
+
+// syncBuffer is a log sink safe for the server's goroutines.
+type syncBuffer struct {
+	mu sync.Mutex
+	b  bytes.Buffer
+}
+
+func (s *syncBuffer) Write(p []byte) (int, error) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.Write(p)
+}
+
+func (s *syncBuffer) String() string {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.String()
+}
+
+// startServer starts a server on a free loopback port and stops it when the
+// test ends.
+func startServer(t *testing.T, opt ServerOptions) (*Server, string) {
+	t.Helper()
+	if opt.Listen == "" {
+		opt.Listen = "127.0.0.1:0"
+	}
+	s, err := NewServer(opt)
+	require.NoError(t, err)
+	require.NoError(t, s.Start())
+	t.Cleanup(func() {
+		ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
+		defer cancel()
+		assert.NoError(t, s.Shutdown(ctx))
+	})
+	return s, "http://" + s.Addr()
+}
+
+// get makes a request with an optional Authorization header.
+func get(t *testing.T, method, url, auth string) (*http.Response, string) {
+	t.Helper()
+	req, err := http.NewRequest(method, url, nil)
+	require.NoError(t, err)
+	if auth != "" {
+		req.Header.Set("Authorization", auth)
+	}
+	resp, err := http.DefaultClient.Do(req)
+	require.NoError(t, err)
+	defer resp.Body.Close()
+	b, err := io.ReadAll(resp.Body)
+	require.NoError(t, err)
+	return resp, string(b)
+}
+
+func TestServer_Routes(t *testing.T) {
+	tel := NewTelemetry()
+	pages := http.HandlerFunc(func(w http.ResponseWriter, _ *http.Request) { _, _ = io.WriteString(w, "dashboard") })
+	_, base := startServer(t, ServerOptions{Telemetry: tel, Pages: pages, Log: zerolog.Nop()})
+
+	resp, body := get(t, http.MethodGet, base+"/healthz", "")
+	assert.Equal(t, http.StatusOK, resp.StatusCode)
+	assert.Equal(t, "ok", strings.TrimSpace(body))
+
+	// Not ready until the store has been checked.
+	resp, body = get(t, http.MethodGet, base+"/readyz", "")
+	assert.Equal(t, http.StatusServiceUnavailable, resp.StatusCode)
+	assert.Equal(t, "application/json", resp.Header.Get("Content-Type"))
+	var r Readiness
+	require.NoError(t, json.Unmarshal([]byte(body), &r))
+	assert.Equal(t, ReadinessUnready, r.Status)
+
+	// Ready, with one air handler skipped: 200 and the air handler listed.
+	tel.SetStoreUp(true, "")
+	tel.SetConfigProblem("ahu-2", "no supply_flow point")
+	resp, body = get(t, http.MethodGet, base+"/readyz", "")
+	assert.Equal(t, http.StatusOK, resp.StatusCode)
+	var raw map[string]any
+	require.NoError(t, json.Unmarshal([]byte(body), &raw))
+	assert.Equal(t, "degraded", raw["status"])
+	assert.Equal(t, []any{map[string]any{"ahu": "ahu-2", "reason": "no supply_flow point"}}, raw["degraded_ahus"])
+
+	// Store down: 503 with the reason.
+	tel.SetStoreUp(false, "connection refused")
+	resp, body = get(t, http.MethodGet, base+"/readyz", "")
+	assert.Equal(t, http.StatusServiceUnavailable, resp.StatusCode)
+	assert.Contains(t, body, "store down: connection refused")
+
+	// Counters move on /metrics.
+	before := parseExposition(t, func() string { _, b := get(t, http.MethodGet, base+"/metrics", ""); return b }())
+	runs0, _ := sample(before, "dewline_runs_total")
+	tel.RunStarted()
+	tel.RunFinished(time.Second, nil)
+	tel.HoursComputed("ahu-1", 4)
+	resp, body = get(t, http.MethodGet, base+"/metrics", "")
+	require.Equal(t, http.StatusOK, resp.StatusCode)
+	after := parseExposition(t, body)
+	runs1, ok := sample(after, "dewline_runs_total")
+	require.True(t, ok)
+	assert.Equal(t, runs0+1, runs1)
+	hours, ok := sample(after, "dewline_hours_computed_total", "ahu", "ahu-1")
+	require.True(t, ok)
+	assert.Equal(t, 4.0, hours)
+	up, _ := sample(after, "dewline_store_up")
+	assert.Equal(t, 0.0, up)
+
+	resp, body = get(t, http.MethodGet, base+"/", "")
+	assert.Equal(t, http.StatusOK, resp.StatusCode)
+	assert.Equal(t, "dashboard", body)
+
+	resp, _ = get(t, http.MethodPost, base+"/healthz", "")
+	assert.Equal(t, http.StatusMethodNotAllowed, resp.StatusCode)
+}
+
+func TestServer_NoPages(t *testing.T) {
+	_, base := startServer(t, ServerOptions{Telemetry: NewTelemetry(), Log: zerolog.Nop()})
+	resp, _ := get(t, http.MethodGet, base+"/", "")
+	assert.Equal(t, http.StatusNotFound, resp.StatusCode)
+}
+
+func TestServer_Auth(t *testing.T) {
+	const token = "s3cret-token-for-tests"
+	tel := NewTelemetry()
+	tel.SetStoreUp(true, "")
+	pages := http.HandlerFunc(func(w http.ResponseWriter, _ *http.Request) { _, _ = io.WriteString(w, "dashboard") })
+	_, base := startServer(t, ServerOptions{Telemetry: tel, BearerToken: token, Pages: pages, Log: zerolog.Nop()})
+
+	tests := []struct {
+		name      string
+		path      string
+		auth      string
+		want      int
+		challenge string // WWW-Authenticate expected on a 401
+	}{
+		{"healthz without token", "/healthz", "", http.StatusOK, ""},
+		{"healthz with wrong token", "/healthz", "Bearer nope", http.StatusOK, ""},
+		{"metrics without token", "/metrics", "", http.StatusUnauthorized, `Bearer realm="dewline"`},
+		{"readyz without token", "/readyz", "", http.StatusUnauthorized, `Bearer realm="dewline"`},
+		{"pages without token", "/", "", http.StatusUnauthorized, `Bearer realm="dewline"`},
+		{"wrong token", "/metrics", "Bearer " + token + "x", http.StatusUnauthorized, `Bearer realm="dewline", error="invalid_token"`},
+		{"prefix of token", "/metrics", "Bearer " + token[:5], http.StatusUnauthorized, `Bearer realm="dewline", error="invalid_token"`},
+		{"empty bearer", "/metrics", "Bearer ", http.StatusUnauthorized, `Bearer realm="dewline"`},
+		{"basic scheme", "/metrics", "Basic " + token, http.StatusUnauthorized, `Bearer realm="dewline"`},
+		{"token without scheme", "/metrics", token, http.StatusUnauthorized, `Bearer realm="dewline"`},
+		{"right token", "/metrics", "Bearer " + token, http.StatusOK, ""},
+		{"scheme in lower case", "/readyz", "bearer " + token, http.StatusOK, ""},
+		{"pages with token", "/", "Bearer " + token, http.StatusOK, ""},
+		{"unclean healthz path", "/./healthz", "", http.StatusUnauthorized, `Bearer realm="dewline"`},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			resp, body := get(t, http.MethodGet, base+tt.path, tt.auth)
+			assert.Equal(t, tt.want, resp.StatusCode)
+			assert.Equal(t, tt.challenge, resp.Header.Get("WWW-Authenticate"))
+			assert.NotContains(t, body, token)
+		})
+	}
+}
+
+func TestServer_Listen(t *testing.T) {
+	tests := []struct {
+		name   string
+		listen string
+		token  string
+		ok     bool
+	}{
+		{"loopback v4", "127.0.0.1:0", "", true},
+		{"loopback v6", "[::1]:0", "", true},
+		{"localhost", "localhost:0", "", true},
+		{"all interfaces", "0.0.0.0:9470", "", false},
+		{"empty host", ":9470", "", false},
+		{"all v6 interfaces", "[::]:9470", "", false},
+		{"lan address", "192.0.2.10:9470", "", false},
+		{"host name", "dewline.example:9470", "", false},
+		{"all interfaces with token", "0.0.0.0:9470", "t0ken", true},
+		{"lan address with token", "192.0.2.10:9470", "t0ken", true},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			// Only built, never started: tests listen on loopback only.
+			_, err := NewServer(ServerOptions{Listen: tt.listen, BearerToken: tt.token, Telemetry: NewTelemetry(), Log: zerolog.Nop()})
+			if tt.ok {
+				assert.NoError(t, err)
+				return
+			}
+			require.Error(t, err)
+			assert.ErrorIs(t, err, ErrInsecureListen)
+			assert.Contains(t, err.Error(), "http.token_env")
+		})
+	}
+
+	bad := []struct{ name, listen string }{{"no port", "127.0.0.1"}, {"empty", ""}}
+	for _, tt := range bad {
+		t.Run(tt.name, func(t *testing.T) {
+			_, err := NewServer(ServerOptions{Listen: tt.listen, Telemetry: NewTelemetry(), Log: zerolog.Nop()})
+			require.Error(t, err)
+			assert.Contains(t, err.Error(), "http.listen")
+		})
+	}
+
+	t.Run("no telemetry", func(t *testing.T) {
+		_, err := NewServer(ServerOptions{Listen: "127.0.0.1:0", Log: zerolog.Nop()})
+		assert.Error(t, err)
+	})
+}
+
+func TestServer_StartBindError(t *testing.T) {
+	taken, err := net.Listen("tcp", "127.0.0.1:0")
+	require.NoError(t, err)
+	defer taken.Close()
+	s, err := NewServer(ServerOptions{Listen: taken.Addr().String(), Telemetry: NewTelemetry(), Log: zerolog.Nop()})
+	require.NoError(t, err)
+	err = s.Start()
+	require.Error(t, err)
+	assert.Contains(t, err.Error(), taken.Addr().String())
+	assert.Empty(t, s.Addr())
+	assert.NoError(t, s.Shutdown(context.Background()), "shutdown of a server that never started")
+}
+
+func TestServer_SecurityHeaders(t *testing.T) {
+	const token = "hdr-token"
+	pages := http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		if r.URL.Path == "/static/app.css" {
+			w.Header().Set("Cache-Control", "max-age=3600")
+		}
+		_, _ = io.WriteString(w, "page")
+	})
+	_, base := startServer(t, ServerOptions{Telemetry: NewTelemetry(), BearerToken: token, Pages: pages, Log: zerolog.Nop()})
+
+	tests := []struct {
+		name  string
+		path  string
+		auth  string
+		want  int
+		cache string
+	}{
+		{"healthz", "/healthz", "", http.StatusOK, "no-store"},
+		{"readyz", "/readyz", "Bearer " + token, http.StatusServiceUnavailable, "no-store"},
+		{"metrics", "/metrics", "Bearer " + token, http.StatusOK, "no-store"},
+		{"unauthorized", "/metrics", "", http.StatusUnauthorized, "no-store"},
+		{"page", "/", "Bearer " + token, http.StatusOK, "no-store"},
+		{"asset sets its own caching", "/static/app.css", "Bearer " + token, http.StatusOK, "max-age=3600"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			resp, _ := get(t, http.MethodGet, base+tt.path, tt.auth)
+			require.Equal(t, tt.want, resp.StatusCode)
+			h := resp.Header
+			assert.Equal(t, "nosniff", h.Get("X-Content-Type-Options"))
+			assert.Equal(t, "DENY", h.Get("X-Frame-Options"))
+			assert.Equal(t, "no-referrer", h.Get("Referrer-Policy"))
+			csp := h.Get("Content-Security-Policy")
+			assert.Contains(t, csp, "default-src 'self'")
+			assert.Contains(t, csp, "img-src 'self' data:")
+			assert.Contains(t, csp, "frame-ancestors 'none'")
+			assert.NotContains(t, csp, "unsafe-inline")
+			assert.NotContains(t, csp, "unsafe-eval")
+			assert.Equal(t, tt.cache, h.Get("Cache-Control"))
+		})
+	}
+}
+
+func TestServer_TokenNeverLogged(t *testing.T) {
+	const token = "tok-7f3a9c-never-log-me"
+	var logs syncBuffer
+	lg := zerolog.New(&logs).Level(zerolog.DebugLevel)
+	_, base := startServer(t, ServerOptions{Telemetry: NewTelemetry(), BearerToken: token, Log: lg})
+
+	get(t, http.MethodGet, base+"/metrics", "Bearer "+token)
+	get(t, http.MethodGet, base+"/metrics", "Bearer "+token+"-wrong")
+	get(t, http.MethodGet, base+"/readyz?token="+token, "")
+	get(t, http.MethodGet, base+"/healthz", "Bearer "+token)
+
+	out := logs.String()
+	// The request log is on, so the check below looks at real output.
+	assert.Contains(t, out, `"path":"/metrics"`)
+	assert.Contains(t, out, `"status":401`)
+	assert.NotContains(t, out, token)
+	assert.NotContains(t, out, "tok-7f3a9c")
+	assert.NotContains(t, strings.ToLower(out), "authorization")
+}
+
+func TestServer_Shutdown(t *testing.T) {
+	s, err := NewServer(ServerOptions{Listen: "127.0.0.1:0", Telemetry: NewTelemetry(), Log: zerolog.Nop()})
+	require.NoError(t, err)
+	require.NoError(t, s.Start())
+	assert.Error(t, s.Start(), "second start")
+	addr := s.Addr()
+	resp, _ := get(t, http.MethodGet, "http://"+addr+"/healthz", "")
+	assert.Equal(t, http.StatusOK, resp.StatusCode)
+
+	ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
+	defer cancel()
+	require.NoError(t, s.Shutdown(ctx))
+	c := &http.Client{Transport: &http.Transport{DisableKeepAlives: true}}
+	_, err = c.Get("http://" + addr + "/healthz")
+	require.Error(t, err)
+	var opErr *net.OpError
+	assert.True(t, errors.As(err, &opErr), "connection refused after shutdown: %v", err)
+}

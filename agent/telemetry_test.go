@@ -1,0 +1,301 @@
+package agent
+
+import (
+	"errors"
+	"net/http"
+	"net/http/httptest"
+	"strings"
+	"testing"
+	"time"
+
+	dto "github.com/prometheus/client_model/go"
+	"github.com/prometheus/common/expfmt"
+	"github.com/prometheus/common/model"
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+)
+
+// The run loop reports through Observer.
+var _ Observer = (*Telemetry)(nil)
+
+// scrape reads h as Prometheus would and parses the text exposition.
+func scrape(t *testing.T, h http.Handler) map[string]*dto.MetricFamily {
+	t.Helper()
+	rec := httptest.NewRecorder()
+	h.ServeHTTP(rec, httptest.NewRequest(http.MethodGet, "/metrics", nil))
+	require.Equal(t, http.StatusOK, rec.Code)
+	return parseExposition(t, rec.Body.String())
+}
+
+func parseExposition(t *testing.T, text string) map[string]*dto.MetricFamily {
+	t.Helper()
+	p := expfmt.NewTextParser(model.UTF8Validation)
+	fams, err := p.TextToMetricFamilies(strings.NewReader(text))
+	require.NoError(t, err)
+	return fams
+}
+
+// sample returns the value of the series of name with the labels given as
+// name, value pairs: a counter's or gauge's value, a histogram's count.
+// ok is false when there is no such series.
+func sample(fams map[string]*dto.MetricFamily, name string, labels ...string) (v float64, ok bool) {
+	f, found := fams[name]
+	if !found {
+		return 0, false
+	}
+next:
+	for _, m := range f.GetMetric() {
+		for i := 0; i+1 < len(labels); i += 2 {
+			match := false
+			for _, lp := range m.GetLabel() {
+				if lp.GetName() == labels[i] && lp.GetValue() == labels[i+1] {
+					match = true
+				}
+			}
+			if !match {
+				continue next
+			}
+		}
+		switch {
+		case m.Counter != nil:
+			return m.Counter.GetValue(), true
+		case m.Gauge != nil:
+			return m.Gauge.GetValue(), true
+		case m.Histogram != nil:
+			return float64(m.Histogram.GetSampleCount()), true
+		}
+	}
+	return 0, false
+}
+
+func TestTelemetry_Metrics(t *testing.T) {
+	tel := NewTelemetry()
+	tel.RunStarted()
+	tel.RunFinished(2*time.Second, nil)
+	tel.RunStarted()
+	tel.RunFinished(3*time.Second, errors.New("store unreachable"))
+	tel.RunSkipped()
+	tel.HoursComputed("ahu-1", 24)
+	tel.HoursComputed("ahu-1", 3)
+	tel.HoursComputed("ahu-2", 5)
+	tel.HoursComputed("ahu-2", -1) // ignored
+	tel.AHUFailed("ahu-2")
+	tel.PointsRead(1440)
+	tel.PointsRead(-5) // ignored
+	tel.ObserveWrite(20*time.Millisecond, nil)
+	tel.ObserveWrite(40*time.Millisecond, errors.New("timeout"))
+	tel.SetLag("ahu-1", 2.5)
+	tel.SetAlertsOpen(3)
+	tel.WebhookDelivered()
+	tel.WebhookFailed()
+	tel.WebhookFailed()
+	tel.WebhookDropped()
+	tel.SetStoreUp(true, "")
+	tel.SetConfigProblem("ahu-3", "no supply_flow point")
+
+	fams := scrape(t, tel.Handler())
+	tests := []struct {
+		name   string
+		metric string
+		labels []string
+		want   float64
+	}{
+		{"runs", "dewline_runs_total", nil, 2},
+		{"run failures", "dewline_run_failures_total", nil, 1},
+		{"skipped", "dewline_runs_skipped_total", nil, 1},
+		{"run durations", "dewline_run_duration_seconds", nil, 2},
+		{"not running", "dewline_run_in_progress", nil, 0},
+		{"hours ahu-1", "dewline_hours_computed_total", []string{"ahu", "ahu-1"}, 27},
+		{"hours ahu-2", "dewline_hours_computed_total", []string{"ahu", "ahu-2"}, 5},
+		{"ahu failures", "dewline_ahu_failures_total", []string{"ahu", "ahu-2"}, 1},
+		{"points", "dewline_points_read_total", nil, 1440},
+		{"writes", "dewline_store_write_seconds", nil, 2},
+		{"write failures", "dewline_store_write_failures_total", nil, 1},
+		{"lag", "dewline_lag_hours", []string{"ahu", "ahu-1"}, 2.5},
+		{"alerts open", "dewline_alerts_open", nil, 3},
+		{"delivered", "dewline_webhook_deliveries_total", nil, 1},
+		{"failed", "dewline_webhook_failures_total", nil, 2},
+		{"dropped", "dewline_webhook_dropped_total", nil, 1},
+		{"store up", "dewline_store_up", nil, 1},
+		{"ahu problem", "dewline_ahu_problem", []string{"ahu", "ahu-3"}, 1},
+		{"build info", "dewline_build_info", nil, 1},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			got, ok := sample(fams, tt.metric, tt.labels...)
+			require.True(t, ok, "no series %s%v", tt.metric, tt.labels)
+			assert.InDelta(t, tt.want, got, 1e-9) // exact counts; delta only for float storage
+		})
+	}
+
+	// The sum of run durations is 5 s (2 s + 3 s observed above).
+	assert.InDelta(t, 5.0, fams["dewline_run_duration_seconds"].GetMetric()[0].GetHistogram().GetSampleSum(), 1e-9)
+	ts, ok := sample(fams, "dewline_last_run_success_timestamp_seconds")
+	require.True(t, ok)
+	assert.Greater(t, ts, float64(time.Date(2020, 1, 1, 0, 0, 0, 0, time.UTC).Unix()))
+	_, ok = sample(fams, "go_goroutines")
+	assert.True(t, ok, "go collector registered")
+}
+
+func TestTelemetry_OwnRegistry(t *testing.T) {
+	// Two agents in one process (tests, or a future multi-site binary) must
+	// not share or collide on a global registry.
+	a, b := NewTelemetry(), NewTelemetry()
+	a.RunSkipped()
+	got, ok := sample(scrape(t, b.Handler()), "dewline_runs_skipped_total")
+	require.True(t, ok)
+	assert.Zero(t, got)
+	got, _ = sample(scrape(t, a.Handler()), "dewline_runs_skipped_total")
+	assert.Equal(t, 1.0, got)
+}
+
+func TestTelemetry_Ready(t *testing.T) {
+	tests := []struct {
+		name    string
+		do      func(*Telemetry)
+		ready   bool
+		status  string
+		reasons []string // substrings, in order
+		ahus    []string
+	}{
+		{
+			name:    "fresh",
+			do:      func(*Telemetry) {},
+			status:  ReadinessUnready,
+			reasons: []string{"store not checked yet"},
+		},
+		{
+			name:   "store up",
+			do:     func(t *Telemetry) { t.SetStoreUp(true, "") },
+			ready:  true,
+			status: ReadinessReady,
+		},
+		{
+			name:    "store down",
+			do:      func(t *Telemetry) { t.SetStoreUp(true, ""); t.SetStoreUp(false, "connection refused") },
+			status:  ReadinessUnready,
+			reasons: []string{"store down: connection refused"},
+		},
+		{
+			name: "run failed",
+			do: func(t *Telemetry) {
+				t.SetStoreUp(true, "")
+				t.RunStarted()
+				t.RunFinished(time.Second, errors.New("read checkpoints: timeout"))
+			},
+			status:  ReadinessUnready,
+			reasons: []string{"last run failed: read checkpoints: timeout"},
+		},
+		{
+			name: "run recovered",
+			do: func(t *Telemetry) {
+				t.SetStoreUp(true, "")
+				t.RunStarted()
+				t.RunFinished(time.Second, errors.New("boom"))
+				t.RunStarted()
+				t.RunFinished(time.Second, nil)
+			},
+			ready:  true,
+			status: ReadinessReady,
+		},
+		{
+			name: "one ahu broken",
+			do: func(t *Telemetry) {
+				t.SetStoreUp(true, "")
+				t.SetConfigProblem("ahu-2", "leaving_temp unit unknown")
+				t.SetConfigProblem("ahu-1", "no supply_flow point")
+			},
+			ready:   true,
+			status:  ReadinessDegraded,
+			reasons: []string{"ahu-1 skipped: no supply_flow point", "ahu-2 skipped: leaving_temp unit unknown"},
+			ahus:    []string{"ahu-1", "ahu-2"},
+		},
+		{
+			name: "ahu fixed",
+			do: func(t *Telemetry) {
+				t.SetStoreUp(true, "")
+				t.SetConfigProblem("ahu-2", "x")
+				t.ClearConfigProblem("ahu-2")
+				t.ClearConfigProblem("ahu-9") // never set: no-op
+			},
+			ready:  true,
+			status: ReadinessReady,
+		},
+		{
+			name: "store down and ahu broken",
+			do: func(t *Telemetry) {
+				t.SetStoreUp(false, "disk full")
+				t.SetConfigProblem("ahu-2", "x")
+			},
+			status:  ReadinessUnready,
+			reasons: []string{"store down: disk full", "ahu-2 skipped: x"},
+			ahus:    []string{"ahu-2"},
+		},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			tel := NewTelemetry()
+			tt.do(tel)
+			ok, reasons := tel.Ready()
+			assert.Equal(t, tt.ready, ok)
+			require.Len(t, reasons, len(tt.reasons), "reasons: %q", reasons)
+			for i, want := range tt.reasons {
+				assert.Contains(t, reasons[i], want)
+			}
+			r := tel.Readiness()
+			assert.Equal(t, tt.status, r.Status)
+			var ahus []string
+			for _, a := range r.AHUs {
+				ahus = append(ahus, a.AHU)
+			}
+			assert.Equal(t, tt.ahus, ahus)
+		})
+	}
+}
+
+func TestTelemetry_ProblemGauge(t *testing.T) {
+	tel := NewTelemetry()
+	tel.SetConfigProblem("ahu-2", "x")
+	v, ok := sample(scrape(t, tel.Handler()), "dewline_ahu_problem", "ahu", "ahu-2")
+	require.True(t, ok)
+	assert.Equal(t, 1.0, v)
+	tel.ClearConfigProblem("ahu-2")
+	v, ok = sample(scrape(t, tel.Handler()), "dewline_ahu_problem", "ahu", "ahu-2")
+	require.True(t, ok)
+	assert.Equal(t, 0.0, v)
+}
+
+func TestTelemetry_RunInProgress(t *testing.T) {
+	tel := NewTelemetry()
+	tel.RunStarted()
+	v, _ := sample(scrape(t, tel.Handler()), "dewline_run_in_progress")
+	assert.Equal(t, 1.0, v)
+	assert.True(t, tel.Readiness().LastRun.Running)
+	tel.RunFinished(time.Second, nil)
+	v, _ = sample(scrape(t, tel.Handler()), "dewline_run_in_progress")
+	assert.Equal(t, 0.0, v)
+}
+
+func TestTelemetry_Nil(t *testing.T) {
+	// Components run without telemetry; every method must be a no-op.
+	var tel *Telemetry
+	assert.NotPanics(t, func() {
+		tel.RunStarted()
+		tel.RunFinished(time.Second, errors.New("x"))
+		tel.RunSkipped()
+		tel.HoursComputed("a", 1)
+		tel.AHUFailed("a")
+		tel.PointsRead(1)
+		tel.ObserveWrite(time.Second, nil)
+		tel.SetLag("a", 1)
+		tel.SetAlertsOpen(1)
+		tel.WebhookDelivered()
+		tel.WebhookFailed()
+		tel.WebhookDropped()
+		tel.SetStoreUp(true, "")
+		tel.SetConfigProblem("a", "b")
+		tel.ClearConfigProblem("a")
+	})
+	ok, _ := tel.Ready()
+	assert.False(t, ok)
+}

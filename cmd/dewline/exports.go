@@ -1,0 +1,35 @@
+package main
+
+import (
+	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/ingest/csvfile"
+)
+
+// csvOptions turns the configuration into export reading options.
+func csvOptions(cfg *agent.Config) csvfile.Options {
+	e := cfg.Exports
+	o := csvfile.Options{Location: cfg.Location, TimeColumn: e.TimeColumn, Year: e.Year}
+	switch e.Layout {
+	case "wide":
+		o.Layout = csvfile.LayoutWide
+	case "long":
+		o.Layout = csvfile.LayoutLong
+	}
+	switch e.Delimiter {
+	case ",", ";", "|":
+		o.Delimiter = rune(e.Delimiter[0])
+	case "tab":
+		o.Delimiter = '\t'
+	}
+	tri := func(s string) csvfile.Tri {
+		switch s {
+		case "yes":
+			return csvfile.Yes
+		case "no":
+			return csvfile.No
+		}
+		return csvfile.Auto
+	}
+	o.DecimalComma, o.DayFirst = tri(e.DecimalComma), tri(e.DayFirst)
+	return o
+}
