@@ -32,6 +32,7 @@ var commands = map[string]command{
 	"air":     {"compute one moist-air state (dry bulb with RH, dew point, wet bulb or humidity ratio)", runAir},
 	"check":   {"validate a configuration and inspect its points in exports or the store", runCheck},
 	"import":  {"load trend exports (CSV) into the configured store", runImport},
+	"run":     {"the agent: compute every hour on a schedule, write results and alerts back, serve health and metrics", runRun},
 	"analyze": {"compute the hourly figures and alerts for a period, from the store or from exports", runAnalyze},
 }
 
@@ -45,6 +46,16 @@ func usagef(format string, a ...any) error { return &usageError{fmt.Sprintf(form
 func main() {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
+	// The first signal cancels ctx and lets the work in flight finish or
+	// stop cleanly; a second one exits at once.
+	go func() {
+		<-ctx.Done()
+		again := make(chan os.Signal, 1)
+		signal.Notify(again, os.Interrupt, syscall.SIGTERM)
+		<-again
+		fmt.Fprintln(os.Stderr, "dewline: second signal, exiting now")
+		os.Exit(130)
+	}()
 	os.Exit(run(ctx, os.Args[1:], os.Stdout, os.Stderr))
 }
 

@@ -1,0 +1,160 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"path/filepath"
+	"time"
+
+	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/ingest"
+	"github.com/dewline/dewline/ingest/embedded"
+)
+
+// stateFile is the local file that holds checkpoints, alert states and the
+// event queue when the store is InfluxDB.
+const stateFile = "dewline-state.db"
+
+func runRun(ctx context.Context, e *env, args []string) error {
+	fs := flag.NewFlagSet("run", flag.ContinueOnError)
+	cfgPath := fs.String("config", "", "configuration file (required)")
+	once := fs.Bool("once", false, "compute the pending hours and exit")
+	dry := fs.Bool("dry-run", false, "print what would be written (InfluxDB line protocol) and write nothing; implies --once")
+	shardS := fs.String("shard", "", "take only this replica's share of the air handlers, i/n (0 <= i < n)")
+	grace := fs.Duration("grace", 30*time.Second, "on shutdown, how long the run in flight may take to finish")
+	asOf := fs.String("as-of", "", "with --once or --dry-run: compute as if the time were T (site time or RFC 3339), to re-run a past day")
+	fs.Usage = func() {
+		fmt.Fprintln(fs.Output(), "usage: dewline run --config FILE [--once | --dry-run [--as-of T]] [--shard i/n] [--grace 30s]")
+		fs.PrintDefaults()
+	}
+	if err := parseFlags(fs, args, e.stdout); err != nil {
+		return err
+	}
+	if *cfgPath == "" {
+		return usagef("--config is required")
+	}
+	cfg, err := agent.LoadConfig(*cfgPath)
+	if err != nil {
+		return err
+	}
+	var shard agent.Shard
+	if *shardS != "" {
+		if shard, err = agent.ParseShard(*shardS); err != nil {
+			return usagef("--shard: %v", err)
+		}
+	}
+	log := e.log.With().Str("component", "agent").Str("site", cfg.Site.ID).Logger()
+	owned := shard.Owned(cfg)
+	if len(owned) == 0 {
+		return fmt.Errorf("shard %s: %w", *shardS, agent.ErrNothingOwned)
+	}
+
+	st, err := openStore(ctx, cfg, false, log)
+	if err != nil {
+		return err
+	}
+	defer st.Close()
+	rs := &resultStore{state: st.emb, flux: st.flux, currency: cfg.Prices.Currency}
+	if st.flux != nil {
+		path := filepath.Join(filepath.Dir(*cfgPath), stateFile)
+		if rs.state, err = embedded.Open(ctx, path, embedded.Options{}); err != nil {
+			return fmt.Errorf("open the agent's state file: %w", err)
+		}
+		defer rs.state.Close()
+	}
+	reader, missing := st.reader()
+	units := map[string]ingest.UnitPoints{}
+	for _, id := range owned {
+		a, _ := cfg.AirHandler(id)
+		units[id] = ingest.UnitPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
+	}
+	tel := agent.NewTelemetry()
+	tel.SetStoreUp(true, "")
+	runner := &agent.Runner{
+		Cfg:    cfg,
+		Source: &ingest.StoreHours{Reader: reader, Units: units, Step: cfg.Grid.Step, IsMissing: missing},
+		Store:  rs,
+		Obs:    tel,
+		Log:    log,
+		AHUs:   owned,
+	}
+	if *asOf != "" {
+		if !*once && !*dry {
+			return usagef("--as-of goes with --once or --dry-run")
+		}
+		t, err := parseTime(*asOf, cfg.Location)
+		if err != nil {
+			return usagef("--as-of: %v", err)
+		}
+		runner.Clock = func() time.Time { return t }
+	}
+	log.Info().Strs("ahus", owned).Str("shard", *shardS).Msg("air handlers owned")
+	if *dry {
+		runner.Store = &dryRun{inner: rs, w: e.stdout}
+		_, err := runner.RunOnce(ctx)
+		return err
+	}
+	if *once {
+		rep, err := runner.RunOnce(ctx)
+		if err != nil {
+			return err
+		}
+		for _, a := range rep.AHUs {
+			fmt.Fprintf(e.stdout, "%s: %d hours, checkpoint %s, %d alerts opened, %d closed\n", a.AHU, a.Hours,
+				a.Checkpoint.UTC().Format(time.RFC3339), a.Opened, a.Closed)
+			if a.Err != nil {
+				fmt.Fprintf(e.stdout, "  failed: %v\n", a.Err)
+			}
+		}
+		if f := rep.Failed(); len(f) > 0 {
+			return fmt.Errorf("%d air handler(s) failed", len(f))
+		}
+		return nil
+	}
+
+	// The long-running agent: HTTP endpoint, webhook, schedule.
+	token, err := agent.SecretFromEnv("http.token_env", cfg.HTTP.TokenEnv)
+	if err != nil {
+		return err
+	}
+	srv, err := agent.NewServer(agent.ServerOptions{Listen: cfg.HTTP.Listen, BearerToken: token, Telemetry: tel,
+		Log: log.With().Str("component", "http").Logger()})
+	if err != nil {
+		return err
+	}
+	if err := srv.Start(); err != nil {
+		return err
+	}
+	log.Info().Str("addr", srv.Addr()).Msg("http endpoint listening")
+	var sender *agent.WebhookSender
+	if w := cfg.Webhook; w != nil {
+		secret, err := agent.SecretFromEnv("webhook.secret_env", w.SecretEnv)
+		if err != nil {
+			return err
+		}
+		sender, err = agent.NewWebhookSender(agent.WebhookOptions{URL: w.URL, Secret: secret, Timeout: w.Timeout, MaxAge: w.MaxAge,
+			Store: rs, Telemetry: tel, Log: log.With().Str("component", "webhook").Logger()})
+		if err != nil {
+			return err
+		}
+		runner.Delivered = sender.Kick
+	}
+	done := make(chan error, 1)
+	if sender != nil {
+		go func() { done <- sender.Run(ctx) }()
+	}
+	serveErr := runner.Serve(ctx, *grace)
+	if sender != nil {
+		if err := <-done; err != nil && !errors.Is(err, context.Canceled) {
+			log.Error().Err(err).Msg("webhook stopped")
+		}
+	}
+	shutdownCtx, cancel := context.WithTimeout(context.WithoutCancel(ctx), 5*time.Second)
+	defer cancel()
+	if err := srv.Shutdown(shutdownCtx); err != nil {
+		log.Warn().Err(err).Msg("http shutdown")
+	}
+	return serveErr
+}
