@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"sort"
@@ -217,19 +218,130 @@ func LoadConfig(path string) (*Config, error) {
 func ParseConfig(r io.Reader, name string) (*Config, error) { return parse(r, name) }
 
 func parse(r io.Reader, name string) (*Config, error) {
+	cfg, ce, _, err := parseAll(r, name)
+	if err != nil {
+		return nil, err
+	}
+	if len(ce.Problems) > 0 {
+		return nil, ce
+	}
+	return cfg, nil
+}
+
+// LoadConfigPartial reads a configuration like LoadConfig, but problems
+// confined to single air handlers do not fail it: those air handlers are
+// left out and returned with their problems (keyed by id, or by position
+// when the id itself is the problem), so an agent keeps running the
+// others. Problems outside the air handlers still fail it.
+func LoadConfigPartial(path string) (*Config, map[string]*ConfigError, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, nil, fmt.Errorf("read config: %w", err)
+	}
+	cfg, ce, root, err := parseAll(bytes.NewReader(b), path)
+	if err != nil {
+		return nil, nil, err
+	}
+	if len(ce.Problems) == 0 {
+		cfg.baseDir = filepath.Dir(path)
+		return cfg, nil, nil
+	}
+	// Which air handler does each problem belong to? By the line ranges of
+	// the air_handlers items.
+	items := ahuLineRanges(root)
+	broken := map[int]*ConfigError{}
+	global := &ConfigError{File: ce.File}
+	for _, p := range ce.Problems {
+		i := -1
+		for k, r := range items {
+			if p.Line >= r[0] && p.Line <= r[1] {
+				i = k
+			}
+		}
+		if i < 0 || i >= len(cfg.AirHandlers) {
+			global.Problems = append(global.Problems, p)
+			continue
+		}
+		if broken[i] == nil {
+			broken[i] = &ConfigError{File: ce.File}
+		}
+		broken[i].Problems = append(broken[i].Problems, p)
+	}
+	if len(global.Problems) > 0 {
+		return nil, nil, ce
+	}
+	out := map[string]*ConfigError{}
+	var keep []AirHandler
+	ids := map[string]int{}
+	for i, a := range cfg.AirHandlers {
+		ids[a.ID]++
+		if e, bad := broken[i]; bad {
+			key := a.ID
+			if key == "" || ids[a.ID] > 1 {
+				key = fmt.Sprintf("air_handlers[%d]", i)
+			}
+			out[key] = e
+			continue
+		}
+		keep = append(keep, a)
+	}
+	if len(keep) == 0 {
+		return nil, nil, ce
+	}
+	cfg.AirHandlers = keep
+	cfg.baseDir = filepath.Dir(path)
+	return cfg, out, nil
+}
+
+// ahuLineRanges returns the first and last line of each air_handlers item.
+func ahuLineRanges(root *yaml.Node) [][2]int {
+	n := root
+	if n.Kind == yaml.DocumentNode && len(n.Content) > 0 {
+		n = n.Content[0]
+	}
+	if n.Kind != yaml.MappingNode {
+		return nil
+	}
+	var seq *yaml.Node
+	end := math.MaxInt
+	for i := 0; i+1 < len(n.Content); i += 2 {
+		if n.Content[i].Value == "air_handlers" {
+			seq = n.Content[i+1]
+			if i+2 < len(n.Content) {
+				end = n.Content[i+2].Line - 1
+			}
+		}
+	}
+	if seq == nil || seq.Kind != yaml.SequenceNode {
+		return nil
+	}
+	out := make([][2]int, len(seq.Content))
+	for k, item := range seq.Content {
+		last := end
+		if k+1 < len(seq.Content) {
+			last = seq.Content[k+1].Line - 1
+		}
+		out[k] = [2]int{item.Line, last}
+	}
+	return out
+}
+
+// parseAll decodes and validates, returning the configuration, every
+// problem found and the YAML tree; err is set only when nothing could be read.
+func parseAll(r io.Reader, name string) (*Config, *ConfigError, *yaml.Node, error) {
 	data, err := io.ReadAll(r)
 	if err != nil {
-		return nil, fmt.Errorf("read config %s: %w", name, err)
+		return nil, nil, nil, fmt.Errorf("read config %s: %w", name, err)
 	}
 	ce := &ConfigError{File: name}
 	var root yaml.Node
 	if err := yaml.Unmarshal(data, &root); err != nil {
 		ce.add(yamlLine(err.Error()), "", strings.TrimPrefix(err.Error(), "yaml: "), "fix the YAML syntax (indentation uses spaces; quote values that contain ':' or '#')")
-		return nil, ce
+		return nil, nil, nil, ce
 	}
 	if len(root.Content) == 0 {
 		ce.add(0, "", "the file is empty", "start from deploy/examples/dewline.yaml")
-		return nil, ce
+		return nil, nil, nil, ce
 	}
 	cfg := &Config{}
 	dec := yaml.NewDecoder(bytes.NewReader(data))
@@ -239,11 +351,8 @@ func parse(r io.Reader, name string) (*Config, error) {
 	}
 	cfg.applyDefaults()
 	cfg.validate(ce, &root)
-	if len(ce.Problems) > 0 {
-		sort.SliceStable(ce.Problems, func(i, j int) bool { return ce.Problems[i].Line < ce.Problems[j].Line })
-		return nil, ce
-	}
-	return cfg, nil
+	sort.SliceStable(ce.Problems, func(i, j int) bool { return ce.Problems[i].Line < ce.Problems[j].Line })
+	return cfg, ce, &root, nil
 }
 
 func (c *Config) applyDefaults() {

@@ -113,3 +113,26 @@ func TestAirHandler_FanHeatRiseK(t *testing.T) {
 		assert.InDelta(t, want, a.FanHeatRiseK(), 1e-12, in)
 	}
 }
+
+// TestLoadConfigPartial: a problem confined to one air handler leaves that
+// unit out and keeps the others; a site-wide problem still fails.
+func TestLoadConfigPartial(t *testing.T) {
+	cfg, broken, err := LoadConfigPartial("../testdata/config/one-broken.partial.yaml")
+	require.NoError(t, err)
+	require.Len(t, cfg.AirHandlers, 1)
+	assert.Equal(t, "GOOD-1", cfg.AirHandlers[0].ID)
+	require.Contains(t, broken, "BROKEN-2")
+	msg := broken["BROKEN-2"].Error()
+	assert.Contains(t, msg, `"degrees kelvin-ish" is not a unit of temperature`)
+	assert.Contains(t, msg, "required role leaving_temp is not mapped")
+	// The strict loader refuses the same file.
+	_, err = LoadConfig("../testdata/config/one-broken.partial.yaml")
+	assert.Error(t, err)
+	// A site-wide problem is not confined to a unit.
+	_, _, err = LoadConfigPartial("../testdata/config/many.bad.yaml")
+	assert.ErrorContains(t, err, "unknown time zone")
+	// A good file has nothing broken.
+	_, broken, err = LoadConfigPartial("../testdata/config/minimal.good.yaml")
+	require.NoError(t, err)
+	assert.Empty(t, broken)
+}

@@ -35,7 +35,9 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	if *cfgPath == "" {
 		return usagef("--config is required")
 	}
-	cfg, err := agent.LoadConfig(*cfgPath)
+	// An air handler whose configuration is broken is left out and
+	// reported; the others run.
+	cfg, broken, err := agent.LoadConfigPartial(*cfgPath)
 	if err != nil {
 		return err
 	}
@@ -72,6 +74,10 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	}
 	tel := agent.NewTelemetry()
 	tel.SetStoreUp(true, "")
+	for id, ce := range broken {
+		log.Error().Str("ahu", id).Str("problems", ce.Error()).Msg("air handler left out: its configuration is broken")
+		tel.SetConfigProblem(id, "configuration: "+ce.Error())
+	}
 	runner := &agent.Runner{
 		Cfg:    cfg,
 		Source: &ingest.StoreHours{Reader: reader, Units: units, Step: cfg.Grid.Step, IsMissing: missing},
