@@ -108,10 +108,7 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 	if err := parseFlags(fs, args, e.stdout); err != nil {
 		return err
 	}
-	if *cfgPath == "" {
-		return usagef("--config is required")
-	}
-	cfg, err := agent.LoadConfig(*cfgPath)
+	cfg, err := loadConfig(*cfgPath)
 	if err != nil {
 		return err
 	}

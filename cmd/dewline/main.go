@@ -14,6 +14,8 @@ import (
 	"syscall"
 
 	"github.com/rs/zerolog"
+
+	"github.com/dewline/dewline/agent"
 )
 
 // command is one subcommand of dewline.
@@ -100,6 +102,14 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		return 1
 	}
 	return 0
+}
+
+// loadConfig loads the file named by --config, which is required.
+func loadConfig(path string) (*agent.Config, error) {
+	if path == "" {
+		return nil, usagef("--config is required")
+	}
+	return agent.LoadConfig(path)
 }
 
 // parseFlags parses a command's flags. Mistakes come back as a one-line

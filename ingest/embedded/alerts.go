@@ -59,19 +59,22 @@ func (s *Store) PutAlert(ctx context.Context, a AlertRow) error {
 	if err := a.validate(); err != nil {
 		return fmt.Errorf("%s: %w", what, err)
 	}
-	return s.write(ctx, what, func(tx *sql.Tx) error {
-		_, err := tx.ExecContext(ctx, `INSERT INTO alerts
-			(id, ahu, kind, severity, state, start_ms, end_ms, energy_kwh, cost, reason, updated_ms)
-			VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
-			ON CONFLICT (id) DO UPDATE SET
-				ahu = excluded.ahu, kind = excluded.kind, severity = excluded.severity,
-				state = excluded.state, start_ms = excluded.start_ms, end_ms = excluded.end_ms,
-				energy_kwh = excluded.energy_kwh, cost = excluded.cost,
-				reason = excluded.reason, updated_ms = excluded.updated_ms`,
-			a.ID, a.AHU, a.Kind, a.Severity, a.State, toMs(a.Start), msOrNull(a.End),
-			floatOrNull(a.EnergyKWh), floatOrNull(a.Cost), a.Reason, s.nowMs())
-		return err
-	})
+	return s.write(ctx, what, func(tx *sql.Tx) error { return upsertAlert(ctx, tx, a, s.nowMs()) })
+}
+
+// upsertAlert inserts a or replaces the alert with its ID.
+func upsertAlert(ctx context.Context, tx *sql.Tx, a AlertRow, nowMs int64) error {
+	_, err := tx.ExecContext(ctx, `INSERT INTO alerts
+		(id, ahu, kind, severity, state, start_ms, end_ms, energy_kwh, cost, reason, updated_ms)
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
+		ON CONFLICT (id) DO UPDATE SET
+			ahu = excluded.ahu, kind = excluded.kind, severity = excluded.severity,
+			state = excluded.state, start_ms = excluded.start_ms, end_ms = excluded.end_ms,
+			energy_kwh = excluded.energy_kwh, cost = excluded.cost,
+			reason = excluded.reason, updated_ms = excluded.updated_ms`,
+		a.ID, a.AHU, a.Kind, a.Severity, a.State, toMs(a.Start), msOrNull(a.End),
+		floatOrNull(a.EnergyKWh), floatOrNull(a.Cost), a.Reason, nowMs)
+	return err
 }
 
 func (a AlertRow) validate() error {

@@ -51,17 +51,7 @@ func (s *Store) Commit(ctx context.Context, c Commit) error {
 			return err
 		}
 		for _, a := range c.Alerts {
-			_, err := tx.ExecContext(ctx, `INSERT INTO alerts
-				(id, ahu, kind, severity, state, start_ms, end_ms, energy_kwh, cost, reason, updated_ms)
-				VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
-				ON CONFLICT (id) DO UPDATE SET
-					ahu = excluded.ahu, kind = excluded.kind, severity = excluded.severity,
-					state = excluded.state, start_ms = excluded.start_ms, end_ms = excluded.end_ms,
-					energy_kwh = excluded.energy_kwh, cost = excluded.cost,
-					reason = excluded.reason, updated_ms = excluded.updated_ms`,
-				a.ID, a.AHU, a.Kind, a.Severity, a.State, toMs(a.Start), msOrNull(a.End),
-				floatOrNull(a.EnergyKWh), floatOrNull(a.Cost), a.Reason, now)
-			if err != nil {
+			if err := upsertAlert(ctx, tx, a, now); err != nil {
 				return fmt.Errorf("put alert %s: %w", quote(a.ID), err)
 			}
 		}
