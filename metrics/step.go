@@ -56,6 +56,9 @@ type engine struct {
 	hasFanKW, hasCoolKW    bool
 	hasReheatKW, hasSpaceT bool
 	wTarget                float64 // humidity ratio of the target (supply or space)
+	reqW                   float64 // cache of tRequired for a constant target
+	reqT                   dv
+	reqOK                  bool
 }
 
 // wFromHum returns W from a dual temperature and a dual humidity reading of
@@ -108,6 +111,18 @@ func (e *engine) leavingW(t, wIn dv) dv {
 // tRequired returns the coil leaving temperature at which air at the
 // assumed leaving RH has humidity ratio w: p_ws(T) = p_w(w) / RH.
 func (e *engine) tRequired(w dv) dv {
+	constant := w.g == [nSens]float64{}
+	if constant && e.reqOK && w.v == e.reqW {
+		return e.reqT // a fixed target: the same answer every step
+	}
+	r := e.tRequiredCalc(w)
+	if constant {
+		e.reqW, e.reqT, e.reqOK = w.v, r, true
+	}
+	return r
+}
+
+func (e *engine) tRequiredCalc(w dv) dv {
 	pw := pwFromW(w, e.p).scale(1 / e.u.LeavingRH)
 	t, err := psychro.DewPointFromVapPressure(pw.v)
 	if err != nil {
