@@ -69,6 +69,18 @@ type Runner struct {
 	Delivered func()
 	// Chunk is how many hours are committed at once; default 24.
 	Chunk int
+	// StoreDown tells a store outage (unreachable, timing out, failing)
+	// from an error of one air handler (a point that matches several
+	// series); only an outage marks the store down. Nil takes every error
+	// as an outage.
+	StoreDown func(error) bool
+}
+
+// storeError records err against the store's health when it is an outage.
+func (r *Runner) storeError(err error) {
+	if r.StoreDown == nil || r.StoreDown(err) {
+		r.obs().SetStoreUp(false, err.Error())
+	}
 }
 
 // AHUReport is what one run did for one air handler.
@@ -185,7 +197,7 @@ func (r *Runner) runAHU(ctx context.Context, id string, slot time.Time) (ar AHUR
 	unit := r.Cfg.Unit(a)
 	cp, has, err := r.Store.Checkpoint(ctx, id)
 	if err != nil {
-		r.obs().SetStoreUp(false, err.Error())
+		r.storeError(err)
 		ar.Err = fmt.Errorf("read checkpoint: %w", err)
 		return ar
 	}
@@ -216,7 +228,7 @@ func (r *Runner) runAHU(ctx context.Context, id string, slot time.Time) (ar AHUR
 	}
 	states, err := r.Store.AlertStates(ctx, id)
 	if err != nil {
-		r.obs().SetStoreUp(false, err.Error())
+		r.storeError(err)
 		ar.Err = fmt.Errorf("read alert states: %w", err)
 		return ar
 	}
@@ -250,7 +262,7 @@ func (r *Runner) runAHU(ctx context.Context, id string, slot time.Time) (ar AHUR
 			return nil
 		})
 		if err != nil {
-			r.obs().SetStoreUp(false, err.Error())
+			r.storeError(err)
 			ar.Err = fmt.Errorf("read hours %s..%s: %w", cs.Format(time.RFC3339), ce.Format(time.RFC3339), err)
 			return ar
 		}
@@ -266,7 +278,7 @@ func (r *Runner) runAHU(ctx context.Context, id string, slot time.Time) (ar AHUR
 		err = r.Store.Commit(ctx, id, recs, AlertUpdate{States: states, Transitions: trs}, through)
 		r.obs().ObserveWrite(time.Since(t0), err)
 		if err != nil {
-			r.obs().SetStoreUp(false, err.Error())
+			r.storeError(err)
 			ar.Err = fmt.Errorf("write hours %s..%s: %w", cs.Format(time.RFC3339), ce.Format(time.RFC3339), err)
 			return ar
 		}

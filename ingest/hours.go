@@ -33,9 +33,15 @@ type StoreHours struct {
 	// store" rather than a store failure; such points are skipped and
 	// listed in Missing, and their roles have zero coverage.
 	IsMissing func(error) bool
-	Missing   []string
-	// Read counts the samples read.
-	Read int
+	Missing   []string // each missing point once: "<ahu> <role> (<point>)"
+	// OnMissing, when set, is called the first time a point is found
+	// missing, so a long-running agent can report it.
+	OnMissing func(ahu string, role metrics.Role, point string)
+	// Read counts the samples read; OnRead, when set, receives the count of
+	// each read.
+	Read   int
+	OnRead func(n int)
+	seen   map[string]bool
 }
 
 // Hours implements agent.HourSource.
@@ -88,15 +94,30 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 				if missing[ref.Name()] {
 					continue
 				}
+				n := 0
 				err := s.Reader.ReadSeries(ctx, ref, spec.Kind, rs, ce, func(smp Sample) error {
-					s.Read++
+					n++
 					a.Push(role, smp)
 					return nil
 				})
+				s.Read += n
+				if s.OnRead != nil && n > 0 {
+					s.OnRead(n)
+				}
 				if err != nil {
 					if s.IsMissing != nil && s.IsMissing(err) {
 						missing[ref.Name()] = true
-						s.Missing = append(s.Missing, fmt.Sprintf("%s %s (%s)", ahu, r, ref.Name()))
+						key := fmt.Sprintf("%s %s (%s)", ahu, r, ref.Name())
+						if s.seen == nil {
+							s.seen = map[string]bool{}
+						}
+						if !s.seen[key] {
+							s.seen[key] = true
+							s.Missing = append(s.Missing, key)
+							if s.OnMissing != nil {
+								s.OnMissing(ahu, role, ref.Name())
+							}
+						}
 						continue
 					}
 					return fmt.Errorf("read %s %s: %w", ahu, r, err)

@@ -16,9 +16,21 @@ func parseTime(s string, loc *time.Location) (time.Time, error) {
 		return t, nil
 	}
 	for _, layout := range []string{"2006-01-02", "2006-01-02T15:04", "2006-01-02 15:04", "2006-01-02T15:04:05"} {
-		if t, err := time.ParseInLocation(layout, s, loc); err == nil {
-			return t, nil
+		t, err := time.ParseInLocation(layout, s, loc)
+		if err != nil {
+			continue
 		}
+		// A wall time that does not exist (clocks went forward) or exists
+		// twice (clocks went back) in the site's zone is not guessed.
+		if t.Format(layout) != s {
+			return time.Time{}, fmt.Errorf("%q does not exist in %s (the clocks went forward); give the time with its UTC offset", s, loc)
+		}
+		for _, d := range []time.Duration{-time.Hour, time.Hour} {
+			if u := t.Add(d); u.Format(layout) == s {
+				return time.Time{}, fmt.Errorf("%q happens twice in %s (the clocks went back); give the time with its UTC offset, e.g. %s", s, loc, t.Format(time.RFC3339))
+			}
+		}
+		return t, nil
 	}
 	return time.Time{}, fmt.Errorf("%q is not a time: use 2026-07-01, 2026-07-01T06:00 (site time) or RFC 3339 such as 2026-07-01T06:00:00Z", s)
 }

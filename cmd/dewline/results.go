@@ -127,15 +127,20 @@ func hourlyPoints(recs []metrics.Record) []influx.Point {
 	pts := make([]influx.Point, 0, len(recs))
 	for _, r := range recs {
 		f := map[string]float64{}
+		var missing []string
 		for _, x := range r.Fields() {
-			if !isBad(x.Value) {
+			if isBad(x.Value) {
+				missing = append(missing, x.Name)
+			} else {
 				f[x.Name] = x.Value
 			}
 		}
-		p := influx.Point{Measurement: measurementHourly, Tags: map[string]string{"ahu": r.AHU}, Fields: f, Time: r.HourStart}
-		if len(r.Flags) > 0 {
-			p.Strings = map[string]string{"flags": strings.Join(r.Flags, " ")}
-		}
+		// InfluxDB merges the fields of a re-written point with the old
+		// ones, and cannot store NaN: the fields with no value this time are
+		// listed in "missing", and "flags" is always written, so a re-written
+		// hour never keeps a stale value unmarked.
+		p := influx.Point{Measurement: measurementHourly, Tags: map[string]string{"ahu": r.AHU}, Fields: f, Time: r.HourStart,
+			Strings: map[string]string{"flags": strings.Join(r.Flags, " "), "missing": strings.Join(missing, " ")}}
 		pts = append(pts, p)
 	}
 	return pts

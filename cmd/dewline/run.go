@@ -11,7 +11,20 @@ import (
 	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/embedded"
+	"github.com/dewline/dewline/ingest/influx"
+	"github.com/dewline/dewline/metrics"
 )
+
+// storeDown tells an outage of the store from an error of one air handler:
+// a point that matches several series, or a bad point, is the latter.
+func storeDown(err error) bool {
+	for _, e := range []error{influx.ErrAmbiguousPoint, influx.ErrInvalidPoint, influx.ErrNoSuchPoint} {
+		if errors.Is(err, e) {
+			return false
+		}
+	}
+	return true
+}
 
 // stateFile is the local file that holds checkpoints, alert states and the
 // event queue when the store is InfluxDB.
@@ -73,18 +86,38 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		units[id] = ingest.UnitPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
 	}
 	tel := agent.NewTelemetry()
-	tel.SetStoreUp(true, "")
+	// The store is up once it answers: the embedded file is open; InfluxDB
+	// must answer a ping.
+	if st.flux != nil {
+		pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
+		if err := st.flux.Ping(pctx); err != nil {
+			tel.SetStoreUp(false, err.Error())
+			log.Warn().Err(err).Msg("InfluxDB does not answer yet; runs will retry")
+		} else {
+			tel.SetStoreUp(true, "")
+		}
+		cancel()
+	} else {
+		tel.SetStoreUp(true, "")
+	}
 	for id, ce := range broken {
 		log.Error().Str("ahu", id).Str("problems", ce.Error()).Msg("air handler left out: its configuration is broken")
 		tel.SetConfigProblem(id, "configuration: "+ce.Error())
 	}
+	source := &ingest.StoreHours{Reader: reader, Units: units, Step: cfg.Grid.Step, IsMissing: missing,
+		OnRead: tel.PointsRead,
+		OnMissing: func(ahu string, role metrics.Role, point string) {
+			log.Warn().Str("ahu", ahu).Str("role", string(role)).Str("point", point).Msg("point has no data in the store")
+			tel.SetConfigProblem(ahu, fmt.Sprintf("%s: point %q has no data in the store", role, point))
+		}}
 	runner := &agent.Runner{
-		Cfg:    cfg,
-		Source: &ingest.StoreHours{Reader: reader, Units: units, Step: cfg.Grid.Step, IsMissing: missing},
-		Store:  rs,
-		Obs:    tel,
-		Log:    log,
-		AHUs:   owned,
+		Cfg:       cfg,
+		Source:    source,
+		Store:     rs,
+		Obs:       tel,
+		Log:       log,
+		AHUs:      owned,
+		StoreDown: storeDown,
 	}
 	if *asOf != "" {
 		if !*once && !*dry {
@@ -104,7 +137,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	}
 	if *once {
 		rep, err := runner.RunOnce(ctx)
-		if err != nil {
+		if rep == nil {
 			return err
 		}
 		for _, a := range rep.AHUs {
@@ -113,6 +146,9 @@ func runRun(ctx context.Context, e *env, args []string) error {
 			if a.Err != nil {
 				fmt.Fprintf(e.stdout, "  failed: %v\n", a.Err)
 			}
+		}
+		if err != nil {
+			return err
 		}
 		if f := rep.Failed(); len(f) > 0 {
 			return fmt.Errorf("%d air handler(s) failed", len(f))

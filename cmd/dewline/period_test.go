@@ -1,0 +1,37 @@
+package main
+
+import (
+	"errors"
+	"testing"
+	"time"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/ingest/influx"
+)
+
+func TestParseTime(t *testing.T) {
+	chicago, err := time.LoadLocation("America/Chicago")
+	require.NoError(t, err)
+	got, err := parseTime("2026-07-14T06:00", chicago)
+	require.NoError(t, err)
+	assert.Equal(t, time.Date(2026, 7, 14, 11, 0, 0, 0, time.UTC), got.UTC())
+	got, err = parseTime("2026-11-01T01:30:00-06:00", chicago)
+	require.NoError(t, err)
+	assert.Equal(t, time.Date(2026, 11, 1, 7, 30, 0, 0, time.UTC), got.UTC())
+	// 2026-11-01 01:30 happens twice in Chicago; 2026-03-08 02:30 never.
+	_, err = parseTime("2026-11-01T01:30", chicago)
+	assert.ErrorContains(t, err, "happens twice")
+	_, err = parseTime("2026-03-08T02:30", chicago)
+	assert.ErrorContains(t, err, "does not exist")
+	_, err = parseTime("yesterday", chicago)
+	assert.ErrorContains(t, err, "is not a time")
+}
+
+func TestStoreDown(t *testing.T) {
+	assert.True(t, storeDown(errors.New("disk I/O error")))
+	assert.True(t, storeDown(influx.ErrTimeout))
+	assert.False(t, storeDown(influx.ErrAmbiguousPoint), "one air handler's point, not the store")
+	assert.False(t, storeDown(influx.ErrNoSuchPoint))
+}
