@@ -25,8 +25,9 @@ func parseTime(s string, loc *time.Location) (time.Time, error) {
 		if t.Format(layout) != s {
 			return time.Time{}, fmt.Errorf("%q does not exist in %s (the clocks went forward); give the time with its UTC offset", s, loc)
 		}
+		const wall = "2006-01-02T15:04:05"
 		for _, d := range []time.Duration{-time.Hour, time.Hour} {
-			if u := t.Add(d); u.Format(layout) == s {
+			if u := t.Add(d); u.Format(wall) == t.Format(wall) {
 				return time.Time{}, fmt.Errorf("%q happens twice in %s (the clocks went back); give the time with its UTC offset, e.g. %s", s, loc, t.Format(time.RFC3339))
 			}
 		}

@@ -25,6 +25,9 @@ func TestParseTime(t *testing.T) {
 	assert.ErrorContains(t, err, "happens twice")
 	_, err = parseTime("2026-03-08T02:30", chicago)
 	assert.ErrorContains(t, err, "does not exist")
+	got, err = parseTime("2026-11-01", chicago)
+	require.NoError(t, err, "a date is its midnight, which happens once")
+	assert.Equal(t, time.Date(2026, 11, 1, 5, 0, 0, 0, time.UTC), got.UTC())
 	_, err = parseTime("yesterday", chicago)
 	assert.ErrorContains(t, err, "is not a time")
 }
