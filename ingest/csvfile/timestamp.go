@@ -149,15 +149,7 @@ func parseISO(b []byte) (stamp, bool) {
 	default:
 		return st, false
 	}
-	rest = skipSpaces(rest[1:])
-	sod, nsec, rest, ok := scanClock(rest)
-	if !ok {
-		return st, false
-	}
-	st.sec += sod
-	st.nsec = nsec
-	st.off, st.hasOff, ok = scanZone(rest)
-	return st, ok
+	return withClock(st, rest[1:])
 }
 
 // addYear rewrites a date written without a year, "a/b hh:mm", into
@@ -269,8 +261,13 @@ func parseYearLast(b []byte, order dateOrder) (stamp, bool) {
 	default:
 		return st, false
 	}
-	rest = skipSpaces(rest[1:])
-	sod, nsec, rest, ok := scanClock(rest)
+	return withClock(st, rest[1:])
+}
+
+// withClock adds the clock and the zone that follow a date (after its
+// separator) to st.
+func withClock(st stamp, rest []byte) (stamp, bool) {
+	sod, nsec, rest, ok := scanClock(skipSpaces(rest))
 	if !ok {
 		return st, false
 	}
