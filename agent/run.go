@@ -161,6 +161,9 @@ func (r *Runner) RunOnce(ctx context.Context) (*RunReport, error) {
 			r.obs().AHUFailed(id)
 			r.Log.Error().Str("ahu", id).Err(ar.Err).Msg("air handler run failed")
 		}
+		if ar.Err != nil {
+			continue // its store may be down: do not ask it again
+		}
 		if states, err := r.Store.AlertStates(ctx, id); err == nil {
 			for _, a := range states {
 				if a.Status == metrics.StatusOpen {

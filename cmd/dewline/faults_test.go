@@ -33,12 +33,13 @@ import (
 // than hang it, and is far above what a run takes.
 const runBound = 2 * time.Minute
 
-var onceLine = regexp.MustCompile(`(?m)^(\S+): (\d+) hours, checkpoint (\S+),`)
+var onceLine = regexp.MustCompile(`(?m)^(\S+): (\d+) hours, checkpoint (\S+), (\d+) alerts opened`)
 
 // ahuOutcome is one air handler's line of "run --once".
 type ahuOutcome struct {
 	hours      int
 	checkpoint string
+	opened     int
 }
 
 // onceReport reads the per air handler lines of "run --once".
@@ -48,7 +49,9 @@ func onceReport(t *testing.T, stdout string) map[string]ahuOutcome {
 	for _, m := range onceLine.FindAllStringSubmatch(stdout, -1) {
 		n, err := strconv.Atoi(m[2])
 		require.NoError(t, err)
-		out[m[1]] = ahuOutcome{n, m[3]}
+		o, err := strconv.Atoi(m[4])
+		require.NoError(t, err)
+		out[m[1]] = ahuOutcome{n, m[3], o}
 	}
 	return out
 }
@@ -378,7 +381,7 @@ func TestFault_InfluxStopped(t *testing.T) {
 	run := func(dir, asOf string) result {
 		return runDewline(t, runBound, "run", "--config", cfgs[dir], "--once", "--as-of", asOf)
 	}
-	state := filepath.Join(faulty, stateFile)
+	cps := func() map[string]time.Time { return influxCheckpoints(t, srv.url, "dewline_test") }
 	const (
 		t0 = "2026-07-14T15:30" // 20:30Z: slot 19:00Z
 		t1 = "2026-07-15T01:30" // 06:30Z: slot 05:00Z, ten hours later
@@ -390,7 +393,7 @@ func TestFault_InfluxStopped(t *testing.T) {
 		r := run(faulty, t0)
 		require.Equal(t, 0, r.code, r.stderr)
 		for _, id := range ahus {
-			assert.Equal(t, slot0, checkpoints(t, state)[id], id)
+			assert.Equal(t, slot0, cps()[id], id)
 		}
 
 		srv.stop(t)
@@ -399,11 +402,11 @@ func TestFault_InfluxStopped(t *testing.T) {
 		assert.Contains(t, r.stderr, "every air handler failed")
 		assert.Contains(t, r.stderr, "cannot reach the server after 4 attempts")
 		t.Logf("the run without a store failed after %s", r.took.Round(time.Millisecond))
-		for _, id := range ahus {
-			assert.Equal(t, slot0, checkpoints(t, state)[id], "%s: the checkpoint stays", id)
-		}
 
 		srv.restart(t)
+		for _, id := range ahus {
+			assert.Equal(t, slot0, cps()[id], "%s: the checkpoint stays", id)
+		}
 		counts := hoursPerAHU(t, srv.url, "dewline_test", slot0.Add(time.Hour), slot2.Add(time.Hour))
 		for _, id := range ahus {
 			for h, n := range counts[id] {
@@ -413,7 +416,7 @@ func TestFault_InfluxStopped(t *testing.T) {
 		r = run(faulty, t1)
 		require.Equal(t, 0, r.code, r.stderr)
 		for _, id := range ahus {
-			assert.Equal(t, slot1, checkpoints(t, state)[id], "%s caught up", id)
+			assert.Equal(t, slot1, cps()[id], "%s caught up", id)
 		}
 	})
 
@@ -423,17 +426,17 @@ func TestFault_InfluxStopped(t *testing.T) {
 		srv.kill(t)
 		<-p.done
 		assert.Error(t, p.err, "the run cut off from its store fails")
-		cps := checkpoints(t, state)
+
+		// What the server confirmed survived its crash: every hour up to
+		// each checkpoint is in InfluxDB.
+		srv.restart(t)
+		cps := cps()
 		behind := false
 		for _, id := range ahus {
 			t.Logf("after the crash: %s checkpoint %s", id, cps[id].Format(time.RFC3339))
 			behind = behind || cps[id].Before(slot2)
 		}
 		require.True(t, behind, "the server was killed after the run had finished")
-
-		// What the server confirmed survived its crash: every hour up to
-		// each checkpoint is in InfluxDB.
-		srv.restart(t)
 		counts := hoursPerAHU(t, srv.url, "dewline_test", from, slot2.Add(time.Hour))
 		for _, id := range ahus {
 			for h := from; !h.After(cps[id]); h = h.Add(time.Hour) {
@@ -443,7 +446,7 @@ func TestFault_InfluxStopped(t *testing.T) {
 		r := run(faulty, t2)
 		require.Equal(t, 0, r.code, r.stderr)
 		for _, id := range ahus {
-			assert.Equal(t, slot2, checkpoints(t, state)[id], "%s caught up", id)
+			assert.Equal(t, slot2, influxCheckpoints(t, srv.url, "dewline_test")[id], "%s caught up", id)
 		}
 	})
 
@@ -531,7 +534,6 @@ func TestFault_InfluxSlowOrFailing(t *testing.T) {
 	r := runDewline(t, runBound, "--log-level", "warn", "import", "--config", direct, data)
 	require.Equal(t, 0, r.code, r.stderr)
 
-	state := filepath.Join(dir, stateFile)
 	const (
 		t0 = "2026-07-14T15:30" // slot 19:00Z
 		t1 = "2026-07-15T01:30" // slot 05:00Z on the 15th
@@ -555,7 +557,7 @@ func TestFault_InfluxSlowOrFailing(t *testing.T) {
 
 	r = runVia(cfg, t0)
 	require.Equal(t, 0, r.code, r.stderr)
-	require.Equal(t, slot0, checkpoints(t, state)["AHU-1"])
+	require.Equal(t, slot0, influxCheckpoints(t, url, db)["AHU-1"])
 	require.Positive(t, proxy.count("/api/v2/query"), "the agent reads through the proxy")
 	require.Positive(t, proxy.count("/api/v2/write"), "and writes through it")
 
@@ -573,19 +575,23 @@ func TestFault_InfluxSlowOrFailing(t *testing.T) {
 	}
 	for _, f := range faults {
 		t.Run(f.name, func(t *testing.T) {
+			before := influxCheckpoints(t, url, db)["AHU-1"]
 			proxy.set(f.mode, f.only, f.delay)
 			r := runVia(cfg, t1)
 			t.Logf("failed in %s with %d attempts at %s", r.took.Round(time.Millisecond), proxy.count(f.path), f.path)
 			assert.Equal(t, 1, r.code, r.stderr)
 			assert.Contains(t, r.stderr, f.want)
 			assert.Equal(t, 4, proxy.count(f.path), "1 attempt and 3 retries")
-			assert.Equal(t, slot0, checkpoints(t, state)["AHU-1"], "the checkpoint stays")
-			// The late confirmations: the server did store the hours, so
-			// InfluxDB is ahead of the checkpoint; the next run writes
-			// them again, which replaces them.
 			n := hoursPerAHU(t, url, db, slot1, slot1.Add(time.Hour))["AHU-1"][slot1.UnixMilli()]
 			if f.written {
+				// The late confirmations: the server stored the batch, the
+				// checkpoint (written last in it) included, so it moved with
+				// the hours it covers, never past one; the next run writes
+				// the lookback again, which replaces it.
 				assert.Equal(t, 1, n, "the hour the server stored without confirming it in time")
+				assert.Equal(t, slot1, influxCheckpoints(t, url, db)["AHU-1"], "the checkpoint moved with its hours")
+			} else {
+				assert.Equal(t, before, influxCheckpoints(t, url, db)["AHU-1"], "the checkpoint stays")
 			}
 		})
 	}
@@ -593,7 +599,7 @@ func TestFault_InfluxSlowOrFailing(t *testing.T) {
 	proxy.set("pass", "", 0)
 	r = runVia(cfg, t1)
 	require.Equal(t, 0, r.code, r.stderr)
-	assert.Equal(t, slot1, checkpoints(t, state)["AHU-1"], "caught up once the store behaves")
+	assert.Equal(t, slot1, influxCheckpoints(t, url, db)["AHU-1"], "caught up once the store behaves")
 	everyHourOnce(t, slot1)
 
 	// Refusing connections: nothing listens at the proxy's port any more.
@@ -602,10 +608,10 @@ func TestFault_InfluxSlowOrFailing(t *testing.T) {
 	assert.Equal(t, 1, r.code, r.stderr)
 	assert.Contains(t, r.stderr, "cannot reach the server after 4 attempts")
 	assert.Contains(t, r.stderr, "connection refused")
-	assert.Equal(t, slot1, checkpoints(t, state)["AHU-1"], "the checkpoint stays")
+	assert.Equal(t, slot1, influxCheckpoints(t, url, db)["AHU-1"], "the checkpoint stays")
 	r = runVia(direct, t2)
 	require.Equal(t, 0, r.code, r.stderr)
-	assert.Equal(t, slot2, checkpoints(t, state)["AHU-1"])
+	assert.Equal(t, slot2, influxCheckpoints(t, url, db)["AHU-1"])
 	everyHourOnce(t, slot2)
 }
 
@@ -686,7 +692,7 @@ func TestFault_ReadinessFollowsTheStore(t *testing.T) {
 
 	slot := time.Now().UTC().Truncate(time.Hour).Add(-time.Hour)
 	for _, id := range ahus {
-		cp := checkpoints(t, filepath.Join(dir, stateFile))[id]
+		cp := influxCheckpoints(t, srv.url, "dewline_test")[id]
 		// The hour may have turned since the last run.
 		assert.True(t, cp.Equal(slot) || cp.Equal(slot.Add(-time.Hour)), "%s checkpoint %s", id, cp)
 	}
@@ -799,4 +805,56 @@ func TestFault_OneBrokenAirHandler(t *testing.T) {
 	assert.Equal(t, 1.0, up, "one air handler's bad point is not a store outage")
 	assert.Equal(t, 200, status, ready)
 	assert.Contains(t, ready, `"status":"degraded"`)
+}
+
+// TestFault_Reshard: with InfluxDB as the store, checkpoints and alert
+// states live in InfluxDB, so when one replica becomes two (--shard 0/2
+// and 1/2, each with a state file of its own) every air handler continues
+// from where the single replica left it: only the new hour and the
+// lookback are computed, and no alert opens a second time.
+func TestFault_Reshard(t *testing.T) {
+	url, _ := influxEnv(t)
+	db := freshDB(t, url, "dewline_reshard")
+	ahus := []string{"AHU-1", "AHU-2", "AHU-3", "AHU-4", "AHU-5", "AHU-6"}
+	one, two0, two1 := t.TempDir(), t.TempDir(), t.TempDir()
+	s := site{store: influxStore(url, db, "10s"), meas: "reshard_trend", schedule: "{backfill: 24h, lookback: 3h}", ahus: ahus}
+	cfgs := map[string]string{}
+	for _, d := range []string{one, two0, two1} {
+		cfgs[d] = s.write(t, d, "site.yaml")
+	}
+	from := time.Date(2026, 7, 14, 5, 0, 0, 0, time.UTC)
+	data := filepath.Join(one, "trends.csv")
+	writeTrends(t, data, ahus, from, 30*time.Hour)
+	r := runDewline(t, runBound, "--log-level", "warn", "import", "--config", cfgs[one], data)
+	require.Equal(t, 0, r.code, r.stderr)
+
+	// One replica: 24 h of backfill for every air handler.
+	r = runDewline(t, runBound, "--log-level", "warn", "run", "--config", cfgs[one], "--once", "--as-of", "2026-07-15T00:30")
+	require.Equal(t, 0, r.code, r.stderr)
+	first := onceReport(t, r.stdout)
+	require.Len(t, first, len(ahus))
+	opened := 0
+	for _, id := range ahus {
+		assert.Equal(t, 24, first[id].hours, id)
+		opened += first[id].opened
+	}
+
+	// Two replicas an hour later: each takes its share, continues from the
+	// checkpoints in InfluxDB, and raises nothing twice.
+	seen := map[string]int{}
+	for i, d := range []string{two0, two1} {
+		r = runDewline(t, runBound, "--log-level", "warn", "run", "--config", cfgs[d], "--once", "--as-of", "2026-07-15T01:30",
+			"--shard", fmt.Sprintf("%d/2", i))
+		require.Equal(t, 0, r.code, r.stderr)
+		for id, rep := range onceReport(t, r.stdout) {
+			seen[id]++
+			assert.Equal(t, 3, rep.hours, "%s continues: the new hour and the lookback", id)
+			assert.Zero(t, rep.opened, "%s: no alert opens again", id)
+		}
+	}
+	assert.Len(t, seen, len(ahus), "the two replicas cover every air handler")
+	for id, n := range seen {
+		assert.Equal(t, 1, n, "%s is taken by exactly one replica", id)
+	}
+	t.Logf("alerts opened by the single replica: %d", opened)
 }

@@ -16,15 +16,30 @@ import (
 	"github.com/dewline/dewline/metrics"
 )
 
-// resultStore is the agent's agent.ResultStore and agent.EventStore: the
-// embedded store keeps checkpoints, alert rule states and the event queue
-// (the configured store, or with InfluxDB a local state file beside the
-// configuration); results also go to InfluxDB when it is the store.
+// resultStore is the agent's agent.ResultStore and agent.EventStore.
+//
+// With the embedded store everything lives in its file and one transaction
+// commits it. With InfluxDB, results, alert rule states and checkpoints
+// live in InfluxDB, so any replica can take over an air handler (a
+// reshard) and continue where the last one stopped; they are written in
+// one batch with the checkpoint last. The webhook queue stays in a local
+// file (the state file beside the configuration): delivering an event does
+// not depend on who owns its air handler.
 type resultStore struct {
 	state    *embedded.Store
 	flux     *influx.Client
+	site     string
 	currency string
 }
+
+// State measurements in InfluxDB (points at influx.StateTime, replaced on
+// every commit): checkpoints (string field "hour", RFC 3339) and alert
+// rule states (string field "state", JSON; empty when inactive), tagged
+// site and ahu (and kind).
+const (
+	measurementCheckpoint = "dewline_checkpoint"
+	measurementAlertState = "dewline_alert_state"
+)
 
 var (
 	_ agent.ResultStore = (*resultStore)(nil)
@@ -32,11 +47,39 @@ var (
 )
 
 func (rs *resultStore) Checkpoint(ctx context.Context, ahu string) (time.Time, bool, error) {
-	return rs.state.Checkpoint(ctx, ahu)
+	if rs.flux == nil {
+		return rs.state.Checkpoint(ctx, ahu)
+	}
+	var cp time.Time
+	var ok bool
+	err := rs.flux.ReadState(ctx, measurementCheckpoint, map[string]string{"site": rs.site, "ahu": ahu}, "", func(_, field, v string) error {
+		if field != "hour" {
+			return nil
+		}
+		t, err := time.Parse(time.RFC3339, v)
+		if err != nil {
+			return fmt.Errorf("checkpoint of %s: %q is not a time", ahu, v)
+		}
+		cp, ok = t.UTC(), true
+		return nil
+	})
+	return cp, ok, err
 }
 
 func (rs *resultStore) AlertStates(ctx context.Context, ahu string) (map[string]metrics.Alert, error) {
-	raw, err := rs.state.AlertStates(ctx, ahu)
+	var raw map[string]json.RawMessage
+	var err error
+	if rs.flux == nil {
+		raw, err = rs.state.AlertStates(ctx, ahu)
+	} else {
+		raw = map[string]json.RawMessage{}
+		err = rs.flux.ReadState(ctx, measurementAlertState, map[string]string{"site": rs.site, "ahu": ahu}, "kind", func(kind, field, v string) error {
+			if field == "state" && v != "" {
+				raw[kind] = json.RawMessage(v)
+			}
+			return nil
+		})
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -55,23 +98,37 @@ func (rs *resultStore) AlertStates(ctx context.Context, ahu string) (map[string]
 // there first, confirmed, and only then is the local state (and so the
 // checkpoint) committed.
 func (rs *resultStore) Commit(ctx context.Context, ahu string, recs []metrics.Record, up agent.AlertUpdate, through time.Time) error {
-	if rs.flux != nil {
-		pts := hourlyPoints(recs)
-		pts = append(pts, alertPoints(up.Transitions)...)
-		if err := rs.flux.WritePoints(ctx, pts); err != nil {
-			return fmt.Errorf("write results to InfluxDB: %w", err)
-		}
-	}
-	c := embedded.Commit{AHU: ahu, Through: through, States: map[string]json.RawMessage{}}
-	for i := range recs {
-		c.Rows = append(c.Rows, hourRow(&recs[i]))
-	}
+	states := map[string]json.RawMessage{}
 	for kind, a := range up.States {
 		b, err := json.Marshal(a)
 		if err != nil {
 			return err
 		}
-		c.States[kind] = b
+		states[kind] = b
+	}
+	c := embedded.Commit{AHU: ahu, Through: through, States: states}
+	if rs.flux != nil {
+		pts := hourlyPoints(recs)
+		pts = append(pts, alertPoints(up.Transitions)...)
+		// Every rule's state is written, empty when inactive, so a closed
+		// alert's old state is replaced; the checkpoint comes last.
+		for _, rule := range metrics.Rules() {
+			pts = append(pts, influx.Point{Measurement: measurementAlertState,
+				Tags:    map[string]string{"site": rs.site, "ahu": ahu, "kind": rule.Kind},
+				Strings: map[string]string{"state": string(states[rule.Kind])}, Time: influx.StateTime})
+		}
+		pts = append(pts, influx.Point{Measurement: measurementCheckpoint, Tags: map[string]string{"site": rs.site, "ahu": ahu},
+			Strings: map[string]string{"hour": through.UTC().Format(time.RFC3339)}, Time: influx.StateTime})
+		if err := rs.flux.WritePoints(ctx, pts); err != nil {
+			return fmt.Errorf("write results to InfluxDB: %w", err)
+		}
+		// The local file keeps only the webhook queue (and the alerts its
+		// events refer to).
+		c = embedded.Commit{AHU: ahu}
+	} else {
+		for i := range recs {
+			c.Rows = append(c.Rows, hourRow(&recs[i]))
+		}
 	}
 	for _, t := range up.Transitions {
 		a := t.Alert

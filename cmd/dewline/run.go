@@ -26,8 +26,8 @@ func storeDown(err error) bool {
 	return true
 }
 
-// stateFile is the local file that holds checkpoints, alert states and the
-// event queue when the store is InfluxDB.
+// stateFile is the local file that holds the webhook queue when the store
+// is InfluxDB (checkpoints and alert states live in InfluxDB).
 const stateFile = "dewline-state.db"
 
 func runRun(ctx context.Context, e *env, args []string) error {
@@ -71,7 +71,11 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	defer st.Close()
-	rs := &resultStore{state: st.emb, flux: st.flux, currency: cfg.Prices.Currency}
+	site := cfg.Site.ID
+	if site == "" {
+		site = "default"
+	}
+	rs := &resultStore{state: st.emb, flux: st.flux, site: site, currency: cfg.Prices.Currency}
 	if st.flux != nil {
 		path := filepath.Join(filepath.Dir(*cfgPath), stateFile)
 		if rs.state, err = embedded.Open(ctx, path, embedded.Options{}); err != nil {

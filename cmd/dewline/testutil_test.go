@@ -844,3 +844,19 @@ func metricValue(body, name, labels string) (v float64, ok bool) {
 	}
 	return 0, false
 }
+
+// influxCheckpoints reads the agent's checkpoints from measurement
+// dewline_checkpoint of db (they live in InfluxDB when it is the store).
+func influxCheckpoints(t *testing.T, base, db string) map[string]time.Time {
+	t.Helper()
+	out := map[string]time.Time{}
+	for _, s := range influxQL(t, base, db, `SELECT "hour" FROM "dewline_checkpoint" GROUP BY "ahu"`) {
+		for _, r := range s.rows() {
+			v, _ := r["hour"].(string)
+			cp, err := time.Parse(time.RFC3339, v)
+			require.NoError(t, err, "checkpoint %q", v)
+			out[s.Tags["ahu"]] = cp.UTC()
+		}
+	}
+	return out
+}
