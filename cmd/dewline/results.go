@@ -32,6 +32,14 @@ type resultStore struct {
 	currency string
 }
 
+// siteTag is the site tag of state points; a site without an id is "default".
+func (rs *resultStore) siteTag() string {
+	if rs.site == "" {
+		return "default"
+	}
+	return rs.site
+}
+
 // State measurements in InfluxDB (points at influx.StateTime, replaced on
 // every commit): checkpoints (string field "hour", RFC 3339) and alert
 // rule states (string field "state", JSON; empty when inactive), tagged
@@ -52,7 +60,7 @@ func (rs *resultStore) Checkpoint(ctx context.Context, ahu string) (time.Time, b
 	}
 	var cp time.Time
 	var ok bool
-	err := rs.flux.ReadState(ctx, measurementCheckpoint, map[string]string{"site": rs.site, "ahu": ahu}, "", func(_, field, v string) error {
+	err := rs.flux.ReadState(ctx, measurementCheckpoint, map[string]string{"site": rs.siteTag(), "ahu": ahu}, "", func(_, field, v string) error {
 		if field != "hour" {
 			return nil
 		}
@@ -73,7 +81,7 @@ func (rs *resultStore) AlertStates(ctx context.Context, ahu string) (map[string]
 		raw, err = rs.state.AlertStates(ctx, ahu)
 	} else {
 		raw = map[string]json.RawMessage{}
-		err = rs.flux.ReadState(ctx, measurementAlertState, map[string]string{"site": rs.site, "ahu": ahu}, "kind", func(kind, field, v string) error {
+		err = rs.flux.ReadState(ctx, measurementAlertState, map[string]string{"site": rs.siteTag(), "ahu": ahu}, "kind", func(kind, field, v string) error {
 			if field == "state" && v != "" {
 				raw[kind] = json.RawMessage(v)
 			}
@@ -114,10 +122,10 @@ func (rs *resultStore) Commit(ctx context.Context, ahu string, recs []metrics.Re
 		// alert's old state is replaced; the checkpoint comes last.
 		for _, rule := range metrics.Rules() {
 			pts = append(pts, influx.Point{Measurement: measurementAlertState,
-				Tags:    map[string]string{"site": rs.site, "ahu": ahu, "kind": rule.Kind},
+				Tags:    map[string]string{"site": rs.siteTag(), "ahu": ahu, "kind": rule.Kind},
 				Strings: map[string]string{"state": string(states[rule.Kind])}, Time: influx.StateTime})
 		}
-		pts = append(pts, influx.Point{Measurement: measurementCheckpoint, Tags: map[string]string{"site": rs.site, "ahu": ahu},
+		pts = append(pts, influx.Point{Measurement: measurementCheckpoint, Tags: map[string]string{"site": rs.siteTag(), "ahu": ahu},
 			Strings: map[string]string{"hour": through.UTC().Format(time.RFC3339)}, Time: influx.StateTime})
 		if err := rs.flux.WritePoints(ctx, pts); err != nil {
 			return fmt.Errorf("write results to InfluxDB: %w", err)

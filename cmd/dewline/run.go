@@ -71,11 +71,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	defer st.Close()
-	site := cfg.Site.ID
-	if site == "" {
-		site = "default"
-	}
-	rs := &resultStore{state: st.emb, flux: st.flux, site: site, currency: cfg.Prices.Currency}
+	rs := &resultStore{state: st.emb, flux: st.flux, site: cfg.Site.ID, currency: cfg.Prices.Currency}
 	if st.flux != nil {
 		path := filepath.Join(filepath.Dir(*cfgPath), stateFile)
 		if rs.state, err = embedded.Open(ctx, path, embedded.Options{}); err != nil {
