@@ -140,5 +140,6 @@ func (c *Config) RuleParams() metrics.RuleParams {
 		p.MinCoverage = x
 	}
 	p.ElectricityPrice = c.Prices.ElectricityPerKWh
+	p.IP = c.Site.Units == "ip"
 	return p
 }

@@ -50,6 +50,23 @@ type RuleParams struct {
 	CoilMinLeavingC  float64 // the coldest the coil can reach, default 10 °C
 	MinCoverage      float64 // coverage below which data is missing, default 0.5
 	ElectricityPrice float64 // for money at stake when a record has no cost split
+	IP               bool    // state temperatures in reasons in °F (the site's display units)
+}
+
+// temp formats a temperature (°C) for a reason in the site's units.
+func (p RuleParams) temp(c float64) string {
+	if p.IP {
+		return fmt.Sprintf("%.1f °F", c*1.8+32)
+	}
+	return fmt.Sprintf("%.1f °C", c)
+}
+
+// delta formats a temperature difference (K) for a reason.
+func (p RuleParams) delta(k float64) string {
+	if p.IP {
+		return fmt.Sprintf("%.1f °F", k*1.8)
+	}
+	return fmt.Sprintf("%.1f K", k)
 }
 
 // DefaultRuleParams are dewline's defaults (common practice, no source).
@@ -89,8 +106,8 @@ func checkReheatNotNeeded(r *Record, p RuleParams) (bool, float64, float64, stri
 	}
 	kwh := r.ReheatAvoidKWh
 	return true, kwh, r.CostAvoidable, fmt.Sprintf(
-		"reheat added %.1f kWh while the entering air (dew point %.1f °C) was already drier than the humidity target; %.1f kWh of it was not needed",
-		r.ReheatKWh, r.EnteringDewPointC, kwh)
+		"reheat added %.1f kWh while the entering air (dew point %s) was already drier than the humidity target; %.1f kWh of it was not needed",
+		r.ReheatKWh, p.temp(r.EnteringDewPointC), kwh)
 }
 
 func checkOvercooling(r *Record, p RuleParams) (bool, float64, float64, string) {
@@ -103,11 +120,11 @@ func checkOvercooling(r *Record, p RuleParams) (bool, float64, float64, string) 
 	}
 	need := "the supply temperature"
 	if !math.IsNaN(r.RequiredLeavingC) {
-		need = fmt.Sprintf("the humidity target (%.1f °C)", r.RequiredLeavingC)
+		need = fmt.Sprintf("the humidity target (%s)", p.temp(r.RequiredLeavingC))
 	}
 	return true, kwh, r.CostAvoidable, fmt.Sprintf(
-		"the coil left air at %.1f °C, %.1f K colder than %s needed; that cost %.1f kWh of cooling and %.1f kWh of reheat",
-		r.LeavingTempC, r.OvercoolingK, need, r.CoolingAvoidKWh, r.ReheatAvoidKWh)
+		"the coil left air at %s, %s colder than %s needed; that cost %.1f kWh of cooling and %.1f kWh of reheat",
+		p.temp(r.LeavingTempC), p.delta(r.OvercoolingK), need, r.CoolingAvoidKWh, r.ReheatAvoidKWh)
 }
 
 func checkLowEfficiency(r *Record, p RuleParams) (bool, float64, float64, string) {
@@ -127,8 +144,8 @@ func checkTargetMissed(r *Record, p RuleParams) (bool, float64, float64, string)
 		return false, 0, 0, ""
 	}
 	return true, 0, 0, fmt.Sprintf(
-		"the coil is at its coldest (%.1f °C leaving) but the humidity target needs %.1f °C: space humidity may rise above the target",
-		r.LeavingTempC, r.RequiredLeavingC)
+		"the coil is at its coldest (%s leaving) but the humidity target needs %s: space humidity may rise above the target",
+		p.temp(r.LeavingTempC), p.temp(r.RequiredLeavingC))
 }
 
 func checkDataGap(r *Record, p RuleParams) (bool, float64, float64, string) {

@@ -113,3 +113,18 @@ func TestRules_Conditions(t *testing.T) {
 		})
 	}
 }
+
+// TestRules_ReasonsInSiteUnits: an IP site reads its reasons in °F.
+func TestRules_ReasonsInSiteUnits(t *testing.T) {
+	p := metrics.DefaultRuleParams
+	p.IP = true
+	r := metrics.Record{Coverage: 1, OvercoolingK: 2.5, LeavingTempC: 10, RequiredLeavingC: 12.5, CoolingAvoidKWh: 3, ReheatAvoidKWh: 4}
+	var reason string
+	for _, rule := range metrics.Rules() {
+		if rule.Kind == metrics.AlertOvercooling {
+			_, _, _, reason = rule.Check(&r, p)
+		}
+	}
+	// 10 °C = 50.0 °F, 2.5 K = 4.5 °F, 12.5 °C = 54.5 °F.
+	assert.Contains(t, reason, "the coil left air at 50.0 °F, 4.5 °F colder than the humidity target (54.5 °F)")
+}
