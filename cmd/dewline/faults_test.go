@@ -786,6 +786,8 @@ func TestFault_OneBrokenAirHandler(t *testing.T) {
 		l := find("alert", "AHU-8")
 		require.NotNil(t, l, "the data_gap alert is logged")
 		assert.Equal(t, "data_gap", l.str("alert"))
+		require.NotNil(t, find("point not found in InfluxDB", "AHU-8"), "the misspelt point is reported at start")
+		assert.Contains(t, ready, `"ahu":"AHU-8"`, "/readyz lists it")
 	})
 	t.Run("point matching several series", func(t *testing.T) {
 		l := find("air handler run failed", "AHU-9")

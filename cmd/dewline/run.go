@@ -8,6 +8,8 @@ import (
 	"path/filepath"
 	"time"
 
+	"github.com/rs/zerolog"
+
 	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/embedded"
@@ -110,6 +112,9 @@ func runRun(ctx context.Context, e *env, args []string) error {
 			log.Warn().Str("ahu", ahu).Str("role", string(role)).Str("point", point).Msg("point has no data in the store")
 			tel.SetConfigProblem(ahu, fmt.Sprintf("%s: point %q has no data in the store", role, point))
 		}}
+	if st.flux != nil && !*dry {
+		checkInfluxPoints(ctx, st.flux, cfg, owned, tel, log)
+	}
 	runner := &agent.Runner{
 		Cfg:       cfg,
 		Source:    source,
@@ -199,4 +204,31 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		log.Warn().Err(err).Msg("http shutdown")
 	}
 	return serveErr
+}
+
+// checkInfluxPoints looks up every owned point once at start: InfluxDB
+// cannot tell a point that does not exist from one that is quiet, so a
+// misspelt measurement, field or tag would otherwise only show as hours
+// without data. A missing point is logged and shown as its air handler's
+// problem; a store that does not answer is left to the runs to report.
+func checkInfluxPoints(ctx context.Context, c *influx.Client, cfg *agent.Config, owned []string, tel *agent.Telemetry, log zerolog.Logger) {
+	ctx, cancel := context.WithTimeout(ctx, time.Minute)
+	defer cancel()
+	to := time.Now()
+	from := to.Add(-cfg.Schedule.Backfill)
+	for _, id := range owned {
+		a, _ := cfg.AirHandler(id)
+		for role, ref := range a.PointMap() {
+			_, err := c.CheckPoint(ctx, ref, from, to)
+			switch {
+			case err == nil:
+			case errors.Is(err, influx.ErrNoSuchPoint):
+				log.Warn().Str("ahu", id).Str("role", string(role)).Err(err).Msg("point not found in InfluxDB")
+				tel.SetConfigProblem(id, fmt.Sprintf("%s: %v", role, err))
+			default:
+				log.Warn().Err(err).Msg("could not check the points in InfluxDB; runs will report the store")
+				return
+			}
+		}
+	}
 }
