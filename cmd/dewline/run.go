@@ -112,7 +112,9 @@ func runRun(ctx context.Context, e *env, args []string) error {
 			log.Warn().Str("ahu", ahu).Str("role", string(role)).Str("point", point).Msg("point has no data in the store")
 			tel.SetConfigProblem(ahu, fmt.Sprintf("%s: point %q has no data in the store", role, point))
 		}}
-	if st.flux != nil && !*dry {
+	if st.flux != nil && !*dry && !*once {
+		// The long-running agent looks its points up once; "dewline check
+		// --store" does the same on demand.
 		checkInfluxPoints(ctx, st.flux, cfg, owned, tel, log)
 	}
 	runner := &agent.Runner{
