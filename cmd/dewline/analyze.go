@@ -140,7 +140,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 			if err := st.putHourly(ctx, batch); err != nil {
 				return fmt.Errorf("write results: %w", err)
 			}
-			if err := st.putAlerts(ctx, trs); err != nil {
+			if err := st.putAlerts(ctx, trs, cfg.Prices.Currency); err != nil {
 				return fmt.Errorf("write alerts: %w", err)
 			}
 		}

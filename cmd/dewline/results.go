@@ -139,14 +139,12 @@ func (rs *resultStore) Commit(ctx context.Context, ahu string, recs []metrics.Re
 		}
 	}
 	for _, t := range up.Transitions {
-		a := t.Alert
-		c.Alerts = append(c.Alerts, embedded.AlertRow{ID: a.ID, AHU: a.AHU, Kind: a.Kind, Severity: string(a.Severity),
-			State: string(t.To), Start: a.Start, End: a.End, EnergyKWh: a.EnergyKWh, Cost: a.Money, Reason: a.Reason})
-		payload, err := agent.AlertPayload(t, rs.currency)
+		row, ev, err := alertRecords(t, rs.currency)
 		if err != nil {
 			return err
 		}
-		c.Events = append(c.Events, embedded.AlertEvent{AlertID: a.ID, Transition: transitionName(t.To), At: t.At, Payload: payload})
+		c.Alerts = append(c.Alerts, row)
+		c.Events = append(c.Events, ev)
 	}
 	// Pending alerts are kept in the alerts table too, for dashboards.
 	kinds := make([]string, 0, len(up.States))
@@ -163,6 +161,19 @@ func (rs *resultStore) Commit(ctx context.Context, ahu string, recs []metrics.Re
 			State: string(a.Status), Start: a.Start, EnergyKWh: a.EnergyKWh, Cost: a.Money, Reason: a.Reason})
 	}
 	return rs.state.Commit(ctx, c)
+}
+
+// alertRecords is a transition as the embedded store keeps it: the alert's
+// row and the event queued for the webhook, with its JSON body.
+func alertRecords(t metrics.Transition, currency string) (embedded.AlertRow, embedded.AlertEvent, error) {
+	a := t.Alert
+	row := embedded.AlertRow{ID: a.ID, AHU: a.AHU, Kind: a.Kind, Severity: string(a.Severity),
+		State: string(t.To), Start: a.Start, End: a.End, EnergyKWh: a.EnergyKWh, Cost: a.Money, Reason: a.Reason}
+	payload, err := agent.AlertPayload(t, currency)
+	if err != nil {
+		return row, embedded.AlertEvent{}, err
+	}
+	return row, embedded.AlertEvent{AlertID: a.ID, Transition: transitionName(t.To), At: t.At, Payload: payload}, nil
 }
 
 func transitionName(s metrics.Status) string {

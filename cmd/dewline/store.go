@@ -85,17 +85,7 @@ func (s *stores) putHourly(ctx context.Context, recs []metrics.Record) error {
 		return nil
 	}
 	if s.flux != nil {
-		pts := make([]influx.Point, 0, len(recs))
-		for _, r := range recs {
-			f := map[string]float64{}
-			for _, x := range r.Fields() {
-				if !isBad(x.Value) {
-					f[x.Name] = x.Value
-				}
-			}
-			pts = append(pts, influx.Point{Measurement: measurementHourly, Tags: map[string]string{"ahu": r.AHU}, Fields: f, Time: r.HourStart})
-		}
-		return s.flux.WritePoints(ctx, pts)
+		return s.flux.WritePoints(ctx, hourlyPoints(recs))
 	}
 	rows := make([]embedded.HourRow, 0, len(recs))
 	for _, r := range recs {
@@ -112,26 +102,25 @@ func hourRow(r *metrics.Record) embedded.HourRow {
 	return embedded.HourRow{AHU: r.AHU, Hour: r.HourStart, Schema: metrics.RecordSchema, Fields: f, Flags: r.Flags}
 }
 
-// putAlerts records alert transitions as alert states and events.
-func (s *stores) putAlerts(ctx context.Context, tr []metrics.Transition) error {
+// putAlerts records alert transitions: in InfluxDB as dewline_alert
+// points, in the embedded store as alerts and webhook events (the same
+// records the agent writes).
+func (s *stores) putAlerts(ctx context.Context, tr []metrics.Transition, currency string) error {
+	if len(tr) == 0 {
+		return nil
+	}
+	if s.flux != nil {
+		return s.flux.WritePoints(ctx, alertPoints(tr))
+	}
 	for _, t := range tr {
-		a := t.Alert
-		if s.flux != nil {
-			err := s.flux.WritePoints(ctx, []influx.Point{{Measurement: measurementAlert,
-				Tags:   map[string]string{"ahu": a.AHU, "kind": a.Kind, "severity": string(a.Severity), "status": string(t.To)},
-				Fields: map[string]float64{"energy_kwh": a.EnergyKWh, "money": a.Money, "open": b2f(t.To == metrics.StatusOpen)},
-				Time:   t.At}})
-			if err != nil {
-				return err
-			}
-			continue
+		row, ev, err := alertRecords(t, currency)
+		if err != nil {
+			return err
 		}
-		row := embedded.AlertRow{ID: a.ID, AHU: a.AHU, Kind: a.Kind, Severity: string(a.Severity), State: string(t.To),
-			Start: a.Start, End: a.End, EnergyKWh: a.EnergyKWh, Cost: a.Money, Reason: a.Reason}
 		if err := s.emb.PutAlert(ctx, row); err != nil {
 			return err
 		}
-		if _, err := s.emb.AppendAlertEvent(ctx, embedded.AlertEvent{AlertID: a.ID, Transition: string(t.To), At: t.At}); err != nil {
+		if _, err := s.emb.AppendAlertEvent(ctx, ev); err != nil {
 			return err
 		}
 	}
