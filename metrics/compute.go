@@ -34,7 +34,7 @@ func Compute(u *Unit, hr *Hour) Record {
 
 	var (
 		valid, coolOnSteps, needSteps, moistSteps, supersatSteps, noCoilSteps, modelled int
-		sumTIn, sumWIn, sumTLv, sumTSup, sumReq, sumOver                                float64
+		sumTIn, sumWIn, sumWLv, sumTLv, sumTSup, sumReq, sumOver                        float64
 		reheatElecIn, reheatAvoidIn, meterHeat, computedHeat                            float64
 		meterSteps                                                                      int
 	)
@@ -109,12 +109,13 @@ func Compute(u *Unit, hr *Hour) Record {
 		}
 		sumTIn += in.tIn
 		sumWIn += o.wIn
+		sumWLv += o.wOut
 		sumTLv += in.tLv
 		sumTSup += in.tSup
 	}
 	rec.Coverage = float64(valid) / float64(n)
 	nan := math.NaN()
-	rec.EnteringTempC, rec.EnteringDewPointC, rec.LeavingTempC, rec.SupplyTempC = nan, nan, nan, nan
+	rec.EnteringTempC, rec.EnteringDewPointC, rec.LeavingTempC, rec.LeavingDewPointC, rec.SupplyTempC = nan, nan, nan, nan, nan
 	rec.RequiredLeavingC, rec.OvercoolingK = nan, nan
 	if valid > 0 {
 		fv := float64(valid)
@@ -123,6 +124,9 @@ func Compute(u *Unit, hr *Hour) Record {
 		w := sumWIn / fv
 		if td, err := psychro.DewPointFromHumRatio(w, u.PressurePa); err == nil {
 			rec.EnteringDewPointC = td
+		}
+		if td, err := psychro.DewPointFromHumRatio(sumWLv/fv, u.PressurePa); err == nil {
+			rec.LeavingDewPointC = td
 		}
 	}
 	if needSteps > 0 {

@@ -44,6 +44,7 @@ type Record struct {
 	EnteringTempC     float64 // means over covered steps
 	EnteringDewPointC float64
 	LeavingTempC      float64
+	LeavingDewPointC  float64 // dew point of the hour's mean coil leaving humidity ratio
 	RequiredLeavingC  float64 // mean over steps where the target needed dehumidification; NaN when it never did
 	SupplyTempC       float64
 	OvercoolingK      float64 // mean over coil-on steps of (needed coil temperature - actual), when positive
@@ -98,6 +99,7 @@ func (r *Record) Fields() []Field {
 		{"entering_temp_c", r.EnteringTempC},
 		{"entering_dewpoint_c", r.EnteringDewPointC},
 		{"leaving_temp_c", r.LeavingTempC},
+		{"leaving_dewpoint_c", r.LeavingDewPointC},
 		{"required_leaving_temp_c", r.RequiredLeavingC},
 		{"supply_temp_c", r.SupplyTempC},
 		{"overcooling_k", r.OvercoolingK},
@@ -143,7 +145,7 @@ func (r *Record) fieldPtrs() map[string]*float64 {
 		"cooling_avoidable_input_kwh": &r.CoolingAvoidKWh, "fan_heat_kwh": &r.FanHeatKWh, "electricity_kwh": &r.ElectricityKWh,
 		"fuel_kwh": &r.FuelKWh, "reheat_coil_ratio": &r.ReheatCoilRatio, "coil_eer": &r.CoilEER, "effective_eer": &r.EffectiveEER,
 		"shr": &r.SHR, "water_per_kwh_l": &r.WaterPerKWhL, "shc_h": &r.SHCHours, "shc_unneeded_h": &r.SHCUnneededH,
-		"entering_temp_c": &r.EnteringTempC, "entering_dewpoint_c": &r.EnteringDewPointC, "leaving_temp_c": &r.LeavingTempC,
+		"entering_temp_c": &r.EnteringTempC, "entering_dewpoint_c": &r.EnteringDewPointC, "leaving_temp_c": &r.LeavingTempC, "leaving_dewpoint_c": &r.LeavingDewPointC,
 		"required_leaving_temp_c": &r.RequiredLeavingC, "supply_temp_c": &r.SupplyTempC, "overcooling_k": &r.OvercoolingK,
 		"humidity_need_h": &r.HumidityNeedHours, "cost": &r.Cost, "cost_avoidable": &r.CostAvoidable, "co2_kg": &r.CO2Kg,
 		"co2_avoidable_kg": &r.CO2AvoidableKg, "water_removed_kg_u95": &r.WaterRemovedKgU95, "coil_total_kwh_u95": &r.CoilTotalKWhU95,
