@@ -25,9 +25,10 @@ var ErrInsecureListen = errors.New("listening beyond loopback needs a bearer tok
 type ServerOptions struct {
 	// Listen is host:port; port 0 picks a free port (see Server.Addr).
 	Listen string
-	// BearerToken, when set, is required by every route but /healthz as
-	// "Authorization: Bearer <token>". It is required for an address other
-	// than loopback. It is a secret: it never reaches logs or errors.
+	// BearerToken, when set, is required by every route but /healthz and
+	// /readyz as "Authorization: Bearer <token>", or as the password of
+	// basic auth (any user name) so that a browser can open the dashboard. It is
+	// required for an address other than loopback. It is a secret: it never reaches logs or errors.
 	BearerToken string
 	// Telemetry backs /readyz and /metrics; required.
 	Telemetry *Telemetry
@@ -236,24 +237,44 @@ func (s *Server) authorize(h http.Handler) http.Handler {
 		return h
 	}
 	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
-		if r.URL.Path == "/healthz" {
+		if r.URL.Path == "/healthz" || r.URL.Path == "/readyz" {
 			h.ServeHTTP(w, r)
 			return
 		}
-		scheme, token, found := strings.Cut(r.Header.Get("Authorization"), " ")
-		if !found || !strings.EqualFold(scheme, "Bearer") {
-			w.Header().Set("WWW-Authenticate", `Bearer realm="dewline"`)
-			http.Error(w, "unauthorized: send Authorization: Bearer <token>", http.StatusUnauthorized)
+		var presented string
+		scheme, rest, found := strings.Cut(r.Header.Get("Authorization"), " ")
+		switch {
+		case found && strings.EqualFold(scheme, "Bearer"):
+			presented = strings.TrimSpace(rest)
+		case found && strings.EqualFold(scheme, "Basic"):
+			// A browser cannot send a bearer token when it opens a page:
+			// basic auth with any user name and the token as the
+			// password does the same job.
+			if _, pw, ok := r.BasicAuth(); ok {
+				presented = pw
+			}
+		}
+		if presented == "" {
+			challenge(w)
+			http.Error(w, "unauthorized: send Authorization: Bearer <token> (or basic auth with the token as the password)", http.StatusUnauthorized)
 			return
 		}
-		got := sha256.Sum256([]byte(strings.TrimSpace(token)))
+		got := sha256.Sum256([]byte(presented))
 		if subtle.ConstantTimeCompare(got[:], s.tokenH[:]) != 1 {
-			w.Header().Set("WWW-Authenticate", `Bearer realm="dewline", error="invalid_token"`)
+			w.Header().Add("WWW-Authenticate", `Bearer realm="dewline", error="invalid_token"`)
+			w.Header().Add("WWW-Authenticate", `Basic realm="dewline", charset="UTF-8"`)
 			http.Error(w, "unauthorized: wrong token", http.StatusUnauthorized)
 			return
 		}
 		h.ServeHTTP(w, r)
 	})
+}
+
+// challenge names both ways in: the bearer token for programs, basic auth
+// for a browser's login prompt.
+func challenge(w http.ResponseWriter) {
+	w.Header().Add("WWW-Authenticate", `Bearer realm="dewline"`)
+	w.Header().Add("WWW-Authenticate", `Basic realm="dewline", charset="UTF-8"`)
 }
 
 // logRequests logs each request at debug level: method, path, status,

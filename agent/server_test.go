@@ -3,6 +3,7 @@ package agent
 import (
 	"bytes"
 	"context"
+	"encoding/base64"
 	"encoding/json"
 	"errors"
 	"io"
@@ -152,15 +153,17 @@ func TestServer_Auth(t *testing.T) {
 		{"healthz without token", "/healthz", "", http.StatusOK, ""},
 		{"healthz with wrong token", "/healthz", "Bearer nope", http.StatusOK, ""},
 		{"metrics without token", "/metrics", "", http.StatusUnauthorized, `Bearer realm="dewline"`},
-		{"readyz without token", "/readyz", "", http.StatusUnauthorized, `Bearer realm="dewline"`},
+		{"readyz without token (probes cannot send one)", "/readyz", "", http.StatusOK, ""},
 		{"pages without token", "/", "", http.StatusUnauthorized, `Bearer realm="dewline"`},
 		{"wrong token", "/metrics", "Bearer " + token + "x", http.StatusUnauthorized, `Bearer realm="dewline", error="invalid_token"`},
 		{"prefix of token", "/metrics", "Bearer " + token[:5], http.StatusUnauthorized, `Bearer realm="dewline", error="invalid_token"`},
 		{"empty bearer", "/metrics", "Bearer ", http.StatusUnauthorized, `Bearer realm="dewline"`},
-		{"basic scheme", "/metrics", "Basic " + token, http.StatusUnauthorized, `Bearer realm="dewline"`},
+		{"basic scheme, token not encoded", "/metrics", "Basic " + token, http.StatusUnauthorized, `Bearer realm="dewline"`},
+		{"basic auth with the token as password", "/", "Basic " + base64.StdEncoding.EncodeToString([]byte("facility:"+token)), http.StatusOK, ""},
+		{"basic auth with a wrong password", "/", "Basic " + base64.StdEncoding.EncodeToString([]byte(token+":x")), http.StatusUnauthorized, `Bearer realm="dewline", error="invalid_token"`},
 		{"token without scheme", "/metrics", token, http.StatusUnauthorized, `Bearer realm="dewline"`},
 		{"right token", "/metrics", "Bearer " + token, http.StatusOK, ""},
-		{"scheme in lower case", "/readyz", "bearer " + token, http.StatusOK, ""},
+		{"scheme in lower case", "/metrics", "bearer " + token, http.StatusOK, ""},
 		{"pages with token", "/", "Bearer " + token, http.StatusOK, ""},
 		{"unclean healthz path", "/./healthz", "", http.StatusUnauthorized, `Bearer realm="dewline"`},
 	}

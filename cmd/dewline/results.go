@@ -229,10 +229,21 @@ func alertPoints(tr []metrics.Transition) []influx.Point {
 		pts = append(pts, influx.Point{Measurement: measurementAlert,
 			Tags:    map[string]string{"ahu": a.AHU, "kind": a.Kind, "severity": string(a.Severity), "status": string(t.To)},
 			Fields:  map[string]float64{"energy_kwh": a.EnergyKWh, "money": a.Money, "open": b2f(t.To == metrics.StatusOpen)},
-			Strings: map[string]string{"id": a.ID, "reason": a.Reason},
+			Strings: alertStrings(a),
 			Time:    t.At})
 	}
 	return pts
+}
+
+// alertStrings are the string fields of an alert transition point: its
+// identity, reason, and start and end (RFC 3339, end empty while ongoing),
+// so that the dashboard can rebuild the alert from its last transition.
+func alertStrings(a metrics.Alert) map[string]string {
+	end := ""
+	if !a.End.IsZero() {
+		end = a.End.UTC().Format(time.RFC3339)
+	}
+	return map[string]string{"id": a.ID, "reason": a.Reason, "start": a.Start.UTC().Format(time.RFC3339), "end": end}
 }
 
 // dryRun wraps a result store: it reads checkpoints and alert states from
