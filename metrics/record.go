@@ -136,6 +136,10 @@ func (r *Record) SetField(name string, v float64) bool {
 	return ok
 }
 
+// FieldPtrs maps every field name to the field in r, for a reader that
+// fills one record again and again (build the map once, reuse the record).
+func (r *Record) FieldPtrs() map[string]*float64 { return r.fieldPtrs() }
+
 func (r *Record) fieldPtrs() map[string]*float64 {
 	return map[string]*float64{
 		"coverage": &r.Coverage, "dry_air_kg": &r.DryAirKg, "water_removed_kg": &r.WaterRemovedKg,

@@ -36,6 +36,7 @@ var commands = map[string]command{
 	"import":  {"load trend exports (CSV) into the configured store", runImport},
 	"run":     {"the agent: compute every hour on a schedule, write results and alerts back, serve health and metrics", runRun},
 	"analyze": {"compute the hourly figures and alerts for a period, from the store or from exports", runAnalyze},
+	"serve":   {"serve the dashboard over the stored results (read-only)", runServe},
 }
 
 // usageError is a mistake in the command line: it prints the reason and exits 2.

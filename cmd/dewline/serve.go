@@ -1,0 +1,98 @@
+package main
+
+import (
+	"context"
+	"flag"
+	"fmt"
+	"time"
+
+	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/dashboards"
+)
+
+// siteFor is the dashboard's view of the configuration.
+func siteFor(cfg *agent.Config) *dashboards.Site {
+	s := &dashboards.Site{Name: cfg.Site.Name, Zone: cfg.Location, IP: cfg.Site.Units == "ip",
+		Currency: cfg.Prices.Currency, PressurePa: cfg.PressurePa}
+	for i := range cfg.AirHandlers {
+		a := &cfg.AirHandlers[i]
+		name := a.Name
+		if name == "" {
+			name = a.ID
+		}
+		s.Units = append(s.Units, dashboards.Unit{ID: a.ID, Name: name, Spec: cfg.Unit(a)})
+	}
+	return s
+}
+
+// dashboardFor builds the dashboard over the configured store.
+func dashboardFor(cfg *agent.Config, st *stores, e *env) (*dashboards.Handler, error) {
+	return dashboards.New(dashboards.Options{Site: siteFor(cfg), Results: st.results(time.Now),
+		Log: e.log.With().Str("component", "dashboard").Logger()})
+}
+
+func runServe(ctx context.Context, e *env, args []string) error {
+	fs := flag.NewFlagSet("serve", flag.ContinueOnError)
+	cfgPath := fs.String("config", "", "configuration file (required)")
+	listen := fs.String("listen", "", "host:port to listen on (default: http.listen of the configuration, 127.0.0.1:9470)")
+	fs.Usage = func() {
+		fmt.Fprintln(fs.Output(), "usage: dewline serve --config FILE [--listen 127.0.0.1:9470]")
+		fmt.Fprintln(fs.Output(), "Serves the dashboard over the results in the configured store, read-only.")
+		fs.PrintDefaults()
+	}
+	if err := parseFlags(fs, args, e.stdout); err != nil {
+		return err
+	}
+	cfg, err := loadConfig(*cfgPath)
+	if err != nil {
+		return err
+	}
+	st, err := openStore(ctx, cfg, true, e.log)
+	if err != nil {
+		return err
+	}
+	defer st.Close()
+	addr := cfg.HTTP.Listen
+	if *listen != "" {
+		addr = *listen
+	}
+	return serveDashboard(ctx, e, cfg, st, addr)
+}
+
+// serveDashboard serves the dashboard with the agent's HTTP server (health,
+// readiness, metrics, security headers, token) until ctx ends.
+func serveDashboard(ctx context.Context, e *env, cfg *agent.Config, st *stores, addr string) error {
+	pages, err := dashboardFor(cfg, st, e)
+	if err != nil {
+		return err
+	}
+	token, err := agent.SecretFromEnv("http.token_env", cfg.HTTP.TokenEnv)
+	if err != nil {
+		return err
+	}
+	tel := agent.NewTelemetry()
+	tel.SetStoreUp(true, "")
+	if st.flux != nil {
+		pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
+		if err := st.flux.Ping(pctx); err != nil {
+			tel.SetStoreUp(false, err.Error())
+			e.log.Warn().Err(err).Msg("InfluxDB does not answer yet; the pages will say so until it does")
+		}
+		cancel()
+	}
+	log := e.log.With().Str("component", "http").Logger()
+	srv, err := agent.NewServer(agent.ServerOptions{Listen: addr, BearerToken: token, Telemetry: tel, Pages: pages, Log: log})
+	if err != nil {
+		return err
+	}
+	if err := srv.Start(); err != nil {
+		return err
+	}
+	url := "http://" + srv.Addr() + "/"
+	log.Info().Str("url", url).Msg("dashboard listening")
+	fmt.Fprintf(e.stdout, "dashboard: %s (Ctrl-C to stop)\n", url)
+	<-ctx.Done()
+	sctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
+	defer cancel()
+	return srv.Shutdown(sctx)
+}

@@ -1,0 +1,100 @@
+package dashboards
+
+import (
+	"context"
+	"time"
+
+	"github.com/dewline/dewline/metrics"
+)
+
+// Site is what the pages and the report know of the configuration.
+type Site struct {
+	Name     string
+	Zone     *time.Location // days and tick labels are in this zone
+	IP       bool           // the site's display units (a page may switch)
+	Currency string
+	// PressurePa is the site's barometric pressure, for the chart.
+	PressurePa float64
+	Units      []Unit // in configuration order
+	// Basis records assumptions the report states, in plain words, by
+	// topic (e.g. "airflow", "prices"). Optional.
+	Basis []Assumption
+}
+
+// Assumption is one stated basis of the figures.
+type Assumption struct {
+	Topic, Text string
+}
+
+// Unit is one air handler as configured.
+type Unit struct {
+	ID, Name string
+	Spec     *metrics.Unit // cooling and reheat kinds, target, prices, pressure
+}
+
+// Unit returns the configured unit with id.
+func (s *Site) Unit(id string) (Unit, bool) {
+	for _, u := range s.Units {
+		if u.ID == id {
+			return u, true
+		}
+	}
+	return Unit{}, false
+}
+
+// Results is where the pages read what the engine computed. The embedded
+// store and InfluxDB satisfy it through adapters in cmd/dewline.
+type Results interface {
+	// Hours calls fn with the records of ahu (every unit when ahu is "")
+	// whose hour starts in [from, to), in hour order for each unit. The
+	// record passed to fn may be reused after fn returns.
+	Hours(ctx context.Context, ahu string, from, to time.Time, fn func(*metrics.Record) error) error
+	// Alerts returns the alerts that overlap [q.From, q.To) and match q's
+	// other fields, in start order.
+	Alerts(ctx context.Context, q AlertQuery) ([]Alert, error)
+	// Span returns the first and the last stored hour; ok is false when
+	// nothing is stored yet.
+	Span(ctx context.Context) (first, last time.Time, ok bool, err error)
+}
+
+// AlertQuery selects alerts; empty fields match all.
+type AlertQuery struct {
+	AHU      string
+	Kind     string
+	State    string // pending, open or closed
+	From, To time.Time
+}
+
+// Alert is an alert as stored.
+type Alert struct {
+	ID        string    `json:"id"`
+	AHU       string    `json:"ahu"`
+	Kind      string    `json:"kind"`
+	Severity  string    `json:"severity"`
+	State     string    `json:"state"`
+	Start     time.Time `json:"start"`
+	End       time.Time `json:"end,omitzero"` // zero while ongoing
+	EnergyKWh float64   `json:"energy_kwh"`
+	Money     float64   `json:"money"`
+	Reason    string    `json:"reason"`
+}
+
+// Duration is how long the alert has held: to its end, or to now while ongoing.
+func (a Alert) Duration(now time.Time) time.Duration {
+	end := a.End
+	if end.IsZero() {
+		end = now
+	}
+	if end.Before(a.Start) {
+		return 0
+	}
+	return end.Sub(a.Start)
+}
+
+// Overlaps reports whether the alert was active at some time in [from, to).
+func (a Alert) Overlaps(from, to time.Time) bool {
+	if !to.IsZero() && !a.Start.Before(to) {
+		return false
+	}
+	return from.IsZero() || a.End.IsZero() || a.End.After(from)
+}
