@@ -21,6 +21,11 @@ import (
 //go:embed templates/*.html static/*
 var assets embed.FS
 
+// pageTemplates are the dashboard's own templates (the report and the
+// comparison have theirs).
+var pageTemplates = []string{"templates/layout.html", "templates/overview.html", "templates/unit.html",
+	"templates/chart.html", "templates/alerts.html", "templates/error.html"}
+
 // Options configures the dashboard.
 type Options struct {
 	Site    *Site
@@ -63,7 +68,7 @@ func New(opt Options) (*Handler, error) {
 	if opt.Site.Zone == nil {
 		opt.Site.Zone = time.UTC
 	}
-	t, err := template.New("").Funcs(funcs).ParseFS(assets, "templates/*.html")
+	t, err := template.New("").Funcs(funcs).ParseFS(assets, pageTemplates...)
 	if err != nil {
 		return nil, fmt.Errorf("dashboard templates: %w", err)
 	}
@@ -543,8 +548,8 @@ var funcs = template.FuncMap{
 	"kindLabel": func(k string) string {
 		return strings.ReplaceAll(k, "_", " ")
 	},
-	"temp":  func(d Display, c float64) string { return fmtFixed(d.Temp(c), 1) },
-	"water": func(d Display, kg Num) string { return fmtQty(d.Water(float64(kg))) },
+	"temp":      func(d Display, c float64) string { return fmtFixed(d.Temp(c), 1) },
+	"water":     func(d Display, kg Num) string { return fmtQty(d.Water(float64(kg))) },
 	"sub":       func(a, b Num) Num { return a - b },
 	"unitPath":  func(id string) string { return "/units/" + url.PathEscape(id) },
 	"chartPath": func(id string) string { return "/units/" + url.PathEscape(id) + "/chart" },

@@ -11,7 +11,7 @@ import (
 	"github.com/stretchr/testify/require"
 )
 
-var update = flag.Bool("update", false, "rewrite the expected files of testdata/cases")
+var update = flag.Bool("update", false, "rewrite the expected files of testdata/cases and the README's chart")
 
 // TestCases runs "dewline analyze" on every folder of testdata/cases
 // (config.yaml, input.csv) and compares the hourly output with

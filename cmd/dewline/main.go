@@ -13,6 +13,7 @@ import (
 	"sort"
 	"syscall"
 
+	"github.com/mattn/go-isatty"
 	"github.com/rs/zerolog"
 
 	"github.com/dewline/dewline/agent"
@@ -37,6 +38,9 @@ var commands = map[string]command{
 	"run":     {"the agent: compute every hour on a schedule, write results and alerts back, serve health and metrics", runRun},
 	"analyze": {"compute the hourly figures and alerts for a period, from the store or from exports", runAnalyze},
 	"serve":   {"serve the dashboard over the stored results (read-only)", runServe},
+	"demo":    {"generate an invented building's trend logs, analyse them, write the report and serve the dashboard", runDemo},
+	"report":  {"write a self-contained HTML report (and with --pdf a PDF) of a period's findings, measures and method", runReport},
+	"compare": {"compare two periods around a sequence change, normalised for the entering-air humidity", runCompare},
 }
 
 // usageError is a mistake in the command line: it prints the reason and exits 2.
@@ -67,7 +71,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	global := flag.NewFlagSet("dewline", flag.ContinueOnError)
 	global.SetOutput(stderr)
 	logLevel := global.String("log-level", "info", "log level: debug, info, warn, error")
-	logFormat := global.String("log-format", "json", "log format: json or console")
+	logFormat := global.String("log-format", "auto", "log format: json, console, or auto (console on a terminal, JSON otherwise)")
 	global.Usage = func() { printUsage(stderr) }
 	if err := global.Parse(args); err != nil {
 		if errors.Is(err, flag.ErrHelp) {
@@ -139,18 +143,24 @@ func newLogger(w io.Writer, level, format string) (zerolog.Logger, error) {
 	if err != nil || level == "" {
 		return zerolog.Logger{}, fmt.Errorf("--log-level %q: use debug, info, warn or error", level)
 	}
+	if format == "auto" {
+		format = "json"
+		if f, ok := w.(*os.File); ok && isatty.IsTerminal(f.Fd()) {
+			format = "console"
+		}
+	}
 	switch format {
 	case "json":
 		return zerolog.New(w).Level(lvl).With().Timestamp().Logger(), nil
 	case "console":
 		return zerolog.New(zerolog.ConsoleWriter{Out: w}).Level(lvl).With().Timestamp().Logger(), nil
 	}
-	return zerolog.Logger{}, fmt.Errorf("--log-format %q: use json or console", format)
+	return zerolog.Logger{}, fmt.Errorf("--log-format %q: use json, console or auto", format)
 }
 
 func printUsage(w io.Writer) {
 	fmt.Fprintln(w, "dewline: dehumidification and reheat energy from air-handler trend logs")
-	fmt.Fprintln(w, "\nusage: dewline [--log-level L] [--log-format json|console] COMMAND [flags]")
+	fmt.Fprintln(w, "\nusage: dewline [--log-level L] [--log-format auto|json|console] COMMAND [flags]")
 	fmt.Fprintln(w, "\ncommands:")
 	names := make([]string, 0, len(commands))
 	for n := range commands {

@@ -6,6 +6,8 @@ import (
 	"flag"
 	"fmt"
 	"path/filepath"
+	"strconv"
+	"strings"
 	"time"
 
 	"github.com/rs/zerolog"
@@ -37,7 +39,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	cfgPath := fs.String("config", "", "configuration file (required)")
 	once := fs.Bool("once", false, "compute the pending hours and exit")
 	dry := fs.Bool("dry-run", false, "print what would be written (InfluxDB line protocol) and write nothing; implies --once")
-	shardS := fs.String("shard", "", "take only this replica's share of the air handlers, i/n (0 <= i < n)")
+	shardS := fs.String("shard", "", "take only this replica's share of the air handlers, i/n (0 <= i < n), or a StatefulSet pod name and n, e.g. dewline-2/3")
 	grace := fs.Duration("grace", 30*time.Second, "on shutdown, how long the run in flight may take to finish")
 	asOf := fs.String("as-of", "", "with --once or --dry-run: compute as if the time were T (site time or RFC 3339), to re-run a past day")
 	fs.Usage = func() {
@@ -58,8 +60,8 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	}
 	var shard agent.Shard
 	if *shardS != "" {
-		if shard, err = agent.ParseShard(*shardS); err != nil {
-			return usagef("--shard: %v", err)
+		if shard, err = parseShard(*shardS); err != nil {
+			return err
 		}
 	}
 	log := e.log.With().Str("component", "agent").Str("site", cfg.Site.ID).Logger()
@@ -112,11 +114,6 @@ func runRun(ctx context.Context, e *env, args []string) error {
 			log.Warn().Str("ahu", ahu).Str("role", string(role)).Str("point", point).Msg("point has no data in the store")
 			tel.SetConfigProblem(ahu, fmt.Sprintf("%s: point %q has no data in the store", role, point))
 		}}
-	if st.flux != nil && !*dry && !*once {
-		// The long-running agent looks its points up once; "dewline check
-		// --store" does the same on demand.
-		checkInfluxPoints(ctx, st.flux, cfg, owned, tel, log)
-	}
 	runner := &agent.Runner{
 		Cfg:       cfg,
 		Source:    source,
@@ -168,7 +165,11 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	srv, err := agent.NewServer(agent.ServerOptions{Listen: cfg.HTTP.Listen, BearerToken: token, Telemetry: tel,
+	pages, err := dashboardFor(cfg, st, e)
+	if err != nil {
+		return err
+	}
+	srv, err := agent.NewServer(agent.ServerOptions{Listen: cfg.HTTP.Listen, BearerToken: token, Telemetry: tel, Pages: pages,
 		Log: log.With().Str("component", "http").Logger()})
 	if err != nil {
 		return err
@@ -177,6 +178,12 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	log.Info().Str("addr", srv.Addr()).Msg("http endpoint listening")
+	if st.flux != nil {
+		// The long-running agent looks its points up once, after its
+		// endpoint is up so that probes see it alive meanwhile; "dewline
+		// check --store" does the same on demand.
+		checkInfluxPoints(ctx, st.flux, cfg, owned, tel, log)
+	}
 	var sender *agent.WebhookSender
 	if w := cfg.Webhook; w != nil {
 		secret, err := agent.SecretFromEnv("webhook.secret_env", w.SecretEnv)
@@ -206,6 +213,65 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		log.Warn().Err(err).Msg("http shutdown")
 	}
 	return serveErr
+}
+
+// shardForms is the fix named by every --shard error.
+const shardForms = "write it as i/n with 0 <= i < n (e.g. 0/3), or as a StatefulSet pod name and n (e.g. dewline-0/3, from $(POD_NAME)/3)"
+
+// parseShard reads the --shard flag: "i/n", or "NAME-i/n" where NAME-i is
+// the name of a StatefulSet's pod (Kubernetes names them after the set with
+// the ordinal last), so that a manifest can pass "$(POD_NAME)/n" and every
+// replica finds its index without a script. Only the ordinal after the last
+// '-' counts; it must be below n.
+func parseShard(s string) (agent.Shard, error) {
+	left, right, ok := strings.Cut(s, "/")
+	n, err := strconv.Atoi(right)
+	if !ok || err != nil || n < 1 || strings.ContainsAny(right, "+-") {
+		return agent.Shard{}, usagef("--shard %q: n after the '/' must be a whole number of replicas, at least 1; %s", s, shardForms)
+	}
+	if strings.Contains(left, "$(") {
+		return agent.Shard{}, usagef("--shard %q: the pod name was not filled in; give the container the env variable POD_NAME from metadata.name (the downward API), or %s", s, shardForms)
+	}
+	ordinal, what := left, "index"
+	if name, ord, named := cutLast(left, "-"); named && !isDigits(left) {
+		if name == "" || strings.HasSuffix(name, "-") {
+			return agent.Shard{}, usagef("--shard %q: %q is not a pod name; %s", s, left, shardForms)
+		}
+		ordinal, what = ord, "pod ordinal"
+	}
+	if !isDigits(ordinal) {
+		return agent.Shard{}, usagef("--shard %q: no replica index before the '/'; %s", s, shardForms)
+	}
+	i, err := strconv.Atoi(ordinal)
+	if err != nil || i >= n {
+		fix := shardForms
+		if what == "pod ordinal" {
+			fix = "n must be the StatefulSet's spec.replicas; " + fix
+		}
+		return agent.Shard{}, usagef("--shard %q: %s %s is not below n = %d; %s", s, what, ordinal, n, fix)
+	}
+	return agent.Shard{Index: i, Count: n}, nil
+}
+
+// cutLast splits s around the last sep.
+func cutLast(s, sep string) (before, after string, found bool) {
+	if k := strings.LastIndex(s, sep); k >= 0 {
+		return s[:k], s[k+len(sep):], true
+	}
+	return s, "", false
+}
+
+// isDigits reports whether s is one or more ASCII digits.
+func isDigits(s string) bool {
+	if s == "" {
+		return false
+	}
+	for _, c := range s {
+		if c < '0' || c > '9' {
+			return false
+		}
+	}
+	return true
 }
 
 // checkInfluxPoints looks up every owned point once at start: InfluxDB

@@ -18,7 +18,7 @@ func TestDecodeInto_AgreesWithEncodingJSON(t *testing.T) {
 		string(appendFields(nil, map[string]float64{"reheat_kwh": 12.5, "cost": math.NaN(), "coverage": 1, "shr": -0.25})),
 		string(appendFields(nil, map[string]float64{"x": 1e21, "y": 5e-324, "z": math.Inf(1)})),
 		string(appendFields(nil, map[string]float64{})),
-		`{"reheat\u005fkwh":3}`,        // escaped key: the general decoder
+		`{"reheat\u005fkwh":3}`,         // escaped key: the general decoder
 		`{ "reheat_kwh" : 4 , "shr":1}`, // spaces: the general decoder
 	}
 	for _, text := range texts {

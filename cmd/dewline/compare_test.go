@@ -1,0 +1,177 @@
+package main
+
+import (
+	"encoding/json"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+)
+
+// writeSequenceChange writes a scenario of our own around a sequence
+// change, for the analyzeConfig unit (AHU-7, 8000 CFM, IP units, Chicago):
+//
+//   - 2026-07-14 and 15 (before): humid from 08:00 to 20:00 local (12 h a
+//     day), when the coil leaves at 50 °F and the reheat brings the supply
+//     to 62 °F (12 °F of reheat);
+//   - 2026-07-16 and 17 (after): humid from 04:00 to 22:00 (18 h a day),
+//     the new sequence reheats to 56 °F only (6 °F);
+//   - other hours are dry: the coil leaves at 62 °F, no reheat.
+//
+// Humid hours enter at 76 °F 60 % RH, dry ones at 76 °F 38 % RH in both
+// periods, so each period's hours fall into the same two dew-point bins
+// and every humid hour after the change has exactly half the reheat of one
+// before it. The export starts two hours early and ends two hours late so
+// that every hour of the four days is fully covered.
+func writeSequenceChange(t *testing.T, dir string) (cfg, data string) {
+	t.Helper()
+	cfg = filepath.Join(dir, "site.yaml")
+	require.NoError(t, os.WriteFile(cfg, []byte(analyzeConfig), 0o600))
+	var b strings.Builder
+	b.WriteString("Time,MAT,MARH,LAT,SAT,CFM\n")
+	start := time.Date(2026, 7, 13, 22, 0, 0, 0, time.UTC) // wall clock, written without a zone: site time
+	end := time.Date(2026, 7, 18, 2, 0, 0, 0, time.UTC)
+	for ts := start; ts.Before(end); ts = ts.Add(time.Minute) {
+		after := ts.Day() >= 16
+		h := ts.Hour()
+		humid := h >= 8 && h < 20
+		sat := 62.0
+		if after {
+			humid = h >= 4 && h < 22
+			sat = 56
+		}
+		rh, lat := 38.0, 62.0
+		if humid {
+			rh, lat = 60, 50
+		} else {
+			sat = 62
+		}
+		fmt.Fprintf(&b, "%s,76.00,%.1f,%.2f,%.2f,8000\n", ts.Format("2006-01-02 15:04:05"), rh, lat, sat)
+	}
+	data = filepath.Join(dir, "export.csv")
+	require.NoError(t, os.WriteFile(data, []byte(b.String()), 0o600))
+	return cfg, data
+}
+
+// TestCompare_EndToEnd imports the scenario into the embedded store,
+// analyses it with the real pipeline and compares the two periods.
+//
+// Expected, by construction: raw reheat before = 2 days × 12 h × R, after
+// = 2 × 18 × R/2, so the raw change is -25 % although the sequence halved
+// the reheat of every humid hour; normalised to the before period's 24
+// humid and 24 dry hours the change is -50 %. R by the sensible rule of
+// thumb (common practice, no source): 1.08 × 8000 CFM × 12 °F =
+// 103,680 Btu/h = 30.4 kWh per hour, so about 729 kWh before.
+func TestCompare_EndToEnd(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeSequenceChange(t, dir)
+	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, errOut)
+	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-18")
+	require.Equal(t, 0, code, errOut)
+
+	// The table, and the HTML file.
+	page := filepath.Join(dir, "compare.html")
+	code, out, errOut := runCLI(t, "--log-level", "warn", "compare", "--config", cfg,
+		"--before", "2026-07-14..2026-07-15", "--after", "2026-07-16..2026-07-17", "-o", page)
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, out, "before 14 Jul 2026 – 15 Jul 2026, after 16 Jul 2026 – 17 Jul 2026")
+	assert.Contains(t, out, "hours stored: before 48, after 48")
+	assert.Regexp(t, `(?m)^AHU-7\s+7\d\d\s+3\d\d\s+-50 %`, out, "reheat before ≈ 729, after ≈ 365 kWh, -50 %")
+	assert.Contains(t, out, "100 % / 100 %")
+	assert.Contains(t, out, "engineer of record")
+	assert.Contains(t, out, "HTML: "+page)
+	html, err := os.ReadFile(page)
+	require.NoError(t, err)
+	assert.Contains(t, string(html), "<svg")
+	assert.Contains(t, string(html), "AHU-7")
+	assert.NotContains(t, strings.ToLower(string(html)), "<script")
+	assert.Contains(t, string(html), "°F", "the site's display units are IP")
+
+	// The figures, from the JSON.
+	code, out, errOut = runCLI(t, "--log-level", "warn", "compare", "--config", cfg,
+		"--before", "2026-07-14..2026-07-15", "--after", "2026-07-16T00:00..2026-07-18T00:00", "--json", "--units", "si")
+	require.Equal(t, 0, code, errOut)
+	var c struct {
+		Units []struct {
+			ID        string `json:"id"`
+			RawBefore struct {
+				Reheat float64 `json:"reheat_kwh"`
+			} `json:"raw_before"`
+			RawAfter struct {
+				Reheat float64 `json:"reheat_kwh"`
+			} `json:"raw_after"`
+			Reheat struct {
+				Before    float64 `json:"before"`
+				After     float64 `json:"after_normalised"`
+				ChangePct float64 `json:"change_pct"`
+			} `json:"reheat_kwh"`
+			HoursBefore struct {
+				Usable   int `json:"usable"`
+				InCommon int `json:"in_common_bins"`
+			} `json:"hours_before"`
+			CommonBins int `json:"common_bins"`
+		} `json:"units"`
+		Warnings []string `json:"warnings"`
+	}
+	require.NoError(t, json.Unmarshal([]byte(out), &c), out)
+	require.Len(t, c.Units, 1)
+	u := c.Units[0]
+	// Rule-of-thumb check of the engine's reheat, 3 % (the 1.08 factor is
+	// for standard air at 70 °F; the engine uses the moist-air heat).
+	assert.InEpsilon(t, 24*30.4, u.RawBefore.Reheat, 0.03)
+	// By construction: raw after / raw before = (18 × 2 × R/2) / (24 × R) = 0.75.
+	assert.InDelta(t, 0.75, u.RawAfter.Reheat/u.RawBefore.Reheat, 0.005)
+	// Normalised: -50 %, and the before figure is the before period's own total.
+	assert.InDelta(t, -50, u.Reheat.ChangePct, 0.5)
+	assert.InDelta(t, u.RawBefore.Reheat, u.Reheat.Before, 1e-6)
+	assert.Equal(t, 2, u.CommonBins, "one humid and one dry dew-point bin")
+	assert.Equal(t, 48, u.HoursBefore.Usable)
+	assert.Equal(t, 48, u.HoursBefore.InCommon)
+	assert.Empty(t, c.Warnings)
+
+	// A period with nothing stored is an error that says what to do.
+	code, _, errOut = runCLI(t, "--log-level", "warn", "compare", "--config", cfg,
+		"--before", "2026-07-14..2026-07-15", "--after", "2026-08-01..2026-08-02")
+	assert.Equal(t, 1, code)
+	assert.Contains(t, errOut, "no results are stored for the after period")
+	assert.Contains(t, errOut, "dewline analyze")
+}
+
+func TestCompare_BadFlags(t *testing.T) {
+	dir := t.TempDir()
+	cfg := filepath.Join(dir, "site.yaml")
+	require.NoError(t, os.WriteFile(cfg, []byte(analyzeConfig), 0o600))
+	ok := []string{"--before", "2026-07-14..2026-07-15", "--after", "2026-07-16..2026-07-17"}
+	tests := []struct {
+		name string
+		args []string
+		code int
+		want string
+	}{
+		{"no config", ok, 2, "--config is required"},
+		{"no before", []string{"--config", cfg, "--after", "2026-07-16..2026-07-17"}, 2, "--before is required"},
+		{"no after", []string{"--config", cfg, "--before", "2026-07-14..2026-07-15"}, 2, "--after is required"},
+		{"not a range", []string{"--config", cfg, "--before", "2026-07-14", "--after", "2026-07-16..2026-07-17"}, 2, `--before "2026-07-14": give FROM..TO`},
+		{"not a time", []string{"--config", cfg, "--before", "2026-07-14..2026-07-15", "--after", "July..August"}, 2, `--after: start "July" is not a time`},
+		{"reversed", []string{"--config", cfg, "--before", "2026-07-15..2026-07-14", "--after", "2026-07-16..2026-07-17"}, 2, "the end is not after the start"},
+		{"overlap", []string{"--config", cfg, "--before", "2026-07-14..2026-07-16", "--after", "2026-07-16..2026-07-17"}, 2, "--before 2026-07-14..2026-07-16 and --after 2026-07-16..2026-07-17 overlap"},
+		{"units", append([]string{"--config", cfg, "--units", "metric"}, ok...), 2, `--units "metric": use si or ip`},
+		{"min hours", append([]string{"--config", cfg, "--min-hours", "1"}, ok...), 2, "--min-hours 1: use 2 or more"},
+		{"output folder", append([]string{"--config", cfg, "-o", filepath.Join(dir, "nope", "c.html")}, ok...), 2, "-o " + filepath.Join(dir, "nope", "c.html")},
+		{"unknown flag", append([]string{"--config", cfg, "--bins", "2"}, ok...), 2, "-bins"},
+		{"no store yet", append([]string{"--config", cfg}, ok...), 1, "embedded store"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			code, _, errOut := runCLI(t, append([]string{"--log-level", "error", "compare"}, tt.args...)...)
+			assert.Equal(t, tt.code, code, errOut)
+			assert.Contains(t, errOut, tt.want)
+		})
+	}
+}

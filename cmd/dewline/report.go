@@ -1,0 +1,256 @@
+package main
+
+import (
+	"bufio"
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+	"time"
+
+	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/dashboards"
+)
+
+// reportDays is the default length of a report: the last 30 days with results.
+const reportDays = 30
+
+func runReport(ctx context.Context, e *env, args []string) error {
+	fs := flag.NewFlagSet("report", flag.ContinueOnError)
+	cfgPath := fs.String("config", "", "configuration file (required)")
+	fromS := fs.String("from", "", "first day (2026-07-01, site time) or start as RFC 3339; default: 30 days before --to")
+	toS := fs.String("to", "", "last day, inclusive (2026-07-31, site time), or end as RFC 3339 (exclusive); default: the last day with results")
+	var out string
+	fs.StringVar(&out, "o", "report.html", "the HTML file to write")
+	fs.StringVar(&out, "out", "report.html", "same as -o")
+	pdf := fs.Bool("pdf", false, "also print the report to PDF with headless Chromium (next to the HTML, or --pdf-out)")
+	pdfOut := fs.String("pdf-out", "", "the PDF file to write (implies --pdf; default: the HTML file's name with .pdf)")
+	units := fs.String("units", "", "display units, si or ip (default: site.units of the configuration)")
+	paper := fs.String("paper", "", "paper size, a4 or letter (default: letter for ip, a4 for si)")
+	fs.Usage = func() {
+		fmt.Fprintln(fs.Output(), "usage: dewline report --config FILE [--from T] [--to T] [-o report.html] [--pdf [--pdf-out report.pdf]] [--units si|ip] [--paper a4|letter]")
+		fmt.Fprintln(fs.Output(), "Writes a self-contained HTML report of the stored results for a building owner: findings ranked")
+		fmt.Fprintln(fs.Output(), "by avoidable cost, an annualised estimate, candidate measures, each air handler's charts and")
+		fmt.Fprintln(fs.Output(), "alerts, the method, assumptions, data quality, uncertainty and cautions. Reads the store only.")
+		fs.PrintDefaults()
+	}
+	if err := parseFlags(fs, args, e.stdout); err != nil {
+		return err
+	}
+	if *units != "" && *units != "si" && *units != "ip" {
+		return usagef("--units %q: use si or ip", *units)
+	}
+	if *paper != "" && *paper != "a4" && *paper != "letter" {
+		return usagef("--paper %q: use a4 or letter", *paper)
+	}
+	if out == "" {
+		return usagef("-o: give the HTML file to write, e.g. -o report.html")
+	}
+	if *pdfOut != "" {
+		*pdf = true
+	}
+	cfg, err := loadConfig(*cfgPath)
+	if err != nil {
+		return err
+	}
+	loc := cfg.Location
+	from, _, err := reportBound("--from", *fromS, loc)
+	if err != nil {
+		return err
+	}
+	to, toDate, err := reportBound("--to", *toS, loc)
+	if err != nil {
+		return err
+	}
+	if toDate {
+		to = to.AddDate(0, 0, 1) // the last day is inclusive
+	}
+
+	st, err := openStore(ctx, cfg, true, e.log)
+	if err != nil {
+		return err
+	}
+	defer st.Close()
+	res := st.results(time.Now)
+	if from.IsZero() || to.IsZero() {
+		first, last, ok, err := res.Span(ctx)
+		if err != nil {
+			return fmt.Errorf("read the span of the stored results: %w", err)
+		}
+		if !ok {
+			return fmt.Errorf("the store holds no results yet: run \"dewline analyze\" or the agent first, or check store: in %s", *cfgPath)
+		}
+		if to.IsZero() {
+			to = localMidnight(last.In(loc)).AddDate(0, 0, 1)
+		}
+		if from.IsZero() {
+			from = to.AddDate(0, 0, -reportDays)
+			if f := localMidnight(first.In(loc)); *toS == "" && f.After(from) && f.Before(to) {
+				from = f // the last 30 days with results, not days before the first
+			}
+		}
+	}
+	if !to.After(from) {
+		return usagef("--to must be after --from")
+	}
+	if to.Sub(from) > 400*24*time.Hour {
+		return usagef("--from %s to --to %s is longer than 400 days: choose a shorter period", from.Format(time.DateOnly), to.Format(time.DateOnly))
+	}
+	period := dashboards.PeriodBetween(from, to, loc)
+
+	site := siteFor(cfg)
+	display := dashboards.DisplayFor(*units, site.IP)
+	log := e.log.With().Str("from", from.UTC().Format(time.RFC3339)).Str("to", to.UTC().Format(time.RFC3339)).Logger()
+	log.Info().Int("ahus", len(site.Units)).Str("units", display.Name()).Msg("report: reading results")
+	prog := newProgress("report", log)
+	opt := dashboards.ReportOptions{
+		Display:   display,
+		Generated: time.Now(),
+		Paper:     *paper,
+		Source:    reportSource(cfg, st),
+		Trended:   trendedRoles(cfg),
+		Notes:     reportNotes(cfg),
+		Progress:  prog.update,
+	}
+	rep, err := dashboards.BuildReport(ctx, site, res, period, opt)
+	if err != nil {
+		return fmt.Errorf("build the report: %w", err)
+	}
+	n, err := writeFileAtomic(out, func(w *bufio.Writer) error { return rep.WriteHTML(w) })
+	if err != nil {
+		return err
+	}
+	total := rep.Overview.Total
+	log.Info().Str("path", out).Int64("bytes", n).Int("hours", total.Hours).
+		Float64("cost_avoidable", float64(total.CostAvoidable)).Msg("report written")
+	fmt.Fprintln(e.stdout, out)
+	if !*pdf {
+		return nil
+	}
+	dst := *pdfOut
+	if dst == "" {
+		dst = strings.TrimSuffix(out, filepath.Ext(out)) + ".pdf"
+	}
+	pages, err := printPDF(ctx, out, dst, site.Name+" · "+period.Label, log)
+	if err != nil {
+		return err
+	}
+	log.Info().Str("path", dst).Int("pages", pages).Msg("report printed to PDF")
+	fmt.Fprintln(e.stdout, dst)
+	return nil
+}
+
+// reportBound parses --from or --to; date reports whether it was a bare
+// date (a whole local day).
+func reportBound(flagName, s string, loc *time.Location) (t time.Time, date bool, err error) {
+	if s == "" {
+		return time.Time{}, false, nil
+	}
+	t, err = parseTime(s, loc)
+	if err != nil {
+		return time.Time{}, false, usagef("%s: %v", flagName, err)
+	}
+	_, derr := time.ParseInLocation(time.DateOnly, s, loc)
+	return t, derr == nil, nil
+}
+
+func localMidnight(t time.Time) time.Time {
+	y, m, d := t.Date()
+	return time.Date(y, m, d, 0, 0, 0, 0, t.Location())
+}
+
+// reportSource names where the results were read, without secrets.
+func reportSource(cfg *agent.Config, st *stores) string {
+	if st.flux != nil && cfg.Store.InfluxDB != nil {
+		return "InfluxDB bucket " + cfg.Store.InfluxDB.Bucket + ", measurement " + measurementHourly
+	}
+	return "the embedded store " + filepath.Base(cfg.StorePath())
+}
+
+// trendedRoles lists each air handler's configured roles.
+func trendedRoles(cfg *agent.Config) map[string][]string {
+	m := make(map[string][]string, len(cfg.AirHandlers))
+	for _, a := range cfg.AirHandlers {
+		roles := make([]string, 0, len(a.Points))
+		for r := range a.Points {
+			roles = append(roles, r)
+		}
+		sort.Strings(roles)
+		m[a.ID] = roles
+	}
+	return m
+}
+
+// reportNotes states how the configuration set what the report's figures rest on.
+func reportNotes(cfg *agent.Config) []dashboards.Assumption {
+	var notes []dashboards.Assumption
+	switch {
+	case cfg.Site.Pressure != "":
+		notes = append(notes, dashboards.Assumption{Topic: "Pressure source", Text: "Configured barometric pressure " + cfg.Site.Pressure + "."})
+	case cfg.Site.Altitude != "":
+		notes = append(notes, dashboards.Assumption{Topic: "Pressure source", Text: "Standard atmosphere at the configured altitude of " + cfg.Site.Altitude + " (ASHRAE Handbook — Fundamentals 2017, ch. 1, eq. 3)."})
+	}
+	step := cfg.Grid.Step
+	if step > 0 {
+		notes = append(notes, dashboards.Assumption{Topic: "Time grid", Text: "Readings aligned on a " + fmtStep(step) + " grid; a logged value holds until the next one, at most its point's stale limit."})
+	}
+	return notes
+}
+
+// writeFileAtomic writes path through a temporary file in the same folder
+// and renames it into place, so a reader never sees half a file.
+func writeFileAtomic(path string, fill func(*bufio.Writer) error) (int64, error) {
+	dir := filepath.Dir(path)
+	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".*.tmp")
+	if err != nil {
+		return 0, fmt.Errorf("write %s: %w", path, err)
+	}
+	done := false
+	defer func() {
+		if !done {
+			_ = tmp.Close()
+			_ = os.Remove(tmp.Name())
+		}
+	}()
+	w := bufio.NewWriterSize(tmp, 1<<16)
+	if err := fill(w); err != nil {
+		return 0, fmt.Errorf("write %s: %w", path, err)
+	}
+	if err := w.Flush(); err != nil {
+		return 0, fmt.Errorf("write %s: %w", path, err)
+	}
+	if err := tmp.Chmod(0o644); err != nil {
+		return 0, fmt.Errorf("write %s: %w", path, err)
+	}
+	if err := tmp.Sync(); err != nil {
+		return 0, fmt.Errorf("write %s: %w", path, err)
+	}
+	info, err := tmp.Stat()
+	if err != nil {
+		return 0, fmt.Errorf("write %s: %w", path, err)
+	}
+	if err := tmp.Close(); err != nil {
+		return 0, fmt.Errorf("write %s: %w", path, err)
+	}
+	if err := os.Rename(tmp.Name(), path); err != nil {
+		_ = os.Remove(tmp.Name())
+		done = true
+		return 0, fmt.Errorf("write %s: %w", path, err)
+	}
+	done = true
+	return info.Size(), nil
+}
+
+var errNoChromium = errors.New("--pdf needs Chromium: install the Debian package chromium (apt-get install chromium) or set DEWLINE_CHROMIUM")
+
+// fmtStep writes a grid step as "1 min" or "30 s".
+func fmtStep(d time.Duration) string {
+	if d%time.Minute == 0 {
+		return fmt.Sprintf("%d min", d/time.Minute)
+	}
+	return d.String()
+}

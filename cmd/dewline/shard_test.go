@@ -1,0 +1,90 @@
+package main
+
+import (
+	"testing"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/agent"
+)
+
+// TestParseShard_Forms: --shard takes "i/n" and a StatefulSet pod name with
+// n. The expected indexes follow the Kubernetes StatefulSet documentation
+// ("Pod Identity"): the pods of a StatefulSet named NAME with N replicas are
+// NAME-0 ... NAME-(N-1), so the ordinal is what follows the last '-'.
+func TestParseShard_Forms(t *testing.T) {
+	tests := []struct {
+		name string
+		in   string
+		want agent.Shard
+	}{
+		{name: "index", in: "0/3", want: agent.Shard{Index: 0, Count: 3}},
+		{name: "last index", in: "2/3", want: agent.Shard{Index: 2, Count: 3}},
+		{name: "single replica", in: "0/1", want: agent.Shard{Index: 0, Count: 1}},
+		{name: "pod name", in: "dewline-2/3", want: agent.Shard{Index: 2, Count: 3}},
+		{name: "pod name first", in: "dewline-0/3", want: agent.Shard{Index: 0, Count: 3}},
+		{name: "pod name with dashes", in: "air-agent-west-1/2", want: agent.Shard{Index: 1, Count: 2}},
+		{name: "pod name ending in digits", in: "ahu2-agent-10/12", want: agent.Shard{Index: 10, Count: 12}},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			got, err := parseShard(tc.in)
+			require.NoError(t, err)
+			assert.Equal(t, tc.want, got)
+		})
+	}
+}
+
+// TestParseShard_Errors: a bad --shard is a usage error (exit 2) that names
+// the flag, the value and the forms that work, plus what is wrong with it.
+func TestParseShard_Errors(t *testing.T) {
+	tests := []struct {
+		name string
+		in   string
+		want string // besides the flag, the value and the forms
+	}{
+		{name: "index not below n", in: "3/2", want: "index 3 is not below n = 2"},
+		{name: "index equal to n", in: "2/2", want: "index 2 is not below n = 2"},
+		{name: "ordinal not below replicas", in: "dewline-3/3", want: "pod ordinal 3 is not below n = 3; n must be the StatefulSet's spec.replicas"},
+		{name: "no replicas", in: "0/0", want: "at least 1"},
+		{name: "no slash", in: "1", want: "at least 1"},
+		{name: "negative index", in: "-1/3", want: "is not a pod name"},
+		{name: "signed replicas", in: "0/+3", want: "whole number"},
+		{name: "garbage after n", in: "0/3x", want: "whole number"},
+		{name: "two slashes", in: "0/3/4", want: "whole number"},
+		{name: "name without ordinal", in: "dewline/3", want: "no replica index"},
+		{name: "ordinal not a number", in: "dewline-x/3", want: "no replica index"},
+		{name: "name ends in dash", in: "dewline--1/3", want: "is not a pod name"},
+		{name: "pod name not expanded", in: "$(POD_NAME)/3", want: "POD_NAME from metadata.name"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := parseShard(tc.in)
+			require.Error(t, err)
+			var ue *usageError
+			require.ErrorAs(t, err, &ue, "a command-line mistake exits 2")
+			msg := err.Error()
+			assert.Contains(t, msg, "--shard")
+			assert.Contains(t, msg, `"`+tc.in+`"`, "names the bad value")
+			assert.Contains(t, msg, "i/n", "names the plain form")
+			assert.Contains(t, msg, "dewline-0/3", "names the pod-name form")
+			assert.Contains(t, msg, tc.want)
+		})
+	}
+}
+
+// TestParseShard_Command: the pod-name form reaches the agent through the
+// command line, and a bad one exits 2 before anything is opened.
+func TestParseShard_Command(t *testing.T) {
+	dir := t.TempDir()
+	cfg, _ := writeScenario(t, dir)
+	code, _, errOut := runCLI(t, "run", "--config", cfg, "--shard", "dewline-5/3")
+	assert.Equal(t, 2, code)
+	assert.Contains(t, errOut, `--shard "dewline-5/3"`)
+
+	// One replica of one: the pod-name form owns every air handler, like 0/1.
+	code, out, errOut := runCLI(t, "--log-level", "warn", "run", "--config", cfg, "--shard", "dewline-0/1", "--dry-run", "--as-of", "2026-07-15T12:07")
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, out, "dry run: nothing written")
+}

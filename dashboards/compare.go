@@ -1,0 +1,1252 @@
+package dashboards
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"fmt"
+	"html"
+	"html/template"
+	"io"
+	"math"
+	"slices"
+	"strconv"
+	"strings"
+	"sync"
+	"time"
+
+	"github.com/dewline/dewline/dashboards/chart"
+	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
+)
+
+// Comparing two periods around a sequence change.
+//
+// The weather differs between any two periods, and a cool-and-reheat air
+// handler uses more reheat when the entering air is more humid, so raw
+// totals mix the effect of the sequence with the effect of the weather.
+// Compare removes the second with a bin method:
+//
+//  1. Each hour of either period goes into a bin of its entering-air dew
+//     point (1 K wide unless told otherwise). Hours without an entering
+//     dew point, or with fewer covered steps than the unit's minimum
+//     coverage, are left out (they are counted and reported).
+//  2. A bin is used when both periods have at least MinHours hours in it
+//     (the "common" bins). Hours in other bins are left out of the
+//     normalised figures; the share of each period's hours that falls in
+//     common bins is reported as its coverage.
+//  3. In every common bin, the mean hourly value of each quantity is taken
+//     in each period.
+//  4. Both periods' bin means are weighted by the BEFORE period's hours per
+//     bin and summed. The before figure is then the before period's own
+//     total over its common-bin hours; the after figure answers "what would
+//     the new sequence have used under the before period's humidity
+//     conditions". Change = after - before, and its percentage is of the
+//     before figure.
+//
+// Ratios (the effective EER) are ratios of the normalised sums, never means
+// of hourly ratios. This is a standard bin-method weather normalisation;
+// it corrects for the mix of entering humidity only, not for other
+// differences (occupancy, outdoor temperature at equal dew point, set
+// points changed at the same time).
+//
+// Uncertainty has two parts, reported apart:
+//   - measurement: the per-hour 95 % half-widths (reheat, avoidable reheat,
+//     water) are normalised like the values (bin means weighted by the
+//     before hours); within a period they add linearly, as in Totals
+//     (a sensor's bias repeats from hour to hour). For the change the two
+//     periods are combined in quadrature: the same sensors serve both
+//     periods, so their errors are positively correlated or independent,
+//     and for any correlation between 0 and 1 the quadrature sum is the
+//     larger bound.
+//   - sampling: a bin mean from a few hours is itself uncertain. With s the
+//     standard deviation of the hourly values in a bin and n its hours,
+//     u95 = 1.96 sqrt(sum_bins N_before^2 (s_a^2/n_a + s_b^2/n_b)). Hours
+//     are treated as independent; consecutive hours are not, so the true
+//     sampling spread is larger than this figure.
+
+// ErrPeriodsOverlap is returned when the before and after periods share
+// time: no hour can be both.
+var ErrPeriodsOverlap = errors.New("the before and after periods overlap")
+
+// ErrNoHours is returned when a period has no stored hour to compare.
+var ErrNoHours = errors.New("no hours to compare")
+
+// Defaults of CompareOptions.
+const (
+	DefaultCompareBinK     = 1.0
+	DefaultCompareMinHours = 3
+	defaultMinCoverage     = 0.9
+	// coveredWarn: below this share of a period's usable hours in common
+	// bins, the output warns that the figures describe part of the period.
+	coveredWarn = 0.5
+	// z95 is the two-sided 95 % point of the normal distribution.
+	z95 = 1.959964
+)
+
+// CompareMethod states the method in plain words, for the outputs.
+const CompareMethod = "Normalised for the entering-air humidity load by the bin method: " +
+	"hours are grouped by entering dew point; only bins with enough hours in both periods are used; " +
+	"in each bin the mean hourly value of each period is taken, and both periods' bin means are weighted " +
+	"by the before period's hours per bin. The after figure is what the new sequence would have used " +
+	"under the before period's humidity conditions. Effective EER is the ratio of the normalised sums."
+
+// CompareOptions tunes Compare; zero values take the defaults.
+type CompareOptions struct {
+	BinK     float64 // width of the dew-point bins, K (default 1)
+	MinHours int     // hours a bin needs in each period to be used (default 3, at least 2)
+	// MinCoverage is the share of covered steps an hour needs to be used
+	// (default: each unit's configured minimum coverage, else 0.9).
+	// Energies of partly covered hours are not scaled up, so they would
+	// pull a bin's mean down.
+	MinCoverage float64
+	Units       []string // compare only these units (default: every configured unit)
+}
+
+// Comparison is the before/after comparison of a site.
+type Comparison struct {
+	Site     string           `json:"site"`
+	Currency string           `json:"currency"`
+	Before   Period           `json:"before"`
+	After    Period           `json:"after"`
+	BinK     Num              `json:"bin_width_k"`
+	MinHours int              `json:"min_hours_per_bin"`
+	Method   string           `json:"method"`
+	Units    []UnitComparison `json:"units"`
+	// Total sums the units that could be compared (a unit without common
+	// bins is left out of it and named in Warnings).
+	Total    UnitComparison `json:"total"`
+	Warnings []string       `json:"warnings"`
+}
+
+// UnitComparison is one air handler (or the site total) before and after.
+type UnitComparison struct {
+	ID          string `json:"id"`
+	Name        string `json:"name"`
+	MinCoverage Num    `json:"min_coverage"`
+	// Raw totals of every stored hour of each period, not normalised.
+	RawBefore Totals `json:"raw_before"`
+	RawAfter  Totals `json:"raw_after"`
+	// Hours of each period, and how many were usable and in common bins.
+	HoursBefore SideHours `json:"hours_before"`
+	HoursAfter  SideHours `json:"hours_after"`
+	// Normalised figures: the before period's common-bin hours, and the
+	// after period's bin means weighted by them.
+	Reheat       Change    `json:"reheat_kwh"`
+	ReheatAvoid  Change    `json:"reheat_avoidable_kwh"`
+	CoolingInput Change    `json:"cooling_input_kwh"`
+	CoilTotal    Change    `json:"coil_total_kwh"`
+	ReheatInput  Change    `json:"reheat_input_kwh"`
+	Water        Change    `json:"water_removed_kg"`
+	Cost         Change    `json:"cost"`
+	EER          EERChange `json:"effective_eer"`
+	CommonBins   int       `json:"common_bins"`
+	Bins         []BinRow  `json:"bins,omitempty"`
+	Compared     bool      `json:"compared"` // false: no common bin, no normalised figure
+	Warnings     []string  `json:"warnings"`
+}
+
+// SideHours counts one period's hours of a unit.
+type SideHours struct {
+	Stored      int `json:"stored"`
+	NoDewPoint  int `json:"no_entering_dewpoint"`
+	LowCoverage int `json:"low_coverage"`
+	Usable      int `json:"usable"`
+	InCommon    int `json:"in_common_bins"`
+	// Covered is InCommon / Usable: the share of the period's usable hours
+	// that the normalised figures describe.
+	Covered Num `json:"covered"`
+}
+
+// Change is one quantity before and after, normalised.
+type Change struct {
+	Before    Num `json:"before"`
+	After     Num `json:"after_normalised"`
+	Change    Num `json:"change"`
+	ChangePct Num `json:"change_pct"` // of Before, percent
+	// 95 % half-widths from the hourly measurement uncertainty (missing
+	// for quantities without one), and from bin sampling.
+	BeforeU95   Num `json:"before_u95"`
+	AfterU95    Num `json:"after_u95"`
+	ChangeU95   Num `json:"change_u95"`
+	SamplingU95 Num `json:"change_sampling_u95"`
+}
+
+// EERChange is the effective EER of the normalised sums, Btu/Wh.
+type EERChange struct {
+	Before    Num `json:"before"`
+	After     Num `json:"after_normalised"`
+	Change    Num `json:"change"`
+	ChangePct Num `json:"change_pct"`
+}
+
+// BinRow is one dew-point bin of a unit: [LoC, HiC).
+type BinRow struct {
+	LoC         Num  `json:"dewpoint_from_c"`
+	HiC         Num  `json:"dewpoint_to_c"`
+	HoursBefore int  `json:"hours_before"`
+	HoursAfter  int  `json:"hours_after"`
+	Common      bool `json:"common"`
+	// Mean reheat per hour in the bin, kWh.
+	ReheatBefore Num `json:"reheat_kwh_per_h_before"`
+	ReheatAfter  Num `json:"reheat_kwh_per_h_after"`
+}
+
+// PeriodBetween describes [from, to) as a Period in zone: whole local days
+// are labelled as dates (the last one inclusive), other bounds with their
+// local time.
+func PeriodBetween(from, to time.Time, zone *time.Location) Period {
+	if zone == nil {
+		zone = time.UTC
+	}
+	f, t := from.In(zone), to.In(zone)
+	p := Period{Kind: "custom", From: f, To: t}
+	if f.Equal(midnight(f)) && t.Equal(midnight(t)) {
+		last := t.AddDate(0, 0, -1)
+		p.DateFrom, p.DateTo = f.Format(dateLayout), last.Format(dateLayout)
+		if p.DateFrom == p.DateTo {
+			p.Label = f.Format("Mon 2 Jan 2006")
+		} else {
+			p.Label = f.Format("2 Jan 2006") + " – " + last.Format("2 Jan 2006")
+		}
+		return p
+	}
+	p.Kind = "span"
+	p.Label = f.Format("2 Jan 2006 15:04") + " – " + t.Format("2 Jan 2006 15:04") + " (" + zone.String() + ", end excluded)"
+	return p
+}
+
+// The quantities averaged per bin.
+const (
+	qReheat = iota
+	qReheatU95
+	qAvoid
+	qAvoidU95
+	qCooling
+	qCoil
+	qReheatInput
+	qWater
+	qWaterU95
+	qCost
+	nQty
+)
+
+func quantities(r *metrics.Record) [nQty]float64 {
+	return [nQty]float64{
+		qReheat: r.ReheatKWh, qReheatU95: r.ReheatKWhU95, qAvoid: r.ReheatAvoidKWh, qAvoidU95: r.ReheatAvoidKWhU95,
+		qCooling: r.CoolingInputKWh, qCoil: r.CoilTotalKWh, qReheatInput: r.ReheatInputKWh,
+		qWater: r.WaterRemovedKg, qWaterU95: r.WaterRemovedKgU95, qCost: r.Cost,
+	}
+}
+
+// moments keeps a running mean and sum of squared deviations (Welford),
+// which stay accurate where sums of squares would cancel.
+type moments struct {
+	n        int
+	mean, m2 float64
+}
+
+func (m *moments) add(v float64) {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return
+	}
+	m.n++
+	d := v - m.mean
+	m.mean += d / float64(m.n)
+	m.m2 += d * (v - m.mean)
+}
+
+// varianceOfMean is s^2/n, the squared standard error of the mean (0 with
+// fewer than two values, where no spread can be estimated).
+func (m moments) varianceOfMean() float64 {
+	if m.n < 2 {
+		return 0
+	}
+	return math.Max(0, m.m2/float64(m.n-1)) / float64(m.n)
+}
+
+type dpBin struct {
+	hours int
+	q     [nQty]moments
+}
+
+type side struct {
+	raw   Totals
+	hours SideHours
+	bins  map[int]*dpBin
+}
+
+func newSide() side { return side{raw: NewTotals(), bins: map[int]*dpBin{}} }
+
+func (s *side) add(r *metrics.Record, binK, minCov float64) {
+	s.hours.Stored++
+	s.raw.Add(r)
+	switch {
+	case math.IsNaN(r.EnteringDewPointC) || math.IsInf(r.EnteringDewPointC, 0):
+		s.hours.NoDewPoint++
+		return
+	case !(r.Coverage >= minCov): // NaN coverage fails too
+		s.hours.LowCoverage++
+		return
+	}
+	s.hours.Usable++
+	k := int(math.Floor(r.EnteringDewPointC / binK))
+	b := s.bins[k]
+	if b == nil {
+		b = &dpBin{}
+		s.bins[k] = b
+	}
+	b.hours++
+	v := quantities(r)
+	for i := range v {
+		b.q[i].add(v[i])
+	}
+}
+
+// Compare compares every configured unit (or opt.Units) between two
+// periods [before.From, before.To) and [after.From, after.To), normalised
+// for the entering-air humidity load as described above. It reads each
+// period's hours once and keeps only per-bin sums, so memory does not grow
+// with the periods' length.
+func Compare(ctx context.Context, site *Site, res Results, before, after Period, opt CompareOptions) (*Comparison, error) {
+	if site == nil || res == nil {
+		return nil, errors.New("compare: a site and a results source are required")
+	}
+	if opt.BinK == 0 {
+		opt.BinK = DefaultCompareBinK
+	}
+	if opt.MinHours == 0 {
+		opt.MinHours = DefaultCompareMinHours
+	}
+	switch {
+	case !(opt.BinK > 0) || math.IsInf(opt.BinK, 0):
+		return nil, fmt.Errorf("compare: bin width %g K: use a positive width such as 1", opt.BinK)
+	case opt.MinHours < 2:
+		return nil, fmt.Errorf("compare: minimum hours per bin %d: use 2 or more (a bin needs two hours to show its spread)", opt.MinHours)
+	case opt.MinCoverage < 0 || opt.MinCoverage > 1 || math.IsNaN(opt.MinCoverage):
+		return nil, fmt.Errorf("compare: minimum coverage %g: use a share between 0 and 1", opt.MinCoverage)
+	}
+	for _, p := range []struct {
+		name string
+		p    Period
+	}{{"before", before}, {"after", after}} {
+		if !p.p.To.After(p.p.From) {
+			return nil, fmt.Errorf("compare: the %s period %s is empty or ends before it starts: give its start first", p.name, p.p.Label)
+		}
+	}
+	if before.From.Before(after.To) && after.From.Before(before.To) {
+		return nil, fmt.Errorf("%w: before %s, after %s; choose periods that do not share any hour",
+			ErrPeriodsOverlap, before.Label, after.Label)
+	}
+
+	units := site.Units
+	if len(opt.Units) > 0 {
+		units = nil
+		for _, id := range opt.Units {
+			u, ok := site.Unit(id)
+			if !ok {
+				return nil, fmt.Errorf("compare: no air handler %q in the configuration", id)
+			}
+			units = append(units, u)
+		}
+	}
+	c := &Comparison{Site: site.Name, Currency: site.Currency, Before: before, After: after,
+		BinK: Num(opt.BinK), MinHours: opt.MinHours, Method: CompareMethod, Warnings: []string{}}
+	index := map[string]int{}
+	sides := make([][2]side, len(units))
+	minCov := make([]float64, len(units))
+	for i, u := range units {
+		index[u.ID] = i
+		sides[i] = [2]side{newSide(), newSide()}
+		minCov[i] = defaultMinCoverage
+		if u.Spec != nil && u.Spec.Thresholds.MinCoverage > 0 {
+			minCov[i] = u.Spec.Thresholds.MinCoverage
+		}
+		if opt.MinCoverage > 0 {
+			minCov[i] = opt.MinCoverage
+		}
+	}
+	ahu := ""
+	if len(units) == 1 {
+		ahu = units[0].ID
+	}
+	siteRaw := [2]Totals{NewTotals(), NewTotals()}
+	for k, p := range []Period{before, after} {
+		err := res.Hours(ctx, ahu, p.From, p.To, func(r *metrics.Record) error {
+			if i, ok := index[r.AHU]; ok {
+				sides[i][k].add(r, opt.BinK, minCov[i])
+				siteRaw[k].Add(r)
+			}
+			return nil
+		})
+		if err != nil {
+			return nil, fmt.Errorf("read the %s period's hours: %w", [2]string{"before", "after"}[k], err)
+		}
+	}
+
+	// A period without any usable hour cannot be compared at all.
+	for k, p := range []Period{before, after} {
+		stored, usable := 0, 0
+		for i := range sides {
+			stored += sides[i][k].hours.Stored
+			usable += sides[i][k].hours.Usable
+		}
+		name := [2]string{"before", "after"}[k]
+		if stored == 0 {
+			return nil, fmt.Errorf("%w: no results are stored for the %s period %s; run dewline analyze (or the agent) over it first",
+				ErrNoHours, name, p.Label)
+		}
+		if usable == 0 {
+			return nil, fmt.Errorf("%w: none of the %d stored hours of the %s period %s has an entering dew point and enough coverage; check the entering temperature and humidity points",
+				ErrNoHours, stored, name, p.Label)
+		}
+	}
+
+	siteRaw[0].finish()
+	siteRaw[1].finish()
+	c.Total = UnitComparison{ID: "", Name: "Site", MinCoverage: Num(math.NaN()), RawBefore: siteRaw[0], RawAfter: siteRaw[1], Warnings: []string{}}
+	tot := newTotalSum()
+	for i, u := range units {
+		uc := compareUnit(u, sides[i], opt, minCov[i])
+		if !uc.Compared && len(units) > 1 {
+			uc.Warnings = append(uc.Warnings, "left out of the site's normalised total")
+		}
+		for _, w := range uc.Warnings {
+			c.Warnings = append(c.Warnings, u.Name+" ("+u.ID+"): "+w)
+		}
+		tot.add(&uc)
+		c.Units = append(c.Units, uc)
+	}
+	tot.finish(&c.Total)
+	if !c.Total.Compared {
+		c.Warnings = append(c.Warnings, "no air handler has a dew-point bin with enough hours in both periods: there is nothing to normalise; choose longer periods, periods with more similar weather, or fewer hours per bin")
+	}
+	if after.From.Before(before.From) {
+		c.Warnings = append(c.Warnings, "the after period comes before the before period; the change reads from the before period to the after period as given")
+	}
+	return c, nil
+}
+
+// compareUnit normalises one unit.
+func compareUnit(u Unit, s [2]side, opt CompareOptions, minCov float64) UnitComparison {
+	b, a := &s[0], &s[1]
+	b.raw.finish()
+	a.raw.finish()
+	uc := UnitComparison{ID: u.ID, Name: u.Name, MinCoverage: Num(minCov), RawBefore: b.raw, RawAfter: a.raw, Warnings: []string{}}
+
+	keys := make([]int, 0, len(b.bins)+len(a.bins))
+	for k := range b.bins {
+		keys = append(keys, k)
+	}
+	for k := range a.bins {
+		if _, ok := b.bins[k]; !ok {
+			keys = append(keys, k)
+		}
+	}
+	slices.Sort(keys)
+	var common []int
+	for _, k := range keys {
+		row := BinRow{LoC: Num(float64(k) * opt.BinK), HiC: Num(float64(k+1) * opt.BinK),
+			ReheatBefore: Num(math.NaN()), ReheatAfter: Num(math.NaN())}
+		if x := b.bins[k]; x != nil {
+			row.HoursBefore = x.hours
+			row.ReheatBefore = meanOrNaN(x.q[qReheat])
+		}
+		if x := a.bins[k]; x != nil {
+			row.HoursAfter = x.hours
+			row.ReheatAfter = meanOrNaN(x.q[qReheat])
+		}
+		row.Common = row.HoursBefore >= opt.MinHours && row.HoursAfter >= opt.MinHours
+		if row.Common {
+			common = append(common, k)
+			b.hours.InCommon += row.HoursBefore
+			a.hours.InCommon += row.HoursAfter
+		}
+		uc.Bins = append(uc.Bins, row)
+	}
+	uc.CommonBins = len(common)
+	b.hours.Covered, a.hours.Covered = share(b.hours.InCommon, b.hours.Usable), share(a.hours.InCommon, a.hours.Usable)
+	uc.HoursBefore, uc.HoursAfter = b.hours, a.hours
+	uc.Compared = len(common) > 0
+
+	norm := func(q, qU int) Change {
+		return normalise(b.bins, a.bins, common, q, qU)
+	}
+	uc.Reheat = norm(qReheat, qReheatU95)
+	uc.ReheatAvoid = norm(qAvoid, qAvoidU95)
+	uc.CoolingInput = norm(qCooling, -1)
+	uc.CoilTotal = norm(qCoil, -1)
+	uc.ReheatInput = norm(qReheatInput, -1)
+	uc.Water = norm(qWater, qWaterU95)
+	uc.Cost = norm(qCost, -1)
+	uc.EER = eerChange(uc.CoilTotal, uc.Reheat, uc.CoolingInput, uc.ReheatInput)
+
+	// What the reader must know before trusting the figures.
+	for k, h := range [2]SideHours{b.hours, a.hours} {
+		name := [2]string{"before", "after"}[k]
+		switch {
+		case h.Stored == 0:
+			uc.Warnings = append(uc.Warnings, fmt.Sprintf("no results are stored for the %s period", name))
+		case h.Usable == 0:
+			uc.Warnings = append(uc.Warnings, fmt.Sprintf("none of the %s period's %d hours has an entering dew point and %s coverage", name, h.Stored, fmtPct(minCov)))
+		case h.NoDewPoint+h.LowCoverage > 0:
+			uc.Warnings = append(uc.Warnings, fmt.Sprintf("%d of the %s period's %d hours are left out (%d without an entering dew point, %d below %s coverage)",
+				h.NoDewPoint+h.LowCoverage, name, h.Stored, h.NoDewPoint, h.LowCoverage, fmtPct(minCov)))
+		}
+	}
+	switch {
+	case !uc.Compared && b.hours.Usable > 0 && a.hours.Usable > 0:
+		uc.Warnings = append(uc.Warnings, fmt.Sprintf("no dew-point bin has %d hours in both periods: the periods' humidity conditions do not overlap enough to compare; choose longer periods or fewer hours per bin", opt.MinHours))
+	case uc.Compared:
+		for k, h := range [2]SideHours{b.hours, a.hours} {
+			if float64(h.Covered) < coveredWarn {
+				uc.Warnings = append(uc.Warnings, fmt.Sprintf("only %s of the %s period's usable hours fall in bins common to both periods; the normalised figures describe those hours only",
+					fmtPct(float64(h.Covered)), [2]string{"before", "after"}[k]))
+			}
+		}
+	}
+	return uc
+}
+
+func meanOrNaN(m moments) Num {
+	if m.n == 0 {
+		return Num(math.NaN())
+	}
+	return Num(m.mean)
+}
+
+func share(part, whole int) Num {
+	if whole == 0 {
+		return Num(math.NaN())
+	}
+	return Num(float64(part) / float64(whole))
+}
+
+// normalise weights each period's bin means of quantity q (and of its
+// half-width qU, -1 for none) by the before period's hours in the common
+// bins. A common bin where a period has no value of q at all makes the
+// figure unknown rather than silently smaller.
+func normalise(before, after map[int]*dpBin, common []int, q, qU int) Change {
+	nan := Num(math.NaN())
+	c := Change{Before: nan, After: nan, Change: nan, ChangePct: nan, BeforeU95: nan, AfterU95: nan, ChangeU95: nan, SamplingU95: nan}
+	if len(common) == 0 {
+		return c
+	}
+	var sb, sa, ub, ua, sampVar float64
+	known, knownU := true, qU >= 0
+	for _, k := range common {
+		bb, ab := before[k], after[k]
+		w := float64(bb.hours)
+		mb, ma := bb.q[q], ab.q[q]
+		if mb.n == 0 || ma.n == 0 {
+			known = false
+			break
+		}
+		sb += w * mb.mean
+		sa += w * ma.mean
+		sampVar += w * w * (mb.varianceOfMean() + ma.varianceOfMean())
+		if knownU {
+			if bb.q[qU].n == 0 || ab.q[qU].n == 0 {
+				knownU = false
+			} else {
+				ub += w * bb.q[qU].mean
+				ua += w * ab.q[qU].mean
+			}
+		}
+	}
+	if !known {
+		return c
+	}
+	c.Before, c.After, c.Change = Num(sb), Num(sa), Num(sa-sb)
+	c.ChangePct = pctOf(sa-sb, sb)
+	c.SamplingU95 = Num(z95 * math.Sqrt(sampVar))
+	if knownU {
+		c.BeforeU95, c.AfterU95, c.ChangeU95 = Num(ub), Num(ua), Num(math.Hypot(ub, ua))
+	}
+	return c
+}
+
+func pctOf(change, base float64) Num {
+	if base == 0 || math.IsNaN(base) || math.IsNaN(change) {
+		return Num(math.NaN())
+	}
+	return Num(100 * change / math.Abs(base))
+}
+
+// eerChange is the effective EER of the normalised sums in each period:
+// 3.412 x (coil total - reheat) / (cooling input + reheat input), the
+// same definition as the hourly field, of sums.
+func eerChange(coil, reheat, cooling, reheatIn Change) EERChange {
+	eer := func(coilKWh, reheatKWh, coolKWh, reheatInKWh Num) Num {
+		in := float64(coolKWh)
+		if !math.IsNaN(float64(reheatInKWh)) {
+			in += float64(reheatInKWh)
+		}
+		num := float64(coilKWh - reheatKWh)
+		if in == 0 || math.IsNaN(in) || math.IsNaN(num) {
+			return Num(math.NaN())
+		}
+		return Num(psychro.COPToEER(num / in))
+	}
+	e := EERChange{Before: eer(coil.Before, reheat.Before, cooling.Before, reheatIn.Before),
+		After: eer(coil.After, reheat.After, cooling.After, reheatIn.After)}
+	e.Change = e.After - e.Before
+	e.ChangePct = pctOf(float64(e.Change), float64(e.Before))
+	return e
+}
+
+// totalSum adds the compared units into the site total.
+type totalSum struct {
+	before, after SideHours
+	fields        [7]changeSum
+	compared      int
+	bins          int // common bins of the compared units
+}
+
+type changeSum struct {
+	before, after, bU, aU, samp2 float64
+	known, knownU                bool
+}
+
+func newTotalSum() *totalSum {
+	t := &totalSum{}
+	for i := range t.fields {
+		t.fields[i] = changeSum{known: true, knownU: true}
+	}
+	return t
+}
+
+func (uc *UnitComparison) changes() [7]*Change {
+	return [7]*Change{&uc.Reheat, &uc.ReheatAvoid, &uc.CoolingInput, &uc.CoilTotal, &uc.ReheatInput, &uc.Water, &uc.Cost}
+}
+
+func (t *totalSum) add(uc *UnitComparison) {
+	for _, p := range [2]struct {
+		src SideHours
+		dst *SideHours
+	}{{uc.HoursBefore, &t.before}, {uc.HoursAfter, &t.after}} {
+		p.dst.Stored += p.src.Stored
+		p.dst.NoDewPoint += p.src.NoDewPoint
+		p.dst.LowCoverage += p.src.LowCoverage
+		p.dst.Usable += p.src.Usable
+		p.dst.InCommon += p.src.InCommon
+	}
+	if !uc.Compared {
+		return
+	}
+	t.compared++
+	t.bins += uc.CommonBins
+	for i, c := range uc.changes() {
+		f := &t.fields[i]
+		if math.IsNaN(float64(c.Before)) {
+			f.known = false
+			continue
+		}
+		f.before += float64(c.Before)
+		f.after += float64(c.After)
+		f.samp2 += math.Pow(float64(c.SamplingU95), 2) // units sample independently
+		if math.IsNaN(float64(c.BeforeU95)) {
+			f.knownU = false
+		} else { // linear across units, like Totals
+			f.bU += float64(c.BeforeU95)
+			f.aU += float64(c.AfterU95)
+		}
+	}
+}
+
+func (t *totalSum) finish(total *UnitComparison) {
+	t.before.Covered, t.after.Covered = share(t.before.InCommon, t.before.Usable), share(t.after.InCommon, t.after.Usable)
+	total.HoursBefore, total.HoursAfter = t.before, t.after
+	total.Compared = t.compared > 0
+	total.CommonBins = t.bins
+	nan := Num(math.NaN())
+	for i, c := range total.changes() {
+		f := t.fields[i]
+		*c = Change{Before: nan, After: nan, Change: nan, ChangePct: nan, BeforeU95: nan, AfterU95: nan, ChangeU95: nan, SamplingU95: nan}
+		if !total.Compared || !f.known {
+			continue
+		}
+		c.Before, c.After, c.Change = Num(f.before), Num(f.after), Num(f.after-f.before)
+		c.ChangePct = pctOf(f.after-f.before, f.before)
+		c.SamplingU95 = Num(math.Sqrt(f.samp2))
+		if f.knownU {
+			c.BeforeU95, c.AfterU95, c.ChangeU95 = Num(f.bU), Num(f.aU), Num(math.Hypot(f.bU, f.aU))
+		}
+	}
+	total.EER = eerChange(total.CoilTotal, total.Reheat, total.CoolingInput, total.ReheatInput)
+}
+
+// --- output ---
+
+// Colours of the two periods: the light and the deep blue differ in
+// lightness as well as in hue, and the charts also tell the periods apart
+// by shape (circles and solid lines before, squares, dashes and hatching
+// after).
+const (
+	colorBefore     = chart.ColorSky
+	colorBeforeEdge = "#4F7FA8"
+	colorAfter      = chart.ColorBlue
+	colorAfterEdge  = "#22405E"
+	colorCmpInk     = "#2B3037"
+	colorCmpMuted   = "#5F6670"
+	colorCmpGrid    = "#E3E7EB"
+	colorCmpAxis    = "#9AA1A9"
+)
+
+// CompareCaution is printed with every comparison.
+const CompareCaution = "These figures are estimates from trend data. A sequence that saves reheat can let space humidity rise: " +
+	"check space dew point and relative humidity over the after period before keeping the change " +
+	"(sustained relative humidity above about 60 % encourages mould growth; common practice, no source). " +
+	"Spaces with humidity limits set by code or by the owner (laboratories, health care, museums) need the engineer of record's review, " +
+	"and changes must follow local codes and licensed practice."
+
+// compareUncertainty explains the ± figures.
+var compareUncertainty = []string{
+	"Measurement ± (95 %): the hourly 95 % half-widths of reheat, avoidable reheat and water removed, normalised like the values and added linearly within a period (a sensor's bias repeats from hour to hour); the change combines the two periods in quadrature. Cooling input and cost carry no hourly half-width and show none.",
+	"Sampling ± (95 %): 1.96 × the standard error of the bin means, from the spread of the hourly values in each common bin. Consecutive hours are not independent, so bin sampling adds more uncertainty than this figure shows; a change smaller than the larger ± figure is not a measurable change.",
+}
+
+// CompareTable returns the comparison as a text table: a header and one
+// row per unit, then the site total. Energies in kWh, water in the display
+// unit.
+func (c *Comparison) CompareTable(d Display) (header []string, rows [][]string) {
+	header = []string{"air handler", "reheat before kWh", "after (normalised) kWh", "change", "± meas.", "± sampling",
+		"avoidable reheat change", "effective EER before → after", "water change " + d.WaterUnit(), "common-bin hours before / after"}
+	row := func(u *UnitComparison, label string) []string {
+		if !u.Compared {
+			return []string{label, fmtQty(float64(u.RawBefore.ReheatKWh)) + " (raw)", "not compared", "–", "–", "–", "–", "–", "–",
+				fmtPct(float64(u.HoursBefore.Covered)) + " / " + fmtPct(float64(u.HoursAfter.Covered))}
+		}
+		return []string{label,
+			fmtQty(float64(u.Reheat.Before)), fmtQty(float64(u.Reheat.After)), fmtChangePct(u.Reheat.ChangePct),
+			fmtPM(float64(u.Reheat.ChangeU95)), fmtPM(float64(u.Reheat.SamplingU95)),
+			fmtSigned(float64(u.ReheatAvoid.Change)) + " kWh (" + fmtChangePct(u.ReheatAvoid.ChangePct) + ")",
+			fmtFixed(float64(u.EER.Before), 1) + " → " + fmtFixed(float64(u.EER.After), 1),
+			fmtSigned(d.Water(float64(u.Water.Change))) + " (" + fmtChangePct(u.Water.ChangePct) + ")",
+			fmtPct(float64(u.HoursBefore.Covered)) + " / " + fmtPct(float64(u.HoursAfter.Covered)),
+		}
+	}
+	for i := range c.Units {
+		rows = append(rows, row(&c.Units[i], c.Units[i].ID))
+	}
+	if len(c.Units) > 1 {
+		rows = append(rows, row(&c.Total, "site"))
+	}
+	return header, rows
+}
+
+// fmtChangePct formats a percentage change with its sign: "+12 %", "-4.5 %".
+func fmtChangePct(v Num) string {
+	f := float64(v)
+	if math.IsNaN(f) || math.IsInf(f, 0) {
+		return "–"
+	}
+	dec := 0
+	if math.Abs(f) < 10 {
+		dec = 1
+	}
+	s := fmtFixed(f, dec)
+	if f > 0 && s != "0" && s != "0.0" {
+		s = "+" + s
+	}
+	return s + " %"
+}
+
+// fmtSigned formats a quantity with its sign.
+func fmtSigned(v float64) string {
+	s := fmtQty(v)
+	if v > 0 && s != "0" && s != "0.0" {
+		s = "+" + s
+	}
+	return s
+}
+
+// fmtSignedMoney formats money with its sign.
+func fmtSignedMoney(v float64) string {
+	s := fmtMoney(v)
+	if v > 0 && s != "0.00" {
+		s = "+" + s
+	}
+	return s
+}
+
+// fmtPM formats a half-width: "± 12", or a dash when there is none.
+func fmtPM(v float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return "–"
+	}
+	return "± " + fmtQty(v)
+}
+
+// compareView is what templates/compare.html shows; every number is
+// formatted here, so the template needs no functions.
+type compareView struct {
+	Site, Before, After, Currency string
+	BeforeSpan, AfterSpan         string
+	Method                        string
+	BinWidth                      string
+	MinHours                      int
+	WaterUnit, TempUnit           string
+	Cards                         []cmpCard
+	Rows                          []cmpRow
+	Raw                           []cmpRawRow
+	Bars                          template.HTML
+	BinCharts                     []cmpChart
+	Warnings                      []string
+	Uncertainty                   []string
+	Caution                       string
+}
+
+type cmpCard struct{ ID, Label, Value, Note string }
+
+type cmpRow struct {
+	ID, Name, Class                                string
+	Compared                                       bool
+	ReheatBefore, ReheatAfter, ReheatChange, Pct   string
+	MeasU95, SampU95                               string
+	AvoidBefore, AvoidAfter, AvoidPct              string
+	EERBefore, EERAfter                            string
+	WaterChange, WaterPct                          string
+	CoolChange, CoolPct                            string
+	CostChange, CostPct                            string
+	CoveredBefore, CoveredAfter, Bins, HoursDetail string
+}
+
+type cmpRawRow struct {
+	ID, Name, Class                string
+	HoursBefore, HoursAfter        string
+	ReheatBefore, ReheatAfter, Pct string
+	AvoidBefore, AvoidAfter        string
+	EERBefore, EERAfter            string
+	WaterBefore, WaterAfter        string
+	CoolBefore, CoolAfter          string
+	CostBefore, CostAfter          string
+}
+
+type cmpChart struct {
+	ID, Name string
+	SVG      template.HTML
+}
+
+var compareTemplate = sync.OnceValues(func() (*template.Template, error) {
+	return template.New("compare.html").ParseFS(assets, "templates/compare.html")
+})
+
+// RenderCompare writes the comparison as one self-contained HTML page:
+// inline CSS and SVG, no script and no outside resource, so it can be
+// mailed or archived as one file.
+func RenderCompare(w io.Writer, c *Comparison, d Display) error {
+	t, err := compareTemplate()
+	if err != nil {
+		return fmt.Errorf("compare template: %w", err)
+	}
+	v, err := newCompareView(c, d)
+	if err != nil {
+		return err
+	}
+	var buf bytes.Buffer
+	if err := t.ExecuteTemplate(&buf, "compare.html", v); err != nil {
+		return fmt.Errorf("render the comparison: %w", err)
+	}
+	_, err = w.Write(buf.Bytes())
+	return err
+}
+
+func newCompareView(c *Comparison, d Display) (*compareView, error) {
+	v := &compareView{Site: c.Site, Before: c.Before.Label, After: c.After.Label, Currency: c.Currency,
+		BeforeSpan: spanText(c.Before), AfterSpan: spanText(c.After),
+		Method: c.Method, MinHours: c.MinHours, WaterUnit: d.WaterUnit(), TempUnit: d.TempUnit(),
+		BinWidth: fmtFixed(d.Delta(float64(c.BinK)), 1) + " " + d.DeltaUnit(),
+		Warnings: c.Warnings, Uncertainty: compareUncertainty, Caution: CompareCaution}
+	if d.IP {
+		v.BinWidth += " = " + fmtFixed(float64(c.BinK), 1) + " K"
+	}
+	t := &c.Total
+	v.Cards = []cmpCard{
+		{"card-reheat", "Reheat, normalised", fmtChangePct(t.Reheat.ChangePct),
+			fmtQty(float64(t.Reheat.Before)) + " → " + fmtQty(float64(t.Reheat.After)) + " kWh" + uncertaintyNote(t.Reheat)},
+		{"card-reheat-raw", "Reheat, raw totals", fmtChangePct(pctOf(float64(t.RawAfter.ReheatKWh-t.RawBefore.ReheatKWh), float64(t.RawBefore.ReheatKWh))),
+			fmtQty(float64(t.RawBefore.ReheatKWh)) + " → " + fmtQty(float64(t.RawAfter.ReheatKWh)) + " kWh over " + strconv.Itoa(t.RawBefore.Hours) + " and " + strconv.Itoa(t.RawAfter.Hours) + " hours"},
+		{"card-avoidable", "Avoidable reheat, normalised", fmtChangePct(t.ReheatAvoid.ChangePct),
+			fmtQty(float64(t.ReheatAvoid.Before)) + " → " + fmtQty(float64(t.ReheatAvoid.After)) + " kWh"},
+		{"card-eer", "Effective EER, normalised", fmtFixed(float64(t.EER.Before), 1) + " → " + fmtFixed(float64(t.EER.After), 1), "Btu/Wh, ratio of the normalised sums"},
+		{"card-covered", "Hours in common bins", fmtPct(float64(t.HoursBefore.Covered)) + " / " + fmtPct(float64(t.HoursAfter.Covered)),
+			"of the usable hours before / after"},
+	}
+	for i := range c.Units {
+		v.Rows = append(v.Rows, newCmpRow(&c.Units[i], d, ""))
+		v.Raw = append(v.Raw, newCmpRawRow(&c.Units[i], d, ""))
+	}
+	if len(c.Units) > 1 {
+		v.Rows = append(v.Rows, newCmpRow(t, d, "total"))
+		v.Raw = append(v.Raw, newCmpRawRow(t, d, "total"))
+	}
+	bars, err := compareBarsSVG(c)
+	if err != nil {
+		return nil, err
+	}
+	v.Bars = bars
+	for i := range c.Units {
+		u := &c.Units[i]
+		svg, err := compareBinSVG(u, d, i)
+		if err != nil {
+			return nil, err
+		}
+		v.BinCharts = append(v.BinCharts, cmpChart{ID: u.ID, Name: u.Name, SVG: svg})
+	}
+	return v, nil
+}
+
+// uncertaintyNote lists the half-widths a change has: ", ± 12 measurement, ± 30 sampling".
+func uncertaintyNote(c Change) string {
+	var out string
+	if v := float64(c.ChangeU95); !math.IsNaN(v) {
+		out += ", " + fmtPM(v) + " measurement"
+	}
+	if v := float64(c.SamplingU95); !math.IsNaN(v) {
+		out += ", " + fmtPM(v) + " sampling"
+	}
+	return out
+}
+
+func spanText(p Period) string {
+	return p.From.Format("2006-01-02 15:04 MST") + " to " + p.To.Format("2006-01-02 15:04 MST") + " (end excluded)"
+}
+
+func newCmpRow(u *UnitComparison, d Display, class string) cmpRow {
+	q := func(v Num) string { return fmtQty(float64(v)) }
+	return cmpRow{ID: u.ID, Name: u.Name, Class: class, Compared: u.Compared,
+		ReheatBefore: q(u.Reheat.Before), ReheatAfter: q(u.Reheat.After), ReheatChange: fmtSigned(float64(u.Reheat.Change)),
+		Pct: fmtChangePct(u.Reheat.ChangePct), MeasU95: fmtPM(float64(u.Reheat.ChangeU95)), SampU95: fmtPM(float64(u.Reheat.SamplingU95)),
+		AvoidBefore: q(u.ReheatAvoid.Before), AvoidAfter: q(u.ReheatAvoid.After), AvoidPct: fmtChangePct(u.ReheatAvoid.ChangePct),
+		EERBefore: fmtFixed(float64(u.EER.Before), 1), EERAfter: fmtFixed(float64(u.EER.After), 1),
+		WaterChange: fmtSigned(d.Water(float64(u.Water.Change))), WaterPct: fmtChangePct(u.Water.ChangePct),
+		CoolChange: fmtSigned(float64(u.CoolingInput.Change)), CoolPct: fmtChangePct(u.CoolingInput.ChangePct),
+		CostChange: fmtSignedMoney(float64(u.Cost.Change)), CostPct: fmtChangePct(u.Cost.ChangePct),
+		CoveredBefore: fmtPct(float64(u.HoursBefore.Covered)), CoveredAfter: fmtPct(float64(u.HoursAfter.Covered)),
+		Bins: strconv.Itoa(u.CommonBins),
+		HoursDetail: fmt.Sprintf("%d of %d usable hours before, %d of %d after", u.HoursBefore.InCommon, u.HoursBefore.Usable,
+			u.HoursAfter.InCommon, u.HoursAfter.Usable),
+	}
+}
+
+func newCmpRawRow(u *UnitComparison, d Display, class string) cmpRawRow {
+	b, a := &u.RawBefore, &u.RawAfter
+	q := func(v Num) string { return fmtQty(float64(v)) }
+	wt := func(v Num) string { return fmtQty(d.Water(float64(v))) }
+	return cmpRawRow{ID: u.ID, Name: u.Name, Class: class,
+		HoursBefore: strconv.Itoa(b.Hours), HoursAfter: strconv.Itoa(a.Hours),
+		ReheatBefore: q(b.ReheatKWh), ReheatAfter: q(a.ReheatKWh), Pct: fmtChangePct(pctOf(float64(a.ReheatKWh-b.ReheatKWh), float64(b.ReheatKWh))),
+		AvoidBefore: q(b.ReheatAvoid), AvoidAfter: q(a.ReheatAvoid),
+		EERBefore: fmtFixed(float64(b.EffectiveEER), 1), EERAfter: fmtFixed(float64(a.EffectiveEER), 1),
+		WaterBefore: wt(b.WaterKg), WaterAfter: wt(a.WaterKg),
+		CoolBefore: q(b.CoolingInput), CoolAfter: q(a.CoolingInput),
+		CostBefore: fmtMoney(float64(b.Cost)), CostAfter: fmtMoney(float64(a.Cost)),
+	}
+}
+
+// --- charts: small SVGs of our own, presentation attributes only ---
+
+// svgText escapes text for SVG inside HTML.
+func svgText(s string) string { return html.EscapeString(s) }
+
+// cx formats a coordinate with one decimal.
+func cx(v float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		v = 0
+	}
+	return strconv.FormatFloat(math.Round(v*10)/10, 'f', -1, 64)
+}
+
+// ticks returns round tick values covering [lo, hi] (about n of them) and
+// the widened ends.
+func ticks(lo, hi float64, n int) (t []float64, a, b float64) {
+	if !(hi > lo) {
+		lo, hi = lo-1, lo+1
+	}
+	raw := (hi - lo) / float64(max(n, 1))
+	mag := math.Pow(10, math.Floor(math.Log10(raw)))
+	step := 10 * mag
+	for _, f := range []float64{1, 2, 5, 10} {
+		if raw <= f*mag {
+			step = f * mag
+			break
+		}
+	}
+	a, b = math.Floor(lo/step)*step, math.Ceil(hi/step)*step
+	for v := a; v <= b+step/2 && len(t) < 40; v += step {
+		t = append(t, math.Round(v/step)*step)
+	}
+	return t, a, b
+}
+
+// tickLabel writes a tick value with as many decimals as its step needs.
+func tickLabel(v float64, t []float64) string {
+	dec := 0
+	if len(t) > 1 {
+		step := t[1] - t[0]
+		for dec < 3 && math.Abs(step*math.Pow(10, float64(dec))-math.Round(step*math.Pow(10, float64(dec)))) > 1e-9 {
+			dec++
+		}
+	}
+	return fmtFixed(v, dec)
+}
+
+func hatch(id, fill, line string) string {
+	return `<pattern id="` + id + `" patternUnits="userSpaceOnUse" width="6" height="6" patternTransform="rotate(45)">` +
+		`<rect width="6" height="6" fill="` + fill + `"/><line x1="0" y1="0" x2="0" y2="6" stroke="` + line + `" stroke-width="2.5"/></pattern>`
+}
+
+// compareBarsSVG draws, per unit, the before figure and the normalised
+// after figure of reheat as a pair of horizontal bars with their
+// measurement half-widths.
+func compareBarsSVG(c *Comparison) (template.HTML, error) {
+	const (
+		width   = 960.0
+		labelW  = 220.0
+		right   = 90.0
+		top     = 58.0
+		pitch   = 46.0
+		barH    = 15.0
+		bottom  = 34.0
+		hatchID = "cmp-hatch-bars"
+	)
+	n := len(c.Units)
+	h := top + float64(max(n, 1))*pitch + bottom
+	lo, hi := 0.0, 0.0
+	for i := range c.Units {
+		u := &c.Units[i]
+		for _, x := range []float64{float64(u.Reheat.Before + u.Reheat.BeforeU95), float64(u.Reheat.After + u.Reheat.AfterU95),
+			float64(u.Reheat.Before), float64(u.Reheat.After)} {
+			if !math.IsNaN(x) && !math.IsInf(x, 0) {
+				lo, hi = math.Min(lo, x), math.Max(hi, x)
+			}
+		}
+	}
+	tk, a, b := ticks(lo, hi, 6)
+	x0, x1 := labelW, width-right
+	x := func(v float64) float64 { return x0 + (v-a)/(b-a)*(x1-x0) }
+	var s strings.Builder
+	title := "Reheat per air handler: before, and after normalised to the before period's humidity"
+	fmt.Fprintf(&s, `<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 %s %s" width="%s" height="%s" role="img" aria-label="%s" font-family="system-ui, -apple-system, sans-serif" font-size="11" fill="%s">`,
+		cx(width), cx(h), cx(width), cx(h), svgText(title), colorCmpInk)
+	s.WriteString(`<defs>` + hatch(hatchID, colorAfter, colorAfterEdge) + `</defs>`)
+	fmt.Fprintf(&s, `<text x="8" y="20" font-size="13" font-weight="600">%s</text>`, svgText(title))
+	// Legend: shapes differ as well as colours.
+	fmt.Fprintf(&s, `<rect x="%s" y="30" width="14" height="10" fill="%s" stroke="%s"/><text x="%s" y="39">before (its hours in common bins)</text>`,
+		cx(x0), colorBefore, colorBeforeEdge, cx(x0+19))
+	fmt.Fprintf(&s, `<rect x="%s" y="30" width="14" height="10" fill="url(#%s)" stroke="%s"/><text x="%s" y="39">after, normalised</text>`,
+		cx(x0+230), hatchID, colorAfterEdge, cx(x0+249))
+	fmt.Fprintf(&s, `<text x="%s" y="39" fill="%s">whiskers: measurement ± (95 %%)</text>`, cx(x0+370), colorCmpMuted)
+	yEnd := top + float64(max(n, 1))*pitch
+	for _, v := range tk {
+		fmt.Fprintf(&s, `<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s"/>`, cx(x(v)), cx(top-4), cx(x(v)), cx(yEnd), colorCmpGrid)
+		fmt.Fprintf(&s, `<text x="%s" y="%s" text-anchor="middle" fill="%s">%s</text>`, cx(x(v)), cx(yEnd+15), colorCmpMuted, svgText(tickLabel(v, tk)))
+	}
+	fmt.Fprintf(&s, `<text x="%s" y="%s" text-anchor="middle" fill="%s">reheat, kWh</text>`, cx((x0+x1)/2), cx(yEnd+30), colorCmpMuted)
+	fmt.Fprintf(&s, `<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s"/>`, cx(x(0)), cx(top-4), cx(x(0)), cx(yEnd), colorCmpAxis)
+	for i := range c.Units {
+		u := &c.Units[i]
+		y := top + float64(i)*pitch
+		label := u.Name
+		if u.Name != u.ID {
+			label += " (" + u.ID + ")"
+		}
+		if r := []rune(label); len(r) > 34 {
+			label = string(r[:33]) + "…"
+		}
+		fmt.Fprintf(&s, `<text x="%s" y="%s" text-anchor="end">%s</text>`, cx(x0-8), cx(y+barH+6), svgText(label))
+		if !u.Compared {
+			fmt.Fprintf(&s, `<text x="%s" y="%s" fill="%s">not compared: no dew-point bin with enough hours in both periods</text>`,
+				cx(x0+6), cx(y+barH+6), colorCmpMuted)
+			continue
+		}
+		for k, p := range []struct {
+			v, u95     float64
+			fill, edge string
+			name       string
+		}{
+			{float64(u.Reheat.Before), float64(u.Reheat.BeforeU95), colorBefore, colorBeforeEdge, "before"},
+			{float64(u.Reheat.After), float64(u.Reheat.AfterU95), "url(#" + hatchID + ")", colorAfterEdge, "after, normalised"},
+		} {
+			yb := y + float64(k)*(barH+2)
+			if math.IsNaN(p.v) {
+				fmt.Fprintf(&s, `<text x="%s" y="%s" fill="%s">–</text>`, cx(x(0)+4), cx(yb+barH-3), colorCmpMuted)
+				continue
+			}
+			xa, xb := math.Min(x(0), x(p.v)), math.Max(x(0), x(p.v))
+			fmt.Fprintf(&s, `<rect x="%s" y="%s" width="%s" height="%s" fill="%s" stroke="%s"><title>%s</title></rect>`,
+				cx(xa), cx(yb), cx(xb-xa), cx(barH), p.fill, p.edge, svgText(label+", "+p.name+": "+fmtQty(p.v)+" kWh"))
+			end := xb
+			if !math.IsNaN(p.u95) && p.u95 > 0 {
+				wl, wr := x(p.v-p.u95), x(p.v+p.u95)
+				ym := yb + barH/2
+				fmt.Fprintf(&s, `<path d="M%s %sH%sM%s %sV%sM%s %sV%s" stroke="%s" stroke-width="1.2" fill="none"/>`,
+					cx(wl), cx(ym), cx(wr), cx(wl), cx(ym-4), cx(ym+4), cx(wr), cx(ym-4), cx(ym+4), colorCmpInk)
+				end = math.Max(end, wr)
+			}
+			fmt.Fprintf(&s, `<text x="%s" y="%s">%s</text>`, cx(end+5), cx(yb+barH-3), svgText(fmtQty(p.v)))
+		}
+	}
+	s.WriteString(`</svg>`)
+	return template.HTML(s.String()), nil // every text above went through svgText
+}
+
+// compareBinSVG draws one unit's bins: the mean reheat per hour of each
+// period against the entering dew point (top) and the hours per bin of
+// each period (bottom), which shows the difference in humidity mix that
+// the normalisation removes.
+func compareBinSVG(u *UnitComparison, d Display, idx int) (template.HTML, error) {
+	const (
+		width  = 960.0
+		left   = 70.0
+		right  = 24.0
+		top    = 62.0
+		plotH  = 190.0
+		gap    = 44.0
+		histH  = 90.0
+		bottom = 40.0
+	)
+	h := top + plotH + gap + histH + bottom
+	title := u.Name
+	if u.Name != u.ID {
+		title += " (" + u.ID + ")"
+	}
+	title += ": mean reheat per hour by entering dew point"
+	var s strings.Builder
+	fmt.Fprintf(&s, `<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 %s %s" width="%s" height="%s" role="img" aria-label="%s" font-family="system-ui, -apple-system, sans-serif" font-size="11" fill="%s">`,
+		cx(width), cx(h), cx(width), cx(h), svgText(title), colorCmpInk)
+	hatchID := "cmp-hatch-" + strconv.Itoa(idx)
+	s.WriteString(`<defs>` + hatch(hatchID, colorAfter, colorAfterEdge) + `</defs>`)
+	fmt.Fprintf(&s, `<text x="8" y="20" font-size="13" font-weight="600">%s</text>`, svgText(title))
+	if len(u.Bins) == 0 {
+		fmt.Fprintf(&s, `<text x="%s" y="%s" fill="%s">no usable hours in either period</text></svg>`, cx(left), cx(top+40), colorCmpMuted)
+		return template.HTML(s.String()), nil
+	}
+	// Legend.
+	lx := left
+	fmt.Fprintf(&s, `<path d="M%s 36h22" stroke="%s" stroke-width="2"/><circle cx="%s" cy="36" r="4" fill="%s" stroke="%s"/><text x="%s" y="40">before</text>`,
+		cx(lx), colorBeforeEdge, cx(lx+11), colorBefore, colorBeforeEdge, cx(lx+28))
+	lx += 90
+	fmt.Fprintf(&s, `<path d="M%s 36h22" stroke="%s" stroke-width="2" stroke-dasharray="5 3"/><rect x="%s" y="32" width="8" height="8" fill="%s" stroke="%s"/><text x="%s" y="40">after</text>`,
+		cx(lx), colorAfterEdge, cx(lx+7), colorAfter, colorAfterEdge, cx(lx+28))
+	lx += 80
+	fmt.Fprintf(&s, `<circle cx="%s" cy="36" r="4" fill="#fff" stroke="%s"/><text x="%s" y="40" fill="%s">hollow: bin left out (fewer than the minimum hours in a period)</text>`,
+		cx(lx+4), colorCmpMuted, cx(lx+13), colorCmpMuted)
+
+	loT, hiT := d.Temp(float64(u.Bins[0].LoC)), d.Temp(float64(u.Bins[len(u.Bins)-1].HiC))
+	xt, xa, xb := ticks(loT, hiT, 10)
+	x0, x1 := left, width-right
+	x := func(t float64) float64 { return x0 + (t-xa)/(xb-xa)*(x1-x0) }
+	yMax, hMax := 0.0, 0
+	for _, b := range u.Bins {
+		for _, v := range []float64{float64(b.ReheatBefore), float64(b.ReheatAfter)} {
+			if !math.IsNaN(v) {
+				yMax = math.Max(yMax, v)
+			}
+		}
+		hMax = max(hMax, b.HoursBefore, b.HoursAfter)
+	}
+	yt, ya, yb := ticks(0, math.Max(yMax, 1e-9), 5)
+	y := func(v float64) float64 { return top + plotH - (v-ya)/(yb-ya)*plotH }
+	ht, ha, hb := ticks(0, float64(max(hMax, 1)), 3)
+	hy0 := top + plotH + gap
+	hy := func(v float64) float64 { return hy0 + histH - (v-ha)/(hb-ha)*histH }
+
+	// Grids and axes.
+	for _, v := range yt {
+		fmt.Fprintf(&s, `<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s"/><text x="%s" y="%s" text-anchor="end" fill="%s">%s</text>`,
+			cx(x0), cx(y(v)), cx(x1), cx(y(v)), colorCmpGrid, cx(x0-6), cx(y(v)+4), colorCmpMuted, svgText(tickLabel(v, yt)))
+	}
+	for _, v := range ht {
+		fmt.Fprintf(&s, `<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s"/><text x="%s" y="%s" text-anchor="end" fill="%s">%s</text>`,
+			cx(x0), cx(hy(v)), cx(x1), cx(hy(v)), colorCmpGrid, cx(x0-6), cx(hy(v)+4), colorCmpMuted, svgText(tickLabel(v, ht)))
+	}
+	for _, v := range xt {
+		fmt.Fprintf(&s, `<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s"/><text x="%s" y="%s" text-anchor="middle" fill="%s">%s</text>`,
+			cx(x(v)), cx(top), cx(x(v)), cx(hy0+histH), colorCmpGrid, cx(x(v)), cx(hy0+histH+15), colorCmpMuted, svgText(tickLabel(v, xt)))
+	}
+	fmt.Fprintf(&s, `<path d="M%s %sV%sH%sM%s %sV%sH%s" stroke="%s" fill="none"/>`,
+		cx(x0), cx(top), cx(top+plotH), cx(x1), cx(x0), cx(hy0), cx(hy0+histH), cx(x1), colorCmpAxis)
+	fmt.Fprintf(&s, `<text x="%s" y="%s" fill="%s">reheat, kWh per hour (bin mean)</text>`, cx(x0), cx(top-8), colorCmpMuted)
+	fmt.Fprintf(&s, `<text x="%s" y="%s" fill="%s">hours per bin</text>`, cx(x0), cx(hy0-8), colorCmpMuted)
+	fmt.Fprintf(&s, `<text x="%s" y="%s" text-anchor="middle" fill="%s">entering dew point, %s</text>`,
+		cx((x0+x1)/2), cx(hy0+histH+32), colorCmpMuted, svgText(d.TempUnit()))
+
+	// Hours per bin: two bars side by side in each bin.
+	for _, b := range u.Bins {
+		xl, xr := x(d.Temp(float64(b.LoC))), x(d.Temp(float64(b.HiC)))
+		wBar := math.Max((xr-xl)/2-1.5, 0.8)
+		op := "1"
+		if !b.Common {
+			op = "0.35"
+		}
+		rng := fmtFixed(d.Temp(float64(b.LoC)), 1) + " to " + fmtFixed(d.Temp(float64(b.HiC)), 1) + " " + d.TempUnit()
+		for k, p := range []struct {
+			hours      int
+			fill, edge string
+			name       string
+		}{{b.HoursBefore, colorBefore, colorBeforeEdge, "before"}, {b.HoursAfter, "url(#" + hatchID + ")", colorAfterEdge, "after"}} {
+			if p.hours == 0 {
+				continue
+			}
+			xs := xl + 1 + float64(k)*(wBar+1)
+			fmt.Fprintf(&s, `<rect x="%s" y="%s" width="%s" height="%s" fill="%s" stroke="%s" stroke-width="0.6" opacity="%s"><title>%s</title></rect>`,
+				cx(xs), cx(hy(float64(p.hours))), cx(wBar), cx(hy(0)-hy(float64(p.hours))), p.fill, p.edge, op,
+				svgText(p.name+", "+rng+": "+strconv.Itoa(p.hours)+" h"))
+		}
+	}
+
+	// Bin means: lines over the common bins, a marker in every bin.
+	for k, p := range []struct {
+		edge, fill, dash, name string
+		val                    func(BinRow) Num
+		hours                  func(BinRow) int
+	}{
+		{colorBeforeEdge, colorBefore, "", "before", func(b BinRow) Num { return b.ReheatBefore }, func(b BinRow) int { return b.HoursBefore }},
+		{colorAfterEdge, colorAfter, ` stroke-dasharray="6 4"`, "after", func(b BinRow) Num { return b.ReheatAfter }, func(b BinRow) int { return b.HoursAfter }},
+	} {
+		// A line joins neighbouring bins only: across a gap nothing was
+		// observed, and a straight line would suggest otherwise.
+		var path strings.Builder
+		prevHi := math.NaN()
+		for _, b := range u.Bins {
+			v := float64(p.val(b))
+			if !b.Common || math.IsNaN(v) {
+				prevHi = math.NaN()
+				continue
+			}
+			cmd := "L"
+			if math.IsNaN(prevHi) || math.Abs(float64(b.LoC)-prevHi) > 1e-9 {
+				cmd = "M"
+			}
+			prevHi = float64(b.HiC)
+			path.WriteString(cmd + cx(x(d.Temp(float64(b.LoC+b.HiC)/2))) + " " + cx(y(v)))
+		}
+		if path.Len() > 0 {
+			fmt.Fprintf(&s, `<path d="%s" fill="none" stroke="%s" stroke-width="2"%s/>`, path.String(), p.edge, p.dash)
+		}
+		for _, b := range u.Bins {
+			v := float64(p.val(b))
+			if math.IsNaN(v) {
+				continue
+			}
+			px, py := x(d.Temp(float64(b.LoC+b.HiC)/2)), y(v)
+			fill := p.fill
+			if !b.Common {
+				fill = "#ffffff"
+			}
+			tip := svgText(p.name + ", " + fmtFixed(d.Temp(float64(b.LoC)), 1) + " to " + fmtFixed(d.Temp(float64(b.HiC)), 1) + " " + d.TempUnit() +
+				": " + fmtFixed(v, 2) + " kWh per hour over " + strconv.Itoa(p.hours(b)) + " h")
+			if k == 0 {
+				fmt.Fprintf(&s, `<circle cx="%s" cy="%s" r="4" fill="%s" stroke="%s" stroke-width="1.2"><title>%s</title></circle>`,
+					cx(px), cx(py), fill, p.edge, tip)
+			} else {
+				fmt.Fprintf(&s, `<rect x="%s" y="%s" width="8" height="8" fill="%s" stroke="%s" stroke-width="1.2"><title>%s</title></rect>`,
+					cx(px-4), cx(py-4), fill, p.edge, tip)
+			}
+		}
+	}
+	s.WriteString(`</svg>`)
+	return template.HTML(s.String()), nil // every text above went through svgText
+}

@@ -1,0 +1,1008 @@
+package dashboards
+
+import (
+	"bufio"
+	"cmp"
+	"context"
+	"embed"
+	"fmt"
+	"html/template"
+	"io"
+	"math"
+	"slices"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
+)
+
+// The report is one HTML file: its stylesheet is inlined, its charts are
+// inline SVG, it has no script and refers to nothing outside itself, so it
+// can be mailed, archived and printed as it is.
+//
+//go:embed templates/report.html templates/report.css
+var reportAssets embed.FS
+
+// ReportOptions configures a report.
+type ReportOptions struct {
+	Display   Display   // units of temperatures and water
+	Generated time.Time // shown on the title page; ongoing alerts last until then (zero: now)
+	// Paper is "a4" or "letter"; empty picks letter for IP display and A4 for SI.
+	Paper string
+	// Source says where the results were read, e.g. "embedded store site.db". Optional.
+	Source string
+	// Trended lists, per air handler id, the roles that have a trend point
+	// (metrics.Role names), so the assumptions can say what was measured and
+	// what was modelled. Optional.
+	Trended map[string][]string
+	// Notes are more assumptions to state, e.g. how the site's pressure was set.
+	Notes []Assumption
+	// MaxAlerts is how many alerts each air handler lists, most money first (0: 5).
+	MaxAlerts int
+	// TopFindings is how many air handlers get a sentence in the summary (0: 5).
+	TopFindings int
+	// Progress, when set, is called after each air handler's part is read.
+	Progress func(done, total int)
+}
+
+// Measure keys, in the order the report lists them.
+const (
+	MeasureTargetControl = "target_control"
+	MeasureCoilReset     = "coil_reset"
+	MeasureReheatEnable  = "reheat_enable"
+	MeasureRecoveredHeat = "recovered_heat"
+)
+
+// Energy is purchased energy with its money and CO2.
+type Energy struct {
+	ElectricityKWh, FuelKWh, Cost, CO2Kg float64
+}
+
+func (e Energy) scaled(f float64) Energy {
+	return Energy{ElectricityKWh: e.ElectricityKWh * f, FuelKWh: e.FuelKWh * f, Cost: e.Cost * f, CO2Kg: e.CO2Kg * f}
+}
+
+func (e *Energy) add(o Energy) {
+	e.ElectricityKWh += o.ElectricityKWh
+	e.FuelKWh += o.FuelKWh
+	e.Cost += o.Cost
+	e.CO2Kg += o.CO2Kg
+}
+
+// Measure is a candidate measure with the savings estimated from the
+// period's hours.
+type Measure struct {
+	Key    string
+	Title  string
+	Short  string  // column heading
+	Action string  // what would be done
+	Basis  string  // how the figure is computed from the hours
+	Energy         // over the period
+	Annual float64 // Cost × the annualising factor
+	ByUnit map[string]Energy
+	Hours  float64 // hours that contribute (for the reheat enable logic: time without humidity need)
+}
+
+// UnitReport is one air handler's part of the report.
+type UnitReport struct {
+	Unit    Unit
+	Row     UnitRow // its overview row: rank and totals
+	Hours   *UnitHours
+	Charts  UnitCharts
+	Psy     template.HTML
+	States  int             // hours on the psychrometric chart
+	Alerts  []Alert         // overlapping the period, most money first
+	Flags   map[string]int  // hours per data-quality flag
+	CostU95 float64         // 95 % half-width of the avoidable cost's reheat part
+	Finding string          // the summary sentence
+	clock   [24]float64     // time without humidity need per local hour of day
+	days    map[string]bool // local days with such time
+}
+
+// Annual is the annualised estimate: the period's figures × Factor.
+type Annual struct {
+	Factor                                float64 // 365 / days in the period
+	Days                                  float64
+	Cost, CostAvoidable, CostAvoidableU95 float64
+	ReheatAvoidKWh, ReheatAvoidKWhU95     float64
+	CoolingAvoidKWh, CO2AvoidKg           float64
+}
+
+// Report is everything the report states, computed from one period's hours.
+type Report struct {
+	Site      *Site
+	Period    Period
+	Display   Display
+	Generated time.Time
+	Overview  *Overview
+	Units     []UnitReport // in rank order, most avoidable cost first
+	Annual    Annual
+	Measures  []Measure
+	opt       ReportOptions
+}
+
+// WriteReport writes the self-contained HTML report of site over p.
+func WriteReport(ctx context.Context, w io.Writer, site *Site, res Results, p Period, opt ReportOptions) error {
+	r, err := BuildReport(ctx, site, res, p, opt)
+	if err != nil {
+		return err
+	}
+	return r.WriteHTML(w)
+}
+
+// BuildReport reads the period's hours and alerts and computes the report.
+func BuildReport(ctx context.Context, site *Site, res Results, p Period, opt ReportOptions) (*Report, error) {
+	if site == nil || res == nil {
+		return nil, fmt.Errorf("report: a site and a results source are required")
+	}
+	if site.Zone == nil {
+		site.Zone = time.UTC
+	}
+	if opt.Generated.IsZero() {
+		opt.Generated = time.Now()
+	}
+	if opt.MaxAlerts <= 0 {
+		opt.MaxAlerts = 5
+	}
+	if opt.TopFindings <= 0 {
+		opt.TopFindings = 5
+	}
+	ov, err := BuildOverview(ctx, site, res, p)
+	if err != nil {
+		return nil, err
+	}
+	r := &Report{Site: site, Period: p, Display: opt.Display, Generated: opt.Generated, Overview: ov, opt: opt}
+	index := map[string]int{}
+	for i, row := range ov.Units {
+		u, _ := site.Unit(row.ID)
+		r.Units = append(r.Units, UnitReport{Unit: u, Row: row, Flags: map[string]int{}, days: map[string]bool{}})
+		index[row.ID] = i
+	}
+	r.Measures = []Measure{
+		{Key: MeasureTargetControl, ByUnit: map[string]Energy{}},
+		{Key: MeasureCoilReset, ByUnit: map[string]Energy{}},
+		{Key: MeasureReheatEnable, ByUnit: map[string]Energy{}},
+		{Key: MeasureRecoveredHeat, ByUnit: map[string]Energy{}},
+	}
+	err = res.Hours(ctx, "", p.From, p.To, func(rec *metrics.Record) error {
+		i, ok := index[rec.AHU]
+		if !ok {
+			return nil
+		}
+		r.addHour(&r.Units[i], rec)
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	for i := range r.Units {
+		if err := r.unitDetail(ctx, res, &r.Units[i]); err != nil {
+			return nil, err
+		}
+		if opt.Progress != nil {
+			opt.Progress(i+1, len(r.Units))
+		}
+	}
+	r.annualise()
+	r.describeMeasures()
+	return r, nil
+}
+
+// nz is v, or 0 when v is missing.
+func nz(v float64) float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0
+	}
+	return v
+}
+
+func clamp01(v float64) float64 { return math.Max(0, math.Min(1, nz(v))) }
+
+// reheatPrice returns the price and CO2 factor of one kWh of purchased
+// reheat input of unit u, and whether it is fuel.
+func reheatPrice(u Unit) (price, co2 float64, fuel bool) {
+	if u.Spec == nil {
+		return 0, 0, false
+	}
+	pr := u.Spec.Prices
+	switch u.Spec.Reheat {
+	case metrics.ReheatElectric:
+		return pr.ElectricityPerKWh, pr.ElectricityCO2KgPerKWh, false
+	case metrics.ReheatHotWater:
+		return pr.FuelPerKWh, pr.FuelCO2KgPerKWh, true
+	}
+	return 0, 0, false
+}
+
+// priced turns electricity and reheat input into an Energy for unit u.
+func priced(u Unit, elecKWh, reheatInKWh float64) Energy {
+	var e Energy
+	price, co2, fuel := reheatPrice(u)
+	if fuel {
+		e.FuelKWh = reheatInKWh
+	} else {
+		elecKWh += reheatInKWh
+	}
+	e.ElectricityKWh = elecKWh
+	var pe, ce float64
+	if u.Spec != nil {
+		pe, ce = u.Spec.Prices.ElectricityPerKWh, u.Spec.Prices.ElectricityCO2KgPerKWh
+	}
+	e.Cost = elecKWh * pe
+	e.CO2Kg = elecKWh * ce
+	if fuel {
+		e.Cost += reheatInKWh * price
+		e.CO2Kg += reheatInKWh * co2
+	}
+	return e
+}
+
+// addHour adds one record to the measures, the flags and the uncertainty
+// of the avoidable cost. Each hour's purchased reheat input is split in the
+// proportion of its avoidable and needed reheat; its simultaneous heating
+// and cooling in the proportion of the time the humidity target did not
+// need (shc_unneeded_h / shc_h).
+func (r *Report) addHour(ur *UnitReport, rec *metrics.Record) {
+	u := ur.Unit
+	for _, f := range rec.Flags {
+		ur.Flags[f]++
+	}
+	reheat, reheatIn := nz(rec.ReheatKWh), nz(rec.ReheatInputKWh)
+	avoidShare := 0.0
+	if reheat > 0 {
+		avoidShare = clamp01(nz(rec.ReheatAvoidKWh) / reheat)
+	}
+	avoidIn := reheatIn * avoidShare
+	neededIn := math.Max(0, reheatIn-avoidIn)
+	coolAvoid := nz(rec.CoolingAvoidKWh)
+	unneeded := 0.0
+	if shc := nz(rec.SHCHours); shc > 0 {
+		unneeded = clamp01(nz(rec.SHCUnneededH) / shc)
+	}
+	price, _, _ := reheatPrice(u)
+	if reheat > 0 {
+		ur.CostU95 += price * nz(rec.ReheatAvoidKWhU95) * reheatIn / reheat
+	}
+
+	// The avoidable cooling is electricity; the rest of the hour's
+	// avoidable money and CO2 is its avoidable reheat input's, as the
+	// engine priced it step by step.
+	var pe, ce float64
+	if u.Spec != nil {
+		pe, ce = u.Spec.Prices.ElectricityPerKWh, u.Spec.Prices.ElectricityCO2KgPerKWh
+	}
+	cool := Energy{ElectricityKWh: coolAvoid, Cost: coolAvoid * pe, CO2Kg: coolAvoid * ce}
+	reheatAvoid := priced(u, 0, avoidIn)
+	reheatAvoid.Cost = math.Max(0, nz(rec.CostAvoidable)-cool.Cost)
+	reheatAvoid.CO2Kg = math.Max(0, nz(rec.CO2AvoidableKg)-cool.CO2Kg)
+
+	// Control to the target: all of the hour's avoidable energy.
+	all := cool
+	all.add(reheatAvoid)
+	r.measureAdd(0, u.ID, all)
+	// Coil reset: the avoidable cooling, and the avoidable reheat of the
+	// time the target needed dehumidification (reheat of over-cooled air).
+	coil := cool
+	coil.add(reheatAvoid.scaled(1 - unneeded))
+	r.measureAdd(1, u.ID, coil)
+	// Reheat enable logic: the avoidable energy of the time the target
+	// did not need.
+	r.measureAdd(2, u.ID, all.scaled(unneeded))
+	if h := nz(rec.SHCUnneededH); h > 0 {
+		r.Measures[2].Hours += h
+		local := rec.HourStart.In(r.Site.Zone)
+		ur.clock[local.Hour()] += h
+		ur.days[local.Format(dateLayout)] = true
+	}
+	// Recovered heat: the purchased input of the needed reheat.
+	if _, _, fuel := reheatPrice(u); u.Spec != nil && (u.Spec.Reheat == metrics.ReheatElectric || fuel) {
+		r.measureAdd(3, u.ID, priced(u, 0, neededIn))
+	}
+}
+
+func (r *Report) measureAdd(i int, id string, e Energy) {
+	m := &r.Measures[i]
+	m.add(e)
+	x := m.ByUnit[id]
+	x.add(e)
+	m.ByUnit[id] = x
+}
+
+// unitDetail reads one unit's hours as columns, its states and alerts,
+// and draws its charts.
+func (r *Report) unitDetail(ctx context.Context, res Results, ur *UnitReport) error {
+	uh, err := BuildUnitHours(ctx, ur.Unit, res, r.Period, r.Display)
+	if err != nil {
+		return err
+	}
+	ur.Hours = uh
+	if ur.Charts, err = unitCharts(uh, r.Display, r.Site.Zone); err != nil {
+		return fmt.Errorf("report: charts of %s: %w", ur.Unit.ID, err)
+	}
+	pa := r.pressure(ur.Unit)
+	st, err := UnitStates(ctx, ur.Unit, res, r.Period, pa)
+	if err != nil {
+		return err
+	}
+	ur.States = len(st)
+	if ur.Psy, err = psyChartSVG(ur.Unit, st, pa, r.Display, "enthalpy"); err != nil {
+		return fmt.Errorf("report: psychrometric chart of %s: %w", ur.Unit.ID, err)
+	}
+	alerts, err := res.Alerts(ctx, AlertQuery{AHU: ur.Unit.ID, From: r.Period.From, To: r.Period.To})
+	if err != nil {
+		return err
+	}
+	slices.SortStableFunc(alerts, func(a, b Alert) int { return cmp.Compare(nz(b.Money), nz(a.Money)) })
+	ur.Alerts = alerts
+	ur.Finding = r.finding(ur)
+	return nil
+}
+
+func (r *Report) pressure(u Unit) float64 {
+	if u.Spec != nil && u.Spec.PressurePa > 0 {
+		return u.Spec.PressurePa
+	}
+	if r.Site.PressurePa > 0 {
+		return r.Site.PressurePa
+	}
+	return psychro.StandardPressurePa
+}
+
+// PeriodDays is the length of the period in days: whole local days when
+// it runs from midnight to midnight, else its hours / 24.
+func PeriodDays(p Period) float64 {
+	if midnight(p.From).Equal(p.From) && midnight(p.To).Equal(p.To) {
+		return float64(p.Days())
+	}
+	return p.Hours() / 24
+}
+
+// annualise scales the period's figures to a year: × 365 / days. The 95 %
+// half-widths scale the same way (a bias does not average out).
+func (r *Report) annualise() {
+	t := r.Overview.Total
+	a := Annual{Days: PeriodDays(r.Period)}
+	if a.Days > 0 {
+		a.Factor = 365 / a.Days
+	}
+	var u95 float64
+	for _, ur := range r.Units {
+		u95 += ur.CostU95
+	}
+	a.Cost = nz(float64(t.Cost)) * a.Factor
+	a.CostAvoidable = nz(float64(t.CostAvoidable)) * a.Factor
+	a.CostAvoidableU95 = u95 * a.Factor
+	a.ReheatAvoidKWh = nz(float64(t.ReheatAvoid)) * a.Factor
+	a.ReheatAvoidKWhU95 = nz(float64(t.ReheatAvoidU95)) * a.Factor
+	a.CoolingAvoidKWh = nz(float64(t.CoolingAvoid)) * a.Factor
+	a.CO2AvoidKg = nz(float64(t.CO2AvoidKg)) * a.Factor
+	r.Annual = a
+	for i := range r.Measures {
+		r.Measures[i].Annual = r.Measures[i].Cost * a.Factor
+	}
+}
+
+// describeMeasures words each measure and its basis.
+func (r *Report) describeMeasures() {
+	cur := r.Site.Currency
+	for i := range r.Measures {
+		m := &r.Measures[i]
+		switch m.Key {
+		case MeasureTargetControl:
+			m.Title, m.Short = "Control the coil and the reheat to the humidity target", "Target control"
+			m.Action = "Let the coil leaving temperature rise to what the humidity target requires, and enable reheat only as far as the supply temperature and the target need it."
+			m.Basis = "The sum over the period's hours of the avoidable cooling input and the purchased input of the avoidable reheat, priced as in the hourly records (cost_avoidable). An upper bound: a real sequence keeps a control margin, so part of it remains."
+		case MeasureCoilReset:
+			m.Title, m.Short = "Coil leaving temperature reset", "Coil reset"
+			m.Action = "Raise the coil leaving temperature setpoint, hour by hour, toward the temperature the humidity target requires (for example a reset from the entering or space dew point)."
+			m.Basis = "Each hour's avoidable cooling input, plus the purchased input of its avoidable reheat for the share of the hour in which the humidity target needed dehumidification (1 − shc_unneeded_h / shc_h): the reheat that only made up for over-cooling."
+		case MeasureReheatEnable:
+			m.Title, m.Short = "Reheat enable logic and schedules", "Reheat lockout"
+			m.Action = "Lock reheat out, and let the coil leaving temperature rise to the supply temperature, whenever the entering air is already dry enough; review the unit's occupancy schedule for the hours listed."
+			m.Basis = fmt.Sprintf("Each hour's avoidable reheat input and avoidable cooling input, times the share of its simultaneous heating and cooling that the humidity target did not need (shc_unneeded_h / shc_h); %s h of such time in the period%s.", fmtQty(m.Hours), r.clockText())
+		case MeasureRecoveredHeat:
+			m.Title, m.Short = "Reheat from recovered heat", "Recovered heat"
+			m.Action = "Supply the reheat the humidity target does need from recovered heat (condenser or hot-gas heat, a heat pipe or run-around loop around the coil) instead of purchased electricity or boiler fuel."
+			m.Basis = "Each hour's purchased reheat input for the needed part of its reheat (reheat input × (1 − avoidable reheat / reheat)), at the reheat's energy price; units whose reheat is already recovered or absent are left out. The recovery equipment's own fan and pump energy is not deducted."
+		}
+		_ = cur
+	}
+}
+
+// clockText names the local hours of the day in which the humidity target
+// did not need the simultaneous heating and cooling, over all units.
+func (r *Report) clockText() string {
+	var clock [24]float64
+	days := map[string]bool{}
+	for _, ur := range r.Units {
+		for h, v := range ur.clock {
+			clock[h] += v
+		}
+		for d := range ur.days {
+			days[d] = true
+		}
+	}
+	s := hourRanges(clock)
+	if s == "" {
+		return ""
+	}
+	if !strings.HasPrefix(s, "at ") {
+		s = "in the site's hours " + s
+	}
+	return fmt.Sprintf(", on %d days, %s", len(days), s)
+}
+
+// hourRanges writes the hours of the day with a non-zero value as ranges
+// "20:00–08:00, 12:00–13:00" (a range may wrap past midnight).
+func hourRanges(v [24]float64) string {
+	on := func(h int) bool { return v[(h+24)%24] > 0 }
+	n := 0
+	for h := range 24 {
+		if on(h) {
+			n++
+		}
+	}
+	switch n {
+	case 0:
+		return ""
+	case 24:
+		return "at every hour of the day"
+	}
+	type run struct{ from, to int }
+	var runs []run
+	// Start from an hour that is off so that a range across midnight is one range.
+	start := 0
+	for on(start) {
+		start++
+	}
+	for k := 0; k < 24; {
+		h := (start + k) % 24
+		if !on(h) {
+			k++
+			continue
+		}
+		j := k
+		for j < 24 && on((start+j)%24) {
+			j++
+		}
+		runs = append(runs, run{h, (start + j) % 24})
+		k = j
+	}
+	slices.SortFunc(runs, func(a, b run) int { return a.from - b.from })
+	parts := make([]string, len(runs))
+	for i, r := range runs {
+		parts[i] = fmt.Sprintf("%02d:00–%02d:00", r.from, r.to)
+	}
+	return strings.Join(parts, ", ")
+}
+
+// finding is the plain-language sentence about one air handler.
+func (r *Report) finding(ur *UnitReport) string {
+	t := ur.Row.Totals
+	name := ur.Unit.Name
+	if name != ur.Unit.ID {
+		name += " (" + ur.Unit.ID + ")"
+	}
+	cur := r.Site.Currency
+	if t.Hours == 0 {
+		return name + " has no results in this period."
+	}
+	reheat, avoid := nz(float64(t.ReheatKWh)), nz(float64(t.ReheatAvoid))
+	cool, cost := nz(float64(t.CoolingAvoid)), nz(float64(t.CostAvoidable))
+	recovered := ur.Unit.Spec != nil && ur.Unit.Spec.Reheat == metrics.ReheatRecovered
+	var b strings.Builder
+	switch {
+	case reheat > 0 && avoid > 0:
+		fmt.Fprintf(&b, "%s reheated %s kWh, of which %s kWh (%s) the humidity target did not need", name, fmtQty(reheat), fmtQty(avoid), fmtPct(avoid/reheat))
+		if cool > 0 {
+			fmt.Fprintf(&b, ", and spent %s kWh of cooling input making the air colder than needed", fmtQty(cool))
+		}
+	case reheat > 0:
+		fmt.Fprintf(&b, "%s reheated %s kWh, all of it needed by the humidity target", name, fmtQty(reheat))
+		if cool > 0 {
+			fmt.Fprintf(&b, ", and spent %s kWh of cooling input making the air colder than needed", fmtQty(cool))
+		}
+	case cool > 0:
+		fmt.Fprintf(&b, "%s ran no reheat, but spent %s kWh of cooling input making the air colder than the humidity target needed", name, fmtQty(cool))
+	default:
+		return name + " shows no avoidable energy in this period."
+	}
+	fmt.Fprintf(&b, ": %s %s avoidable in the period", fmtMoney(cost), cur)
+	if recovered && avoid > 0 {
+		b.WriteString(" (its reheat is recovered heat, so only the avoidable cooling is priced)")
+	}
+	b.WriteString(".")
+	return b.String()
+}
+
+// --- the HTML ---
+
+// reportTemplate is parsed once; it uses no functions beyond the
+// template language's own, so every figure arrives formatted.
+var reportTemplate = template.Must(template.New("").ParseFS(reportAssets, "templates/report.html"))
+
+// WriteHTML writes the report as one self-contained HTML file.
+func (r *Report) WriteHTML(w io.Writer) error {
+	v, err := r.view()
+	if err != nil {
+		return err
+	}
+	bw := bufio.NewWriterSize(w, 1<<16)
+	if err := reportTemplate.ExecuteTemplate(bw, "report.html", v); err != nil {
+		return fmt.Errorf("report: render: %w", err)
+	}
+	return bw.Flush()
+}
+
+// Views: everything formatted for the template.
+
+type rvCard struct{ ID, Label, Value, Unit, Raw string }
+
+type rvRow struct { // a label and its value, with the raw value for readers
+	Label, Value, Note, Field, Raw string
+}
+
+type rvFinding struct {
+	Rank     int
+	ID, Name string
+	Sentence string
+	Cost     string
+}
+
+type rvRank struct {
+	Rank                                                  int
+	ID, Name, Reheat                                      string
+	Cost, CostRaw, ReheatAvoid, CoolAvoid, Reheat2, Share string
+	CO2Avoid, Annual, AnnualRaw                           string
+}
+
+type rvMeasure struct {
+	Key, Title, Short, Action, Basis       string
+	Elec, Fuel, Cost, CostRaw, Annual, CO2 string
+	AnnualRaw                              string
+	Units                                  []rvMeasureUnit
+}
+
+type rvMeasureUnit struct{ ID, Name, Cost, Raw string }
+
+type rvAlert struct {
+	Kind, Severity, State, Start, Duration, Energy, Money, Reason string
+}
+
+type rvAlertKind struct {
+	Kind          string
+	Count         int
+	Hours, Energy string
+	Money         string
+}
+
+type rvUnit struct {
+	Anchor, ID, Name, Rank  string
+	Kinds                   string // cooling, reheat, target in words
+	Finding                 string
+	Totals, TotalsR         []rvRow // two columns
+	Charts                  UnitCharts
+	Psy                     template.HTML
+	States                  int
+	PsyNote                 string
+	Alerts                  []rvAlert
+	AlertKinds              []rvAlertKind
+	AlertsMore, AlertsTotal int
+	NoHours                 bool
+}
+
+type rvCoverage struct {
+	ID, Name, Hours, Expected, Coverage, Flagged string
+	Flags                                        string
+}
+
+type rvUnc struct {
+	ID, Name                                 string
+	Water, Coil, Reheat, Avoid, AvoidRel, Cu string
+}
+
+type rvAssumUnit struct {
+	ID, Name                                       string
+	Cooling, Reheat, Airflow, Fan, Leaving, Target string
+}
+
+type reportView struct {
+	CSS                                      template.CSS
+	Title, Site, Period, From, To, Generated string
+	Zone, Units, UnitsLong, Source, Currency string
+	Paper                                    string
+	NUnits                                   int
+	Cards                                    []rvCard
+	Findings                                 []rvFinding
+	Ranked                                   []rvRank
+	Days, Factor                             string
+	Annual                                   []rvRow
+	Measures                                 []rvMeasure
+	Units2                                   []rvUnit
+	Prices                                   []rvRow
+	Sensors                                  []rvRow
+	General                                  []Assumption
+	AssumUnits                               []rvAssumUnit
+	Coverage                                 []rvCoverage
+	PeriodHours                              string
+	Unc                                      []rvUnc
+	TempUnit, WaterUnit, DeltaUnit           string
+	HasFuel                                  bool
+}
+
+func raw(v float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return ""
+	}
+	return strconv.FormatFloat(v, 'g', 10, 64)
+}
+
+func (r *Report) view() (*reportView, error) {
+	css, err := reportAssets.ReadFile("templates/report.css")
+	if err != nil {
+		return nil, err
+	}
+	d := r.Display
+	paper := strings.ToLower(r.opt.Paper)
+	if paper == "" {
+		paper = "a4"
+		if d.IP {
+			paper = "letter"
+		}
+	}
+	var size string
+	switch paper {
+	case "a4":
+		size, paper = "A4", "A4"
+	case "letter":
+		size, paper = "letter", "Letter"
+	default:
+		return nil, fmt.Errorf("report: paper %q: use a4 or letter", r.opt.Paper)
+	}
+	t := r.Overview.Total
+	cur := r.Site.Currency
+	v := &reportView{
+		CSS:       template.CSS(string(css) + "\n@page { size: " + size + "; }\n"),
+		Title:     "Dehumidification and reheat energy report",
+		Site:      r.Site.Name,
+		Period:    r.Period.Label,
+		From:      r.Period.DateFrom,
+		To:        r.Period.DateTo,
+		Generated: r.Generated.In(r.Site.Zone).Format("2 January 2006, 15:04 MST"),
+		Zone:      r.Site.Zone.String(),
+		Units:     strings.ToUpper(d.Name()),
+		UnitsLong: map[bool]string{false: "SI: °C, K, kg; energy in kWh", true: "IP: °F, lb; energy in kWh"}[d.IP],
+		Source:    r.opt.Source,
+		Currency:  cur,
+		Paper:     paper,
+		NUnits:    len(r.Units),
+		TempUnit:  d.TempUnit(), WaterUnit: d.WaterUnit(), DeltaUnit: d.DeltaUnit(),
+	}
+	money := func(x float64) string { return fmtMoney(x) + " " + cur }
+	v.Cards = []rvCard{
+		{"total-cost-avoidable", "Avoidable cost", money(float64(t.CostAvoidable)), "of " + money(float64(t.Cost)), raw(float64(t.CostAvoidable))},
+		{"total-reheat", "Reheat", fmtQty(float64(t.ReheatKWh)) + " kWh", "heat added by reheat coils", raw(float64(t.ReheatKWh))},
+		{"total-reheat-avoidable", "Avoidable reheat", fmtQty(float64(t.ReheatAvoid)) + " kWh", "± " + fmtQty(float64(t.ReheatAvoidU95)) + " (95 %), " + fmtPct(float64(t.AvoidableShare)) + " of reheat", raw(float64(t.ReheatAvoid))},
+		{"total-cooling-avoidable", "Avoidable cooling", fmtQty(float64(t.CoolingAvoid)) + " kWh", "cooling input beyond need", raw(float64(t.CoolingAvoid))},
+		{"total-co2-avoidable", "Avoidable CO2", co2Text(float64(t.CO2AvoidKg)), "of " + co2Text(float64(t.CO2Kg)), raw(float64(t.CO2AvoidKg))},
+	}
+	for i, ur := range r.Units {
+		row := ur.Row
+		if i < r.opt.TopFindings && nz(float64(row.Totals.CostAvoidable)) > 0 {
+			v.Findings = append(v.Findings, rvFinding{Rank: row.Rank, ID: row.ID, Name: row.Name, Sentence: ur.Finding, Cost: money(float64(row.Totals.CostAvoidable))})
+		}
+		rt := row.Totals
+		v.Ranked = append(v.Ranked, rvRank{Rank: row.Rank, ID: row.ID, Name: row.Name, Reheat: reheatWords(ur.Unit),
+			Cost: fmtMoney(float64(rt.CostAvoidable)), CostRaw: raw(float64(rt.CostAvoidable)),
+			ReheatAvoid: fmtQty(float64(rt.ReheatAvoid)), CoolAvoid: fmtQty(float64(rt.CoolingAvoid)),
+			Reheat2: fmtQty(float64(rt.ReheatKWh)), Share: fmtPct(float64(rt.AvoidableShare)),
+			CO2Avoid: co2Text(float64(rt.CO2AvoidKg)), Annual: fmtFixed(nz(float64(rt.CostAvoidable))*r.Annual.Factor, 0),
+			AnnualRaw: raw(nz(float64(rt.CostAvoidable)) * r.Annual.Factor)})
+		v.Units2 = append(v.Units2, r.unitView(ur))
+	}
+
+	a := r.Annual
+	v.Days = strconv.FormatFloat(math.Round(a.Days*100)/100, 'f', -1, 64)
+	v.Factor = fmtFixed(a.Factor, 2)
+	v.Annual = []rvRow{
+		{"Avoidable cost", fmtFixed(a.CostAvoidable, 0) + " " + cur, "± " + fmtFixed(a.CostAvoidableU95, 0) + " " + cur + " from the sensors' uncertainty of the avoidable reheat", "annual_cost_avoidable", raw(a.CostAvoidable)},
+		{"Avoidable reheat", fmtFixed(a.ReheatAvoidKWh, 0) + " kWh", "± " + fmtFixed(a.ReheatAvoidKWhU95, 0) + " kWh (95 %)", "annual_reheat_avoidable_kwh", raw(a.ReheatAvoidKWh)},
+		{"Avoidable cooling input", fmtFixed(a.CoolingAvoidKWh, 0) + " kWh", "electricity", "annual_cooling_avoidable_kwh", raw(a.CoolingAvoidKWh)},
+		{"Avoidable CO2", co2Text(a.CO2AvoidKg), "", "annual_co2_avoidable_kg", raw(a.CO2AvoidKg)},
+		{"Cost of cooling and reheat", fmtFixed(a.Cost, 0) + " " + cur, "all of it, needed and avoidable", "annual_cost", raw(a.Cost)},
+	}
+	for _, m := range r.Measures {
+		mv := rvMeasure{Key: m.Key, Title: m.Title, Short: m.Short, Action: m.Action, Basis: m.Basis,
+			Elec: fmtQty(m.ElectricityKWh), Fuel: fmtQty(m.FuelKWh), Cost: fmtMoney(m.Cost), CostRaw: raw(m.Cost),
+			Annual: fmtFixed(m.Annual, 0), AnnualRaw: raw(m.Annual), CO2: co2Text(m.CO2Kg)}
+		if m.FuelKWh > 0 {
+			v.HasFuel = true
+		}
+		for _, ur := range r.Units {
+			if e, ok := m.ByUnit[ur.Unit.ID]; ok {
+				mv.Units = append(mv.Units, rvMeasureUnit{ID: ur.Unit.ID, Name: ur.Unit.Name, Cost: fmtMoney(e.Cost), Raw: raw(e.Cost)})
+			} else {
+				mv.Units = append(mv.Units, rvMeasureUnit{ID: ur.Unit.ID, Name: ur.Unit.Name, Cost: "n/a"})
+			}
+		}
+		v.Measures = append(v.Measures, mv)
+	}
+	r.assumptionsView(v)
+	v.PeriodHours = fmtFixed(r.Period.Hours(), 0)
+	for _, ur := range r.Units {
+		rt := ur.Row.Totals
+		var flags []string
+		keys := make([]string, 0, len(ur.Flags))
+		for k := range ur.Flags {
+			keys = append(keys, k)
+		}
+		slices.SortFunc(keys, func(a, b string) int {
+			if c := cmp.Compare(ur.Flags[b], ur.Flags[a]); c != 0 {
+				return c
+			}
+			return strings.Compare(a, b)
+		})
+		for _, k := range keys {
+			flags = append(flags, fmt.Sprintf("%s %d h", k, ur.Flags[k]))
+		}
+		fl := strings.Join(flags, ", ")
+		if fl == "" {
+			fl = "none"
+		}
+		v.Coverage = append(v.Coverage, rvCoverage{ID: ur.Unit.ID, Name: ur.Unit.Name, Hours: strconv.Itoa(rt.Hours),
+			Expected: fmtPct(float64(rt.Hours) / r.Period.Hours()), Coverage: fmtPct(float64(rt.Coverage)),
+			Flagged: strconv.Itoa(rt.FlaggedHours), Flags: fl})
+		rel := "–"
+		if av := nz(float64(rt.ReheatAvoid)); av > 0 {
+			rel = fmtPct(nz(float64(rt.ReheatAvoidU95)) / av)
+		}
+		v.Unc = append(v.Unc, rvUnc{ID: ur.Unit.ID, Name: ur.Unit.Name,
+			Water: qtyPM(d.Water(float64(rt.WaterKg)), d.Water(float64(rt.WaterKgU95))),
+			Coil:  qtyPM(float64(rt.CoilKWh), float64(rt.CoilKWhU95)), Reheat: qtyPM(float64(rt.ReheatKWh), float64(rt.ReheatKWhU95)),
+			Avoid: qtyPM(float64(rt.ReheatAvoid), float64(rt.ReheatAvoidU95)), AvoidRel: rel, Cu: fmtMoney(ur.CostU95)})
+	}
+	return v, nil
+}
+
+func qtyPM(v, u float64) string { return fmtQty(v) + " ± " + fmtQty(u) }
+
+// co2Text formats a CO2 mass in kg or, from a tonne up, in t.
+func co2Text(kg float64) string {
+	if math.Abs(kg) >= 1000 {
+		return fmtFixed(kg/1000, 1) + " t"
+	}
+	return fmtQty(kg) + " kg"
+}
+
+func reheatWords(u Unit) string {
+	if u.Spec == nil {
+		return ""
+	}
+	switch u.Spec.Reheat {
+	case metrics.ReheatElectric:
+		return "electric reheat"
+	case metrics.ReheatHotWater:
+		return "hot-water reheat"
+	case metrics.ReheatRecovered:
+		return "recovered-heat reheat"
+	}
+	return "no reheat"
+}
+
+func (r *Report) unitView(ur UnitReport) rvUnit {
+	d := r.Display
+	t := ur.Row.Totals
+	cur := r.Site.Currency
+	uv := rvUnit{Anchor: "unit-" + strconv.Itoa(ur.Row.Rank), ID: ur.Unit.ID, Name: ur.Unit.Name, Rank: strconv.Itoa(ur.Row.Rank),
+		Finding: ur.Finding, Charts: ur.Charts, Psy: ur.Psy, States: ur.States, NoHours: t.Hours == 0}
+	if sp := ur.Unit.Spec; sp != nil {
+		uv.Kinds = coolingWords(sp) + "; " + reheatWords(ur.Unit) + "; " + r.targetWords(sp)
+	}
+	row := func(label, value, note, field string, x float64) rvRow {
+		return rvRow{Label: label, Value: value, Note: note, Field: field, Raw: raw(x)}
+	}
+	inputNote := "purchased"
+	if ur.Unit.Spec != nil {
+		switch ur.Unit.Spec.Reheat {
+		case metrics.ReheatHotWater:
+			inputNote = "boiler fuel"
+		case metrics.ReheatElectric:
+			inputNote = "electricity"
+		case metrics.ReheatRecovered:
+			inputNote = "recovered heat: nothing purchased"
+		}
+	}
+	uv.Totals = []rvRow{
+		row("Hours with results", strconv.Itoa(t.Hours), "mean coverage "+fmtPct(float64(t.Coverage))+", "+strconv.Itoa(t.FlaggedHours)+" flagged", "hours", float64(t.Hours)),
+		row("Water removed", fmtQty(d.Water(float64(t.WaterKg)))+" "+d.WaterUnit(), "± "+fmtQty(d.Water(float64(t.WaterKgU95)))+" "+d.WaterUnit()+" (95 %)", "water_removed", d.Water(float64(t.WaterKg))),
+		row("Coil total", fmtQty(float64(t.CoilKWh))+" kWh", "± "+fmtQty(float64(t.CoilKWhU95))+"; sensible "+fmtQty(float64(t.CoilSensibleKWh))+", latent "+fmtQty(float64(t.CoilLatentKWh)), "coil_total_kwh", float64(t.CoilKWh)),
+		row("Reheat", fmtQty(float64(t.ReheatKWh))+" kWh", "± "+fmtQty(float64(t.ReheatKWhU95))+"; needed "+fmtQty(float64(t.ReheatNeeded)), "reheat_kwh", float64(t.ReheatKWh)),
+		row("Avoidable reheat", fmtQty(float64(t.ReheatAvoid))+" kWh", "± "+fmtQty(float64(t.ReheatAvoidU95))+"; "+fmtPct(float64(t.AvoidableShare))+" of the reheat", "reheat_avoidable_kwh", float64(t.ReheatAvoid)),
+		row("Reheat input", fmtQty(float64(t.ReheatInput))+" kWh", inputNote, "reheat_input_kwh", float64(t.ReheatInput)),
+		row("Cooling input", fmtQty(float64(t.CoolingInput))+" kWh", "of which avoidable "+fmtQty(float64(t.CoolingAvoid))+" kWh", "cooling_input_kwh", float64(t.CoolingInput)),
+		row("Effective EER", fmtFixed(float64(t.EffectiveEER), 1)+" Btu/Wh", "coil alone "+fmtFixed(float64(t.CoilEER), 1)+" Btu/Wh", "effective_eer", float64(t.EffectiveEER)),
+		row("Cooling and reheat at once", fmtQty(float64(t.SHCHours))+" h", fmtQty(float64(t.SHCUnneededH))+" h of it without humidity need", "shc_h", float64(t.SHCHours)),
+		row("Cost", fmtMoney(float64(t.Cost))+" "+cur, "avoidable "+fmtMoney(float64(t.CostAvoidable))+" "+cur, "cost_avoidable", float64(t.CostAvoidable)),
+		row("CO2", co2Text(float64(t.CO2Kg)), "avoidable "+co2Text(float64(t.CO2AvoidKg)), "co2_avoidable_kg", float64(t.CO2AvoidKg)),
+	}
+	uv.Totals, uv.TotalsR = uv.Totals[:6], uv.Totals[6:]
+	uv.PsyNote = fmt.Sprintf("%d hours drawn, each from the air entering the coil to the coil leaving state to the supply, at %s kPa; the humidity target is marked. Hour means: the spread within an hour is not shown.", ur.States, fmtFixed(r.pressure(ur.Unit)/1000, 2))
+	kinds := map[string]*rvAlertKind{}
+	var order []string
+	hours := map[string]float64{}
+	energy, moneyK := map[string]float64{}, map[string]float64{}
+	for _, a := range ur.Alerts {
+		k, ok := kinds[a.Kind]
+		if !ok {
+			k = &rvAlertKind{Kind: strings.ReplaceAll(a.Kind, "_", " ")}
+			kinds[a.Kind] = k
+			order = append(order, a.Kind)
+		}
+		k.Count++
+		hours[a.Kind] += r.inPeriod(a).Hours()
+		energy[a.Kind] += nz(a.EnergyKWh)
+		moneyK[a.Kind] += nz(a.Money)
+	}
+	for _, name := range order {
+		k := kinds[name]
+		k.Hours, k.Energy, k.Money = fmtQty(hours[name]), fmtQty(energy[name]), fmtMoney(moneyK[name])
+		uv.AlertKinds = append(uv.AlertKinds, *k)
+	}
+	uv.AlertsTotal = len(ur.Alerts)
+	for i, a := range ur.Alerts {
+		if i >= r.opt.MaxAlerts {
+			uv.AlertsMore = len(ur.Alerts) - i
+			break
+		}
+		state := a.State
+		if a.End.IsZero() || a.End.After(r.Period.To) {
+			state += ", ongoing at the end"
+		}
+		uv.Alerts = append(uv.Alerts, rvAlert{Kind: strings.ReplaceAll(a.Kind, "_", " "), Severity: a.Severity, State: state,
+			Start: a.Start.In(r.Site.Zone).Format("2006-01-02 15:04"), Duration: fmtDuration(r.inPeriod(a)),
+			Energy: fmtQty(a.EnergyKWh), Money: fmtMoney(a.Money), Reason: a.Reason})
+	}
+	return uv
+}
+
+// inPeriod is how long alert a was active within the period.
+func (r *Report) inPeriod(a Alert) time.Duration {
+	start, end := a.Start, a.End
+	if end.IsZero() || end.After(r.Generated) {
+		end = r.Generated
+	}
+	if start.Before(r.Period.From) {
+		start = r.Period.From
+	}
+	if end.After(r.Period.To) {
+		end = r.Period.To
+	}
+	if !end.After(start) {
+		return 0
+	}
+	return end.Sub(start)
+}
+
+func coolingWords(sp *metrics.Unit) string {
+	switch sp.Cooling {
+	case metrics.CoolingDX:
+		return "direct-expansion cooling"
+	case metrics.CoolingChilledWater:
+		return "chilled-water cooling"
+	}
+	return "cooling"
+}
+
+func (r *Report) targetWords(sp *metrics.Unit) string {
+	d := r.Display
+	t := sp.Target
+	switch t.Kind {
+	case metrics.TargetSupplyDewPoint:
+		return "target: supply dew point at most " + fmtFixed(d.Temp(t.DewPointC), 1) + " " + d.TempUnit()
+	case metrics.TargetSpaceDewPoint:
+		return "target: space dew point at most " + fmtFixed(d.Temp(t.DewPointC), 1) + " " + d.TempUnit()
+	case metrics.TargetSpaceRH:
+		s := "target: space RH at most " + fmtFixed(t.RH*100, 0) + " %"
+		if t.SpaceTempC != 0 && !math.IsNaN(t.SpaceTempC) {
+			s += " at " + fmtFixed(d.Temp(t.SpaceTempC), 1) + " " + d.TempUnit()
+		} else {
+			s += " at the trended space temperature"
+		}
+		return s
+	}
+	return "no humidity target"
+}
+
+// assumptionsView fills the prices, sensor accuracies and per-unit bases.
+func (r *Report) assumptionsView(v *reportView) {
+	d := r.Display
+	cur := r.Site.Currency
+	var spec *metrics.Unit
+	for _, u := range r.Site.Units {
+		if u.Spec != nil {
+			spec = u.Spec
+			break
+		}
+	}
+	v.General = append(v.General, Assumption{"Pressure", fmt.Sprintf("Barometric pressure %s kPa in every moist-air property.", fmtFixed(r.pressure(Unit{})/1000, 2))})
+	v.General = append(v.General, Assumption{"Time", "Hours are stored in UTC and shown in the site's time zone, " + r.Site.Zone.String() + "; a day is a local day."})
+	v.General = append(v.General, r.Site.Basis...)
+	v.General = append(v.General, r.opt.Notes...)
+	if spec != nil {
+		pr := spec.Prices
+		v.Prices = []rvRow{
+			{Label: "Electricity", Value: fmtFixed(pr.ElectricityPerKWh, 4) + " " + cur + "/kWh", Note: fmtFixed(pr.ElectricityCO2KgPerKWh, 3) + " kg CO2/kWh"},
+			{Label: "Fuel (hot-water reheat)", Value: fmtFixed(pr.FuelPerKWh, 4) + " " + cur + "/kWh", Note: fmtFixed(pr.FuelCO2KgPerKWh, 3) + " kg CO2/kWh of fuel"},
+		}
+		ac := spec.Accuracy
+		v.Sensors = []rvRow{
+			{Label: "Dry bulb", Value: "± " + fmtFixed(d.Delta(ac.TempK), 2) + " " + d.DeltaUnit()},
+			{Label: "RH", Value: "± " + fmtFixed(ac.RH*100, 1) + " % RH"},
+			{Label: "Dew point", Value: "± " + fmtFixed(d.Delta(ac.DewPointK), 2) + " " + d.DeltaUnit()},
+			{Label: "Airflow", Value: "± " + fmtFixed(ac.FlowFrac*100, 1) + " % of reading"},
+			{Label: "Power meters", Value: "± " + fmtFixed(ac.PowerFrac*100, 1) + " % of reading", Note: "not in the half-widths"},
+		}
+	}
+	for _, ur := range r.Units {
+		sp := ur.Unit.Spec
+		if sp == nil {
+			continue
+		}
+		has := map[string]bool{}
+		known := r.opt.Trended != nil
+		for _, role := range r.opt.Trended[ur.Unit.ID] {
+			has[role] = true
+		}
+		au := rvAssumUnit{ID: ur.Unit.ID, Name: ur.Unit.Name}
+		switch {
+		case has[string(metrics.RoleCoolingPower)]:
+			au.Cooling = "Cooling input metered (cooling_kw)."
+		case sp.Cooling == metrics.CoolingDX:
+			au.Cooling = fmt.Sprintf("DX, modelled from a rated EER of %s Btu/Wh (COP %s) at %s %s outdoor, %s Btu/Wh per K above it.",
+				fmtFixed(psychro.COPToEER(sp.RatedCOP), 1), fmtFixed(sp.RatedCOP, 2), fmtFixed(d.Temp(sp.RatedOutdoorC), 0), d.TempUnit(), fmtFixed(psychro.COPToEER(sp.COPPerK), 2))
+		case sp.Cooling == metrics.CoolingChilledWater:
+			au.Cooling = fmt.Sprintf("Chilled water: plant %s kW per ton of coil load.", fmtFixed(sp.PlantKWPerKW*psychro.TonsToKW(1), 2))
+		}
+		switch sp.Reheat {
+		case metrics.ReheatElectric:
+			au.Reheat = "Electric, COP 1."
+			if has[string(metrics.RoleReheatPower)] {
+				au.Reheat += " Input metered (reheat_kw)."
+			}
+		case metrics.ReheatHotWater:
+			au.Reheat = fmt.Sprintf("Hot water, priced as fuel at a boiler efficiency of %s.", fmtPct(sp.BoilerEff))
+		case metrics.ReheatRecovered:
+			au.Reheat = "Recovered heat: no purchased energy."
+		default:
+			au.Reheat = "None."
+		}
+		switch sp.Basis {
+		case metrics.BasisActual:
+			au.Airflow = "Actual volume at the " + strings.TrimSuffix(string(sp.FlowAt), "_temp") + " sensor's state: m = Q / v."
+		default:
+			au.Airflow = "Standard air: m = 1.204 kg/m³ × Q."
+		}
+		switch sp.Fan {
+		case metrics.FanDrawThrough:
+			if has[string(metrics.RoleFanPower)] {
+				au.Fan = "Draw-through: heat from the trended fan power."
+			} else {
+				au.Fan = fmt.Sprintf("Draw-through: %s %s rise assumed.", fmtFixed(d.Delta(sp.FanRiseK), 1), d.DeltaUnit())
+			}
+		case metrics.FanBlowThrough:
+			au.Fan = "Blow-through: fan heat is part of the coil load."
+		default:
+			au.Fan = "No fan heat between coil and supply sensor."
+		}
+		switch {
+		case has[string(metrics.RoleLeavingRH)] || has[string(metrics.RoleLeavingDewPoint)]:
+			au.Leaving = "Measured."
+		case known || sp.LeavingRH > 0:
+			au.Leaving = fmt.Sprintf("%s RH assumed once the coil is below the entering dew point.", fmtPct(sp.LeavingRH))
+		}
+		au.Target = strings.TrimPrefix(r.targetWords(sp), "target: ")
+		v.AssumUnits = append(v.AssumUnits, au)
+	}
+}

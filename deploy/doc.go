@@ -1,0 +1,22 @@
+// Package deploy holds no code: it is the home of the files that install and
+// run dewline, and of the tests that keep them from going stale.
+//
+//	dev/         local InfluxDB build-and-start script, the test and benchmark scripts
+//	examples/    annotated configurations (IP, SI, InfluxDB)
+//	systemd/     a hardened service unit, its secrets file example, its user
+//	kubernetes/  a StatefulSet of sharded agents with its ConfigMap, Secret and Service
+//	docker/      a multi-stage image: static binary on a distroless base
+//
+// The tests parse every file here against the code it configures: each
+// example configuration and the one inside the ConfigMap load with
+// agent.LoadConfig or agent.ParseConfig, with their secrets' environment
+// variables set; each command line (the unit's ExecStart, the StatefulSet's
+// args) is checked against the flags a freshly built dewline binary lists;
+// probes, ports, shard arguments, secret references, hardening settings and
+// the image's user and entry point are checked against each other. They
+// need the Go toolchain only: no cluster, no systemd, no container engine.
+//
+// Nothing here is imported by the program, and the package must never
+// hold secrets: the Secret manifest and the systemd environment file carry
+// empty placeholders only.
+package deploy
