@@ -37,7 +37,9 @@ func valueScale(t *testing.T, root *node) func(float64) float64 {
 // plotRect returns the data clip rectangle.
 func plotRect(t *testing.T, root *node) (x0, y0, x1, y1 float64) {
 	t.Helper()
-	r := root.find(func(n *node) bool { return n.name == "rect" && len(n.kids) == 0 && n.attr["id"] == "" && hasParent(root, n, "clipPath") })
+	r := root.find(func(n *node) bool {
+		return n.name == "rect" && len(n.kids) == 0 && n.attr["id"] == "" && hasParent(root, n, "clipPath")
+	})
 	require.Len(t, r, 1)
 	x0, y0 = num(r[0].attr["x"]), num(r[0].attr["y"])
 	return x0, y0, x0 + num(r[0].attr["width"]), y0 + num(r[0].attr["height"])

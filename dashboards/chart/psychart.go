@@ -74,19 +74,18 @@ const (
 
 // psyGeom is a chart with defaults applied and its layout.
 type psyGeom struct {
-	c          PsyChart
-	p          float64
-	tLo, tHi   float64
-	wMax       float64
-	w, h       float64
-	box        plotBox
-	items      []legendItem
-	legX       []float64
-	legRow     []int
-	legY       float64
-	tSatTop    float64 // where saturation reaches wMax (tHi when it does not)
-	hasTarget  bool
-	targetText string
+	c         PsyChart
+	p         float64
+	tLo, tHi  float64
+	wMax      float64
+	w, h      float64
+	box       plotBox
+	items     []legendItem
+	legX      []float64
+	legRow    []int
+	legY      float64
+	tSatTop   float64 // where saturation reaches wMax (tHi when it does not)
+	hasTarget bool
 }
 
 // geom validates the chart and lays it out.

@@ -1,6 +1,7 @@
 package chart
 
 import (
+	"io"
 	"math"
 	"math/rand/v2"
 	"strconv"
@@ -468,4 +469,58 @@ func TestPsyChart_Target(t *testing.T) {
 	require.Len(t, space, 1)
 	assert.InDelta(t, x, num(space[0].attr["cx"]), 0.06)
 	assert.InDelta(t, y, num(space[0].attr["cy"]), w*t3.tol*1.02*pxPerW(c)+0.06)
+}
+
+// TestPsyChart_Grid: humidity-ratio grid lines start on the saturation
+// curve (at the dew point of their humidity ratio) and dry-bulb grid lines
+// end on it or at the top edge; both compared with the drawn curve.
+func TestPsyChart_Grid(t *testing.T) {
+	for _, c := range []PsyChart{{Title: "si"}, {Title: "ip", IP: true, PressurePa: 84556}} {
+		_, root := render(t, c.Render)
+		sat := curve(t, root, byClass("dlc-psy-sat"))
+		grids := root.find(byClass("dlc-grid"))
+		require.Len(t, grids, 1)
+		_, yTop := c.Pos(0, 0.03)
+		xLeft, _ := c.Pos(0, 0)
+		h, v := 0, 0
+		for _, line := range parsePath(t, grids[0].attr["d"]) {
+			require.Len(t, line, 2)
+			a, b := line[0], line[1]
+			switch {
+			case a.y == b.y: // humidity ratio: starts on the curve, or on the left edge below it
+				h++
+				if a.x > xLeft {
+					assert.InDelta(t, a.y, yAt(t, sat, a.x), 2*drawTolPx, "W grid line at y=%g starts on the curve", a.y)
+				} else {
+					assert.Greater(t, a.y, sat[0].y)
+				}
+			case a.x == b.x: // dry bulb: ends on the curve or at the top
+				v++
+				if b.y > yTop+0.05 {
+					assert.InDelta(t, b.y, yAt(t, sat, b.x), 2*drawTolPx, "dry-bulb grid line at x=%g ends on the curve", b.x)
+				}
+			default:
+				t.Fatalf("grid line %v is neither horizontal nor vertical", line)
+			}
+		}
+		assert.Greater(t, h, 5)
+		assert.Greater(t, v, 5)
+	}
+}
+
+// TestHBars_Lengths: bar lengths are proportional to the values on the
+// chart's own axis (read from its tick labels).
+func TestHBars_Lengths(t *testing.T) {
+	vals := []float64{312, 188.5, 95, -12}
+	_, root := render(t, func(w io.Writer) error {
+		return HBars(w, Frame{Title: "rank", YLabel: "kWh"}, []string{"a", "b", "c", "d"}, vals, "")
+	})
+	x := labelScale(t, root.labels("dlc-xaxis"), true)
+	bars := root.find(func(n *node) bool { return n.name == "rect" && n.attr["clip-path"] != "" })
+	require.Len(t, bars, len(vals))
+	for i, b := range bars {
+		x0, w := num(b.attr["x"]), num(b.attr["width"])
+		assert.InDelta(t, math.Abs(x(vals[i])-x(0)), w, 0.15, "bar %d", i)
+		assert.InDelta(t, math.Min(x(vals[i]), x(0)), x0, 0.15, "bar %d", i)
+	}
 }

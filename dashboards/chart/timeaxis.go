@@ -73,7 +73,7 @@ func timeTicks(t0, t1 time.Time, loc *time.Location, maxN int) []timeTick {
 			lt := t.In(loc)
 			ok := lt.Minute()%unit.n == 0 && lt.Second() == 0
 			if unit.kind == 'h' {
-				ok = lt.Hour()%unit.n == 0
+				ok = lt.Minute() == 0 && lt.Hour()%unit.n == 0
 			}
 			if ok && !add(t) {
 				break
