@@ -56,6 +56,9 @@ type Store struct {
 	Kind     string        `yaml:"kind"` // embedded or influxdb
 	Path     string        `yaml:"path"` // embedded: the SQLite file, relative to the config file
 	InfluxDB *InfluxConfig `yaml:"influxdb"`
+	// StatePath (influxdb only): the local file of the agent's webhook
+	// queue, relative to the config file; default dewline-state.db beside it.
+	StatePath string `yaml:"state_path"`
 }
 
 // InfluxConfig locates an InfluxDB 2.x/Cloud bucket or a 1.8 database/retention policy.
@@ -421,6 +424,24 @@ func (c *Config) StorePath() string {
 		return c.Store.Path
 	}
 	return filepath.Join(c.baseDir, c.Store.Path)
+}
+
+// DefaultStatePath is the agent's local state file (its webhook queue) when
+// the store is InfluxDB, beside the configuration unless store.state_path
+// says otherwise.
+const DefaultStatePath = "dewline-state.db"
+
+// StatePath returns the agent's local state file, resolved against the
+// configuration file's folder.
+func (c *Config) StatePath() string {
+	p := c.Store.StatePath
+	if p == "" {
+		p = DefaultStatePath
+	}
+	if filepath.IsAbs(p) || c.baseDir == "" {
+		return p
+	}
+	return filepath.Join(c.baseDir, p)
 }
 
 // StaleLimit returns how long a value of role may hold on this site's grid.

@@ -131,6 +131,9 @@ func (c *Config) validateStore(v *validator) {
 		if c.Store.InfluxDB != nil {
 			v.bad(at(p, "influxdb"), "influxdb settings given for the embedded store", "set store.kind: influxdb, or remove store.influxdb")
 		}
+		if c.Store.StatePath != "" {
+			v.bad(at(p, "state_path"), "state_path is for the InfluxDB store (the embedded store keeps the agent's state itself)", "remove store.state_path")
+		}
 	case "influxdb":
 		ic := c.Store.InfluxDB
 		if ic == nil {

@@ -701,10 +701,12 @@ func TestDeploy_KubernetesSecurity(t *testing.T) {
 	}
 	assert.Contains(t, names, c.Image, "kustomization.yaml images must retag the container's image")
 
-	// Writable places on a read-only root: the folder of --config (the
-	// webhook queue, dewline-state.db, is kept beside the configuration
-	// when the store is InfluxDB) and /tmp (SQLite's temporary files).
-	cfgDir := path.Dir(argValue(t, c.Args, "config"))
+	// Writable places on a read-only root: the folder of the agent's state
+	// file (store.state_path: with InfluxDB its webhook queue is local)
+	// and /tmp (SQLite's temporary files).
+	statePath := k.config(t).Store.StatePath
+	require.True(t, path.IsAbs(statePath), "store.state_path must be an absolute path on the replica's volume, not %q beside the read-only configuration", statePath)
+	stateDir := path.Dir(statePath)
 	writable := map[string]bool{}
 	for _, m := range c.VolumeMounts {
 		if m.ReadOnly || m.SubPath != "" {
@@ -715,7 +717,7 @@ func TestDeploy_KubernetesSecurity(t *testing.T) {
 			writable[path.Clean(m.MountPath)] = true
 		}
 	}
-	assert.True(t, writable[cfgDir], "the folder of --config (%s) must be a writable volume: the agent keeps dewline-state.db there", cfgDir)
+	assert.True(t, writable[stateDir], "the folder of store.state_path (%s) must be a writable volume", stateDir)
 	assert.True(t, writable["/tmp"], "/tmp must be a writable volume on a read-only root filesystem")
 	for _, m := range c.VolumeMounts {
 		if v := k.volume(m.Name); v != nil && v.ConfigMap != nil {

@@ -5,7 +5,6 @@ import (
 	"errors"
 	"flag"
 	"fmt"
-	"path/filepath"
 	"strconv"
 	"strings"
 	"time"
@@ -29,10 +28,6 @@ func storeDown(err error) bool {
 	}
 	return true
 }
-
-// stateFile is the local file that holds the webhook queue when the store
-// is InfluxDB (checkpoints and alert states live in InfluxDB).
-const stateFile = "dewline-state.db"
 
 func runRun(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("run", flag.ContinueOnError)
@@ -77,8 +72,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	defer st.Close()
 	rs := &resultStore{state: st.emb, flux: st.flux, site: cfg.Site.ID, currency: cfg.Prices.Currency}
 	if st.flux != nil {
-		path := filepath.Join(filepath.Dir(*cfgPath), stateFile)
-		if rs.state, err = embedded.Open(ctx, path, embedded.Options{}); err != nil {
+		if rs.state, err = embedded.Open(ctx, cfg.StatePath(), embedded.Options{}); err != nil {
 			return fmt.Errorf("open the agent's state file: %w", err)
 		}
 		defer rs.state.Close()

@@ -45,7 +45,33 @@ FUZZ_TARGETS=(
 # tests put their install here (Debian's chromium and chromium-driver through
 # apt-get, skipped when /usr/bin/chromium exists) and export where it is.
 setup_extras() {
-	:
+	# Chromium for the browser tests (cmd/dewline/browser_test.go): Debian's
+	# chromium package, driven over its DevTools pipe (no chromium-driver).
+	local chromium=/usr/bin/chromium
+	if [[ ! -x $chromium ]]; then
+		local -a as_root=()
+		if ((EUID != 0)) && command -v sudo >/dev/null && sudo -n true 2>/dev/null; then
+			as_root=(sudo -n)
+		fi
+		if ((EUID == 0 || ${#as_root[@]} > 0)); then
+			info "installing Debian's chromium with apt-get (log: $CACHE/apt-chromium.log)"
+			mkdir -p "$CACHE"
+			# Wait for another apt/dpkg to finish rather than fail on its lock.
+			local -a apt=("${as_root[@]}" env DEBIAN_FRONTEND=noninteractive apt-get -qq -o DPkg::Lock::Timeout=300)
+			if ! { "${apt[@]}" update && "${apt[@]}" install -y chromium; } >"$CACHE/apt-chromium.log" 2>&1; then
+				tail -n 20 "$CACHE/apt-chromium.log" | sed 's/^/    apt-get: /' >&2
+			fi
+		fi
+	fi
+	if [[ -x $chromium ]]; then
+		export DEWLINE_CHROMIUM=$chromium
+		info "DEWLINE_CHROMIUM=$DEWLINE_CHROMIUM ($("$chromium" --version 2>/dev/null || echo "version unknown"))"
+	elif [[ ${CI:-} == true ]]; then
+		fail "Chromium is missing at $chromium and could not be installed; the browser tests need it under CI. Run as root (or with passwordless sudo): apt-get update && apt-get install chromium"
+	else
+		info "note: no Chromium at $chromium (installing it needs root or passwordless sudo); the browser tests will skip."
+		info "      Install it with: sudo apt-get install chromium, or set DEWLINE_CHROMIUM to a Chromium binary."
+	fi
 }
 # ---------------------------------------------------------------------------
 
