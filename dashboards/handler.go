@@ -76,6 +76,11 @@ func New(opt Options) (*Handler, error) {
 	static, _ := fs.Sub(assets, "static")
 	mux := http.NewServeMux()
 	mux.Handle("GET /static/", cacheable(http.StripPrefix("/static/", http.FileServerFS(static))))
+	mux.Handle("GET /favicon.ico", cacheable(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		// Browsers ask for it whatever the page links: the same drop.
+		w.Header().Set("Content-Type", "image/svg+xml")
+		http.ServeFileFS(w, r, assets, "static/favicon.svg")
+	})))
 	mux.HandleFunc("GET /{$}", h.overviewPage)
 	mux.HandleFunc("GET /units/{id}", h.unitPage)
 	mux.HandleFunc("GET /units/{id}/chart", h.chartPage)

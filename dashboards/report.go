@@ -138,7 +138,12 @@ func BuildReport(ctx context.Context, site *Site, res Results, p Period, opt Rep
 		return nil, fmt.Errorf("report: a site and a results source are required")
 	}
 	if site.Zone == nil {
-		site.Zone = time.UTC
+		s := *site
+		s.Zone = time.UTC
+		site = &s
+	}
+	if _, _, err := paperSize(opt.Paper, opt.Display); err != nil {
+		return nil, err
 	}
 	if opt.Generated.IsZero() {
 		opt.Generated = time.Now()
@@ -297,7 +302,7 @@ func (r *Report) addHour(ur *UnitReport, rec *metrics.Record) {
 		ur.days[local.Format(dateLayout)] = true
 	}
 	// Recovered heat: the purchased input of the needed reheat.
-	if _, _, fuel := reheatPrice(u); u.Spec != nil && (u.Spec.Reheat == metrics.ReheatElectric || fuel) {
+	if u.Spec != nil && (u.Spec.Reheat == metrics.ReheatElectric || u.Spec.Reheat == metrics.ReheatHotWater) {
 		r.measureAdd(3, u.ID, priced(u, 0, neededIn))
 	}
 }
@@ -386,7 +391,6 @@ func (r *Report) annualise() {
 
 // describeMeasures words each measure and its basis.
 func (r *Report) describeMeasures() {
-	cur := r.Site.Currency
 	for i := range r.Measures {
 		m := &r.Measures[i]
 		switch m.Key {
@@ -407,7 +411,6 @@ func (r *Report) describeMeasures() {
 			m.Action = "Supply the reheat the humidity target does need from recovered heat (condenser or hot-gas heat, a heat pipe or run-around loop around the coil) instead of purchased electricity or boiler fuel."
 			m.Basis = "Each hour's purchased reheat input for the needed part of its reheat (reheat input × (1 − avoidable reheat / reheat)), at the reheat's energy price; units whose reheat is already recovered or absent are left out. The recovery equipment's own fan and pump energy is not deducted."
 		}
-		_ = cur
 	}
 }
 
@@ -617,7 +620,7 @@ type reportView struct {
 	Cards                                    []rvCard
 	Findings                                 []rvFinding
 	Ranked                                   []rvRank
-	Days, Factor                             string
+	Days, Factor, HoursShare                 string
 	Annual                                   []rvRow
 	Measures                                 []rvMeasure
 	Units2                                   []rvUnit
@@ -629,7 +632,26 @@ type reportView struct {
 	PeriodHours                              string
 	Unc                                      []rvUnc
 	TempUnit, WaterUnit, DeltaUnit           string
-	HasFuel                                  bool
+	HasFuel, WholeDays                       bool
+}
+
+// paperSize returns the CSS page size and the paper's name: paper as
+// given, or letter for IP display and A4 for SI.
+func paperSize(paper string, d Display) (css, name string, err error) {
+	p := strings.ToLower(paper)
+	if p == "" {
+		p = "a4"
+		if d.IP {
+			p = "letter"
+		}
+	}
+	switch p {
+	case "a4":
+		return "A4", "A4", nil
+	case "letter":
+		return "letter", "Letter", nil
+	}
+	return "", "", fmt.Errorf("report: paper %q: use a4 or letter", paper)
 }
 
 func raw(v float64) string {
@@ -645,21 +667,9 @@ func (r *Report) view() (*reportView, error) {
 		return nil, err
 	}
 	d := r.Display
-	paper := strings.ToLower(r.opt.Paper)
-	if paper == "" {
-		paper = "a4"
-		if d.IP {
-			paper = "letter"
-		}
-	}
-	var size string
-	switch paper {
-	case "a4":
-		size, paper = "A4", "A4"
-	case "letter":
-		size, paper = "letter", "Letter"
-	default:
-		return nil, fmt.Errorf("report: paper %q: use a4 or letter", r.opt.Paper)
+	size, paper, err := paperSize(r.opt.Paper, d)
+	if err != nil {
+		return nil, err
 	}
 	t := r.Overview.Total
 	cur := r.Site.Currency
@@ -688,6 +698,12 @@ func (r *Report) view() (*reportView, error) {
 		{"total-cooling-avoidable", "Avoidable cooling", fmtQty(float64(t.CoolingAvoid)) + " kWh", "cooling input beyond need", raw(float64(t.CoolingAvoid))},
 		{"total-co2-avoidable", "Avoidable CO2", co2Text(float64(t.CO2AvoidKg)), "of " + co2Text(float64(t.CO2Kg)), raw(float64(t.CO2AvoidKg))},
 	}
+	if nz(float64(t.CO2Kg)) == 0 {
+		v.Cards[4].Unit = "no emission factors configured"
+	}
+	if v.Site == "" {
+		v.Site = "(site name not configured)"
+	}
 	for i, ur := range r.Units {
 		row := ur.Row
 		if i < r.opt.TopFindings && nz(float64(row.Totals.CostAvoidable)) > 0 {
@@ -706,6 +722,10 @@ func (r *Report) view() (*reportView, error) {
 	a := r.Annual
 	v.Days = strconv.FormatFloat(math.Round(a.Days*100)/100, 'f', -1, 64)
 	v.Factor = fmtFixed(a.Factor, 2)
+	v.WholeDays = midnight(r.Period.From).Equal(r.Period.From) && midnight(r.Period.To).Equal(r.Period.To)
+	if n := float64(len(r.Units)) * r.Period.Hours(); n > 0 {
+		v.HoursShare = fmtPct(float64(t.Hours) / n)
+	}
 	v.Annual = []rvRow{
 		{"Avoidable cost", fmtFixed(a.CostAvoidable, 0) + " " + cur, "± " + fmtFixed(a.CostAvoidableU95, 0) + " " + cur + " from the sensors' uncertainty of the avoidable reheat", "annual_cost_avoidable", raw(a.CostAvoidable)},
 		{"Avoidable reheat", fmtFixed(a.ReheatAvoidKWh, 0) + " kWh", "± " + fmtFixed(a.ReheatAvoidKWhU95, 0) + " kWh (95 %)", "annual_reheat_avoidable_kwh", raw(a.ReheatAvoidKWh)},

@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"bytes"
 	"context"
+	"errors"
 	"fmt"
 	"html"
 	"net/url"
@@ -20,6 +21,9 @@ import (
 
 // envChromium names the browser to print with, overriding the search.
 const envChromium = "DEWLINE_CHROMIUM"
+
+// errNoChromium is the start of the error when no browser can be found.
+var errNoChromium = errors.New("--pdf needs Chromium: install the Debian package chromium (apt-get install chromium) or set " + envChromium)
 
 // pdfTimeout bounds one print: starting the browser, loading the file and
 // printing it.

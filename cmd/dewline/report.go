@@ -3,7 +3,6 @@ package main
 import (
 	"bufio"
 	"context"
-	"errors"
 	"flag"
 	"fmt"
 	"os"
@@ -103,6 +102,9 @@ func runReport(ctx context.Context, e *env, args []string) error {
 	period := dashboards.PeriodBetween(from, to, loc)
 
 	site := siteFor(cfg)
+	if site.Name == "" {
+		site.Name = cfg.Site.ID
+	}
 	display := dashboards.DisplayFor(*units, site.IP)
 	log := e.log.With().Str("from", from.UTC().Format(time.RFC3339)).Str("to", to.UTC().Format(time.RFC3339)).Logger()
 	log.Info().Int("ahus", len(site.Units)).Str("units", display.Name()).Msg("report: reading results")
@@ -135,7 +137,11 @@ func runReport(ctx context.Context, e *env, args []string) error {
 	if dst == "" {
 		dst = strings.TrimSuffix(out, filepath.Ext(out)) + ".pdf"
 	}
-	pages, err := printPDF(ctx, out, dst, site.Name+" · "+period.Label, log)
+	title := period.Label
+	if site.Name != "" {
+		title = site.Name + " · " + title
+	}
+	pages, err := printPDF(ctx, out, dst, title, log)
 	if err != nil {
 		return err
 	}
@@ -244,8 +250,6 @@ func writeFileAtomic(path string, fill func(*bufio.Writer) error) (int64, error)
 	done = true
 	return info.Size(), nil
 }
-
-var errNoChromium = errors.New("--pdf needs Chromium: install the Debian package chromium (apt-get install chromium) or set DEWLINE_CHROMIUM")
 
 // fmtStep writes a grid step as "1 min" or "30 s".
 func fmtStep(d time.Duration) string {

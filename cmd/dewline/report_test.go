@@ -25,7 +25,7 @@ func reportStore(t *testing.T) (dir, cfg, hourly string) {
 	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
 	require.Equal(t, 0, code, errOut)
 	hourly = filepath.Join(dir, "hourly.csv")
-	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-13", "--to", "2026-07-16", "--out", hourly)
+	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-16", "--out", hourly)
 	require.Equal(t, 0, code, errOut)
 	return dir, cfg, hourly
 }
@@ -80,19 +80,28 @@ func TestReport_EndToEnd(t *testing.T) {
 		sum += v
 		n++
 	}
-	require.Equal(t, 43, n, "the export's hours from 00:00 CDT on the 14th to its end at 19:00 CDT on the 15th")
+	require.Equal(t, 48, n, "the export's two local days (its times are wall times in Chicago)")
 	require.Greater(t, sum, 0.0, "the scenario's dry nights have avoidable reheat")
 	assert.InEpsilon(t, sum, dataValue(t, page, "total-cost-avoidable"), 1e-6, "the CSV keeps 6 significant digits or more")
 
 	// Without --from/--to: the last 30 days with results, which here
-	// begin with the first stored day (13 July in Chicago).
+	// begin with the first stored day.
 	code, _, errOut = runCLI(t, "--log-level", "warn", "report", "--config", cfg, "-o", out, "--units", "si")
 	require.Equal(t, 0, code, errOut)
 	body, err = os.ReadFile(out)
 	require.NoError(t, err)
-	assert.Contains(t, string(body), "13 Jul 2026 – 15 Jul 2026")
+	assert.Contains(t, string(body), "14 Jul 2026 – 15 Jul 2026 (2 days")
 	assert.Contains(t, string(body), "SI: °C, K, kg")
 	assert.Contains(t, string(body), "@page { size: A4; }")
+
+	// RFC 3339 bounds: a span of 24 hours, the end excluded, annualised × 365 / 1.
+	code, _, errOut = runCLI(t, "--log-level", "warn", "report", "--config", cfg, "-o", out,
+		"--from", "2026-07-14T12:00:00Z", "--to", "2026-07-15T12:00:00Z")
+	require.Equal(t, 0, code, errOut)
+	body, err = os.ReadFile(out)
+	require.NoError(t, err)
+	assert.Contains(t, string(body), "14 Jul 2026 07:00 – 15 Jul 2026 07:00 (America/Chicago, end excluded)")
+	assert.Contains(t, string(body), "× 365 / 1 days = × 365.00")
 }
 
 // reportPages is the number of pages the one-unit report prints on: each

@@ -1,0 +1,16 @@
+// Package dashboards shows what the engine computed: the web dashboard
+// (Handler: the overview ranked by avoidable cost, one air handler, its
+// psychrometric chart, the alerts, and the JSON API behind them), the
+// self-contained audit report (WriteReport, report.go) and the before/after
+// comparison normalised for the entering humidity (Compare, compare.go).
+//
+// It reads results through the Results interface it declares (site.go);
+// cmd/dewline adapts the embedded store and InfluxDB to it. Sums over hours
+// keep "unknown" apart from zero (Num encodes NaN as JSON null), ratios are
+// taken of the sums, and 95 % half-widths are summed linearly across hours
+// (sensor bias is the same from hour to hour: an upper bound).
+//
+// Charts are server-side SVG from the chart subpackage. The pages need no
+// script and no outside resource; every name from the configuration or the
+// data goes through html/template's escaping.
+package dashboards
