@@ -40,7 +40,8 @@ import (
 //   - markup in a unit's name or id shows as text and never runs;
 //   - security headers on every answer, and a 404 page that escapes the id.
 //
-// Screenshots of every page are kept in a folder named in the log.
+// Full-page screenshots (every page for the week in SI and IP and for the
+// month in SI, and the special cases) are kept in a folder named in the log.
 func TestBrowser_Dashboard(t *testing.T) {
 	start := time.Now()
 	b := startBrowser(t)

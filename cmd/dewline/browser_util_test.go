@@ -554,3 +554,42 @@ func sameShown(text string, want float64) error {
 	}
 	return nil
 }
+
+// TestBrowser_ParseShown: the reader of shown numbers follows the pages'
+// rules (dashboards/format.go) and rejects what they never print.
+func TestBrowser_ParseShown(t *testing.T) {
+	tests := []struct {
+		name, text string
+		v, half    float64
+		missing    bool
+		bad        bool
+	}{
+		{name: "grouped", text: "12,345", v: 12345, half: 0.5},
+		{name: "grouped with decimals", text: "1,234,567.89", v: 1234567.89, half: 0.005},
+		{name: "one decimal", text: "-3.4", v: -3.4, half: 0.05},
+		{name: "percentage", text: "84 %", v: 0.84, half: 0.005},
+		{name: "missing", text: "–", missing: true},
+		{name: "bad grouping", text: "1,23", bad: true},
+		{name: "not a number", text: "NaN", bad: true},
+		{name: "hyphen for missing", text: "-", bad: true},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			got, err := parseShown(tt.text)
+			if tt.bad {
+				require.Error(t, err)
+				return
+			}
+			require.NoError(t, err)
+			require.Equal(t, tt.missing, got.missing)
+			if !tt.missing {
+				require.InDelta(t, tt.v, got.v, 1e-9)
+				require.InDelta(t, tt.half, got.half, 1e-12)
+			}
+		})
+	}
+	require.NoError(t, sameShown("1,234.6", 1234.64))
+	require.Error(t, sameShown("1,234.6", 1234.66), "outside the rounding of one decimal")
+	require.Error(t, sameShown("0.0", math.NaN()), "a missing value must show as –")
+	require.Error(t, sameShown("–", 0), "a value must not show as –")
+}
