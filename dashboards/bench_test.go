@@ -38,6 +38,12 @@ func (s storeResults) Hours(ctx context.Context, ahu string, from, to time.Time,
 	return s.st.ReadRecords(ctx, ahu, from, to, fn)
 }
 
+func (s storeResults) Days(ctx context.Context, from, to time.Time, fn func(dashboards.DaySums) error) (bool, error) {
+	return s.st.ReadDays(ctx, from, to, func(d embedded.DayRow) error {
+		return fn(dashboards.DaySums{AHU: d.AHU, Day: d.Day, Hours: d.Hours, Flagged: d.Flagged, Sums: d.Sums})
+	})
+}
+
 func (s storeResults) Span(ctx context.Context) (time.Time, time.Time, bool, error) {
 	return s.st.HourSpan(ctx)
 }
@@ -116,7 +122,7 @@ func benchRecord(k int, hour time.Time) metrics.Record {
 func benchStore(b *testing.B) (*embedded.Store, *dashboards.Site) {
 	b.Helper()
 	ctx := context.Background()
-	st, err := embedded.Open(ctx, filepath.Join(b.TempDir(), "portfolio.db"), embedded.Options{})
+	st, err := embedded.Open(ctx, filepath.Join(b.TempDir(), "portfolio.db"), embedded.Options{DayZone: time.UTC})
 	require.NoError(b, err)
 	b.Cleanup(func() { st.Close() })
 	site := &dashboards.Site{Name: "Benchmark portfolio", Zone: time.UTC, Currency: "USD", PressurePa: 101325}

@@ -46,8 +46,9 @@ func (s *Site) Unit(id string) (Unit, bool) {
 // store and InfluxDB satisfy it through adapters in cmd/dewline.
 type Results interface {
 	// Hours calls fn with the records of ahu (every unit when ahu is "")
-	// whose hour starts in [from, to), in hour order for each unit. The
-	// record passed to fn may be reused after fn returns.
+	// whose hour starts in [from, to), in hour order for each unit (units
+	// may come one after the other or interleaved). The record passed to
+	// fn may be reused after fn returns.
 	Hours(ctx context.Context, ahu string, from, to time.Time, fn func(*metrics.Record) error) error
 	// Alerts returns the alerts that overlap [q.From, q.To) and match q's
 	// other fields, in start order.
@@ -55,6 +56,27 @@ type Results interface {
 	// Span returns the first and the last stored hour; ok is false when
 	// nothing is stored yet.
 	Span(ctx context.Context) (first, last time.Time, ok bool, err error)
+}
+
+// DayReader is what a Results may also offer: per unit and local day of
+// the site's zone, the sums of the additive hourly fields
+// (metrics.AdditiveFields), kept by the store. The overview then reads a
+// portfolio's month as thousands of days instead of a hundred thousand
+// hours. complete is false, with fn never called, when the store cannot
+// answer for exactly the hours it holds in [from, to); the caller then
+// reads the hours.
+type DayReader interface {
+	Days(ctx context.Context, from, to time.Time, fn func(d DaySums) error) (complete bool, err error)
+}
+
+// DaySums is one unit's local day: Sums holds the sums in the additive
+// fields of a record (NaN where no hour had a value), Hours the number of
+// stored hours and Flagged those with a data-quality flag.
+type DaySums struct {
+	AHU            string
+	Day            time.Time // local midnight
+	Hours, Flagged int
+	Sums           *metrics.Record
 }
 
 // AlertQuery selects alerts; empty fields match all.

@@ -72,6 +72,21 @@ func NewTotals() Totals {
 // errors are treated as fully correlated (an upper bound).
 func (t *Totals) Add(r *metrics.Record) {
 	t.Hours++
+	if len(r.Flags) > 0 {
+		t.FlaggedHours++
+	}
+	t.addSums(r)
+}
+
+// AddDay sums a day of sums (see DayReader).
+func (t *Totals) AddDay(d DaySums) {
+	t.Hours += d.Hours
+	t.FlaggedHours += d.Flagged
+	t.addSums(d.Sums)
+}
+
+// addSums adds r's additive fields.
+func (t *Totals) addSums(r *metrics.Record) {
 	if !math.IsNaN(r.Coverage) {
 		t.covSum += r.Coverage
 	}
@@ -98,9 +113,6 @@ func (t *Totals) Add(r *metrics.Record) {
 	add(&t.SHCHours, r.SHCHours)
 	add(&t.SHCUnneededH, r.SHCUnneededH)
 	add(&t.HumidityNeedH, r.HumidityNeedHours)
-	if len(r.Flags) > 0 {
-		t.FlaggedHours++
-	}
 }
 
 // finish computes the ratios of the sums.
@@ -171,22 +183,46 @@ func BuildOverview(ctx context.Context, site *Site, res Results, p Period) (*Ove
 		ov.Units = append(ov.Units, row)
 		index[u.ID] = i
 	}
-	err := res.Hours(ctx, "", p.From, p.To, func(r *metrics.Record) error {
-		i, ok := index[r.AHU]
-		if !ok {
-			return nil // results of a unit no longer configured
+	dayOf := func(t time.Time) int {
+		return sort.Search(len(dayStarts), func(k int) bool { return dayStarts[k].After(t) }) - 1
+	}
+	complete := false
+	if dr, ok := res.(DayReader); ok {
+		var err error
+		complete, err = dr.Days(ctx, p.From, p.To, func(d DaySums) error {
+			i, ok := index[d.AHU]
+			if !ok {
+				return nil // results of a unit no longer configured
+			}
+			row := &ov.Units[i]
+			row.Totals.AddDay(d)
+			ov.Total.AddDay(d)
+			if k := dayOf(d.Day); k >= 0 {
+				add(&row.Daily[k], d.Sums.CostAvoidable)
+			}
+			return nil
+		})
+		if err != nil {
+			return nil, err
 		}
-		row := &ov.Units[i]
-		row.Totals.Add(r)
-		ov.Total.Add(r)
-		d := sort.Search(len(dayStarts), func(k int) bool { return dayStarts[k].After(r.HourStart) }) - 1
-		if d >= 0 {
-			add(&row.Daily[d], r.CostAvoidable)
+	}
+	if !complete {
+		err := res.Hours(ctx, "", p.From, p.To, func(r *metrics.Record) error {
+			i, ok := index[r.AHU]
+			if !ok {
+				return nil
+			}
+			row := &ov.Units[i]
+			row.Totals.Add(r)
+			ov.Total.Add(r)
+			if k := dayOf(r.HourStart); k >= 0 {
+				add(&row.Daily[k], r.CostAvoidable)
+			}
+			return nil
+		})
+		if err != nil {
+			return nil, err
 		}
-		return nil
-	})
-	if err != nil {
-		return nil, err
 	}
 	alerts, err := res.Alerts(ctx, AlertQuery{State: "open"})
 	if err != nil {

@@ -115,6 +115,18 @@ func (r *Record) Fields() []Field {
 	}
 }
 
+// AdditiveFields names the fields that add up over hours: energies, water,
+// money, CO2, hours and their 95 % half-widths (summed linearly, as for a
+// bias that is the same from hour to hour), and coverage (whose sum over
+// the number of hours is the mean coverage). Stores keep daily sums of them.
+func AdditiveFields() []string {
+	return []string{"coverage", "dry_air_kg", "water_removed_kg", "coil_sensible_kwh", "coil_latent_kwh", "coil_total_kwh",
+		"coil_total_gross_kwh", "reheat_kwh", "reheat_needed_kwh", "reheat_avoidable_kwh", "reheat_input_kwh",
+		"cooling_input_kwh", "cooling_avoidable_input_kwh", "fan_heat_kwh", "electricity_kwh", "fuel_kwh", "shc_h",
+		"shc_unneeded_h", "humidity_need_h", "cost", "cost_avoidable", "co2_kg", "co2_avoidable_kg",
+		"water_removed_kg_u95", "coil_total_kwh_u95", "reheat_kwh_u95", "reheat_avoidable_kwh_u95"}
+}
+
 // FieldNames returns the names of Fields, in order.
 func FieldNames() []string {
 	var r Record

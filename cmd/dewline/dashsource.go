@@ -30,6 +30,12 @@ func (e embeddedResults) Hours(ctx context.Context, ahu string, from, to time.Ti
 	return e.st.ReadRecords(ctx, ahu, from, to, fn)
 }
 
+func (e embeddedResults) Days(ctx context.Context, from, to time.Time, fn func(dashboards.DaySums) error) (bool, error) {
+	return e.st.ReadDays(ctx, from, to, func(d embedded.DayRow) error {
+		return fn(dashboards.DaySums{AHU: d.AHU, Day: d.Day, Hours: d.Hours, Flagged: d.Flagged, Sums: d.Sums})
+	})
+}
+
 func (e embeddedResults) Span(ctx context.Context) (time.Time, time.Time, bool, error) {
 	return e.st.HourSpan(ctx)
 }

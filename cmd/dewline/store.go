@@ -46,7 +46,7 @@ func openStore(ctx context.Context, cfg *agent.Config, readOnly bool, log zerolo
 		log.Debug().Str("store", "influxdb").Str("url", c.Options().String()).Msg("store opened")
 		return &stores{kind: "influxdb", flux: c}, nil
 	default:
-		s, err := embedded.Open(ctx, cfg.StorePath(), embedded.Options{ReadOnly: readOnly})
+		s, err := embedded.Open(ctx, cfg.StorePath(), embedded.Options{ReadOnly: readOnly, DayZone: cfg.Location})
 		if err != nil {
 			return nil, fmt.Errorf("open the embedded store: %w", err)
 		}

@@ -51,7 +51,7 @@ func (s *Store) PutHourlyAndCheckpoint(ctx context.Context, rows []HourRow, ahu 
 	}
 	return s.write(ctx, what, func(tx *sql.Tx) error {
 		now := s.nowMs()
-		if err := putHourly(ctx, tx, rows, now); err != nil {
+		if err := s.putHourly(ctx, tx, rows, now); err != nil {
 			return err
 		}
 		var n int

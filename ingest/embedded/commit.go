@@ -47,7 +47,7 @@ func (s *Store) Commit(ctx context.Context, c Commit) error {
 	}
 	return s.write(ctx, what, func(tx *sql.Tx) error {
 		now := s.nowMs()
-		if err := putHourly(ctx, tx, c.Rows, now); err != nil {
+		if err := s.putHourly(ctx, tx, c.Rows, now); err != nil {
 			return err
 		}
 		for _, a := range c.Alerts {

@@ -74,6 +74,18 @@
 //	  state       TEXT                   JSON (status, hour counters, energy at stake)
 //	  updated_ms  INTEGER
 //
+//	daily         WITHOUT ROWID (schema v3): derived from hourly, per local day
+//	  zone, day_ms, ahu  PRIMARY KEY     IANA zone; the local day's start
+//	  end_ms      INTEGER                the next local midnight (23 to 25 h later)
+//	  hours       INTEGER                hourly rows in the day
+//	  flagged     INTEGER                of which with a data-quality flag
+//	  sums        TEXT                   JSON: sums of metrics.AdditiveFields
+//
+// With Options.DayZone, every write of hourly rows rebuilds the daily rows
+// of the days it touches in the same transaction, and a read-write Open
+// rebuilds days whose hour count disagrees with hourly; ReadDays answers
+// only when the days account for every stored hour of the period.
+//
 // Commit writes an air handler's hourly rows, alerts, events, rule states
 // and checkpoint in one transaction.
 //

@@ -44,7 +44,7 @@ func (s *Store) PutHourly(ctx context.Context, rows []HourRow) error {
 		return fmt.Errorf("put hourly rows: %w", err)
 	}
 	return s.write(ctx, "put hourly rows", func(tx *sql.Tx) error {
-		return putHourly(ctx, tx, rows, s.nowMs())
+		return s.putHourly(ctx, tx, rows, s.nowMs())
 	})
 }
 
@@ -93,7 +93,19 @@ func (r HourRow) problems() []string {
 func onHour(t time.Time) bool { return t.Equal(t.Truncate(time.Hour)) }
 
 // putHourly upserts rows with one prepared statement inside tx.
-func putHourly(ctx context.Context, tx *sql.Tx, rows []HourRow, nowMs int64) error {
+// putHourly writes rows and, when the store knows the site's zone, the
+// daily sums of the days they fall in.
+func (s *Store) putHourly(ctx context.Context, tx *sql.Tx, rows []HourRow, nowMs int64) error {
+	if err := putHourlyRows(ctx, tx, rows, nowMs); err != nil {
+		return err
+	}
+	if s.zone == nil {
+		return nil
+	}
+	return rollUpRows(ctx, tx, s.zone, rows)
+}
+
+func putHourlyRows(ctx context.Context, tx *sql.Tx, rows []HourRow, nowMs int64) error {
 	if len(rows) == 0 {
 		return nil
 	}

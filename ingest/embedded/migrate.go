@@ -8,7 +8,7 @@ import (
 
 // SchemaVersion is the schema this binary writes and reads: the number of
 // steps in migrations. A file's version is its PRAGMA user_version.
-const SchemaVersion = 2
+const SchemaVersion = 3
 
 // applicationID marks the file as a dewline store in the SQLite header
 // (PRAGMA application_id, bytes 68-71; "dewl" in ASCII), so Open can tell a
@@ -39,7 +39,26 @@ type migration struct {
 var migrations = []migration{
 	{name: "initial schema", sql: schemaV1},
 	{name: "alert rule states", sql: schemaV2},
+	{name: "daily sums", sql: schemaV3},
 }
+
+// schemaV3 keeps per air handler and local day the sums of the additive
+// hourly fields (metrics.AdditiveFields), so that a portfolio's month is
+// read as thousands of days rather than a hundred thousand hours. The
+// rows are derived from hourly and rebuilt from it (see daily.go); zone is
+// the IANA zone whose local days they are.
+const schemaV3 = `
+CREATE TABLE daily (
+	zone    TEXT    NOT NULL,
+	ahu     TEXT    NOT NULL,
+	day_ms  INTEGER NOT NULL,
+	end_ms  INTEGER NOT NULL CHECK (end_ms > day_ms),
+	hours   INTEGER NOT NULL,
+	flagged INTEGER NOT NULL,
+	sums    TEXT    NOT NULL CHECK (json_valid(sums)),
+	PRIMARY KEY (zone, day_ms, ahu)
+) WITHOUT ROWID;
+`
 
 // schemaV2 keeps the agent's alert rule states (pending and open alerts with
 // their hour counters) so evaluation continues across restarts.

@@ -14,27 +14,30 @@ import (
 
 // ReadRecords is ReadHourly for readers that want records: it decodes each
 // stored row straight into one metrics.Record, reused from row to row
-// (copy it to keep it). Fields the row does not have, and nulls, read as
+// (copy it to keep it). With ahu "" it reads every unit, one after the
+// other (in name order), each in hour order. Fields the row does not have, and nulls, read as
 // NaN; names the record does not know are ignored (a newer writer). It
 // decodes the store's own field encoding without encoding/json, which
 // makes reading a portfolio's month several times faster.
 func (s *Store) ReadRecords(ctx context.Context, ahu string, from, to time.Time, fn func(*metrics.Record) error) error {
-	const cols = "SELECT ahu, hour_ms, fields, flags FROM hourly"
-	var (
-		rows *sql.Rows
-		err  error
-	)
 	if ahu == "" {
-		rows, err = s.db.QueryContext(ctx, cols+" WHERE hour_ms >= ? AND hour_ms < ? ORDER BY hour_ms, ahu",
-			ceilMs(from), ceilMs(to))
-	} else {
-		rows, err = s.db.QueryContext(ctx, cols+" WHERE ahu = ? AND hour_ms >= ? AND hour_ms < ? ORDER BY hour_ms",
-			ahu, ceilMs(from), ceilMs(to))
+		// Unit by unit: each read follows the primary key (ahu, hour_ms),
+		// several times faster than the whole period in hour order, which
+		// reads the rows in index order, a page at a time at random.
+		units, err := s.unitsIn(ctx, from, to)
+		if err != nil {
+			return err
+		}
+		for _, u := range units {
+			if err := s.ReadRecords(ctx, u, from, to, fn); err != nil {
+				return err
+			}
+		}
+		return nil
 	}
-	what := "read hourly records"
-	if ahu != "" {
-		what += " for " + quote(ahu)
-	}
+	rows, err := s.db.QueryContext(ctx, "SELECT ahu, hour_ms, fields, flags FROM hourly WHERE ahu = ? AND hour_ms >= ? AND hour_ms < ? ORDER BY hour_ms",
+		ahu, ceilMs(from), ceilMs(to))
+	what := "read hourly records for " + quote(ahu)
 	if err != nil {
 		return fmt.Errorf("%s: %w", what, err)
 	}
@@ -156,6 +159,27 @@ func decodeInto(text []byte, ptrs map[string]*float64) error {
 		}
 	}
 	return nil
+}
+
+// unitsIn lists the air handlers with hours in [from, to), from the
+// (hour_ms, ahu) index alone.
+func (s *Store) unitsIn(ctx context.Context, from, to time.Time) ([]string, error) {
+	rows, err := s.db.QueryContext(ctx, "SELECT DISTINCT ahu FROM hourly WHERE hour_ms >= ? AND hour_ms < ? ORDER BY ahu", ceilMs(from), ceilMs(to))
+	if err != nil {
+		return nil, fmt.Errorf("list the air handlers with results: %w", err)
+	}
+	var out []string
+	for rows.Next() {
+		var a string
+		if err := rows.Scan(&a); err != nil {
+			return nil, rowsDone(rows, fmt.Errorf("list the air handlers with results: %w", err))
+		}
+		out = append(out, a)
+	}
+	if err := rowsDone(rows, nil); err != nil {
+		return nil, fmt.Errorf("list the air handlers with results: %w", err)
+	}
+	return out, nil
 }
 
 // HourSpan returns the first and the last stored hour (ok false when the

@@ -66,11 +66,13 @@ func TestReadRecords_MatchesReadHourly(t *testing.T) {
 		return nil
 	}))
 	require.Len(t, all, 3)
+	// Unit by unit, each in hour order.
 	assert.Equal(t, got{"AHU-1", h0, 10.25, 3, []string{"gap", "flat"}}, all[0])
-	assert.Equal(t, "AHU-2", all[1].ahu)
-	assert.True(t, math.IsNaN(all[1].reheat))
-	assert.True(t, math.IsNaN(all[2].reheat), "a field the row lacks reads as NaN, not the previous row's value")
-	assert.Empty(t, all[2].flags, "flags do not leak from the previous row")
+	assert.Equal(t, "AHU-1", all[1].ahu)
+	assert.True(t, math.IsNaN(all[1].reheat), "a field the row lacks reads as NaN, not the previous row's value")
+	assert.Empty(t, all[1].flags, "flags do not leak from the previous row")
+	assert.Equal(t, "AHU-2", all[2].ahu)
+	assert.True(t, math.IsNaN(all[2].reheat))
 	var one int
 	require.NoError(t, s.ReadRecords(testCtx(t), "AHU-2", h0, h0.Add(2*time.Hour), func(*metrics.Record) error { one++; return nil }))
 	assert.Equal(t, 1, one)

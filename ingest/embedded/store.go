@@ -32,6 +32,10 @@ type Options struct {
 	BusyTimeout time.Duration
 	// Now stamps created_ms, written_ms and updated_ms; time.Now when nil.
 	Now func() time.Time
+	// DayZone, when set, is the site's zone: every write of hourly rows
+	// keeps the daily sums of their local days up to date, and a
+	// read-write Open builds those missing for rows written without it.
+	DayZone *time.Location
 }
 
 // Store is one dewline store file. Its methods are safe for concurrent use:
@@ -42,6 +46,7 @@ type Store struct {
 	path     string
 	readOnly bool
 	now      func() time.Time
+	zone     *time.Location // DayZone
 
 	// writeMu serialises this process's write transactions, so they queue
 	// in Go instead of meeting SQLite's lock and busy_timeout.
@@ -87,7 +92,7 @@ func open(ctx context.Context, path string, opt Options, steps []migration) (*St
 	if err != nil {
 		return nil, fmt.Errorf("open store %s: %w", path, err)
 	}
-	s := &Store{db: db, path: path, readOnly: opt.ReadOnly, now: opt.Now}
+	s := &Store{db: db, path: path, readOnly: opt.ReadOnly, now: opt.Now, zone: opt.DayZone}
 	// A ping opens the first connection, which runs the DSN's PRAGMAs: a
 	// file that is not SQLite fails here.
 	if err := db.PingContext(ctx); err != nil {
@@ -102,6 +107,12 @@ func open(ctx context.Context, path string, opt Options, steps []migration) (*St
 	if err != nil {
 		db.Close()
 		return nil, fmt.Errorf("open store %s: %w", path, err)
+	}
+	if s.zone != nil && !opt.ReadOnly && len(steps) >= 3 {
+		if err := s.rollUpMissing(ctx); err != nil {
+			db.Close()
+			return nil, fmt.Errorf("open store %s: %w", path, err)
+		}
 	}
 	return s, nil
 }
