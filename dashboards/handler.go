@@ -16,6 +16,8 @@ import (
 	"time"
 
 	"github.com/rs/zerolog"
+
+	"github.com/dewline/dewline/psychro"
 )
 
 //go:embed templates/*.html static/*
@@ -486,7 +488,7 @@ func (h *Handler) chartPage(w http.ResponseWriter, r *http.Request) {
 		return
 	}
 	h.render(w, "chart.html", map[string]any{"P": h.newPage(r, req, u.Name+" — psychrometric chart", "unit"), "U": u,
-		"Chart": svg, "States": len(st), "Lines": lines, "PressureKPa": h.pressure(u) / 1000})
+		"Chart": svg, "States": len(st), "Lines": lines, "Pressure": pressureText(h.pressure(u), req.display)})
 }
 
 func (h *Handler) alertsPage(w http.ResponseWriter, r *http.Request) {
@@ -524,6 +526,14 @@ func (h *Handler) alertsPage(w http.ResponseWriter, r *http.Request) {
 	}
 	h.render(w, "alerts.html", map[string]any{"P": h.newPage(r, req, "Alerts", "alerts"), "Q": q, "Kinds": kinds,
 		"Alerts": alertRows(alerts, h.opt.Site, h.opt.Now())})
+}
+
+// pressureText is a barometric pressure in the display's unit.
+func pressureText(pa float64, d Display) string {
+	if d.IP {
+		return fmtFixed(psychro.PaToPsi(pa), 3) + " psia"
+	}
+	return fmtFixed(pa/1000, 3) + " kPa"
 }
 
 // AlertRow is an alert as a table shows it.

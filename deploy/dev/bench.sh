@@ -1,7 +1,10 @@
 #!/usr/bin/env bash
 # Runs dewline's benchmarks. The psychro benchmarks named ...VsPsychrolib also
 # time npm psychrolib on the same state grid in the same run and report the
-# ratio (x_psychrolib). Extra arguments go to `go test` (e.g. -benchtime=3s).
+# ratio (x_psychrolib). Then the dashboard's overview of 200 air handlers x
+# 30 days on the embedded store (filling the store takes about a minute) and
+# the demo's import and analysis, each beside its reference. Extra arguments
+# go to `go test` (e.g. -benchtime=3s).
 set -euo pipefail
 ROOT=$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd -P)
 cd "$ROOT"
@@ -13,3 +16,4 @@ if [[ ! -f $CACHE/npm/node_modules/psychrolib/psychrolib.js ]]; then
 fi
 export DEWLINE_PSYCHROLIB=$CACHE/npm/node_modules/psychrolib
 go test -run '^$' -bench . -benchmem "$@" ./psychro/...
+go test -run '^$' -bench 'Overview_Month|BenchmarkDemo' -benchtime 3x "$@" ./dashboards/ ./cmd/dewline/

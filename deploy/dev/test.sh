@@ -41,25 +41,27 @@ FUZZ_TARGETS=(
 	"./ingest/influx FuzzFluxString"
 )
 
-# setup_extras: set-up that runs just before `go test`; empty for now. Browser
-# tests put their install here (Debian's chromium and chromium-driver through
-# apt-get, skipped when /usr/bin/chromium exists) and export where it is.
+# setup_extras: set-up that runs just before `go test`: Debian's chromium for
+# the browser tests and `report --pdf` (driven over its DevTools pipe, no
+# chromium-driver), and poppler-utils, whose pdfinfo the PDF test uses when
+# present; installed with apt-get when missing and root or sudo is at hand.
 setup_extras() {
-	# Chromium for the browser tests (cmd/dewline/browser_test.go): Debian's
-	# chromium package, driven over its DevTools pipe (no chromium-driver).
 	local chromium=/usr/bin/chromium
-	if [[ ! -x $chromium ]]; then
+	local -a need=()
+	[[ -x $chromium ]] || need+=(chromium)
+	command -v pdfinfo >/dev/null || need+=(poppler-utils)
+	if ((${#need[@]} > 0)); then
 		local -a as_root=()
 		if ((EUID != 0)) && command -v sudo >/dev/null && sudo -n true 2>/dev/null; then
 			as_root=(sudo -n)
 		fi
 		if ((EUID == 0 || ${#as_root[@]} > 0)); then
-			info "installing Debian's chromium with apt-get (log: $CACHE/apt-chromium.log)"
+			info "installing Debian's ${need[*]} with apt-get (log: $CACHE/apt-extras.log)"
 			mkdir -p "$CACHE"
 			# Wait for another apt/dpkg to finish rather than fail on its lock.
 			local -a apt=("${as_root[@]}" env DEBIAN_FRONTEND=noninteractive apt-get -qq -o DPkg::Lock::Timeout=300)
-			if ! { "${apt[@]}" update && "${apt[@]}" install -y chromium; } >"$CACHE/apt-chromium.log" 2>&1; then
-				tail -n 20 "$CACHE/apt-chromium.log" | sed 's/^/    apt-get: /' >&2
+			if ! { "${apt[@]}" update && "${apt[@]}" install -y "${need[@]}"; } >"$CACHE/apt-extras.log" 2>&1; then
+				tail -n 20 "$CACHE/apt-extras.log" | sed 's/^/    apt-get: /' >&2
 			fi
 		fi
 	fi
