@@ -75,7 +75,11 @@ func Compute(u *Unit, hr *Hour) Record {
 		if u.Reheat == ReheatElectric {
 			reheatElecIn += o.reheatIn * dtH
 		}
-		if o.meteredHeat {
+		// A meter reading no more heat than the air side's deadband can
+		// hide (twice the deadband's rise) agrees with an air side that
+		// sees no reheat: such steps are no evidence either way.
+		if o.meteredHeat && (o.reheatOn || o.mDa <= 0 ||
+			o.reheatIn > 2*u.Thresholds.ReheatDeadbandK*o.mDa*cp(o.wOut)) {
 			meterSteps++
 			meterHeat += o.reheatIn * dtH
 			computedHeat += o.reheat.v * dtH

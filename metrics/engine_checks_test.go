@@ -200,6 +200,22 @@ func TestCompute_Flags(t *testing.T) {
 		assert.Contains(t, r.Flags, metrics.FlagReheatMeter)
 		assert.InDelta(t, 80, r.ReheatInputKWh, 1e-9, "the meter is what was bought")
 	})
+	t.Run("reheat meter trimming within the air side's deadband", func(t *testing.T) {
+		// Supply 0.8 K above the coil with the fan's 0.5 K: the air side
+		// sees 0.3 K, inside its 0.5 K deadband, so it counts no reheat.
+		// A meter reading the heat of that 0.3 K (3 m³/s × 1.204 kg/m³ ×
+		// 1.02 kJ/kg·K × 0.3 K ≈ 1.1 kW, standard-air rule of thumb, common
+		// practice) agrees with the air as well as the sensors can tell.
+		r := metrics.Compute(u, with(map[metrics.Role]func(int) float64{
+			metrics.RoleLeavingTemp: constant(11), metrics.RoleSupplyTemp: constant(11.8),
+			metrics.RoleReheatPower: constant(1.1)}))
+		assert.NotContains(t, r.Flags, metrics.FlagReheatMeter)
+		// Ten times that power cannot hide in the deadband.
+		r = metrics.Compute(u, with(map[metrics.Role]func(int) float64{
+			metrics.RoleLeavingTemp: constant(11), metrics.RoleSupplyTemp: constant(11.8),
+			metrics.RoleReheatPower: constant(11)}))
+		assert.Contains(t, r.Flags, metrics.FlagReheatMeter)
+	})
 	t.Run("supply warmer with no reheat coil", func(t *testing.T) {
 		v := *u
 		v.Reheat = metrics.ReheatNone
