@@ -174,6 +174,19 @@ if $full_run && ((${#FUZZ_TARGETS[@]} > 0)); then
 	for target in "${FUZZ_TARGETS[@]}"; do
 		read -r pkg name <<<"$target"
 		step "fuzz $name in $pkg for $FUZZ_TIME"
-		go test -run='^$' -fuzz="^${name}\$" -fuzztime="$FUZZ_TIME" "$pkg" || fail "fuzz $name"
+		# Go's fuzzing coordinator can give up on a worker starved by a
+		# loaded machine ("context deadline exceeded") without any failing
+		# input; that, and only that, is retried once.
+		log=$(mktemp)
+		if ! go test -run='^$' -fuzz="^${name}\$" -fuzztime="$FUZZ_TIME" "$pkg" 2>&1 | tee "$log"; then
+			if grep -q 'context deadline exceeded' "$log" && ! grep -q 'Failing input written' "$log"; then
+				info "fuzz $name: the fuzzing engine timed out a worker without a failing input; running it again"
+				go test -run='^$' -fuzz="^${name}\$" -fuzztime="$FUZZ_TIME" "$pkg" || { rm -f "$log"; fail "fuzz $name"; }
+			else
+				rm -f "$log"
+				fail "fuzz $name"
+			fi
+		fi
+		rm -f "$log"
 	done
 fi
