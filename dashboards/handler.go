@@ -83,20 +83,38 @@ func New(opt Options) (*Handler, error) {
 		w.Header().Set("Content-Type", "image/svg+xml")
 		http.ServeFileFS(w, r, assets, "static/favicon.svg")
 	})))
-	mux.HandleFunc("GET /{$}", h.overviewPage)
-	mux.HandleFunc("GET /units/{id}", h.unitPage)
-	mux.HandleFunc("GET /units/{id}/chart", h.chartPage)
-	mux.HandleFunc("GET /alerts", h.alertsPage)
-	mux.HandleFunc("GET /api/v1/site", h.apiSite)
-	mux.HandleFunc("GET /api/v1/overview", h.apiOverview)
-	mux.HandleFunc("GET /api/v1/units/{id}/hours", h.apiHours)
-	mux.HandleFunc("GET /api/v1/units/{id}/states", h.apiStates)
-	mux.HandleFunc("GET /api/v1/alerts", h.apiAlerts)
+	mux.HandleFunc("GET /{$}", h.page(h.overviewPage))
+	mux.HandleFunc("GET /units/{id}", h.page(h.unitPage))
+	mux.HandleFunc("GET /units/{id}/chart", h.page(h.chartPage))
+	mux.HandleFunc("GET /alerts", h.page(h.alertsPage))
+	mux.HandleFunc("GET /api/v1/site", h.api(h.apiSite))
+	mux.HandleFunc("GET /api/v1/overview", h.api(h.apiOverview))
+	mux.HandleFunc("GET /api/v1/units/{id}/hours", h.api(h.apiHours))
+	mux.HandleFunc("GET /api/v1/units/{id}/states", h.api(h.apiStates))
+	mux.HandleFunc("GET /api/v1/alerts", h.api(h.apiAlerts))
 	h.mux = mux
 	return h, nil
 }
 
 func (h *Handler) ServeHTTP(w http.ResponseWriter, r *http.Request) { h.mux.ServeHTTP(w, r) }
+
+// page and api turn a handler's error into the answer fail gives: an error
+// page, or a JSON error.
+func (h *Handler) page(fn func(http.ResponseWriter, *http.Request) error) http.HandlerFunc {
+	return func(w http.ResponseWriter, r *http.Request) {
+		if err := fn(w, r); err != nil {
+			h.fail(w, r, err, false)
+		}
+	}
+}
+
+func (h *Handler) api(fn func(http.ResponseWriter, *http.Request) error) http.HandlerFunc {
+	return func(w http.ResponseWriter, r *http.Request) {
+		if err := fn(w, r); err != nil {
+			h.fail(w, r, err, true)
+		}
+	}
+}
 
 // cacheable lets the browser keep static assets for a day.
 func cacheable(next http.Handler) http.Handler {
@@ -181,6 +199,16 @@ func (h *Handler) unit(r *http.Request) (Unit, error) {
 	return u, nil
 }
 
+// unitRequest is the unit named in the path and the query's period and units.
+func (h *Handler) unitRequest(r *http.Request) (Unit, request, error) {
+	u, err := h.unit(r)
+	if err != nil {
+		return u, request{}, err
+	}
+	req, err := h.parse(r)
+	return u, req, err
+}
+
 func writeJSON(w http.ResponseWriter, status int, v any) {
 	var buf bytes.Buffer
 	enc := json.NewEncoder(&buf)
@@ -228,7 +256,7 @@ type UnitInfo struct {
 	Reheat string `json:"reheat"`
 }
 
-func (h *Handler) apiSite(w http.ResponseWriter, r *http.Request) {
+func (h *Handler) apiSite(w http.ResponseWriter, r *http.Request) error {
 	s := h.opt.Site
 	info := SiteInfo{Name: s.Name, Zone: s.Zone.String(), Units: Display{IP: s.IP}.Name(), Currency: s.Currency, PressurePa: Num(s.PressurePa)}
 	for _, u := range s.Units {
@@ -240,65 +268,52 @@ func (h *Handler) apiSite(w http.ResponseWriter, r *http.Request) {
 	}
 	first, last, ok, err := h.opt.Results.Span(r.Context())
 	if err != nil {
-		h.fail(w, r, err, true)
-		return
+		return err
 	}
 	if ok {
 		info.First, info.Last = &first, &last
 	}
 	writeJSON(w, http.StatusOK, info)
+	return nil
 }
 
-func (h *Handler) apiOverview(w http.ResponseWriter, r *http.Request) {
+func (h *Handler) apiOverview(w http.ResponseWriter, r *http.Request) error {
 	req, err := h.parse(r)
 	if err != nil {
-		h.fail(w, r, err, true)
-		return
+		return err
 	}
 	ov, err := BuildOverview(r.Context(), h.opt.Site, h.opt.Results, req.Period)
 	if err != nil {
-		h.fail(w, r, err, true)
-		return
+		return err
 	}
 	writeJSON(w, http.StatusOK, ov)
+	return nil
 }
 
-func (h *Handler) apiHours(w http.ResponseWriter, r *http.Request) {
-	u, err := h.unit(r)
+func (h *Handler) apiHours(w http.ResponseWriter, r *http.Request) error {
+	u, req, err := h.unitRequest(r)
 	if err != nil {
-		h.fail(w, r, err, true)
-		return
-	}
-	req, err := h.parse(r)
-	if err != nil {
-		h.fail(w, r, err, true)
-		return
+		return err
 	}
 	uh, err := BuildUnitHours(r.Context(), u, h.opt.Results, req.Period, req.display)
 	if err != nil {
-		h.fail(w, r, err, true)
-		return
+		return err
 	}
 	writeJSON(w, http.StatusOK, uh)
+	return nil
 }
 
-func (h *Handler) apiStates(w http.ResponseWriter, r *http.Request) {
-	u, err := h.unit(r)
+func (h *Handler) apiStates(w http.ResponseWriter, r *http.Request) error {
+	u, req, err := h.unitRequest(r)
 	if err != nil {
-		h.fail(w, r, err, true)
-		return
-	}
-	req, err := h.parse(r)
-	if err != nil {
-		h.fail(w, r, err, true)
-		return
+		return err
 	}
 	st, err := UnitStates(r.Context(), u, h.opt.Results, req.Period, h.pressure(u))
 	if err != nil {
-		h.fail(w, r, err, true)
-		return
+		return err
 	}
 	writeJSON(w, http.StatusOK, map[string]any{"id": u.ID, "period": req.Period, "pressure_pa": Num(h.pressure(u)), "hours": st})
+	return nil
 }
 
 func (h *Handler) pressure(u Unit) float64 {
@@ -327,21 +342,18 @@ func (h *Handler) alertQuery(req request) (AlertQuery, error) {
 	return q, nil
 }
 
-func (h *Handler) apiAlerts(w http.ResponseWriter, r *http.Request) {
+func (h *Handler) apiAlerts(w http.ResponseWriter, r *http.Request) error {
 	req, err := h.parse(r)
 	if err != nil {
-		h.fail(w, r, err, true)
-		return
+		return err
 	}
 	q, err := h.alertQuery(req)
 	if err != nil {
-		h.fail(w, r, err, true)
-		return
+		return err
 	}
 	alerts, err := h.opt.Results.Alerts(r.Context(), q)
 	if err != nil {
-		h.fail(w, r, err, true)
-		return
+		return err
 	}
 	type out struct {
 		Alert
@@ -357,6 +369,7 @@ func (h *Handler) apiAlerts(w http.ResponseWriter, r *http.Request) {
 		list = append(list, out{Alert: a, EnergyKWh: Num(a.EnergyKWh), Money: Num(a.Money), Hours: Num(a.Duration(now).Hours()), Unit: u.Name})
 	}
 	writeJSON(w, http.StatusOK, map[string]any{"period": req.Period, "currency": h.opt.Site.Currency, "alerts": list})
+	return nil
 }
 
 // --- pages ---
@@ -407,16 +420,14 @@ func (h *Handler) newPage(r *http.Request, req request, title, nav string) page 
 	return page{Site: h.opt.Site, Req: req, Title: title, Nav: nav, Path: r.URL.Path, Display: req.display, Empty: req.empty}
 }
 
-func (h *Handler) overviewPage(w http.ResponseWriter, r *http.Request) {
+func (h *Handler) overviewPage(w http.ResponseWriter, r *http.Request) error {
 	req, err := h.parse(r)
 	if err != nil {
-		h.fail(w, r, err, false)
-		return
+		return err
 	}
 	ov, err := BuildOverview(r.Context(), h.opt.Site, h.opt.Results, req.Period)
 	if err != nil {
-		h.fail(w, r, err, false)
-		return
+		return err
 	}
 	sparks := make(map[string]template.HTML, len(ov.Units))
 	bars := make(map[string]template.HTML, len(ov.Units))
@@ -425,94 +436,75 @@ func (h *Handler) overviewPage(w http.ResponseWriter, r *http.Request) {
 		bars[u.ID] = shareBar(u.Share)
 	}
 	h.render(w, "overview.html", map[string]any{"P": h.newPage(r, req, "Overview", "overview"), "O": ov, "Sparks": sparks, "Bars": bars})
+	return nil
 }
 
-func (h *Handler) unitPage(w http.ResponseWriter, r *http.Request) {
-	u, err := h.unit(r)
+func (h *Handler) unitPage(w http.ResponseWriter, r *http.Request) error {
+	u, req, err := h.unitRequest(r)
 	if err != nil {
-		h.fail(w, r, err, false)
-		return
-	}
-	req, err := h.parse(r)
-	if err != nil {
-		h.fail(w, r, err, false)
-		return
+		return err
 	}
 	uh, err := BuildUnitHours(r.Context(), u, h.opt.Results, req.Period, req.display)
 	if err != nil {
-		h.fail(w, r, err, false)
-		return
+		return err
 	}
 	alerts, err := h.opt.Results.Alerts(r.Context(), AlertQuery{AHU: u.ID, From: req.Period.From, To: req.Period.To})
 	if err != nil {
-		h.fail(w, r, err, false)
-		return
+		return err
 	}
 	slices.Reverse(alerts) // newest first
 	charts, err := unitCharts(uh, req.display, h.opt.Site.Zone)
 	if err != nil {
-		h.fail(w, r, err, false)
-		return
+		return err
 	}
 	h.render(w, "unit.html", map[string]any{"P": h.newPage(r, req, u.Name, "unit"), "U": u, "H": uh, "Charts": charts,
 		"Alerts": alertRows(alerts, h.opt.Site, h.opt.Now())})
+	return nil
 }
 
-func (h *Handler) chartPage(w http.ResponseWriter, r *http.Request) {
-	u, err := h.unit(r)
+func (h *Handler) chartPage(w http.ResponseWriter, r *http.Request) error {
+	u, req, err := h.unitRequest(r)
 	if err != nil {
-		h.fail(w, r, err, false)
-		return
-	}
-	req, err := h.parse(r)
-	if err != nil {
-		h.fail(w, r, err, false)
-		return
+		return err
 	}
 	lines := req.Query.Get("lines")
 	if lines == "" {
 		lines = "enthalpy"
 	}
 	if lines != "enthalpy" && lines != "wetbulb" {
-		h.fail(w, r, errBadRequest{fmt.Sprintf("lines %q: use enthalpy or wetbulb", lines)}, false)
-		return
+		return errBadRequest{fmt.Sprintf("lines %q: use enthalpy or wetbulb", lines)}
 	}
 	st, err := UnitStates(r.Context(), u, h.opt.Results, req.Period, h.pressure(u))
 	if err != nil {
-		h.fail(w, r, err, false)
-		return
+		return err
 	}
 	svg, err := psyChartSVG(u, st, h.pressure(u), req.display, lines)
 	if err != nil {
-		h.fail(w, r, err, false)
-		return
+		return err
 	}
 	h.render(w, "chart.html", map[string]any{"P": h.newPage(r, req, u.Name+" — psychrometric chart", "unit"), "U": u,
 		"Chart": svg, "States": len(st), "Lines": lines, "Pressure": pressureText(h.pressure(u), req.display)})
+	return nil
 }
 
-func (h *Handler) alertsPage(w http.ResponseWriter, r *http.Request) {
+func (h *Handler) alertsPage(w http.ResponseWriter, r *http.Request) error {
 	req, err := h.parse(r)
 	if err != nil {
-		h.fail(w, r, err, false)
-		return
+		return err
 	}
 	q, err := h.alertQuery(req)
 	if err != nil {
-		h.fail(w, r, err, false)
-		return
+		return err
 	}
 	alerts, err := h.opt.Results.Alerts(r.Context(), q)
 	if err != nil {
-		h.fail(w, r, err, false)
-		return
+		return err
 	}
 	slices.Reverse(alerts)
 	// The kinds offered in the filter: those of any alert in the period.
 	all, err := h.opt.Results.Alerts(r.Context(), AlertQuery{From: req.Period.From, To: req.Period.To})
 	if err != nil {
-		h.fail(w, r, err, false)
-		return
+		return err
 	}
 	var kinds []string
 	for _, a := range all {
@@ -526,6 +518,7 @@ func (h *Handler) alertsPage(w http.ResponseWriter, r *http.Request) {
 	}
 	h.render(w, "alerts.html", map[string]any{"P": h.newPage(r, req, "Alerts", "alerts"), "Q": q, "Kinds": kinds,
 		"Alerts": alertRows(alerts, h.opt.Site, h.opt.Now())})
+	return nil
 }
 
 // pressureText is a barometric pressure in the display's unit.

@@ -16,4 +16,4 @@ if [[ ! -f $CACHE/npm/node_modules/psychrolib/psychrolib.js ]]; then
 fi
 export DEWLINE_PSYCHROLIB=$CACHE/npm/node_modules/psychrolib
 go test -run '^$' -bench . -benchmem "$@" ./psychro/...
-go test -run '^$' -bench 'Overview_Month|BenchmarkDemo' -benchtime 3x "$@" ./dashboards/ ./cmd/dewline/
+go test -run '^$' -bench 'Overview_Month|BenchmarkDemo' -benchtime 3x "$@" ./cmd/dewline/

@@ -1,4 +1,4 @@
-package dashboards_test
+package main
 
 import (
 	"context"
@@ -21,54 +21,19 @@ import (
 // A portfolio of our own invention for the benchmark: 200 air handlers with
 // 30 days of hourly results each (144,000 records) in an embedded store.
 const (
-	benchUnits = 200
-	benchDays  = 30
+	portfolioUnits = 200
+	portfolioDays  = 30
 	// maxPageBytes is the most the overview may weigh for a portfolio of
 	// this size: it has to stay quick to load over a slow site link.
 	maxPageBytes = 500 << 10
 )
 
-var benchEnd = time.Date(2026, 7, 1, 0, 0, 0, 0, time.UTC)
+var portfolioEnd = time.Date(2026, 7, 1, 0, 0, 0, 0, time.UTC)
 
-// storeResults reads the embedded store as the dashboard's Results, as
-// cmd/dewline does.
-type storeResults struct{ st *embedded.Store }
 
-func (s storeResults) Hours(ctx context.Context, ahu string, from, to time.Time, fn func(*metrics.Record) error) error {
-	return s.st.ReadRecords(ctx, ahu, from, to, fn)
-}
-
-func (s storeResults) Days(ctx context.Context, from, to time.Time, fn func(dashboards.DaySums) error) (bool, error) {
-	return s.st.ReadDays(ctx, from, to, func(d embedded.DayRow) error {
-		return fn(dashboards.DaySums{AHU: d.AHU, Day: d.Day, Hours: d.Hours, Flagged: d.Flagged, Sums: d.Sums})
-	})
-}
-
-func (s storeResults) Span(ctx context.Context) (time.Time, time.Time, bool, error) {
-	return s.st.HourSpan(ctx)
-}
-
-func (s storeResults) Alerts(ctx context.Context, q dashboards.AlertQuery) ([]dashboards.Alert, error) {
-	rows, err := s.st.ListAlerts(ctx, embedded.AlertFilter{AHU: q.AHU, State: q.State})
-	if err != nil {
-		return nil, err
-	}
-	var out []dashboards.Alert
-	for _, r := range rows {
-		a := dashboards.Alert{ID: r.ID, AHU: r.AHU, Kind: r.Kind, Severity: r.Severity, State: r.State,
-			Start: r.Start, End: r.End, EnergyKWh: r.EnergyKWh, Money: r.Cost, Reason: r.Reason}
-		if (q.Kind == "" || a.Kind == q.Kind) && a.Overlaps(q.From, q.To) {
-			out = append(out, a)
-		}
-	}
-	return out, nil
-}
-
-var _ dashboards.Results = storeResults{}
-
-// benchRecord is a plausible hour of air handler k: a cool-and-reheat unit
+// portfolioRecord is a plausible hour of air handler k: a cool-and-reheat unit
 // that dries humid air by day and reheats needlessly at night.
-func benchRecord(k int, hour time.Time) metrics.Record {
+func portfolioRecord(k int, hour time.Time) metrics.Record {
 	day := hour.Hour() >= 12 // 08-20 in a zone 4 h behind UTC, roughly
 	x := float64(k)*0.37 + float64(hour.Unix()/3600)*0.11
 	size := 0.5 + float64(k%17)/10 // units of different sizes
@@ -118,21 +83,21 @@ func benchRecord(k int, hour time.Time) metrics.Record {
 	return r
 }
 
-// benchStore fills a store in a temporary folder with the portfolio.
-func benchStore(b *testing.B) (*embedded.Store, *dashboards.Site) {
+// portfolioStore fills a store in a temporary folder with the portfolio.
+func portfolioStore(b *testing.B) (*embedded.Store, *dashboards.Site) {
 	b.Helper()
 	ctx := context.Background()
 	st, err := embedded.Open(ctx, filepath.Join(b.TempDir(), "portfolio.db"), embedded.Options{DayZone: time.UTC})
 	require.NoError(b, err)
 	b.Cleanup(func() { st.Close() })
 	site := &dashboards.Site{Name: "Benchmark portfolio", Zone: time.UTC, Currency: "USD", PressurePa: 101325}
-	from := benchEnd.AddDate(0, 0, -benchDays)
-	for k := range benchUnits {
+	from := portfolioEnd.AddDate(0, 0, -portfolioDays)
+	for k := range portfolioUnits {
 		id := fmt.Sprintf("AHU-%03d", k)
 		site.Units = append(site.Units, dashboards.Unit{ID: id, Name: fmt.Sprintf("Air handler %d, building %c", k%40, 'A'+k/40)})
-		rows := make([]embedded.HourRow, 0, benchDays*24)
-		for h := from; h.Before(benchEnd); h = h.Add(time.Hour) {
-			r := benchRecord(k, h)
+		rows := make([]embedded.HourRow, 0, portfolioDays*24)
+		for h := from; h.Before(portfolioEnd); h = h.Add(time.Hour) {
+			r := portfolioRecord(k, h)
 			fields := map[string]float64{}
 			for _, f := range r.Fields() {
 				fields[f.Name] = f.Value
@@ -157,17 +122,19 @@ func benchStore(b *testing.B) (*embedded.Store, *dashboards.Site) {
 // Store.ReadRecords (the decoder the dashboard uses) and with
 // Store.ReadHourly (the generic one, through encoding/json), for every
 // unit at once as the overview asks, and with ReadRecords unit by unit.
+// The page reads the store's daily sums (ReadDays); the references read
+// every hour, which is what the page would cost without them.
 // The page's size is reported as bytes/page and must stay under 500 KB.
 //
-//	go test -run '^$' -bench Overview -benchtime 5x ./dashboards/
+//	go test -run '^$' -bench Overview -benchtime 5x ./cmd/dewline/
 func BenchmarkOverview_Month(b *testing.B) {
-	st, site := benchStore(b)
-	h, err := dashboards.New(dashboards.Options{Site: site, Results: storeResults{st},
-		Now: func() time.Time { return benchEnd.Add(2 * time.Hour) }, Log: zerolog.Nop()})
+	st, site := portfolioStore(b)
+	h, err := dashboards.New(dashboards.Options{Site: site, Results: embeddedResults{st},
+		Now: func() time.Time { return portfolioEnd.Add(2 * time.Hour) }, Log: zerolog.Nop()})
 	require.NoError(b, err)
 	ctx := context.Background()
-	from := benchEnd.AddDate(0, 0, -benchDays)
-	const records = benchUnits * benchDays * 24
+	from := portfolioEnd.AddDate(0, 0, -portfolioDays)
+	const records = portfolioUnits * portfolioDays * 24
 
 	get := func(b *testing.B, path string) *httptest.ResponseRecorder {
 		rec := httptest.NewRecorder()
@@ -191,7 +158,7 @@ func BenchmarkOverview_Month(b *testing.B) {
 		report(b)
 		b.ReportMetric(float64(size), "bytes/page")
 		if size >= maxPageBytes {
-			b.Errorf("the overview of %d units weighs %d bytes, more than %d", benchUnits, size, maxPageBytes)
+			b.Errorf("the overview of %d units weighs %d bytes, more than %d", portfolioUnits, size, maxPageBytes)
 		}
 	})
 	b.Run("api", func(b *testing.B) {
@@ -207,7 +174,7 @@ func BenchmarkOverview_Month(b *testing.B) {
 		b.ReportAllocs()
 		for b.Loop() {
 			n := 0
-			err := st.ReadRecords(ctx, "", from, benchEnd, func(*metrics.Record) error { n++; return nil })
+			err := st.ReadRecords(ctx, "", from, portfolioEnd, func(*metrics.Record) error { n++; return nil })
 			if err != nil || n != records {
 				b.Fatalf("read %d records of %d: %v", n, records, err)
 			}
@@ -221,7 +188,7 @@ func BenchmarkOverview_Month(b *testing.B) {
 		for b.Loop() {
 			n := 0
 			for _, u := range site.Units {
-				err := st.ReadRecords(ctx, u.ID, from, benchEnd, func(*metrics.Record) error { n++; return nil })
+				err := st.ReadRecords(ctx, u.ID, from, portfolioEnd, func(*metrics.Record) error { n++; return nil })
 				if err != nil {
 					b.Fatal(err)
 				}
@@ -236,7 +203,7 @@ func BenchmarkOverview_Month(b *testing.B) {
 		b.ReportAllocs()
 		for b.Loop() {
 			n := 0
-			err := st.ReadHourly(ctx, "", from, benchEnd, func(embedded.HourRow) error { n++; return nil })
+			err := st.ReadHourly(ctx, "", from, portfolioEnd, func(embedded.HourRow) error { n++; return nil })
 			if err != nil || n != records {
 				b.Fatalf("read %d rows of %d: %v", n, records, err)
 			}
