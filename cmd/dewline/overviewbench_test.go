@@ -30,7 +30,6 @@ const (
 
 var portfolioEnd = time.Date(2026, 7, 1, 0, 0, 0, 0, time.UTC)
 
-
 // portfolioRecord is a plausible hour of air handler k: a cool-and-reheat unit
 // that dries humid air by day and reheats needlessly at night.
 func portfolioRecord(k int, hour time.Time) metrics.Record {
