@@ -204,6 +204,9 @@ func TestHandler_API(t *testing.T) {
 	code, body = get(t, h, "/api/v1/alerts?kind=reheat_not_needed&period=custom&from=2026-07-06&to=2026-07-07")
 	require.Equal(t, http.StatusOK, code)
 	assert.Contains(t, body, `"money":3.5`)
+	// Open since hour 30 of the two days stored: 18 h to the end of the
+	// last stored hour, though the clock reads a day later.
+	assert.Contains(t, body, `"duration_h":18`)
 	assert.NotContains(t, body, "data_gap")
 	assert.Contains(t, body, `\u003cb\u003e`, "JSON escapes HTML")
 

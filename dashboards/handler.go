@@ -129,7 +129,8 @@ type request struct {
 	Period  Period
 	display Display
 	Query   url.Values
-	empty   bool // nothing stored yet
+	empty   bool      // nothing stored yet
+	asOf    time.Time // the end of the last stored hour, or now if earlier
 }
 
 // errBadRequest marks a mistake in the query (400), as opposed to a store
@@ -148,8 +149,13 @@ func (h *Handler) parse(r *http.Request) (request, error) {
 	if err != nil {
 		return req, err
 	}
+	req.asOf = h.opt.Now()
 	if !ok {
-		last, req.empty = h.opt.Now(), true
+		last, req.empty = req.asOf, true
+	} else if end := last.Add(time.Hour); end.Before(req.asOf) {
+		// An ongoing alert has lasted until the last hour with results,
+		// not until now: a site whose data stopped shows its own time.
+		req.asOf = end
 	}
 	p, err := ResolvePeriod(q.Get("period"), q.Get("from"), q.Get("to"), h.opt.Site.Zone, last)
 	if err != nil {
@@ -362,7 +368,7 @@ func (h *Handler) apiAlerts(w http.ResponseWriter, r *http.Request) error {
 		Hours     Num    `json:"duration_h"`
 		Unit      string `json:"unit_name"`
 	}
-	now := h.opt.Now()
+	now := req.asOf
 	list := make([]out, 0, len(alerts))
 	for _, a := range alerts {
 		u, _ := h.opt.Site.Unit(a.AHU)
@@ -458,7 +464,7 @@ func (h *Handler) unitPage(w http.ResponseWriter, r *http.Request) error {
 		return err
 	}
 	h.render(w, "unit.html", map[string]any{"P": h.newPage(r, req, u.Name, "unit"), "U": u, "H": uh, "Charts": charts,
-		"Alerts": alertRows(alerts, h.opt.Site, h.opt.Now())})
+		"Alerts": alertRows(alerts, h.opt.Site, req.asOf)})
 	return nil
 }
 
@@ -517,7 +523,7 @@ func (h *Handler) alertsPage(w http.ResponseWriter, r *http.Request) error {
 		kinds = append(kinds, q.Kind)
 	}
 	h.render(w, "alerts.html", map[string]any{"P": h.newPage(r, req, "Alerts", "alerts"), "Q": q, "Kinds": kinds,
-		"Alerts": alertRows(alerts, h.opt.Site, h.opt.Now())})
+		"Alerts": alertRows(alerts, h.opt.Site, req.asOf)})
 	return nil
 }
 
