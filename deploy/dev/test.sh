@@ -94,6 +94,10 @@ cleanup() {
 			rm -rf "$TMP_DIR"
 		fi
 	fi
+	if [[ -n ${DEWLINE_ARTIFACTS:-} ]] && compgen -G "$DEWLINE_ARTIFACTS/*/*" >/dev/null; then
+		info "test artifacts (browser screenshots): $DEWLINE_ARTIFACTS"
+		find "$DEWLINE_ARTIFACTS" -type f | sort | sed 's/^/      /' >&2
+	fi
 	if ((rc == 0)); then
 		step "all checks passed"
 	else
@@ -102,6 +106,11 @@ cleanup() {
 	exit "$rc"
 }
 trap cleanup EXIT
+# Screenshots and other artifacts of the tests, kept after the run.
+if [[ -z ${DEWLINE_ARTIFACTS:-} ]]; then
+	DEWLINE_ARTIFACTS=$(mktemp -d "${TMPDIR:-/tmp}/dewline-artifacts.XXXXXX")
+fi
+export DEWLINE_ARTIFACTS
 trap 'exit 130' INT
 trap 'exit 143' TERM
 
