@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"hash/fnv"
 	"sort"
+	"strconv"
+	"strings"
 	"sync"
 	"sync/atomic"
 	"time"
@@ -88,11 +90,13 @@ type Shard struct {
 
 // ParseShard reads "i/n" (0 <= i < n).
 func ParseShard(s string) (Shard, error) {
-	var sh Shard
-	if _, err := fmt.Sscanf(s, "%d/%d", &sh.Index, &sh.Count); err != nil || sh.Count < 1 || sh.Index < 0 || sh.Index >= sh.Count {
+	left, right, ok := strings.Cut(s, "/")
+	i, err1 := strconv.Atoi(left)
+	n, err2 := strconv.Atoi(right)
+	if !ok || err1 != nil || err2 != nil || strings.ContainsAny(s, "+ ") || n < 1 || i < 0 || i >= n {
 		return Shard{}, fmt.Errorf("shard %q: write it as i/n with 0 <= i < n, e.g. 0/3", s)
 	}
-	return sh, nil
+	return Shard{Index: i, Count: n}, nil
 }
 
 // Owns reports whether this shard takes the air handler ahu of site by

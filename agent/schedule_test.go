@@ -56,7 +56,7 @@ func TestParseShard(t *testing.T) {
 	sh, err := ParseShard("2/3")
 	require.NoError(t, err)
 	assert.Equal(t, Shard{2, 3}, sh)
-	for _, bad := range []string{"3/3", "-1/2", "1", "a/b", "0/0"} {
+	for _, bad := range []string{"3/3", "-1/2", "1", "a/b", "0/0", "0/3x", "+1/3", "1/ 3"} {
 		_, err := ParseShard(bad)
 		assert.ErrorContains(t, err, "i/n", bad)
 	}
