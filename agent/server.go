@@ -185,9 +185,15 @@ func (s *Server) handler() http.Handler {
 	return s.secure(s.logRequests(s.authorize(mux)))
 }
 
-func (s *Server) readyz(w http.ResponseWriter, _ *http.Request) {
+func (s *Server) readyz(w http.ResponseWriter, req *http.Request) {
 	r := s.opt.Telemetry.Readiness()
-	body, err := json.Marshal(r)
+	var body []byte
+	var err error
+	if public, _ := req.Context().Value(publicKey{}).(bool); public {
+		body, err = json.Marshal(map[string]string{"status": r.Status})
+	} else {
+		body, err = json.Marshal(r)
+	}
 	if err != nil { // plain strings and bools: cannot happen
 		http.Error(w, "encode readiness", http.StatusInternalServerError)
 		return
@@ -237,30 +243,25 @@ func (s *Server) authorize(h http.Handler) http.Handler {
 		return h
 	}
 	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
-		if r.URL.Path == "/healthz" || r.URL.Path == "/readyz" {
+		if r.URL.Path == "/healthz" {
 			h.ServeHTTP(w, r)
 			return
 		}
-		var presented string
-		scheme, rest, found := strings.Cut(r.Header.Get("Authorization"), " ")
-		switch {
-		case found && strings.EqualFold(scheme, "Bearer"):
-			presented = strings.TrimSpace(rest)
-		case found && strings.EqualFold(scheme, "Basic"):
-			// A browser cannot send a bearer token when it opens a page:
-			// basic auth with any user name and the token as the
-			// password does the same job.
-			if _, pw, ok := r.BasicAuth(); ok {
-				presented = pw
+		if r.URL.Path == "/readyz" {
+			// Open to probes, which send no token; without one the body
+			// says only the status, not the reasons (store errors, units).
+			if !s.tokenMatches(r) {
+				r = r.WithContext(context.WithValue(r.Context(), publicKey{}, true))
 			}
+			h.ServeHTTP(w, r)
+			return
 		}
-		if presented == "" {
+		if presentedToken(r) == "" {
 			challenge(w)
 			http.Error(w, "unauthorized: send Authorization: Bearer <token> (or basic auth with the token as the password)", http.StatusUnauthorized)
 			return
 		}
-		got := sha256.Sum256([]byte(presented))
-		if subtle.ConstantTimeCompare(got[:], s.tokenH[:]) != 1 {
+		if !s.tokenMatches(r) {
 			w.Header().Add("WWW-Authenticate", `Bearer realm="dewline", error="invalid_token"`)
 			w.Header().Add("WWW-Authenticate", `Basic realm="dewline", charset="UTF-8"`)
 			http.Error(w, "unauthorized: wrong token", http.StatusUnauthorized)
@@ -268,6 +269,35 @@ func (s *Server) authorize(h http.Handler) http.Handler {
 		}
 		h.ServeHTTP(w, r)
 	})
+}
+
+// publicKey marks a request that came without the token.
+type publicKey struct{}
+
+// presentedToken is the token r carries: a bearer token, or the password
+// of basic auth (a browser cannot send a bearer token when it opens a
+// page; basic auth with any user name and the token as the password does
+// the same job). Empty when there is none.
+func presentedToken(r *http.Request) string {
+	scheme, rest, found := strings.Cut(r.Header.Get("Authorization"), " ")
+	switch {
+	case found && strings.EqualFold(scheme, "Bearer"):
+		return strings.TrimSpace(rest)
+	case found && strings.EqualFold(scheme, "Basic"):
+		if _, pw, ok := r.BasicAuth(); ok {
+			return pw
+		}
+	}
+	return ""
+}
+
+// tokenMatches reports whether r carries the token. The presented token
+// and the expected one are hashed before the constant-time compare so
+// that neither their contents nor their lengths show in the timing.
+func (s *Server) tokenMatches(r *http.Request) bool {
+	presented := presentedToken(r)
+	got := sha256.Sum256([]byte(presented))
+	return presented != "" && subtle.ConstantTimeCompare(got[:], s.tokenH[:]) == 1
 }
 
 // challenge names both ways in: the bearer token for programs, basic auth

@@ -175,6 +175,14 @@ func TestServer_Auth(t *testing.T) {
 			assert.NotContains(t, body, token)
 		})
 	}
+
+	// Without the token, readiness says its status and nothing more.
+	tel.SetConfigProblem("AHU-9", "points missing in bucket secret-bucket")
+	_, body := get(t, http.MethodGet, base+"/readyz", "")
+	assert.JSONEq(t, `{"status":"degraded"}`, body)
+	_, body = get(t, http.MethodGet, base+"/readyz", "Bearer "+token)
+	assert.Contains(t, body, "secret-bucket")
+	assert.Contains(t, body, "AHU-9")
 }
 
 func TestServer_Listen(t *testing.T) {
