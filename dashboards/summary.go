@@ -161,10 +161,6 @@ type Overview struct {
 // BuildOverview reads the period's hours of every configured unit once
 // and sums them per unit and per local day.
 func BuildOverview(ctx context.Context, site *Site, res Results, p Period) (*Overview, error) {
-	zone := site.Zone
-	if zone == nil {
-		zone = time.UTC
-	}
 	ov := &Overview{Site: site.Name, Currency: site.Currency, Period: p, Total: NewTotals()}
 	var dayStarts []time.Time
 	for d := p.From; d.Before(p.To); d = d.AddDate(0, 0, 1) {

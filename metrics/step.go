@@ -12,7 +12,6 @@ type stepIn struct {
 	tIn, humIn, tLv, lvHum, tSup, flow float64 // humIn/lvHum: RH fraction or dew point °C per humKind
 	fanKW, coolKW, reheatKW, tOut      float64
 	spaceT, spaceHum                   float64
-	coolValve, reheatValve             float64
 }
 
 // humidity sensor forms

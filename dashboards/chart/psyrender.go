@@ -215,7 +215,7 @@ func haloText(s *svgBuf, class string, x, y float64, anchor string) {
 
 func (g *psyGeom) rhCurves(s *svgBuf) {
 	s.str(`<g class="dlc-psy-rhs">`)
-	type lab struct{ t, rh, end float64 }
+	type lab struct{ rh, end float64 }
 	var labels []lab
 	for k := 1; k <= 9; k++ {
 		rh := float64(k) / 10

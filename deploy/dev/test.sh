@@ -139,6 +139,11 @@ go build ./... || fail "go build"
 step "go vet ./..."
 go vet ./... || fail "go vet"
 
+# staticcheck, pinned: unused code, suspicious constructs, simplifications.
+STATICCHECK=honnef.co/go/tools/cmd/staticcheck@v0.8.2
+step "staticcheck ./... ($STATICCHECK)"
+go run "$STATICCHECK" ./... || fail "staticcheck"
+
 step "InfluxDB server (build is cached in $CACHE/bin)"
 "$ROOT/deploy/dev/influxdb.sh" build || fail "building influxd"
 TMP_DIR=$(mktemp -d "${TMPDIR:-/tmp}/dewline-test.XXXXXX")

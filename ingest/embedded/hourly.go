@@ -33,9 +33,6 @@ type HourRow struct {
 	Written time.Time
 }
 
-// msPerHour is one hour in milliseconds, the grid of hour_ms.
-const msPerHour = int64(time.Hour / time.Millisecond)
-
 // PutHourly stores rows in one transaction. A row for an (AHU, hour)
 // already stored replaces it whole: the agent can always re-run a window.
 // Rows are validated first, and every problem is reported at once.

@@ -76,7 +76,7 @@ func TestOptions_RedactsToken(t *testing.T) {
 			"%v":      fmt.Sprintf("%v", opt),
 			"%+v":     fmt.Sprintf("%+v", opt),
 			"%#v":     fmt.Sprintf("%#v", opt),
-			"%s":      fmt.Sprintf("%s", opt),
+			"%s":      fmt.Sprintf("%s", opt), //lint:ignore S1025 the test checks what %s prints
 			"pointer": fmt.Sprintf("%+v", &opt),
 			"nested":  fmt.Sprintf("%+v", struct{ Store Options }{opt}),
 			"json":    string(js),
