@@ -348,16 +348,23 @@ func (h *Handler) alertQuery(req request) (AlertQuery, error) {
 	return q, nil
 }
 
-func (h *Handler) apiAlerts(w http.ResponseWriter, r *http.Request) error {
+// alerts reads the request's alerts: those overlapping its period that
+// match its unit, kind and state filters.
+func (h *Handler) alerts(r *http.Request) (request, AlertQuery, []Alert, error) {
 	req, err := h.parse(r)
 	if err != nil {
-		return err
+		return req, AlertQuery{}, nil, err
 	}
 	q, err := h.alertQuery(req)
 	if err != nil {
-		return err
+		return req, q, nil, err
 	}
 	alerts, err := h.opt.Results.Alerts(r.Context(), q)
+	return req, q, alerts, err
+}
+
+func (h *Handler) apiAlerts(w http.ResponseWriter, r *http.Request) error {
+	req, _, alerts, err := h.alerts(r)
 	if err != nil {
 		return err
 	}
@@ -494,15 +501,7 @@ func (h *Handler) chartPage(w http.ResponseWriter, r *http.Request) error {
 }
 
 func (h *Handler) alertsPage(w http.ResponseWriter, r *http.Request) error {
-	req, err := h.parse(r)
-	if err != nil {
-		return err
-	}
-	q, err := h.alertQuery(req)
-	if err != nil {
-		return err
-	}
-	alerts, err := h.opt.Results.Alerts(r.Context(), q)
+	req, q, alerts, err := h.alerts(r)
 	if err != nil {
 		return err
 	}
