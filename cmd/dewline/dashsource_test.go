@@ -66,23 +66,30 @@ func TestOverview_DaysAgreeWithHours(t *testing.T) {
 			assert.Equal(t, b.Totals.Hours, a.Totals.Hours)
 			assert.Equal(t, b.Totals.FlaggedHours, a.Totals.FlaggedHours)
 			assert.Positive(t, b.Totals.Hours, kind)
-			va, vb := reflect.ValueOf(a.Totals), reflect.ValueOf(b.Totals)
-			for f := 0; f < va.NumField(); f++ {
-				if va.Field(f).Type() != reflect.TypeOf(dashboards.Num(0)) {
-					continue
-				}
-				x, y := va.Field(f).Float(), vb.Field(f).Float()
-				name := va.Type().Field(f).Name
-				if math.IsNaN(y) {
-					assert.True(t, math.IsNaN(x), "%s %s: %v from days, unknown from hours", kind, name, x)
-					continue
-				}
-				// Sums in another order differ only in the last bits.
-				assert.InDelta(t, y, x, 1e-9*math.Max(1, math.Abs(y)), "%s %s", kind, name)
-			}
+			assertSameTotals(t, b.Totals, a.Totals, kind+" "+a.ID)
 			for d := range a.Daily {
 				assert.InDelta(t, float64(b.Daily[d]), float64(a.Daily[d]), 1e-9, "%s day %d", kind, d)
 			}
 		}
+	}
+}
+
+// assertSameTotals compares every figure of two Totals: unknown (NaN) must
+// stay unknown, and sums taken in another order may differ in the last
+// bits only.
+func assertSameTotals(t *testing.T, want, got dashboards.Totals, what string) {
+	t.Helper()
+	vw, vg := reflect.ValueOf(want), reflect.ValueOf(got)
+	for f := 0; f < vw.NumField(); f++ {
+		if vw.Field(f).Type() != reflect.TypeOf(dashboards.Num(0)) {
+			continue
+		}
+		x, y := vw.Field(f).Float(), vg.Field(f).Float()
+		name := vw.Type().Field(f).Name
+		if math.IsNaN(x) {
+			assert.True(t, math.IsNaN(y), "%s %s: %v, want unknown", what, name, y)
+			continue
+		}
+		assert.InDelta(t, x, y, 1e-9*math.Max(1, math.Abs(x)), "%s %s", what, name)
 	}
 }
