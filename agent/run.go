@@ -10,6 +10,7 @@ import (
 
 	"github.com/rs/zerolog"
 
+	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
 )
 
@@ -56,7 +57,7 @@ func (nopObserver) SetStoreUp(bool, string)           {}
 type Runner struct {
 	Cfg    *Config
 	Source HourSource
-	Store  ResultStore
+	Store  store.ResultStore
 	Obs    Observer
 	Clock  Clock
 	Log    zerolog.Logger
@@ -278,7 +279,7 @@ func (r *Runner) runAHU(ctx context.Context, id string, slot time.Time) (ar AHUR
 			through = cp // re-computing old hours never moves the checkpoint back
 		}
 		t0 := time.Now()
-		err = r.Store.Commit(ctx, id, recs, AlertUpdate{States: states, Transitions: trs}, through)
+		err = r.Store.Commit(ctx, id, recs, store.AlertUpdate{States: states, Transitions: trs}, through)
 		r.obs().ObserveWrite(time.Since(t0), err)
 		if err != nil {
 			r.storeError(err)

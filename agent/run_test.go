@@ -12,6 +12,7 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
+	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
 )
 
@@ -40,7 +41,7 @@ func (m *memResults) Checkpoint(_ context.Context, ahu string) (time.Time, bool,
 	return t, ok, nil
 }
 
-func (m *memResults) Commit(_ context.Context, ahu string, recs []metrics.Record, up AlertUpdate, through time.Time) error {
+func (m *memResults) Commit(_ context.Context, ahu string, recs []metrics.Record, up store.AlertUpdate, through time.Time) error {
 	m.mu.Lock()
 	defer m.mu.Unlock()
 	if m.fail != nil {
@@ -68,7 +69,7 @@ func (m *memResults) AlertStates(_ context.Context, ahu string) (map[string]metr
 	return m.states[ahu], nil
 }
 
-var _ ResultStore = (*memResults)(nil)
+var _ store.ResultStore = (*memResults)(nil)
 
 // spanSource yields every hour of [from, to) for each air handler, with
 // dry entering air and reheat (so reheat_not_needed fires), or an error.

@@ -21,6 +21,7 @@ import (
 
 	"github.com/rs/zerolog"
 
+	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
 )
 
@@ -57,10 +58,10 @@ type WebhookOptions struct {
 	// Secret, when set, signs each body (WebhookSignatureHeader). It never
 	// reaches logs or errors.
 	Secret    string
-	Timeout   time.Duration // per request; default 10s
-	MaxAge    time.Duration // events older than this (Event.At against Clock) are dropped; default 24h
-	Store     EventStore    // the queue; required
-	Telemetry *Telemetry    // optional
+	Timeout   time.Duration    // per request; default 10s
+	MaxAge    time.Duration    // events older than this (Event.At against Clock) are dropped; default 24h
+	Store     store.EventStore // the queue; required
+	Telemetry *Telemetry       // optional
 	Log       zerolog.Logger
 	Clock     Clock         // default time.Now
 	Client    *http.Client  // optional; the default follows no redirect
@@ -261,7 +262,7 @@ func (w *WebhookSender) pass(ctx context.Context) {
 }
 
 // deliver tries to post one event, retrying as WebhookSender says.
-func (w *WebhookSender) deliver(ctx context.Context, ev Event) outcome {
+func (w *WebhookSender) deliver(ctx context.Context, ev store.Event) outcome {
 	lg := w.log.With().Int64("seq", ev.Seq).Str("alert_id", ev.AlertID).Str("transition", ev.Transition).Logger()
 	if age := w.opt.Clock().Sub(ev.At); age > w.opt.MaxAge {
 		w.opt.Telemetry.WebhookDropped()
@@ -333,7 +334,7 @@ func (w *WebhookSender) deliver(ctx context.Context, ev Event) outcome {
 // post makes one attempt. It returns the status, the wait a Retry-After
 // header asks for, the start of the answer (for a refusal) and a network
 // error stripped of the URL.
-func (w *WebhookSender) post(ctx context.Context, ev Event) (status int, retryAfter time.Duration, body string, err error) {
+func (w *WebhookSender) post(ctx context.Context, ev store.Event) (status int, retryAfter time.Duration, body string, err error) {
 	ctx, cancel := context.WithTimeout(ctx, w.opt.Timeout)
 	defer cancel()
 	req, err := http.NewRequestWithContext(ctx, http.MethodPost, w.opt.URL, bytes.NewReader(ev.Payload))
@@ -424,8 +425,8 @@ func sleepCtx(ctx context.Context, d time.Duration) error {
 
 // Event transitions.
 const (
-	TransitionOpen   = "open"
-	TransitionClosed = "closed"
+	TransitionOpen   = store.TransitionOpen
+	TransitionClosed = store.TransitionClosed
 )
 
 // alertBody is the JSON body of a webhook delivery.

@@ -19,6 +19,7 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
+	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
 )
 
@@ -26,26 +27,26 @@ import (
 // order they were added, not necessarily by Seq.
 type memEvents struct {
 	mu         sync.Mutex
-	events     []Event
+	events     []store.Event
 	delivered  map[int64]time.Time
 	pendingErr error // PendingEvents fails with it when set
 	markFails  int   // MarkDelivered fails this many more times
 	marks      int   // MarkDelivered calls
 }
 
-var _ EventStore = (*memEvents)(nil)
+var _ store.EventStore = (*memEvents)(nil)
 
-func newMemEvents(evs ...Event) *memEvents {
+func newMemEvents(evs ...store.Event) *memEvents {
 	return &memEvents{events: evs, delivered: map[int64]time.Time{}}
 }
 
-func (m *memEvents) PendingEvents(_ context.Context, limit int) ([]Event, error) {
+func (m *memEvents) PendingEvents(_ context.Context, limit int) ([]store.Event, error) {
 	m.mu.Lock()
 	defer m.mu.Unlock()
 	if m.pendingErr != nil {
 		return nil, m.pendingErr
 	}
-	var out []Event
+	var out []store.Event
 	for _, e := range m.events {
 		if _, done := m.delivered[e.Seq]; !done && len(out) < limit {
 			out = append(out, e)
@@ -66,7 +67,7 @@ func (m *memEvents) MarkDelivered(_ context.Context, seq int64, at time.Time) er
 	return nil
 }
 
-func (m *memEvents) add(e Event) {
+func (m *memEvents) add(e store.Event) {
 	m.mu.Lock()
 	defer m.mu.Unlock()
 	m.events = append(m.events, e)
@@ -169,8 +170,8 @@ var webhookNow = time.Date(2025, 7, 14, 15, 7, 0, 0, time.UTC)
 
 func fixedClock() time.Time { return webhookNow }
 
-func testEvent(seq int64, alert, transition string) Event {
-	return Event{
+func testEvent(seq int64, alert, transition string) store.Event {
+	return store.Event{
 		Seq: seq, AlertID: alert, Transition: transition, At: webhookNow.Add(-time.Hour),
 		Payload: []byte(fmt.Sprintf(`{"id":%q,"transition":%q,"seq":%d}`, alert, transition, seq)),
 	}
@@ -178,7 +179,7 @@ func testEvent(seq int64, alert, transition string) Event {
 
 // newTestSender builds a sender for url with the fixed clock, short
 // backoff, three attempts and an hour's poll (so only Kick wakes Run).
-func newTestSender(t *testing.T, url string, store EventStore, tel *Telemetry, mod func(*WebhookOptions)) *WebhookSender {
+func newTestSender(t *testing.T, url string, store store.EventStore, tel *Telemetry, mod func(*WebhookOptions)) *WebhookSender {
 	t.Helper()
 	opt := WebhookOptions{
 		URL: url, Store: store, Telemetry: tel, Log: zerolog.Nop(), Clock: fixedClock,

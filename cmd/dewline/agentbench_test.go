@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"encoding/json"
 	"fmt"
 	"math"
 	"os"
@@ -18,6 +19,7 @@ import (
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/embedded"
 	"github.com/dewline/dewline/ingest/influx"
+	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/psychro"
 )
@@ -218,9 +220,9 @@ func (s *timedSource) Hours(ctx context.Context, ahus []string, from, to time.Ti
 	return err
 }
 
-// timedStore times the commits of an agent.ResultStore.
+// timedStore times the commits of an store.ResultStore.
 type timedStore struct {
-	agent.ResultStore
+	store.ResultStore
 	write   time.Duration
 	read    time.Duration // checkpoints and alert states read from the store
 	commits int
@@ -238,7 +240,7 @@ func (s *timedStore) AlertStates(ctx context.Context, ahu string) (map[string]me
 	return s.ResultStore.AlertStates(ctx, ahu)
 }
 
-func (s *timedStore) Commit(ctx context.Context, ahu string, recs []metrics.Record, up agent.AlertUpdate, through time.Time) error {
+func (s *timedStore) Commit(ctx context.Context, ahu string, recs []metrics.Record, up store.AlertUpdate, through time.Time) error {
 	start := time.Now()
 	err := s.ResultStore.Commit(ctx, ahu, recs, up, through)
 	s.write += time.Since(start)
@@ -286,7 +288,6 @@ func (br benchRun) run(b *testing.B) {
 		b.Fatal(err)
 	}
 	defer st.Close()
-	reader, missing := st.reader()
 	units := map[string]ingest.UnitPoints{}
 	for _, id := range br.ahus {
 		a, _ := br.cfg.AirHandler(id)
@@ -300,26 +301,33 @@ func (br benchRun) run(b *testing.B) {
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
 		b.StopTimer()
-		state, err := embedded.Open(ctx, filepath.Join(dir, fmt.Sprintf("state-%d.db", i)), embedded.Options{})
-		if err != nil {
-			b.Fatal(err)
-		}
+		statePath := filepath.Join(dir, fmt.Sprintf("state-%d.db", i))
 		// Checkpoints live in InfluxDB: a site id of its own gives every
 		// iteration a fresh start.
 		site := fmt.Sprintf("bench-%d-%d", time.Now().UnixNano(), i)
 		if !br.preset.IsZero() {
 			var pts []influx.Point
 			for _, id := range br.ahus {
-				pts = append(pts, influx.Point{Measurement: measurementCheckpoint, Tags: map[string]string{"site": site, "ahu": id},
+				pts = append(pts, influx.Point{Measurement: influx.MeasurementCheckpoint, Tags: map[string]string{"site": site, "ahu": id},
 					Strings: map[string]string{"hour": br.preset.UTC().Format(time.RFC3339)}, Time: influx.StateTime})
 			}
-			if err := st.flux.WritePoints(ctx, pts); err != nil {
+			if err := st.Store.(*influx.Backend).Client().WritePoints(ctx, pts); err != nil {
 				b.Fatal(err)
 			}
 		}
-		tr := &timedReader{r: reader}
-		src := &timedSource{src: &ingest.StoreHours{Reader: tr, Units: units, Step: br.cfg.Grid.Step, IsMissing: missing}}
-		store := &timedStore{ResultStore: &resultStore{state: state, flux: st.flux, site: site, currency: br.cfg.Prices.Currency}}
+		tr := &timedReader{r: st}
+		src := &timedSource{src: &ingest.StoreHours{Reader: tr, Units: units, Step: br.cfg.Grid.Step, IsMissing: st.IsMissing}}
+		payload := func(t metrics.Transition) (json.RawMessage, error) {
+			return agent.AlertPayload(t, br.cfg.Prices.Currency)
+		}
+		queue := func(ctx context.Context) (store.EventQueue, error) {
+			return embedded.OpenQueue(ctx, statePath, payload)
+		}
+		state, err := influx.NewBackend(st.Store.(*influx.Backend).Client(), influx.BackendOptions{Site: site, Queue: queue}).Agent(ctx)
+		if err != nil {
+			b.Fatal(err)
+		}
+		store := &timedStore{ResultStore: state}
 		runner := &agent.Runner{Cfg: br.cfg, Source: src, Store: store, Log: zerolog.Nop(), AHUs: br.ahus,
 			Clock: func() time.Time { return benchAsOf }}
 		runtime.GC()

@@ -121,8 +121,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		recSrc = &ingest.RecordHours{Src: files, Units: unitPoints, Step: cfg.Grid.Step}
 		src = recSrc
 	} else {
-		r, missing := st.reader()
-		storeSrc = &ingest.StoreHours{Reader: r, Units: unitPoints, Step: cfg.Grid.Step, IsMissing: missing}
+		storeSrc = &ingest.StoreHours{Reader: st, Units: unitPoints, Step: cfg.Grid.Step, IsMissing: st.IsMissing}
 		src = storeSrc
 	}
 
@@ -137,10 +136,10 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	var trs []metrics.Transition
 	flush := func(ctx context.Context) error {
 		if st != nil && !*noStore {
-			if err := st.putHourly(ctx, batch); err != nil {
+			if err := st.PutHourly(ctx, batch); err != nil {
 				return fmt.Errorf("write results: %w", err)
 			}
-			if err := st.putAlerts(ctx, trs, cfg.Prices.Currency); err != nil {
+			if err := st.PutTransitions(ctx, trs); err != nil {
 				return fmt.Errorf("write alerts: %w", err)
 			}
 		}

@@ -193,15 +193,14 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 			return err
 		}
 		defer st.Close()
-		r, missing := st.reader()
 		fmt.Fprintf(e.stdout, "store window %s .. %s\n", from.In(cfg.Location).Format(time.RFC3339), to.In(cfg.Location).Format(time.RFC3339))
 		for _, pc := range checks {
 			t0 := pc.targets[0]
-			err := r.ReadSeries(ctx, t0.Ref, t0.Kind, from, to, func(s ingest.Sample) error {
+			err := st.ReadSeries(ctx, t0.Ref, t0.Kind, from, to, func(s ingest.Sample) error {
 				pc.add(s.Time, t0.Unit.FromSI(s.Value)) // the store holds SI
 				return nil
 			})
-			if err != nil && !missing(err) {
+			if err != nil && !st.IsMissing(err) {
 				return fmt.Errorf("read %s: %w", pc.name, err)
 			}
 		}

@@ -18,8 +18,7 @@ import (
 	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
-	"github.com/dewline/dewline/ingest/embedded"
-	"github.com/dewline/dewline/psychro"
+	"github.com/dewline/dewline/ingest/store"
 )
 
 // importBatch is how many samples of one series are written at a time.
@@ -138,15 +137,8 @@ func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, st *
 			return nil
 		}
 		t := ix[name][0]
-		if st.flux != nil {
-			if err := st.flux.WriteSamples(ctx, t.Ref, t.Kind, b); err != nil {
-				return fmt.Errorf("import %s: write %s: %w", path, name, err)
-			}
-		} else {
-			si := psychro.SIUnitName(t.Kind)
-			if _, err := st.emb.WriteSamples(ctx, name, t.Kind.String(), si, t.Unit.Name, b); err != nil {
-				return fmt.Errorf("import %s: write %s: %w", path, name, err)
-			}
+		if err := st.WriteSamples(ctx, name, t, b); err != nil {
+			return fmt.Errorf("import %s: write %s: %w", path, name, err)
 		}
 		s.written += len(b)
 		batches[name] = b[:0]
@@ -208,9 +200,9 @@ func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, st *
 	}
 	s.csv = r.Stats()
 	s.rows = s.csv.Rows
-	if st.emb != nil {
+	if il, ok := st.Store.(store.ImportLogger); ok {
 		rejected := s.csv.RejectedTotal() + s.notFinite
-		if err := st.emb.RecordImport(ctx, embedded.ImportLog{File: path, SHA256: sum, RowsRead: s.rows, Accepted: s.written,
+		if err := il.RecordImport(ctx, store.ImportLog{File: path, SHA256: sum, RowsRead: s.rows, Accepted: s.written,
 			Rejected: rejected, Started: started, Finished: time.Now()}); err != nil {
 			return s, err
 		}

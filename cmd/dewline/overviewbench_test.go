@@ -128,7 +128,7 @@ func portfolioStore(b *testing.B) (*embedded.Store, *dashboards.Site) {
 //	go test -run '^$' -bench Overview -benchtime 5x ./cmd/dewline/
 func BenchmarkOverview_Month(b *testing.B) {
 	st, site := portfolioStore(b)
-	h, err := dashboards.New(dashboards.Options{Site: site, Results: embeddedResults{st},
+	h, err := dashboards.New(dashboards.Options{Site: site, Results: embedded.NewBackend(st, nil).Results(time.Now),
 		Now: func() time.Time { return portfolioEnd.Add(2 * time.Hour) }, Log: zerolog.Nop()})
 	require.NoError(b, err)
 	ctx := context.Background()

@@ -113,7 +113,7 @@ func runReport(ctx context.Context, e *env, args []string) error {
 		Display:   display,
 		Generated: time.Now(),
 		Paper:     *paper,
-		Source:    reportSource(cfg, st),
+		Source:    st.Describe(),
 		Trended:   trendedRoles(cfg),
 		Notes:     reportNotes(cfg),
 		Progress:  prog.update,
@@ -167,14 +167,6 @@ func reportBound(flagName, s string, loc *time.Location) (t time.Time, date bool
 func localMidnight(t time.Time) time.Time {
 	y, m, d := t.Date()
 	return time.Date(y, m, d, 0, 0, 0, 0, t.Location())
-}
-
-// reportSource names where the results were read, without secrets.
-func reportSource(cfg *agent.Config, st *stores) string {
-	if st.flux != nil && cfg.Store.InfluxDB != nil {
-		return "InfluxDB bucket " + cfg.Store.InfluxDB.Bucket + ", measurement " + measurementHourly
-	}
-	return "the embedded store " + filepath.Base(cfg.StorePath())
 }
 
 // trendedRoles lists each air handler's configured roles.

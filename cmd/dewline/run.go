@@ -13,8 +13,8 @@ import (
 
 	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/ingest"
-	"github.com/dewline/dewline/ingest/embedded"
 	"github.com/dewline/dewline/ingest/influx"
+	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
 )
 
@@ -70,39 +70,31 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	defer st.Close()
-	rs := &resultStore{state: st.emb, flux: st.flux, site: cfg.Site.ID, currency: cfg.Prices.Currency}
-	if st.flux != nil {
-		if rs.state, err = embedded.Open(ctx, cfg.StatePath(), embedded.Options{}); err != nil {
-			return fmt.Errorf("open the agent's state file: %w", err)
-		}
-		defer rs.state.Close()
+	rs, err := st.Agent(ctx)
+	if err != nil {
+		return err
 	}
-	reader, missing := st.reader()
+	defer rs.Close()
 	units := map[string]ingest.UnitPoints{}
 	for _, id := range owned {
 		a, _ := cfg.AirHandler(id)
 		units[id] = ingest.UnitPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
 	}
 	tel := agent.NewTelemetry()
-	// The store is up once it answers: the embedded file is open; InfluxDB
-	// must answer a ping.
-	if st.flux != nil {
-		pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
-		if err := st.flux.Ping(pctx); err != nil {
-			tel.SetStoreUp(false, err.Error())
-			log.Warn().Err(err).Msg("InfluxDB does not answer yet; runs will retry")
-		} else {
-			tel.SetStoreUp(true, "")
-		}
-		cancel()
+	// The store is up once it answers (the embedded file answers once open).
+	pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
+	if err := st.Ping(pctx); err != nil {
+		tel.SetStoreUp(false, err.Error())
+		log.Warn().Err(err).Msg("the store does not answer yet; runs will retry")
 	} else {
 		tel.SetStoreUp(true, "")
 	}
+	cancel()
 	for id, ce := range broken {
 		log.Error().Str("ahu", id).Str("problems", ce.Error()).Msg("air handler left out: its configuration is broken")
 		tel.SetConfigProblem(id, "configuration: "+ce.Error())
 	}
-	source := &ingest.StoreHours{Reader: reader, Units: units, Step: cfg.Grid.Step, IsMissing: missing,
+	source := &ingest.StoreHours{Reader: st, Units: units, Step: cfg.Grid.Step, IsMissing: st.IsMissing,
 		OnRead: tel.PointsRead,
 		OnMissing: func(ahu string, role metrics.Role, point string) {
 			log.Warn().Str("ahu", ahu).Str("role", string(role)).Str("point", point).Msg("point has no data in the store")
@@ -129,7 +121,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	}
 	log.Info().Strs("ahus", owned).Str("shard", *shardS).Msg("air handlers owned")
 	if *dry {
-		runner.Store = &dryRun{inner: rs, w: e.stdout}
+		runner.Store = &influx.DryRun{Inner: rs, W: e.stdout}
 		_, err := runner.RunOnce(ctx)
 		return err
 	}
@@ -172,11 +164,11 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	log.Info().Str("addr", srv.Addr()).Msg("http endpoint listening")
-	if st.flux != nil {
+	if pc, ok := st.Store.(store.PointChecker); ok {
 		// The long-running agent looks its points up once, after its
 		// endpoint is up so that probes see it alive meanwhile; "dewline
 		// check --store" does the same on demand.
-		checkInfluxPoints(ctx, st.flux, cfg, owned, tel, log)
+		checkPoints(ctx, pc, st.IsMissing, cfg, owned, tel, log)
 	}
 	var sender *agent.WebhookSender
 	if w := cfg.Webhook; w != nil {
@@ -268,12 +260,13 @@ func isDigits(s string) bool {
 	return true
 }
 
-// checkInfluxPoints looks up every owned point once at start: InfluxDB
-// cannot tell a point that does not exist from one that is quiet, so a
-// misspelt measurement, field or tag would otherwise only show as hours
-// without data. A missing point is logged and shown as its air handler's
-// problem; a store that does not answer is left to the runs to report.
-func checkInfluxPoints(ctx context.Context, c *influx.Client, cfg *agent.Config, owned []string, tel *agent.Telemetry, log zerolog.Logger) {
+// checkPoints looks up every owned point once at start, in a store that
+// cannot tell a point that does not exist from one that is quiet
+// (InfluxDB): a misspelt measurement, field or tag would otherwise only
+// show as hours without data. A missing point is logged and shown as its
+// air handler's problem; a store that does not answer is left to the runs
+// to report.
+func checkPoints(ctx context.Context, pc store.PointChecker, missing func(error) bool, cfg *agent.Config, owned []string, tel *agent.Telemetry, log zerolog.Logger) {
 	ctx, cancel := context.WithTimeout(ctx, time.Minute)
 	defer cancel()
 	to := time.Now()
@@ -281,10 +274,10 @@ func checkInfluxPoints(ctx context.Context, c *influx.Client, cfg *agent.Config,
 	for _, id := range owned {
 		a, _ := cfg.AirHandler(id)
 		for role, ref := range a.PointMap() {
-			_, err := c.CheckPoint(ctx, ref, from, to)
+			err := pc.CheckPoint(ctx, ref, from, to)
 			switch {
 			case err == nil:
-			case errors.Is(err, influx.ErrNoSuchPoint):
+			case missing(err):
 				log.Warn().Str("ahu", id).Str("role", string(role)).Err(err).Msg("point not found in InfluxDB")
 				tel.SetConfigProblem(id, fmt.Sprintf("%s: %v", role, err))
 			default:

@@ -72,14 +72,12 @@ func serveDashboard(ctx context.Context, e *env, cfg *agent.Config, st *stores, 
 	}
 	tel := agent.NewTelemetry()
 	tel.SetStoreUp(true, "")
-	if st.flux != nil {
-		pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
-		if err := st.flux.Ping(pctx); err != nil {
-			tel.SetStoreUp(false, err.Error())
-			e.log.Warn().Err(err).Msg("InfluxDB does not answer yet; the pages will say so until it does")
-		}
-		cancel()
+	pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
+	if err := st.Ping(pctx); err != nil {
+		tel.SetStoreUp(false, err.Error())
+		e.log.Warn().Err(err).Msg("the store does not answer yet; the pages will say so until it does")
 	}
+	cancel()
 	log := e.log.With().Str("component", "http").Logger()
 	srv, err := agent.NewServer(agent.ServerOptions{Listen: addr, BearerToken: token, Telemetry: tel, Pages: pages, Log: log})
 	if err != nil {

@@ -2,36 +2,28 @@ package main
 
 import (
 	"context"
-	"errors"
+	"encoding/json"
 	"fmt"
 	"time"
 
 	"github.com/rs/zerolog"
 
 	"github.com/dewline/dewline/agent"
-	"github.com/dewline/dewline/ingest"
+	"github.com/dewline/dewline/dashboards"
 	"github.com/dewline/dewline/ingest/embedded"
 	"github.com/dewline/dewline/ingest/influx"
+	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
-	"github.com/dewline/dewline/psychro"
 )
 
-// Measurement names dewline writes to InfluxDB (documented in the README).
-const (
-	measurementHourly = "dewline_hourly"
-	measurementAlert  = "dewline_alert"
-)
+// stores is the configured store, opened.
+type stores struct{ store.Store }
 
-// stores is the configured store, opened: the embedded file or InfluxDB.
-type stores struct {
-	kind string
-	emb  *embedded.Store
-	flux *influx.Client
-}
-
-// openStore opens the configured store. readOnly opens the embedded file
-// without writing (it must exist).
+// openStore opens the configured store: the one place that chooses a
+// backend. readOnly opens the embedded file without writing (it must
+// exist).
 func openStore(ctx context.Context, cfg *agent.Config, readOnly bool, log zerolog.Logger) (*stores, error) {
+	payload := func(t metrics.Transition) (json.RawMessage, error) { return agent.AlertPayload(t, cfg.Prices.Currency) }
 	switch cfg.Store.Kind {
 	case "influxdb":
 		ic := cfg.Store.InfluxDB
@@ -44,92 +36,24 @@ func openStore(ctx context.Context, cfg *agent.Config, readOnly bool, log zerolo
 			return nil, err
 		}
 		log.Debug().Str("store", "influxdb").Str("url", c.Options().String()).Msg("store opened")
-		return &stores{kind: "influxdb", flux: c}, nil
+		// The webhook queue stays in a local file beside the configuration.
+		queue := func(ctx context.Context) (store.EventQueue, error) {
+			return embedded.OpenQueue(ctx, cfg.StatePath(), payload)
+		}
+		return &stores{influx.NewBackend(c, influx.BackendOptions{Site: cfg.Site.ID, Queue: queue})}, nil
 	default:
 		s, err := embedded.Open(ctx, cfg.StorePath(), embedded.Options{ReadOnly: readOnly, DayZone: cfg.Location})
 		if err != nil {
 			return nil, fmt.Errorf("open the embedded store: %w", err)
 		}
 		log.Debug().Str("store", "embedded").Str("path", s.Path()).Msg("store opened")
-		return &stores{kind: "embedded", emb: s}, nil
+		return &stores{embedded.NewBackend(s, payload)}, nil
 	}
 }
 
-func (s *stores) Close() {
-	if s.emb != nil {
-		_ = s.emb.Close()
-	}
-	if s.flux != nil {
-		s.flux.Close()
-	}
-}
+// Close closes the store.
+func (s *stores) Close() { _ = s.Store.Close() }
 
-// reader returns the store as a series reader and the test for "point has no data".
-func (s *stores) reader() (ingest.SeriesReader, func(error) bool) {
-	if s.flux != nil {
-		return s.flux, func(err error) bool { return errors.Is(err, influx.ErrNoSuchPoint) }
-	}
-	return embeddedReader{s.emb}, func(err error) bool { return errors.Is(err, embedded.ErrUnknownSeries) }
-}
-
-// embeddedReader adapts the embedded store, which keeps SI values, to ingest.SeriesReader.
-type embeddedReader struct{ s *embedded.Store }
-
-func (r embeddedReader) ReadSeries(ctx context.Context, ref metrics.PointRef, _ psychro.Kind, from, to time.Time, fn func(ingest.Sample) error) error {
-	return r.s.ReadSeries(ctx, ref, from, to, fn)
-}
-
-// putHourly writes records; re-writing an hour replaces it.
-func (s *stores) putHourly(ctx context.Context, recs []metrics.Record) error {
-	if len(recs) == 0 {
-		return nil
-	}
-	if s.flux != nil {
-		return s.flux.WritePoints(ctx, hourlyPoints(recs))
-	}
-	rows := make([]embedded.HourRow, 0, len(recs))
-	for _, r := range recs {
-		rows = append(rows, hourRow(&r))
-	}
-	return s.emb.PutHourly(ctx, rows)
-}
-
-func hourRow(r *metrics.Record) embedded.HourRow {
-	f := map[string]float64{}
-	for _, x := range r.Fields() {
-		f[x.Name] = x.Value
-	}
-	return embedded.HourRow{AHU: r.AHU, Hour: r.HourStart, Schema: metrics.RecordSchema, Fields: f, Flags: r.Flags}
-}
-
-// putAlerts records alert transitions: in InfluxDB as dewline_alert
-// points, in the embedded store as alerts and webhook events (the same
-// records the agent writes).
-func (s *stores) putAlerts(ctx context.Context, tr []metrics.Transition, currency string) error {
-	if len(tr) == 0 {
-		return nil
-	}
-	if s.flux != nil {
-		return s.flux.WritePoints(ctx, alertPoints(tr))
-	}
-	for _, t := range tr {
-		row, ev, err := alertRecords(t, currency)
-		if err != nil {
-			return err
-		}
-		if err := s.emb.PutAlert(ctx, row); err != nil {
-			return err
-		}
-		if _, err := s.emb.AppendAlertEvent(ctx, ev); err != nil {
-			return err
-		}
-	}
-	return nil
-}
-
-func b2f(b bool) float64 {
-	if b {
-		return 1
-	}
-	return 0
-}
+// results is the store's read side for the dashboard, the report and the
+// comparison.
+func (s *stores) results(now func() time.Time) dashboards.Results { return s.Results(now) }

@@ -99,20 +99,7 @@ func (c *Client) WritePoints(ctx context.Context, points []Point) error {
 			return fmt.Errorf("write point %d (measurement %q at %s): %w", i, p.Measurement, fluxTime(p.Time), err)
 		}
 	}
-	err := c.writeBatches(ctx, len(points), func(i int) *write.Point {
-		p := points[i]
-		wp := write.NewPointWithMeasurement(p.Measurement)
-		for _, k := range sortedKeys(p.Tags) {
-			wp.AddTag(k, p.Tags[k])
-		}
-		for _, k := range sortedKeys(p.Fields) {
-			wp.AddField(k, p.Fields[k])
-		}
-		for _, k := range sortedKeys(p.Strings) {
-			wp.AddField(k, p.Strings[k])
-		}
-		return wp.SetTime(p.Time)
-	})
+	err := c.writeBatches(ctx, len(points), func(i int) *write.Point { return clientPoint(points[i]) })
 	if err != nil {
 		return fmt.Errorf("write %d points: %w", len(points), err)
 	}

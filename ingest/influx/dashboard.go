@@ -1,4 +1,4 @@
-package main
+package influx
 
 import (
 	"context"
@@ -10,67 +10,24 @@ import (
 	"time"
 
 	"github.com/dewline/dewline/dashboards"
-	"github.com/dewline/dewline/ingest/embedded"
-	"github.com/dewline/dewline/ingest/influx"
 	"github.com/dewline/dewline/metrics"
 )
 
-// results returns the configured store as the dashboard's read side.
-func (s *stores) results(now func() time.Time) dashboards.Results {
-	if s.flux != nil {
-		return &influxResults{c: s.flux, now: now}
-	}
-	return embeddedResults{s.emb}
-}
-
-// embeddedResults reads results from the embedded store.
-type embeddedResults struct{ st *embedded.Store }
-
-func (e embeddedResults) Hours(ctx context.Context, ahu string, from, to time.Time, fn func(*metrics.Record) error) error {
-	return e.st.ReadRecords(ctx, ahu, from, to, fn)
-}
-
-func (e embeddedResults) Days(ctx context.Context, from, to time.Time, fn func(dashboards.DaySums) error) (bool, error) {
-	return e.st.ReadDays(ctx, from, to, func(d embedded.DayRow) error {
-		return fn(dashboards.DaySums{AHU: d.AHU, Day: d.Day, Hours: d.Hours, Flagged: d.Flagged, Sums: d.Sums})
-	})
-}
-
-func (e embeddedResults) Span(ctx context.Context) (time.Time, time.Time, bool, error) {
-	return e.st.HourSpan(ctx)
-}
-
-func (e embeddedResults) Alerts(ctx context.Context, q dashboards.AlertQuery) ([]dashboards.Alert, error) {
-	rows, err := e.st.ListAlerts(ctx, embedded.AlertFilter{AHU: q.AHU, State: q.State})
-	if err != nil {
-		return nil, err
-	}
-	var out []dashboards.Alert
-	for _, r := range rows {
-		a := dashboards.Alert{ID: r.ID, AHU: r.AHU, Kind: r.Kind, Severity: r.Severity, State: r.State,
-			Start: r.Start, End: r.End, EnergyKWh: r.EnergyKWh, Money: r.Cost, Reason: r.Reason}
-		if (q.Kind == "" || a.Kind == q.Kind) && a.Overlaps(q.From, q.To) {
-			out = append(out, a)
-		}
-	}
-	return out, nil
-}
-
-// influxResults reads results back from InfluxDB: the hourly measurement
+// results reads results back from InfluxDB: the hourly measurement
 // pivoted into records, and the alerts rebuilt from their transitions.
-type influxResults struct {
-	c   *influx.Client
+type results struct {
+	c   *Client
 	now func() time.Time
 }
 
-func (ir *influxResults) Hours(ctx context.Context, ahu string, from, to time.Time, fn func(*metrics.Record) error) error {
-	q := influx.WideQuery{Measurement: measurementHourly, From: from, To: to}
+func (ir *results) Hours(ctx context.Context, ahu string, from, to time.Time, fn func(*metrics.Record) error) error {
+	q := WideQuery{Measurement: MeasurementHourly, From: from, To: to}
 	if ahu != "" {
 		q.Match = map[string]string{"ahu": ahu}
 	}
 	var rec metrics.Record
 	ptrs := rec.FieldPtrs()
-	return ir.c.ReadWide(ctx, q, func(row influx.Row) error {
+	return ir.c.ReadWide(ctx, q, func(row Row) error {
 		t, err := row.Time()
 		if err != nil {
 			return err
@@ -87,7 +44,7 @@ func (ir *influxResults) Hours(ctx context.Context, ahu string, from, to time.Ti
 			if text := row.Get(col); text != "" {
 				v, err := strconv.ParseFloat(text, 64)
 				if err != nil {
-					return fmt.Errorf("read %s: %s %s field %s: %q is not a number", measurementHourly, rec.AHU, t.Format(time.RFC3339), col, text)
+					return fmt.Errorf("read %s: %s %s field %s: %q is not a number", MeasurementHourly, rec.AHU, t.Format(time.RFC3339), col, text)
 				}
 				*p = v
 			}
@@ -104,13 +61,13 @@ func (ir *influxResults) Hours(ctx context.Context, ahu string, from, to time.Ti
 	})
 }
 
-func (ir *influxResults) Span(ctx context.Context) (time.Time, time.Time, bool, error) {
-	return ir.c.Span(ctx, measurementHourly, "coverage", ir.now())
+func (ir *results) Span(ctx context.Context) (time.Time, time.Time, bool, error) {
+	return ir.c.Span(ctx, MeasurementHourly, "coverage", ir.now())
 }
 
 // Alerts rebuilds each alert from its latest transition point; the
 // points' string fields carry its start and end.
-func (ir *influxResults) Alerts(ctx context.Context, q dashboards.AlertQuery) ([]dashboards.Alert, error) {
+func (ir *results) Alerts(ctx context.Context, q dashboards.AlertQuery) ([]dashboards.Alert, error) {
 	match := map[string]string{}
 	if q.AHU != "" {
 		match["ahu"] = q.AHU
@@ -128,7 +85,7 @@ func (ir *influxResults) Alerts(ctx context.Context, q dashboards.AlertQuery) ([
 	byID := map[string]dashboards.Alert{}
 	var order []string
 	latest := map[string]time.Time{}
-	err := ir.c.ReadWide(ctx, influx.WideQuery{Measurement: measurementAlert, Match: match, From: time.Unix(1, 0), To: to}, func(row influx.Row) error {
+	err := ir.c.ReadWide(ctx, WideQuery{Measurement: MeasurementAlert, Match: match, From: time.Unix(1, 0), To: to}, func(row Row) error {
 		t, err := row.Time()
 		if err != nil {
 			return err

@@ -1,0 +1,6 @@
+package agent
+
+import "time"
+
+// Clock returns the current time; tests inject their own.
+type Clock func() time.Time

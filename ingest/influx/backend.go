@@ -1,0 +1,108 @@
+package influx
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"time"
+
+	"github.com/dewline/dewline/dashboards"
+	"github.com/dewline/dewline/ingest"
+	"github.com/dewline/dewline/ingest/store"
+	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
+)
+
+// Backend is InfluxDB as a store.Store: trend points, results, alert rule
+// states and checkpoints live in the bucket; the agent's webhook queue in
+// a local file (BackendOptions.Queue).
+type Backend struct {
+	c   *Client
+	opt BackendOptions
+}
+
+// BackendOptions are what the backend needs besides the client.
+type BackendOptions struct {
+	// Site tags the agent's state points (checkpoints, alert rule states).
+	Site string
+	// Queue opens the local queue of alerts and webhook events the agent
+	// keeps beside InfluxDB; required for Agent.
+	Queue func(ctx context.Context) (store.EventQueue, error)
+}
+
+var (
+	_ store.Store        = (*Backend)(nil)
+	_ store.PointChecker = (*Backend)(nil)
+)
+
+// NewBackend serves c as a store.Store. Closing the backend closes c.
+func NewBackend(c *Client, opt BackendOptions) *Backend { return &Backend{c: c, opt: opt} }
+
+// Client is the backend's client.
+func (b *Backend) Client() *Client { return b.c }
+
+// ReadSeries reads a point in SI.
+func (b *Backend) ReadSeries(ctx context.Context, ref metrics.PointRef, kind psychro.Kind, from, to time.Time, fn func(ingest.Sample) error) error {
+	return b.c.ReadSeries(ctx, ref, kind, from, to, fn)
+}
+
+// IsMissing reports a point that matches nothing in the bucket.
+func (b *Backend) IsMissing(err error) bool { return errors.Is(err, ErrNoSuchPoint) }
+
+// WriteSamples writes samples where ReadSeries finds them (Client.WriteSamples).
+func (b *Backend) WriteSamples(ctx context.Context, _ string, t ingest.PointTarget, samples []ingest.Sample) error {
+	return b.c.WriteSamples(ctx, t.Ref, t.Kind, samples)
+}
+
+// PutHourly writes records as dewline_hourly points; re-writing an hour replaces it.
+func (b *Backend) PutHourly(ctx context.Context, recs []metrics.Record) error {
+	if len(recs) == 0 {
+		return nil
+	}
+	return b.c.WritePoints(ctx, HourlyPoints(recs))
+}
+
+// PutTransitions writes alert transitions as dewline_alert points.
+func (b *Backend) PutTransitions(ctx context.Context, tr []metrics.Transition) error {
+	if len(tr) == 0 {
+		return nil
+	}
+	return b.c.WritePoints(ctx, AlertPoints(tr))
+}
+
+// Results reads results back: dewline_hourly pivoted into records, and the
+// alerts rebuilt from their transitions.
+func (b *Backend) Results(now func() time.Time) dashboards.Results { return &results{c: b.c, now: now} }
+
+// Agent returns the agent's results in InfluxDB with its local queue.
+func (b *Backend) Agent(ctx context.Context) (store.AgentStore, error) {
+	if b.opt.Queue == nil {
+		return nil, fmt.Errorf("the InfluxDB store has no local queue for the agent")
+	}
+	q, err := b.opt.Queue(ctx)
+	if err != nil {
+		return nil, fmt.Errorf("open the agent's state file: %w", err)
+	}
+	return &agentStore{c: b.c, site: b.opt.Site, queue: q}, nil
+}
+
+// Ping asks the server.
+func (b *Backend) Ping(ctx context.Context) error { return b.c.Ping(ctx) }
+
+// CheckPoint tells a point that matches nothing (ErrNoSuchPoint) from a
+// quiet one.
+func (b *Backend) CheckPoint(ctx context.Context, ref metrics.PointRef, from, to time.Time) error {
+	_, err := b.c.CheckPoint(ctx, ref, from, to)
+	return err
+}
+
+// Describe names the bucket and measurement, without secrets.
+func (b *Backend) Describe() string {
+	return "InfluxDB bucket " + b.c.Options().Bucket + ", measurement " + MeasurementHourly
+}
+
+// Close closes the client.
+func (b *Backend) Close() error {
+	b.c.Close()
+	return nil
+}

@@ -1,0 +1,229 @@
+package influx
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"strings"
+	"time"
+
+	"github.com/influxdata/influxdb-client-go/v2/api/write"
+
+	"github.com/dewline/dewline/ingest/store"
+	"github.com/dewline/dewline/metrics"
+)
+
+// Measurement names dewline writes to InfluxDB (documented in the README).
+const (
+	MeasurementHourly = "dewline_hourly"
+	MeasurementAlert  = "dewline_alert"
+)
+
+// State measurements in InfluxDB (points at StateTime, replaced on
+// every commit): checkpoints (string field "hour", RFC 3339) and alert
+// rule states (string field "state", JSON; empty when inactive), tagged
+// site and ahu (and kind).
+const (
+	MeasurementCheckpoint = "dewline_checkpoint"
+	MeasurementAlertState = "dewline_alert_state"
+)
+
+// agentStore is the agent's store.AgentStore on InfluxDB.
+//
+// Results, alert rule states and checkpoints live in InfluxDB, so any
+// replica can take over an air handler (a reshard) and continue where the
+// last one stopped; they are written in one batch with the checkpoint
+// last. The webhook queue stays in a local file (the state file beside the
+// configuration): delivering an event does not depend on who owns its air
+// handler.
+type agentStore struct {
+	c     *Client
+	site  string
+	queue store.EventQueue
+}
+
+var _ store.AgentStore = (*agentStore)(nil)
+
+// siteTag is the site tag of state points; a site without an id is "default".
+func (rs *agentStore) siteTag() string {
+	if rs.site == "" {
+		return "default"
+	}
+	return rs.site
+}
+
+func (rs *agentStore) Checkpoint(ctx context.Context, ahu string) (time.Time, bool, error) {
+	var cp time.Time
+	var ok bool
+	err := rs.c.ReadState(ctx, MeasurementCheckpoint, map[string]string{"site": rs.siteTag(), "ahu": ahu}, "", func(_, field, v string) error {
+		if field != "hour" {
+			return nil
+		}
+		t, err := time.Parse(time.RFC3339, v)
+		if err != nil {
+			return fmt.Errorf("checkpoint of %s: %q is not a time", ahu, v)
+		}
+		cp, ok = t.UTC(), true
+		return nil
+	})
+	return cp, ok, err
+}
+
+func (rs *agentStore) AlertStates(ctx context.Context, ahu string) (map[string]metrics.Alert, error) {
+	raw := map[string]json.RawMessage{}
+	err := rs.c.ReadState(ctx, MeasurementAlertState, map[string]string{"site": rs.siteTag(), "ahu": ahu}, "kind", func(kind, field, v string) error {
+		if field == "state" && v != "" {
+			raw[kind] = json.RawMessage(v)
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	return store.DecodeStates(ahu, raw)
+}
+
+// Commit writes the hours and alerts; the results are written to InfluxDB
+// first, confirmed, and only then are the alerts and their events queued
+// in the local file.
+func (rs *agentStore) Commit(ctx context.Context, ahu string, recs []metrics.Record, up store.AlertUpdate, through time.Time) error {
+	states, err := store.EncodeStates(up.States)
+	if err != nil {
+		return err
+	}
+	pts := HourlyPoints(recs)
+	pts = append(pts, AlertPoints(up.Transitions)...)
+	// Every rule's state is written, empty when inactive, so a closed
+	// alert's old state is replaced; the checkpoint comes last.
+	for _, rule := range metrics.Rules() {
+		pts = append(pts, Point{Measurement: MeasurementAlertState,
+			Tags:    map[string]string{"site": rs.siteTag(), "ahu": ahu, "kind": rule.Kind},
+			Strings: map[string]string{"state": string(states[rule.Kind])}, Time: StateTime})
+	}
+	pts = append(pts, Point{Measurement: MeasurementCheckpoint, Tags: map[string]string{"site": rs.siteTag(), "ahu": ahu},
+		Strings: map[string]string{"hour": through.UTC().Format(time.RFC3339)}, Time: StateTime})
+	if err := rs.c.WritePoints(ctx, pts); err != nil {
+		return fmt.Errorf("write results to InfluxDB: %w", err)
+	}
+	// The local file keeps only the webhook queue (and the alerts its
+	// events refer to).
+	return rs.queue.Queue(ctx, ahu, up)
+}
+
+func (rs *agentStore) PendingEvents(ctx context.Context, limit int) ([]store.Event, error) {
+	return rs.queue.PendingEvents(ctx, limit)
+}
+
+func (rs *agentStore) MarkDelivered(ctx context.Context, seq int64, at time.Time) error {
+	return rs.queue.MarkDelivered(ctx, seq, at)
+}
+
+func (rs *agentStore) Close() error { return rs.queue.Close() }
+
+// HourlyPoints are records as dewline_hourly points.
+func HourlyPoints(recs []metrics.Record) []Point {
+	pts := make([]Point, 0, len(recs))
+	for _, r := range recs {
+		f := map[string]float64{}
+		var missing []string
+		for _, x := range r.Fields() {
+			if isBad(x.Value) {
+				missing = append(missing, x.Name)
+			} else {
+				f[x.Name] = x.Value
+			}
+		}
+		// InfluxDB merges the fields of a re-written point with the old
+		// ones, and cannot store NaN: the fields with no value this time are
+		// listed in "missing", and "flags" is always written, so a re-written
+		// hour never keeps a stale value unmarked.
+		p := Point{Measurement: MeasurementHourly, Tags: map[string]string{"ahu": r.AHU}, Fields: f, Time: r.HourStart,
+			Strings: map[string]string{"flags": strings.Join(r.Flags, " "), "missing": strings.Join(missing, " ")}}
+		pts = append(pts, p)
+	}
+	return pts
+}
+
+// AlertPoints are alert transitions as dewline_alert points.
+func AlertPoints(tr []metrics.Transition) []Point {
+	pts := make([]Point, 0, len(tr))
+	for _, t := range tr {
+		a := t.Alert
+		pts = append(pts, Point{Measurement: MeasurementAlert,
+			Tags:    map[string]string{"ahu": a.AHU, "kind": a.Kind, "severity": string(a.Severity), "status": string(t.To)},
+			Fields:  map[string]float64{"energy_kwh": a.EnergyKWh, "money": a.Money, "open": b2f(t.To == metrics.StatusOpen)},
+			Strings: alertStrings(a),
+			Time:    t.At})
+	}
+	return pts
+}
+
+func isBad(v float64) bool { return math.IsNaN(v) || math.IsInf(v, 0) }
+
+func b2f(b bool) float64 {
+	if b {
+		return 1
+	}
+	return 0
+}
+
+// alertStrings are the string fields of an alert transition point: its
+// identity, reason, and start and end (RFC 3339, end empty while ongoing),
+// so that the dashboard can rebuild the alert from its last transition.
+func alertStrings(a metrics.Alert) map[string]string {
+	end := ""
+	if !a.End.IsZero() {
+		end = a.End.UTC().Format(time.RFC3339)
+	}
+	return map[string]string{"id": a.ID, "reason": a.Reason, "start": a.Start.UTC().Format(time.RFC3339), "end": end}
+}
+
+// LineProtocol is p as the client writes it: InfluxDB line protocol, with
+// the protocol's escaping, tags and fields in name order.
+func LineProtocol(p Point) string {
+	return strings.TrimSuffix(write.PointToLineProtocol(clientPoint(p), time.Nanosecond), "\n")
+}
+
+// clientPoint is p as the client's point type.
+func clientPoint(p Point) *write.Point {
+	wp := write.NewPointWithMeasurement(p.Measurement)
+	for _, k := range sortedKeys(p.Tags) {
+		wp.AddTag(k, p.Tags[k])
+	}
+	for _, k := range sortedKeys(p.Fields) {
+		wp.AddField(k, p.Fields[k])
+	}
+	for _, k := range sortedKeys(p.Strings) {
+		wp.AddField(k, p.Strings[k])
+	}
+	return wp.SetTime(p.Time)
+}
+
+// DryRun wraps the agent's results: it reads checkpoints and alert states
+// from them, prints what a commit would write to InfluxDB as line
+// protocol, and writes nothing.
+type DryRun struct {
+	Inner store.ResultStore
+	W     io.Writer
+}
+
+var _ store.ResultStore = (*DryRun)(nil)
+
+func (d *DryRun) Checkpoint(ctx context.Context, ahu string) (time.Time, bool, error) {
+	return d.Inner.Checkpoint(ctx, ahu)
+}
+
+func (d *DryRun) AlertStates(ctx context.Context, ahu string) (map[string]metrics.Alert, error) {
+	return d.Inner.AlertStates(ctx, ahu)
+}
+
+// Commit prints the hourly and alert points and where the checkpoint would move.
+func (d *DryRun) Commit(_ context.Context, ahu string, recs []metrics.Record, up store.AlertUpdate, through time.Time) error {
+	for _, p := range append(HourlyPoints(recs), AlertPoints(up.Transitions)...) {
+		fmt.Fprintln(d.W, LineProtocol(p))
+	}
+	fmt.Fprintf(d.W, "# %s: checkpoint would move to %s (dry run: nothing written)\n", ahu, through.UTC().Format(time.RFC3339))
+	return nil
+}

@@ -1,0 +1,172 @@
+package store
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"time"
+
+	"github.com/dewline/dewline/dashboards"
+	"github.com/dewline/dewline/ingest"
+	"github.com/dewline/dewline/metrics"
+)
+
+// Store is an opened store, the embedded file or InfluxDB, as every command
+// uses it. Each part is one of the small interfaces below; a consumer takes
+// the part it needs, never the backend's own type.
+type Store interface {
+	SeriesReader
+	SampleWriter
+	ResultWriter
+	// Results is the dashboard's, the report's and the comparison's read
+	// side; now is the clock for reads that need "today".
+	Results(now func() time.Time) dashboards.Results
+	// Agent returns what the agent keeps in this store: results, alert
+	// states, checkpoints and the webhook's event queue. Close it after use.
+	Agent(ctx context.Context) (AgentStore, error)
+	// Ping reports whether the store answers.
+	Ping(ctx context.Context) error
+	// Describe names where results are kept, for the report, without secrets.
+	Describe() string
+	Close() error
+}
+
+// SeriesReader reads trend points (samples in SI, in time order).
+type SeriesReader interface {
+	ingest.SeriesReader
+	// IsMissing reports whether an error of ReadSeries means "this point
+	// has no data in the store" rather than a failure of the store.
+	IsMissing(err error) bool
+}
+
+// SampleWriter writes the samples (SI) of one configured trend series,
+// named as in the exports ("dewline import"). Re-writing a sample replaces it.
+type SampleWriter interface {
+	WriteSamples(ctx context.Context, series string, t ingest.PointTarget, samples []ingest.Sample) error
+}
+
+// ResultWriter writes the results of an analysis ("dewline analyze"):
+// re-writing an hour replaces it; alert transitions are kept as the agent
+// keeps them (and queued for the webhook where the store holds the queue).
+type ResultWriter interface {
+	PutHourly(ctx context.Context, recs []metrics.Record) error
+	PutTransitions(ctx context.Context, tr []metrics.Transition) error
+}
+
+// ImportLogger is what a store may also offer: a log of the files imported.
+type ImportLogger interface {
+	RecordImport(ctx context.Context, l ImportLog) error
+}
+
+// ImportLog is one imported file.
+type ImportLog struct {
+	File, SHA256                 string
+	RowsRead, Accepted, Rejected int
+	Started, Finished            time.Time
+}
+
+// ResultStore is where the agent keeps its results and its place: hourly
+// records, alert states and events, and the checkpoint (the start of the
+// last hour whose results are written) of every air handler.
+type ResultStore interface {
+	// Checkpoint returns the start of the last hour written for ahu.
+	Checkpoint(ctx context.Context, ahu string) (hour time.Time, ok bool, err error)
+	// Commit writes ahu's records, the alert states and the transitions
+	// (as events to deliver) and then moves the checkpoint to through. The
+	// checkpoint never moves unless the records are written; re-writing an
+	// hour replaces it.
+	Commit(ctx context.Context, ahu string, recs []metrics.Record, alerts AlertUpdate, through time.Time) error
+	// AlertStates returns ahu's pending and open alerts, to continue from.
+	AlertStates(ctx context.Context, ahu string) (map[string]metrics.Alert, error)
+}
+
+// AlertUpdate is what a run changed in an air handler's alerts.
+type AlertUpdate struct {
+	States      map[string]metrics.Alert // pending and open alerts after the run, by kind
+	Transitions []metrics.Transition     // opened and closed in the run, in order
+}
+
+// Event is an alert transition waiting to be delivered to the webhook.
+type Event struct {
+	Seq     int64 // the store's sequence number, increasing
+	AlertID string
+	// Transition is "open" or "closed".
+	Transition string
+	At         time.Time
+	Payload    json.RawMessage // the JSON body to deliver
+}
+
+// EventStore keeps alert events until they are delivered, so a restart
+// delivers what was pending and nothing twice.
+type EventStore interface {
+	PendingEvents(ctx context.Context, limit int) ([]Event, error)
+	MarkDelivered(ctx context.Context, seq int64, at time.Time) error
+}
+
+// AgentStore is everything the agent keeps.
+type AgentStore interface {
+	ResultStore
+	EventStore
+	Close() error
+}
+
+// EventQueue keeps alerts and their events apart from the results: a
+// store that keeps results elsewhere (InfluxDB) queues a run's
+// transitions here, after the results are written.
+type EventQueue interface {
+	EventStore
+	// Queue records ahu's alerts as of up and queues its transitions.
+	Queue(ctx context.Context, ahu string, up AlertUpdate) error
+	Close() error
+}
+
+// PayloadFunc builds the webhook body of an alert transition; the store
+// keeps it with the queued event.
+type PayloadFunc func(t metrics.Transition) (json.RawMessage, error)
+
+// Transition names as events carry them.
+const (
+	TransitionOpen   = "open"
+	TransitionClosed = "closed"
+)
+
+// TransitionName is the event name of a transition to s.
+func TransitionName(s metrics.Status) string {
+	if s == metrics.StatusOpen {
+		return TransitionOpen
+	}
+	return TransitionClosed
+}
+
+// DecodeStates reads alert rule states as a store keeps them (JSON by kind).
+func DecodeStates(ahu string, raw map[string]json.RawMessage) (map[string]metrics.Alert, error) {
+	out := make(map[string]metrics.Alert, len(raw))
+	for kind, b := range raw {
+		var a metrics.Alert
+		if err := json.Unmarshal(b, &a); err != nil {
+			return nil, fmt.Errorf("read alert state %s of %s: %w", kind, ahu, err)
+		}
+		out[kind] = a
+	}
+	return out, nil
+}
+
+// EncodeStates is DecodeStates' inverse.
+func EncodeStates(states map[string]metrics.Alert) (map[string]json.RawMessage, error) {
+	out := make(map[string]json.RawMessage, len(states))
+	for kind, a := range states {
+		b, err := json.Marshal(a)
+		if err != nil {
+			return nil, err
+		}
+		out[kind] = b
+	}
+	return out, nil
+}
+
+// PointChecker is what a store may also offer: a look-up of a configured
+// point that tells one matching nothing (IsMissing) from a quiet one, for
+// stores that cannot tell them apart when read.
+type PointChecker interface {
+	CheckPoint(ctx context.Context, ref metrics.PointRef, from, to time.Time) error
+}
