@@ -13,6 +13,7 @@ import (
 
 	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/dashboards"
+	"github.com/dewline/dewline/dashboards/pdf"
 )
 
 // reportDays is the default length of a report: the last 30 days with results.
@@ -26,7 +27,7 @@ func runReport(ctx context.Context, e *env, args []string) error {
 	var out string
 	fs.StringVar(&out, "o", "report.html", "the HTML file to write")
 	fs.StringVar(&out, "out", "report.html", "same as -o")
-	pdf := fs.Bool("pdf", false, "also print the report to PDF with headless Chromium (next to the HTML, or --pdf-out)")
+	wantPDF := fs.Bool("pdf", false, "also print the report to PDF with headless Chromium (next to the HTML, or --pdf-out)")
 	pdfOut := fs.String("pdf-out", "", "the PDF file to write (implies --pdf; default: the HTML file's name with .pdf)")
 	units := fs.String("units", "", "display units, si or ip (default: site.units of the configuration)")
 	paper := fs.String("paper", "", "paper size, a4 or letter (default: letter for ip, a4 for si)")
@@ -50,7 +51,7 @@ func runReport(ctx context.Context, e *env, args []string) error {
 		return usagef("-o: give the HTML file to write, e.g. -o report.html")
 	}
 	if *pdfOut != "" {
-		*pdf = true
+		*wantPDF = true
 	}
 	cfg, err := loadConfig(*cfgPath)
 	if err != nil {
@@ -130,7 +131,7 @@ func runReport(ctx context.Context, e *env, args []string) error {
 	log.Info().Str("path", out).Int64("bytes", n).Int("hours", total.Hours).
 		Float64("cost_avoidable", float64(total.CostAvoidable)).Msg("report written")
 	fmt.Fprintln(e.stdout, out)
-	if !*pdf {
+	if !*wantPDF {
 		return nil
 	}
 	dst := *pdfOut
@@ -141,10 +142,14 @@ func runReport(ctx context.Context, e *env, args []string) error {
 	if site.Name != "" {
 		title = site.Name + " · " + title
 	}
-	pages, err := printPDF(ctx, out, dst, title, log)
+	buf, err := pdf.Print(ctx, out, title, log)
 	if err != nil {
 		return err
 	}
+	if _, err := writeFileAtomic(dst, func(w *bufio.Writer) error { _, err := w.Write(buf); return err }); err != nil {
+		return err
+	}
+	pages := pdf.Pages(buf)
 	log.Info().Str("path", dst).Int("pages", pages).Msg("report printed to PDF")
 	fmt.Fprintln(e.stdout, dst)
 	return nil

@@ -12,6 +12,8 @@ import (
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/dashboards/pdf"
 )
 
 // reportStore fills the embedded store of analyzeConfig's scenario (one DX
@@ -114,7 +116,7 @@ const reportPages = 1 + 1 + 2 + 1 + 1 + 1
 // TestReport_PDF prints the report with headless Chromium. Outside CI a
 // missing browser skips it; under CI=true it fails.
 func TestReport_PDF(t *testing.T) {
-	t.Setenv(envChromium, chromiumPath(t))
+	t.Setenv(pdf.EnvChromium, chromiumPath(t))
 	dir, cfg, _ := reportStore(t)
 	out := filepath.Join(dir, "report.html")
 	code, stdout, errOut := runCLI(t, "report", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-15", "-o", out, "--pdf", "--paper", "letter")
@@ -158,7 +160,7 @@ func TestReport_PDF(t *testing.T) {
 // and the error says how to get one.
 func TestReport_PDFWithoutChromium(t *testing.T) {
 	dir, cfg, _ := reportStore(t)
-	t.Setenv(envChromium, filepath.Join(dir, "no-such-chromium"))
+	t.Setenv(pdf.EnvChromium, filepath.Join(dir, "no-such-chromium"))
 	out := filepath.Join(dir, "report.html")
 	code, stdout, errOut := runCLI(t, "--log-level", "warn", "report", "--config", cfg, "-o", out, "--pdf")
 	assert.Equal(t, 1, code)

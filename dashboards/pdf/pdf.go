@@ -1,7 +1,6 @@
-package main
+package pdf
 
 import (
-	"bufio"
 	"bytes"
 	"context"
 	"errors"
@@ -19,11 +18,11 @@ import (
 	"github.com/rs/zerolog"
 )
 
-// envChromium names the browser to print with, overriding the search.
-const envChromium = "DEWLINE_CHROMIUM"
+// EnvChromium names the browser to print with, overriding the search.
+const EnvChromium = "DEWLINE_CHROMIUM"
 
-// errNoChromium is the start of the error when no browser can be found.
-var errNoChromium = errors.New("--pdf needs Chromium: install the Debian package chromium (apt-get install chromium) or set " + envChromium)
+// ErrNoChromium is the start of the error when no browser can be found.
+var ErrNoChromium = errors.New("--pdf needs Chromium: install the Debian package chromium (apt-get install chromium) or set " + EnvChromium)
 
 // pdfTimeout bounds one print: starting the browser, loading the file and
 // printing it.
@@ -33,13 +32,13 @@ const pdfTimeout = 2 * time.Minute
 // set (and then nothing else), else /usr/bin/chromium, else chromium or
 // Google Chrome on the PATH.
 func findChromium() (string, error) {
-	if p := os.Getenv(envChromium); p != "" {
+	if p := os.Getenv(EnvChromium); p != "" {
 		st, err := os.Stat(p)
 		if err != nil {
-			return "", fmt.Errorf("%s=%s: %w", envChromium, p, err)
+			return "", fmt.Errorf("%s=%s: %w", EnvChromium, p, err)
 		}
 		if st.IsDir() || st.Mode()&0o111 == 0 {
-			return "", fmt.Errorf("%s=%s is not an executable file", envChromium, p)
+			return "", fmt.Errorf("%s=%s is not an executable file", EnvChromium, p)
 		}
 		return p, nil
 	}
@@ -54,24 +53,24 @@ func findChromium() (string, error) {
 	return "", fmt.Errorf("no chromium, chromium-browser or google-chrome on the PATH")
 }
 
-// printPDF prints the HTML file htmlPath to pdfPath with headless Chromium
-// and returns the number of pages. The browser gets a fresh profile in a
+// Print prints the HTML file htmlPath with headless Chromium and returns
+// the PDF. The browser gets a fresh profile in a
 // temporary folder, no background networking, no component updates, no
 // sync and no QUIC; it loads the file from disk, and the report refers to
 // nothing outside itself. The page size and margins are the report's own
 // (@page); the footer carries the title and page numbers.
-func printPDF(ctx context.Context, htmlPath, pdfPath, title string, log zerolog.Logger) (int, error) {
+func Print(ctx context.Context, htmlPath, title string, log zerolog.Logger) ([]byte, error) {
 	bin, err := findChromium()
 	if err != nil {
-		return 0, fmt.Errorf("%w (%v); the HTML report was written to %s", errNoChromium, err, htmlPath)
+		return nil, fmt.Errorf("%w (%v); the HTML report was written to %s", ErrNoChromium, err, htmlPath)
 	}
 	abs, err := filepath.Abs(htmlPath)
 	if err != nil {
-		return 0, err
+		return nil, err
 	}
 	profile, err := os.MkdirTemp("", "dewline-chromium-")
 	if err != nil {
-		return 0, fmt.Errorf("print the report: a profile folder for Chromium: %w", err)
+		return nil, fmt.Errorf("print the report: a profile folder for Chromium: %w", err)
 	}
 	defer os.RemoveAll(profile)
 
@@ -110,7 +109,7 @@ func printPDF(ctx context.Context, htmlPath, pdfPath, title string, log zerolog.
 	start := time.Now()
 	fileURL := (&url.URL{Scheme: "file", Path: filepath.ToSlash(abs)}).String()
 	if err := chromedp.Do(bctx, chromedp.Navigate(fileURL)); err != nil {
-		return 0, chromiumError(bin, err, browserOut.String(), htmlPath)
+		return nil, chromiumError(bin, err, browserOut.String(), htmlPath)
 	}
 	footer := `<div style="font-family: system-ui, sans-serif; font-size: 7.5pt; color: #5b6b76; width: 100%; margin: 0 14mm; display: flex; justify-content: space-between;">` +
 		`<span>` + html.EscapeString(title) + `</span><span>page <span class="pageNumber"></span> of <span class="totalPages"></span></span></div>`
@@ -123,20 +122,16 @@ func printPDF(ctx context.Context, htmlPath, pdfPath, title string, log zerolog.
 		chromedp.PDFStream(),
 	))
 	if err != nil {
-		return 0, chromiumError(bin, err, browserOut.String(), htmlPath)
+		return nil, chromiumError(bin, err, browserOut.String(), htmlPath)
 	}
 	if err := chromedp.Cancel(bctx); err != nil {
 		log.Debug().Err(err).Msg("closing Chromium")
 	}
 	if !bytes.HasPrefix(buf, []byte("%PDF")) {
-		return 0, fmt.Errorf("print the report: Chromium returned %d bytes that are not a PDF; the HTML report was written to %s", len(buf), htmlPath)
+		return nil, fmt.Errorf("print the report: Chromium returned %d bytes that are not a PDF; the HTML report was written to %s", len(buf), htmlPath)
 	}
-	if _, err := writeFileAtomic(pdfPath, func(w *bufio.Writer) error { _, err := w.Write(buf); return err }); err != nil {
-		return 0, err
-	}
-	pages := pdfPages(buf)
 	log.Debug().Dur("took", time.Since(start)).Int("bytes", len(buf)).Msg("chromium printed the report")
-	return pages, nil
+	return buf, nil
 }
 
 func chromiumError(bin string, err error, output, htmlPath string) error {
@@ -159,9 +154,9 @@ func lastLines(s string, n int) string {
 // pageObject matches a page object of a PDF (not the /Pages tree nodes).
 var pageObject = regexp.MustCompile(`/Type\s*/Page\b`)
 
-// pdfPages counts the page objects of a PDF written without object streams
+// Pages counts the page objects of a PDF written without object streams
 // (as Chromium writes them).
-func pdfPages(pdf []byte) int { return len(pageObject.FindAll(pdf, -1)) }
+func Pages(pdf []byte) int { return len(pageObject.FindAll(pdf, -1)) }
 
 // browserLog keeps what the browser writes (from chromedp's goroutine) for
 // the error message.
