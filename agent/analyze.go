@@ -11,6 +11,7 @@ import (
 	"sync/atomic"
 	"time"
 
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/psychro"
 )
@@ -94,7 +95,7 @@ func (s *Summary) add(r *metrics.Record) {
 
 // Analyzer computes hourly records and alerts for a period.
 type Analyzer struct {
-	Cfg    *Config
+	Cfg    *config.Config
 	Source HourSource
 	// Progress, when set, is called after each hour with the hours done and
 	// the hours in all (air handlers x hours of the period).

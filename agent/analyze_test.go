@@ -10,6 +10,7 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/metrics"
 )
 
@@ -47,7 +48,7 @@ func (s *hourSource) Hours(ctx context.Context, ahus []string, from, to time.Tim
 var _ HourSource = (*hourSource)(nil)
 
 func TestAnalyzer_OrderAndAlerts(t *testing.T) {
-	cfg, err := LoadConfig("../testdata/config/minimal.good.yaml")
+	cfg, err := config.Load("../testdata/config/minimal.good.yaml")
 	require.NoError(t, err)
 	cfg.AirHandlers[0].Reheat.Kind = "electric"
 	cfg.AirHandlers = append(cfg.AirHandlers, cfg.AirHandlers[0])
@@ -87,7 +88,7 @@ func TestAnalyzer_OrderAndAlerts(t *testing.T) {
 }
 
 func TestAnalyzer_PutErrorStops(t *testing.T) {
-	cfg, err := LoadConfig("../testdata/config/minimal.good.yaml")
+	cfg, err := config.Load("../testdata/config/minimal.good.yaml")
 	require.NoError(t, err)
 	src := &hourSource{hours: 5000}
 	an := &Analyzer{Cfg: cfg, Source: src}
@@ -107,7 +108,7 @@ func TestAnalyzer_PutErrorStops(t *testing.T) {
 }
 
 func TestAnalyzer_Cancel(t *testing.T) {
-	cfg, err := LoadConfig("../testdata/config/minimal.good.yaml")
+	cfg, err := config.Load("../testdata/config/minimal.good.yaml")
 	require.NoError(t, err)
 	ctx, cancel := context.WithCancel(context.Background())
 	from := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)

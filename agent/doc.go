@@ -1,12 +1,19 @@
-// Package agent holds dewline's configuration and, as it grows, the run
-// loop: schedule, checkpoints, backfill, write-back and notification.
+// Package agent is dewline's run loop: the Analyzer computes hours from an
+// HourSource; the Runner takes every owned air handler from its checkpoint
+// to the last complete hour (slots, backfill, lookback) and commits records,
+// alert states, events and the checkpoint to a store.ResultStore; Serve
+// runs it on the configured cron schedule, skipping a tick while a run is
+// in flight; Shard splits a portfolio between replicas.
 //
-// Configuration is one YAML file. Parse decodes it strictly (unknown keys are
-// errors), fills in documented defaults and validates it, returning every
-// problem at once with its line and a fix (ConfigError). Secrets never live
-// in the file: the InfluxDB token comes from an environment variable or a
-// file named in it, and never reaches logs.
+//	cron tick --> Runner.RunOnce(slot = last complete UTC hour)
+//	  per air handler: Checkpoint --> HourSource --> metrics.Compute
+//	                   --> metrics.Evaluate --> Commit (atomic, checkpoint last)
 //
-// agent imports metrics and psychro only; the concrete stores in ingest are
-// plugged in by cmd/dewline through interfaces declared here.
+// The pieces around it have their own packages: agent/config (the
+// configuration), agent/server (the HTTP endpoint), agent/telemetry
+// (Prometheus metrics and readiness) and agent/webhook (alert delivery).
+//
+// agent imports metrics, psychro, agent/config and the store interfaces in
+// ingest/store, never a store implementation: cmd/dewline plugs the
+// concrete stores in.
 package agent

@@ -10,6 +10,7 @@ import (
 
 	"github.com/rs/zerolog"
 
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
 )
@@ -55,7 +56,7 @@ func (nopObserver) SetStoreUp(bool, string)           {}
 //	    store.Commit(records, alert states, events, checkpoint)   <- atomic
 //	  a failure or panic stops that air handler, not the others
 type Runner struct {
-	Cfg    *Config
+	Cfg    *config.Config
 	Source HourSource
 	Store  store.ResultStore
 	Obs    Observer

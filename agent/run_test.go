@@ -12,6 +12,7 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
 )
@@ -111,9 +112,9 @@ func (s *spanSource) Hours(ctx context.Context, ahus []string, from, to time.Tim
 	return nil
 }
 
-func runnerConfig(t *testing.T) *Config {
+func runnerConfig(t *testing.T) *config.Config {
 	t.Helper()
-	cfg, err := LoadConfig("../testdata/config/minimal.good.yaml")
+	cfg, err := config.Load("../testdata/config/minimal.good.yaml")
 	require.NoError(t, err)
 	cfg.AirHandlers[0].Reheat.Kind = "electric"
 	b := cfg.AirHandlers[0]

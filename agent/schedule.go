@@ -13,6 +13,8 @@ import (
 
 	"github.com/robfig/cron/v3"
 	"github.com/rs/zerolog"
+
+	"github.com/dewline/dewline/agent/config"
 )
 
 // Serve runs the runner on the configured cron schedule (in the site's time
@@ -127,7 +129,7 @@ func (sh Shard) Owns(site, ahu string) bool {
 }
 
 // Owned returns the configuration's air handlers this shard takes, sorted.
-func (sh Shard) Owned(cfg *Config) []string {
+func (sh Shard) Owned(cfg *config.Config) []string {
 	var out []string
 	for _, a := range cfg.AirHandlers {
 		if sh.Owns(cfg.Site.ID, a.ID) {

@@ -22,7 +22,7 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
-	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 )
 
 // The tests run from deploy/; the module root is its parent.
@@ -178,7 +178,7 @@ func flagNames(flags map[string]runFlag) string {
 
 // secretEnvs returns the environment variables a configuration takes its
 // secrets from, keyed by name, with the configuration key that names each.
-func secretEnvs(cfg *agent.Config) map[string]string {
+func secretEnvs(cfg *config.Config) map[string]string {
 	out := map[string]string{}
 	if ic := cfg.Store.InfluxDB; ic != nil && ic.TokenEnv != "" {
 		out[ic.TokenEnv] = "store.influxdb.token_env"
@@ -196,7 +196,7 @@ var envName = regexp.MustCompile(`^[A-Z][A-Z0-9_]*$`)
 
 // checkSecretsFromEnv sets each secret's environment variable and checks
 // that the code reads the secret through the name the configuration gives.
-func checkSecretsFromEnv(t *testing.T, cfg *agent.Config) {
+func checkSecretsFromEnv(t *testing.T, cfg *config.Config) {
 	t.Helper()
 	for name, key := range secretEnvs(cfg) {
 		assert.Regexp(t, envName, name, "%s: environment variable names are upper case", key)
@@ -207,7 +207,7 @@ func checkSecretsFromEnv(t *testing.T, cfg *agent.Config) {
 		if key == "store.influxdb.token_env" {
 			got, err = cfg.Store.InfluxDB.Token()
 		} else {
-			got, err = agent.SecretFromEnv(key, name)
+			got, err = config.SecretFromEnv(key, name)
 		}
 		require.NoError(t, err, key)
 		assert.Equal(t, want, got, "%s reads %s", key, name)
@@ -222,7 +222,7 @@ func allSecretEnvNames(t *testing.T) map[string]string {
 	files, err := filepath.Glob("examples/*.yaml")
 	require.NoError(t, err)
 	for _, f := range files {
-		cfg, err := agent.LoadConfig(f)
+		cfg, err := config.Load(f)
 		require.NoError(t, err)
 		for n, k := range secretEnvs(cfg) {
 			out[n] = f + ": " + k
@@ -245,7 +245,7 @@ func TestDeploy_Examples(t *testing.T) {
 	units := map[string]bool{}
 	for _, f := range files {
 		t.Run(filepath.Base(f), func(t *testing.T) {
-			cfg, err := agent.LoadConfig(f)
+			cfg, err := config.Load(f)
 			require.NoError(t, err)
 			require.NotEmpty(t, cfg.AirHandlers)
 			kinds[cfg.Store.Kind] = true
@@ -254,7 +254,7 @@ func TestDeploy_Examples(t *testing.T) {
 			// The same bytes through ParseConfig, as the ConfigMap is read.
 			b, err := os.ReadFile(f)
 			require.NoError(t, err)
-			_, err = agent.ParseConfig(bytes.NewReader(b), f)
+			_, err = config.Parse(bytes.NewReader(b), f)
 			require.NoError(t, err)
 		})
 	}

@@ -9,7 +9,7 @@
 //
 // The tests parse every file here against the code it configures: each
 // example configuration and the one inside the ConfigMap load with
-// agent.LoadConfig or agent.ParseConfig, with their secrets' environment
+// config.Load or config.Parse, with their secrets' environment
 // variables set; each command line (the unit's ExecStart, the StatefulSet's
 // args) is checked against the flags a freshly built dewline binary lists;
 // probes, ports, shard arguments, secret references, hardening settings and

@@ -25,6 +25,7 @@ import (
 	"go.yaml.in/yaml/v3"
 
 	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 )
 
 const kubeDir = "kubernetes"
@@ -377,12 +378,12 @@ func (k *kube) args(t *testing.T) map[string]string {
 
 // config parses the configuration held by the ConfigMap at the key the
 // container mounts as --config.
-func (k *kube) config(t *testing.T) *agent.Config {
+func (k *kube) config(t *testing.T) *config.Config {
 	t.Helper()
 	key := k.configKey(t)
 	text, ok := k.cm.Data[key]
 	require.True(t, ok, "the ConfigMap has no key %q", key)
-	cfg, err := agent.ParseConfig(strings.NewReader(text), k.files["ConfigMap"]+" data."+key)
+	cfg, err := config.Parse(strings.NewReader(text), k.files["ConfigMap"]+" data."+key)
 	require.NoError(t, err)
 	return cfg
 }
@@ -506,7 +507,7 @@ func TestDeploy_KubernetesConfig(t *testing.T) {
 	_, err = agent.NewServer(agent.ServerOptions{Listen: cfg.HTTP.Listen, Telemetry: tel, Log: zerolog.Nop()})
 	require.ErrorIs(t, err, agent.ErrInsecureListen, "without the token the agent refuses this address")
 	require.NotEmpty(t, cfg.HTTP.TokenEnv, "http.token_env")
-	token, err := agent.SecretFromEnv("http.token_env", cfg.HTTP.TokenEnv)
+	token, err := config.SecretFromEnv("http.token_env", cfg.HTTP.TokenEnv)
 	require.NoError(t, err)
 	_, err = agent.NewServer(agent.ServerOptions{Listen: cfg.HTTP.Listen, BearerToken: token, Telemetry: tel, Log: zerolog.Nop()})
 	require.NoError(t, err, "with the token from the Secret the agent takes http.listen %s", cfg.HTTP.Listen)

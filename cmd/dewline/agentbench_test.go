@@ -16,6 +16,7 @@ import (
 	"github.com/rs/zerolog"
 
 	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/embedded"
 	"github.com/dewline/dewline/ingest/influx"
@@ -275,7 +276,7 @@ func heapPeak() (stop func() uint64) {
 // benchRun is one set-up of the runner; run builds a fresh state file
 // (and presets checkpoints when given) for every iteration.
 type benchRun struct {
-	cfg     *agent.Config
+	cfg     *config.Config
 	ahus    []string
 	preset  time.Time // checkpoint of every air handler before the run; zero for none
 	wantHrs int
@@ -383,8 +384,8 @@ func (br benchRun) run(b *testing.B) {
 		agentShare, float64(peak)/(1<<20))
 }
 
-func agentBenchConfig(b *testing.B, url, db string, n int) *agent.Config {
-	cfg, err := agent.ParseConfig(strings.NewReader(benchConfigYAML(url, db+"/autogen", n)), "bench.yaml")
+func agentBenchConfig(b *testing.B, url, db string, n int) *config.Config {
+	cfg, err := config.Parse(strings.NewReader(benchConfigYAML(url, db+"/autogen", n)), "bench.yaml")
 	if err != nil {
 		b.Fatal(err)
 	}

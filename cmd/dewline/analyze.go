@@ -16,6 +16,7 @@ import (
 	"github.com/rs/zerolog"
 
 	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
 	"github.com/dewline/dewline/metrics"
@@ -217,7 +218,7 @@ func reportInputs(log zerolog.Logger, files *csvfile.Files, rh *ingest.RecordHou
 }
 
 // printSummary prints the per-air-handler table, ranked by avoidable cost.
-func printSummary(w io.Writer, cfg *agent.Config, ahus []string, sums map[string]*agent.Summary) error {
+func printSummary(w io.Writer, cfg *config.Config, ahus []string, sums map[string]*agent.Summary) error {
 	rows := make([]*agent.Summary, 0, len(ahus))
 	for _, id := range ahus {
 		if s, ok := sums[id]; ok {

@@ -14,6 +14,7 @@ import (
 	"time"
 
 	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
 	"github.com/dewline/dewline/metrics"
@@ -103,7 +104,7 @@ const benchMinutes = 365 * 24 * 60
 // 1.5x of parse.
 func BenchmarkAnalyzeYear(b *testing.B) {
 	cfgPath, csvPath := benchFiles(b, benchMinutes)
-	cfg, err := agent.LoadConfig(cfgPath)
+	cfg, err := config.Load(cfgPath)
 	if err != nil {
 		b.Fatal(err)
 	}

@@ -11,7 +11,7 @@ import (
 	"text/tabwriter"
 	"time"
 
-	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
 	"github.com/dewline/dewline/metrics"
@@ -208,7 +208,7 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 	return printChecks(e.stdout, cfg, checks)
 }
 
-func printChecks(w io.Writer, cfg *agent.Config, checks map[string]*pointCheck) error {
+func printChecks(w io.Writer, cfg *config.Config, checks map[string]*pointCheck) error {
 	type row struct {
 		ahu, role string
 		pc        *pointCheck

@@ -1,12 +1,12 @@
 package main
 
 import (
-	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest/csvfile"
 )
 
 // csvOptions turns the configuration into export reading options.
-func csvOptions(cfg *agent.Config) csvfile.Options {
+func csvOptions(cfg *config.Config) csvfile.Options {
 	e := cfg.Exports
 	o := csvfile.Options{Location: cfg.Location, TimeColumn: e.TimeColumn, Year: e.Year}
 	switch e.Layout {

@@ -15,7 +15,7 @@ import (
 
 	"github.com/rs/zerolog"
 
-	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
 	"github.com/dewline/dewline/ingest/store"
@@ -64,7 +64,7 @@ func runImport(ctx context.Context, e *env, args []string) error {
 	if len(files) == 0 {
 		return usagef("name at least one trend export to import")
 	}
-	cfg, err := agent.LoadConfig(*cfgPath)
+	cfg, err := config.Load(*cfgPath)
 	if err != nil {
 		return err
 	}
@@ -108,7 +108,7 @@ func contains(list []string, s string) bool {
 // importFile reads one export and writes its configured points to the
 // store, in batches per series. What was written before an error stays
 // written (re-importing the file later upserts, never duplicates).
-func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, st *stores, ix ingest.PointIndex, path string) (importStats, error) {
+func importFile(ctx context.Context, log zerolog.Logger, cfg *config.Config, st *stores, ix ingest.PointIndex, path string) (importStats, error) {
 	s := importStats{file: path, unmatched: map[string]int{}}
 	started := time.Now()
 	sum, err := fileSHA256(path)

@@ -16,7 +16,7 @@ import (
 	"github.com/mattn/go-isatty"
 	"github.com/rs/zerolog"
 
-	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 )
 
 // command is one subcommand of dewline.
@@ -110,11 +110,11 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 }
 
 // loadConfig loads the file named by --config, which is required.
-func loadConfig(path string) (*agent.Config, error) {
+func loadConfig(path string) (*config.Config, error) {
 	if path == "" {
 		return nil, usagef("--config is required")
 	}
-	return agent.LoadConfig(path)
+	return config.Load(path)
 }
 
 // parseFlags parses a command's flags. Mistakes come back as a one-line

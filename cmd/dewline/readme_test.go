@@ -9,7 +9,7 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
-	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 )
 
 // The README is the front door: its configuration examples must load and
@@ -24,7 +24,7 @@ func TestReadme_ExamplesHold(t *testing.T) {
 	for i, b := range blocks {
 		path := filepath.Join(t.TempDir(), "readme.yaml")
 		require.NoError(t, os.WriteFile(path, []byte(b[1]), 0o644))
-		_, err := agent.LoadConfig(path)
+		_, err := config.Load(path)
 		assert.NoError(t, err, "README yaml block %d", i+1)
 	}
 

@@ -11,7 +11,7 @@ import (
 	"strings"
 	"time"
 
-	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/dashboards"
 	"github.com/dewline/dewline/dashboards/pdf"
 )
@@ -175,7 +175,7 @@ func localMidnight(t time.Time) time.Time {
 }
 
 // trendedRoles lists each air handler's configured roles.
-func trendedRoles(cfg *agent.Config) map[string][]string {
+func trendedRoles(cfg *config.Config) map[string][]string {
 	m := make(map[string][]string, len(cfg.AirHandlers))
 	for _, a := range cfg.AirHandlers {
 		roles := make([]string, 0, len(a.Points))
@@ -189,7 +189,7 @@ func trendedRoles(cfg *agent.Config) map[string][]string {
 }
 
 // reportNotes states how the configuration set what the report's figures rest on.
-func reportNotes(cfg *agent.Config) []dashboards.Assumption {
+func reportNotes(cfg *config.Config) []dashboards.Assumption {
 	var notes []dashboards.Assumption
 	switch {
 	case cfg.Site.Pressure != "":

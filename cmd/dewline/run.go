@@ -12,6 +12,7 @@ import (
 	"github.com/rs/zerolog"
 
 	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/influx"
 	"github.com/dewline/dewline/ingest/store"
@@ -49,7 +50,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	}
 	// An air handler whose configuration is broken is left out and
 	// reported; the others run.
-	cfg, broken, err := agent.LoadConfigPartial(*cfgPath)
+	cfg, broken, err := config.LoadPartial(*cfgPath)
 	if err != nil {
 		return err
 	}
@@ -147,7 +148,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	}
 
 	// The long-running agent: HTTP endpoint, webhook, schedule.
-	token, err := agent.SecretFromEnv("http.token_env", cfg.HTTP.TokenEnv)
+	token, err := config.SecretFromEnv("http.token_env", cfg.HTTP.TokenEnv)
 	if err != nil {
 		return err
 	}
@@ -172,7 +173,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	}
 	var sender *agent.WebhookSender
 	if w := cfg.Webhook; w != nil {
-		secret, err := agent.SecretFromEnv("webhook.secret_env", w.SecretEnv)
+		secret, err := config.SecretFromEnv("webhook.secret_env", w.SecretEnv)
 		if err != nil {
 			return err
 		}
@@ -266,7 +267,7 @@ func isDigits(s string) bool {
 // show as hours without data. A missing point is logged and shown as its
 // air handler's problem; a store that does not answer is left to the runs
 // to report.
-func checkPoints(ctx context.Context, pc store.PointChecker, missing func(error) bool, cfg *agent.Config, owned []string, tel *agent.Telemetry, log zerolog.Logger) {
+func checkPoints(ctx context.Context, pc store.PointChecker, missing func(error) bool, cfg *config.Config, owned []string, tel *agent.Telemetry, log zerolog.Logger) {
 	ctx, cancel := context.WithTimeout(ctx, time.Minute)
 	defer cancel()
 	to := time.Now()

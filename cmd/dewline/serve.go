@@ -7,11 +7,12 @@ import (
 	"time"
 
 	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/dashboards"
 )
 
 // siteFor is the dashboard's view of the configuration.
-func siteFor(cfg *agent.Config) *dashboards.Site {
+func siteFor(cfg *config.Config) *dashboards.Site {
 	s := &dashboards.Site{Name: cfg.Site.Name, Zone: cfg.Location, IP: cfg.Site.Units == "ip",
 		Currency: cfg.Prices.Currency, PressurePa: cfg.PressurePa}
 	for i := range cfg.AirHandlers {
@@ -26,7 +27,7 @@ func siteFor(cfg *agent.Config) *dashboards.Site {
 }
 
 // dashboardFor builds the dashboard over the configured store.
-func dashboardFor(cfg *agent.Config, st *stores, e *env) (*dashboards.Handler, error) {
+func dashboardFor(cfg *config.Config, st *stores, e *env) (*dashboards.Handler, error) {
 	return dashboards.New(dashboards.Options{Site: siteFor(cfg), Results: st.results(time.Now),
 		Log: e.log.With().Str("component", "dashboard").Logger()})
 }
@@ -61,12 +62,12 @@ func runServe(ctx context.Context, e *env, args []string) error {
 
 // serveDashboard serves the dashboard with the agent's HTTP server (health,
 // readiness, metrics, security headers, token) until ctx ends.
-func serveDashboard(ctx context.Context, e *env, cfg *agent.Config, st *stores, addr string) error {
+func serveDashboard(ctx context.Context, e *env, cfg *config.Config, st *stores, addr string) error {
 	pages, err := dashboardFor(cfg, st, e)
 	if err != nil {
 		return err
 	}
-	token, err := agent.SecretFromEnv("http.token_env", cfg.HTTP.TokenEnv)
+	token, err := config.SecretFromEnv("http.token_env", cfg.HTTP.TokenEnv)
 	if err != nil {
 		return err
 	}

@@ -9,6 +9,7 @@ import (
 	"github.com/rs/zerolog"
 
 	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/dashboards"
 	"github.com/dewline/dewline/ingest/embedded"
 	"github.com/dewline/dewline/ingest/influx"
@@ -22,7 +23,7 @@ type stores struct{ store.Store }
 // openStore opens the configured store: the one place that chooses a
 // backend. readOnly opens the embedded file without writing (it must
 // exist).
-func openStore(ctx context.Context, cfg *agent.Config, readOnly bool, log zerolog.Logger) (*stores, error) {
+func openStore(ctx context.Context, cfg *config.Config, readOnly bool, log zerolog.Logger) (*stores, error) {
 	payload := func(t metrics.Transition) (json.RawMessage, error) { return agent.AlertPayload(t, cfg.Prices.Currency) }
 	switch cfg.Store.Kind {
 	case "influxdb":

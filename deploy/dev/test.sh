@@ -36,7 +36,7 @@ FUZZ_TIME=${DEWLINE_FUZZ_TIME:-10s}
 # Each runs as: go test -run='^$' -fuzz='^FuzzName$' -fuzztime=$FUZZ_TIME PACKAGE
 FUZZ_TARGETS=(
 	"./psychro FuzzState"
-	"./agent FuzzParseConfig"
+	"./agent/config FuzzParseConfig"
 	"./ingest/csvfile FuzzReader"
 	"./ingest/influx FuzzFluxString"
 )

@@ -16,6 +16,7 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest/demo"
 )
 
@@ -68,7 +69,7 @@ func TestWrite_Options(t *testing.T) {
 	assert.Equal(t, time.Date(2026, 7, 6, 5, 0, 0, 0, time.UTC), sc.From, "local midnight of 6 July, CDT = UTC-5")
 	assert.Equal(t, 14*24*time.Hour, sc.To.Sub(sc.From))
 	assert.True(t, sc.FallBack.IsZero(), "no fall-back in July")
-	_, err = agent.LoadConfig(sc.ConfigPath)
+	_, err = config.Load(sc.ConfigPath)
 	assert.NoError(t, err)
 }
 
@@ -100,7 +101,7 @@ func TestScenario_Default(t *testing.T) {
 // agent's own loader, and every point it maps is in the exports.
 func TestConfig_LoadsAndEveryPointHasData(t *testing.T) {
 	sc := scenario(t)
-	cfg, err := agent.LoadConfig(sc.ConfigPath)
+	cfg, err := config.Load(sc.ConfigPath)
 	require.NoError(t, err)
 	assert.Equal(t, "ip", cfg.Site.Units)
 	assert.Equal(t, "embedded", cfg.Store.Kind)
@@ -145,7 +146,7 @@ func TestConfig_LoadsAndEveryPointHasData(t *testing.T) {
 // in time order across it.
 func TestExports_DaylightSaving(t *testing.T) {
 	sc := scenario(t)
-	cfg, err := agent.LoadConfig(sc.ConfigPath)
+	cfg, err := config.Load(sc.ConfigPath)
 	require.NoError(t, err)
 
 	// The raw text names the wall hour 01:xx of 1 November twice: once
@@ -199,7 +200,7 @@ func TestExports_DaylightSaving(t *testing.T) {
 // where the Scenario says.
 func TestExports_Artefacts(t *testing.T) {
 	sc := scenario(t)
-	cfg, err := agent.LoadConfig(sc.ConfigPath)
+	cfg, err := config.Load(sc.ConfigPath)
 	require.NoError(t, err)
 	recs, _ := readAll(t, sc, cfg)
 
@@ -233,7 +234,7 @@ func TestExports_Artefacts(t *testing.T) {
 
 	// Gap: no point of the offline unit in the window; its points are back
 	// within a heartbeat on both sides; the other controllers logged on.
-	var unitCfg *agent.AirHandler
+	var unitCfg *config.AirHandler
 	for i := range cfg.AirHandlers {
 		if cfg.AirHandlers[i].ID == sc.Gap.Unit {
 			unitCfg = &cfg.AirHandlers[i]

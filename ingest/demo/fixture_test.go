@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
 	"github.com/dewline/dewline/ingest/demo"
@@ -60,7 +61,7 @@ func scenario(t testing.TB) *demo.Scenario {
 
 // csvOptions reads exports the way "dewline analyze" does for this
 // configuration: the site's zone, and the day-first setting it gives.
-func csvOptions(cfg *agent.Config) csvfile.Options {
+func csvOptions(cfg *config.Config) csvfile.Options {
 	o := csvfile.Options{Location: cfg.Location, TimeColumn: cfg.Exports.TimeColumn}
 	switch cfg.Exports.DayFirst {
 	case "yes":
@@ -73,7 +74,7 @@ func csvOptions(cfg *agent.Config) csvfile.Options {
 
 // readAll returns every record of the default scenario's exports, in
 // time order, and the readers' stats; read once and shared.
-func readAll(t testing.TB, sc *demo.Scenario, cfg *agent.Config) ([]ingest.Record, []csvfile.Stats) {
+func readAll(t testing.TB, sc *demo.Scenario, cfg *config.Config) ([]ingest.Record, []csvfile.Stats) {
 	t.Helper()
 	rdOnce.Do(func() { rdRecs, rdStats, rdErr = readExports(sc, cfg) })
 	if rdErr != nil {
@@ -82,7 +83,7 @@ func readAll(t testing.TB, sc *demo.Scenario, cfg *agent.Config) ([]ingest.Recor
 	return rdRecs, rdStats
 }
 
-func readExports(sc *demo.Scenario, cfg *agent.Config) ([]ingest.Record, []csvfile.Stats, error) {
+func readExports(sc *demo.Scenario, cfg *config.Config) ([]ingest.Record, []csvfile.Stats, error) {
 	files, err := csvfile.OpenFiles(sc.Exports, csvOptions(cfg))
 	if err != nil {
 		return nil, nil, err
@@ -108,7 +109,7 @@ func readExports(sc *demo.Scenario, cfg *agent.Config) ([]ingest.Record, []csvfi
 
 // analysis is the result of the real pipeline over the exports.
 type analysis struct {
-	cfg     *agent.Config
+	cfg     *config.Config
 	records map[string][]metrics.Record // by air handler, in hour order
 	sums    map[string]*agent.Summary
 	opened  []metrics.Alert // alerts at the hour they opened
@@ -128,7 +129,7 @@ func analyse(t testing.TB) *analysis {
 }
 
 func runAnalysis(sc *demo.Scenario) (*analysis, error) {
-	cfg, err := agent.LoadConfig(sc.ConfigPath)
+	cfg, err := config.Load(sc.ConfigPath)
 	if err != nil {
 		return nil, err
 	}

@@ -1,4 +1,4 @@
-package agent
+package config
 
 import (
 	"bytes"
@@ -201,9 +201,9 @@ const (
 // be RH or dew point.
 var requiredRoles = []metrics.Role{metrics.RoleEnteringTemp, metrics.RoleLeavingTemp, metrics.RoleSupplyTemp, metrics.RoleSupplyFlow}
 
-// LoadConfig reads and parses a configuration file. Relative paths in it
+// Load reads and parses a configuration file. Relative paths in it
 // are resolved against the file's folder.
-func LoadConfig(path string) (*Config, error) {
+func Load(path string) (*Config, error) {
 	b, err := os.ReadFile(path)
 	if err != nil {
 		return nil, fmt.Errorf("read config: %w", err)
@@ -216,9 +216,9 @@ func LoadConfig(path string) (*Config, error) {
 	return cfg, nil
 }
 
-// ParseConfig decodes, fills defaults into and validates a configuration.
+// Parse decodes, fills defaults into and validates a configuration.
 // name is used in error messages only.
-func ParseConfig(r io.Reader, name string) (*Config, error) { return parse(r, name) }
+func Parse(r io.Reader, name string) (*Config, error) { return parse(r, name) }
 
 func parse(r io.Reader, name string) (*Config, error) {
 	cfg, ce, _, err := parseAll(r, name)
@@ -231,12 +231,12 @@ func parse(r io.Reader, name string) (*Config, error) {
 	return cfg, nil
 }
 
-// LoadConfigPartial reads a configuration like LoadConfig, but problems
+// LoadPartial reads a configuration like Load, but problems
 // confined to single air handlers do not fail it: those air handlers are
 // left out and returned with their problems (keyed by id, or by position
 // when the id itself is the problem), so an agent keeps running the
 // others. Problems outside the air handlers still fail it.
-func LoadConfigPartial(path string) (*Config, map[string]*ConfigError, error) {
+func LoadPartial(path string) (*Config, map[string]*ConfigError, error) {
 	b, err := os.ReadFile(path)
 	if err != nil {
 		return nil, nil, fmt.Errorf("read config: %w", err)

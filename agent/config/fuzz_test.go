@@ -1,4 +1,4 @@
-package agent
+package config
 
 import (
 	"bytes"
@@ -12,8 +12,8 @@ import (
 // passed validation or returns a *ConfigError; it never panics, and a
 // secret-looking value in the file never appears in the error.
 func FuzzParseConfig(f *testing.F) {
-	seeds, _ := filepath.Glob("../testdata/config/*.yaml")
-	seeds = append(seeds, "../deploy/examples/dewline.yaml")
+	seeds, _ := filepath.Glob("../../testdata/config/*.yaml")
+	seeds = append(seeds, "../../deploy/examples/dewline.yaml")
 	for _, s := range seeds {
 		if b, err := os.ReadFile(s); err == nil {
 			f.Add(b)
@@ -22,7 +22,7 @@ func FuzzParseConfig(f *testing.F) {
 	f.Add([]byte("version: 1\nsite: {timezone: UTC, pressure: 1e309kPa}\n"))
 	f.Add([]byte("air_handlers: [{points: {entering_temp: {column: \"\\u0000\", unit: \"°F\"}}}]"))
 	f.Fuzz(func(t *testing.T, data []byte) {
-		cfg, err := ParseConfig(bytes.NewReader(data), "fuzz.yaml")
+		cfg, err := Parse(bytes.NewReader(data), "fuzz.yaml")
 		if err != nil {
 			var ce *ConfigError
 			if !errors.As(err, &ce) {

@@ -1,4 +1,4 @@
-package agent
+package config
 
 import (
 	"errors"
@@ -12,13 +12,13 @@ import (
 )
 
 func TestLoadConfig_Good(t *testing.T) {
-	files, err := filepath.Glob("../testdata/config/*.good.yaml")
+	files, err := filepath.Glob("../../testdata/config/*.good.yaml")
 	require.NoError(t, err)
-	files = append(files, "../deploy/examples/dewline.yaml") // the shipped example must stay valid
+	files = append(files, "../../deploy/examples/dewline.yaml") // the shipped example must stay valid
 	require.GreaterOrEqual(t, len(files), 3)
 	for _, f := range files {
 		t.Run(filepath.Base(f), func(t *testing.T) {
-			cfg, err := LoadConfig(f)
+			cfg, err := Load(f)
 			require.NoError(t, err)
 			require.NotNil(t, cfg.Location)
 			assert.Greater(t, cfg.PressurePa, 50000.0)
@@ -66,7 +66,7 @@ func TestLoadConfig_Bad(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.file, func(t *testing.T) {
-			_, err := LoadConfig(filepath.Join("../testdata/config", tt.file))
+			_, err := Load(filepath.Join("../../testdata/config", tt.file))
 			require.Error(t, err)
 			var ce *ConfigError
 			require.True(t, errors.As(err, &ce))
@@ -82,13 +82,13 @@ func TestLoadConfig_Bad(t *testing.T) {
 }
 
 func TestParseConfig_Syntax(t *testing.T) {
-	_, err := ParseConfig(strings.NewReader("version: 1\nsite: [unclosed\n"), "broken.yaml")
+	_, err := Parse(strings.NewReader("version: 1\nsite: [unclosed\n"), "broken.yaml")
 	require.Error(t, err)
 	assert.Contains(t, err.Error(), "broken.yaml:")
 	assert.Contains(t, err.Error(), "fix the YAML syntax")
-	_, err = ParseConfig(strings.NewReader(""), "empty.yaml")
+	_, err = Parse(strings.NewReader(""), "empty.yaml")
 	assert.ErrorContains(t, err, "the file is empty")
-	_, err = ParseConfig(strings.NewReader("version: 1\ngrid: {step: soon}\n"), "d.yaml")
+	_, err = Parse(strings.NewReader("version: 1\ngrid: {step: soon}\n"), "d.yaml")
 	assert.ErrorContains(t, err, `"soon" is not a valid duration`)
 }
 
@@ -117,7 +117,7 @@ func TestAirHandler_FanHeatRiseK(t *testing.T) {
 // TestLoadConfigPartial: a problem confined to one air handler leaves that
 // unit out and keeps the others; a site-wide problem still fails.
 func TestLoadConfigPartial(t *testing.T) {
-	cfg, broken, err := LoadConfigPartial("../testdata/config/one-broken.partial.yaml")
+	cfg, broken, err := LoadPartial("../../testdata/config/one-broken.partial.yaml")
 	require.NoError(t, err)
 	require.Len(t, cfg.AirHandlers, 1)
 	assert.Equal(t, "GOOD-1", cfg.AirHandlers[0].ID)
@@ -126,13 +126,13 @@ func TestLoadConfigPartial(t *testing.T) {
 	assert.Contains(t, msg, `"degrees kelvin-ish" is not a unit of temperature`)
 	assert.Contains(t, msg, "required role leaving_temp is not mapped")
 	// The strict loader refuses the same file.
-	_, err = LoadConfig("../testdata/config/one-broken.partial.yaml")
+	_, err = Load("../../testdata/config/one-broken.partial.yaml")
 	assert.Error(t, err)
 	// A site-wide problem is not confined to a unit.
-	_, _, err = LoadConfigPartial("../testdata/config/many.bad.yaml")
+	_, _, err = LoadPartial("../../testdata/config/many.bad.yaml")
 	assert.ErrorContains(t, err, "unknown time zone")
 	// A good file has nothing broken.
-	_, broken, err = LoadConfigPartial("../testdata/config/minimal.good.yaml")
+	_, broken, err = LoadPartial("../../testdata/config/minimal.good.yaml")
 	require.NoError(t, err)
 	assert.Empty(t, broken)
 }

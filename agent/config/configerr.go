@@ -1,4 +1,4 @@
-package agent
+package config
 
 import (
 	"errors"
@@ -120,7 +120,7 @@ func friendlyType(t string) string {
 	case "time.Duration":
 		return "duration"
 	}
-	if strings.HasPrefix(t, "map[") || strings.HasPrefix(t, "agent.") || strings.HasPrefix(t, "metrics.") {
+	if strings.HasPrefix(t, "map[") || strings.HasPrefix(t, "config.") || strings.HasPrefix(t, "metrics.") {
 		return "mapping (key: value lines)"
 	}
 	if strings.HasPrefix(t, "[]") {
@@ -131,14 +131,14 @@ func friendlyType(t string) string {
 
 // configTypes maps the type names the YAML decoder reports to their Go types.
 var configTypes = map[string]reflect.Type{
-	"agent.Config": reflect.TypeOf(Config{}), "agent.Site": reflect.TypeOf(Site{}),
-	"agent.Store": reflect.TypeOf(Store{}), "agent.InfluxConfig": reflect.TypeOf(InfluxConfig{}),
-	"agent.Grid": reflect.TypeOf(Grid{}), "agent.Prices": reflect.TypeOf(Prices{}),
-	"agent.AirHandler": reflect.TypeOf(AirHandler{}), "agent.Cooling": reflect.TypeOf(Cooling{}),
-	"agent.Reheat": reflect.TypeOf(Reheat{}), "agent.Airflow": reflect.TypeOf(Airflow{}),
-	"agent.Fan": reflect.TypeOf(Fan{}), "agent.Target": reflect.TypeOf(Target{}),
-	"agent.Sensors": reflect.TypeOf(Sensors{}), "agent.Alerts": reflect.TypeOf(Alerts{}),
-	"agent.Exports": reflect.TypeOf(Exports{}), "agent.Schedule": reflect.TypeOf(Schedule{}), "agent.HTTP": reflect.TypeOf(HTTP{}), "agent.Webhook": reflect.TypeOf(Webhook{}),
+	"config.Config": reflect.TypeOf(Config{}), "config.Site": reflect.TypeOf(Site{}),
+	"config.Store": reflect.TypeOf(Store{}), "config.InfluxConfig": reflect.TypeOf(InfluxConfig{}),
+	"config.Grid": reflect.TypeOf(Grid{}), "config.Prices": reflect.TypeOf(Prices{}),
+	"config.AirHandler": reflect.TypeOf(AirHandler{}), "config.Cooling": reflect.TypeOf(Cooling{}),
+	"config.Reheat": reflect.TypeOf(Reheat{}), "config.Airflow": reflect.TypeOf(Airflow{}),
+	"config.Fan": reflect.TypeOf(Fan{}), "config.Target": reflect.TypeOf(Target{}),
+	"config.Sensors": reflect.TypeOf(Sensors{}), "config.Alerts": reflect.TypeOf(Alerts{}),
+	"config.Exports": reflect.TypeOf(Exports{}), "config.Schedule": reflect.TypeOf(Schedule{}), "config.HTTP": reflect.TypeOf(HTTP{}), "config.Webhook": reflect.TypeOf(Webhook{}),
 	"metrics.PointRef": reflect.TypeOf(metrics.PointRef{}),
 }
 

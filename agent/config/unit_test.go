@@ -1,4 +1,4 @@
-package agent
+package config
 
 import (
 	"testing"
@@ -10,7 +10,7 @@ import (
 )
 
 func TestConfig_Unit(t *testing.T) {
-	cfg, err := LoadConfig("../deploy/examples/dewline.yaml")
+	cfg, err := Load("../../deploy/examples/dewline.yaml")
 	require.NoError(t, err)
 	a1, ok := cfg.AirHandler("AHU-1")
 	require.True(t, ok)
@@ -42,7 +42,7 @@ func TestConfig_Unit(t *testing.T) {
 }
 
 func TestConfig_SensorsAndAlerts(t *testing.T) {
-	cfg, err := LoadConfig("../testdata/config/minimal.good.yaml")
+	cfg, err := Load("../../testdata/config/minimal.good.yaml")
 	require.NoError(t, err)
 	cfg.Sensors = Sensors{Temperature: "0.5F", RH: "2%", Airflow: "10%"}
 	a := cfg.Accuracy()

@@ -1,4 +1,4 @@
-package agent
+package config
 
 import (
 	"time"
@@ -8,7 +8,7 @@ import (
 )
 
 // Unit returns the engine's description of air handler a. The
-// configuration must have passed validation (ParseConfig does that).
+// configuration must have passed validation (Parse does that).
 func (c *Config) Unit(a *AirHandler) *metrics.Unit {
 	q := func(s string, k psychro.Kind) float64 {
 		v, _, _ := psychro.ParseQuantity(s, k, "")
