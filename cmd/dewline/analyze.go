@@ -114,7 +114,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	var storeSrc *ingest.StoreHours
 	var recSrc *ingest.RecordHours
 	if len(inputs) > 0 {
-		files, err = csvfile.OpenFiles(inputs, csvOptions(cfg))
+		files, err = csvfile.OpenFiles(inputs, cfg.CSVOptions())
 		if err != nil {
 			return err
 		}

@@ -134,7 +134,7 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 		checks[name] = newPointCheck(name, ts)
 	}
 	if len(inputs) > 0 {
-		files, err := csvfile.OpenFiles(inputs, csvOptions(cfg))
+		files, err := csvfile.OpenFiles(inputs, cfg.CSVOptions())
 		if err != nil {
 			return err
 		}

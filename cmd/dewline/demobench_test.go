@@ -33,7 +33,7 @@ func BenchmarkDemo(b *testing.B) {
 	}
 	b.Run("read-exports", func(b *testing.B) {
 		for b.Loop() {
-			files, err := csvfile.OpenFiles(sc.Exports, csvOptions(cfg))
+			files, err := csvfile.OpenFiles(sc.Exports, cfg.CSVOptions())
 			if err != nil {
 				b.Fatal(err)
 			}

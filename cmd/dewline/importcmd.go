@@ -125,7 +125,7 @@ func importFile(ctx context.Context, log zerolog.Logger, cfg *config.Config, st 
 		size = fi.Size()
 	}
 	cr := &countingReader{r: f}
-	r, err := csvfile.NewReader(cr, path, csvOptions(cfg))
+	r, err := csvfile.NewReader(cr, path, cfg.CSVOptions())
 	if err != nil {
 		return s, err
 	}

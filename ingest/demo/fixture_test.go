@@ -59,19 +59,6 @@ func scenario(t testing.TB) *demo.Scenario {
 	return scVal
 }
 
-// csvOptions reads exports the way "dewline analyze" does for this
-// configuration: the site's zone, and the day-first setting it gives.
-func csvOptions(cfg *config.Config) csvfile.Options {
-	o := csvfile.Options{Location: cfg.Location, TimeColumn: cfg.Exports.TimeColumn}
-	switch cfg.Exports.DayFirst {
-	case "yes":
-		o.DayFirst = csvfile.Yes
-	case "no":
-		o.DayFirst = csvfile.No
-	}
-	return o
-}
-
 // readAll returns every record of the default scenario's exports, in
 // time order, and the readers' stats; read once and shared.
 func readAll(t testing.TB, sc *demo.Scenario, cfg *config.Config) ([]ingest.Record, []csvfile.Stats) {
@@ -84,7 +71,7 @@ func readAll(t testing.TB, sc *demo.Scenario, cfg *config.Config) ([]ingest.Reco
 }
 
 func readExports(sc *demo.Scenario, cfg *config.Config) ([]ingest.Record, []csvfile.Stats, error) {
-	files, err := csvfile.OpenFiles(sc.Exports, csvOptions(cfg))
+	files, err := csvfile.OpenFiles(sc.Exports, cfg.CSVOptions())
 	if err != nil {
 		return nil, nil, err
 	}
@@ -133,7 +120,7 @@ func runAnalysis(sc *demo.Scenario) (*analysis, error) {
 	if err != nil {
 		return nil, err
 	}
-	files, err := csvfile.OpenFiles(sc.Exports, csvOptions(cfg))
+	files, err := csvfile.OpenFiles(sc.Exports, cfg.CSVOptions())
 	if err != nil {
 		return nil, err
 	}

@@ -1,14 +1,11 @@
-package main
+package config
 
-import (
-	"github.com/dewline/dewline/agent/config"
-	"github.com/dewline/dewline/ingest/csvfile"
-)
+import "github.com/dewline/dewline/ingest/csvfile"
 
-// csvOptions turns the configuration into export reading options.
-func csvOptions(cfg *config.Config) csvfile.Options {
-	e := cfg.Exports
-	o := csvfile.Options{Location: cfg.Location, TimeColumn: e.TimeColumn, Year: e.Year}
+// CSVOptions are the export reading options the configuration gives.
+func (c *Config) CSVOptions() csvfile.Options {
+	e := c.Exports
+	o := csvfile.Options{Location: c.Location, TimeColumn: e.TimeColumn, Year: e.Year}
 	switch e.Layout {
 	case "wide":
 		o.Layout = csvfile.LayoutWide
