@@ -15,6 +15,8 @@ import (
 	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
+
+	"github.com/dewline/dewline/agent/telemetry"
 )
 
 // memResults is a fake result store.
@@ -235,3 +237,5 @@ func TestSlot(t *testing.T) {
 	assert.Equal(t, time.Date(2026, 11, 1, 6, 0, 0, 0, time.UTC), Slot(second))
 	assert.Equal(t, first.Format("15:04"), second.Format("15:04"))
 }
+
+var _ Observer = (*telemetry.Telemetry)(nil) // the run loop reports through Observer

@@ -1,4 +1,4 @@
-package agent
+package server
 
 import (
 	"context"
@@ -15,6 +15,8 @@ import (
 	"time"
 
 	"github.com/rs/zerolog"
+
+	"github.com/dewline/dewline/agent/telemetry"
 )
 
 // ErrInsecureListen is returned by NewServer for an address other than
@@ -31,7 +33,7 @@ type ServerOptions struct {
 	// required for an address other than loopback. It is a secret: it never reaches logs or errors.
 	BearerToken string
 	// Telemetry backs /readyz and /metrics; required.
-	Telemetry *Telemetry
+	Telemetry *telemetry.Telemetry
 	// Pages is the dashboard, mounted at / when not nil.
 	Pages http.Handler
 	Log   zerolog.Logger
@@ -199,7 +201,7 @@ func (s *Server) readyz(w http.ResponseWriter, req *http.Request) {
 		return
 	}
 	w.Header().Set("Content-Type", "application/json")
-	if r.Status == ReadinessUnready {
+	if r.Status == telemetry.ReadinessUnready {
 		w.WriteHeader(http.StatusServiceUnavailable)
 	}
 	_, _ = w.Write(append(body, '\n'))

@@ -1,7 +1,6 @@
-package agent
+package server
 
 import (
-	"bytes"
 	"context"
 	"encoding/base64"
 	"encoding/json"
@@ -10,32 +9,19 @@ import (
 	"net"
 	"net/http"
 	"strings"
-	"sync"
 	"testing"
 	"time"
 
 	"github.com/rs/zerolog"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/agent/telemetry"
+
+	"github.com/dewline/dewline/agent/telemetry/telemetrytest"
+
+	"github.com/dewline/dewline/deploy/testkit"
 )
-
-// syncBuffer is a log sink safe for the server's goroutines.
-type syncBuffer struct {
-	mu sync.Mutex
-	b  bytes.Buffer
-}
-
-func (s *syncBuffer) Write(p []byte) (int, error) {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	return s.b.Write(p)
-}
-
-func (s *syncBuffer) String() string {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	return s.b.String()
-}
 
 // startServer starts a server on a free loopback port and stops it when the
 // test ends.
@@ -72,7 +58,7 @@ func get(t *testing.T, method, url, auth string) (*http.Response, string) {
 }
 
 func TestServer_Routes(t *testing.T) {
-	tel := NewTelemetry()
+	tel := telemetry.NewTelemetry()
 	pages := http.HandlerFunc(func(w http.ResponseWriter, _ *http.Request) { _, _ = io.WriteString(w, "dashboard") })
 	_, base := startServer(t, ServerOptions{Telemetry: tel, Pages: pages, Log: zerolog.Nop()})
 
@@ -84,9 +70,9 @@ func TestServer_Routes(t *testing.T) {
 	resp, body = get(t, http.MethodGet, base+"/readyz", "")
 	assert.Equal(t, http.StatusServiceUnavailable, resp.StatusCode)
 	assert.Equal(t, "application/json", resp.Header.Get("Content-Type"))
-	var r Readiness
+	var r telemetry.Readiness
 	require.NoError(t, json.Unmarshal([]byte(body), &r))
-	assert.Equal(t, ReadinessUnready, r.Status)
+	assert.Equal(t, telemetry.ReadinessUnready, r.Status)
 
 	// Ready, with one air handler skipped: 200 and the air handler listed.
 	tel.SetStoreUp(true, "")
@@ -105,21 +91,21 @@ func TestServer_Routes(t *testing.T) {
 	assert.Contains(t, body, "store down: connection refused")
 
 	// Counters move on /metrics.
-	before := parseExposition(t, func() string { _, b := get(t, http.MethodGet, base+"/metrics", ""); return b }())
-	runs0, _ := sample(before, "dewline_runs_total")
+	before := telemetrytest.ParseExposition(t, func() string { _, b := get(t, http.MethodGet, base+"/metrics", ""); return b }())
+	runs0, _ := telemetrytest.Sample(before, "dewline_runs_total")
 	tel.RunStarted()
 	tel.RunFinished(time.Second, nil)
 	tel.HoursComputed("ahu-1", 4)
 	resp, body = get(t, http.MethodGet, base+"/metrics", "")
 	require.Equal(t, http.StatusOK, resp.StatusCode)
-	after := parseExposition(t, body)
-	runs1, ok := sample(after, "dewline_runs_total")
+	after := telemetrytest.ParseExposition(t, body)
+	runs1, ok := telemetrytest.Sample(after, "dewline_runs_total")
 	require.True(t, ok)
 	assert.Equal(t, runs0+1, runs1)
-	hours, ok := sample(after, "dewline_hours_computed_total", "ahu", "ahu-1")
+	hours, ok := telemetrytest.Sample(after, "dewline_hours_computed_total", "ahu", "ahu-1")
 	require.True(t, ok)
 	assert.Equal(t, 4.0, hours)
-	up, _ := sample(after, "dewline_store_up")
+	up, _ := telemetrytest.Sample(after, "dewline_store_up")
 	assert.Equal(t, 0.0, up)
 
 	resp, body = get(t, http.MethodGet, base+"/", "")
@@ -131,14 +117,14 @@ func TestServer_Routes(t *testing.T) {
 }
 
 func TestServer_NoPages(t *testing.T) {
-	_, base := startServer(t, ServerOptions{Telemetry: NewTelemetry(), Log: zerolog.Nop()})
+	_, base := startServer(t, ServerOptions{Telemetry: telemetry.NewTelemetry(), Log: zerolog.Nop()})
 	resp, _ := get(t, http.MethodGet, base+"/", "")
 	assert.Equal(t, http.StatusNotFound, resp.StatusCode)
 }
 
 func TestServer_Auth(t *testing.T) {
 	const token = "s3cret-token-for-tests"
-	tel := NewTelemetry()
+	tel := telemetry.NewTelemetry()
 	tel.SetStoreUp(true, "")
 	pages := http.HandlerFunc(func(w http.ResponseWriter, _ *http.Request) { _, _ = io.WriteString(w, "dashboard") })
 	_, base := startServer(t, ServerOptions{Telemetry: tel, BearerToken: token, Pages: pages, Log: zerolog.Nop()})
@@ -206,7 +192,7 @@ func TestServer_Listen(t *testing.T) {
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
 			// Only built, never started: tests listen on loopback only.
-			_, err := NewServer(ServerOptions{Listen: tt.listen, BearerToken: tt.token, Telemetry: NewTelemetry(), Log: zerolog.Nop()})
+			_, err := NewServer(ServerOptions{Listen: tt.listen, BearerToken: tt.token, Telemetry: telemetry.NewTelemetry(), Log: zerolog.Nop()})
 			if tt.ok {
 				assert.NoError(t, err)
 				return
@@ -220,7 +206,7 @@ func TestServer_Listen(t *testing.T) {
 	bad := []struct{ name, listen string }{{"no port", "127.0.0.1"}, {"empty", ""}}
 	for _, tt := range bad {
 		t.Run(tt.name, func(t *testing.T) {
-			_, err := NewServer(ServerOptions{Listen: tt.listen, Telemetry: NewTelemetry(), Log: zerolog.Nop()})
+			_, err := NewServer(ServerOptions{Listen: tt.listen, Telemetry: telemetry.NewTelemetry(), Log: zerolog.Nop()})
 			require.Error(t, err)
 			assert.Contains(t, err.Error(), "http.listen")
 		})
@@ -236,7 +222,7 @@ func TestServer_StartBindError(t *testing.T) {
 	taken, err := net.Listen("tcp", "127.0.0.1:0")
 	require.NoError(t, err)
 	defer taken.Close()
-	s, err := NewServer(ServerOptions{Listen: taken.Addr().String(), Telemetry: NewTelemetry(), Log: zerolog.Nop()})
+	s, err := NewServer(ServerOptions{Listen: taken.Addr().String(), Telemetry: telemetry.NewTelemetry(), Log: zerolog.Nop()})
 	require.NoError(t, err)
 	err = s.Start()
 	require.Error(t, err)
@@ -253,7 +239,7 @@ func TestServer_SecurityHeaders(t *testing.T) {
 		}
 		_, _ = io.WriteString(w, "page")
 	})
-	_, base := startServer(t, ServerOptions{Telemetry: NewTelemetry(), BearerToken: token, Pages: pages, Log: zerolog.Nop()})
+	_, base := startServer(t, ServerOptions{Telemetry: telemetry.NewTelemetry(), BearerToken: token, Pages: pages, Log: zerolog.Nop()})
 
 	tests := []struct {
 		name  string
@@ -290,9 +276,9 @@ func TestServer_SecurityHeaders(t *testing.T) {
 
 func TestServer_TokenNeverLogged(t *testing.T) {
 	const token = "tok-7f3a9c-never-log-me"
-	var logs syncBuffer
+	var logs testkit.SyncBuffer
 	lg := zerolog.New(&logs).Level(zerolog.DebugLevel)
-	_, base := startServer(t, ServerOptions{Telemetry: NewTelemetry(), BearerToken: token, Log: lg})
+	_, base := startServer(t, ServerOptions{Telemetry: telemetry.NewTelemetry(), BearerToken: token, Log: lg})
 
 	get(t, http.MethodGet, base+"/metrics", "Bearer "+token)
 	get(t, http.MethodGet, base+"/metrics", "Bearer "+token+"-wrong")
@@ -309,7 +295,7 @@ func TestServer_TokenNeverLogged(t *testing.T) {
 }
 
 func TestServer_Shutdown(t *testing.T) {
-	s, err := NewServer(ServerOptions{Listen: "127.0.0.1:0", Telemetry: NewTelemetry(), Log: zerolog.Nop()})
+	s, err := NewServer(ServerOptions{Listen: "127.0.0.1:0", Telemetry: telemetry.NewTelemetry(), Log: zerolog.Nop()})
 	require.NoError(t, err)
 	require.NoError(t, s.Start())
 	assert.Error(t, s.Start(), "second start")

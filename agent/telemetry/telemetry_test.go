@@ -1,72 +1,15 @@
-package agent
+package telemetry
 
 import (
 	"errors"
-	"net/http"
-	"net/http/httptest"
-	"strings"
 	"testing"
 	"time"
 
-	dto "github.com/prometheus/client_model/go"
-	"github.com/prometheus/common/expfmt"
-	"github.com/prometheus/common/model"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/agent/telemetry/telemetrytest"
 )
-
-// The run loop reports through Observer.
-var _ Observer = (*Telemetry)(nil)
-
-// scrape reads h as Prometheus would and parses the text exposition.
-func scrape(t *testing.T, h http.Handler) map[string]*dto.MetricFamily {
-	t.Helper()
-	rec := httptest.NewRecorder()
-	h.ServeHTTP(rec, httptest.NewRequest(http.MethodGet, "/metrics", nil))
-	require.Equal(t, http.StatusOK, rec.Code)
-	return parseExposition(t, rec.Body.String())
-}
-
-func parseExposition(t *testing.T, text string) map[string]*dto.MetricFamily {
-	t.Helper()
-	p := expfmt.NewTextParser(model.UTF8Validation)
-	fams, err := p.TextToMetricFamilies(strings.NewReader(text))
-	require.NoError(t, err)
-	return fams
-}
-
-// sample returns the value of the series of name with the labels given as
-// name, value pairs: a counter's or gauge's value, a histogram's count.
-// ok is false when there is no such series.
-func sample(fams map[string]*dto.MetricFamily, name string, labels ...string) (v float64, ok bool) {
-	f, found := fams[name]
-	if !found {
-		return 0, false
-	}
-next:
-	for _, m := range f.GetMetric() {
-		for i := 0; i+1 < len(labels); i += 2 {
-			match := false
-			for _, lp := range m.GetLabel() {
-				if lp.GetName() == labels[i] && lp.GetValue() == labels[i+1] {
-					match = true
-				}
-			}
-			if !match {
-				continue next
-			}
-		}
-		switch {
-		case m.Counter != nil:
-			return m.Counter.GetValue(), true
-		case m.Gauge != nil:
-			return m.Gauge.GetValue(), true
-		case m.Histogram != nil:
-			return float64(m.Histogram.GetSampleCount()), true
-		}
-	}
-	return 0, false
-}
 
 func TestTelemetry_Metrics(t *testing.T) {
 	tel := NewTelemetry()
@@ -93,7 +36,7 @@ func TestTelemetry_Metrics(t *testing.T) {
 	tel.SetStoreUp(true, "")
 	tel.SetConfigProblem("ahu-3", "no supply_flow point")
 
-	fams := scrape(t, tel.Handler())
+	fams := telemetrytest.Scrape(t, tel.Handler())
 	tests := []struct {
 		name   string
 		metric string
@@ -122,7 +65,7 @@ func TestTelemetry_Metrics(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			got, ok := sample(fams, tt.metric, tt.labels...)
+			got, ok := telemetrytest.Sample(fams, tt.metric, tt.labels...)
 			require.True(t, ok, "no series %s%v", tt.metric, tt.labels)
 			assert.InDelta(t, tt.want, got, 1e-9) // exact counts; delta only for float storage
 		})
@@ -130,10 +73,10 @@ func TestTelemetry_Metrics(t *testing.T) {
 
 	// The sum of run durations is 5 s (2 s + 3 s observed above).
 	assert.InDelta(t, 5.0, fams["dewline_run_duration_seconds"].GetMetric()[0].GetHistogram().GetSampleSum(), 1e-9)
-	ts, ok := sample(fams, "dewline_last_run_success_timestamp_seconds")
+	ts, ok := telemetrytest.Sample(fams, "dewline_last_run_success_timestamp_seconds")
 	require.True(t, ok)
 	assert.Greater(t, ts, float64(time.Date(2020, 1, 1, 0, 0, 0, 0, time.UTC).Unix()))
-	_, ok = sample(fams, "go_goroutines")
+	_, ok = telemetrytest.Sample(fams, "go_goroutines")
 	assert.True(t, ok, "go collector registered")
 }
 
@@ -142,10 +85,10 @@ func TestTelemetry_OwnRegistry(t *testing.T) {
 	// not share or collide on a global registry.
 	a, b := NewTelemetry(), NewTelemetry()
 	a.RunSkipped()
-	got, ok := sample(scrape(t, b.Handler()), "dewline_runs_skipped_total")
+	got, ok := telemetrytest.Sample(telemetrytest.Scrape(t, b.Handler()), "dewline_runs_skipped_total")
 	require.True(t, ok)
 	assert.Zero(t, got)
-	got, _ = sample(scrape(t, a.Handler()), "dewline_runs_skipped_total")
+	got, _ = telemetrytest.Sample(telemetrytest.Scrape(t, a.Handler()), "dewline_runs_skipped_total")
 	assert.Equal(t, 1.0, got)
 }
 
@@ -256,11 +199,11 @@ func TestTelemetry_Ready(t *testing.T) {
 func TestTelemetry_ProblemGauge(t *testing.T) {
 	tel := NewTelemetry()
 	tel.SetConfigProblem("ahu-2", "x")
-	v, ok := sample(scrape(t, tel.Handler()), "dewline_ahu_problem", "ahu", "ahu-2")
+	v, ok := telemetrytest.Sample(telemetrytest.Scrape(t, tel.Handler()), "dewline_ahu_problem", "ahu", "ahu-2")
 	require.True(t, ok)
 	assert.Equal(t, 1.0, v)
 	tel.ClearConfigProblem("ahu-2")
-	v, ok = sample(scrape(t, tel.Handler()), "dewline_ahu_problem", "ahu", "ahu-2")
+	v, ok = telemetrytest.Sample(telemetrytest.Scrape(t, tel.Handler()), "dewline_ahu_problem", "ahu", "ahu-2")
 	require.True(t, ok)
 	assert.Equal(t, 0.0, v)
 }
@@ -268,11 +211,11 @@ func TestTelemetry_ProblemGauge(t *testing.T) {
 func TestTelemetry_RunInProgress(t *testing.T) {
 	tel := NewTelemetry()
 	tel.RunStarted()
-	v, _ := sample(scrape(t, tel.Handler()), "dewline_run_in_progress")
+	v, _ := telemetrytest.Sample(telemetrytest.Scrape(t, tel.Handler()), "dewline_run_in_progress")
 	assert.Equal(t, 1.0, v)
 	assert.True(t, tel.Readiness().LastRun.Running)
 	tel.RunFinished(time.Second, nil)
-	v, _ = sample(scrape(t, tel.Handler()), "dewline_run_in_progress")
+	v, _ = telemetrytest.Sample(telemetrytest.Scrape(t, tel.Handler()), "dewline_run_in_progress")
 	assert.Equal(t, 0.0, v)
 }
 

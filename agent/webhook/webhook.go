@@ -1,4 +1,4 @@
-package agent
+package webhook
 
 import (
 	"bytes"
@@ -23,6 +23,8 @@ import (
 
 	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
+
+	"github.com/dewline/dewline/agent/telemetry"
 )
 
 // Headers of a webhook delivery.
@@ -58,14 +60,14 @@ type WebhookOptions struct {
 	// Secret, when set, signs each body (WebhookSignatureHeader). It never
 	// reaches logs or errors.
 	Secret    string
-	Timeout   time.Duration    // per request; default 10s
-	MaxAge    time.Duration    // events older than this (Event.At against Clock) are dropped; default 24h
-	Store     store.EventStore // the queue; required
-	Telemetry *Telemetry       // optional
+	Timeout   time.Duration        // per request; default 10s
+	MaxAge    time.Duration        // events older than this (Event.At against Clock) are dropped; default 24h
+	Store     store.EventStore     // the queue; required
+	Telemetry *telemetry.Telemetry // optional
 	Log       zerolog.Logger
-	Clock     Clock         // default time.Now
-	Client    *http.Client  // optional; the default follows no redirect
-	Backoff   time.Duration // first wait between attempts, doubled after each; default 1s
+	Clock     func() time.Time // default time.Now
+	Client    *http.Client     // optional; the default follows no redirect
+	Backoff   time.Duration    // first wait between attempts, doubled after each; default 1s
 	// MaxAttempts is the attempts at one event in one delivery pass; default 5.
 	MaxAttempts int
 	Poll        time.Duration // how often the store is looked at without a Kick; default 30s

@@ -1,4 +1,4 @@
-package agent
+package webhook
 
 import (
 	"context"
@@ -21,6 +21,12 @@ import (
 
 	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
+
+	"github.com/dewline/dewline/agent/telemetry"
+
+	"github.com/dewline/dewline/agent/telemetry/telemetrytest"
+
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // memEvents is an in-memory EventStore. It returns pending events in the
@@ -179,7 +185,7 @@ func testEvent(seq int64, alert, transition string) store.Event {
 
 // newTestSender builds a sender for url with the fixed clock, short
 // backoff, three attempts and an hour's poll (so only Kick wakes Run).
-func newTestSender(t *testing.T, url string, store store.EventStore, tel *Telemetry, mod func(*WebhookOptions)) *WebhookSender {
+func newTestSender(t *testing.T, url string, store store.EventStore, tel *telemetry.Telemetry, mod func(*WebhookOptions)) *WebhookSender {
 	t.Helper()
 	opt := WebhookOptions{
 		URL: url, Store: store, Telemetry: tel, Log: zerolog.Nop(), Clock: fixedClock,
@@ -214,9 +220,9 @@ func runSender(t *testing.T, w *WebhookSender) (cancel func(), done <-chan error
 }
 
 // metricValue scrapes tel and returns the value of an unlabelled series.
-func metricValue(t *testing.T, tel *Telemetry, name string) float64 {
+func metricValue(t *testing.T, tel *telemetry.Telemetry, name string) float64 {
 	t.Helper()
-	v, ok := sample(scrape(t, tel.Handler()), name)
+	v, ok := telemetrytest.Sample(telemetrytest.Scrape(t, tel.Handler()), name)
 	require.True(t, ok, "no series %s", name)
 	return v
 }
@@ -237,7 +243,7 @@ func TestWebhook_DeliversInOrder(t *testing.T) {
 		testEvent(1, "ahu-1/reheat_not_needed/20250714T10Z", "open"),
 		testEvent(2, "ahu-2/data_gap/20250714T11Z", "open"),
 	)
-	tel := NewTelemetry()
+	tel := telemetry.NewTelemetry()
 	w := newTestSender(t, rc.URL+"/hook", store, tel, func(o *WebhookOptions) { o.Secret = secret })
 	runSender(t, w)
 
@@ -350,7 +356,7 @@ func TestWebhook_Answers(t *testing.T) {
 		t.Run(tt.name, func(t *testing.T) {
 			rc := newReceiver(t, tt.script...)
 			store := newMemEvents(testEvent(1, "ahu-1/data_gap/20250714T10Z", "open"))
-			tel := NewTelemetry()
+			tel := telemetry.NewTelemetry()
 			w := newTestSender(t, rc.URL+"/hook", store, tel, func(o *WebhookOptions) { o.Poll = time.Minute })
 			var waits []time.Duration
 			w.wait = func(_ context.Context, d time.Duration) error { waits = append(waits, d); return nil }
@@ -389,7 +395,7 @@ func TestWebhook_MaxAge(t *testing.T) {
 	fresh := testEvent(2, "ahu-1/data_gap/20250713T10Z", "closed")
 	fresh.At = webhookNow.Add(-23 * time.Hour)
 	store := newMemEvents(old, fresh)
-	tel := NewTelemetry()
+	tel := telemetry.NewTelemetry()
 	w := newTestSender(t, rc.URL, store, tel, func(o *WebhookOptions) { o.MaxAge = 24 * time.Hour })
 
 	w.pass(context.Background())
@@ -407,7 +413,7 @@ func TestWebhook_BadPayloadDropped(t *testing.T) {
 	ev := testEvent(1, "a/b/c", "open")
 	ev.Payload = []byte(`{"id":`)
 	store := newMemEvents(ev, testEvent(2, "a/b/c", "closed"))
-	tel := NewTelemetry()
+	tel := telemetry.NewTelemetry()
 	w := newTestSender(t, rc.URL, store, tel, nil)
 	w.pass(context.Background())
 	assert.Len(t, rc.requests(), 1)
@@ -418,7 +424,7 @@ func TestWebhook_BadPayloadDropped(t *testing.T) {
 func TestWebhook_ReceiverDown(t *testing.T) {
 	rc := newReceiver(t, reply{hangup: true})
 	store := newMemEvents(testEvent(1, "a/b/c", "open"), testEvent(2, "a/b/c", "closed"))
-	tel := NewTelemetry()
+	tel := telemetry.NewTelemetry()
 	w := newTestSender(t, rc.URL, store, tel, func(o *WebhookOptions) {
 		o.MaxAttempts = 2
 		o.Poll = 10 * time.Millisecond
@@ -461,7 +467,7 @@ func TestWebhook_MarkFailsNoRepost(t *testing.T) {
 	rc := newReceiver(t)
 	store := newMemEvents(testEvent(1, "a/b/c", "open"), testEvent(2, "a/b/c", "closed"))
 	store.markFails = 1
-	tel := NewTelemetry()
+	tel := telemetry.NewTelemetry()
 	w := newTestSender(t, rc.URL, store, tel, nil)
 
 	w.pass(context.Background())
@@ -481,7 +487,7 @@ func TestWebhook_CancelStopsRun(t *testing.T) {
 	rc.block = make(chan struct{}) // the receiver hangs
 	t.Cleanup(func() { close(rc.block) })
 	store := newMemEvents(testEvent(1, "a/b/c", "open"))
-	tel := NewTelemetry()
+	tel := telemetry.NewTelemetry()
 	w := newTestSender(t, rc.URL, store, tel, func(o *WebhookOptions) { o.Timeout = time.Minute })
 	cancel, done := runSender(t, w)
 
@@ -516,7 +522,7 @@ func TestWebhook_CancelDuringBackoff(t *testing.T) {
 func TestWebhook_NoSecretsInLogs(t *testing.T) {
 	const secret = "whsec-do-not-print"
 	const pathToken = "T0KEN-IN-PATH"
-	var logs syncBuffer
+	var logs testkit.SyncBuffer
 	lg := zerolog.New(&logs).Level(zerolog.DebugLevel)
 
 	rc := newReceiver(t, reply{status: 500}, reply{status: 400})

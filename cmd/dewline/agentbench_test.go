@@ -23,6 +23,8 @@ import (
 	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/psychro"
+
+	"github.com/dewline/dewline/agent/webhook"
 )
 
 // The agent benchmarks run agent.Runner over trend points in the InfluxDB
@@ -319,7 +321,7 @@ func (br benchRun) run(b *testing.B) {
 		tr := &timedReader{r: st}
 		src := &timedSource{src: &ingest.StoreHours{Reader: tr, Units: units, Step: br.cfg.Grid.Step, IsMissing: st.IsMissing}}
 		payload := func(t metrics.Transition) (json.RawMessage, error) {
-			return agent.AlertPayload(t, br.cfg.Prices.Currency)
+			return webhook.AlertPayload(t, br.cfg.Prices.Currency)
 		}
 		queue := func(ctx context.Context) (store.EventQueue, error) {
 			return embedded.OpenQueue(ctx, statePath, payload)

@@ -18,7 +18,7 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
-	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/webhook"
 )
 
 // The fault tests run the dewline binary as a separate process against real
@@ -216,7 +216,7 @@ type delivery struct{ key, body string }
 func (rc *webhookReceiver) ServeHTTP(w http.ResponseWriter, r *http.Request) {
 	body, _ := io.ReadAll(r.Body)
 	rc.mu.Lock()
-	rc.got = append(rc.got, delivery{r.Header.Get(agent.WebhookEventHeader), string(body)})
+	rc.got = append(rc.got, delivery{r.Header.Get(webhook.WebhookEventHeader), string(body)})
 	n := len(rc.got)
 	rc.mu.Unlock()
 	if n == rc.hold {

@@ -17,6 +17,12 @@ import (
 	"github.com/dewline/dewline/ingest/influx"
 	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
+
+	"github.com/dewline/dewline/agent/server"
+
+	"github.com/dewline/dewline/agent/telemetry"
+
+	"github.com/dewline/dewline/agent/webhook"
 )
 
 // storeDown tells an outage of the store from an error of one air handler:
@@ -81,7 +87,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		a, _ := cfg.AirHandler(id)
 		units[id] = ingest.UnitPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
 	}
-	tel := agent.NewTelemetry()
+	tel := telemetry.NewTelemetry()
 	// The store is up once it answers (the embedded file answers once open).
 	pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
 	if err := st.Ping(pctx); err != nil {
@@ -156,7 +162,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	srv, err := agent.NewServer(agent.ServerOptions{Listen: cfg.HTTP.Listen, BearerToken: token, Telemetry: tel, Pages: pages,
+	srv, err := server.NewServer(server.ServerOptions{Listen: cfg.HTTP.Listen, BearerToken: token, Telemetry: tel, Pages: pages,
 		Log: log.With().Str("component", "http").Logger()})
 	if err != nil {
 		return err
@@ -171,13 +177,13 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		// check --store" does the same on demand.
 		checkPoints(ctx, pc, st.IsMissing, cfg, owned, tel, log)
 	}
-	var sender *agent.WebhookSender
+	var sender *webhook.WebhookSender
 	if w := cfg.Webhook; w != nil {
 		secret, err := config.SecretFromEnv("webhook.secret_env", w.SecretEnv)
 		if err != nil {
 			return err
 		}
-		sender, err = agent.NewWebhookSender(agent.WebhookOptions{URL: w.URL, Secret: secret, Timeout: w.Timeout, MaxAge: w.MaxAge,
+		sender, err = webhook.NewWebhookSender(webhook.WebhookOptions{URL: w.URL, Secret: secret, Timeout: w.Timeout, MaxAge: w.MaxAge,
 			Store: rs, Telemetry: tel, Log: log.With().Str("component", "webhook").Logger()})
 		if err != nil {
 			return err
@@ -267,7 +273,7 @@ func isDigits(s string) bool {
 // show as hours without data. A missing point is logged and shown as its
 // air handler's problem; a store that does not answer is left to the runs
 // to report.
-func checkPoints(ctx context.Context, pc store.PointChecker, missing func(error) bool, cfg *config.Config, owned []string, tel *agent.Telemetry, log zerolog.Logger) {
+func checkPoints(ctx context.Context, pc store.PointChecker, missing func(error) bool, cfg *config.Config, owned []string, tel *telemetry.Telemetry, log zerolog.Logger) {
 	ctx, cancel := context.WithTimeout(ctx, time.Minute)
 	defer cancel()
 	to := time.Now()

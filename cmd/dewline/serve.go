@@ -6,9 +6,12 @@ import (
 	"fmt"
 	"time"
 
-	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/dashboards"
+
+	"github.com/dewline/dewline/agent/server"
+
+	"github.com/dewline/dewline/agent/telemetry"
 )
 
 // siteFor is the dashboard's view of the configuration.
@@ -71,7 +74,7 @@ func serveDashboard(ctx context.Context, e *env, cfg *config.Config, st *stores,
 	if err != nil {
 		return err
 	}
-	tel := agent.NewTelemetry()
+	tel := telemetry.NewTelemetry()
 	tel.SetStoreUp(true, "")
 	pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
 	if err := st.Ping(pctx); err != nil {
@@ -80,7 +83,7 @@ func serveDashboard(ctx context.Context, e *env, cfg *config.Config, st *stores,
 	}
 	cancel()
 	log := e.log.With().Str("component", "http").Logger()
-	srv, err := agent.NewServer(agent.ServerOptions{Listen: addr, BearerToken: token, Telemetry: tel, Pages: pages, Log: log})
+	srv, err := server.NewServer(server.ServerOptions{Listen: addr, BearerToken: token, Telemetry: tel, Pages: pages, Log: log})
 	if err != nil {
 		return err
 	}

@@ -8,13 +8,14 @@ import (
 
 	"github.com/rs/zerolog"
 
-	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/dashboards"
 	"github.com/dewline/dewline/ingest/embedded"
 	"github.com/dewline/dewline/ingest/influx"
 	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
+
+	"github.com/dewline/dewline/agent/webhook"
 )
 
 // stores is the configured store, opened.
@@ -24,7 +25,9 @@ type stores struct{ store.Store }
 // backend. readOnly opens the embedded file without writing (it must
 // exist).
 func openStore(ctx context.Context, cfg *config.Config, readOnly bool, log zerolog.Logger) (*stores, error) {
-	payload := func(t metrics.Transition) (json.RawMessage, error) { return agent.AlertPayload(t, cfg.Prices.Currency) }
+	payload := func(t metrics.Transition) (json.RawMessage, error) {
+		return webhook.AlertPayload(t, cfg.Prices.Currency)
+	}
 	switch cfg.Store.Kind {
 	case "influxdb":
 		ic := cfg.Store.InfluxDB
