@@ -90,15 +90,57 @@ type Shard struct {
 	Index, Count int
 }
 
-// ParseShard reads "i/n" (0 <= i < n).
+// shardForms is the fix named by every ParseShard error.
+const shardForms = "write it as i/n with 0 <= i < n (e.g. 0/3), or as a StatefulSet pod name and n (e.g. dewline-0/3, from $(POD_NAME)/3)"
+
+// ParseShard reads "i/n" (0 <= i < n), or "NAME-i/n" where NAME-i is the
+// name of a StatefulSet's pod (Kubernetes names them after the set with
+// the ordinal last), so that a manifest can pass "$(POD_NAME)/n" and every
+// replica finds its index without a script. Only the ordinal after the
+// last '-' counts; it must be below n. Errors start with "shard" and the
+// value, and name the forms that work.
 func ParseShard(s string) (Shard, error) {
 	left, right, ok := strings.Cut(s, "/")
-	i, err1 := strconv.Atoi(left)
-	n, err2 := strconv.Atoi(right)
-	if !ok || err1 != nil || err2 != nil || strings.ContainsAny(s, "+ ") || n < 1 || i < 0 || i >= n {
-		return Shard{}, fmt.Errorf("shard %q: write it as i/n with 0 <= i < n, e.g. 0/3", s)
+	n, err := strconv.Atoi(right)
+	if !ok || err != nil || n < 1 || strings.ContainsAny(right, "+-") {
+		return Shard{}, fmt.Errorf("shard %q: n after the '/' must be a whole number of replicas, at least 1; %s", s, shardForms)
+	}
+	if strings.Contains(left, "$(") {
+		return Shard{}, fmt.Errorf("shard %q: the pod name was not filled in; give the container the env variable POD_NAME from metadata.name (the downward API), or %s", s, shardForms)
+	}
+	ordinal, what := left, "index"
+	if k := strings.LastIndex(left, "-"); k >= 0 && !isDigits(left) {
+		name := left[:k]
+		if name == "" || strings.HasSuffix(name, "-") {
+			return Shard{}, fmt.Errorf("shard %q: %q is not a pod name; %s", s, left, shardForms)
+		}
+		ordinal, what = left[k+1:], "pod ordinal"
+	}
+	if !isDigits(ordinal) {
+		return Shard{}, fmt.Errorf("shard %q: no replica index before the '/'; %s", s, shardForms)
+	}
+	i, err := strconv.Atoi(ordinal)
+	if err != nil || i >= n {
+		fix := shardForms
+		if what == "pod ordinal" {
+			fix = "n must be the StatefulSet's spec.replicas; " + fix
+		}
+		return Shard{}, fmt.Errorf("shard %q: %s %s is not below n = %d; %s", s, what, ordinal, n, fix)
 	}
 	return Shard{Index: i, Count: n}, nil
+}
+
+// isDigits reports whether s is one or more ASCII digits.
+func isDigits(s string) bool {
+	if s == "" {
+		return false
+	}
+	for _, c := range s {
+		if c < '0' || c > '9' {
+			return false
+		}
+	}
+	return true
 }
 
 // Owns reports whether this shard takes the air handler ahu of site by

@@ -5,8 +5,6 @@ import (
 	"errors"
 	"flag"
 	"fmt"
-	"strconv"
-	"strings"
 	"time"
 
 	"github.com/rs/zerolog"
@@ -208,63 +206,14 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	return serveErr
 }
 
-// shardForms is the fix named by every --shard error.
-const shardForms = "write it as i/n with 0 <= i < n (e.g. 0/3), or as a StatefulSet pod name and n (e.g. dewline-0/3, from $(POD_NAME)/3)"
-
-// parseShard reads the --shard flag: "i/n", or "NAME-i/n" where NAME-i is
-// the name of a StatefulSet's pod (Kubernetes names them after the set with
-// the ordinal last), so that a manifest can pass "$(POD_NAME)/n" and every
-// replica finds its index without a script. Only the ordinal after the last
-// '-' counts; it must be below n.
+// parseShard reads the --shard flag (agent.ParseShard); a mistake is a
+// usage error.
 func parseShard(s string) (agent.Shard, error) {
-	left, right, ok := strings.Cut(s, "/")
-	n, err := strconv.Atoi(right)
-	if !ok || err != nil || n < 1 || strings.ContainsAny(right, "+-") {
-		return agent.Shard{}, usagef("--shard %q: n after the '/' must be a whole number of replicas, at least 1; %s", s, shardForms)
+	sh, err := agent.ParseShard(s)
+	if err != nil {
+		return agent.Shard{}, usagef("--%v", err)
 	}
-	if strings.Contains(left, "$(") {
-		return agent.Shard{}, usagef("--shard %q: the pod name was not filled in; give the container the env variable POD_NAME from metadata.name (the downward API), or %s", s, shardForms)
-	}
-	ordinal, what := left, "index"
-	if name, ord, named := cutLast(left, "-"); named && !isDigits(left) {
-		if name == "" || strings.HasSuffix(name, "-") {
-			return agent.Shard{}, usagef("--shard %q: %q is not a pod name; %s", s, left, shardForms)
-		}
-		ordinal, what = ord, "pod ordinal"
-	}
-	if !isDigits(ordinal) {
-		return agent.Shard{}, usagef("--shard %q: no replica index before the '/'; %s", s, shardForms)
-	}
-	i, err := strconv.Atoi(ordinal)
-	if err != nil || i >= n {
-		fix := shardForms
-		if what == "pod ordinal" {
-			fix = "n must be the StatefulSet's spec.replicas; " + fix
-		}
-		return agent.Shard{}, usagef("--shard %q: %s %s is not below n = %d; %s", s, what, ordinal, n, fix)
-	}
-	return agent.Shard{Index: i, Count: n}, nil
-}
-
-// cutLast splits s around the last sep.
-func cutLast(s, sep string) (before, after string, found bool) {
-	if k := strings.LastIndex(s, sep); k >= 0 {
-		return s[:k], s[k+len(sep):], true
-	}
-	return s, "", false
-}
-
-// isDigits reports whether s is one or more ASCII digits.
-func isDigits(s string) bool {
-	if s == "" {
-		return false
-	}
-	for _, c := range s {
-		if c < '0' || c > '9' {
-			return false
-		}
-	}
-	return true
+	return sh, nil
 }
 
 // checkPoints looks up every owned point once at start, in a store that
