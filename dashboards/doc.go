@@ -5,7 +5,7 @@
 // comparison normalised for the entering humidity (Compare, compare.go).
 //
 // It reads results through the Results interface it declares (site.go);
-// cmd/dewline adapts the embedded store and InfluxDB to it. Sums over hours
+// the backends in ingest/embedded and ingest/influx implement it. Sums over hours
 // keep "unknown" apart from zero (Num encodes NaN as JSON null), ratios are
 // taken of the sums, and 95 % half-widths are summed linearly across hours
 // (sensor bias is the same from hour to hour: an upper bound).

@@ -43,7 +43,7 @@ func (s *Site) Unit(id string) (Unit, bool) {
 }
 
 // Results is where the pages read what the engine computed. The embedded
-// store and InfluxDB satisfy it through adapters in cmd/dewline.
+// store and InfluxDB satisfy it (store.Store.Results, in their backends).
 type Results interface {
 	// Hours calls fn with the records of ahu (every unit when ahu is "")
 	// whose hour starts in [from, to), in hour order for each unit (units

@@ -11,7 +11,7 @@ import (
 )
 
 // SeriesReader reads one point's samples in SI, in time order, with
-// from <= t < to. The embedded store and InfluxDB adapters satisfy it.
+// from <= t < to. Both stores satisfy it (ingest/store.SeriesReader).
 type SeriesReader interface {
 	ReadSeries(ctx context.Context, ref metrics.PointRef, kind psychro.Kind, from, to time.Time, fn func(Sample) error) error
 }

@@ -14,84 +14,7 @@ import (
 	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
-	"github.com/dewline/dewline/metrics"
-	"github.com/dewline/dewline/psychro"
 )
-
-// pointCheck accumulates what one series holds.
-type pointCheck struct {
-	name       string
-	targets    []ingest.PointTarget
-	n          int
-	first      time.Time
-	last       time.Time
-	prev       time.Time
-	intervals  map[int64]int // seconds between samples -> count
-	outOfRange int
-	typical    map[string]int // unit name -> values typical under that unit
-}
-
-func newPointCheck(name string, ts []ingest.PointTarget) *pointCheck {
-	return &pointCheck{name: name, targets: ts, intervals: map[int64]int{}, typical: map[string]int{}}
-}
-
-// add counts one raw value (in the unit the series is logged in).
-func (p *pointCheck) add(t time.Time, raw float64) {
-	p.n++
-	if p.first.IsZero() || t.Before(p.first) {
-		p.first = t
-	}
-	if t.After(p.last) {
-		p.last = t
-	}
-	if !p.prev.IsZero() {
-		if d := t.Sub(p.prev); d > 0 {
-			p.intervals[int64(d.Round(time.Second)/time.Second)]++
-		}
-	}
-	p.prev = t
-	t0 := p.targets[0]
-	spec, _ := metrics.LookupRole(string(t0.Role))
-	if v := t0.Unit.ToSI(raw); isBad(v) || !spec.Plausible(v) {
-		p.outOfRange++
-	}
-	for _, name := range psychro.UnitNames(t0.Kind) {
-		u, _ := psychro.LookupUnit(t0.Kind, name)
-		if spec.Typical(u.ToSI(raw)) {
-			p.typical[u.Name]++
-		}
-	}
-}
-
-// interval is the typical (most frequent) spacing of the samples.
-func (p *pointCheck) interval() time.Duration {
-	best, bestN := int64(0), 0
-	for s, n := range p.intervals {
-		if n > bestN || n == bestN && s < best {
-			best, bestN = s, n
-		}
-	}
-	return time.Duration(best) * time.Second
-}
-
-// unitNote says when the values look logged in another unit than the configured one.
-func (p *pointCheck) unitNote() string {
-	if p.n < 10 {
-		return ""
-	}
-	t0 := p.targets[0]
-	conf := float64(p.typical[t0.Unit.Name]) / float64(p.n)
-	best, bestShare := "", conf
-	for name, c := range p.typical {
-		if share := float64(c) / float64(p.n); share > bestShare+0.3 {
-			best, bestShare = name, share
-		}
-	}
-	if best == "" || conf > 0.5 {
-		return ""
-	}
-	return fmt.Sprintf("values look like %s, not %s (%.0f %% typical as %s, %.0f %% as %s)", best, t0.Ref.Unit, 100*bestShare, best, 100*conf, t0.Ref.Unit)
-}
 
 func runCheck(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("check", flag.ContinueOnError)
@@ -129,9 +52,9 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	checks := map[string]*pointCheck{}
+	checks := map[string]*ingest.PointCheck{}
 	for name, ts := range ix {
-		checks[name] = newPointCheck(name, ts)
+		checks[name] = ingest.NewPointCheck(name, ts)
 	}
 	if len(inputs) > 0 {
 		files, err := csvfile.OpenFiles(inputs, cfg.CSVOptions())
@@ -153,12 +76,12 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 				unmatched[rec.Series]++
 				continue
 			}
-			if pc.n == 0 {
+			if pc.N == 0 {
 				if err := ix.CheckUnit(rec); err != nil {
 					return err
 				}
 			}
-			pc.add(rec.Time, rec.Value)
+			pc.Add(rec.Time, rec.Value)
 		}
 		for _, r := range files.Readers() {
 			s := r.Stats()
@@ -195,27 +118,27 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 		defer st.Close()
 		fmt.Fprintf(e.stdout, "store window %s .. %s\n", from.In(cfg.Location).Format(time.RFC3339), to.In(cfg.Location).Format(time.RFC3339))
 		for _, pc := range checks {
-			t0 := pc.targets[0]
+			t0 := pc.Targets[0]
 			err := st.ReadSeries(ctx, t0.Ref, t0.Kind, from, to, func(s ingest.Sample) error {
-				pc.add(s.Time, t0.Unit.FromSI(s.Value)) // the store holds SI
+				pc.Add(s.Time, t0.Unit.FromSI(s.Value)) // the store holds SI
 				return nil
 			})
 			if err != nil && !st.IsMissing(err) {
-				return fmt.Errorf("read %s: %w", pc.name, err)
+				return fmt.Errorf("read %s: %w", pc.Name, err)
 			}
 		}
 	}
 	return printChecks(e.stdout, cfg, checks)
 }
 
-func printChecks(w io.Writer, cfg *config.Config, checks map[string]*pointCheck) error {
+func printChecks(w io.Writer, cfg *config.Config, checks map[string]*ingest.PointCheck) error {
 	type row struct {
 		ahu, role string
-		pc        *pointCheck
+		pc        *ingest.PointCheck
 	}
 	var rows []row
 	for _, pc := range checks {
-		for _, t := range pc.targets {
+		for _, t := range pc.Targets {
 			rows = append(rows, row{t.AHU, string(t.Role), pc})
 		}
 	}
@@ -230,22 +153,22 @@ func printChecks(w io.Writer, cfg *config.Config, checks map[string]*pointCheck)
 	problems := 0
 	for _, r := range rows {
 		pc := r.pc
-		note := pc.unitNote()
+		note := pc.UnitNote()
 		first, last, iv, oor := "-", "-", "-", "-"
-		if pc.n > 0 {
-			first = pc.first.In(cfg.Location).Format("2006-01-02 15:04")
-			last = pc.last.In(cfg.Location).Format("2006-01-02 15:04")
-			if d := pc.interval(); d > 0 {
+		if pc.N > 0 {
+			first = pc.First.In(cfg.Location).Format("2006-01-02 15:04")
+			last = pc.Last.In(cfg.Location).Format("2006-01-02 15:04")
+			if d := pc.Interval(); d > 0 {
 				iv = d.String()
 			}
-			oor = fmt.Sprintf("%.1f%%", 100*float64(pc.outOfRange)/float64(pc.n))
+			oor = fmt.Sprintf("%.1f%%", 100*float64(pc.OutOfRange)/float64(pc.N))
 		} else {
 			note = "no samples found"
 		}
-		if note != "" || pc.n > 0 && pc.outOfRange > pc.n/100 {
+		if note != "" || pc.N > 0 && pc.OutOfRange > pc.N/100 {
 			problems++
 		}
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%s\t%s\t%s\t%s\t%s\n", r.ahu, r.role, pc.name, pc.targets[0].Ref.Unit, pc.n, first, last, iv, oor, note)
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%s\t%s\t%s\t%s\t%s\n", r.ahu, r.role, pc.Name, pc.Targets[0].Ref.Unit, pc.N, first, last, iv, oor, note)
 	}
 	if err := tw.Flush(); err != nil {
 		return err

@@ -2,7 +2,6 @@ package main
 
 import (
 	"fmt"
-	"math"
 	"os"
 	"time"
 
@@ -35,8 +34,6 @@ func parseTime(s string, loc *time.Location) (time.Time, error) {
 	}
 	return time.Time{}, fmt.Errorf("%q is not a time: use 2026-07-01, 2026-07-01T06:00 (site time) or RFC 3339 such as 2026-07-01T06:00:00Z", s)
 }
-
-func isBad(v float64) bool { return math.IsNaN(v) || math.IsInf(v, 0) }
 
 // progress shows long work: a line that redraws itself on a terminal, a
 // log line every tenth otherwise.

@@ -25,7 +25,8 @@ func (s *Store) Checkpoint(ctx context.Context, ahu string) (hour time.Time, ok 
 // SetCheckpoint records hour as ahu's last completed hour, forwards or
 // backwards, whatever the hourly table holds: it is the operator's lever
 // (start a new unit at a chosen hour, rewind to recompute). The agent's
-// run loop uses PutHourlyAndCheckpoint instead.
+// run loop moves it only through Commit (Backend.Agent), in the same
+// transaction as the hours it covers.
 func (s *Store) SetCheckpoint(ctx context.Context, ahu string, hour time.Time) error {
 	what := "set checkpoint for " + quote(ahu)
 	if err := checkCheckpointArgs(ahu, hour); err != nil {
@@ -40,7 +41,8 @@ func (s *Store) SetCheckpoint(ctx context.Context, ahu string, hour time.Time) e
 // checkpoint to hour in one transaction: either both happen or neither, so
 // a crash or error can never leave a checkpoint past hours that were not
 // written. It also refuses, with ErrCheckpointAhead, to move the checkpoint
-// to an hour with no row for ahu, stored before or among rows.
+// to an hour with no row for ahu, stored before or among rows. Commit does
+// the same with a run's alerts, events and rule states as well.
 func (s *Store) PutHourlyAndCheckpoint(ctx context.Context, rows []HourRow, ahu string, hour time.Time) error {
 	what := fmt.Sprintf("put hourly rows and checkpoint %s at %s", quote(ahu), hour.UTC().Format(time.RFC3339))
 	if err := checkCheckpointArgs(ahu, hour); err != nil {

@@ -124,6 +124,6 @@
 //
 // It never logs (errors are returned, wrapped with what was being done),
 // never reads a clock except through Options.Now, never stores a NaN
-// sample, and never moves a checkpoint through PutHourlyAndCheckpoint
+// sample, and never moves a checkpoint (Commit, PutHourlyAndCheckpoint)
 // without the hour's row being stored in the same transaction.
 package embedded
