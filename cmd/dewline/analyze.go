@@ -5,22 +5,17 @@ import (
 	"errors"
 	"flag"
 	"fmt"
-	"io"
-	"math"
 	"os"
 	"sort"
 	"strings"
-	"text/tabwriter"
 	"time"
 
 	"github.com/rs/zerolog"
 
 	"github.com/dewline/dewline/agent"
-	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
 	"github.com/dewline/dewline/metrics"
-	"github.com/dewline/dewline/psychro"
 )
 
 // stringList is a repeatable flag.
@@ -194,7 +189,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		return fmt.Errorf("no hours to analyse: the inputs hold no data for the configured points in the period")
 	}
 	log.Info().Int("hours", hours).Dur("took", time.Since(start)).Int("failed", len(failed)).Msg("analysis done")
-	return printSummary(e.stdout, cfg, ahus, sums)
+	return agent.WriteSummaries(e.stdout, cfg, ahus, sums)
 }
 
 // reportInputs logs what the exports held that was not used.
@@ -215,67 +210,4 @@ func reportInputs(log zerolog.Logger, files *csvfile.Files, rh *ingest.RecordHou
 	for _, n := range names {
 		log.Debug().Str("series", n).Int("records", rh.Unmatched[n]).Msg("series not mapped to any air handler")
 	}
-}
-
-// printSummary prints the per-air-handler table, ranked by avoidable cost.
-func printSummary(w io.Writer, cfg *config.Config, ahus []string, sums map[string]*agent.Summary) error {
-	rows := make([]*agent.Summary, 0, len(ahus))
-	for _, id := range ahus {
-		if s, ok := sums[id]; ok {
-			rows = append(rows, s)
-		}
-	}
-	sort.SliceStable(rows, func(i, j int) bool { return rows[i].CostAvoidable > rows[j].CostAvoidable })
-	ip := cfg.Site.Units == "ip"
-	cur := cfg.Prices.Currency
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	waterUnit := "water kg"
-	if ip {
-		waterUnit = "water lb"
-	}
-	fmt.Fprintf(tw, "air handler\thours\tcoverage\t%s\treheat kWh\tavoidable kWh\tavoidable %s\tcost %s\teff. EER\topen alerts\t\n", waterUnit, cur, cur)
-	var tot agent.Summary
-	var notes []string
-	for _, s := range rows {
-		water := s.WaterKg
-		if ip {
-			water = psychro.KgToLb(water)
-		}
-		open := 0
-		for _, a := range s.Alerts {
-			if a.Status == metrics.StatusOpen {
-				open++
-				notes = append(notes, fmt.Sprintf("  %s %s (%s, since %s): %s", s.AHU, a.Kind, a.Severity,
-					a.Start.In(cfg.Location).Format("2006-01-02 15:04"), a.Reason))
-			}
-		}
-		fmt.Fprintf(tw, "%s\t%d\t%.0f%%\t%.0f\t%.0f\t%.0f\t%.2f\t%.2f\t%s\t%d\t\n",
-			s.AHU, s.Hours, 100*s.Coverage(), water, s.ReheatKWh, s.ReheatAvoidKWh, s.CostAvoidable, s.Cost, eer(s.EffectiveEER()), open)
-		tot.CostAvoidable += s.CostAvoidable
-		tot.Cost += s.Cost
-		tot.ReheatKWh += s.ReheatKWh
-		tot.ReheatAvoidKWh += s.ReheatAvoidKWh
-	}
-	if err := tw.Flush(); err != nil {
-		return err
-	}
-	fmt.Fprintf(w, "\ntotal: reheat %.0f kWh, of which %.0f kWh avoidable (%.2f %s of %.2f %s)\n",
-		tot.ReheatKWh, tot.ReheatAvoidKWh, tot.CostAvoidable, cur, tot.Cost, cur)
-	if len(notes) > 0 {
-		fmt.Fprintln(w, "\nopen alerts:")
-		for _, n := range notes {
-			fmt.Fprintln(w, n)
-		}
-	}
-	fmt.Fprintln(w)
-	fmt.Fprintln(w, "Estimates from building sensors. Before raising coil temperatures or disabling reheat, have the engineer of record")
-	fmt.Fprintln(w, "review the change against the space's humidity limits (mould, comfort, codes); follow local codes and licensed practice.")
-	return nil
-}
-
-func eer(v float64) string {
-	if math.IsNaN(v) {
-		return "-"
-	}
-	return fmt.Sprintf("%.1f", v)
 }

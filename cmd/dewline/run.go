@@ -7,8 +7,6 @@ import (
 	"fmt"
 	"time"
 
-	"github.com/rs/zerolog"
-
 	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest"
@@ -173,7 +171,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		// The long-running agent looks its points up once, after its
 		// endpoint is up so that probes see it alive meanwhile; "dewline
 		// check --store" does the same on demand.
-		checkPoints(ctx, pc, st.IsMissing, cfg, owned, tel, log)
+		agent.CheckPoints(ctx, pc, st.IsMissing, cfg, owned, tel.SetConfigProblem, log)
 	}
 	var sender *webhook.WebhookSender
 	if w := cfg.Webhook; w != nil {
@@ -214,32 +212,4 @@ func parseShard(s string) (agent.Shard, error) {
 		return agent.Shard{}, usagef("--%v", err)
 	}
 	return sh, nil
-}
-
-// checkPoints looks up every owned point once at start, in a store that
-// cannot tell a point that does not exist from one that is quiet
-// (InfluxDB): a misspelt measurement, field or tag would otherwise only
-// show as hours without data. A missing point is logged and shown as its
-// air handler's problem; a store that does not answer is left to the runs
-// to report.
-func checkPoints(ctx context.Context, pc store.PointChecker, missing func(error) bool, cfg *config.Config, owned []string, tel *telemetry.Telemetry, log zerolog.Logger) {
-	ctx, cancel := context.WithTimeout(ctx, time.Minute)
-	defer cancel()
-	to := time.Now()
-	from := to.Add(-cfg.Schedule.Backfill)
-	for _, id := range owned {
-		a, _ := cfg.AirHandler(id)
-		for role, ref := range a.PointMap() {
-			err := pc.CheckPoint(ctx, ref, from, to)
-			switch {
-			case err == nil:
-			case missing(err):
-				log.Warn().Str("ahu", id).Str("role", string(role)).Err(err).Msg("point not found in InfluxDB")
-				tel.SetConfigProblem(id, fmt.Sprintf("%s: %v", role, err))
-			default:
-				log.Warn().Err(err).Msg("could not check the points in InfluxDB; runs will report the store")
-				return
-			}
-		}
-	}
 }
