@@ -2,7 +2,10 @@ package ingest
 
 import (
 	"fmt"
+	"io"
 	"math"
+	"sort"
+	"text/tabwriter"
 	"time"
 
 	"github.com/dewline/dewline/metrics"
@@ -85,4 +88,54 @@ func (p *PointCheck) UnitNote() string {
 		return ""
 	}
 	return fmt.Sprintf("values look like %s, not %s (%.0f %% typical as %s, %.0f %% as %s)", best, t0.Ref.Unit, 100*bestShare, best, 100*conf, t0.Ref.Unit)
+}
+
+// WritePointChecks writes the checks as a table, a row per air handler
+// and role, times in loc, and counts the points that need a look.
+func WritePointChecks(w io.Writer, loc *time.Location, checks map[string]*PointCheck) error {
+	type row struct {
+		ahu, role string
+		pc        *PointCheck
+	}
+	var rows []row
+	for _, pc := range checks {
+		for _, t := range pc.Targets {
+			rows = append(rows, row{t.AHU, string(t.Role), pc})
+		}
+	}
+	sort.Slice(rows, func(i, j int) bool {
+		if rows[i].ahu != rows[j].ahu {
+			return rows[i].ahu < rows[j].ahu
+		}
+		return rows[i].role < rows[j].role
+	})
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "air handler\trole\tpoint\tunit\tsamples\tfirst\tlast\tinterval\tout of range\tnote")
+	problems := 0
+	for _, r := range rows {
+		pc := r.pc
+		note := pc.UnitNote()
+		first, last, iv, oor := "-", "-", "-", "-"
+		if pc.N > 0 {
+			first = pc.First.In(loc).Format("2006-01-02 15:04")
+			last = pc.Last.In(loc).Format("2006-01-02 15:04")
+			if d := pc.Interval(); d > 0 {
+				iv = d.String()
+			}
+			oor = fmt.Sprintf("%.1f%%", 100*float64(pc.OutOfRange)/float64(pc.N))
+		} else {
+			note = "no samples found"
+		}
+		if note != "" || pc.N > 0 && pc.OutOfRange > pc.N/100 {
+			problems++
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%s\t%s\t%s\t%s\t%s\n", r.ahu, r.role, pc.Name, pc.Targets[0].Ref.Unit, pc.N, first, last, iv, oor, note)
+	}
+	if err := tw.Flush(); err != nil {
+		return err
+	}
+	if problems > 0 {
+		fmt.Fprintf(w, "%d point(s) need a look (see the note and out-of-range columns)\n", problems)
+	}
+	return nil
 }

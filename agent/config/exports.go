@@ -1,6 +1,8 @@
 package config
 
-import "github.com/dewline/dewline/ingest/csvfile"
+import (
+	"github.com/dewline/dewline/ingest/csvfile"
+)
 
 // CSVOptions are the export reading options the configuration gives.
 func (c *Config) CSVOptions() csvfile.Options {

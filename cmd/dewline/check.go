@@ -8,10 +8,8 @@ import (
 	"io"
 	"sort"
 	"strings"
-	"text/tabwriter"
 	"time"
 
-	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
 )
@@ -128,53 +126,5 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 			}
 		}
 	}
-	return printChecks(e.stdout, cfg, checks)
-}
-
-func printChecks(w io.Writer, cfg *config.Config, checks map[string]*ingest.PointCheck) error {
-	type row struct {
-		ahu, role string
-		pc        *ingest.PointCheck
-	}
-	var rows []row
-	for _, pc := range checks {
-		for _, t := range pc.Targets {
-			rows = append(rows, row{t.AHU, string(t.Role), pc})
-		}
-	}
-	sort.Slice(rows, func(i, j int) bool {
-		if rows[i].ahu != rows[j].ahu {
-			return rows[i].ahu < rows[j].ahu
-		}
-		return rows[i].role < rows[j].role
-	})
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "air handler\trole\tpoint\tunit\tsamples\tfirst\tlast\tinterval\tout of range\tnote")
-	problems := 0
-	for _, r := range rows {
-		pc := r.pc
-		note := pc.UnitNote()
-		first, last, iv, oor := "-", "-", "-", "-"
-		if pc.N > 0 {
-			first = pc.First.In(cfg.Location).Format("2006-01-02 15:04")
-			last = pc.Last.In(cfg.Location).Format("2006-01-02 15:04")
-			if d := pc.Interval(); d > 0 {
-				iv = d.String()
-			}
-			oor = fmt.Sprintf("%.1f%%", 100*float64(pc.OutOfRange)/float64(pc.N))
-		} else {
-			note = "no samples found"
-		}
-		if note != "" || pc.N > 0 && pc.OutOfRange > pc.N/100 {
-			problems++
-		}
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%s\t%s\t%s\t%s\t%s\n", r.ahu, r.role, pc.Name, pc.Targets[0].Ref.Unit, pc.N, first, last, iv, oor, note)
-	}
-	if err := tw.Flush(); err != nil {
-		return err
-	}
-	if problems > 0 {
-		fmt.Fprintf(w, "%d point(s) need a look (see the note and out-of-range columns)\n", problems)
-	}
-	return nil
+	return ingest.WritePointChecks(e.stdout, cfg.Location, checks)
 }

@@ -1,14 +1,11 @@
 package main
 
 import (
-	"errors"
 	"testing"
 	"time"
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
-
-	"github.com/dewline/dewline/ingest/influx"
 )
 
 func TestParseTime(t *testing.T) {
@@ -30,11 +27,4 @@ func TestParseTime(t *testing.T) {
 	assert.Equal(t, time.Date(2026, 11, 1, 5, 0, 0, 0, time.UTC), got.UTC())
 	_, err = parseTime("yesterday", chicago)
 	assert.ErrorContains(t, err, "is not a time")
-}
-
-func TestStoreDown(t *testing.T) {
-	assert.True(t, storeDown(errors.New("disk I/O error")))
-	assert.True(t, storeDown(influx.ErrTimeout))
-	assert.False(t, storeDown(influx.ErrAmbiguousPoint), "one air handler's point, not the store")
-	assert.False(t, storeDown(influx.ErrNoSuchPoint))
 }

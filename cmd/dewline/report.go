@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
-	"sort"
 	"strings"
 	"time"
 
@@ -115,7 +114,7 @@ func runReport(ctx context.Context, e *env, args []string) error {
 		Generated: time.Now(),
 		Paper:     *paper,
 		Source:    st.Describe(),
-		Trended:   trendedRoles(cfg),
+		Trended:   cfg.TrendedRoles(),
 		Notes:     reportNotes(cfg),
 		Progress:  prog.update,
 	}
@@ -172,20 +171,6 @@ func reportBound(flagName, s string, loc *time.Location) (t time.Time, date bool
 func localMidnight(t time.Time) time.Time {
 	y, m, d := t.Date()
 	return time.Date(y, m, d, 0, 0, 0, 0, t.Location())
-}
-
-// trendedRoles lists each air handler's configured roles.
-func trendedRoles(cfg *config.Config) map[string][]string {
-	m := make(map[string][]string, len(cfg.AirHandlers))
-	for _, a := range cfg.AirHandlers {
-		roles := make([]string, 0, len(a.Points))
-		for r := range a.Points {
-			roles = append(roles, r)
-		}
-		sort.Strings(roles)
-		m[a.ID] = roles
-	}
-	return m
 }
 
 // reportNotes states how the configuration set what the report's figures rest on.

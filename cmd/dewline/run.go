@@ -21,17 +21,6 @@ import (
 	"github.com/dewline/dewline/agent/webhook"
 )
 
-// storeDown tells an outage of the store from an error of one air handler:
-// a point that matches several series, or a bad point, is the latter.
-func storeDown(err error) bool {
-	for _, e := range []error{influx.ErrAmbiguousPoint, influx.ErrInvalidPoint, influx.ErrNoSuchPoint} {
-		if errors.Is(err, e) {
-			return false
-		}
-	}
-	return true
-}
-
 func runRun(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("run", flag.ContinueOnError)
 	cfgPath := fs.String("config", "", "configuration file (required)")
@@ -110,7 +99,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		Obs:       tel,
 		Log:       log,
 		AHUs:      owned,
-		StoreDown: storeDown,
+		StoreDown: st.IsOutage,
 	}
 	if *asOf != "" {
 		if !*once && !*dry {

@@ -100,6 +100,10 @@ func (b *Backend) Agent(context.Context) (store.AgentStore, error) {
 // Ping answers at once: the file is open.
 func (b *Backend) Ping(context.Context) error { return nil }
 
+// IsOutage takes every error as the store's: the file holds no point of
+// its own that could fail alone.
+func (b *Backend) IsOutage(error) bool { return true }
+
 // Describe names the file.
 func (b *Backend) Describe() string { return "the embedded store " + filepath.Base(b.s.Path()) }
 

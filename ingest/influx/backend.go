@@ -89,6 +89,18 @@ func (b *Backend) Agent(ctx context.Context) (store.AgentStore, error) {
 // Ping asks the server.
 func (b *Backend) Ping(ctx context.Context) error { return b.c.Ping(ctx) }
 
+// IsOutage tells an outage of the server from an error of one point: a
+// point that matches several series, a bad point or one that matches
+// nothing is the latter.
+func (b *Backend) IsOutage(err error) bool {
+	for _, e := range []error{ErrAmbiguousPoint, ErrInvalidPoint, ErrNoSuchPoint} {
+		if errors.Is(err, e) {
+			return false
+		}
+	}
+	return true
+}
+
 // CheckPoint tells a point that matches nothing (ErrNoSuchPoint) from a
 // quiet one.
 func (b *Backend) CheckPoint(ctx context.Context, ref metrics.PointRef, from, to time.Time) error {

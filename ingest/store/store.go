@@ -26,6 +26,10 @@ type Store interface {
 	Agent(ctx context.Context) (AgentStore, error)
 	// Ping reports whether the store answers.
 	Ping(ctx context.Context) error
+	// IsOutage tells an outage of the store (unreachable, timing out,
+	// failing) from an error of one air handler, such as a point that
+	// matches several series.
+	IsOutage(err error) bool
 	// Describe names where results are kept, for the report, without secrets.
 	Describe() string
 	Close() error
