@@ -221,7 +221,7 @@ const (
 // pass delivers what is pending, in Seq order, until the store has no more
 // or an event must wait for a later pass.
 func (w *WebhookSender) pass(ctx context.Context) {
-	if time.Now().Before(w.notBefore) {
+	if w.opt.Clock().Before(w.notBefore) {
 		return
 	}
 	for ctx.Err() == nil {
@@ -309,7 +309,7 @@ func (w *WebhookSender) deliver(ctx context.Context, ev store.Event) outcome {
 		}
 		lg.Debug().Err(last).Int("attempt", attempt).Msg("webhook attempt failed")
 		if retryAfter > w.opt.Poll {
-			w.notBefore = time.Now().Add(retryAfter)
+			w.notBefore = w.opt.Clock().Add(retryAfter)
 			lg.Warn().Err(last).Dur("retry_after", retryAfter).Msg("webhook receiver asked to wait, event stays pending")
 			return outPending
 		}
@@ -321,12 +321,12 @@ func (w *WebhookSender) deliver(ctx context.Context, ev store.Event) outcome {
 		}
 	}
 	if retryAfter > 0 { // a Kick before then must not make an attempt
-		w.notBefore = time.Now().Add(retryAfter)
+		w.notBefore = w.opt.Clock().Add(retryAfter)
 	}
 	// While the receiver stays down every pass fails the same way: log it
 	// at error level once per webhookFailLogEvery, at debug in between.
 	level := zerolog.DebugLevel
-	if now := time.Now(); now.Sub(w.failLogged) >= webhookFailLogEvery {
+	if now := w.opt.Clock(); now.Sub(w.failLogged) >= webhookFailLogEvery {
 		w.failLogged, level = now, zerolog.ErrorLevel
 	}
 	lg.WithLevel(level).Err(last).Int("attempts", w.opt.MaxAttempts).Msg("webhook delivery failed, event stays pending")
