@@ -76,6 +76,9 @@ type Runner struct {
 	// series); only an outage marks the store down. Nil takes every error
 	// as an outage.
 	StoreDown func(error) bool
+	// Scheduler is the clock Serve's ticks and shutdown grace run on;
+	// nil is the wall clock.
+	Scheduler SchedulerClock
 }
 
 // storeError records err against the store's health when it is an outage.

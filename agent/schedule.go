@@ -12,10 +12,24 @@ import (
 	"time"
 
 	"github.com/robfig/cron/v3"
-	"github.com/rs/zerolog"
 
 	"github.com/dewline/dewline/agent/config"
 )
+
+// SchedulerClock is the time the schedule runs on: Serve asks it for now,
+// for a channel that fires at the next tick and for one that ends the
+// grace of a shutdown. Tests pass their own, so that ticks and grace pass
+// without waiting.
+type SchedulerClock interface {
+	Now() time.Time
+	After(d time.Duration) <-chan time.Time
+}
+
+// realClock is the wall clock.
+type realClock struct{}
+
+func (realClock) Now() time.Time                         { return time.Now() }
+func (realClock) After(d time.Duration) <-chan time.Time { return time.After(d) }
 
 // Serve runs the runner on the configured cron schedule (in the site's time
 // zone) until ctx ends: once at start to catch up, then at every tick. Runs
@@ -23,11 +37,16 @@ import (
 // and counted. Each run gets the configured timeout. When ctx ends, no new
 // run starts; the one in flight has grace to finish, then its context is
 // cancelled: its commits are atomic, so an abandoned run never moves a
-// checkpoint past an unwritten hour.
+// checkpoint past an unwritten hour. Time is Runner.Scheduler's, the wall
+// clock by default.
 func (r *Runner) Serve(ctx context.Context, grace time.Duration) error {
 	sched, err := cron.ParseStandard(r.Cfg.Schedule.Cron)
 	if err != nil {
 		return fmt.Errorf("schedule: %w", err)
+	}
+	clk := r.Scheduler
+	if clk == nil {
+		clk = realClock{}
 	}
 	// Runs use their own context so that a shutdown can give the one in
 	// flight its grace before cancelling it.
@@ -52,37 +71,33 @@ func (r *Runner) Serve(ctx context.Context, grace time.Duration) error {
 			}
 		}()
 	}
-	c := cron.New(cron.WithLocation(r.Cfg.Location), cron.WithLogger(cronLog{r.Log}),
-		cron.WithChain(cron.Recover(cronLog{r.Log})))
-	c.Schedule(sched, cron.FuncJob(job))
+	// The schedule's ticks are in the site's zone (a daily "0 6 * * *" is
+	// 06:00 there, across daylight saving).
+	next := func() time.Time { return sched.Next(clk.Now().In(r.Cfg.Location)) }
 	job() // catch up at start
-	c.Start()
-	r.Log.Info().Str("schedule", r.Cfg.Schedule.Cron).Str("zone", r.Cfg.Location.String()).Time("next", sched.Next(time.Now())).Msg("agent started")
-	<-ctx.Done()
-	stopped := c.Stop() // no new ticks; ticks already started are tracked by wg
-	<-stopped.Done()
+	r.Log.Info().Str("schedule", r.Cfg.Schedule.Cron).Str("zone", r.Cfg.Location.String()).Time("next", next()).Msg("agent started")
+	for stop := false; !stop; {
+		at := next()
+		select {
+		case <-ctx.Done():
+			stop = true
+		case <-clk.After(at.Sub(clk.Now())):
+			if !clk.Now().Before(at) { // not woken early by a wall clock set back
+				job()
+			}
+		}
+	}
 	done := make(chan struct{})
 	go func() { wg.Wait(); close(done) }()
 	select {
 	case <-done:
-	case <-time.After(grace):
+	case <-clk.After(grace):
 		r.Log.Warn().Dur("grace", grace).Msg("abandoning the run in flight")
 		cancelRuns()
 		<-done
 	}
 	r.Log.Info().Msg("agent stopped")
 	return nil
-}
-
-// cronLog routes the cron library's logging to zerolog.
-type cronLog struct{ l zerolog.Logger }
-
-func (c cronLog) Info(msg string, kv ...any) {
-	c.l.Debug().Fields(kv).Msg("cron " + msg)
-}
-
-func (c cronLog) Error(err error, msg string, kv ...any) {
-	c.l.Error().Err(err).Fields(kv).Msg("cron " + msg)
 }
 
 // Shard is one of N replicas sharing a portfolio; the zero value owns all.

@@ -3,9 +3,12 @@ package agent
 import (
 	"context"
 	"fmt"
+	"sync"
+	"sync/atomic"
 	"testing"
 	"time"
 
+	"github.com/dewline/dewline/metrics"
 	"github.com/rs/zerolog"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
@@ -85,4 +88,166 @@ func TestServe_CatchUpAndShutdown(t *testing.T) {
 	case <-time.After(5 * time.Second):
 		t.Fatal("Serve did not stop")
 	}
+}
+
+// fakeClock is a SchedulerClock that moves only when the test says so.
+// Every After signals waiting, so the test knows Serve is parked on it.
+type fakeClock struct {
+	mu      sync.Mutex
+	now     time.Time
+	timers  []fakeTimer
+	waiting chan time.Duration
+}
+
+type fakeTimer struct {
+	at time.Time
+	ch chan time.Time
+}
+
+func newFakeClock(now time.Time) *fakeClock {
+	return &fakeClock{now: now, waiting: make(chan time.Duration, 16)}
+}
+
+func (f *fakeClock) Now() time.Time {
+	f.mu.Lock()
+	defer f.mu.Unlock()
+	return f.now
+}
+
+func (f *fakeClock) After(d time.Duration) <-chan time.Time {
+	f.mu.Lock()
+	ch := make(chan time.Time, 1)
+	f.timers = append(f.timers, fakeTimer{at: f.now.Add(d), ch: ch})
+	f.mu.Unlock()
+	f.waiting <- d
+	return ch
+}
+
+// Advance moves the clock by d and fires the timers due by then.
+func (f *fakeClock) Advance(d time.Duration) {
+	f.mu.Lock()
+	defer f.mu.Unlock()
+	f.now = f.now.Add(d)
+	kept := f.timers[:0]
+	for _, t := range f.timers {
+		if t.at.After(f.now) {
+			kept = append(kept, t)
+			continue
+		}
+		t.ch <- f.now
+	}
+	f.timers = kept
+}
+
+// blockingSource holds every read until released or cancelled, and says
+// when a read started and how it ended.
+type blockingSource struct {
+	started chan struct{}
+	release chan struct{}
+	ended   chan error
+}
+
+func newBlockingSource() *blockingSource {
+	return &blockingSource{started: make(chan struct{}, 8), release: make(chan struct{}), ended: make(chan error, 8)}
+}
+
+func (s *blockingSource) Hours(ctx context.Context, _ []string, _, _ time.Time, _ func(*metrics.Hour) error) error {
+	s.started <- struct{}{}
+	select {
+	case <-s.release:
+		s.ended <- nil
+		return nil
+	case <-ctx.Done():
+		s.ended <- ctx.Err()
+		return ctx.Err()
+	}
+}
+
+// skipCounter counts the skipped ticks.
+type skipCounter struct {
+	nopObserver
+	skipped atomic.Int32
+}
+
+func (c *skipCounter) RunSkipped() { c.skipped.Add(1) }
+
+// within fails the test when ch yields nothing in a generous real time; it
+// guards against a hang, it does not time the code.
+func within[T any](t *testing.T, ch <-chan T, what string) T {
+	t.Helper()
+	select {
+	case v := <-ch:
+		return v
+	case <-time.After(10 * time.Second):
+		t.Fatalf("%s did not happen", what)
+		panic("unreachable")
+	}
+}
+
+// serveWithClock starts Serve (hourly at minute 5, the configuration's
+// schedule) on a fake clock with a source that blocks; it waits for the
+// catch-up run to start and for Serve to park on its next tick.
+func serveWithClock(t *testing.T, grace time.Duration) (clk *fakeClock, src *blockingSource, obs *skipCounter, cancel func(), done chan error) {
+	t.Helper()
+	cfg := runnerConfig(t)
+	cfg.Schedule.Cron = "5 * * * *"
+	clk = newFakeClock(time.Date(2026, 7, 14, 10, 7, 0, 0, time.UTC))
+	src, obs = newBlockingSource(), &skipCounter{}
+	r := &Runner{Cfg: cfg, Source: src, Store: newMemResults(), Log: zerolog.Nop(), Obs: obs, Scheduler: clk,
+		Clock: func() time.Time { return time.Date(2026, 7, 14, 10, 7, 0, 0, time.UTC) }}
+	ctx, stop := context.WithCancel(context.Background())
+	done = make(chan error, 1)
+	go func() { done <- r.Serve(ctx, grace) }()
+	within(t, src.started, "the catch-up run")
+	// 10:07 -> the next tick at 11:05.
+	assert.Equal(t, 58*time.Minute, within(t, clk.waiting, "waiting for the next tick"))
+	return clk, src, obs, stop, done
+}
+
+// TestServe_SkipsOverlappingTick: a tick that comes while the previous run
+// is still going starts nothing and is counted.
+func TestServe_SkipsOverlappingTick(t *testing.T) {
+	clk, src, obs, cancel, done := serveWithClock(t, time.Minute)
+	clk.Advance(58 * time.Minute) // 11:05, the catch-up run still going
+	assert.Equal(t, time.Hour, within(t, clk.waiting, "waiting for the tick after"))
+	assert.Equal(t, int32(1), obs.skipped.Load(), "the overlapping tick is skipped and counted")
+	select {
+	case <-src.started:
+		t.Fatal("a second run started while the first was going")
+	default:
+	}
+
+	cancel()
+	close(src.release) // the catch-up run ends within the grace
+	require.NoError(t, within(t, done, "Serve's return"))
+	assert.Equal(t, int32(1), obs.skipped.Load())
+}
+
+// TestServe_GraceThenCancel: on shutdown the run in flight gets the grace;
+// when the grace has passed its context is cancelled and Serve returns.
+func TestServe_GraceThenCancel(t *testing.T) {
+	clk, src, _, cancel, done := serveWithClock(t, 30*time.Second)
+	cancel()
+	assert.Equal(t, 30*time.Second, within(t, clk.waiting, "the grace timer"))
+	select {
+	case err := <-done:
+		t.Fatalf("Serve returned %v before the grace passed", err)
+	case err := <-src.ended:
+		t.Fatalf("the run in flight ended (%v) before the grace passed", err)
+	default:
+	}
+	clk.Advance(30 * time.Second)
+	assert.ErrorIs(t, within(t, src.ended, "the end of the run in flight"), context.Canceled, "the abandoned run is cancelled")
+	require.NoError(t, within(t, done, "Serve's return"))
+}
+
+// TestServe_RunEndsWithinGrace: a run that ends within the grace finishes
+// undisturbed.
+func TestServe_RunEndsWithinGrace(t *testing.T) {
+	clk, src, _, cancel, done := serveWithClock(t, 30*time.Second)
+	cancel()
+	within(t, clk.waiting, "the grace timer")
+	close(src.release)
+	require.NoError(t, within(t, src.ended, "the end of the run"), "not cancelled")
+	require.NoError(t, within(t, done, "Serve's return"))
 }
