@@ -10,7 +10,7 @@ import (
 	"path/filepath"
 	"time"
 
-	"github.com/dewline/dewline/ingest/demo"
+	"github.com/dewline/dewline/deploy/demo"
 )
 
 func runDemo(ctx context.Context, e *env, args []string) error {

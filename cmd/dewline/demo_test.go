@@ -13,7 +13,7 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
-	"github.com/dewline/dewline/ingest/demo"
+	"github.com/dewline/dewline/deploy/demo"
 )
 
 // The demo end to end, as a newcomer runs it: generate, import, analyse,

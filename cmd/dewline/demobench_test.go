@@ -11,8 +11,8 @@ import (
 
 	"github.com/rs/zerolog"
 
+	"github.com/dewline/dewline/deploy/demo"
 	"github.com/dewline/dewline/ingest/csvfile"
-	"github.com/dewline/dewline/ingest/demo"
 )
 
 // BenchmarkDemo times what "dewline demo" does between generating the

@@ -17,7 +17,7 @@ import (
 
 	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/agent/config"
-	"github.com/dewline/dewline/ingest/demo"
+	"github.com/dewline/dewline/deploy/demo"
 )
 
 func fileHashes(t *testing.T, sc *demo.Scenario) map[string][32]byte {

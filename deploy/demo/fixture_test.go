@@ -12,9 +12,9 @@ import (
 
 	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/agent/config"
+	"github.com/dewline/dewline/deploy/demo"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
-	"github.com/dewline/dewline/ingest/demo"
 	"github.com/dewline/dewline/metrics"
 )
 

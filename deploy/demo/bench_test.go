@@ -9,7 +9,7 @@ import (
 	"testing"
 	"time"
 
-	"github.com/dewline/dewline/ingest/demo"
+	"github.com/dewline/dewline/deploy/demo"
 )
 
 // BenchmarkWrite times the whole scenario (three weeks of one-minute

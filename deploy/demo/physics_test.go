@@ -7,7 +7,7 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
-	"github.com/dewline/dewline/ingest/demo"
+	"github.com/dewline/dewline/deploy/demo"
 )
 
 // TestPhysics_Invariants checks the generated physics against facts that
