@@ -19,7 +19,8 @@ import (
 //   - XL: values the PsychroLib authors computed from the ASHRAE equations.
 //   - KS: an online sea-level pressure calculator cited by PsychroLib's tests.
 //   - M2, M3: recalled from memory, to be cross-checked; disagreements are
-//     reported, not treated as failures.
+//     reported, and fail only when a row drifts beyond its recorded
+//     disagreement (memoryDisagreement) or a row that agreed stops agreeing.
 //   - CP: common practice, no source (tested in rules_test.go).
 type refRow struct {
 	id, quantity, system string
@@ -225,6 +226,18 @@ func must2(t *testing.T, id string) func(State, error) State {
 	}
 }
 
+// memoryDisagreement is, for each memory row that disagrees with the code
+// beyond its tolerance, how far it disagreed when the row was last
+// reviewed, in the row's own measure (relative or absolute), rounded up.
+// The recalled value may be the wrong one (it is from memory); the bound
+// only catches the code moving.
+var memoryDisagreement = map[string]float64{
+	// W_s at 40 °C, sea level: the code gives 0.0488826, as npm
+	// psychrolib 1.1.1's GetSatHumRatio does; the recalled 0.049141 is
+	// 0.53 % higher.
+	"M2-114": 0.0053,
+}
+
 // TestReference checks every published row of the reference table at the
 // tolerance the row gives. Sources: see refRow.
 func TestReference(t *testing.T) {
@@ -242,9 +255,15 @@ func TestReference(t *testing.T) {
 				diff, limit = math.Abs(got-r.expected), r.tol
 			}
 			if strings.HasPrefix(r.kind, "memory") {
-				// Recalled values: report, do not bend the code to them.
+				// Recalled values: report, do not bend the code to them; but
+				// a row may not drift further than its recorded disagreement
+				// (memoryDisagreement), and a row that agreed must keep
+				// agreeing, so a change to the code shows here.
 				if diff > limit {
 					t.Logf("memory row %s (%s) disagrees: got %.6g, recalled %.6g (diff %.3g > %.3g)", r.id, r.quantity, got, r.expected, diff, limit)
+					recorded, ok := memoryDisagreement[r.id]
+					assert.Truef(t, ok, "memory row %s agreed before and now disagrees by %.3g (%s tolerance %g)", r.id, diff, r.tolType, r.tol)
+					assert.LessOrEqualf(t, diff, recorded, "memory row %s moved further from the recalled value than its recorded disagreement", r.id)
 				}
 				return
 			}
