@@ -8,6 +8,8 @@ import (
 	"testing"
 
 	"github.com/dewline/dewline/psychro"
+
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // Benchmarks run the dense grid of the cross-check, state after state. The
@@ -48,7 +50,7 @@ var (
 )
 
 func psychrolibRates(b *testing.B) jsRates {
-	dir := psychrolibDir(b)
+	dir := testkit.Psychrolib(b)
 	jsOnce.Do(func() {
 		in := writeGrid(b, benchGrid, false)
 		cmd := exec.Command("node", "testdata/psychrolib.js", "bench", in, "3")

@@ -2,18 +2,17 @@ package psychro_test
 
 import (
 	"bufio"
-	"encoding/csv"
 	"fmt"
 	"math"
 	"os"
-	"os/exec"
 	"path/filepath"
-	"strconv"
 	"testing"
 
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/psychro"
+
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // gridState is one input of the dense grid: dry bulb °C, RH fraction, pressure Pa.
@@ -40,23 +39,6 @@ func denseGrid() []gridState {
 		}
 	}
 	return g
-}
-
-// psychrolibDir returns the folder holding npm psychrolib 1.1.1. Outside CI
-// a missing install skips; under CI=true it fails, because the README's test
-// command installs it.
-func psychrolibDir(t testing.TB) string {
-	t.Helper()
-	dir := os.Getenv("DEWLINE_PSYCHROLIB")
-	_, nodeErr := exec.LookPath("node")
-	if dir == "" || nodeErr != nil {
-		msg := "npm psychrolib not available: set DEWLINE_PSYCHROLIB (deploy/dev/test.sh installs it) and install node"
-		if os.Getenv("CI") == "true" {
-			t.Fatal(msg)
-		}
-		t.Skip(msg)
-	}
-	return dir
 }
 
 func writeGrid(t testing.TB, g []gridState, ip bool) string {
@@ -103,25 +85,18 @@ func (w *worst) add(got, want float64, at string) {
 // < 0.01 K (0.018 °F) on dew point and wet bulb. psychrolib stops its
 // iterations at 0.001 K, which bounds the agreement on t_d and t_wb.
 func TestPsychrolibCrossCheck(t *testing.T) {
-	dir := psychrolibDir(t)
 	grid := denseGrid()
 	for _, system := range []string{"SI", "IP"} {
 		t.Run(system, func(t *testing.T) {
 			ip := system == "IP"
-			in := writeGrid(t, grid, ip)
-			out := filepath.Join(t.TempDir(), "out.csv")
-			cmd := exec.Command("node", "testdata/psychrolib.js", "check", system, in, out)
-			cmd.Env = append(os.Environ(), "DEWLINE_PSYCHROLIB="+dir)
-			msg, err := cmd.CombinedOutput()
-			require.NoError(t, err, string(msg))
-			f, err := os.Open(out)
-			require.NoError(t, err)
-			defer f.Close()
-			r := csv.NewReader(f)
-			r.FieldsPerRecord = -1
-			rows, err := r.ReadAll()
-			require.NoError(t, err)
-			require.Len(t, rows, len(grid))
+			states := make([][3]float64, len(grid))
+			for i, g := range grid {
+				states[i] = [3]float64{g.tC, g.rh, g.pPa}
+				if ip {
+					states[i] = [3]float64{psychro.CToF(g.tC), g.rh, psychro.PaToPsi(g.pPa)}
+				}
+			}
+			rows := testkit.PsychrolibStates(t, system, states)
 
 			tTol := 0.01 // K
 			if ip {
@@ -140,12 +115,8 @@ func TestPsychrolibCrossCheck(t *testing.T) {
 			enth := checks[3]
 			plateau := 0
 			for i, g := range grid {
-				require.NotEqual(t, "error", rows[i][0], "psychrolib refused state %+v: %v", g, rows[i])
-				ref := make([]float64, 8)
-				for j := range ref {
-					ref[j], err = strconv.ParseFloat(rows[i][j], 64)
-					require.NoError(t, err)
-				}
+				ref := rows[i]
+				require.Len(t, ref, 8, "psychrolib's row for %+v", g)
 				at := fmt.Sprintf("t=%.3f°C rh=%.3f p=%.0fPa", g.tC, g.rh, g.pPa)
 				s, err := psychro.NewStateRH(g.tC, g.rh, g.pPa)
 				require.NoError(t, err, at)

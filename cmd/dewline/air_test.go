@@ -6,15 +6,14 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
-	"os"
-	"os/exec"
-	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 func runCLI(t *testing.T, args ...string) (code int, stdout, stderr string) {
@@ -29,13 +28,7 @@ func runCLI(t *testing.T, args ...string) (code int, stdout, stderr string) {
 // ASHRAE Handbook - Fundamentals 2017 ch. 1) on the same state. Tolerances:
 // 1e-4 relative on W, h, v, density; 0.01 K on dew point and wet bulb.
 func TestAir_JSONAgreesWithPsychrolib(t *testing.T) {
-	dir := os.Getenv("DEWLINE_PSYCHROLIB")
-	if _, err := exec.LookPath("node"); dir == "" || err != nil {
-		if os.Getenv("CI") == "true" {
-			t.Fatal("DEWLINE_PSYCHROLIB and node are required under CI (deploy/dev/test.sh installs them)")
-		}
-		t.Skip("set DEWLINE_PSYCHROLIB to npm psychrolib's folder to run this check")
-	}
+	testkit.Psychrolib(t)
 	cases := []struct {
 		name string
 		args []string
@@ -58,7 +51,7 @@ func TestAir_JSONAgreesWithPsychrolib(t *testing.T) {
 				require.Contains(t, got, k)
 			}
 			assert.InDelta(t, tc.pPa/1000, got["pressure_kpa"], 1e-6)
-			ref := psychrolibState(t, dir, tc.tC, got["rh_pct"]/100, tc.pPa)
+			ref := testkit.PsychrolibStates(t, "SI", [][3]float64{{tc.tC, got["rh_pct"] / 100, tc.pPa}})[0]
 			assert.InEpsilon(t, ref[0], got["humidity_ratio"], 1e-4, "W")
 			assert.InDelta(t, ref[1], got["dew_point_c"], 0.01, "dew point")
 			assert.InDelta(t, ref[2], got["wet_bulb_c"], 0.01, "wet bulb")
@@ -75,27 +68,6 @@ func TestAir_JSONAgreesWithPsychrolib(t *testing.T) {
 func pow(x, y float64) float64 {
 	r, _ := strconv.ParseFloat(fmt.Sprintf("%.17g", math.Pow(x, y)), 64)
 	return r
-}
-
-// psychrolibState returns psychrolib's W, dew point, wet bulb, h (J/kg), v, density.
-func psychrolibState(t *testing.T, dir string, tC, rh, pPa float64) []float64 {
-	t.Helper()
-	tmp := t.TempDir()
-	in, out := filepath.Join(tmp, "in.csv"), filepath.Join(tmp, "out.csv")
-	require.NoError(t, os.WriteFile(in, []byte(fmt.Sprintf("%.17g,%.17g,%.17g\n", tC, rh, pPa)), 0o600))
-	cmd := exec.Command("node", "../../psychro/testdata/psychrolib.js", "check", "SI", in, out)
-	cmd.Env = append(os.Environ(), "DEWLINE_PSYCHROLIB="+dir)
-	msg, err := cmd.CombinedOutput()
-	require.NoError(t, err, string(msg))
-	b, err := os.ReadFile(out)
-	require.NoError(t, err)
-	var vals []float64
-	for _, f := range strings.Split(strings.TrimSpace(string(b)), ",")[:6] {
-		v, err := strconv.ParseFloat(f, 64)
-		require.NoError(t, err, string(b))
-		vals = append(vals, v)
-	}
-	return vals
 }
 
 func TestAir_BadInput(t *testing.T) {

@@ -19,6 +19,8 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/agent/webhook"
+
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // The fault tests run the dewline binary as a separate process against real
@@ -519,7 +521,7 @@ func TestFault_InfluxStopped(t *testing.T) {
 // cause in its error, and leaves the checkpoint where it was; once the store
 // behaves, the next run catches up and every hour is written once.
 func TestFault_InfluxSlowOrFailing(t *testing.T) {
-	url, _ := influxEnv(t)
+	url, _ := testkit.InfluxDB(t)
 	db := freshDB(t, url, "dewline_fault")
 	proxy := startFaultProxy(t, url)
 	dir := t.TempDir()
@@ -712,7 +714,7 @@ func TestFault_ReadinessFollowsTheStore(t *testing.T) {
 //     every air handler's series: its runs fail, which is logged and counted
 //     in dewline_ahu_failures_total.
 func TestFault_OneBrokenAirHandler(t *testing.T) {
-	url, _ := influxEnv(t)
+	url, _ := testkit.InfluxDB(t)
 	db := freshDB(t, url, "dewline_fault")
 	dir := t.TempDir()
 	ahus := []string{"AHU-1", "AHU-2", "AHU-7", "AHU-8", "AHU-9"}
@@ -815,7 +817,7 @@ func TestFault_OneBrokenAirHandler(t *testing.T) {
 // from where the single replica left it: only the new hour and the
 // lookback are computed, and no alert opens a second time.
 func TestFault_Reshard(t *testing.T) {
-	url, _ := influxEnv(t)
+	url, _ := testkit.InfluxDB(t)
 	db := freshDB(t, url, "dewline_reshard")
 	ahus := []string{"AHU-1", "AHU-2", "AHU-3", "AHU-4", "AHU-5", "AHU-6"}
 	one, two0, two1 := t.TempDir(), t.TempDir(), t.TempDir()

@@ -10,27 +10,15 @@ import (
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
-)
 
-// influxEnv returns the test server's URL and database, set by
-// deploy/dev/test.sh. Outside CI a missing server skips; under CI=true it fails.
-func influxEnv(t *testing.T) (url, db string) {
-	t.Helper()
-	url, db = os.Getenv("DEWLINE_INFLUX_URL"), os.Getenv("DEWLINE_INFLUX_DB")
-	if url == "" || db == "" {
-		if os.Getenv("CI") == "true" {
-			t.Fatal("DEWLINE_INFLUX_URL and DEWLINE_INFLUX_DB are not set; deploy/dev/test.sh starts the server")
-		}
-		t.Skip("no InfluxDB test server (run deploy/dev/test.sh)")
-	}
-	return url, db
-}
+	"github.com/dewline/dewline/deploy/testkit"
+)
 
 // TestInflux_ImportAnalyzeMatchesExport: the two-day scenario imported into
 // the real InfluxDB server and analysed from it gives the same hours as
 // analysing the export directly.
 func TestInflux_ImportAnalyzeMatchesExport(t *testing.T) {
-	url, db := influxEnv(t)
+	url, db := testkit.InfluxDB(t)
 	dir := t.TempDir()
 	_, data := writeScenario(t, dir)
 	meas := fmt.Sprintf("ahu7_%d", time.Now().UnixNano())

@@ -16,6 +16,8 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/dashboards"
+
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // The dashboard reads the same figures back from InfluxDB as from the
@@ -23,7 +25,7 @@ import (
 // real InfluxDB test server), and the overview, one unit's hours and the
 // alerts are compared.
 func TestInflux_DashboardMatchesEmbedded(t *testing.T) {
-	base, _ := influxEnv(t)
+	base, _ := testkit.InfluxDB(t)
 	db := freshDB(t, base, "dash")
 	dir := t.TempDir()
 	embCfg, data := writeScenario(t, dir)

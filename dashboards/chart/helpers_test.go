@@ -8,14 +8,14 @@ import (
 	"io"
 	"math"
 	"os"
-	"os/exec"
-	"path/filepath"
 	"sort"
 	"strconv"
 	"strings"
 	"testing"
 
 	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // node is an element of a parsed SVG document.
@@ -305,39 +305,14 @@ func (r refRow) absTol() float64 {
 
 // psychrolibW returns humidity ratios from npm psychrolib 1.1.1 (an
 // independent implementation of ASHRAE Fundamentals 2017 ch. 1) for states
-// (t °C, RH fraction, p Pa), through psychro's helper script. Outside CI a
-// missing install skips; under CI=true it fails.
+// (t °C, RH fraction, p Pa). Outside CI a missing install skips; under
+// CI=true it fails.
 func psychrolibW(t *testing.T, states [][3]float64) []float64 {
 	t.Helper()
-	dir := os.Getenv("DEWLINE_PSYCHROLIB")
-	_, nodeErr := exec.LookPath("node")
-	if dir == "" || nodeErr != nil {
-		msg := "npm psychrolib not available: set DEWLINE_PSYCHROLIB (deploy/dev/test.sh installs it) and install node"
-		if os.Getenv("CI") == "true" {
-			t.Fatal(msg)
-		}
-		t.Skip(msg)
-	}
-	tmp := t.TempDir()
-	in, out := filepath.Join(tmp, "in.csv"), filepath.Join(tmp, "out.csv")
-	var b strings.Builder
-	for _, s := range states {
-		b.WriteString(strconv.FormatFloat(s[0], 'g', -1, 64) + "," + strconv.FormatFloat(s[1], 'g', -1, 64) + "," +
-			strconv.FormatFloat(s[2], 'g', -1, 64) + "\n")
-	}
-	require.NoError(t, os.WriteFile(in, []byte(b.String()), 0o644))
-	cmd := exec.Command("node", "../../psychro/testdata/psychrolib.js", "check", "SI", in, out)
-	cmd.Env = append(os.Environ(), "DEWLINE_PSYCHROLIB="+dir)
-	msg, err := cmd.CombinedOutput()
-	require.NoError(t, err, string(msg))
-	data, err := os.ReadFile(out)
-	require.NoError(t, err)
-	lines := strings.Split(strings.TrimSpace(string(data)), "\n")
-	require.Len(t, lines, len(states))
-	ws := make([]float64, len(lines))
-	for i, l := range lines {
-		ws[i], err = strconv.ParseFloat(strings.Split(l, ",")[0], 64)
-		require.NoError(t, err, l)
+	rows := testkit.PsychrolibStates(t, "SI", states)
+	ws := make([]float64, len(rows))
+	for i, r := range rows {
+		ws[i] = r[0]
 	}
 	return ws
 }

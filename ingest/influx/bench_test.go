@@ -9,6 +9,8 @@ import (
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/psychro"
+
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // benchWeek is one air handler's week of 1-minute trends: 10 points, each
@@ -89,7 +91,7 @@ func writeBenchWeek(tb testing.TB, c *Client) int {
 // × 7 days × 1 minute = 100,800 samples) from the local test server with
 // ReadPoints, raw and as 15-minute means, and reports samples/s.
 func BenchmarkInflux_ReadAirHandlerWeek(b *testing.B) {
-	url, db := influxTestServer(b)
+	url, db := testkit.InfluxDB(b)
 	c, err := New(Options{URL: url, Bucket: db + "/autogen"})
 	if err != nil {
 		b.Fatal(err)

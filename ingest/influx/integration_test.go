@@ -1,7 +1,7 @@
 package influx
 
 // Tests against the real InfluxDB server that deploy/dev/test.sh starts
-// (see influxTestServer): they skip without it outside CI and fail in CI.
+// (see testkit.InfluxDB): they skip without it outside CI and fail in CI.
 
 import (
 	"bytes"
@@ -26,13 +26,15 @@ import (
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/psychro"
+
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // realClient returns a client for the test server; opt.URL and opt.Bucket
 // default to it.
 func realClient(t *testing.T, opt Options) *Client {
 	t.Helper()
-	u, db := influxTestServer(t)
+	u, db := testkit.InfluxDB(t)
 	if opt.URL == "" {
 		opt.URL = u
 	}
@@ -448,7 +450,7 @@ func TestInflux_MissingDatabase(t *testing.T) {
 }
 
 func TestInflux_ServerDown(t *testing.T) {
-	influxTestServer(t) // part of the integration set: same skip rules
+	testkit.InfluxDB(t) // part of the integration set: same skip rules
 	ln, err := net.Listen("tcp", "127.0.0.1:0")
 	require.NoError(t, err)
 	addr := ln.Addr().String()
@@ -479,7 +481,7 @@ func TestInflux_ServerDown(t *testing.T) {
 // the request count.
 func proxy(t *testing.T, delay func(n int32) time.Duration) (string, *atomic.Int32) {
 	t.Helper()
-	target, _ := influxTestServer(t)
+	target, _ := testkit.InfluxDB(t)
 	u, err := url.Parse(target)
 	require.NoError(t, err)
 	rp := httputil.NewSingleHostReverseProxy(u)

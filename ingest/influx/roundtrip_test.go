@@ -4,39 +4,20 @@ import (
 	"context"
 	"fmt"
 	"net"
-	"os"
-	"strconv"
 	"testing"
 	"time"
 
 	influxdb2 "github.com/influxdata/influxdb-client-go/v2"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
-)
 
-// influxTestServer returns the InfluxDB server that deploy/dev/test.sh starts
-// and announces through DEWLINE_INFLUX_URL and DEWLINE_INFLUX_DB. Without them
-// the test is skipped on a developer's machine but fails in CI, where a
-// missing server means the harness is broken, not that the test is optional.
-func influxTestServer(t testing.TB) (url, db string) {
-	t.Helper()
-	url = os.Getenv("DEWLINE_INFLUX_URL")
-	db = os.Getenv("DEWLINE_INFLUX_DB")
-	if url != "" && db != "" {
-		return url, db
-	}
-	const msg = "DEWLINE_INFLUX_URL and DEWLINE_INFLUX_DB are not set; deploy/dev/test.sh starts a test server and sets them"
-	if ci, _ := strconv.ParseBool(os.Getenv("CI")); ci {
-		t.Fatal(msg)
-	}
-	t.Skip(msg)
-	return "", ""
-}
+	"github.com/dewline/dewline/deploy/testkit"
+)
 
 // TestInflux_RoundTrip writes air-handler samples through the v2 write API of
 // a real InfluxDB 1.8 server and reads them back with Flux, exactly.
 func TestInflux_RoundTrip(t *testing.T) {
-	url, db := influxTestServer(t)
+	url, db := testkit.InfluxDB(t)
 	bucket := db + "/autogen"
 	// A fresh measurement per run keeps reruns against one server independent.
 	measurement := fmt.Sprintf("ahu_trend_rt_%d", time.Now().UnixNano())
