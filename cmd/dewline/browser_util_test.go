@@ -10,7 +10,6 @@ import (
 	"math"
 	"net/http"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"regexp"
 	"strconv"
@@ -24,6 +23,8 @@ import (
 	"github.com/chromedp/cdproto/runtime"
 	"github.com/chromedp/chromedp"
 	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // Shared code of the browser tests: the scenario they serve, the dashboard
@@ -191,24 +192,6 @@ func hourlyRows(t *testing.T, path string) []map[string]string {
 // ---------------------------------------------------------------------------
 // The dashboard
 
-// syncBuffer is a bytes.Buffer safe for one writer and one reader.
-type syncBuffer struct {
-	mu sync.Mutex
-	b  bytes.Buffer
-}
-
-func (s *syncBuffer) Write(p []byte) (int, error) {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	return s.b.Write(p)
-}
-
-func (s *syncBuffer) String() string {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	return s.b.String()
-}
-
 var servedURL = regexp.MustCompile(`dashboard: (http://\S+?)/ `)
 
 // serveDash runs "dewline serve --config cfg --listen 127.0.0.1:0" in
@@ -216,7 +199,7 @@ var servedURL = regexp.MustCompile(`dashboard: (http://\S+?)/ `)
 func serveDash(t *testing.T, cfg string) string {
 	t.Helper()
 	ctx, cancel := context.WithCancel(context.Background())
-	var stdout, stderr syncBuffer
+	var stdout, stderr testkit.SyncBuffer
 	done := make(chan int, 1)
 	go func() {
 		done <- run(ctx, []string{"--log-level", "warn", "serve", "--config", cfg, "--listen", "127.0.0.1:0"}, &stdout, &stderr)
@@ -263,24 +246,6 @@ func getJSON(t *testing.T, base, path string, v any) {
 // ---------------------------------------------------------------------------
 // The browser
 
-// chromiumPath is the browser to drive: $DEWLINE_CHROMIUM, else Debian's
-// /usr/bin/chromium. Outside CI a missing browser skips the test; under
-// CI=true it fails it (deploy/dev/test.sh installs the package).
-func chromiumPath(t *testing.T) string {
-	t.Helper()
-	p := os.Getenv("DEWLINE_CHROMIUM")
-	if p == "" {
-		p = "/usr/bin/chromium"
-	}
-	if _, err := exec.LookPath(p); err != nil {
-		if os.Getenv("CI") == "true" {
-			t.Fatalf("Chromium is required under CI and %s is missing (%v): deploy/dev/test.sh installs Debian's chromium package", p, err)
-		}
-		t.Skipf("no Chromium at %s: install Debian's chromium package (apt-get install chromium) or set DEWLINE_CHROMIUM to a Chromium binary", p)
-	}
-	return p
-}
-
 // shotsDir is where the screenshots go: $DEWLINE_ARTIFACTS/browser when
 // set, else a new temporary folder. It is kept after the test, and its path
 // is printed to the test log and to stderr so that CI logs show it.
@@ -325,7 +290,7 @@ func (b *browser) stats() string {
 // folder, no network services of its own) for the rest of the test.
 func startBrowser(t *testing.T) *browser {
 	t.Helper()
-	exe := chromiumPath(t)
+	exe := testkit.Chromium(t)
 	profile := t.TempDir()
 	opts := []chromedp.ExecAllocatorOption{
 		chromedp.ExecPath(exe),

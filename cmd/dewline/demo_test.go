@@ -14,6 +14,8 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/deploy/demo"
+
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // The demo end to end, as a newcomer runs it: generate, import, analyse,
@@ -23,7 +25,7 @@ func TestDemo_EndToEnd(t *testing.T) {
 	dir := t.TempDir()
 	ctx, cancel := context.WithCancel(context.Background())
 	defer cancel()
-	var stdout, stderr syncBuffer
+	var stdout, stderr testkit.SyncBuffer
 	done := make(chan int, 1)
 	go func() {
 		done <- run(ctx, []string{"--log-level", "warn", "demo", "--dir", dir, "--listen", "127.0.0.1:0"}, &stdout, &stderr)

@@ -14,6 +14,8 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/dashboards/pdf"
+
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // reportStore fills the embedded store of analyzeConfig's scenario (one DX
@@ -116,7 +118,7 @@ const reportPages = 1 + 1 + 2 + 1 + 1 + 1
 // TestReport_PDF prints the report with headless Chromium. Outside CI a
 // missing browser skips it; under CI=true it fails.
 func TestReport_PDF(t *testing.T) {
-	t.Setenv(pdf.EnvChromium, chromiumPath(t))
+	t.Setenv(pdf.EnvChromium, testkit.Chromium(t))
 	dir, cfg, _ := reportStore(t)
 	out := filepath.Join(dir, "report.html")
 	code, stdout, errOut := runCLI(t, "report", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-15", "-o", out, "--pdf", "--paper", "letter")

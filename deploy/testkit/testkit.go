@@ -42,6 +42,21 @@ func InfluxDB(t testing.TB) (url, db string) {
 	return url, db
 }
 
+// Chromium returns the browser the browser tests drive: $DEWLINE_CHROMIUM,
+// else Debian's /usr/bin/chromium; without it the test skips, or fails
+// under CI.
+func Chromium(t testing.TB) string {
+	t.Helper()
+	p := os.Getenv("DEWLINE_CHROMIUM")
+	if p == "" {
+		p = "/usr/bin/chromium"
+	}
+	if _, err := exec.LookPath(p); err != nil {
+		Need(t, fmt.Sprintf("no Chromium at %s (%v): install Debian's chromium package (apt-get install chromium) or set DEWLINE_CHROMIUM to a Chromium binary", p, err))
+	}
+	return p
+}
+
 // Psychrolib returns the folder holding npm psychrolib 1.1.1
 // ($DEWLINE_PSYCHROLIB), the independent reference the cross-checks run
 // through node; without it or node the test skips, or fails under CI.
