@@ -6,6 +6,8 @@
 //	systemd/     a hardened service unit, its secrets file example, its user
 //	kubernetes/  a StatefulSet of sharded agents with its ConfigMap, Secret and Service
 //	docker/      a multi-stage image: static binary on a distroless base
+//	demo/        the invented demo building ("dewline demo"): its physics, logs and configuration
+//	testkit/     what the tests share: the rule for a missing service, psychrolib through node
 //
 // The tests parse every file here against the code it configures: each
 // example configuration and the one inside the ConfigMap load with
@@ -15,8 +17,11 @@
 // probes, ports, shard arguments, secret references, hardening settings and
 // the image's user and entry point are checked against each other. They
 // need the Go toolchain only: no cluster, no systemd, no container engine.
+// imports_test.go enforces the import rules of DEVELOPERS.md on the whole
+// module with go list.
 //
-// Nothing here is imported by the program, and the package must never
+// Only demo is imported by the program (by "dewline demo"); testkit is
+// imported by tests only. The package must never
 // hold secrets: the Secret manifest and the systemd environment file carry
 // empty placeholders only.
 package deploy
