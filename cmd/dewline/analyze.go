@@ -38,10 +38,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		fmt.Fprintln(fs.Output(), "usage: dewline analyze --config FILE [--from T] [--to T] [--input trends.csv ...] [--out hourly.csv|hourly.json] [--ahu ID ...] [--no-store]")
 		fs.PrintDefaults()
 	}
-	if err := parseFlags(fs, args, e.stdout); err != nil {
-		return err
-	}
-	cfg, err := loadConfig(*cfgPath)
+	cfg, err := parseWithConfig(fs, args, e.stdout)
 	if err != nil {
 		return err
 	}

@@ -26,10 +26,7 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 		fmt.Fprintln(fs.Output(), "usage: dewline check --config FILE [--input trends.csv ...] [--store [--from T] [--to T]]")
 		fs.PrintDefaults()
 	}
-	if err := parseFlags(fs, args, e.stdout); err != nil {
-		return err
-	}
-	cfg, err := loadConfig(*cfgPath)
+	cfg, err := parseWithConfig(fs, args, e.stdout)
 	if err != nil {
 		return err
 	}

@@ -117,6 +117,15 @@ func loadConfig(path string) (*config.Config, error) {
 	return config.Load(path)
 }
 
+// parseWithConfig parses a command's flags (parseFlags) and loads the
+// configuration named by its --config flag.
+func parseWithConfig(fs *flag.FlagSet, args []string, w io.Writer) (*config.Config, error) {
+	if err := parseFlags(fs, args, w); err != nil {
+		return nil, err
+	}
+	return loadConfig(fs.Lookup("config").Value.String())
+}
+
 // parseFlags parses a command's flags. Mistakes come back as a one-line
 // usage error; -h prints the flags to w and returns flag.ErrHelp.
 func parseFlags(fs *flag.FlagSet, args []string, w io.Writer) error {

@@ -37,17 +37,14 @@ func dashboardFor(cfg *config.Config, st *stores, e *env) (*dashboards.Handler, 
 
 func runServe(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("serve", flag.ContinueOnError)
-	cfgPath := fs.String("config", "", "configuration file (required)")
+	fs.String("config", "", "configuration file (required)")
 	listen := fs.String("listen", "", "host:port to listen on (default: http.listen of the configuration, 127.0.0.1:9470)")
 	fs.Usage = func() {
 		fmt.Fprintln(fs.Output(), "usage: dewline serve --config FILE [--listen 127.0.0.1:9470]")
 		fmt.Fprintln(fs.Output(), "Serves the dashboard over the results in the configured store, read-only.")
 		fs.PrintDefaults()
 	}
-	if err := parseFlags(fs, args, e.stdout); err != nil {
-		return err
-	}
-	cfg, err := loadConfig(*cfgPath)
+	cfg, err := parseWithConfig(fs, args, e.stdout)
 	if err != nil {
 		return err
 	}
