@@ -233,11 +233,5 @@ func (s *Store) ReadHourly(ctx context.Context, ahu string, from, to time.Time, 
 			break
 		}
 	}
-	if err != nil {
-		return rowsDone(rows, err)
-	}
-	if err := rowsDone(rows, nil); err != nil {
-		return fmt.Errorf("%s: %w", what, err)
-	}
-	return nil
+	return readDone(rows, err, what)
 }

@@ -84,13 +84,7 @@ func (s *Store) ReadRecords(ctx context.Context, ahu string, from, to time.Time,
 			break
 		}
 	}
-	if err != nil {
-		return rowsDone(rows, err)
-	}
-	if err := rowsDone(rows, nil); err != nil {
-		return fmt.Errorf("%s: %w", what, err)
-	}
-	return nil
+	return readDone(rows, err, what)
 }
 
 // decodeInto decodes text as written by appendFields into the fields

@@ -223,13 +223,7 @@ func (s *Store) ReadSeries(ctx context.Context, ref metrics.PointRef, from, to t
 			break
 		}
 	}
-	if err != nil {
-		return rowsDone(rows, err)
-	}
-	if err := rowsDone(rows, nil); err != nil {
-		return fmt.Errorf("read series %s: %w", quote(name), err)
-	}
-	return nil
+	return readDone(rows, err, "read series "+quote(name))
 }
 
 // unknownSeries is the error for a series that is not in the store.

@@ -225,6 +225,18 @@ func msOrNull(t time.Time) any {
 	return toMs(t)
 }
 
+// readDone ends a read that handed rows to a callback: the callback's
+// error (err) comes back as it is, the cursor's wrapped with what.
+func readDone(rows *sql.Rows, err error, what string) error {
+	if err != nil {
+		return rowsDone(rows, err)
+	}
+	if err := rowsDone(rows, nil); err != nil {
+		return fmt.Errorf("%s: %w", what, err)
+	}
+	return nil
+}
+
 // rowsDone closes rows and returns the first of err and the iteration's own
 // error, so a callback's error wins over the cursor's.
 func rowsDone(rows *sql.Rows, err error) error {
