@@ -12,6 +12,7 @@ import (
 	"sync"
 
 	"github.com/dewline/dewline/dashboards/chart"
+	"github.com/dewline/dewline/metrics/compare"
 )
 
 // --- output ---
@@ -44,13 +45,13 @@ var compareUncertainty = []string{
 	"Sampling ± (95 %): 1.96 × the standard error of the bin means, from the spread of the hourly values in each common bin. Consecutive hours are not independent, so bin sampling adds more uncertainty than this figure shows; a change smaller than the larger ± figure is not a measurable change.",
 }
 
-// CompareTable returns the comparison as a text table: a header and one
+// CompareTable returns comparison c as a text table: a header and one
 // row per unit, then the site total. Energies in kWh, water in the display
 // unit.
-func (c *Comparison) CompareTable(d Display) (header []string, rows [][]string) {
+func CompareTable(c *compare.Comparison, d Display) (header []string, rows [][]string) {
 	header = []string{"air handler", "reheat before kWh", "after (normalised) kWh", "change", "± meas.", "± sampling",
 		"avoidable reheat change", "effective EER before → after", "water change " + d.WaterUnit(), "common-bin hours before / after"}
-	row := func(u *UnitComparison, label string) []string {
+	row := func(u *compare.UnitComparison, label string) []string {
 		if !u.Compared {
 			return []string{label, fmtQty(float64(u.RawBefore.ReheatKWh)) + " (raw)", "not compared", "–", "–", "–", "–", "–", "–",
 				fmtPct(float64(u.HoursBefore.Covered)) + " / " + fmtPct(float64(u.HoursAfter.Covered))}
@@ -74,7 +75,7 @@ func (c *Comparison) CompareTable(d Display) (header []string, rows [][]string) 
 }
 
 // fmtChangePct formats a percentage change with its sign: "+12 %", "-4.5 %".
-func fmtChangePct(v Num) string {
+func fmtChangePct(v compare.Num) string {
 	f := float64(v)
 	if math.IsNaN(f) || math.IsInf(f, 0) {
 		return "–"
@@ -173,7 +174,7 @@ var compareTemplate = sync.OnceValues(func() (*template.Template, error) {
 // RenderCompare writes the comparison as one self-contained HTML page:
 // inline CSS and SVG, no script and no outside resource, so it can be
 // mailed or archived as one file.
-func RenderCompare(w io.Writer, c *Comparison, d Display) error {
+func RenderCompare(w io.Writer, c *compare.Comparison, d Display) error {
 	t, err := compareTemplate()
 	if err != nil {
 		return fmt.Errorf("compare template: %w", err)
@@ -190,7 +191,7 @@ func RenderCompare(w io.Writer, c *Comparison, d Display) error {
 	return err
 }
 
-func newCompareView(c *Comparison, d Display) (*compareView, error) {
+func newCompareView(c *compare.Comparison, d Display) (*compareView, error) {
 	v := &compareView{Site: c.Site, Before: c.Before.Label, After: c.After.Label, Currency: c.Currency,
 		BeforeSpan: spanText(c.Before), AfterSpan: spanText(c.After),
 		Method: c.Method, MinHours: c.MinHours, WaterUnit: d.WaterUnit(), TempUnit: d.TempUnit(),
@@ -203,7 +204,7 @@ func newCompareView(c *Comparison, d Display) (*compareView, error) {
 	v.Cards = []cmpCard{
 		{"card-reheat", "Reheat, normalised", fmtChangePct(t.Reheat.ChangePct),
 			fmtQty(float64(t.Reheat.Before)) + " → " + fmtQty(float64(t.Reheat.After)) + " kWh" + uncertaintyNote(t.Reheat)},
-		{"card-reheat-raw", "Reheat, raw totals", fmtChangePct(pctOf(float64(t.RawAfter.ReheatKWh-t.RawBefore.ReheatKWh), float64(t.RawBefore.ReheatKWh))),
+		{"card-reheat-raw", "Reheat, raw totals", fmtChangePct(pctChange(float64(t.RawAfter.ReheatKWh-t.RawBefore.ReheatKWh), float64(t.RawBefore.ReheatKWh))),
 			fmtQty(float64(t.RawBefore.ReheatKWh)) + " → " + fmtQty(float64(t.RawAfter.ReheatKWh)) + " kWh over " + strconv.Itoa(t.RawBefore.Hours) + " and " + strconv.Itoa(t.RawAfter.Hours) + " hours"},
 		{"card-avoidable", "Avoidable reheat, normalised", fmtChangePct(t.ReheatAvoid.ChangePct),
 			fmtQty(float64(t.ReheatAvoid.Before)) + " → " + fmtQty(float64(t.ReheatAvoid.After)) + " kWh"},
@@ -236,7 +237,7 @@ func newCompareView(c *Comparison, d Display) (*compareView, error) {
 }
 
 // uncertaintyNote lists the half-widths a change has: ", ± 12 measurement, ± 30 sampling".
-func uncertaintyNote(c Change) string {
+func uncertaintyNote(c compare.Change) string {
 	var out string
 	if v := float64(c.ChangeU95); !math.IsNaN(v) {
 		out += ", " + fmtPM(v) + " measurement"
@@ -247,12 +248,12 @@ func uncertaintyNote(c Change) string {
 	return out
 }
 
-func spanText(p Period) string {
+func spanText(p compare.Window) string {
 	return p.From.Format("2006-01-02 15:04 MST") + " to " + p.To.Format("2006-01-02 15:04 MST") + " (end excluded)"
 }
 
-func newCmpRow(u *UnitComparison, d Display, class string) cmpRow {
-	q := func(v Num) string { return fmtQty(float64(v)) }
+func newCmpRow(u *compare.UnitComparison, d Display, class string) cmpRow {
+	q := func(v compare.Num) string { return fmtQty(float64(v)) }
 	return cmpRow{ID: u.ID, Name: u.Name, Class: class, Compared: u.Compared,
 		ReheatBefore: q(u.Reheat.Before), ReheatAfter: q(u.Reheat.After), ReheatChange: fmtSigned(float64(u.Reheat.Change)),
 		Pct: fmtChangePct(u.Reheat.ChangePct), MeasU95: fmtPM(float64(u.Reheat.ChangeU95)), SampU95: fmtPM(float64(u.Reheat.SamplingU95)),
@@ -268,13 +269,13 @@ func newCmpRow(u *UnitComparison, d Display, class string) cmpRow {
 	}
 }
 
-func newCmpRawRow(u *UnitComparison, d Display, class string) cmpRawRow {
+func newCmpRawRow(u *compare.UnitComparison, d Display, class string) cmpRawRow {
 	b, a := &u.RawBefore, &u.RawAfter
-	q := func(v Num) string { return fmtQty(float64(v)) }
-	wt := func(v Num) string { return fmtQty(d.Water(float64(v))) }
+	q := func(v compare.Num) string { return fmtQty(float64(v)) }
+	wt := func(v compare.Num) string { return fmtQty(d.Water(float64(v))) }
 	return cmpRawRow{ID: u.ID, Name: u.Name, Class: class,
 		HoursBefore: strconv.Itoa(b.Hours), HoursAfter: strconv.Itoa(a.Hours),
-		ReheatBefore: q(b.ReheatKWh), ReheatAfter: q(a.ReheatKWh), Pct: fmtChangePct(pctOf(float64(a.ReheatKWh-b.ReheatKWh), float64(b.ReheatKWh))),
+		ReheatBefore: q(b.ReheatKWh), ReheatAfter: q(a.ReheatKWh), Pct: fmtChangePct(pctChange(float64(a.ReheatKWh-b.ReheatKWh), float64(b.ReheatKWh))),
 		AvoidBefore: q(b.ReheatAvoid), AvoidAfter: q(a.ReheatAvoid),
 		EERBefore: fmtFixed(float64(b.EffectiveEER), 1), EERAfter: fmtFixed(float64(a.EffectiveEER), 1),
 		WaterBefore: wt(b.WaterKg), WaterAfter: wt(a.WaterKg),
@@ -338,7 +339,7 @@ func hatch(id, fill, line string) string {
 // compareBarsSVG draws, per unit, the before figure and the normalised
 // after figure of reheat as a pair of horizontal bars with their
 // measurement half-widths.
-func compareBarsSVG(c *Comparison) (template.HTML, error) {
+func compareBarsSVG(c *compare.Comparison) (template.HTML, error) {
 	const (
 		width   = 960.0
 		labelW  = 220.0
@@ -434,7 +435,7 @@ func compareBarsSVG(c *Comparison) (template.HTML, error) {
 // period against the entering dew point (top) and the hours per bin of
 // each period (bottom), which shows the difference in humidity mix that
 // the normalisation removes.
-func compareBinSVG(u *UnitComparison, d Display, idx int) (template.HTML, error) {
+func compareBinSVG(u *compare.UnitComparison, d Display, idx int) (template.HTML, error) {
 	const (
 		width  = 960.0
 		left   = 70.0
@@ -538,11 +539,11 @@ func compareBinSVG(u *UnitComparison, d Display, idx int) (template.HTML, error)
 	// Bin means: lines over the common bins, a marker in every bin.
 	for k, p := range []struct {
 		edge, fill, dash, name string
-		val                    func(BinRow) Num
-		hours                  func(BinRow) int
+		val                    func(compare.BinRow) compare.Num
+		hours                  func(compare.BinRow) int
 	}{
-		{colorBeforeEdge, colorBefore, "", "before", func(b BinRow) Num { return b.ReheatBefore }, func(b BinRow) int { return b.HoursBefore }},
-		{colorAfterEdge, colorAfter, ` stroke-dasharray="6 4"`, "after", func(b BinRow) Num { return b.ReheatAfter }, func(b BinRow) int { return b.HoursAfter }},
+		{colorBeforeEdge, colorBefore, "", "before", func(b compare.BinRow) compare.Num { return b.ReheatBefore }, func(b compare.BinRow) int { return b.HoursBefore }},
+		{colorAfterEdge, colorAfter, ` stroke-dasharray="6 4"`, "after", func(b compare.BinRow) compare.Num { return b.ReheatAfter }, func(b compare.BinRow) int { return b.HoursAfter }},
 	} {
 		// A line joins neighbouring bins only: across a gap nothing was
 		// observed, and a straight line would suggest otherwise.
@@ -587,4 +588,12 @@ func compareBinSVG(u *UnitComparison, d Display, idx int) (template.HTML, error)
 	}
 	s.WriteString(`</svg>`)
 	return template.HTML(s.String()), nil // every text above went through svgText
+}
+
+// pctChange is 100 × change / |base|, unknown when base is zero or unknown.
+func pctChange(change, base float64) compare.Num {
+	if base == 0 || math.IsNaN(base) || math.IsNaN(change) {
+		return compare.Num(math.NaN())
+	}
+	return compare.Num(100 * change / math.Abs(base))
 }

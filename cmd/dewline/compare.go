@@ -14,11 +14,12 @@ import (
 	"time"
 
 	"github.com/dewline/dewline/dashboards"
+	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/metrics/compare"
 )
 
 // runCompare compares the stored results of two periods around a sequence
-// change, normalised for the entering-air humidity load (see
-// dashboards.Compare for the method).
+// change (see package metrics/compare for the method).
 func runCompare(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("compare", flag.ContinueOnError)
 	cfgPath := fs.String("config", "", "configuration file (required)")
@@ -27,7 +28,7 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	out := fs.String("o", "", "also write the comparison as one self-contained HTML file")
 	asJSON := fs.Bool("json", false, "print the comparison as JSON (SI units) instead of the table")
 	unitsS := fs.String("units", "", "units of the table and the HTML: si or ip (default: the site's)")
-	minHours := fs.Int("min-hours", dashboards.DefaultCompareMinHours, "hours a dew-point bin needs in each period to be used")
+	minHours := fs.Int("min-hours", compare.DefaultMinHours, "hours a dew-point bin needs in each period to be used")
 	fs.Usage = func() {
 		w := fs.Output()
 		fmt.Fprintln(w, "usage: dewline compare --config FILE --before FROM..TO --after FROM..TO [-o compare.html] [--json] [--units si|ip] [--min-hours N]")
@@ -78,7 +79,7 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	defer st.Close()
 	site := siteFor(cfg)
 	display := dashboards.DisplayFor(*unitsS, site.IP)
-	c, err := dashboards.Compare(ctx, site, st.results(time.Now), before, after, dashboards.CompareOptions{MinHours: *minHours})
+	c, err := compareStored(ctx, site, st.results(time.Now), before, after, compare.Options{MinHours: *minHours})
 	if err != nil {
 		return err
 	}
@@ -112,6 +113,35 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	return nil
 }
 
+// compareStored reads each period's stored hours of the compared units
+// once and compares them.
+func compareStored(ctx context.Context, site *dashboards.Site, res dashboards.Results, before, after dashboards.Period, opt compare.Options) (*compare.Comparison, error) {
+	in := compare.Input{Site: site.Name, Currency: site.Currency, Zone: site.Zone,
+		Before: compare.Window{From: before.From, To: before.To, Label: before.Label},
+		After:  compare.Window{From: after.From, To: after.To, Label: after.Label}, Options: opt}
+	for _, u := range site.Units {
+		in.Units = append(in.Units, compare.Unit{ID: u.ID, Name: u.Name, Spec: u.Spec})
+	}
+	a, err := compare.New(in)
+	if err != nil {
+		return nil, err
+	}
+	ahu := ""
+	if units := a.Units(); len(units) == 1 {
+		ahu = units[0].ID
+	}
+	for k, w := range []compare.Window{in.Before, in.After} {
+		err := res.Hours(ctx, ahu, w.From, w.To, func(r *metrics.Record) error {
+			a.Add(compare.Side(k), r)
+			return nil
+		})
+		if err != nil {
+			return nil, fmt.Errorf("read the %s period's hours: %w", [2]string{"before", "after"}[k], err)
+		}
+	}
+	return a.Result()
+}
+
 // parsePeriodFlag reads FROM..TO. A date is a whole local day (TO's day
 // included); a time is an instant (TO excluded).
 func parsePeriodFlag(name, s string, loc *time.Location) (dashboards.Period, error) {
@@ -141,7 +171,7 @@ func parsePeriodFlag(name, s string, loc *time.Location) (dashboards.Period, err
 
 // printComparison writes the comparison as text: the periods, the table,
 // the warnings, the method and the caution.
-func printComparison(w io.Writer, c *dashboards.Comparison, d dashboards.Display) {
+func printComparison(w io.Writer, c *compare.Comparison, d dashboards.Display) {
 	site := c.Site
 	if site == "" {
 		site = "site"
@@ -149,7 +179,7 @@ func printComparison(w io.Writer, c *dashboards.Comparison, d dashboards.Display
 	fmt.Fprintf(w, "%s: before %s, after %s\n", site, c.Before.Label, c.After.Label)
 	fmt.Fprintf(w, "hours stored: before %d, after %d; usable (entering dew point, enough coverage): before %d, after %d\n\n",
 		c.Total.HoursBefore.Stored, c.Total.HoursAfter.Stored, c.Total.HoursBefore.Usable, c.Total.HoursAfter.Usable)
-	header, rows := c.CompareTable(d)
+	header, rows := dashboards.CompareTable(c, d)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, strings.Join(header, "\t"))
 	for _, r := range rows {

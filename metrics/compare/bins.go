@@ -1,12 +1,10 @@
-package dashboards
+package compare
 
 import (
-	"context"
 	"errors"
 	"fmt"
 	"math"
 	"slices"
-	"time"
 
 	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/psychro"
@@ -45,7 +43,7 @@ import (
 // Uncertainty has two parts, reported apart:
 //   - measurement: the per-hour 95 % half-widths (reheat, avoidable reheat,
 //     water) are normalised like the values (bin means weighted by the
-//     before hours); within a period they add linearly, as in Totals
+//     before hours); within a period they add linearly, as in Sums
 //     (a sensor's bias repeats from hour to hour). For the change the two
 //     periods are combined in quadrature: the same sensors serve both
 //     periods, so their errors are positively correlated or independent,
@@ -64,10 +62,10 @@ var ErrPeriodsOverlap = errors.New("the before and after periods overlap")
 // ErrNoHours is returned when a period has no stored hour to compare.
 var ErrNoHours = errors.New("no hours to compare")
 
-// Defaults of CompareOptions.
+// Defaults of Options.
 const (
-	DefaultCompareBinK     = 1.0
-	DefaultCompareMinHours = 3
+	DefaultBinK     = 1.0
+	DefaultMinHours = 3
 	defaultMinCoverage     = 0.9
 	// coveredWarn: below this share of a period's usable hours in common
 	// bins, the output warns that the figures describe part of the period.
@@ -76,15 +74,15 @@ const (
 	z95 = 1.959964
 )
 
-// CompareMethod states the method in plain words, for the outputs.
-const CompareMethod = "Normalised for the entering-air humidity load by the bin method: " +
+// BinMethod states the method in plain words, for the outputs.
+const BinMethod = "Normalised for the entering-air humidity load by the bin method: " +
 	"hours are grouped by entering dew point; only bins with enough hours in both periods are used; " +
 	"in each bin the mean hourly value of each period is taken, and both periods' bin means are weighted " +
 	"by the before period's hours per bin. The after figure is what the new sequence would have used " +
 	"under the before period's humidity conditions. Effective EER is the ratio of the normalised sums."
 
-// CompareOptions tunes Compare; zero values take the defaults.
-type CompareOptions struct {
+// Options tunes Compare; zero values take the defaults.
+type Options struct {
 	BinK     float64 // width of the dew-point bins, K (default 1)
 	MinHours int     // hours a bin needs in each period to be used (default 3, at least 2)
 	// MinCoverage is the share of covered steps an hour needs to be used
@@ -99,8 +97,8 @@ type CompareOptions struct {
 type Comparison struct {
 	Site     string           `json:"site"`
 	Currency string           `json:"currency"`
-	Before   Period           `json:"before"`
-	After    Period           `json:"after"`
+	Before   Window           `json:"before"`
+	After    Window           `json:"after"`
 	BinK     Num              `json:"bin_width_k"`
 	MinHours int              `json:"min_hours_per_bin"`
 	Method   string           `json:"method"`
@@ -117,8 +115,8 @@ type UnitComparison struct {
 	Name        string `json:"name"`
 	MinCoverage Num    `json:"min_coverage"`
 	// Raw totals of every stored hour of each period, not normalised.
-	RawBefore Totals `json:"raw_before"`
-	RawAfter  Totals `json:"raw_after"`
+	RawBefore Sums `json:"raw_before"`
+	RawAfter  Sums `json:"raw_after"`
 	// Hours of each period, and how many were usable and in common bins.
 	HoursBefore SideHours `json:"hours_before"`
 	HoursAfter  SideHours `json:"hours_after"`
@@ -184,30 +182,6 @@ type BinRow struct {
 	ReheatAfter  Num `json:"reheat_kwh_per_h_after"`
 }
 
-// PeriodBetween describes [from, to) as a Period in zone: whole local days
-// are labelled as dates (the last one inclusive), other bounds with their
-// local time.
-func PeriodBetween(from, to time.Time, zone *time.Location) Period {
-	if zone == nil {
-		zone = time.UTC
-	}
-	f, t := from.In(zone), to.In(zone)
-	p := Period{Kind: "custom", From: f, To: t}
-	if f.Equal(midnight(f)) && t.Equal(midnight(t)) {
-		last := t.AddDate(0, 0, -1)
-		p.DateFrom, p.DateTo = f.Format(dateLayout), last.Format(dateLayout)
-		if p.DateFrom == p.DateTo {
-			p.Label = f.Format("Mon 2 Jan 2006")
-		} else {
-			p.Label = f.Format("2 Jan 2006") + " – " + last.Format("2 Jan 2006")
-		}
-		return p
-	}
-	p.Kind = "span"
-	p.Label = f.Format("2 Jan 2006 15:04") + " – " + t.Format("2 Jan 2006 15:04") + " (" + zone.String() + ", end excluded)"
-	return p
-}
-
 // The quantities averaged per bin.
 const (
 	qReheat = iota
@@ -263,12 +237,12 @@ type dpBin struct {
 }
 
 type side struct {
-	raw   Totals
+	raw   Sums
 	hours SideHours
 	bins  map[int]*dpBin
 }
 
-func newSide() side { return side{raw: NewTotals(), bins: map[int]*dpBin{}} }
+func newSide() side { return side{raw: NewSums(), bins: map[int]*dpBin{}} }
 
 func (s *side) add(r *metrics.Record, binK, minCov float64) {
 	s.hours.Stored++
@@ -295,20 +269,26 @@ func (s *side) add(r *metrics.Record, binK, minCov float64) {
 	}
 }
 
-// Compare compares every configured unit (or opt.Units) between two
-// periods [before.From, before.To) and [after.From, after.To), normalised
-// for the entering-air humidity load as described above. It reads each
-// period's hours once and keeps only per-bin sums, so memory does not grow
-// with the periods' length.
-func Compare(ctx context.Context, site *Site, res Results, before, after Period, opt CompareOptions) (*Comparison, error) {
-	if site == nil || res == nil {
-		return nil, errors.New("compare: a site and a results source are required")
-	}
+// Analysis collects the hours of two periods and compares them. Make one
+// with New, give it every stored hour of each period with Add (in any
+// order), then call Result.
+type Analysis struct {
+	in     Input
+	units  []Unit
+	index  map[string]int
+	sides  [][2]side
+	minCov []float64
+	raw    [2]Sums
+}
+
+// New checks the input and returns an empty analysis.
+func New(in Input) (*Analysis, error) {
+	opt := &in.Options
 	if opt.BinK == 0 {
-		opt.BinK = DefaultCompareBinK
+		opt.BinK = DefaultBinK
 	}
 	if opt.MinHours == 0 {
-		opt.MinHours = DefaultCompareMinHours
+		opt.MinHours = DefaultMinHours
 	}
 	switch {
 	case !(opt.BinK > 0) || math.IsInf(opt.BinK, 0):
@@ -318,9 +298,10 @@ func Compare(ctx context.Context, site *Site, res Results, before, after Period,
 	case opt.MinCoverage < 0 || opt.MinCoverage > 1 || math.IsNaN(opt.MinCoverage):
 		return nil, fmt.Errorf("compare: minimum coverage %g: use a share between 0 and 1", opt.MinCoverage)
 	}
+	before, after := in.Before, in.After
 	for _, p := range []struct {
 		name string
-		p    Period
+		p    Window
 	}{{"before", before}, {"after", after}} {
 		if !p.p.To.After(p.p.From) {
 			return nil, fmt.Errorf("compare: the %s period %s is empty or ends before it starts: give its start first", p.name, p.p.Label)
@@ -330,58 +311,68 @@ func Compare(ctx context.Context, site *Site, res Results, before, after Period,
 		return nil, fmt.Errorf("%w: before %s, after %s; choose periods that do not share any hour",
 			ErrPeriodsOverlap, before.Label, after.Label)
 	}
-
-	units := site.Units
+	units := in.Units
 	if len(opt.Units) > 0 {
 		units = nil
 		for _, id := range opt.Units {
-			u, ok := site.Unit(id)
-			if !ok {
+			i := slices.IndexFunc(in.Units, func(u Unit) bool { return u.ID == id })
+			if i < 0 {
 				return nil, fmt.Errorf("compare: no air handler %q in the configuration", id)
 			}
-			units = append(units, u)
+			units = append(units, in.Units[i])
 		}
 	}
-	c := &Comparison{Site: site.Name, Currency: site.Currency, Before: before, After: after,
-		BinK: Num(opt.BinK), MinHours: opt.MinHours, Method: CompareMethod, Warnings: []string{}}
-	index := map[string]int{}
-	sides := make([][2]side, len(units))
-	minCov := make([]float64, len(units))
+	a := &Analysis{in: in, units: units, index: map[string]int{}, sides: make([][2]side, len(units)),
+		minCov: make([]float64, len(units)), raw: [2]Sums{NewSums(), NewSums()}}
 	for i, u := range units {
-		index[u.ID] = i
-		sides[i] = [2]side{newSide(), newSide()}
-		minCov[i] = defaultMinCoverage
+		a.index[u.ID] = i
+		a.sides[i] = [2]side{newSide(), newSide()}
+		a.minCov[i] = defaultMinCoverage
 		if u.Spec != nil && u.Spec.Thresholds.MinCoverage > 0 {
-			minCov[i] = u.Spec.Thresholds.MinCoverage
+			a.minCov[i] = u.Spec.Thresholds.MinCoverage
 		}
 		if opt.MinCoverage > 0 {
-			minCov[i] = opt.MinCoverage
+			a.minCov[i] = opt.MinCoverage
 		}
 	}
-	ahu := ""
-	if len(units) == 1 {
-		ahu = units[0].ID
+	return a, nil
+}
+
+// Units returns the units compared, in configuration order.
+func (a *Analysis) Units() []Unit { return a.units }
+
+// Add takes one stored hour of period s. Hours of other units, and hours
+// outside the period's window, are ignored. r is not kept.
+func (a *Analysis) Add(s Side, r *metrics.Record) {
+	w := a.window(s)
+	i, ok := a.index[r.AHU]
+	if !ok || s > After || r.HourStart.Before(w.From) || !r.HourStart.Before(w.To) {
+		return
 	}
-	siteRaw := [2]Totals{NewTotals(), NewTotals()}
-	for k, p := range []Period{before, after} {
-		err := res.Hours(ctx, ahu, p.From, p.To, func(r *metrics.Record) error {
-			if i, ok := index[r.AHU]; ok {
-				sides[i][k].add(r, opt.BinK, minCov[i])
-				siteRaw[k].Add(r)
-			}
-			return nil
-		})
-		if err != nil {
-			return nil, fmt.Errorf("read the %s period's hours: %w", [2]string{"before", "after"}[k], err)
-		}
+	a.sides[i][s].add(r, a.in.Options.BinK, a.minCov[i])
+	a.raw[s].Add(r)
+}
+
+func (a *Analysis) window(s Side) Window {
+	if s == After {
+		return a.in.After
 	}
+	return a.in.Before
+}
+
+// Result compares what was added.
+func (a *Analysis) Result() (*Comparison, error) {
+	in, opt := &a.in, a.in.Options
+	before, after := in.Before, in.After
+	c := &Comparison{Site: in.Site, Currency: in.Currency, Before: before, After: after,
+		BinK: Num(opt.BinK), MinHours: opt.MinHours, Method: BinMethod, Warnings: []string{}}
 
 	// A period without any usable hour cannot be compared at all.
-	for k, p := range []Period{before, after} {
+	for k, p := range []Window{before, after} {
 		stored, usable := 0, 0
-		for i := range sides {
-			stored += sides[i][k].hours.Stored
-			usable += sides[i][k].hours.Usable
+		for i := range a.sides {
+			stored += a.sides[i][k].hours.Stored
+			usable += a.sides[i][k].hours.Usable
 		}
 		name := [2]string{"before", "after"}[k]
 		if stored == 0 {
@@ -394,13 +385,14 @@ func Compare(ctx context.Context, site *Site, res Results, before, after Period,
 		}
 	}
 
+	siteRaw := a.raw
 	siteRaw[0].finish()
 	siteRaw[1].finish()
 	c.Total = UnitComparison{ID: "", Name: "Site", MinCoverage: Num(math.NaN()), RawBefore: siteRaw[0], RawAfter: siteRaw[1], Warnings: []string{}}
 	tot := newTotalSum()
-	for i, u := range units {
-		uc := compareUnit(u, sides[i], opt, minCov[i])
-		if !uc.Compared && len(units) > 1 {
+	for i, u := range a.units {
+		uc := compareUnit(u, a.sides[i], opt, a.minCov[i])
+		if !uc.Compared && len(a.units) > 1 {
 			uc.Warnings = append(uc.Warnings, "left out of the site's normalised total")
 		}
 		for _, w := range uc.Warnings {
@@ -420,7 +412,7 @@ func Compare(ctx context.Context, site *Site, res Results, before, after Period,
 }
 
 // compareUnit normalises one unit.
-func compareUnit(u Unit, s [2]side, opt CompareOptions, minCov float64) UnitComparison {
+func compareUnit(u Unit, s [2]side, opt Options, minCov float64) UnitComparison {
 	b, a := &s[0], &s[1]
 	b.raw.finish()
 	a.raw.finish()
@@ -639,7 +631,7 @@ func (t *totalSum) add(uc *UnitComparison) {
 		f.samp2 += math.Pow(float64(c.SamplingU95), 2) // units sample independently
 		if math.IsNaN(float64(c.BeforeU95)) {
 			f.knownU = false
-		} else { // linear across units, like Totals
+		} else { // linear across units, like Sums
 			f.bU += float64(c.BeforeU95)
 			f.aU += float64(c.AfterU95)
 		}
