@@ -199,4 +199,3 @@ func TestPeriodBetween(t *testing.T) {
 	assert.Equal(t, "span", p.Kind)
 	assert.Contains(t, p.Label, "1 Jun 2026 06:00")
 }
-

@@ -64,9 +64,9 @@ var ErrNoHours = errors.New("no hours to compare")
 
 // Defaults of Options.
 const (
-	DefaultBinK     = 1.0
-	DefaultMinHours = 3
-	defaultMinCoverage     = 0.9
+	DefaultBinK        = 1.0
+	DefaultMinHours    = 3
+	defaultMinCoverage = 0.9
 	// coveredWarn: below this share of a period's usable hours in common
 	// bins, the output warns that the figures describe part of the period.
 	coveredWarn = 0.5

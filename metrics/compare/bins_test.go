@@ -110,7 +110,6 @@ func alternating(lo, hi float64) func(int) map[string]float64 {
 	}
 }
 
-
 // mixFixture: the same behaviour in every bin, but a different mix of
 // humid hours. Dry bin: reheat alternates 1 and 3 kWh (mean 2); humid bin:
 // 9 and 11 (mean 10).
