@@ -51,7 +51,7 @@ var compareUncertainty = []string{
 func CompareTable(c *compare.Comparison, d Display) (header []string, rows [][]string) {
 	header = []string{"air handler", "reheat before kWh", "after (normalised) kWh", "change", "± meas.", "± sampling",
 		"avoidable reheat change", "effective EER before → after", "water change " + d.WaterUnit(), "common-bin hours before / after"}
-	row := func(u *compare.UnitComparison, label string) []string {
+	row := func(u *compare.BinCheck, label string) []string {
 		if !u.Compared {
 			return []string{label, fmtQty(float64(u.RawBefore.ReheatKWh)) + " (raw)", "not compared", "–", "–", "–", "–", "–", "–",
 				fmtPct(float64(u.HoursBefore.Covered)) + " / " + fmtPct(float64(u.HoursAfter.Covered))}
@@ -66,10 +66,10 @@ func CompareTable(c *compare.Comparison, d Display) (header []string, rows [][]s
 		}
 	}
 	for i := range c.Units {
-		rows = append(rows, row(&c.Units[i], c.Units[i].ID))
+		rows = append(rows, row(&c.Units[i].Bins, c.Units[i].ID))
 	}
 	if len(c.Units) > 1 {
-		rows = append(rows, row(&c.Total, "site"))
+		rows = append(rows, row(&c.Total.Bins, "site"))
 	}
 	return header, rows
 }
@@ -194,13 +194,13 @@ func RenderCompare(w io.Writer, c *compare.Comparison, d Display) error {
 func newCompareView(c *compare.Comparison, d Display) (*compareView, error) {
 	v := &compareView{Site: c.Site, Before: c.Before.Label, After: c.After.Label, Currency: c.Currency,
 		BeforeSpan: spanText(c.Before), AfterSpan: spanText(c.After),
-		Method: c.Method, MinHours: c.MinHours, WaterUnit: d.WaterUnit(), TempUnit: d.TempUnit(),
+		Method: c.BinMethod, MinHours: c.MinHours, WaterUnit: d.WaterUnit(), TempUnit: d.TempUnit(),
 		BinWidth: fmtFixed(d.Delta(float64(c.BinK)), 1) + " " + d.DeltaUnit(),
 		Warnings: c.Warnings, Uncertainty: compareUncertainty, Caution: CompareCaution}
 	if d.IP {
 		v.BinWidth += " = " + fmtFixed(float64(c.BinK), 1) + " K"
 	}
-	t := &c.Total
+	t := &c.Total.Bins
 	v.Cards = []cmpCard{
 		{"card-reheat", "Reheat, normalised", fmtChangePct(t.Reheat.ChangePct),
 			fmtQty(float64(t.Reheat.Before)) + " → " + fmtQty(float64(t.Reheat.After)) + " kWh" + uncertaintyNote(t.Reheat)},
@@ -213,8 +213,8 @@ func newCompareView(c *compare.Comparison, d Display) (*compareView, error) {
 			"of the usable hours before / after"},
 	}
 	for i := range c.Units {
-		v.Rows = append(v.Rows, newCmpRow(&c.Units[i], d, ""))
-		v.Raw = append(v.Raw, newCmpRawRow(&c.Units[i], d, ""))
+		v.Rows = append(v.Rows, newCmpRow(&c.Units[i].Bins, d, ""))
+		v.Raw = append(v.Raw, newCmpRawRow(&c.Units[i].Bins, d, ""))
 	}
 	if len(c.Units) > 1 {
 		v.Rows = append(v.Rows, newCmpRow(t, d, "total"))
@@ -226,7 +226,7 @@ func newCompareView(c *compare.Comparison, d Display) (*compareView, error) {
 	}
 	v.Bars = bars
 	for i := range c.Units {
-		u := &c.Units[i]
+		u := &c.Units[i].Bins
 		svg, err := compareBinSVG(u, d, i)
 		if err != nil {
 			return nil, err
@@ -252,7 +252,7 @@ func spanText(p compare.Window) string {
 	return p.From.Format("2006-01-02 15:04 MST") + " to " + p.To.Format("2006-01-02 15:04 MST") + " (end excluded)"
 }
 
-func newCmpRow(u *compare.UnitComparison, d Display, class string) cmpRow {
+func newCmpRow(u *compare.BinCheck, d Display, class string) cmpRow {
 	q := func(v compare.Num) string { return fmtQty(float64(v)) }
 	return cmpRow{ID: u.ID, Name: u.Name, Class: class, Compared: u.Compared,
 		ReheatBefore: q(u.Reheat.Before), ReheatAfter: q(u.Reheat.After), ReheatChange: fmtSigned(float64(u.Reheat.Change)),
@@ -269,7 +269,7 @@ func newCmpRow(u *compare.UnitComparison, d Display, class string) cmpRow {
 	}
 }
 
-func newCmpRawRow(u *compare.UnitComparison, d Display, class string) cmpRawRow {
+func newCmpRawRow(u *compare.BinCheck, d Display, class string) cmpRawRow {
 	b, a := &u.RawBefore, &u.RawAfter
 	q := func(v compare.Num) string { return fmtQty(float64(v)) }
 	wt := func(v compare.Num) string { return fmtQty(d.Water(float64(v))) }
@@ -354,7 +354,7 @@ func compareBarsSVG(c *compare.Comparison) (template.HTML, error) {
 	h := top + float64(max(n, 1))*pitch + bottom
 	lo, hi := 0.0, 0.0
 	for i := range c.Units {
-		u := &c.Units[i]
+		u := &c.Units[i].Bins
 		for _, x := range []float64{float64(u.Reheat.Before + u.Reheat.BeforeU95), float64(u.Reheat.After + u.Reheat.AfterU95),
 			float64(u.Reheat.Before), float64(u.Reheat.After)} {
 			if !math.IsNaN(x) && !math.IsInf(x, 0) {
@@ -385,7 +385,7 @@ func compareBarsSVG(c *compare.Comparison) (template.HTML, error) {
 	fmt.Fprintf(&s, `<text x="%s" y="%s" text-anchor="middle" fill="%s">reheat, kWh</text>`, cx((x0+x1)/2), cx(yEnd+30), colorCmpMuted)
 	fmt.Fprintf(&s, `<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s"/>`, cx(x(0)), cx(top-4), cx(x(0)), cx(yEnd), colorCmpAxis)
 	for i := range c.Units {
-		u := &c.Units[i]
+		u := &c.Units[i].Bins
 		y := top + float64(i)*pitch
 		label := u.Name
 		if u.Name != u.ID {
@@ -435,7 +435,7 @@ func compareBarsSVG(c *compare.Comparison) (template.HTML, error) {
 // period against the entering dew point (top) and the hours per bin of
 // each period (bottom), which shows the difference in humidity mix that
 // the normalisation removes.
-func compareBinSVG(u *compare.UnitComparison, d Display, idx int) (template.HTML, error) {
+func compareBinSVG(u *compare.BinCheck, d Display, idx int) (template.HTML, error) {
 	const (
 		width  = 960.0
 		left   = 70.0

@@ -178,7 +178,7 @@ func printComparison(w io.Writer, c *compare.Comparison, d dashboards.Display) {
 	}
 	fmt.Fprintf(w, "%s: before %s, after %s\n", site, c.Before.Label, c.After.Label)
 	fmt.Fprintf(w, "hours stored: before %d, after %d; usable (entering dew point, enough coverage): before %d, after %d\n\n",
-		c.Total.HoursBefore.Stored, c.Total.HoursAfter.Stored, c.Total.HoursBefore.Usable, c.Total.HoursAfter.Usable)
+		c.Total.Bins.HoursBefore.Stored, c.Total.Bins.HoursAfter.Stored, c.Total.Bins.HoursBefore.Usable, c.Total.Bins.HoursAfter.Usable)
 	header, rows := dashboards.CompareTable(c, d)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, strings.Join(header, "\t"))

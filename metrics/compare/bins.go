@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"time"
 
 	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/psychro"
@@ -91,6 +92,9 @@ type Options struct {
 	// pull a bin's mean down.
 	MinCoverage float64
 	Units       []string // compare only these units (default: every configured unit)
+	// NormaliseTo also reports the savings normalised to the drivers of
+	// "before" or "after" (default: none).
+	NormaliseTo string
 }
 
 // Comparison is the before/after comparison of a site.
@@ -101,16 +105,22 @@ type Comparison struct {
 	After    Window           `json:"after"`
 	BinK     Num              `json:"bin_width_k"`
 	MinHours int              `json:"min_hours_per_bin"`
-	Method   string           `json:"method"`
-	Units    []UnitComparison `json:"units"`
-	// Total sums the units that could be compared (a unit without common
-	// bins is left out of it and named in Warnings).
-	Total    UnitComparison `json:"total"`
-	Warnings []string       `json:"warnings"`
+	// Method states the headline method (the baseline model), BinMethod
+	// the check.
+	Method    string           `json:"method"`
+	BinMethod string           `json:"bin_method"`
+	Normalise string           `json:"normalised_to,omitempty"` // before or after, when asked
+	Units     []UnitComparison `json:"units"`
+	// Total sums the units: the models' savings, and the bin check of the
+	// units that could be compared (a unit without common bins is left
+	// out of it and named in Warnings).
+	Total    SiteTotal `json:"total"`
+	Warnings []string  `json:"warnings"`
 }
 
-// UnitComparison is one air handler (or the site total) before and after.
-type UnitComparison struct {
+// BinCheck is the bin method's comparison of one air handler (or of the
+// site total) before and after.
+type BinCheck struct {
 	ID          string `json:"id"`
 	Name        string `json:"name"`
 	MinCoverage Num    `json:"min_coverage"`
@@ -279,6 +289,7 @@ type Analysis struct {
 	sides  [][2]side
 	minCov []float64
 	raw    [2]Sums
+	rows   [][2][]hourRow
 }
 
 // New checks the input and returns an empty analysis.
@@ -297,6 +308,11 @@ func New(in Input) (*Analysis, error) {
 		return nil, fmt.Errorf("compare: minimum hours per bin %d: use 2 or more (a bin needs two hours to show its spread)", opt.MinHours)
 	case opt.MinCoverage < 0 || opt.MinCoverage > 1 || math.IsNaN(opt.MinCoverage):
 		return nil, fmt.Errorf("compare: minimum coverage %g: use a share between 0 and 1", opt.MinCoverage)
+	case opt.NormaliseTo != "" && opt.NormaliseTo != "before" && opt.NormaliseTo != "after":
+		return nil, fmt.Errorf("compare: normalise to %q: use before or after", opt.NormaliseTo)
+	}
+	if in.Zone == nil {
+		in.Zone = time.UTC
 	}
 	before, after := in.Before, in.After
 	for _, p := range []struct {
@@ -323,7 +339,7 @@ func New(in Input) (*Analysis, error) {
 		}
 	}
 	a := &Analysis{in: in, units: units, index: map[string]int{}, sides: make([][2]side, len(units)),
-		minCov: make([]float64, len(units)), raw: [2]Sums{NewSums(), NewSums()}}
+		minCov: make([]float64, len(units)), raw: [2]Sums{NewSums(), NewSums()}, rows: make([][2][]hourRow, len(units))}
 	for i, u := range units {
 		a.index[u.ID] = i
 		a.sides[i] = [2]side{newSide(), newSide()}
@@ -351,6 +367,9 @@ func (a *Analysis) Add(s Side, r *metrics.Record) {
 	}
 	a.sides[i][s].add(r, a.in.Options.BinK, a.minCov[i])
 	a.raw[s].Add(r)
+	if row, ok := rowOf(r, a.minCov[i], a.in.Zone); ok {
+		a.rows[i][s] = append(a.rows[i][s], row)
+	}
 }
 
 func (a *Analysis) window(s Side) Window {
@@ -365,7 +384,8 @@ func (a *Analysis) Result() (*Comparison, error) {
 	in, opt := &a.in, a.in.Options
 	before, after := in.Before, in.After
 	c := &Comparison{Site: in.Site, Currency: in.Currency, Before: before, After: after,
-		BinK: Num(opt.BinK), MinHours: opt.MinHours, Method: BinMethod, Warnings: []string{}}
+		BinK: Num(opt.BinK), MinHours: opt.MinHours, Method: ModelMethod, BinMethod: BinMethod,
+		Normalise: opt.NormaliseTo, Warnings: []string{}}
 
 	// A period without any usable hour cannot be compared at all.
 	for k, p := range []Window{before, after} {
@@ -388,22 +408,32 @@ func (a *Analysis) Result() (*Comparison, error) {
 	siteRaw := a.raw
 	siteRaw[0].finish()
 	siteRaw[1].finish()
-	c.Total = UnitComparison{ID: "", Name: "Site", MinCoverage: Num(math.NaN()), RawBefore: siteRaw[0], RawAfter: siteRaw[1], Warnings: []string{}}
+	c.Total = SiteTotal{Savings: []Savings{},
+		Bins: BinCheck{ID: "", Name: "Site", MinCoverage: Num(math.NaN()), RawBefore: siteRaw[0], RawAfter: siteRaw[1], Warnings: []string{}}}
 	tot := newTotalSum()
+	var binWarns []string
 	for i, u := range a.units {
-		uc := compareUnit(u, a.sides[i], opt, a.minCov[i])
-		if !uc.Compared && len(a.units) > 1 {
-			uc.Warnings = append(uc.Warnings, "left out of the site's normalised total")
+		bc := compareUnit(u, a.sides[i], opt, a.minCov[i])
+		if !bc.Compared && len(a.units) > 1 {
+			bc.Warnings = append(bc.Warnings, "left out of the site's normalised total")
 		}
+		for _, w := range bc.Warnings {
+			binWarns = append(binWarns, u.Name+" ("+u.ID+"): bin check: "+w)
+		}
+		tot.add(&bc)
+		uc := unitResult(u, bc, a.rows[i], opt.NormaliseTo)
 		for _, w := range uc.Warnings {
 			c.Warnings = append(c.Warnings, u.Name+" ("+u.ID+"): "+w)
 		}
-		tot.add(&uc)
 		c.Units = append(c.Units, uc)
 	}
-	tot.finish(&c.Total)
-	if !c.Total.Compared {
-		c.Warnings = append(c.Warnings, "no air handler has a dew-point bin with enough hours in both periods: there is nothing to normalise; choose longer periods, periods with more similar weather, or fewer hours per bin")
+	c.Warnings = append(c.Warnings, binWarns...)
+	tot.finish(&c.Total.Bins)
+	for q := 0; q < nY; q++ {
+		c.Total.Savings = append(c.Total.Savings, siteSavings(c.Units, q))
+	}
+	if !c.Total.Bins.Compared {
+		c.Warnings = append(c.Warnings, "bin check: no air handler has a dew-point bin with enough hours in both periods: there is nothing to normalise; choose longer periods, periods with more similar weather, or fewer hours per bin")
 	}
 	if after.From.Before(before.From) {
 		c.Warnings = append(c.Warnings, "the after period comes before the before period; the change reads from the before period to the after period as given")
@@ -412,11 +442,11 @@ func (a *Analysis) Result() (*Comparison, error) {
 }
 
 // compareUnit normalises one unit.
-func compareUnit(u Unit, s [2]side, opt Options, minCov float64) UnitComparison {
+func compareUnit(u Unit, s [2]side, opt Options, minCov float64) BinCheck {
 	b, a := &s[0], &s[1]
 	b.raw.finish()
 	a.raw.finish()
-	uc := UnitComparison{ID: u.ID, Name: u.Name, MinCoverage: Num(minCov), RawBefore: b.raw, RawAfter: a.raw, Warnings: []string{}}
+	uc := BinCheck{ID: u.ID, Name: u.Name, MinCoverage: Num(minCov), RawBefore: b.raw, RawAfter: a.raw, Warnings: []string{}}
 
 	keys := make([]int, 0, len(b.bins)+len(a.bins))
 	for k := range b.bins {
@@ -600,11 +630,11 @@ func newTotalSum() *totalSum {
 	return t
 }
 
-func (uc *UnitComparison) changes() [7]*Change {
+func (uc *BinCheck) changes() [7]*Change {
 	return [7]*Change{&uc.Reheat, &uc.ReheatAvoid, &uc.CoolingInput, &uc.CoilTotal, &uc.ReheatInput, &uc.Water, &uc.Cost}
 }
 
-func (t *totalSum) add(uc *UnitComparison) {
+func (t *totalSum) add(uc *BinCheck) {
 	for _, p := range [2]struct {
 		src SideHours
 		dst *SideHours
@@ -638,7 +668,7 @@ func (t *totalSum) add(uc *UnitComparison) {
 	}
 }
 
-func (t *totalSum) finish(total *UnitComparison) {
+func (t *totalSum) finish(total *BinCheck) {
 	t.before.Covered, t.after.Covered = share(t.before.InCommon, t.before.Usable), share(t.after.InCommon, t.after.Usable)
 	total.HoursBefore, total.HoursAfter = t.before, t.after
 	total.Compared = t.compared > 0

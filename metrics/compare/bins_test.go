@@ -154,7 +154,7 @@ func TestCompare_SameBehaviourDifferentWeather(t *testing.T) {
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err)
 	require.Len(t, c.Units, 1)
-	u := c.Units[0]
+	u := c.Units[0].Bins
 	// Raw totals, by construction: 160 and 320 kWh.
 	assert.InDelta(t, 160, float64(u.RawBefore.ReheatKWh), 1e-9)
 	assert.InDelta(t, 320, float64(u.RawAfter.ReheatKWh), 1e-9)
@@ -187,7 +187,7 @@ func TestCompare_HalvedReheat(t *testing.T) {
 	halfFixture(m, "AHU-1")
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err)
-	u := c.Units[0]
+	u := c.Units[0].Bins
 	assert.InDelta(t, 240, float64(u.RawBefore.ReheatKWh), 1e-9)
 	assert.InDelta(t, 140, float64(u.RawAfter.ReheatKWh), 1e-9)
 	assert.InDelta(t, 240, float64(u.Reheat.Before), 1e-9)
@@ -213,15 +213,15 @@ func TestCompare_SiteTotal(t *testing.T) {
 	require.NoError(t, err)
 	// Site: before 160 + 240 = 400, after 160 + 120 = 280 -> -30 %; raw
 	// 400 -> 320 + 140 = 460.
-	assert.InDelta(t, 400, float64(c.Total.Reheat.Before), 1e-9)
-	assert.InDelta(t, 280, float64(c.Total.Reheat.After), 1e-9)
-	assert.InDelta(t, -30, float64(c.Total.Reheat.ChangePct), 1e-9)
-	assert.InDelta(t, 400, float64(c.Total.RawBefore.ReheatKWh), 1e-9)
-	assert.InDelta(t, 460, float64(c.Total.RawAfter.ReheatKWh), 1e-9)
-	assert.Equal(t, 80, c.Total.HoursBefore.InCommon)
+	assert.InDelta(t, 400, float64(c.Total.Bins.Reheat.Before), 1e-9)
+	assert.InDelta(t, 280, float64(c.Total.Bins.Reheat.After), 1e-9)
+	assert.InDelta(t, -30, float64(c.Total.Bins.Reheat.ChangePct), 1e-9)
+	assert.InDelta(t, 400, float64(c.Total.Bins.RawBefore.ReheatKWh), 1e-9)
+	assert.InDelta(t, 460, float64(c.Total.Bins.RawAfter.ReheatKWh), 1e-9)
+	assert.Equal(t, 80, c.Total.Bins.HoursBefore.InCommon)
 	// Only AHU-2 has hourly half-widths, so the site has none: a sum that
 	// leaves a unit out would understate it.
-	assert.True(t, math.IsNaN(float64(c.Total.Reheat.ChangeU95)))
+	assert.True(t, math.IsNaN(float64(c.Total.Bins.Reheat.ChangeU95)))
 }
 
 // Bins missing from one period, or with too few hours in it, are left out
@@ -252,7 +252,7 @@ func TestCompare_MissingBins(t *testing.T) {
 
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err)
-	u := c.Units[0]
+	u := c.Units[0].Bins
 	assert.Equal(t, 2, u.CommonBins)
 	assert.Equal(t, SideHours{Stored: 50, Usable: 50, InCommon: 40, Covered: 0.8}, u.HoursBefore)
 	assert.Equal(t, 50, u.HoursAfter.Stored)
@@ -287,8 +287,8 @@ func TestCompare_MissingBins(t *testing.T) {
 	// 1080; after 50 + 10×100 = 1050.
 	c, err = run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{MinHours: 2})
 	require.NoError(t, err)
-	assert.InDelta(t, 1080, float64(c.Units[0].Reheat.Before), 1e-9)
-	assert.InDelta(t, 1050, float64(c.Units[0].Reheat.After), 1e-9)
+	assert.InDelta(t, 1080, float64(c.Units[0].Bins.Reheat.Before), 1e-9)
+	assert.InDelta(t, 1050, float64(c.Units[0].Bins.Reheat.After), 1e-9)
 }
 
 // Effective EER is the ratio of the normalised sums:
@@ -323,14 +323,14 @@ func TestCompare_EERIsRatioOfSums(t *testing.T) {
 	cmpHours(m, "AHU-1", &at, 15, dpHumid, f(40, 0, 8, 0))
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err)
-	e := c.Units[0].EER
+	e := c.Units[0].Bins.EER
 	assert.InEpsilon(t, 3.412*550/180, float64(e.Before), 5e-4)
 	assert.InEpsilon(t, 3.412*580/150, float64(e.After), 5e-4)
 	assert.Greater(t, math.Abs(float64(e.Before)-11.09), 0.5, "not the mean of the hourly ratios")
 	assert.InEpsilon(t, 100*(580.0/150-550.0/180)/(550.0/180), float64(e.ChangePct), 5e-4)
 	// The raw totals' EER is of the raw sums: after coil 700, reheat 10,
 	// input 145 + 10: 3.412 × 690/155 = 15.19.
-	assert.InEpsilon(t, 3.412*690/155, float64(c.Units[0].RawAfter.EffectiveEER), 5e-4)
+	assert.InEpsilon(t, 3.412*690/155, float64(c.Units[0].Bins.RawAfter.EffectiveEER), 5e-4)
 }
 
 func TestCompare_NoCommonBins(t *testing.T) {
@@ -341,13 +341,13 @@ func TestCompare_NoCommonBins(t *testing.T) {
 	cmpHours(m, "AHU-1", &at, 20, dpWet, reheatOnly(5))
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err, "a comparison that cannot be normalised is reported, not refused")
-	u := c.Units[0]
+	u := c.Units[0].Bins
 	assert.False(t, u.Compared)
 	assert.True(t, math.IsNaN(float64(u.Reheat.After)))
 	assert.InDelta(t, 0, float64(u.HoursBefore.Covered), 1e-12)
 	assert.True(t, hasWarning(u.Warnings, "do not overlap enough"), u.Warnings)
 	assert.True(t, hasWarning(c.Warnings, "nothing to normalise"), c.Warnings)
-	assert.False(t, c.Total.Compared)
+	assert.False(t, c.Total.Bins.Compared)
 }
 
 func TestCompare_Errors(t *testing.T) {
@@ -399,11 +399,11 @@ func TestCompare_JSON(t *testing.T) {
 	var back map[string]any
 	require.NoError(t, json.Unmarshal(b, &back))
 	units := back["units"].([]any)
-	u := units[0].(map[string]any)
+	u := units[0].(map[string]any)["bin_check"].(map[string]any)
 	assert.Nil(t, u["reheat_kwh"].(map[string]any)["after_normalised"])
 	assert.Equal(t, false, u["compared"])
-	assert.Contains(t, back["method"], "before period's hours per bin")
-	assert.Equal(t, []any{}, back["total"].(map[string]any)["warnings"], "an empty list, not null")
+	assert.Contains(t, back["bin_method"], "before period's hours per bin")
+	assert.Equal(t, []any{}, back["total"].(map[string]any)["bin_check"].(map[string]any)["warnings"], "an empty list, not null")
 }
 
 func hasWarning(list []string, sub string) bool {
@@ -429,7 +429,7 @@ func TestCompare_PartlyCoveredWarns(t *testing.T) {
 	// Given in the other order, the periods are still compared as named.
 	c, err := run(cmpSite("AHU-1"), m, cmpAfter, cmpBefore, Options{})
 	require.NoError(t, err)
-	u := c.Units[0]
+	u := c.Units[0].Bins
 	assert.InDelta(t, 20.0/22, float64(u.HoursBefore.Covered), 1e-12)
 	assert.InDelta(t, 0.4, float64(u.HoursAfter.Covered), 1e-12)
 	assert.True(t, hasWarning(u.Warnings, "only 40 % of the after period's usable hours fall in bins common to both periods"), u.Warnings)
