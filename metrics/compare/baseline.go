@@ -62,7 +62,11 @@ type Savings struct {
 	U90   Num `json:"u90"`
 	FSU68 Num `json:"fsu68"`
 	FSU90 Num `json:"fsu90"`
-	// Significant: |Avoided| > U90.
+	// RegU68, RegU90: the least-squares prediction interval of the same
+	// sum (predictionU), which counts every parameter of the model.
+	RegU68 Num `json:"u68_regression"`
+	RegU90 Num `json:"u90_regression"`
+	// Significant: |Avoided| > the larger 90 % half-width.
 	Significant bool   `json:"significant"`
 	Finding     string `json:"finding"`
 	// Normalised, when asked: the savings under another period's drivers.
@@ -123,7 +127,7 @@ type HourFit struct {
 // Model is the baseline-model result of one unit.
 type Model struct {
 	Usable        [2]int          `json:"usable_hours"` // before, after
-	DewPointKnots []Num           `json:"dewpoint_change_points_c"`
+	HumRatioKnots []Num           `json:"humidity_ratio_change_points_g_per_kg"`
 	TempKnots     []Num           `json:"temp_change_points_c"`
 	OccupiedHours int             `json:"occupied_hours_of_week"`
 	Savings       []Savings       `json:"savings"` // reheat, cooling input, water removed, cost
@@ -140,13 +144,17 @@ func (m *Model) Reheat() *Savings {
 }
 
 // rowOf returns the model row of r, false when the hour cannot be used.
-func rowOf(r *metrics.Record, minCov float64, zone *time.Location) (hourRow, bool) {
+func rowOf(r *metrics.Record, minCov, pressurePa float64, zone *time.Location) (hourRow, bool) {
 	if !(r.Coverage >= minCov) || !finite(r.EnteringDewPointC) || !finite(r.EnteringTempC) || !finite(r.DryAirKg) {
+		return hourRow{}, false
+	}
+	w, err := psychro.HumRatioFromDewPoint(r.EnteringDewPointC, pressurePa)
+	if err != nil {
 		return hourRow{}, false
 	}
 	lt := r.HourStart.In(zone)
 	row := hourRow{t: r.HourStart, how: int(lt.Weekday())*24 + lt.Hour(),
-		dpC: r.EnteringDewPointC, tC: r.EnteringTempC, m: r.DryAirKg / 1000, supplyDPC: r.LeavingDewPointC,
+		dpC: r.EnteringDewPointC, wGkg: 1000 * w, tC: r.EnteringTempC, m: r.DryAirKg / 1000, supplyDPC: r.LeavingDewPointC,
 		y: [nY]float64{r.ReheatKWh, r.CoolingInputKWh, r.WaterRemovedKg, r.Cost}}
 	return row, true
 }
@@ -156,14 +164,14 @@ func buildModel(before, after []hourRow, normaliseTo string) (*Model, []string) 
 	var warns []string
 	sortRows(before)
 	sortRows(after)
-	md := &Model{Usable: [2]int{len(before), len(after)}, DewPointKnots: []Num{}, TempKnots: []Num{},
+	md := &Model{Usable: [2]int{len(before), len(after)}, HumRatioKnots: []Num{}, TempKnots: []Num{},
 		Savings: []Savings{}, Extrapolation: []Extrapolation{}, Hours: []HourFit{}}
 	if len(before) == 0 || len(after) == 0 {
 		return md, []string{"no usable hour (entering dew point and temperature, airflow, enough coverage) in one of the periods: no baseline model"}
 	}
 	f := fitModel(before)
 	for _, k := range f.dpKnots {
-		md.DewPointKnots = append(md.DewPointKnots, Num(k))
+		md.HumRatioKnots = append(md.HumRatioKnots, Num(k))
 	}
 	for _, k := range f.tKnots {
 		md.TempKnots = append(md.TempKnots, Num(k))
@@ -201,18 +209,29 @@ func buildModel(before, after []hourRow, normaliseTo string) (*Model, []string) 
 	for q := 0; q < nY; q++ {
 		s := Savings{Quantity: yNames[q], Fit: f.stats[q]}
 		var base, meas float64
-		for i := range md.Hours {
-			h := &md.Hours[i]
-			if h.Period != "after" || !finite(float64(h.Measured[q])) || !finite(float64(h.Predicted[q])) {
+		half := f.cols() / 2
+		sumRow := [2][]float64{make([]float64, f.cols()), make([]float64, f.cols())}
+		var modeHours [2]int
+		for i := range after {
+			r := &after[i]
+			if !finite(r.y[q]) || !f.ok[q] {
 				continue
 			}
-			base += float64(h.Predicted[q])
-			meas += float64(h.Measured[q])
+			base += f.predict(q, r, buf)
+			md := 0
+			if !f.isOccupied(r) {
+				md = 1
+			}
+			modeHours[md]++
+			for j := md * half; j < (md+1)*half; j++ {
+				sumRow[md][j] += buf[j]
+			}
+			meas += r.y[q]
 			s.Hours++
 		}
 		if !f.ok[q] || s.Hours == 0 {
 			nan := Num(math.NaN())
-			s.Baseline, s.Measured, s.Avoided, s.AvoidedPct, s.U68, s.U90, s.FSU68, s.FSU90 = nan, nan, nan, nan, nan, nan, nan, nan
+			s.Baseline, s.Measured, s.Avoided, s.AvoidedPct, s.U68, s.U90, s.FSU68, s.FSU90, s.RegU68, s.RegU90 = nan, nan, nan, nan, nan, nan, nan, nan, nan, nan
 			s.Finding = FindingNoModel
 			md.Savings = append(md.Savings, s)
 			continue
@@ -222,6 +241,12 @@ func buildModel(before, after []hourRow, normaliseTo string) (*Model, []string) 
 		s.U68 = Num(savingsU(s.Fit, s.Hours, base, 0.68))
 		s.U90 = Num(savingsU(s.Fit, s.Hours, base, 0.90))
 		s.FSU68, s.FSU90 = ratio(s.U68, s.Avoided), ratio(s.U90, s.Avoided)
+		modes := make([]modeVar, 2)
+		for md := range modes {
+			modes[md] = modeVar{sigma2: f.modeSigma2[q][md], m: modeHours[md], quad: f.fits[q].quad(sumRow[md])}
+		}
+		s.RegU68 = Num(predictionU(s.Fit, modes, 0.68))
+		s.RegU90 = Num(predictionU(s.Fit, modes, 0.90))
 		s.Finding = finding(&s)
 		if post != nil && post.ok[q] {
 			s.Normalised = normalised(f, post, normal, q, normaliseTo)
@@ -297,8 +322,14 @@ func ratio(a, b Num) Num {
 	return Num(math.Abs(float64(a) / float64(b)))
 }
 
+// U90Used is the half-width the finding is judged on: the larger of the
+// Guideline 14 figure and the regression's prediction interval at 90 %.
+func (s *Savings) U90Used() float64 {
+	return math.Max(float64(s.U90), float64(s.RegU90))
+}
+
 func finding(s *Savings) string {
-	a, u := float64(s.Avoided), float64(s.U90)
+	a, u := float64(s.Avoided), s.U90Used()
 	switch {
 	case !finite(a):
 		return FindingNoModel
@@ -405,7 +436,7 @@ func fmtPct1(v float64) string {
 // independent, so their half-widths add in quadrature.
 func siteSavings(units []UnitComparison, q int) Savings {
 	s := Savings{Quantity: yNames[q], Fit: FitStats{MeanY: Num(math.NaN()), CVRMSE: Num(math.NaN()), NMBE: Num(math.NaN()), R2: Num(math.NaN()), Rho: Num(math.NaN()), NEff: Num(math.NaN())}}
-	var b, m, u68, u90 float64
+	var b, m, u68, u90, r68, r90 float64
 	n := 0
 	for i := range units {
 		if units[i].Model == nil || len(units[i].Model.Savings) <= q {
@@ -421,15 +452,18 @@ func siteSavings(units []UnitComparison, q int) Savings {
 		m += float64(x.Measured)
 		u68 += float64(x.U68) * float64(x.U68)
 		u90 += float64(x.U90) * float64(x.U90)
+		r68 += float64(x.RegU68) * float64(x.RegU68)
+		r90 += float64(x.RegU90) * float64(x.RegU90)
 	}
 	if n == 0 {
 		nan := Num(math.NaN())
-		s.Baseline, s.Measured, s.Avoided, s.AvoidedPct, s.U68, s.U90, s.FSU68, s.FSU90 = nan, nan, nan, nan, nan, nan, nan, nan
+		s.Baseline, s.Measured, s.Avoided, s.AvoidedPct, s.U68, s.U90, s.FSU68, s.FSU90, s.RegU68, s.RegU90 = nan, nan, nan, nan, nan, nan, nan, nan, nan, nan
 		s.Finding = FindingNoModel
 		return s
 	}
 	s.Baseline, s.Measured, s.Avoided, s.AvoidedPct = Num(b), Num(m), Num(b-m), pct(b-m, b)
 	s.U68, s.U90 = Num(math.Sqrt(u68)), Num(math.Sqrt(u90))
+	s.RegU68, s.RegU90 = Num(math.Sqrt(r68)), Num(math.Sqrt(r90))
 	s.FSU68, s.FSU90 = ratio(s.U68, s.Avoided), ratio(s.U90, s.Avoided)
 	s.Finding = finding(&s)
 	return s

@@ -99,12 +99,12 @@ type Options struct {
 
 // Comparison is the before/after comparison of a site.
 type Comparison struct {
-	Site     string           `json:"site"`
-	Currency string           `json:"currency"`
-	Before   Window           `json:"before"`
-	After    Window           `json:"after"`
-	BinK     Num              `json:"bin_width_k"`
-	MinHours int              `json:"min_hours_per_bin"`
+	Site     string `json:"site"`
+	Currency string `json:"currency"`
+	Before   Window `json:"before"`
+	After    Window `json:"after"`
+	BinK     Num    `json:"bin_width_k"`
+	MinHours int    `json:"min_hours_per_bin"`
 	// Method states the headline method (the baseline model), BinMethod
 	// the check.
 	Method    string           `json:"method"`
@@ -283,13 +283,14 @@ func (s *side) add(r *metrics.Record, binK, minCov float64) {
 // with New, give it every stored hour of each period with Add (in any
 // order), then call Result.
 type Analysis struct {
-	in     Input
-	units  []Unit
-	index  map[string]int
-	sides  [][2]side
-	minCov []float64
-	raw    [2]Sums
-	rows   [][2][]hourRow
+	in       Input
+	units    []Unit
+	index    map[string]int
+	sides    [][2]side
+	minCov   []float64
+	raw      [2]Sums
+	rows     [][2][]hourRow
+	pressure []float64
 }
 
 // New checks the input and returns an empty analysis.
@@ -343,6 +344,10 @@ func New(in Input) (*Analysis, error) {
 	for i, u := range units {
 		a.index[u.ID] = i
 		a.sides[i] = [2]side{newSide(), newSide()}
+		a.pressure = append(a.pressure, psychro.StandardPressurePa)
+		if u.Spec != nil && u.Spec.PressurePa > 0 {
+			a.pressure[i] = u.Spec.PressurePa
+		}
 		a.minCov[i] = defaultMinCoverage
 		if u.Spec != nil && u.Spec.Thresholds.MinCoverage > 0 {
 			a.minCov[i] = u.Spec.Thresholds.MinCoverage
@@ -367,7 +372,7 @@ func (a *Analysis) Add(s Side, r *metrics.Record) {
 	}
 	a.sides[i][s].add(r, a.in.Options.BinK, a.minCov[i])
 	a.raw[s].Add(r)
-	if row, ok := rowOf(r, a.minCov[i], a.in.Zone); ok {
+	if row, ok := rowOf(r, a.minCov[i], a.pressure[i], a.in.Zone); ok {
 		a.rows[i][s] = append(a.rows[i][s], row)
 	}
 }

@@ -12,7 +12,7 @@ import (
 // cost), the before period's hourly values are fitted by ordinary least
 // squares against the drivers the engine records every hour:
 //
-//	y = Σ_mode [mode] × ( a + m × (b + Σ_j c_j seg_j(Td_in) + Σ_k d_k seg_k(T_in)) )
+//	y = Σ_mode [mode] × ( a + m × (b + Σ_j c_j seg_j(W_in) + Σ_k d_k seg_k(T_in)) )
 //
 //   - mode is occupied or unoccupied, by the hour of the week in the
 //     site's zone: an hour of the week is occupied when the unit's mean
@@ -20,15 +20,20 @@ import (
 //     such mean (hours of the week the before period did not see are
 //     judged by their own airflow);
 //   - m is the dry-air mass moved in the hour (t), the airflow driver;
-//   - seg_j(Td_in) are the pieces of the entering dew point between
-//     change points at the before period's quartiles, and seg_k(T_in) those
+//   - seg_j(W_in) are the pieces of the entering humidity ratio (from the
+//     entering dew point, ASHRAE Fundamentals 2017 ch. 1 eqs. 22 and 20,
+//     package psychro) between change points at the before period's
+//     sextiles, and seg_k(T_in) those
 //     of the entering temperature between its terciles: the piecewise-
 //     linear (change-point) basis of the time-of-week-and-temperature
 //     model (Mathieu, Price, Kiliccote and Piette, IEEE Trans. Smart Grid
 //     2011), whose time-of-week terms are reduced here to the two
 //     occupancy modes and whose temperature terms are multiplied by the
 //     airflow, because an air handler's hourly energy is airflow times a
-//     per-kilogram effect of the entering state.
+//     per-kilogram effect of the entering state. The humidity ratio rather
+//     than the dew point: the water a coil removes is a hinge in it
+//     (m (W_in − W_coil) above the coil's saturation), which the
+//     piecewise-linear basis then follows.
 //
 // Outdoor temperature is not a driver: the hourly record does not carry
 // it; the entering temperature (mixed or return air) carries its effect on
@@ -51,7 +56,7 @@ var yNames = [nY]string{"reheat_kwh", "cooling_input_kwh", "water_removed_kg", "
 
 // Change-point fractions of the drivers' distributions.
 var (
-	dpKnotQ = []float64{0.25, 0.5, 0.75}
+	dpKnotQ = []float64{1.0 / 6, 2.0 / 6, 3.0 / 6, 4.0 / 6, 5.0 / 6}
 	tKnotQ  = []float64{1.0 / 3, 2.0 / 3}
 )
 
@@ -60,6 +65,7 @@ type hourRow struct {
 	t          time.Time
 	how        int // hour of the week, local, 0 = Sunday 00:00
 	dpC, tC, m float64
+	wGkg       float64 // entering humidity ratio, g/kg, from the dew point
 	supplyDPC  float64
 	y          [nY]float64
 }
@@ -67,11 +73,13 @@ type hourRow struct {
 // modelForm is a fitted baseline: its change points, occupancy and
 // coefficients per quantity.
 type modelForm struct {
-	dpKnots, tKnots []float64
+	dpKnots, tKnots []float64 // humidity-ratio (g/kg) and temperature change points
 	occupied        [168]int8 // 1 occupied, -1 unoccupied, 0 unseen
 	mThreshold      float64   // airflow that counts as occupied for unseen hours
 	beta            [nY][]float64
+	fits            [nY]*lsFit
 	ok              [nY]bool
+	modeSigma2      [nY][2]float64 // residual variance per mode (occupied, unoccupied)
 	stats           [nY]FitStats
 	// driver ranges of the fitted hours
 	dpMin, dpMax, tMin, tMax, mMin, mMax float64
@@ -117,7 +125,7 @@ func (f *modelForm) row(dst []float64, r *hourRow) {
 	d[0] = 1
 	d[1] = r.m
 	nd := len(f.dpKnots) + 1
-	segs(d[2:2+nd], r.dpC, f.dpKnots)
+	segs(d[2:2+nd], r.wGkg, f.dpKnots)
 	segs(d[2+nd:], r.tC, f.tKnots)
 	for j := 2; j < half; j++ {
 		d[j] *= r.m
@@ -155,14 +163,18 @@ func fitModel(rows []hourRow) *modelForm {
 	var howSum [168]float64
 	var howN [168]int
 	for i := range rows {
-		dp[i], tt[i], ms[i] = rows[i].dpC, rows[i].tC, rows[i].m
+		dp[i], tt[i], ms[i] = rows[i].wGkg, rows[i].tC, rows[i].m
 		howSum[rows[i].how] += rows[i].m
 		howN[rows[i].how]++
 	}
 	slices.Sort(dp)
 	slices.Sort(tt)
 	slices.Sort(ms)
-	f.dpMin, f.dpMax, f.tMin, f.tMax, f.mMin, f.mMax = dp[0], dp[len(dp)-1], tt[0], tt[len(tt)-1], ms[0], ms[len(ms)-1]
+	f.tMin, f.tMax, f.mMin, f.mMax = tt[0], tt[len(tt)-1], ms[0], ms[len(ms)-1]
+	f.dpMin, f.dpMax = math.Inf(1), math.Inf(-1)
+	for i := range rows {
+		f.dpMin, f.dpMax = math.Min(f.dpMin, rows[i].dpC), math.Max(f.dpMax, rows[i].dpC)
+	}
 	for _, q := range dpKnotQ {
 		f.dpKnots = append(f.dpKnots, quantile(dp, q))
 	}
@@ -203,8 +215,9 @@ func fitModel(rows []hourRow) *modelForm {
 		if n == 0 {
 			continue
 		}
-		beta, kept := leastSquares(x, n, p, y)
-		f.beta[q], f.ok[q] = beta, true
+		fit := solveLS(x, n, p, y)
+		beta, kept := fit.beta, fit.kept
+		f.beta[q], f.fits[q], f.ok[q] = beta, fit, true
 		yhat := make([]float64, n)
 		gap := make([]bool, n)
 		for i := range y {
@@ -218,6 +231,34 @@ func fitModel(rows []hourRow) *modelForm {
 			}
 		}
 		f.stats[q] = fitStats(y, yhat, kept, gap)
+		// Residual variance per occupancy mode, over the mode's own
+		// hours and kept columns (the first half of the columns is the
+		// occupied mode's).
+		var sse [2]float64
+		var nm, km [2]int
+		for i := range y {
+			md := 0
+			if !f.isOccupied(&rows[idx[i]]) {
+				md = 1
+			}
+			sse[md] += (y[i] - yhat[i]) * (y[i] - yhat[i])
+			nm[md]++
+		}
+		for j := 0; j < p; j++ {
+			if !fit.drop[j] {
+				km[j/(p/2)]++
+			}
+		}
+		all := math.NaN()
+		if n > kept {
+			all = (sse[0] + sse[1]) / float64(n-kept)
+		}
+		for md := 0; md < 2; md++ {
+			f.modeSigma2[q][md] = all
+			if nm[md] > km[md] {
+				f.modeSigma2[q][md] = sse[md] / float64(nm[md]-km[md])
+			}
+		}
 	}
 	return f
 }

@@ -129,6 +129,52 @@ func savingsU(s FitStats, m int, baselineSum, conf float64) float64 {
 	return t * g14Factor * math.Abs(cv*baselineSum) * math.Sqrt((n/nEff)*(1+2/nEff)/float64(m))
 }
 
+// modeVar is one occupancy mode's share of a prediction's variance: its
+// residual variance (the modes' columns are disjoint, so each has its own
+// parameters and its own scatter), its reporting hours and its part of
+// s′(X′X)⁻¹s.
+type modeVar struct {
+	sigma2 float64
+	m      int
+	quad   float64
+}
+
+// predictionU is the half-width at two-sided confidence conf of
+// Σ measured − Σ predicted over the reporting hours when nothing changed,
+// from the regression itself. Per occupancy mode, the residual variance
+// σ² = SSE/(n−p) times (m + s′(X′X)⁻¹s), where s is the sum of the mode's
+// reporting-hour design rows (the parameters' error, common to every
+// hour, plus each hour's own scatter); the modes add, and the total is
+// inflated by n/n′ for the autocorrelation of hourly residuals:
+//
+//	U = t(conf, n−p) × sqrt(n/n′ × Σ_mode σ²_mode (m_mode + s′(X′X)⁻¹s))
+//
+// This is the ordinary least-squares prediction interval of a sum. The
+// Guideline 14 formula approximates s′(X′X)⁻¹s by 2m/n, which holds for a
+// two-parameter model, and uses one σ for all hours; with the tens of
+// parameters of an hourly model, and a unit that is off at night, it
+// understates the uncertainty, so the findings use the larger of the two.
+func predictionU(s FitStats, modes []modeVar, conf float64) float64 {
+	nEff := float64(s.NEff)
+	if s.N <= s.P || !(nEff > 0) {
+		return math.NaN()
+	}
+	t, err := StudentTQuantile(0.5+conf/2, float64(s.N-s.P))
+	if err != nil {
+		return math.NaN()
+	}
+	var v float64
+	for _, md := range modes {
+		if md.m > 0 {
+			v += md.sigma2 * (float64(md.m) + md.quad)
+		}
+	}
+	if math.IsNaN(v) {
+		return math.NaN()
+	}
+	return t * math.Sqrt(float64(s.N)/nEff*v)
+}
+
 // errQuantile is returned for a probability or degrees of freedom out of range.
 var errQuantile = errors.New("compare: Student's t quantile needs 0 < p < 1 and dof > 0")
 
@@ -242,6 +288,43 @@ func betaCF(x, a, b float64) float64 {
 // tens of columns), so the normal equations on scaled columns are
 // accurate enough; the tests check the fit against a known line.
 func leastSquares(x []float64, n, p int, y []float64) (beta []float64, kept int) {
+	f := solveLS(x, n, p, y)
+	return f.beta, f.kept
+}
+
+// lsFit is a least-squares solution with what the variance of a
+// prediction needs: the Cholesky factor of the scaled X'X.
+type lsFit struct {
+	p     int
+	beta  []float64
+	kept  int
+	l     []float64 // lower triangle, p×p, scaled columns
+	drop  []bool
+	scale []float64
+}
+
+// quad returns s' (X'X)⁻¹ s over the kept columns: the variance of the
+// prediction s'β in units of the residual variance.
+func (f *lsFit) quad(s []float64) float64 {
+	z := make([]float64, f.p)
+	var q float64
+	for j := 0; j < f.p; j++ {
+		if f.drop[j] {
+			continue
+		}
+		v := s[j] / f.scale[j]
+		for k := 0; k < j; k++ {
+			if !f.drop[k] {
+				v -= f.l[j*f.p+k] * z[k]
+			}
+		}
+		z[j] = v / f.l[j*f.p+j]
+		q += z[j] * z[j]
+	}
+	return q
+}
+
+func solveLS(x []float64, n, p int, y []float64) *lsFit {
 	scale := make([]float64, p)
 	for j := 0; j < p; j++ {
 		var s float64
@@ -313,7 +396,8 @@ func leastSquares(x []float64, n, p int, y []float64) (beta []float64, kept int)
 		}
 		z[j] = s / a[j*p+j]
 	}
-	beta = make([]float64, p)
+	beta := make([]float64, p)
+	kept := 0
 	for j := p - 1; j >= 0; j-- {
 		if drop[j] {
 			continue
@@ -332,5 +416,5 @@ func leastSquares(x []float64, n, p int, y []float64) (beta []float64, kept int)
 			beta[j] /= scale[j]
 		}
 	}
-	return beta, kept
+	return &lsFit{p: p, beta: beta, kept: kept, l: a, drop: drop, scale: scale}
 }
