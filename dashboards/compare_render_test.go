@@ -5,6 +5,7 @@ import (
 	"encoding/xml"
 	"errors"
 	"io"
+	"math"
 	"regexp"
 	"strings"
 	"testing"
@@ -109,6 +110,32 @@ func cmpRun(t *testing.T, in *compare.Input, m *memResults) *compare.Comparison 
 	return c
 }
 
+// modelFixture adds two fortnights of hours whose figures the baseline
+// model can follow exactly: reheat 1.5 kWh per tonne of dry air, cooling
+// input 1 kWh per tonne per K of entering dew point above 5 °C, water
+// 0.8 kg per tonne per g/kg... kept simple: water 0.5 kg per tonne.
+// After the change every figure is multiplied by factor, so the avoided
+// share is (1 − factor) by construction.
+func modelFixture(m *memResults, ahu string, factor float64) {
+	for k, w := range []compare.Window{cmpBefore, cmpAfter} {
+		f := 1.0
+		if k == 1 {
+			f = factor
+		}
+		i := 0
+		for at := w.From; at.Before(w.To); at = at.Add(time.Hour) {
+			dp := 10 + 6*math.Sin(float64(i)/17)
+			tons := 10 + 2*math.Sin(float64(i)/5)
+			m.recs = append(m.recs, rec(ahu, at, map[string]float64{
+				"coverage": 1, "entering_dewpoint_c": dp, "entering_temp_c": 24 + math.Sin(float64(i)/7), "dry_air_kg": 1000 * tons,
+				"leaving_dewpoint_c": 10, "reheat_kwh": f * 1.5 * tons, "cooling_input_kwh": f * tons * (dp - 5),
+				"water_removed_kg": f * 0.5 * tons, "cost": f * 0.15 * (1.5*tons + tons*(dp-5)),
+			}))
+			i++
+		}
+	}
+}
+
 func TestRenderCompare_NotCompared(t *testing.T) {
 	m := &memResults{}
 	at := cmpBefore.From
@@ -116,42 +143,48 @@ func TestRenderCompare_NotCompared(t *testing.T) {
 	at = cmpAfter.From
 	cmpHours(m, "AHU-1", &at, 20, dpWet, reheatOnly(5))
 	c := cmpRun(t, cmpSite("AHU-1"), m)
-	// The outputs say so rather than print numbers.
+	// The outputs say so rather than print numbers: the hours carry no
+	// drivers (no model) and share no dew-point bin (no bin check).
 	_, rows := CompareTable(c, Display{})
-	assert.Equal(t, "not compared", rows[0][2])
+	assert.Equal(t, "no model", rows[0][6])
 	var b bytes.Buffer
-	require.NoError(t, RenderCompare(&b, c, Display{}))
+	require.NoError(t, RenderCompare(&b, c, Display{}, time.UTC))
 	assert.Contains(t, b.String(), "not compared")
 }
 
 func TestCompareTable(t *testing.T) {
 	m := &memResults{}
-	mixFixture(m, "AHU-1")
-	halfFixture(m, "AHU-2")
+	modelFixture(m, "AHU-1", 0.5)
+	modelFixture(m, "AHU-2", 1)
 	c := cmpRun(t, cmpSite("AHU-1", "AHU-2"), m)
 	header, rows := CompareTable(c, Display{})
 	require.Len(t, rows, 3, "two units and the site")
 	for _, r := range rows {
 		assert.Len(t, r, len(header))
 	}
-	// AHU-2: 240 -> 120 kWh, -50 %; the site: 400 -> 280, -30 %.
-	assert.Equal(t, []string{"AHU-2", "240", "120", "-50 %"}, rows[1][:4])
-	assert.Equal(t, []string{"site", "400", "280", "-30 %"}, rows[2][:4])
-	assert.Equal(t, "100 % / 100 %", rows[1][len(header)-1])
+	// AHU-1: reheat halved in every hour: avoided +50 %, a saving with a
+	// perfect fit; AHU-2 unchanged. The site: 14 days × 24 h × 1.5 kWh/t
+	// × 10 t on average, half of AHU-1's avoided: +25 %.
+	assert.Equal(t, "+50 %", rows[0][4])
+	assert.Equal(t, "saving", rows[0][6])
+	assert.Equal(t, "0.0 %", rows[1][4])
+	assert.Equal(t, "no significant change", rows[1][6])
+	assert.Equal(t, "+25 %", rows[2][4])
+	assert.Contains(t, rows[0][7], "0.0 % / 0.0 % / 1.00")
 }
 
 // The page is one self-contained file: no script, nothing fetched, every
 // configured name escaped, and each SVG well-formed XML.
 func TestRenderCompare_SelfContainedAndEscaped(t *testing.T) {
 	m := &memResults{}
-	mixFixture(m, "AHU-1")
-	halfFixture(m, `<script>alert("x")</script>`)
+	modelFixture(m, "AHU-1", 1)
+	modelFixture(m, `<script>alert("x")</script>`, 0.5)
 	site := cmpSite("AHU-1", `<script>alert("x")</script>`)
 	site.Site = `Plant <b>&</b> "north"`
 	c := cmpRun(t, site, m)
 	for _, d := range []Display{{}, {IP: true}} {
 		var b bytes.Buffer
-		require.NoError(t, RenderCompare(&b, c, d))
+		require.NoError(t, RenderCompare(&b, c, d, time.UTC))
 		page := b.String()
 		assert.NotContains(t, strings.ToLower(page), "<script", "no script element, and the unit name is escaped")
 		assert.Contains(t, page, "&lt;script&gt;alert(")
@@ -170,7 +203,7 @@ func TestRenderCompare_SelfContainedAndEscaped(t *testing.T) {
 			assert.True(t, strings.HasPrefix(u[1], "#"), u[0])
 		}
 		svgs := regexp.MustCompile(`(?s)<svg .*?</svg>`).FindAllString(page, -1)
-		require.Len(t, svgs, 3, "the bar chart and one bin chart per unit")
+		require.Len(t, svgs, 3, "the avoided-reheat chart and one fit chart per unit")
 		for i, s := range svgs {
 			dec := xml.NewDecoder(strings.NewReader(s))
 			for {
@@ -182,9 +215,10 @@ func TestRenderCompare_SelfContainedAndEscaped(t *testing.T) {
 			}
 		}
 		// The method and the caution are on the page.
-		assert.Contains(t, page, "before period&#39;s hours per bin")
+		assert.Contains(t, page, "before period&#39;s hours per bin", "the bin check's method")
+		assert.Contains(t, page, "Guideline 14")
 		assert.Contains(t, page, "engineer of record")
-		assert.Contains(t, page, "-50 %")
+		assert.Contains(t, page, "&#43;50 %", "html/template writes + as &#43;")
 	}
 }
 

@@ -82,8 +82,10 @@ func TestCompare_EndToEnd(t *testing.T) {
 	require.Equal(t, 0, code, errOut)
 	assert.Contains(t, out, "before 14 Jul 2026 – 15 Jul 2026, after 16 Jul 2026 – 17 Jul 2026")
 	assert.Contains(t, out, "hours stored: before 48, after 48")
-	assert.Regexp(t, `(?m)^AHU-7\s+7\d\d\s+3\d\d\s+-50 %`, out, "reheat before ≈ 729, after ≈ 365 kWh, -50 %")
-	assert.Contains(t, out, "100 % / 100 %")
+	// The baseline model projects the before sequence onto the after
+	// period's 36 humid hours: 36 × R ≈ 1,094 kWh; measured half of it.
+	assert.Regexp(t, `(?m)^AHU-7\s+1,[01]\d\d\s+5\d\d\s+\+5\d\d\s+\+50 %\s+± 0.0 %\s+saving`, out, "baseline ≈ 1,094, measured ≈ 547 kWh, +50 % avoided")
+	assert.Contains(t, out, "saves +50 %", "the bin check agrees")
 	assert.Contains(t, out, "engineer of record")
 	assert.Contains(t, out, "HTML: "+page)
 	html, err := os.ReadFile(page)
@@ -99,7 +101,26 @@ func TestCompare_EndToEnd(t *testing.T) {
 	require.Equal(t, 0, code, errOut)
 	var c struct {
 		Units []struct {
-			ID   string `json:"id"`
+			ID    string `json:"id"`
+			Model struct {
+				Savings []struct {
+					Quantity   string  `json:"quantity"`
+					Baseline   float64 `json:"baseline_projected"`
+					Measured   float64 `json:"measured"`
+					AvoidedPct float64 `json:"avoided_pct"`
+					Finding    string  `json:"finding"`
+					Fit        struct {
+						N        int  `json:"n"`
+						MeetsG14 bool `json:"meets_guideline14"`
+					} `json:"fit"`
+				} `json:"savings"`
+				Hours []struct {
+					Period string `json:"period"`
+				} `json:"hours"`
+			} `json:"baseline_model"`
+			Humidity struct {
+				Held string `json:"target"`
+			} `json:"humidity"`
 			Bins struct {
 				RawBefore struct {
 					Reheat float64 `json:"reheat_kwh"`
@@ -123,6 +144,21 @@ func TestCompare_EndToEnd(t *testing.T) {
 	}
 	require.NoError(t, json.Unmarshal([]byte(out), &c), out)
 	require.Len(t, c.Units, 1)
+	md := c.Units[0].Model
+	require.Len(t, md.Savings, 4, "reheat, cooling input, water removed, cost")
+	reheat := md.Savings[0]
+	assert.Equal(t, "reheat_kwh", reheat.Quantity)
+	// By construction the after sequence halves the reheat of every humid
+	// hour: avoided = 50 % of the projected baseline, whose 36 humid hours
+	// follow the rule of thumb's R (3 %, as below).
+	assert.InDelta(t, 50, reheat.AvoidedPct, 0.5)
+	assert.InEpsilon(t, 36*30.4, reheat.Baseline, 0.03)
+	assert.Equal(t, "saving", reheat.Finding)
+	assert.Equal(t, 48, reheat.Fit.N)
+	assert.True(t, reheat.Fit.MeetsG14)
+	assert.Len(t, md.Hours, 96, "every usable hour of both periods, with its prediction")
+	assert.Equal(t, "held", c.Units[0].Humidity.Held)
+
 	u := c.Units[0].Bins
 	// Rule-of-thumb check of the engine's reheat, 3 % (the 1.08 factor is
 	// for standard air at 70 °F; the engine uses the moist-air heat).
@@ -167,6 +203,7 @@ func TestCompare_BadFlags(t *testing.T) {
 		{"overlap", []string{"--config", cfg, "--before", "2026-07-14..2026-07-16", "--after", "2026-07-16..2026-07-17"}, 2, "--before 2026-07-14..2026-07-16 and --after 2026-07-16..2026-07-17 overlap"},
 		{"units", append([]string{"--config", cfg, "--units", "metric"}, ok...), 2, `--units "metric": use si or ip`},
 		{"min hours", append([]string{"--config", cfg, "--min-hours", "1"}, ok...), 2, "--min-hours 1: use 2 or more"},
+		{"normalise", append([]string{"--config", cfg, "--normalise-to", "summer"}, ok...), 2, `--normalise-to "summer": use before or after`},
 		{"output folder", append([]string{"--config", cfg, "-o", filepath.Join(dir, "nope", "c.html")}, ok...), 2, "-o " + filepath.Join(dir, "nope", "c.html")},
 		{"unknown flag", append([]string{"--config", cfg, "--bins", "2"}, ok...), 2, "-bins"},
 		{"no store yet", append([]string{"--config", cfg}, ok...), 1, "embedded store"},

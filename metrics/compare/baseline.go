@@ -333,7 +333,7 @@ func finding(s *Savings) string {
 	switch {
 	case !finite(a):
 		return FindingNoModel
-	case !finite(u) || math.Abs(a) <= u:
+	case !finite(u) || math.Abs(a) <= math.Max(u, 1e-9*math.Abs(float64(s.Baseline))):
 		s.Significant = false
 		return FindingNoChange
 	case a > 0:
