@@ -85,7 +85,6 @@ func fmtPM(v float64) string {
 	return "± " + fmtQty(v)
 }
 
-
 // fmtFSU formats a fractional savings uncertainty; above 100 % the
 // savings are smaller than their uncertainty and the figure says no more.
 func fmtFSU(v float64) string {
@@ -208,12 +207,12 @@ type cmpCard struct{ ID, Label, Value, Note string }
 // cmpUnit is one row of the headline table: one unit (or the site) and
 // one quantity.
 type cmpUnit struct {
-	ID, Name, Class, Quantity, Unit       string
-	First                                 bool // first quantity of its unit
-	Span                                  int
-	Baseline, Measured, Avoided, Pct      string
+	ID, Name, Class, Quantity, Unit        string
+	First                                  bool // first quantity of its unit
+	Span                                   int
+	Baseline, Measured, Avoided, Pct       string
 	U68, U90, Reg90, FSU68, FSU90, Finding string
-	FindingClass                          string
+	FindingClass                           string
 }
 
 type cmpFit struct {
