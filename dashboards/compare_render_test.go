@@ -48,42 +48,6 @@ func reheatOnly(v float64) func(int) map[string]float64 {
 	return func(int) map[string]float64 { return map[string]float64{"reheat_kwh": v} }
 }
 
-func alternating(lo, hi float64) func(int) map[string]float64 {
-	return func(i int) map[string]float64 {
-		if i%2 == 0 {
-			return map[string]float64{"reheat_kwh": lo}
-		}
-		return map[string]float64{"reheat_kwh": hi}
-	}
-}
-
-// mixFixture: the same behaviour in both periods, a different humidity mix
-// (160 kWh normalised in both).
-func mixFixture(m *memResults, ahu string) {
-	at := cmpBefore.From
-	cmpHours(m, ahu, &at, 30, dpDry, alternating(1, 3))
-	cmpHours(m, ahu, &at, 10, dpHumid, alternating(9, 11))
-	at = cmpAfter.From
-	cmpHours(m, ahu, &at, 10, dpDry, alternating(1, 3))
-	cmpHours(m, ahu, &at, 30, dpHumid, alternating(9, 11))
-}
-
-// halfFixture: reheat halved in every bin: 240 kWh before, 120 after
-// normalised (-50 %).
-func halfFixture(m *memResults, ahu string) {
-	f := func(v float64) func(int) map[string]float64 {
-		return func(int) map[string]float64 {
-			return map[string]float64{"reheat_kwh": v, "reheat_avoidable_kwh": v / 2, "reheat_kwh_u95": v / 10}
-		}
-	}
-	at := cmpBefore.From
-	cmpHours(m, ahu, &at, 20, dpDry, f(4))
-	cmpHours(m, ahu, &at, 20, dpHumid, f(8))
-	at = cmpAfter.From
-	cmpHours(m, ahu, &at, 10, dpDry, f(2))
-	cmpHours(m, ahu, &at, 30, dpHumid, f(4))
-}
-
 func cmpSite(units ...string) *compare.Input {
 	in := &compare.Input{Site: "Test site", Currency: "USD", Zone: time.UTC, Before: cmpBefore, After: cmpAfter}
 	for _, u := range units {
