@@ -3,7 +3,7 @@
 // an implementation of ASHRAE Handbook - Fundamentals 2017 ch. 1 that
 // shares no code with dewline.
 //
-//   node scenario.js OUT_HOURS.csv
+//   node scenario.js OUT_HOURS.csv [SEED]   (SEED: another draw of weather and noise)
 //
 // Our own invented building: four weeks of hourly weather (two before a
 // sequence change, two after) and three air handlers that cool to a fixed
