@@ -216,3 +216,79 @@ func TestCompare_BadFlags(t *testing.T) {
 		})
 	}
 }
+
+// TestInflux_CompareMatchesEmbedded analyses the sequence-change scenario
+// into the embedded store and into the real InfluxDB test server and
+// compares the two periods from each: the baseline model, its statistics
+// and the bin check come out the same from both stores.
+func TestInflux_CompareMatchesEmbedded(t *testing.T) {
+	base, _ := influxEnv(t)
+	db := freshDB(t, base, "compare")
+	dir := t.TempDir()
+	embCfg, data := writeSequenceChange(t, dir)
+	fluxText := strings.Replace(analyzeConfig, "store: {kind: embedded, path: test.db}",
+		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", base, db+"/autogen"), 1)
+	require.NotEqual(t, analyzeConfig, fluxText)
+	fluxCfg := filepath.Join(dir, "influx.yaml")
+	require.NoError(t, os.WriteFile(fluxCfg, []byte(fluxText), 0o600))
+	outs := map[string]string{}
+	for _, cfg := range []string{embCfg, fluxCfg} {
+		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data, "--from", "2026-07-14", "--to", "2026-07-18")
+		require.Equal(t, 0, code, errOut)
+		code, out, errOut := runCLI(t, "--log-level", "warn", "compare", "--config", cfg,
+			"--before", "2026-07-14..2026-07-15", "--after", "2026-07-16..2026-07-17", "--json", "--normalise-to", "before")
+		require.Equal(t, 0, code, errOut)
+		outs[cfg] = out
+	}
+	type savings struct {
+		Quantity   string   `json:"quantity"`
+		Baseline   *float64 `json:"baseline_projected"`
+		Measured   *float64 `json:"measured"`
+		AvoidedPct *float64 `json:"avoided_pct"`
+		U90        *float64 `json:"u90"`
+		Finding    string   `json:"finding"`
+		Fit        struct {
+			N      int      `json:"n"`
+			P      int      `json:"p"`
+			CVRMSE *float64 `json:"cv_rmse"`
+		} `json:"fit"`
+	}
+	type result struct {
+		Units []struct {
+			Model struct {
+				Savings []savings `json:"savings"`
+			} `json:"baseline_model"`
+			Bins struct {
+				Reheat struct {
+					ChangePct *float64 `json:"change_pct"`
+				} `json:"reheat_kwh"`
+			} `json:"bin_check"`
+		} `json:"units"`
+	}
+	var e, f result
+	require.NoError(t, json.Unmarshal([]byte(outs[embCfg]), &e))
+	require.NoError(t, json.Unmarshal([]byte(outs[fluxCfg]), &f))
+	require.Len(t, e.Units, 1)
+	require.Len(t, f.Units, 1)
+	se, sf := e.Units[0].Model.Savings, f.Units[0].Model.Savings
+	require.Len(t, se, 4)
+	require.Len(t, sf, 4)
+	num := func(p *float64) float64 {
+		if p == nil {
+			return -1e300 // null on one side must be null on the other
+		}
+		return *p
+	}
+	for q := range se {
+		assert.Equal(t, se[q].Quantity, sf[q].Quantity)
+		assert.Equal(t, se[q].Finding, sf[q].Finding, se[q].Quantity)
+		assert.Equal(t, se[q].Fit.N, sf[q].Fit.N, se[q].Quantity)
+		assert.Equal(t, se[q].Fit.P, sf[q].Fit.P, se[q].Quantity)
+		// Six significant digits in the JSON.
+		for _, pair := range [][2]*float64{{se[q].Baseline, sf[q].Baseline}, {se[q].Measured, sf[q].Measured}, {se[q].AvoidedPct, sf[q].AvoidedPct}} {
+			assert.InEpsilon(t, num(pair[0]), num(pair[1]), 1e-5, se[q].Quantity)
+		}
+	}
+	assert.InDelta(t, 50, num(se[0].AvoidedPct), 0.5, "the scenario halves the reheat of every humid after hour")
+	assert.InDelta(t, num(e.Units[0].Bins.Reheat.ChangePct), num(f.Units[0].Bins.Reheat.ChangePct), 1e-4)
+}
