@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"strings"
 	"time"
 
 	"github.com/dewline/dewline/metrics"
@@ -13,8 +14,8 @@ import (
 // ModelMethod states the headline method in plain words, for the outputs.
 const ModelMethod = "Baseline model in the manner of ASHRAE Guideline 14 and IPMVP Option B (retrofit isolation): " +
 	"per air handler and quantity, the before period's hourly values are fitted by ordinary least squares to " +
-	"the hour's airflow times a change-point (piecewise-linear) function of the entering dew point and the entering " +
-	"temperature, with separate terms for occupied and unoccupied hours of the week " +
+	"the hour's airflow times a change-point (piecewise-linear) function of the entering humidity ratio (from the entering " +
+	"dew point) and the entering temperature, with separate terms for occupied and unoccupied hours of the week " +
 	"(the time-of-week-and-temperature form of Mathieu et al. 2011, reduced to two occupancy modes). " +
 	"Projected onto each after hour's drivers, the model gives what the unit would have used without the change; " +
 	"avoided energy = projection − measured, over every usable after hour."
@@ -126,7 +127,11 @@ type HourFit struct {
 
 // Model is the baseline-model result of one unit.
 type Model struct {
-	Usable        [2]int          `json:"usable_hours"` // before, after
+	Usable [2]int `json:"usable_hours"` // before, after
+	// Suspect counts the hours left out because a sensor behind them
+	// read flat or out of range, or the coil appeared to add moisture
+	// (the engine's data-quality flags): a stuck sensor is not a saving.
+	Suspect       [2]int          `json:"suspect_hours_left_out"`
 	HumRatioKnots []Num           `json:"humidity_ratio_change_points_g_per_kg"`
 	TempKnots     []Num           `json:"temp_change_points_c"`
 	OccupiedHours int             `json:"occupied_hours_of_week"`
@@ -141,6 +146,19 @@ func (m *Model) Reheat() *Savings {
 		return nil
 	}
 	return &m.Savings[yReheat]
+}
+
+// suspect reports whether r carries a data-quality flag that makes its
+// figures unfit for a baseline: a sensor flat or out of range all hour,
+// entering air above saturation, a coil adding moisture.
+func suspect(r *metrics.Record) bool {
+	for _, f := range r.Flags {
+		if strings.HasPrefix(f, metrics.FlagOutOfRange) || strings.HasPrefix(f, metrics.FlagFlat) ||
+			f == metrics.FlagMoistureAdded || f == metrics.FlagSupersaturated {
+			return true
+		}
+	}
+	return false
 }
 
 // rowOf returns the model row of r, false when the hour cannot be used.
@@ -160,14 +178,20 @@ func rowOf(r *metrics.Record, minCov, pressurePa float64, zone *time.Location) (
 }
 
 // buildModel fits the baseline on before and projects it onto after.
-func buildModel(before, after []hourRow, normaliseTo string) (*Model, []string) {
+func buildModel(before, after []hourRow, normaliseTo string, suspectHours [2]int) (*Model, []string) {
 	var warns []string
+	for s, n := range suspectHours {
+		if n > 0 {
+			warns = append(warns, fmt.Sprintf("%d of the %s period's hours are left out of the baseline model: a sensor behind them read flat or out of range (see the hourly flags)",
+				n, [2]string{"before", "after"}[s]))
+		}
+	}
 	sortRows(before)
 	sortRows(after)
-	md := &Model{Usable: [2]int{len(before), len(after)}, HumRatioKnots: []Num{}, TempKnots: []Num{},
+	md := &Model{Usable: [2]int{len(before), len(after)}, Suspect: suspectHours, HumRatioKnots: []Num{}, TempKnots: []Num{},
 		Savings: []Savings{}, Extrapolation: []Extrapolation{}, Hours: []HourFit{}}
 	if len(before) == 0 || len(after) == 0 {
-		return md, []string{"no usable hour (entering dew point and temperature, airflow, enough coverage) in one of the periods: no baseline model"}
+		return md, append(warns, "no usable hour (entering dew point and temperature, airflow, enough coverage) in one of the periods: no baseline model")
 	}
 	f := fitModel(before)
 	for _, k := range f.dpKnots {

@@ -290,6 +290,7 @@ type Analysis struct {
 	minCov   []float64
 	raw      [2]Sums
 	rows     [][2][]hourRow
+	suspect  [][2]int
 	pressure []float64
 }
 
@@ -340,7 +341,7 @@ func New(in Input) (*Analysis, error) {
 		}
 	}
 	a := &Analysis{in: in, units: units, index: map[string]int{}, sides: make([][2]side, len(units)),
-		minCov: make([]float64, len(units)), raw: [2]Sums{NewSums(), NewSums()}, rows: make([][2][]hourRow, len(units))}
+		minCov: make([]float64, len(units)), raw: [2]Sums{NewSums(), NewSums()}, rows: make([][2][]hourRow, len(units)), suspect: make([][2]int, len(units))}
 	for i, u := range units {
 		a.index[u.ID] = i
 		a.sides[i] = [2]side{newSide(), newSide()}
@@ -372,7 +373,9 @@ func (a *Analysis) Add(s Side, r *metrics.Record) {
 	}
 	a.sides[i][s].add(r, a.in.Options.BinK, a.minCov[i])
 	a.raw[s].Add(r)
-	if row, ok := rowOf(r, a.minCov[i], a.pressure[i], a.in.Zone); ok {
+	if suspect(r) {
+		a.suspect[i][s]++
+	} else if row, ok := rowOf(r, a.minCov[i], a.pressure[i], a.in.Zone); ok {
 		a.rows[i][s] = append(a.rows[i][s], row)
 	}
 }
@@ -426,7 +429,7 @@ func (a *Analysis) Result() (*Comparison, error) {
 			binWarns = append(binWarns, u.Name+" ("+u.ID+"): bin check: "+w)
 		}
 		tot.add(&bc)
-		uc := unitResult(u, bc, a.rows[i], opt.NormaliseTo)
+		uc := unitResult(u, bc, a.rows[i], a.suspect[i], opt.NormaliseTo)
 		for _, w := range uc.Warnings {
 			c.Warnings = append(c.Warnings, u.Name+" ("+u.ID+"): "+w)
 		}

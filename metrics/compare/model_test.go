@@ -123,3 +123,29 @@ func TestModel_Options(t *testing.T) {
 	require.Error(t, err)
 	assert.Contains(t, err.Error(), `normalise to "summer": use before or after`)
 }
+
+// Hours whose sensors read flat (a stuck RH sensor) are left out of the
+// model: their figures are the sensor's, not the unit's. Here every
+// fourth after hour has a stuck sensor and reads half the reheat.
+func TestModel_SuspectHoursLeftOut(t *testing.T) {
+	m := &memResults{}
+	linearHours(m, "AHU-1", cmpBefore, 1, sineDP, constDP(11))
+	linearHours(m, "AHU-1", cmpAfter, 1, sineDP, constDP(11))
+	stuck := 0
+	for i := range m.recs {
+		r := &m.recs[i]
+		if !r.HourStart.Before(cmpAfter.From) && r.HourStart.Hour()%4 == 0 {
+			r.Flags = []string{metrics.FlagFlat + "entering_rh"}
+			r.ReheatKWh /= 2
+			stuck++
+		}
+	}
+	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
+	require.NoError(t, err)
+	u := c.Units[0]
+	assert.Equal(t, [2]int{0, stuck}, u.Model.Suspect)
+	assert.Equal(t, 14*24-stuck, u.Model.Usable[1])
+	assert.InDelta(t, 0, float64(u.Model.Reheat().AvoidedPct), 1e-6, "the stuck hours do not read as a saving")
+	assert.Equal(t, FindingNoChange, u.Finding)
+	assert.True(t, hasWarning(u.Warnings, "84 of the after period's hours are left out of the baseline model"), u.Warnings)
+}
