@@ -51,7 +51,11 @@ func writeSequenceChange(t *testing.T, dir string) (cfg, data string) {
 		} else {
 			sat = 62
 		}
-		fmt.Fprintf(&b, "%s,76.00,%.1f,%.2f,%.2f,8000\n", ts.Format("2006-01-02 15:04:05"), rh, lat, sat)
+		// A sensor never reads exactly the same value all hour; the
+		// engine flags one that does (and the comparison leaves such
+		// hours out): the readings alternate by 0.02 °F and 0.1 % RH.
+		j := float64(ts.Minute() % 2)
+		fmt.Fprintf(&b, "%s,%.2f,%.1f,%.2f,%.2f,8000\n", ts.Format("2006-01-02 15:04:05"), 76+0.02*j, rh+0.1*j, lat+0.02*j, sat+0.02*j)
 	}
 	data = filepath.Join(dir, "export.csv")
 	require.NoError(t, os.WriteFile(data, []byte(b.String()), 0o600))
