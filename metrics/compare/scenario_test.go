@@ -20,6 +20,7 @@ import (
 type scenarioHour struct {
 	rec       metrics.Record
 	truth, cf [nY]float64 // noise-free figures as run, and the counterfactual
+	always    float64     // reheat with the change in place from the first hour
 }
 
 // runScenario runs the independent scenario generator (node and npm
@@ -76,6 +77,7 @@ func runScenario(t *testing.T, seed string) []scenarioHour {
 		for q := 0; q < nY; q++ {
 			h.truth[q], h.cf[q] = num("true_"+yNames[q]), num("cf_"+yNames[q])
 		}
+		h.always = num("always_reheat_kwh")
 		hours = append(hours, h)
 	}
 	return hours
@@ -86,6 +88,10 @@ func runScenario(t *testing.T, seed string) []scenarioHour {
 type scenarioResult struct {
 	c    *Comparison
 	true [3][nY]float64
+	// trueBefore is each unit's true reheat change in the before period's
+	// weather: the run with the change from the first hour against the
+	// counterfactual, over the before period.
+	trueBefore [3]float64
 }
 
 // analyseScenario compares the scenario's fortnights and takes the true
@@ -102,9 +108,14 @@ func analyseScenario(t *testing.T, seed string) scenarioResult {
 	a, err := New(in)
 	require.NoError(t, err)
 	var run, cf [3][nY]float64
+	var alwaysB, cfB [3]float64
 	idx := map[string]int{"AHU-1": 0, "AHU-2": 1, "AHU-3": 2}
 	for i := range hours {
 		h := &hours[i]
+		if h.rec.HourStart.Before(after.From) {
+			alwaysB[idx[h.rec.AHU]] += h.always
+			cfB[idx[h.rec.AHU]] += h.cf[yReheat]
+		}
 		side := Before
 		if !h.rec.HourStart.Before(after.From) {
 			side = After
@@ -119,6 +130,9 @@ func analyseScenario(t *testing.T, seed string) scenarioResult {
 	require.NoError(t, err)
 	require.Len(t, c.Units, 3)
 	res := scenarioResult{c: c}
+	for i := range res.trueBefore {
+		res.trueBefore[i] = 100 * (cfB[i] - alwaysB[i]) / cfB[i]
+	}
 	for i := range res.true {
 		for q := 0; q < nY; q++ {
 			res.true[i][q] = 100 * (cf[i][q] - run[i][q]) / cf[i][q]
@@ -131,6 +145,10 @@ func analyseScenario(t *testing.T, seed string) scenarioResult {
 				seed, u.ID, yNames[q], res.true[i][q], float64(s.AvoidedPct), 100*s.U90Used()/float64(s.Baseline), 100*float64(s.U90)/float64(s.Baseline),
 				100*float64(s.U68)/float64(s.Baseline), 100*float64(s.Fit.CVRMSE), 100*float64(s.Fit.NMBE), float64(s.Fit.R2), float64(s.Fit.Rho), float64(s.Fit.NEff),
 				s.Finding, -float64(u.Bins.Reheat.ChangePct))
+		}
+		if n := u.Model.Reheat().Normalised; n != nil {
+			t.Logf("seed %q %s reheat in the before period's weather: true saving %.1f %%, normalised estimate %.1f %% ± %.1f %% (90 %%)",
+				seed, u.ID, res.trueBefore[i], float64(n.AvoidedPct), 100*float64(n.U90)/float64(n.Baseline))
 		}
 		t.Logf("seed %q %s supply dew point %.1f -> %.1f °C, above the target %.0f %% -> %.0f %%: %s; finding %q; warnings %q",
 			seed, u.ID, float64(u.Humidity.MeanBefore), float64(u.Humidity.MeanAfter), 100*float64(u.Humidity.AboveBefore), 100*float64(u.Humidity.AboveAfter),
@@ -162,12 +180,17 @@ func TestScenario_LockoutAndUnchangedUnits(t *testing.T) {
 	}
 	assert.Equal(t, FindingSaving, fixed.Finding)
 	assert.Equal(t, "held", fixed.Humidity.Held, "the lockout only acts when the entering air is already dry enough")
-	// The normalised saving (to the before period's drivers) is of the
-	// same order: the truth in the before period's weather is not known
-	// here, so only its sign and size are checked.
+	// Normalised to the before period's drivers the saving is overstated:
+	// the truth in that weather (the third run) is 33 %, the estimate 40 %.
+	// The entering air is not independent of the sequence: with the
+	// lockout the supply and so the return air are wetter, so fewer hours
+	// are dry enough to lock out than the before period's drivers (taken
+	// from the run without it) suggest. Only the sign and size are held
+	// here; the gap is logged.
 	n := fixed.Model.Reheat().Normalised
 	require.NotNil(t, n)
 	assert.Greater(t, float64(n.AvoidedPct), 20.0)
+	assert.Less(t, float64(n.AvoidedPct), 50.0)
 	for _, i := range []int{1, 2} {
 		u := c.Units[i]
 		for q := 0; q < nY; q++ {

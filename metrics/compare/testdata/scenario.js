@@ -14,6 +14,8 @@
 // AHU-3 change nothing. Each unit is run twice over the same weather:
 // as it happened, and as it would have run without the change (the
 // counterfactual). The true change is the difference of the two runs.
+// A third run has the lockout from the first hour: with the counterfactual
+// it gives the true change in the before period's weather.
 //
 // Per hour (steady state, one hour = one step):
 //   - entering air: mass-weighted mix of outdoor air and return air, in
@@ -67,7 +69,7 @@ const units = [
 const hk = (t, w) => psy.GetMoistAirEnthalpy(t, w) / 1000; // kJ/kg
 const occupiedAt = (ms) => { const t = new Date(ms); const wd = t.getUTCDay(); const hr = t.getUTCHours(); return wd >= 1 && wd <= 5 && hr >= 6 && hr < 19; };
 
-function run(u, lockout) {
+function run(u, lockout, from) {
   const out = [];
   let wSupPrev = psy.GetHumRatioFromTDewPoint(10, P);
   for (let h = 0; h < HOURS; h++) {
@@ -86,7 +88,7 @@ function run(u, lockout) {
     const tdIn = psy.GetTDewPointFromHumRatio(tIn, wIn, P);
     let tLv = occ ? u.tLv : u.tLvUnocc;
     let reheatOn = true;
-    if (lockout && ms >= change && tdIn < TARGET_DP) { tLv = Math.min(u.tSup, tIn); reheatOn = false; }
+    if (lockout && ms >= from && tdIn < TARGET_DP) { tLv = Math.min(u.tSup, tIn); reheatOn = false; }
     const r = { hour: new Date(ms).toISOString(), occ, m: 0, tIn, tdIn, tdLv: tdIn, reheat: 0, cool: 0, water: 0, cost: 0 };
     if (m > 0) {
       let wLv = wIn, coil = 0, water = 0;
@@ -111,9 +113,9 @@ function run(u, lockout) {
 }
 
 const rows = ['ahu,hour,occupied,dry_air_kg,entering_temp_c,entering_dewpoint_c,leaving_dewpoint_c,reheat_kwh,cooling_input_kwh,water_removed_kg,cost,' +
-  'true_reheat_kwh,true_cooling_input_kwh,true_water_removed_kg,true_cost,cf_reheat_kwh,cf_cooling_input_kwh,cf_water_removed_kg,cf_cost'];
+  'true_reheat_kwh,true_cooling_input_kwh,true_water_removed_kg,true_cost,cf_reheat_kwh,cf_cooling_input_kwh,cf_water_removed_kg,cf_cost,always_reheat_kwh'];
 for (const u of units) {
-  const actual = run(u, u.fixed), cf = run(u, false);
+  const actual = run(u, u.fixed, change), cf = run(u, false, change), always = run(u, u.fixed, start);
   let e = 0;
   const own = [0, 0, 0];
   for (let h = 0; h < HOURS; h++) {
@@ -124,7 +126,7 @@ for (const u of units) {
     const reheat = a.reheat * k * (1 + own[0]), cool = a.cool * k * (1 + own[1]), water = a.water * k * (1 + own[2]);
     rows.push([u.id, a.hour, a.occ ? 1 : 0, f(a.m * k), f(a.tIn + 0.1 * gauss()), f(a.tdIn + 0.2 * gauss()), f(a.tdLv + 0.2 * gauss()),
       f(reheat), f(cool), f(water), f(PRICE * (cool + reheat)),
-      f(a.reheat), f(a.cool), f(a.water), f(a.cost), f(c.reheat), f(c.cool), f(c.water), f(c.cost)].join(','));
+      f(a.reheat), f(a.cool), f(a.water), f(a.cost), f(c.reheat), f(c.cool), f(c.water), f(c.cost), f(always[h].reheat)].join(','));
   }
 }
 fs.writeFileSync(process.argv[2], rows.join('\n') + '\n');
