@@ -3,32 +3,28 @@ package dashboards
 import (
 	"bytes"
 	"fmt"
-	"html"
 	"html/template"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 	"sync"
+	"time"
 
 	"github.com/dewline/dewline/dashboards/chart"
+	"github.com/dewline/dewline/metrics/compare"
 )
 
 // --- output ---
 
-// Colours of the two periods: the light and the deep blue differ in
-// lightness as well as in hue, and the charts also tell the periods apart
-// by shape (circles and solid lines before, squares, dashes and hatching
-// after).
+// Colours of the comparison's charts: measured in the deep blue, the
+// baseline model in the ochre (told apart by dash as well, in the page's
+// stylesheet), avoided energy in the blue-green.
 const (
-	colorBefore     = chart.ColorSky
-	colorBeforeEdge = "#4F7FA8"
-	colorAfter      = chart.ColorBlue
-	colorAfterEdge  = "#22405E"
-	colorCmpInk     = "#2B3037"
-	colorCmpMuted   = "#5F6670"
-	colorCmpGrid    = "#E3E7EB"
-	colorCmpAxis    = "#9AA1A9"
+	colorMeasured = chart.ColorBlue
+	colorModel    = chart.ColorOchre
+	colorAvoided  = chart.ColorTeal
 )
 
 // CompareCaution is printed with every comparison.
@@ -40,41 +36,14 @@ const CompareCaution = "These figures are estimates from trend data. A sequence 
 
 // compareUncertainty explains the ± figures.
 var compareUncertainty = []string{
-	"Measurement ± (95 %): the hourly 95 % half-widths of reheat, avoidable reheat and water removed, normalised like the values and added linearly within a period (a sensor's bias repeats from hour to hour); the change combines the two periods in quadrature. Cooling input and cost carry no hourly half-width and show none.",
-	"Sampling ± (95 %): 1.96 × the standard error of the bin means, from the spread of the hourly values in each common bin. Consecutive hours are not independent, so bin sampling adds more uncertainty than this figure shows; a change smaller than the larger ± figure is not a measurable change.",
-}
-
-// CompareTable returns the comparison as a text table: a header and one
-// row per unit, then the site total. Energies in kWh, water in the display
-// unit.
-func (c *Comparison) CompareTable(d Display) (header []string, rows [][]string) {
-	header = []string{"air handler", "reheat before kWh", "after (normalised) kWh", "change", "± meas.", "± sampling",
-		"avoidable reheat change", "effective EER before → after", "water change " + d.WaterUnit(), "common-bin hours before / after"}
-	row := func(u *UnitComparison, label string) []string {
-		if !u.Compared {
-			return []string{label, fmtQty(float64(u.RawBefore.ReheatKWh)) + " (raw)", "not compared", "–", "–", "–", "–", "–", "–",
-				fmtPct(float64(u.HoursBefore.Covered)) + " / " + fmtPct(float64(u.HoursAfter.Covered))}
-		}
-		return []string{label,
-			fmtQty(float64(u.Reheat.Before)), fmtQty(float64(u.Reheat.After)), fmtChangePct(u.Reheat.ChangePct),
-			fmtPM(float64(u.Reheat.ChangeU95)), fmtPM(float64(u.Reheat.SamplingU95)),
-			fmtSigned(float64(u.ReheatAvoid.Change)) + " kWh (" + fmtChangePct(u.ReheatAvoid.ChangePct) + ")",
-			fmtFixed(float64(u.EER.Before), 1) + " → " + fmtFixed(float64(u.EER.After), 1),
-			fmtSigned(d.Water(float64(u.Water.Change))) + " (" + fmtChangePct(u.Water.ChangePct) + ")",
-			fmtPct(float64(u.HoursBefore.Covered)) + " / " + fmtPct(float64(u.HoursAfter.Covered)),
-		}
-	}
-	for i := range c.Units {
-		rows = append(rows, row(&c.Units[i], c.Units[i].ID))
-	}
-	if len(c.Units) > 1 {
-		rows = append(rows, row(&c.Total, "site"))
-	}
-	return header, rows
+	"Guideline 14 ± (68 % and 90 %): ΔE = t × 1.26 × CV(RMSE) × E_baseline × sqrt((n/n′)(1 + 2/n′)/m), with n the before hours fitted, m the after hours, and n′ = n(1 − ρ)/(1 + ρ) the effective number of hours for the lag-1 autocorrelation ρ of the model's hourly residuals (ASHRAE Guideline 14-2014, Annex B; the factor 1.26 and the form are recalled from the guideline). Divided by the avoided energy it is the fractional savings uncertainty; the guideline asks for less than 50 % at 68 % confidence.",
+	"Regression ± (90 %): the least-squares prediction interval of the after period's sum, t × sqrt(n/n′ × Σ σ² (m + s′(X′X)⁻¹s)) per occupancy mode, which counts every parameter of the model. The guideline's formula stands in for it with 2m/n, exact for a two-parameter model only; an hourly model has tens of parameters, and its interval is then wider. The finding uses the larger of the two at 90 %: a change inside it is reported as no significant change.",
+	"Neither covers sensor calibration bias, which is the same before and after and cancels in the avoided energy to first order; nor a change of the drivers caused by the measure itself (for example a wetter return air after a reheat lockout), which the model reads as weather.",
+	"Bin check ± (95 %): measurement, from the hourly half-widths normalised like the values; sampling, 1.96 × the standard error of the bin means (consecutive hours are not independent, so it understates).",
 }
 
 // fmtChangePct formats a percentage change with its sign: "+12 %", "-4.5 %".
-func fmtChangePct(v Num) string {
+func fmtChangePct(v compare.Num) string {
 	f := float64(v)
 	if math.IsNaN(f) || math.IsInf(f, 0) {
 		return "–"
@@ -116,26 +85,157 @@ func fmtPM(v float64) string {
 	return "± " + fmtQty(v)
 }
 
+// fmtFSU formats a fractional savings uncertainty; above 100 % the
+// savings are smaller than their uncertainty and the figure says no more.
+func fmtFSU(v float64) string {
+	if v > 1 {
+		return "> 100 %"
+	}
+	return fmtFrac(v)
+}
+
+// fmtFrac formats a fraction as a percentage with one decimal below 10 %.
+func fmtFrac(v float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return "–"
+	}
+	if math.Abs(v) < 0.1 {
+		return fmtFixed(100*v, 1) + " %"
+	}
+	return fmtFixed(100*v, 0) + " %"
+}
+
+// quantity labels and how to show an amount of each.
+var cmpQuantities = []struct {
+	key, label string
+}{
+	{"reheat_kwh", "Reheat"},
+	{"cooling_input_kwh", "Cooling input"},
+	{"water_removed_kg", "Water removed"},
+	{"cost", "Cost"},
+}
+
+func amount(key string, v float64, d Display) string {
+	switch key {
+	case "water_removed_kg":
+		return fmtQty(d.Water(v))
+	case "cost":
+		return fmtMoney(v)
+	}
+	return fmtQty(v)
+}
+
+func amountUnit(key string, d Display, currency string) string {
+	switch key {
+	case "water_removed_kg":
+		return d.WaterUnit()
+	case "cost":
+		return currency
+	}
+	return "kWh"
+}
+
+// uPct is the 90 % half-width used by the finding, as a percentage of the baseline.
+func uPct(s *compare.Savings) string {
+	b := float64(s.Baseline)
+	if b == 0 || math.IsNaN(b) {
+		return "–"
+	}
+	return "± " + fmtFixed(100*s.U90Used()/math.Abs(b), 1) + " %"
+}
+
+// CompareTable returns comparison c as a text table: per unit and for
+// the site, the reheat avoided by the baseline model's account, its
+// uncertainty and finding, the model's fit, the supply dew point and the
+// bin method's check.
+func CompareTable(c *compare.Comparison, d Display) (header []string, rows [][]string) {
+	header = []string{"air handler", "reheat baseline kWh", "measured kWh", "avoided kWh", "avoided", "± 90 %", "finding",
+		"fit CV(RMSE) / NMBE / R²", "supply dew point " + d.TempUnit() + " before → after", "bin check"}
+	for i := range c.Units {
+		u := &c.Units[i]
+		r := u.Model.Reheat()
+		if r == nil || r.Finding == compare.FindingNoModel {
+			rows = append(rows, []string{u.ID, "–", "–", "–", "–", "–", compare.FindingNoModel, "–", "–", fmtChangePct(-u.Bins.Reheat.ChangePct)})
+			continue
+		}
+		fit := fmtFrac(float64(r.Fit.CVRMSE)) + " / " + fmtFrac(float64(r.Fit.NMBE)) + " / " + fmtFixed(float64(r.Fit.R2), 2)
+		if !r.Fit.MeetsG14 {
+			fit += " (outside Guideline 14)"
+		}
+		dp := fmtFixed(d.Temp(float64(u.Humidity.MeanBefore)), 1) + " → " + fmtFixed(d.Temp(float64(u.Humidity.MeanAfter)), 1)
+		if u.Humidity.Held != "unknown" {
+			dp += " (target " + u.Humidity.Held + ")"
+		}
+		rows = append(rows, []string{u.ID, fmtQty(float64(r.Baseline)), fmtQty(float64(r.Measured)), fmtSigned(float64(r.Avoided)),
+			fmtChangePct(r.AvoidedPct), uPct(r), u.Finding, fit, dp, "saves " + fmtChangePct(-u.Bins.Reheat.ChangePct)})
+	}
+	if len(c.Units) > 1 {
+		r := c.Total.Reheat()
+		rows = append(rows, []string{"site", fmtQty(float64(r.Baseline)), fmtQty(float64(r.Measured)), fmtSigned(float64(r.Avoided)),
+			fmtChangePct(r.AvoidedPct), uPct(r), r.Finding, "–", "–", "saves " + fmtChangePct(-c.Total.Bins.Reheat.ChangePct)})
+	}
+	return header, rows
+}
+
 // compareView is what templates/compare.html shows; every number is
 // formatted here, so the template needs no functions.
 type compareView struct {
 	Site, Before, After, Currency string
 	BeforeSpan, AfterSpan         string
-	Method                        string
+	Method, BinMethod             string
 	BinWidth                      string
 	MinHours                      int
 	WaterUnit, TempUnit           string
+	Normalise                     string
 	Cards                         []cmpCard
+	Units                         []cmpUnit
+	Fits                          []cmpFit
+	Extrap                        []cmpExtrap
+	Humidity                      []cmpHumidity
+	Normalised                    []cmpNormalised
+	Bars                          template.HTML
+	FitCharts                     []cmpChart
 	Rows                          []cmpRow
 	Raw                           []cmpRawRow
-	Bars                          template.HTML
-	BinCharts                     []cmpChart
 	Warnings                      []string
 	Uncertainty                   []string
 	Caution                       string
 }
 
 type cmpCard struct{ ID, Label, Value, Note string }
+
+// cmpUnit is one row of the headline table: one unit (or the site) and
+// one quantity.
+type cmpUnit struct {
+	ID, Name, Class, Quantity, Unit        string
+	First                                  bool // first quantity of its unit
+	Span                                   int
+	Baseline, Measured, Avoided, Pct       string
+	U68, U90, Reg90, FSU68, FSU90, Finding string
+	FindingClass                           string
+}
+
+type cmpFit struct {
+	ID, Name, Quantity                 string
+	First                              bool
+	Span                               int
+	N, P, CV, NMBE, R2, Rho, NEff, G14 string
+	Fails                              bool
+}
+
+type cmpExtrap struct {
+	ID, Name, Driver, Range, Share string
+	Warn                           bool
+}
+
+type cmpHumidity struct {
+	ID, Name, Target, Before, After, AboveBefore, AboveAfter, Held string
+	Broken                                                         bool
+}
+
+type cmpNormalised struct {
+	ID, Name, Quantity, Hours, Baseline, Reporting, Avoided, Pct, U90 string
+}
 
 type cmpRow struct {
 	ID, Name, Class                                string
@@ -170,15 +270,15 @@ var compareTemplate = sync.OnceValues(func() (*template.Template, error) {
 	return template.New("compare.html").ParseFS(assets, "templates/compare.html")
 })
 
-// RenderCompare writes the comparison as one self-contained HTML page:
+// RenderCompare writes comparison c as one self-contained HTML page:
 // inline CSS and SVG, no script and no outside resource, so it can be
-// mailed or archived as one file.
-func RenderCompare(w io.Writer, c *Comparison, d Display) error {
+// mailed or archived as one file. zone labels the time axes (nil: UTC).
+func RenderCompare(w io.Writer, c *compare.Comparison, d Display, zone *time.Location) error {
 	t, err := compareTemplate()
 	if err != nil {
 		return fmt.Errorf("compare template: %w", err)
 	}
-	v, err := newCompareView(c, d)
+	v, err := newCompareView(c, d, zone)
 	if err != nil {
 		return err
 	}
@@ -190,69 +290,144 @@ func RenderCompare(w io.Writer, c *Comparison, d Display) error {
 	return err
 }
 
-func newCompareView(c *Comparison, d Display) (*compareView, error) {
+func findingClass(f string) string {
+	switch f {
+	case compare.FindingSaving:
+		return "saving"
+	case compare.FindingIncrease, compare.FindingTargetLost:
+		return "bad"
+	}
+	return "neutral"
+}
+
+func newCompareView(c *compare.Comparison, d Display, zone *time.Location) (*compareView, error) {
 	v := &compareView{Site: c.Site, Before: c.Before.Label, After: c.After.Label, Currency: c.Currency,
 		BeforeSpan: spanText(c.Before), AfterSpan: spanText(c.After),
-		Method: c.Method, MinHours: c.MinHours, WaterUnit: d.WaterUnit(), TempUnit: d.TempUnit(),
-		BinWidth: fmtFixed(d.Delta(float64(c.BinK)), 1) + " " + d.DeltaUnit(),
+		Method: c.Method, BinMethod: c.BinMethod, MinHours: c.MinHours, WaterUnit: d.WaterUnit(), TempUnit: d.TempUnit(),
+		BinWidth: fmtFixed(d.Delta(float64(c.BinK)), 1) + " " + d.DeltaUnit(), Normalise: c.Normalise,
 		Warnings: c.Warnings, Uncertainty: compareUncertainty, Caution: CompareCaution}
 	if d.IP {
 		v.BinWidth += " = " + fmtFixed(float64(c.BinK), 1) + " K"
 	}
-	t := &c.Total
+	tr := c.Total.Reheat()
+	cost := &c.Total.Savings[3]
+	cool := &c.Total.Savings[1]
 	v.Cards = []cmpCard{
-		{"card-reheat", "Reheat, normalised", fmtChangePct(t.Reheat.ChangePct),
-			fmtQty(float64(t.Reheat.Before)) + " → " + fmtQty(float64(t.Reheat.After)) + " kWh" + uncertaintyNote(t.Reheat)},
-		{"card-reheat-raw", "Reheat, raw totals", fmtChangePct(pctOf(float64(t.RawAfter.ReheatKWh-t.RawBefore.ReheatKWh), float64(t.RawBefore.ReheatKWh))),
-			fmtQty(float64(t.RawBefore.ReheatKWh)) + " → " + fmtQty(float64(t.RawAfter.ReheatKWh)) + " kWh over " + strconv.Itoa(t.RawBefore.Hours) + " and " + strconv.Itoa(t.RawAfter.Hours) + " hours"},
-		{"card-avoidable", "Avoidable reheat, normalised", fmtChangePct(t.ReheatAvoid.ChangePct),
-			fmtQty(float64(t.ReheatAvoid.Before)) + " → " + fmtQty(float64(t.ReheatAvoid.After)) + " kWh"},
-		{"card-eer", "Effective EER, normalised", fmtFixed(float64(t.EER.Before), 1) + " → " + fmtFixed(float64(t.EER.After), 1), "Btu/Wh, ratio of the normalised sums"},
-		{"card-covered", "Hours in common bins", fmtPct(float64(t.HoursBefore.Covered)) + " / " + fmtPct(float64(t.HoursAfter.Covered)),
-			"of the usable hours before / after"},
+		{"card-avoided-reheat", "Reheat avoided", fmtChangePct(tr.AvoidedPct),
+			fmtSigned(float64(tr.Avoided)) + " kWh " + uPct(tr) + " (90 %): " + tr.Finding},
+		{"card-avoided-cooling", "Cooling input avoided", fmtChangePct(cool.AvoidedPct),
+			fmtSigned(float64(cool.Avoided)) + " kWh " + uPct(cool) + ": " + cool.Finding},
+		{"card-avoided-cost", "Cost avoided", fmtSignedMoney(float64(cost.Avoided)) + " " + c.Currency,
+			fmtChangePct(cost.AvoidedPct) + " " + uPct(cost) + ": " + cost.Finding},
+		{"card-bin-check", "Bin method check, reheat", fmtChangePct(-c.Total.Bins.Reheat.ChangePct),
+			"saved on " + fmtPct(float64(c.Total.Bins.HoursBefore.Covered)) + " of the before hours (bins common to both periods)"},
+	}
+	addSavings := func(id, name, class string, ss []compare.Savings) {
+		for k, q := range cmpQuantities {
+			if k >= len(ss) {
+				break
+			}
+			s := &ss[k]
+			row := cmpUnit{ID: id, Name: name, Class: class, Quantity: q.label, Unit: amountUnit(q.key, d, c.Currency), First: k == 0, Span: len(ss),
+				Baseline: amount(q.key, float64(s.Baseline), d), Measured: amount(q.key, float64(s.Measured), d),
+				Avoided: amount(q.key, float64(s.Avoided), d), Pct: fmtChangePct(s.AvoidedPct),
+				U68: amount(q.key, math.Max(float64(s.U68), float64(s.RegU68)), d), U90: amount(q.key, float64(s.U90), d),
+				Reg90: amount(q.key, float64(s.RegU90), d), FSU68: fmtFSU(float64(s.FSU68)), FSU90: fmtFSU(float64(s.FSU90)),
+				Finding: s.Finding, FindingClass: findingClass(s.Finding)}
+			if s.Avoided > 0 && strings.Trim(row.Avoided, "0.,") != "" {
+				row.Avoided = "+" + row.Avoided
+			}
+			v.Units = append(v.Units, row)
+		}
 	}
 	for i := range c.Units {
-		v.Rows = append(v.Rows, newCmpRow(&c.Units[i], d, ""))
-		v.Raw = append(v.Raw, newCmpRawRow(&c.Units[i], d, ""))
+		u := &c.Units[i]
+		if u.Model != nil {
+			addSavings(u.ID, u.Name, "", u.Model.Savings)
+			for k, q := range cmpQuantities {
+				if k >= len(u.Model.Savings) {
+					break
+				}
+				f := u.Model.Savings[k].Fit
+				g14 := "met"
+				if !f.MeetsG14 {
+					g14 = "not met"
+				}
+				v.Fits = append(v.Fits, cmpFit{ID: u.ID, Name: u.Name, Quantity: q.label, First: k == 0, Span: len(u.Model.Savings),
+					N: strconv.Itoa(f.N), P: strconv.Itoa(f.P), CV: fmtFrac(float64(f.CVRMSE)), NMBE: fmtFrac(float64(f.NMBE)),
+					R2: fmtFixed(float64(f.R2), 3), Rho: fmtFixed(float64(f.Rho), 2), NEff: fmtFixed(float64(f.NEff), 0), G14: g14, Fails: !f.MeetsG14})
+				if n := u.Model.Savings[k].Normalised; n != nil {
+					v.Normalised = append(v.Normalised, cmpNormalised{ID: u.ID, Name: u.Name, Quantity: q.label, Hours: strconv.Itoa(n.Hours),
+						Baseline: amount(q.key, float64(n.Baseline), d), Reporting: amount(q.key, float64(n.Reporting), d),
+						Avoided: amount(q.key, float64(n.Avoided), d), Pct: fmtChangePct(n.AvoidedPct), U90: fmtPM(float64(n.U90))})
+				}
+			}
+			for _, e := range u.Model.Extrapolation {
+				rng := "–"
+				switch e.Driver {
+				case "entering_dewpoint_c", "entering_temp_c":
+					rng = fmtFixed(d.Temp(float64(e.Min)), 1) + " to " + fmtFixed(d.Temp(float64(e.Max)), 1) + " " + d.TempUnit()
+				case "dry_air_kg":
+					rng = fmtQty(float64(e.Min)) + " to " + fmtQty(float64(e.Max)) + " kg of dry air per hour"
+				}
+				v.Extrap = append(v.Extrap, cmpExtrap{ID: u.ID, Name: u.Name, Driver: driverLabel[e.Driver], Range: rng, Share: fmtFrac(float64(e.Share)), Warn: e.Warn})
+			}
+		}
+		h := u.Humidity
+		target := "none configured"
+		if !math.IsNaN(float64(h.TargetDPC)) {
+			target = fmtFixed(d.Temp(float64(h.TargetDPC)), 1) + " " + d.TempUnit() + " (" + targetLabel[h.TargetKind] + ")"
+		}
+		v.Humidity = append(v.Humidity, cmpHumidity{ID: u.ID, Name: u.Name, Target: target,
+			Before: fmtFixed(d.Temp(float64(h.MeanBefore)), 1), After: fmtFixed(d.Temp(float64(h.MeanAfter)), 1),
+			AboveBefore: fmtFrac(float64(h.AboveBefore)), AboveAfter: fmtFrac(float64(h.AboveAfter)), Held: h.Held, Broken: h.Held == "not held"})
 	}
 	if len(c.Units) > 1 {
-		v.Rows = append(v.Rows, newCmpRow(t, d, "total"))
-		v.Raw = append(v.Raw, newCmpRawRow(t, d, "total"))
+		addSavings("", "Site", "total", c.Total.Savings)
 	}
-	bars, err := compareBarsSVG(c)
+	for i := range c.Units {
+		v.Rows = append(v.Rows, newCmpRow(&c.Units[i].Bins, d, ""))
+		v.Raw = append(v.Raw, newCmpRawRow(&c.Units[i].Bins, d, ""))
+	}
+	if len(c.Units) > 1 {
+		v.Rows = append(v.Rows, newCmpRow(&c.Total.Bins, d, "total"))
+		v.Raw = append(v.Raw, newCmpRawRow(&c.Total.Bins, d, "total"))
+	}
+	bars, err := avoidedBarsSVG(c)
 	if err != nil {
 		return nil, err
 	}
 	v.Bars = bars
 	for i := range c.Units {
 		u := &c.Units[i]
-		svg, err := compareBinSVG(u, d, i)
+		svg, err := fitChartSVG(u, zone)
 		if err != nil {
 			return nil, err
 		}
-		v.BinCharts = append(v.BinCharts, cmpChart{ID: u.ID, Name: u.Name, SVG: svg})
+		v.FitCharts = append(v.FitCharts, cmpChart{ID: u.ID, Name: u.Name, SVG: svg})
 	}
 	return v, nil
 }
 
-// uncertaintyNote lists the half-widths a change has: ", ± 12 measurement, ± 30 sampling".
-func uncertaintyNote(c Change) string {
-	var out string
-	if v := float64(c.ChangeU95); !math.IsNaN(v) {
-		out += ", " + fmtPM(v) + " measurement"
-	}
-	if v := float64(c.SamplingU95); !math.IsNaN(v) {
-		out += ", " + fmtPM(v) + " sampling"
-	}
-	return out
+var driverLabel = map[string]string{
+	"entering_dewpoint_c": "entering dew point",
+	"entering_temp_c":     "entering temperature",
+	"dry_air_kg":          "airflow (dry air)",
+	"hour_of_week":        "hour of the week not seen before",
 }
 
-func spanText(p Period) string {
+var targetLabel = map[string]string{
+	"supply_dewpoint": "supply dew point",
+	"space_dewpoint":  "space dew point; the supply must be at or below it",
+	"space_rh":        "dew point of the space RH limit",
+}
+
+func spanText(p compare.Window) string {
 	return p.From.Format("2006-01-02 15:04 MST") + " to " + p.To.Format("2006-01-02 15:04 MST") + " (end excluded)"
 }
 
-func newCmpRow(u *UnitComparison, d Display, class string) cmpRow {
-	q := func(v Num) string { return fmtQty(float64(v)) }
+func newCmpRow(u *compare.BinCheck, d Display, class string) cmpRow {
+	q := func(v compare.Num) string { return fmtQty(float64(v)) }
 	return cmpRow{ID: u.ID, Name: u.Name, Class: class, Compared: u.Compared,
 		ReheatBefore: q(u.Reheat.Before), ReheatAfter: q(u.Reheat.After), ReheatChange: fmtSigned(float64(u.Reheat.Change)),
 		Pct: fmtChangePct(u.Reheat.ChangePct), MeasU95: fmtPM(float64(u.Reheat.ChangeU95)), SampU95: fmtPM(float64(u.Reheat.SamplingU95)),
@@ -268,13 +443,13 @@ func newCmpRow(u *UnitComparison, d Display, class string) cmpRow {
 	}
 }
 
-func newCmpRawRow(u *UnitComparison, d Display, class string) cmpRawRow {
+func newCmpRawRow(u *compare.BinCheck, d Display, class string) cmpRawRow {
 	b, a := &u.RawBefore, &u.RawAfter
-	q := func(v Num) string { return fmtQty(float64(v)) }
-	wt := func(v Num) string { return fmtQty(d.Water(float64(v))) }
+	q := func(v compare.Num) string { return fmtQty(float64(v)) }
+	wt := func(v compare.Num) string { return fmtQty(d.Water(float64(v))) }
 	return cmpRawRow{ID: u.ID, Name: u.Name, Class: class,
 		HoursBefore: strconv.Itoa(b.Hours), HoursAfter: strconv.Itoa(a.Hours),
-		ReheatBefore: q(b.ReheatKWh), ReheatAfter: q(a.ReheatKWh), Pct: fmtChangePct(pctOf(float64(a.ReheatKWh-b.ReheatKWh), float64(b.ReheatKWh))),
+		ReheatBefore: q(b.ReheatKWh), ReheatAfter: q(a.ReheatKWh), Pct: fmtChangePct(pctChange(float64(a.ReheatKWh-b.ReheatKWh), float64(b.ReheatKWh))),
 		AvoidBefore: q(b.ReheatAvoid), AvoidAfter: q(a.ReheatAvoid),
 		EERBefore: fmtFixed(float64(b.EffectiveEER), 1), EERAfter: fmtFixed(float64(a.EffectiveEER), 1),
 		WaterBefore: wt(b.WaterKg), WaterAfter: wt(a.WaterKg),
@@ -283,308 +458,75 @@ func newCmpRawRow(u *UnitComparison, d Display, class string) cmpRawRow {
 	}
 }
 
-// --- charts: small SVGs of our own, presentation attributes only ---
-
-// svgText escapes text for SVG inside HTML.
-func svgText(s string) string { return html.EscapeString(s) }
-
-// cx formats a coordinate with one decimal.
-func cx(v float64) string {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		v = 0
-	}
-	return strconv.FormatFloat(math.Round(v*10)/10, 'f', -1, 64)
-}
-
-// ticks returns round tick values covering [lo, hi] (about n of them) and
-// the widened ends.
-func ticks(lo, hi float64, n int) (t []float64, a, b float64) {
-	if !(hi > lo) {
-		lo, hi = lo-1, lo+1
-	}
-	raw := (hi - lo) / float64(max(n, 1))
-	mag := math.Pow(10, math.Floor(math.Log10(raw)))
-	step := 10 * mag
-	for _, f := range []float64{1, 2, 5, 10} {
-		if raw <= f*mag {
-			step = f * mag
-			break
-		}
-	}
-	a, b = math.Floor(lo/step)*step, math.Ceil(hi/step)*step
-	for v := a; v <= b+step/2 && len(t) < 40; v += step {
-		t = append(t, math.Round(v/step)*step)
-	}
-	return t, a, b
-}
-
-// tickLabel writes a tick value with as many decimals as its step needs.
-func tickLabel(v float64, t []float64) string {
-	dec := 0
-	if len(t) > 1 {
-		step := t[1] - t[0]
-		for dec < 3 && math.Abs(step*math.Pow(10, float64(dec))-math.Round(step*math.Pow(10, float64(dec)))) > 1e-9 {
-			dec++
-		}
-	}
-	return fmtFixed(v, dec)
-}
-
-func hatch(id, fill, line string) string {
-	return `<pattern id="` + id + `" patternUnits="userSpaceOnUse" width="6" height="6" patternTransform="rotate(45)">` +
-		`<rect width="6" height="6" fill="` + fill + `"/><line x1="0" y1="0" x2="0" y2="6" stroke="` + line + `" stroke-width="2.5"/></pattern>`
-}
-
-// compareBarsSVG draws, per unit, the before figure and the normalised
-// after figure of reheat as a pair of horizontal bars with their
-// measurement half-widths.
-func compareBarsSVG(c *Comparison) (template.HTML, error) {
-	const (
-		width   = 960.0
-		labelW  = 220.0
-		right   = 90.0
-		top     = 58.0
-		pitch   = 46.0
-		barH    = 15.0
-		bottom  = 34.0
-		hatchID = "cmp-hatch-bars"
-	)
-	n := len(c.Units)
-	h := top + float64(max(n, 1))*pitch + bottom
-	lo, hi := 0.0, 0.0
+// avoidedBarsSVG ranks the units by the reheat the baseline model says
+// they avoided (kWh).
+func avoidedBarsSVG(c *compare.Comparison) (template.HTML, error) {
+	labels := make([]string, 0, len(c.Units))
+	values := make([]float64, 0, len(c.Units))
 	for i := range c.Units {
 		u := &c.Units[i]
-		for _, x := range []float64{float64(u.Reheat.Before + u.Reheat.BeforeU95), float64(u.Reheat.After + u.Reheat.AfterU95),
-			float64(u.Reheat.Before), float64(u.Reheat.After)} {
-			if !math.IsNaN(x) && !math.IsInf(x, 0) {
-				lo, hi = math.Min(lo, x), math.Max(hi, x)
-			}
-		}
-	}
-	tk, a, b := ticks(lo, hi, 6)
-	x0, x1 := labelW, width-right
-	x := func(v float64) float64 { return x0 + (v-a)/(b-a)*(x1-x0) }
-	var s strings.Builder
-	title := "Reheat per air handler: before, and after normalised to the before period's humidity"
-	fmt.Fprintf(&s, `<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 %s %s" width="%s" height="%s" role="img" aria-label="%s" font-family="system-ui, -apple-system, sans-serif" font-size="11" fill="%s">`,
-		cx(width), cx(h), cx(width), cx(h), svgText(title), colorCmpInk)
-	s.WriteString(`<defs>` + hatch(hatchID, colorAfter, colorAfterEdge) + `</defs>`)
-	fmt.Fprintf(&s, `<text x="8" y="20" font-size="13" font-weight="600">%s</text>`, svgText(title))
-	// Legend: shapes differ as well as colours.
-	fmt.Fprintf(&s, `<rect x="%s" y="30" width="14" height="10" fill="%s" stroke="%s"/><text x="%s" y="39">before (its hours in common bins)</text>`,
-		cx(x0), colorBefore, colorBeforeEdge, cx(x0+19))
-	fmt.Fprintf(&s, `<rect x="%s" y="30" width="14" height="10" fill="url(#%s)" stroke="%s"/><text x="%s" y="39">after, normalised</text>`,
-		cx(x0+230), hatchID, colorAfterEdge, cx(x0+249))
-	fmt.Fprintf(&s, `<text x="%s" y="39" fill="%s">whiskers: measurement ± (95 %%)</text>`, cx(x0+370), colorCmpMuted)
-	yEnd := top + float64(max(n, 1))*pitch
-	for _, v := range tk {
-		fmt.Fprintf(&s, `<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s"/>`, cx(x(v)), cx(top-4), cx(x(v)), cx(yEnd), colorCmpGrid)
-		fmt.Fprintf(&s, `<text x="%s" y="%s" text-anchor="middle" fill="%s">%s</text>`, cx(x(v)), cx(yEnd+15), colorCmpMuted, svgText(tickLabel(v, tk)))
-	}
-	fmt.Fprintf(&s, `<text x="%s" y="%s" text-anchor="middle" fill="%s">reheat, kWh</text>`, cx((x0+x1)/2), cx(yEnd+30), colorCmpMuted)
-	fmt.Fprintf(&s, `<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s"/>`, cx(x(0)), cx(top-4), cx(x(0)), cx(yEnd), colorCmpAxis)
-	for i := range c.Units {
-		u := &c.Units[i]
-		y := top + float64(i)*pitch
 		label := u.Name
 		if u.Name != u.ID {
 			label += " (" + u.ID + ")"
 		}
-		if r := []rune(label); len(r) > 34 {
-			label = string(r[:33]) + "…"
+		labels = append(labels, label)
+		v := math.NaN()
+		if r := u.Model.Reheat(); r != nil {
+			v = float64(r.Avoided)
 		}
-		fmt.Fprintf(&s, `<text x="%s" y="%s" text-anchor="end">%s</text>`, cx(x0-8), cx(y+barH+6), svgText(label))
-		if !u.Compared {
-			fmt.Fprintf(&s, `<text x="%s" y="%s" fill="%s">not compared: no dew-point bin with enough hours in both periods</text>`,
-				cx(x0+6), cx(y+barH+6), colorCmpMuted)
-			continue
-		}
-		for k, p := range []struct {
-			v, u95     float64
-			fill, edge string
-			name       string
-		}{
-			{float64(u.Reheat.Before), float64(u.Reheat.BeforeU95), colorBefore, colorBeforeEdge, "before"},
-			{float64(u.Reheat.After), float64(u.Reheat.AfterU95), "url(#" + hatchID + ")", colorAfterEdge, "after, normalised"},
-		} {
-			yb := y + float64(k)*(barH+2)
-			if math.IsNaN(p.v) {
-				fmt.Fprintf(&s, `<text x="%s" y="%s" fill="%s">–</text>`, cx(x(0)+4), cx(yb+barH-3), colorCmpMuted)
-				continue
-			}
-			xa, xb := math.Min(x(0), x(p.v)), math.Max(x(0), x(p.v))
-			fmt.Fprintf(&s, `<rect x="%s" y="%s" width="%s" height="%s" fill="%s" stroke="%s"><title>%s</title></rect>`,
-				cx(xa), cx(yb), cx(xb-xa), cx(barH), p.fill, p.edge, svgText(label+", "+p.name+": "+fmtQty(p.v)+" kWh"))
-			end := xb
-			if !math.IsNaN(p.u95) && p.u95 > 0 {
-				wl, wr := x(p.v-p.u95), x(p.v+p.u95)
-				ym := yb + barH/2
-				fmt.Fprintf(&s, `<path d="M%s %sH%sM%s %sV%sM%s %sV%s" stroke="%s" stroke-width="1.2" fill="none"/>`,
-					cx(wl), cx(ym), cx(wr), cx(wl), cx(ym-4), cx(ym+4), cx(wr), cx(ym-4), cx(ym+4), colorCmpInk)
-				end = math.Max(end, wr)
-			}
-			fmt.Fprintf(&s, `<text x="%s" y="%s">%s</text>`, cx(end+5), cx(yb+barH-3), svgText(fmtQty(p.v)))
-		}
+		values = append(values, v)
 	}
-	s.WriteString(`</svg>`)
-	return template.HTML(s.String()), nil // every text above went through svgText
+	var b bytes.Buffer
+	err := chart.HBars(&b, chart.Frame{Title: "Reheat avoided per air handler (baseline projected minus measured)", YLabel: "kWh", Width: 960}, labels, values, colorAvoided)
+	if err != nil {
+		return "", fmt.Errorf("the avoided-reheat chart: %w", err)
+	}
+	return template.HTML(b.String()), nil // the chart package escapes every text it writes
 }
 
-// compareBinSVG draws one unit's bins: the mean reheat per hour of each
-// period against the entering dew point (top) and the hours per bin of
-// each period (bottom), which shows the difference in humidity mix that
-// the normalisation removes.
-func compareBinSVG(u *UnitComparison, d Display, idx int) (template.HTML, error) {
-	const (
-		width  = 960.0
-		left   = 70.0
-		right  = 24.0
-		top    = 62.0
-		plotH  = 190.0
-		gap    = 44.0
-		histH  = 90.0
-		bottom = 40.0
-	)
-	h := top + plotH + gap + histH + bottom
+// fitChartSVG draws one unit's measured reheat and the baseline model's
+// prediction hour by hour over both periods: in the before period the
+// fit, in the after period the projection whose difference is the
+// avoided energy. A missing hour, and the time between the periods, are
+// gaps.
+func fitChartSVG(u *compare.UnitComparison, zone *time.Location) (template.HTML, error) {
 	title := u.Name
 	if u.Name != u.ID {
 		title += " (" + u.ID + ")"
 	}
-	title += ": mean reheat per hour by entering dew point"
-	var s strings.Builder
-	fmt.Fprintf(&s, `<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 %s %s" width="%s" height="%s" role="img" aria-label="%s" font-family="system-ui, -apple-system, sans-serif" font-size="11" fill="%s">`,
-		cx(width), cx(h), cx(width), cx(h), svgText(title), colorCmpInk)
-	hatchID := "cmp-hatch-" + strconv.Itoa(idx)
-	s.WriteString(`<defs>` + hatch(hatchID, colorAfter, colorAfterEdge) + `</defs>`)
-	fmt.Fprintf(&s, `<text x="8" y="20" font-size="13" font-weight="600">%s</text>`, svgText(title))
-	if len(u.Bins) == 0 {
-		fmt.Fprintf(&s, `<text x="%s" y="%s" fill="%s">no usable hours in either period</text></svg>`, cx(left), cx(top+40), colorCmpMuted)
-		return template.HTML(s.String()), nil
+	title += ": reheat measured and predicted by the baseline model"
+	var times []time.Time
+	var meas, pred []float64
+	if u.Model != nil {
+		hours := slices.Clone(u.Model.Hours)
+		slices.SortFunc(hours, func(a, b compare.HourFit) int { return a.Hour.Compare(b.Hour) })
+		for i := range hours {
+			h := &hours[i]
+			if n := len(times); n > 0 && h.Hour.Sub(times[n-1]) > time.Hour {
+				times = append(times, times[n-1].Add(time.Hour))
+				meas, pred = append(meas, math.NaN()), append(pred, math.NaN())
+			}
+			times = append(times, h.Hour)
+			meas = append(meas, float64(h.Measured[0]))
+			pred = append(pred, float64(h.Predicted[0]))
+		}
 	}
-	// Legend.
-	lx := left
-	fmt.Fprintf(&s, `<path d="M%s 36h22" stroke="%s" stroke-width="2"/><circle cx="%s" cy="36" r="4" fill="%s" stroke="%s"/><text x="%s" y="40">before</text>`,
-		cx(lx), colorBeforeEdge, cx(lx+11), colorBefore, colorBeforeEdge, cx(lx+28))
-	lx += 90
-	fmt.Fprintf(&s, `<path d="M%s 36h22" stroke="%s" stroke-width="2" stroke-dasharray="5 3"/><rect x="%s" y="32" width="8" height="8" fill="%s" stroke="%s"/><text x="%s" y="40">after</text>`,
-		cx(lx), colorAfterEdge, cx(lx+7), colorAfter, colorAfterEdge, cx(lx+28))
-	lx += 80
-	fmt.Fprintf(&s, `<circle cx="%s" cy="36" r="4" fill="#fff" stroke="%s"/><text x="%s" y="40" fill="%s">hollow: bin left out (fewer than the minimum hours in a period)</text>`,
-		cx(lx+4), colorCmpMuted, cx(lx+13), colorCmpMuted)
+	var b bytes.Buffer
+	err := chart.Lines(&b, chart.Frame{Title: title, YLabel: "reheat, kWh per hour", Width: 960, Height: 280, Zone: zone}, times,
+		[]chart.Series{
+			{Name: "measured", Class: "measured", Color: colorMeasured, Values: meas},
+			{Name: "baseline model (fitted before, projected after)", Class: "predicted", Color: colorModel, Values: pred},
+		}, nil)
+	if err != nil {
+		return "", fmt.Errorf("the fit chart of %s: %w", u.ID, err)
+	}
+	return template.HTML(b.String()), nil // the chart package escapes every text it writes
+}
 
-	loT, hiT := d.Temp(float64(u.Bins[0].LoC)), d.Temp(float64(u.Bins[len(u.Bins)-1].HiC))
-	xt, xa, xb := ticks(loT, hiT, 10)
-	x0, x1 := left, width-right
-	x := func(t float64) float64 { return x0 + (t-xa)/(xb-xa)*(x1-x0) }
-	yMax, hMax := 0.0, 0
-	for _, b := range u.Bins {
-		for _, v := range []float64{float64(b.ReheatBefore), float64(b.ReheatAfter)} {
-			if !math.IsNaN(v) {
-				yMax = math.Max(yMax, v)
-			}
-		}
-		hMax = max(hMax, b.HoursBefore, b.HoursAfter)
+// pctChange is 100 × change / |base|, unknown when base is zero or unknown.
+func pctChange(change, base float64) compare.Num {
+	if base == 0 || math.IsNaN(base) || math.IsNaN(change) {
+		return compare.Num(math.NaN())
 	}
-	yt, ya, yb := ticks(0, math.Max(yMax, 1e-9), 5)
-	y := func(v float64) float64 { return top + plotH - (v-ya)/(yb-ya)*plotH }
-	ht, ha, hb := ticks(0, float64(max(hMax, 1)), 3)
-	hy0 := top + plotH + gap
-	hy := func(v float64) float64 { return hy0 + histH - (v-ha)/(hb-ha)*histH }
-
-	// Grids and axes.
-	for _, v := range yt {
-		fmt.Fprintf(&s, `<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s"/><text x="%s" y="%s" text-anchor="end" fill="%s">%s</text>`,
-			cx(x0), cx(y(v)), cx(x1), cx(y(v)), colorCmpGrid, cx(x0-6), cx(y(v)+4), colorCmpMuted, svgText(tickLabel(v, yt)))
-	}
-	for _, v := range ht {
-		fmt.Fprintf(&s, `<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s"/><text x="%s" y="%s" text-anchor="end" fill="%s">%s</text>`,
-			cx(x0), cx(hy(v)), cx(x1), cx(hy(v)), colorCmpGrid, cx(x0-6), cx(hy(v)+4), colorCmpMuted, svgText(tickLabel(v, ht)))
-	}
-	for _, v := range xt {
-		fmt.Fprintf(&s, `<line x1="%s" y1="%s" x2="%s" y2="%s" stroke="%s"/><text x="%s" y="%s" text-anchor="middle" fill="%s">%s</text>`,
-			cx(x(v)), cx(top), cx(x(v)), cx(hy0+histH), colorCmpGrid, cx(x(v)), cx(hy0+histH+15), colorCmpMuted, svgText(tickLabel(v, xt)))
-	}
-	fmt.Fprintf(&s, `<path d="M%s %sV%sH%sM%s %sV%sH%s" stroke="%s" fill="none"/>`,
-		cx(x0), cx(top), cx(top+plotH), cx(x1), cx(x0), cx(hy0), cx(hy0+histH), cx(x1), colorCmpAxis)
-	fmt.Fprintf(&s, `<text x="%s" y="%s" fill="%s">reheat, kWh per hour (bin mean)</text>`, cx(x0), cx(top-8), colorCmpMuted)
-	fmt.Fprintf(&s, `<text x="%s" y="%s" fill="%s">hours per bin</text>`, cx(x0), cx(hy0-8), colorCmpMuted)
-	fmt.Fprintf(&s, `<text x="%s" y="%s" text-anchor="middle" fill="%s">entering dew point, %s</text>`,
-		cx((x0+x1)/2), cx(hy0+histH+32), colorCmpMuted, svgText(d.TempUnit()))
-
-	// Hours per bin: two bars side by side in each bin.
-	for _, b := range u.Bins {
-		xl, xr := x(d.Temp(float64(b.LoC))), x(d.Temp(float64(b.HiC)))
-		wBar := math.Max((xr-xl)/2-1.5, 0.8)
-		op := "1"
-		if !b.Common {
-			op = "0.35"
-		}
-		rng := fmtFixed(d.Temp(float64(b.LoC)), 1) + " to " + fmtFixed(d.Temp(float64(b.HiC)), 1) + " " + d.TempUnit()
-		for k, p := range []struct {
-			hours      int
-			fill, edge string
-			name       string
-		}{{b.HoursBefore, colorBefore, colorBeforeEdge, "before"}, {b.HoursAfter, "url(#" + hatchID + ")", colorAfterEdge, "after"}} {
-			if p.hours == 0 {
-				continue
-			}
-			xs := xl + 1 + float64(k)*(wBar+1)
-			fmt.Fprintf(&s, `<rect x="%s" y="%s" width="%s" height="%s" fill="%s" stroke="%s" stroke-width="0.6" opacity="%s"><title>%s</title></rect>`,
-				cx(xs), cx(hy(float64(p.hours))), cx(wBar), cx(hy(0)-hy(float64(p.hours))), p.fill, p.edge, op,
-				svgText(p.name+", "+rng+": "+strconv.Itoa(p.hours)+" h"))
-		}
-	}
-
-	// Bin means: lines over the common bins, a marker in every bin.
-	for k, p := range []struct {
-		edge, fill, dash, name string
-		val                    func(BinRow) Num
-		hours                  func(BinRow) int
-	}{
-		{colorBeforeEdge, colorBefore, "", "before", func(b BinRow) Num { return b.ReheatBefore }, func(b BinRow) int { return b.HoursBefore }},
-		{colorAfterEdge, colorAfter, ` stroke-dasharray="6 4"`, "after", func(b BinRow) Num { return b.ReheatAfter }, func(b BinRow) int { return b.HoursAfter }},
-	} {
-		// A line joins neighbouring bins only: across a gap nothing was
-		// observed, and a straight line would suggest otherwise.
-		var path strings.Builder
-		prevHi := math.NaN()
-		for _, b := range u.Bins {
-			v := float64(p.val(b))
-			if !b.Common || math.IsNaN(v) {
-				prevHi = math.NaN()
-				continue
-			}
-			cmd := "L"
-			if math.IsNaN(prevHi) || math.Abs(float64(b.LoC)-prevHi) > 1e-9 {
-				cmd = "M"
-			}
-			prevHi = float64(b.HiC)
-			path.WriteString(cmd + cx(x(d.Temp(float64(b.LoC+b.HiC)/2))) + " " + cx(y(v)))
-		}
-		if path.Len() > 0 {
-			fmt.Fprintf(&s, `<path d="%s" fill="none" stroke="%s" stroke-width="2"%s/>`, path.String(), p.edge, p.dash)
-		}
-		for _, b := range u.Bins {
-			v := float64(p.val(b))
-			if math.IsNaN(v) {
-				continue
-			}
-			px, py := x(d.Temp(float64(b.LoC+b.HiC)/2)), y(v)
-			fill := p.fill
-			if !b.Common {
-				fill = "#ffffff"
-			}
-			tip := svgText(p.name + ", " + fmtFixed(d.Temp(float64(b.LoC)), 1) + " to " + fmtFixed(d.Temp(float64(b.HiC)), 1) + " " + d.TempUnit() +
-				": " + fmtFixed(v, 2) + " kWh per hour over " + strconv.Itoa(p.hours(b)) + " h")
-			if k == 0 {
-				fmt.Fprintf(&s, `<circle cx="%s" cy="%s" r="4" fill="%s" stroke="%s" stroke-width="1.2"><title>%s</title></circle>`,
-					cx(px), cx(py), fill, p.edge, tip)
-			} else {
-				fmt.Fprintf(&s, `<rect x="%s" y="%s" width="8" height="8" fill="%s" stroke="%s" stroke-width="1.2"><title>%s</title></rect>`,
-					cx(px-4), cx(py-4), fill, p.edge, tip)
-			}
-		}
-	}
-	s.WriteString(`</svg>`)
-	return template.HTML(s.String()), nil // every text above went through svgText
+	return compare.Num(100 * change / math.Abs(base))
 }

@@ -1,8 +1,9 @@
 // Package dashboards shows what the engine computed: the web dashboard
 // (Handler: the overview ranked by avoidable cost, one air handler, its
 // psychrometric chart, the alerts, and the JSON API behind them), the
-// self-contained audit report (WriteReport, report.go) and the before/after
-// comparison normalised for the entering humidity (Compare, compare.go).
+// self-contained audit report (WriteReport, report.go) and the page of a
+// before/after comparison (RenderCompare, compare_render.go; the analysis
+// itself is the pure package metrics/compare).
 //
 // It reads results through the Results interface it declares (site.go);
 // the backends in ingest/embedded and ingest/influx implement it. Sums over hours

@@ -82,3 +82,27 @@ func midnight(t time.Time) time.Time {
 	y, m, d := t.Date()
 	return time.Date(y, m, d, 0, 0, 0, 0, t.Location())
 }
+
+// PeriodBetween describes [from, to) as a Period in zone: whole local days
+// are labelled as dates (the last one inclusive), other bounds with their
+// local time.
+func PeriodBetween(from, to time.Time, zone *time.Location) Period {
+	if zone == nil {
+		zone = time.UTC
+	}
+	f, t := from.In(zone), to.In(zone)
+	p := Period{Kind: "custom", From: f, To: t}
+	if f.Equal(midnight(f)) && t.Equal(midnight(t)) {
+		last := t.AddDate(0, 0, -1)
+		p.DateFrom, p.DateTo = f.Format(dateLayout), last.Format(dateLayout)
+		if p.DateFrom == p.DateTo {
+			p.Label = f.Format("Mon 2 Jan 2006")
+		} else {
+			p.Label = f.Format("2 Jan 2006") + " – " + last.Format("2 Jan 2006")
+		}
+		return p
+	}
+	p.Kind = "span"
+	p.Label = f.Format("2 Jan 2006 15:04") + " – " + t.Format("2 Jan 2006 15:04") + " (" + zone.String() + ", end excluded)"
+	return p
+}

@@ -14,11 +14,12 @@ import (
 	"time"
 
 	"github.com/dewline/dewline/dashboards"
+	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/metrics/compare"
 )
 
 // runCompare compares the stored results of two periods around a sequence
-// change, normalised for the entering-air humidity load (see
-// dashboards.Compare for the method).
+// change (see package metrics/compare for the method).
 func runCompare(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("compare", flag.ContinueOnError)
 	cfgPath := fs.String("config", "", "configuration file (required)")
@@ -27,12 +28,14 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	out := fs.String("o", "", "also write the comparison as one self-contained HTML file")
 	asJSON := fs.Bool("json", false, "print the comparison as JSON (SI units) instead of the table")
 	unitsS := fs.String("units", "", "units of the table and the HTML: si or ip (default: the site's)")
-	minHours := fs.Int("min-hours", dashboards.DefaultCompareMinHours, "hours a dew-point bin needs in each period to be used")
+	minHours := fs.Int("min-hours", compare.DefaultMinHours, "hours a dew-point bin of the bin check needs in each period to be used")
+	normalise := fs.String("normalise-to", "", "also report the savings normalised to the conditions of the before or the after period")
 	fs.Usage = func() {
 		w := fs.Output()
-		fmt.Fprintln(w, "usage: dewline compare --config FILE --before FROM..TO --after FROM..TO [-o compare.html] [--json] [--units si|ip] [--min-hours N]")
-		fmt.Fprintln(w, "Compares the stored hourly results of two periods around a change of a dehumidification sequence,")
-		fmt.Fprintln(w, "normalised for the humidity of the entering air (bin method on the entering dew point).")
+		fmt.Fprintln(w, "usage: dewline compare --config FILE --before FROM..TO --after FROM..TO [-o compare.html] [--json] [--units si|ip] [--normalise-to before|after] [--min-hours N]")
+		fmt.Fprintln(w, "Measures what a change of a dehumidification sequence saved: a baseline model of the before period's hours")
+		fmt.Fprintln(w, "(ASHRAE Guideline 14 / IPMVP Option B style) projected onto the after period, minus what was measured,")
+		fmt.Fprintln(w, "with its fit statistics and uncertainty; the bin method on the entering dew point as a check.")
 		fmt.Fprintln(w, "FROM and TO are dates (2026-06-01, whole days in site time, TO included) or times")
 		fmt.Fprintln(w, "(2026-06-01T06:00 in site time, or RFC 3339 such as 2026-06-01T11:00:00Z; TO excluded).")
 		fs.PrintDefaults()
@@ -47,6 +50,8 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 		return usagef("--after is required: give the period after the change, e.g. --after 2026-07-01..2026-07-14")
 	case *unitsS != "" && *unitsS != "si" && *unitsS != "ip":
 		return usagef("--units %q: use si or ip", *unitsS)
+	case *normalise != "" && *normalise != "before" && *normalise != "after":
+		return usagef("--normalise-to %q: use before or after", *normalise)
 	case *minHours < 2:
 		return usagef("--min-hours %d: use 2 or more (a bin needs two hours in each period to show its spread)", *minHours)
 	}
@@ -78,7 +83,7 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	defer st.Close()
 	site := siteFor(cfg)
 	display := dashboards.DisplayFor(*unitsS, site.IP)
-	c, err := dashboards.Compare(ctx, site, st.results(time.Now), before, after, dashboards.CompareOptions{MinHours: *minHours})
+	c, err := compareStored(ctx, site, st.results(time.Now), before, after, compare.Options{MinHours: *minHours, NormaliseTo: *normalise})
 	if err != nil {
 		return err
 	}
@@ -87,7 +92,7 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	// leaves no half output.
 	var page bytes.Buffer
 	if *out != "" {
-		if err := dashboards.RenderCompare(&page, c, display); err != nil {
+		if err := dashboards.RenderCompare(&page, c, display, cfg.Location); err != nil {
 			return err
 		}
 	}
@@ -110,6 +115,35 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 		}
 	}
 	return nil
+}
+
+// compareStored reads each period's stored hours of the compared units
+// once and compares them.
+func compareStored(ctx context.Context, site *dashboards.Site, res dashboards.Results, before, after dashboards.Period, opt compare.Options) (*compare.Comparison, error) {
+	in := compare.Input{Site: site.Name, Currency: site.Currency, Zone: site.Zone,
+		Before: compare.Window{From: before.From, To: before.To, Label: before.Label},
+		After:  compare.Window{From: after.From, To: after.To, Label: after.Label}, Options: opt}
+	for _, u := range site.Units {
+		in.Units = append(in.Units, compare.Unit{ID: u.ID, Name: u.Name, Spec: u.Spec})
+	}
+	a, err := compare.New(in)
+	if err != nil {
+		return nil, err
+	}
+	ahu := ""
+	if units := a.Units(); len(units) == 1 {
+		ahu = units[0].ID
+	}
+	for k, w := range []compare.Window{in.Before, in.After} {
+		err := res.Hours(ctx, ahu, w.From, w.To, func(r *metrics.Record) error {
+			a.Add(compare.Side(k), r)
+			return nil
+		})
+		if err != nil {
+			return nil, fmt.Errorf("read the %s period's hours: %w", [2]string{"before", "after"}[k], err)
+		}
+	}
+	return a.Result()
 }
 
 // parsePeriodFlag reads FROM..TO. A date is a whole local day (TO's day
@@ -141,15 +175,15 @@ func parsePeriodFlag(name, s string, loc *time.Location) (dashboards.Period, err
 
 // printComparison writes the comparison as text: the periods, the table,
 // the warnings, the method and the caution.
-func printComparison(w io.Writer, c *dashboards.Comparison, d dashboards.Display) {
+func printComparison(w io.Writer, c *compare.Comparison, d dashboards.Display) {
 	site := c.Site
 	if site == "" {
 		site = "site"
 	}
 	fmt.Fprintf(w, "%s: before %s, after %s\n", site, c.Before.Label, c.After.Label)
 	fmt.Fprintf(w, "hours stored: before %d, after %d; usable (entering dew point, enough coverage): before %d, after %d\n\n",
-		c.Total.HoursBefore.Stored, c.Total.HoursAfter.Stored, c.Total.HoursBefore.Usable, c.Total.HoursAfter.Usable)
-	header, rows := c.CompareTable(d)
+		c.Total.Bins.HoursBefore.Stored, c.Total.Bins.HoursAfter.Stored, c.Total.Bins.HoursBefore.Usable, c.Total.Bins.HoursAfter.Usable)
+	header, rows := dashboards.CompareTable(c, d)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, strings.Join(header, "\t"))
 	for _, r := range rows {
@@ -162,11 +196,8 @@ func printComparison(w io.Writer, c *dashboards.Comparison, d dashboards.Display
 			fmt.Fprintln(w, "  - "+s)
 		}
 	}
-	width := fmt.Sprintf("%g K", float64(c.BinK))
-	if d.IP {
-		width += fmt.Sprintf(" (%g °F)", d.Delta(float64(c.BinK)))
-	}
-	fmt.Fprintf(w, "\nmethod: %s Bins %s wide; a bin is used with at least %d hours in each period.\n", c.Method, width, c.MinHours)
-	fmt.Fprintln(w, "± meas.: from the hourly 95 % half-widths; ± sampling: from the spread within the bins (consecutive hours are not independent, so it understates).")
+	fmt.Fprintf(w, "\nmethod: %s\n", c.Method)
+	fmt.Fprintln(w, "± 90 %: the larger of ASHRAE Guideline 14's savings uncertainty (with the autocorrelation correction) and the regression's prediction interval; a change inside it is \"no significant change\". --json gives every figure, the HTML (-o) the model's fit hour by hour.")
+	fmt.Fprintf(w, "bin check: %s\n", c.BinMethod)
 	fmt.Fprintln(w, "\n"+dashboards.CompareCaution)
 }

@@ -11,6 +11,8 @@ import (
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // writeSequenceChange writes a scenario of our own around a sequence
@@ -51,7 +53,11 @@ func writeSequenceChange(t *testing.T, dir string) (cfg, data string) {
 		} else {
 			sat = 62
 		}
-		fmt.Fprintf(&b, "%s,76.00,%.1f,%.2f,%.2f,8000\n", ts.Format("2006-01-02 15:04:05"), rh, lat, sat)
+		// A sensor never reads exactly the same value all hour; the
+		// engine flags one that does (and the comparison leaves such
+		// hours out): the readings alternate by 0.02 °F and 0.1 % RH.
+		j := float64(ts.Minute() % 2)
+		fmt.Fprintf(&b, "%s,%.2f,%.1f,%.2f,%.2f,8000\n", ts.Format("2006-01-02 15:04:05"), 76+0.02*j, rh+0.1*j, lat+0.02*j, sat+0.02*j)
 	}
 	data = filepath.Join(dir, "export.csv")
 	require.NoError(t, os.WriteFile(data, []byte(b.String()), 0o600))
@@ -82,8 +88,10 @@ func TestCompare_EndToEnd(t *testing.T) {
 	require.Equal(t, 0, code, errOut)
 	assert.Contains(t, out, "before 14 Jul 2026 – 15 Jul 2026, after 16 Jul 2026 – 17 Jul 2026")
 	assert.Contains(t, out, "hours stored: before 48, after 48")
-	assert.Regexp(t, `(?m)^AHU-7\s+7\d\d\s+3\d\d\s+-50 %`, out, "reheat before ≈ 729, after ≈ 365 kWh, -50 %")
-	assert.Contains(t, out, "100 % / 100 %")
+	// The baseline model projects the before sequence onto the after
+	// period's 36 humid hours: 36 × R ≈ 1,094 kWh; measured half of it.
+	assert.Regexp(t, `(?m)^AHU-7\s+1,[01]\d\d\s+5\d\d\s+\+5\d\d\s+\+50 %\s+± 0.0 %\s+saving`, out, "baseline ≈ 1,094, measured ≈ 547 kWh, +50 % avoided")
+	assert.Contains(t, out, "saves +50 %", "the bin check agrees")
 	assert.Contains(t, out, "engineer of record")
 	assert.Contains(t, out, "HTML: "+page)
 	html, err := os.ReadFile(page)
@@ -99,29 +107,65 @@ func TestCompare_EndToEnd(t *testing.T) {
 	require.Equal(t, 0, code, errOut)
 	var c struct {
 		Units []struct {
-			ID        string `json:"id"`
-			RawBefore struct {
-				Reheat float64 `json:"reheat_kwh"`
-			} `json:"raw_before"`
-			RawAfter struct {
-				Reheat float64 `json:"reheat_kwh"`
-			} `json:"raw_after"`
-			Reheat struct {
-				Before    float64 `json:"before"`
-				After     float64 `json:"after_normalised"`
-				ChangePct float64 `json:"change_pct"`
-			} `json:"reheat_kwh"`
-			HoursBefore struct {
-				Usable   int `json:"usable"`
-				InCommon int `json:"in_common_bins"`
-			} `json:"hours_before"`
-			CommonBins int `json:"common_bins"`
+			ID    string `json:"id"`
+			Model struct {
+				Savings []struct {
+					Quantity   string  `json:"quantity"`
+					Baseline   float64 `json:"baseline_projected"`
+					Measured   float64 `json:"measured"`
+					AvoidedPct float64 `json:"avoided_pct"`
+					Finding    string  `json:"finding"`
+					Fit        struct {
+						N        int  `json:"n"`
+						MeetsG14 bool `json:"meets_guideline14"`
+					} `json:"fit"`
+				} `json:"savings"`
+				Hours []struct {
+					Period string `json:"period"`
+				} `json:"hours"`
+			} `json:"baseline_model"`
+			Humidity struct {
+				Held string `json:"target"`
+			} `json:"humidity"`
+			Bins struct {
+				RawBefore struct {
+					Reheat float64 `json:"reheat_kwh"`
+				} `json:"raw_before"`
+				RawAfter struct {
+					Reheat float64 `json:"reheat_kwh"`
+				} `json:"raw_after"`
+				Reheat struct {
+					Before    float64 `json:"before"`
+					After     float64 `json:"after_normalised"`
+					ChangePct float64 `json:"change_pct"`
+				} `json:"reheat_kwh"`
+				HoursBefore struct {
+					Usable   int `json:"usable"`
+					InCommon int `json:"in_common_bins"`
+				} `json:"hours_before"`
+				CommonBins int `json:"common_bins"`
+			} `json:"bin_check"`
 		} `json:"units"`
 		Warnings []string `json:"warnings"`
 	}
 	require.NoError(t, json.Unmarshal([]byte(out), &c), out)
 	require.Len(t, c.Units, 1)
-	u := c.Units[0]
+	md := c.Units[0].Model
+	require.Len(t, md.Savings, 4, "reheat, cooling input, water removed, cost")
+	reheat := md.Savings[0]
+	assert.Equal(t, "reheat_kwh", reheat.Quantity)
+	// By construction the after sequence halves the reheat of every humid
+	// hour: avoided = 50 % of the projected baseline, whose 36 humid hours
+	// follow the rule of thumb's R (3 %, as below).
+	assert.InDelta(t, 50, reheat.AvoidedPct, 0.5)
+	assert.InEpsilon(t, 36*30.4, reheat.Baseline, 0.03)
+	assert.Equal(t, "saving", reheat.Finding)
+	assert.Equal(t, 48, reheat.Fit.N)
+	assert.True(t, reheat.Fit.MeetsG14)
+	assert.Len(t, md.Hours, 96, "every usable hour of both periods, with its prediction")
+	assert.Equal(t, "held", c.Units[0].Humidity.Held)
+
+	u := c.Units[0].Bins
 	// Rule-of-thumb check of the engine's reheat, 3 % (the 1.08 factor is
 	// for standard air at 70 °F; the engine uses the moist-air heat).
 	assert.InEpsilon(t, 24*30.4, u.RawBefore.Reheat, 0.03)
@@ -133,7 +177,9 @@ func TestCompare_EndToEnd(t *testing.T) {
 	assert.Equal(t, 2, u.CommonBins, "one humid and one dry dew-point bin")
 	assert.Equal(t, 48, u.HoursBefore.Usable)
 	assert.Equal(t, 48, u.HoursBefore.InCommon)
-	assert.Empty(t, c.Warnings)
+	for _, w := range c.Warnings {
+		assert.NotContains(t, w, "bin check", "every hour is in a common bin")
+	}
 
 	// A period with nothing stored is an error that says what to do.
 	code, _, errOut = runCLI(t, "--log-level", "warn", "compare", "--config", cfg,
@@ -163,6 +209,7 @@ func TestCompare_BadFlags(t *testing.T) {
 		{"overlap", []string{"--config", cfg, "--before", "2026-07-14..2026-07-16", "--after", "2026-07-16..2026-07-17"}, 2, "--before 2026-07-14..2026-07-16 and --after 2026-07-16..2026-07-17 overlap"},
 		{"units", append([]string{"--config", cfg, "--units", "metric"}, ok...), 2, `--units "metric": use si or ip`},
 		{"min hours", append([]string{"--config", cfg, "--min-hours", "1"}, ok...), 2, "--min-hours 1: use 2 or more"},
+		{"normalise", append([]string{"--config", cfg, "--normalise-to", "summer"}, ok...), 2, `--normalise-to "summer": use before or after`},
 		{"output folder", append([]string{"--config", cfg, "-o", filepath.Join(dir, "nope", "c.html")}, ok...), 2, "-o " + filepath.Join(dir, "nope", "c.html")},
 		{"unknown flag", append([]string{"--config", cfg, "--bins", "2"}, ok...), 2, "-bins"},
 		{"no store yet", append([]string{"--config", cfg}, ok...), 1, "embedded store"},
@@ -174,4 +221,80 @@ func TestCompare_BadFlags(t *testing.T) {
 			assert.Contains(t, errOut, tt.want)
 		})
 	}
+}
+
+// TestInflux_CompareMatchesEmbedded analyses the sequence-change scenario
+// into the embedded store and into the real InfluxDB test server and
+// compares the two periods from each: the baseline model, its statistics
+// and the bin check come out the same from both stores.
+func TestInflux_CompareMatchesEmbedded(t *testing.T) {
+	base, _ := testkit.InfluxDB(t)
+	db := freshDB(t, base, "compare")
+	dir := t.TempDir()
+	embCfg, data := writeSequenceChange(t, dir)
+	fluxText := strings.Replace(analyzeConfig, "store: {kind: embedded, path: test.db}",
+		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", base, db+"/autogen"), 1)
+	require.NotEqual(t, analyzeConfig, fluxText)
+	fluxCfg := filepath.Join(dir, "influx.yaml")
+	require.NoError(t, os.WriteFile(fluxCfg, []byte(fluxText), 0o600))
+	outs := map[string]string{}
+	for _, cfg := range []string{embCfg, fluxCfg} {
+		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data, "--from", "2026-07-14", "--to", "2026-07-18")
+		require.Equal(t, 0, code, errOut)
+		code, out, errOut := runCLI(t, "--log-level", "warn", "compare", "--config", cfg,
+			"--before", "2026-07-14..2026-07-15", "--after", "2026-07-16..2026-07-17", "--json", "--normalise-to", "before")
+		require.Equal(t, 0, code, errOut)
+		outs[cfg] = out
+	}
+	type savings struct {
+		Quantity   string   `json:"quantity"`
+		Baseline   *float64 `json:"baseline_projected"`
+		Measured   *float64 `json:"measured"`
+		AvoidedPct *float64 `json:"avoided_pct"`
+		U90        *float64 `json:"u90"`
+		Finding    string   `json:"finding"`
+		Fit        struct {
+			N      int      `json:"n"`
+			P      int      `json:"p"`
+			CVRMSE *float64 `json:"cv_rmse"`
+		} `json:"fit"`
+	}
+	type result struct {
+		Units []struct {
+			Model struct {
+				Savings []savings `json:"savings"`
+			} `json:"baseline_model"`
+			Bins struct {
+				Reheat struct {
+					ChangePct *float64 `json:"change_pct"`
+				} `json:"reheat_kwh"`
+			} `json:"bin_check"`
+		} `json:"units"`
+	}
+	var e, f result
+	require.NoError(t, json.Unmarshal([]byte(outs[embCfg]), &e))
+	require.NoError(t, json.Unmarshal([]byte(outs[fluxCfg]), &f))
+	require.Len(t, e.Units, 1)
+	require.Len(t, f.Units, 1)
+	se, sf := e.Units[0].Model.Savings, f.Units[0].Model.Savings
+	require.Len(t, se, 4)
+	require.Len(t, sf, 4)
+	num := func(p *float64) float64 {
+		if p == nil {
+			return -1e300 // null on one side must be null on the other
+		}
+		return *p
+	}
+	for q := range se {
+		assert.Equal(t, se[q].Quantity, sf[q].Quantity)
+		assert.Equal(t, se[q].Finding, sf[q].Finding, se[q].Quantity)
+		assert.Equal(t, se[q].Fit.N, sf[q].Fit.N, se[q].Quantity)
+		assert.Equal(t, se[q].Fit.P, sf[q].Fit.P, se[q].Quantity)
+		// Six significant digits in the JSON.
+		for _, pair := range [][2]*float64{{se[q].Baseline, sf[q].Baseline}, {se[q].Measured, sf[q].Measured}, {se[q].AvoidedPct, sf[q].AvoidedPct}} {
+			assert.InEpsilon(t, num(pair[0]), num(pair[1]), 1e-5, se[q].Quantity)
+		}
+	}
+	assert.InDelta(t, 50, num(se[0].AvoidedPct), 0.5, "the scenario halves the reheat of every humid after hour")
+	assert.InDelta(t, num(e.Units[0].Bins.Reheat.ChangePct), num(f.Units[0].Bins.Reheat.ChangePct), 1e-4)
 }

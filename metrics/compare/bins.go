@@ -1,7 +1,6 @@
-package dashboards
+package compare
 
 import (
-	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -45,7 +44,7 @@ import (
 // Uncertainty has two parts, reported apart:
 //   - measurement: the per-hour 95 % half-widths (reheat, avoidable reheat,
 //     water) are normalised like the values (bin means weighted by the
-//     before hours); within a period they add linearly, as in Totals
+//     before hours); within a period they add linearly, as in Sums
 //     (a sensor's bias repeats from hour to hour). For the change the two
 //     periods are combined in quadrature: the same sensors serve both
 //     periods, so their errors are positively correlated or independent,
@@ -64,11 +63,11 @@ var ErrPeriodsOverlap = errors.New("the before and after periods overlap")
 // ErrNoHours is returned when a period has no stored hour to compare.
 var ErrNoHours = errors.New("no hours to compare")
 
-// Defaults of CompareOptions.
+// Defaults of Options.
 const (
-	DefaultCompareBinK     = 1.0
-	DefaultCompareMinHours = 3
-	defaultMinCoverage     = 0.9
+	DefaultBinK        = 1.0
+	DefaultMinHours    = 3
+	defaultMinCoverage = 0.9
 	// coveredWarn: below this share of a period's usable hours in common
 	// bins, the output warns that the figures describe part of the period.
 	coveredWarn = 0.5
@@ -76,15 +75,15 @@ const (
 	z95 = 1.959964
 )
 
-// CompareMethod states the method in plain words, for the outputs.
-const CompareMethod = "Normalised for the entering-air humidity load by the bin method: " +
+// BinMethod states the method in plain words, for the outputs.
+const BinMethod = "Normalised for the entering-air humidity load by the bin method: " +
 	"hours are grouped by entering dew point; only bins with enough hours in both periods are used; " +
 	"in each bin the mean hourly value of each period is taken, and both periods' bin means are weighted " +
 	"by the before period's hours per bin. The after figure is what the new sequence would have used " +
 	"under the before period's humidity conditions. Effective EER is the ratio of the normalised sums."
 
-// CompareOptions tunes Compare; zero values take the defaults.
-type CompareOptions struct {
+// Options tunes Compare; zero values take the defaults.
+type Options struct {
 	BinK     float64 // width of the dew-point bins, K (default 1)
 	MinHours int     // hours a bin needs in each period to be used (default 3, at least 2)
 	// MinCoverage is the share of covered steps an hour needs to be used
@@ -93,32 +92,41 @@ type CompareOptions struct {
 	// pull a bin's mean down.
 	MinCoverage float64
 	Units       []string // compare only these units (default: every configured unit)
+	// NormaliseTo also reports the savings normalised to the drivers of
+	// "before" or "after" (default: none).
+	NormaliseTo string
 }
 
 // Comparison is the before/after comparison of a site.
 type Comparison struct {
-	Site     string           `json:"site"`
-	Currency string           `json:"currency"`
-	Before   Period           `json:"before"`
-	After    Period           `json:"after"`
-	BinK     Num              `json:"bin_width_k"`
-	MinHours int              `json:"min_hours_per_bin"`
-	Method   string           `json:"method"`
-	Units    []UnitComparison `json:"units"`
-	// Total sums the units that could be compared (a unit without common
-	// bins is left out of it and named in Warnings).
-	Total    UnitComparison `json:"total"`
-	Warnings []string       `json:"warnings"`
+	Site     string `json:"site"`
+	Currency string `json:"currency"`
+	Before   Window `json:"before"`
+	After    Window `json:"after"`
+	BinK     Num    `json:"bin_width_k"`
+	MinHours int    `json:"min_hours_per_bin"`
+	// Method states the headline method (the baseline model), BinMethod
+	// the check.
+	Method    string           `json:"method"`
+	BinMethod string           `json:"bin_method"`
+	Normalise string           `json:"normalised_to,omitempty"` // before or after, when asked
+	Units     []UnitComparison `json:"units"`
+	// Total sums the units: the models' savings, and the bin check of the
+	// units that could be compared (a unit without common bins is left
+	// out of it and named in Warnings).
+	Total    SiteTotal `json:"total"`
+	Warnings []string  `json:"warnings"`
 }
 
-// UnitComparison is one air handler (or the site total) before and after.
-type UnitComparison struct {
+// BinCheck is the bin method's comparison of one air handler (or of the
+// site total) before and after.
+type BinCheck struct {
 	ID          string `json:"id"`
 	Name        string `json:"name"`
 	MinCoverage Num    `json:"min_coverage"`
 	// Raw totals of every stored hour of each period, not normalised.
-	RawBefore Totals `json:"raw_before"`
-	RawAfter  Totals `json:"raw_after"`
+	RawBefore Sums `json:"raw_before"`
+	RawAfter  Sums `json:"raw_after"`
 	// Hours of each period, and how many were usable and in common bins.
 	HoursBefore SideHours `json:"hours_before"`
 	HoursAfter  SideHours `json:"hours_after"`
@@ -184,30 +192,6 @@ type BinRow struct {
 	ReheatAfter  Num `json:"reheat_kwh_per_h_after"`
 }
 
-// PeriodBetween describes [from, to) as a Period in zone: whole local days
-// are labelled as dates (the last one inclusive), other bounds with their
-// local time.
-func PeriodBetween(from, to time.Time, zone *time.Location) Period {
-	if zone == nil {
-		zone = time.UTC
-	}
-	f, t := from.In(zone), to.In(zone)
-	p := Period{Kind: "custom", From: f, To: t}
-	if f.Equal(midnight(f)) && t.Equal(midnight(t)) {
-		last := t.AddDate(0, 0, -1)
-		p.DateFrom, p.DateTo = f.Format(dateLayout), last.Format(dateLayout)
-		if p.DateFrom == p.DateTo {
-			p.Label = f.Format("Mon 2 Jan 2006")
-		} else {
-			p.Label = f.Format("2 Jan 2006") + " – " + last.Format("2 Jan 2006")
-		}
-		return p
-	}
-	p.Kind = "span"
-	p.Label = f.Format("2 Jan 2006 15:04") + " – " + t.Format("2 Jan 2006 15:04") + " (" + zone.String() + ", end excluded)"
-	return p
-}
-
 // The quantities averaged per bin.
 const (
 	qReheat = iota
@@ -263,12 +247,12 @@ type dpBin struct {
 }
 
 type side struct {
-	raw   Totals
+	raw   Sums
 	hours SideHours
 	bins  map[int]*dpBin
 }
 
-func newSide() side { return side{raw: NewTotals(), bins: map[int]*dpBin{}} }
+func newSide() side { return side{raw: NewSums(), bins: map[int]*dpBin{}} }
 
 func (s *side) add(r *metrics.Record, binK, minCov float64) {
 	s.hours.Stored++
@@ -295,20 +279,29 @@ func (s *side) add(r *metrics.Record, binK, minCov float64) {
 	}
 }
 
-// Compare compares every configured unit (or opt.Units) between two
-// periods [before.From, before.To) and [after.From, after.To), normalised
-// for the entering-air humidity load as described above. It reads each
-// period's hours once and keeps only per-bin sums, so memory does not grow
-// with the periods' length.
-func Compare(ctx context.Context, site *Site, res Results, before, after Period, opt CompareOptions) (*Comparison, error) {
-	if site == nil || res == nil {
-		return nil, errors.New("compare: a site and a results source are required")
-	}
+// Analysis collects the hours of two periods and compares them. Make one
+// with New, give it every stored hour of each period with Add (in any
+// order), then call Result.
+type Analysis struct {
+	in       Input
+	units    []Unit
+	index    map[string]int
+	sides    [][2]side
+	minCov   []float64
+	raw      [2]Sums
+	rows     [][2][]hourRow
+	suspect  [][2]int
+	pressure []float64
+}
+
+// New checks the input and returns an empty analysis.
+func New(in Input) (*Analysis, error) {
+	opt := &in.Options
 	if opt.BinK == 0 {
-		opt.BinK = DefaultCompareBinK
+		opt.BinK = DefaultBinK
 	}
 	if opt.MinHours == 0 {
-		opt.MinHours = DefaultCompareMinHours
+		opt.MinHours = DefaultMinHours
 	}
 	switch {
 	case !(opt.BinK > 0) || math.IsInf(opt.BinK, 0):
@@ -317,10 +310,16 @@ func Compare(ctx context.Context, site *Site, res Results, before, after Period,
 		return nil, fmt.Errorf("compare: minimum hours per bin %d: use 2 or more (a bin needs two hours to show its spread)", opt.MinHours)
 	case opt.MinCoverage < 0 || opt.MinCoverage > 1 || math.IsNaN(opt.MinCoverage):
 		return nil, fmt.Errorf("compare: minimum coverage %g: use a share between 0 and 1", opt.MinCoverage)
+	case opt.NormaliseTo != "" && opt.NormaliseTo != "before" && opt.NormaliseTo != "after":
+		return nil, fmt.Errorf("compare: normalise to %q: use before or after", opt.NormaliseTo)
 	}
+	if in.Zone == nil {
+		in.Zone = time.UTC
+	}
+	before, after := in.Before, in.After
 	for _, p := range []struct {
 		name string
-		p    Period
+		p    Window
 	}{{"before", before}, {"after", after}} {
 		if !p.p.To.After(p.p.From) {
 			return nil, fmt.Errorf("compare: the %s period %s is empty or ends before it starts: give its start first", p.name, p.p.Label)
@@ -330,58 +329,78 @@ func Compare(ctx context.Context, site *Site, res Results, before, after Period,
 		return nil, fmt.Errorf("%w: before %s, after %s; choose periods that do not share any hour",
 			ErrPeriodsOverlap, before.Label, after.Label)
 	}
-
-	units := site.Units
+	units := in.Units
 	if len(opt.Units) > 0 {
 		units = nil
 		for _, id := range opt.Units {
-			u, ok := site.Unit(id)
-			if !ok {
+			i := slices.IndexFunc(in.Units, func(u Unit) bool { return u.ID == id })
+			if i < 0 {
 				return nil, fmt.Errorf("compare: no air handler %q in the configuration", id)
 			}
-			units = append(units, u)
+			units = append(units, in.Units[i])
 		}
 	}
-	c := &Comparison{Site: site.Name, Currency: site.Currency, Before: before, After: after,
-		BinK: Num(opt.BinK), MinHours: opt.MinHours, Method: CompareMethod, Warnings: []string{}}
-	index := map[string]int{}
-	sides := make([][2]side, len(units))
-	minCov := make([]float64, len(units))
+	a := &Analysis{in: in, units: units, index: map[string]int{}, sides: make([][2]side, len(units)),
+		minCov: make([]float64, len(units)), raw: [2]Sums{NewSums(), NewSums()}, rows: make([][2][]hourRow, len(units)), suspect: make([][2]int, len(units))}
 	for i, u := range units {
-		index[u.ID] = i
-		sides[i] = [2]side{newSide(), newSide()}
-		minCov[i] = defaultMinCoverage
+		a.index[u.ID] = i
+		a.sides[i] = [2]side{newSide(), newSide()}
+		a.pressure = append(a.pressure, psychro.StandardPressurePa)
+		if u.Spec != nil && u.Spec.PressurePa > 0 {
+			a.pressure[i] = u.Spec.PressurePa
+		}
+		a.minCov[i] = defaultMinCoverage
 		if u.Spec != nil && u.Spec.Thresholds.MinCoverage > 0 {
-			minCov[i] = u.Spec.Thresholds.MinCoverage
+			a.minCov[i] = u.Spec.Thresholds.MinCoverage
 		}
 		if opt.MinCoverage > 0 {
-			minCov[i] = opt.MinCoverage
+			a.minCov[i] = opt.MinCoverage
 		}
 	}
-	ahu := ""
-	if len(units) == 1 {
-		ahu = units[0].ID
+	return a, nil
+}
+
+// Units returns the units compared, in configuration order.
+func (a *Analysis) Units() []Unit { return a.units }
+
+// Add takes one stored hour of period s. Hours of other units, and hours
+// outside the period's window, are ignored. r is not kept.
+func (a *Analysis) Add(s Side, r *metrics.Record) {
+	w := a.window(s)
+	i, ok := a.index[r.AHU]
+	if !ok || s > After || r.HourStart.Before(w.From) || !r.HourStart.Before(w.To) {
+		return
 	}
-	siteRaw := [2]Totals{NewTotals(), NewTotals()}
-	for k, p := range []Period{before, after} {
-		err := res.Hours(ctx, ahu, p.From, p.To, func(r *metrics.Record) error {
-			if i, ok := index[r.AHU]; ok {
-				sides[i][k].add(r, opt.BinK, minCov[i])
-				siteRaw[k].Add(r)
-			}
-			return nil
-		})
-		if err != nil {
-			return nil, fmt.Errorf("read the %s period's hours: %w", [2]string{"before", "after"}[k], err)
-		}
+	a.sides[i][s].add(r, a.in.Options.BinK, a.minCov[i])
+	a.raw[s].Add(r)
+	if suspect(r) {
+		a.suspect[i][s]++
+	} else if row, ok := rowOf(r, a.minCov[i], a.pressure[i], a.in.Zone); ok {
+		a.rows[i][s] = append(a.rows[i][s], row)
 	}
+}
+
+func (a *Analysis) window(s Side) Window {
+	if s == After {
+		return a.in.After
+	}
+	return a.in.Before
+}
+
+// Result compares what was added.
+func (a *Analysis) Result() (*Comparison, error) {
+	in, opt := &a.in, a.in.Options
+	before, after := in.Before, in.After
+	c := &Comparison{Site: in.Site, Currency: in.Currency, Before: before, After: after,
+		BinK: Num(opt.BinK), MinHours: opt.MinHours, Method: ModelMethod, BinMethod: BinMethod,
+		Normalise: opt.NormaliseTo, Warnings: []string{}}
 
 	// A period without any usable hour cannot be compared at all.
-	for k, p := range []Period{before, after} {
+	for k, p := range []Window{before, after} {
 		stored, usable := 0, 0
-		for i := range sides {
-			stored += sides[i][k].hours.Stored
-			usable += sides[i][k].hours.Usable
+		for i := range a.sides {
+			stored += a.sides[i][k].hours.Stored
+			usable += a.sides[i][k].hours.Usable
 		}
 		name := [2]string{"before", "after"}[k]
 		if stored == 0 {
@@ -394,24 +413,35 @@ func Compare(ctx context.Context, site *Site, res Results, before, after Period,
 		}
 	}
 
+	siteRaw := a.raw
 	siteRaw[0].finish()
 	siteRaw[1].finish()
-	c.Total = UnitComparison{ID: "", Name: "Site", MinCoverage: Num(math.NaN()), RawBefore: siteRaw[0], RawAfter: siteRaw[1], Warnings: []string{}}
+	c.Total = SiteTotal{Savings: []Savings{},
+		Bins: BinCheck{ID: "", Name: "Site", MinCoverage: Num(math.NaN()), RawBefore: siteRaw[0], RawAfter: siteRaw[1], Warnings: []string{}}}
 	tot := newTotalSum()
-	for i, u := range units {
-		uc := compareUnit(u, sides[i], opt, minCov[i])
-		if !uc.Compared && len(units) > 1 {
-			uc.Warnings = append(uc.Warnings, "left out of the site's normalised total")
+	var binWarns []string
+	for i, u := range a.units {
+		bc := compareUnit(u, a.sides[i], opt, a.minCov[i])
+		if !bc.Compared && len(a.units) > 1 {
+			bc.Warnings = append(bc.Warnings, "left out of the site's normalised total")
 		}
+		for _, w := range bc.Warnings {
+			binWarns = append(binWarns, u.Name+" ("+u.ID+"): bin check: "+w)
+		}
+		tot.add(&bc)
+		uc := unitResult(u, bc, a.rows[i], a.suspect[i], opt.NormaliseTo)
 		for _, w := range uc.Warnings {
 			c.Warnings = append(c.Warnings, u.Name+" ("+u.ID+"): "+w)
 		}
-		tot.add(&uc)
 		c.Units = append(c.Units, uc)
 	}
-	tot.finish(&c.Total)
-	if !c.Total.Compared {
-		c.Warnings = append(c.Warnings, "no air handler has a dew-point bin with enough hours in both periods: there is nothing to normalise; choose longer periods, periods with more similar weather, or fewer hours per bin")
+	c.Warnings = append(c.Warnings, binWarns...)
+	tot.finish(&c.Total.Bins)
+	for q := 0; q < nY; q++ {
+		c.Total.Savings = append(c.Total.Savings, siteSavings(c.Units, q))
+	}
+	if !c.Total.Bins.Compared {
+		c.Warnings = append(c.Warnings, "bin check: no air handler has a dew-point bin with enough hours in both periods: there is nothing to normalise; choose longer periods, periods with more similar weather, or fewer hours per bin")
 	}
 	if after.From.Before(before.From) {
 		c.Warnings = append(c.Warnings, "the after period comes before the before period; the change reads from the before period to the after period as given")
@@ -420,11 +450,11 @@ func Compare(ctx context.Context, site *Site, res Results, before, after Period,
 }
 
 // compareUnit normalises one unit.
-func compareUnit(u Unit, s [2]side, opt CompareOptions, minCov float64) UnitComparison {
+func compareUnit(u Unit, s [2]side, opt Options, minCov float64) BinCheck {
 	b, a := &s[0], &s[1]
 	b.raw.finish()
 	a.raw.finish()
-	uc := UnitComparison{ID: u.ID, Name: u.Name, MinCoverage: Num(minCov), RawBefore: b.raw, RawAfter: a.raw, Warnings: []string{}}
+	uc := BinCheck{ID: u.ID, Name: u.Name, MinCoverage: Num(minCov), RawBefore: b.raw, RawAfter: a.raw, Warnings: []string{}}
 
 	keys := make([]int, 0, len(b.bins)+len(a.bins))
 	for k := range b.bins {
@@ -608,11 +638,11 @@ func newTotalSum() *totalSum {
 	return t
 }
 
-func (uc *UnitComparison) changes() [7]*Change {
+func (uc *BinCheck) changes() [7]*Change {
 	return [7]*Change{&uc.Reheat, &uc.ReheatAvoid, &uc.CoolingInput, &uc.CoilTotal, &uc.ReheatInput, &uc.Water, &uc.Cost}
 }
 
-func (t *totalSum) add(uc *UnitComparison) {
+func (t *totalSum) add(uc *BinCheck) {
 	for _, p := range [2]struct {
 		src SideHours
 		dst *SideHours
@@ -639,14 +669,14 @@ func (t *totalSum) add(uc *UnitComparison) {
 		f.samp2 += math.Pow(float64(c.SamplingU95), 2) // units sample independently
 		if math.IsNaN(float64(c.BeforeU95)) {
 			f.knownU = false
-		} else { // linear across units, like Totals
+		} else { // linear across units, like Sums
 			f.bU += float64(c.BeforeU95)
 			f.aU += float64(c.AfterU95)
 		}
 	}
 }
 
-func (t *totalSum) finish(total *UnitComparison) {
+func (t *totalSum) finish(total *BinCheck) {
 	t.before.Covered, t.after.Covered = share(t.before.InCommon, t.before.Usable), share(t.after.InCommon, t.after.Usable)
 	total.HoursBefore, total.HoursAfter = t.before, t.after
 	total.Compared = t.compared > 0

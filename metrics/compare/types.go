@@ -1,0 +1,145 @@
+package compare
+
+import (
+	"encoding/json"
+	"math"
+	"strconv"
+	"time"
+
+	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
+)
+
+// Side names the period an hour belongs to.
+type Side int
+
+// The periods of a comparison.
+const (
+	Before Side = iota // the period before the change (the baseline period)
+	After              // the period after the change (the reporting period)
+)
+
+// Window is a period [From, To) with the label the outputs show.
+type Window struct {
+	From  time.Time `json:"from"`
+	To    time.Time `json:"to"`
+	Label string    `json:"label"`
+}
+
+// Unit is one configured air handler.
+type Unit struct {
+	ID, Name string
+	Spec     *metrics.Unit // target, thresholds; may be nil
+}
+
+// Input is what a comparison needs besides the hours.
+type Input struct {
+	Site, Currency string
+	// Zone is the site's time zone: hours of the week are local.
+	Zone          *time.Location
+	Before, After Window
+	Units         []Unit // in configuration order
+	Options       Options
+}
+
+// Num is a number that encodes NaN and ±Inf as JSON null (encoding/json
+// refuses them), rounded to six significant digits.
+type Num float64
+
+// MarshalJSON writes null for a missing value.
+func (n Num) MarshalJSON() ([]byte, error) {
+	v := float64(n)
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return []byte("null"), nil
+	}
+	return strconv.AppendFloat(nil, round(v, 6), 'g', -1, 64), nil
+}
+
+// UnmarshalJSON reads null as NaN.
+func (n *Num) UnmarshalJSON(b []byte) error {
+	if string(b) == "null" {
+		*n = Num(math.NaN())
+		return nil
+	}
+	var v float64
+	if err := json.Unmarshal(b, &v); err != nil {
+		return err
+	}
+	*n = Num(v)
+	return nil
+}
+
+// round keeps sig significant digits.
+func round(v float64, sig int) float64 {
+	if v == 0 || math.IsNaN(v) || math.IsInf(v, 0) {
+		return v
+	}
+	p := math.Pow(10, float64(sig)-math.Ceil(math.Log10(math.Abs(v))))
+	return math.Round(v*p) / p
+}
+
+// Sums are the raw totals of a unit's stored hours in one period, not
+// normalised. Energies in kWh, water in kg, money in the site's currency;
+// a sum skips hours where its field has no value and stays unknown (NaN)
+// when no hour had one.
+type Sums struct {
+	Hours        int `json:"hours"`
+	ReheatKWh    Num `json:"reheat_kwh"`
+	ReheatAvoid  Num `json:"reheat_avoidable_kwh"`
+	CoilKWh      Num `json:"coil_total_kwh"`
+	ReheatInput  Num `json:"reheat_input_kwh"`
+	CoolingInput Num `json:"cooling_input_kwh"`
+	WaterKg      Num `json:"water_removed_kg"`
+	Cost         Num `json:"cost"`
+	EffectiveEER Num `json:"effective_eer"` // of the sums: 3.412 × (coil − reheat) / (cooling input + reheat input)
+}
+
+// NewSums returns empty sums.
+func NewSums() Sums {
+	n := Num(math.NaN())
+	return Sums{ReheatKWh: n, ReheatAvoid: n, CoilKWh: n, ReheatInput: n, CoolingInput: n, WaterKg: n, Cost: n, EffectiveEER: n}
+}
+
+func addNum(dst *Num, v float64) {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return
+	}
+	if math.IsNaN(float64(*dst)) {
+		*dst = 0
+	}
+	*dst += Num(v)
+}
+
+// Add sums one hour.
+func (t *Sums) Add(r *metrics.Record) {
+	t.Hours++
+	addNum(&t.ReheatKWh, r.ReheatKWh)
+	addNum(&t.ReheatAvoid, r.ReheatAvoidKWh)
+	addNum(&t.CoilKWh, r.CoilTotalKWh)
+	addNum(&t.ReheatInput, r.ReheatInputKWh)
+	addNum(&t.CoolingInput, r.CoolingInputKWh)
+	addNum(&t.WaterKg, r.WaterRemovedKg)
+	addNum(&t.Cost, r.Cost)
+}
+
+// finish computes the effective EER of the sums.
+func (t *Sums) finish() {
+	input := t.CoolingInput
+	if !math.IsNaN(float64(t.ReheatInput)) && !math.IsNaN(float64(input)) {
+		input += t.ReheatInput
+	}
+	num := t.CoilKWh - t.ReheatKWh
+	if math.IsNaN(float64(num)) || math.IsNaN(float64(input)) || input == 0 {
+		t.EffectiveEER = Num(math.NaN())
+		return
+	}
+	t.EffectiveEER = Num(psychro.COPToEER(float64(num / input)))
+}
+
+// fmtPct formats a fraction as a whole percentage for messages.
+func fmtPct(v float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return "–"
+	}
+	return strconv.FormatFloat(v*100, 'f', 0, 64) + " %"
+}
