@@ -207,6 +207,18 @@ func reportInputs(log zerolog.Logger, files *csvfile.Files, rh *ingest.RecordHou
 			log.Warn().Str("file", r.Name()).Str("rejected", rej.String()).Msg("row rejected")
 		}
 	}
+	if ru := rh.RowUnits; ru != nil {
+		if ru.Converted > 0 {
+			log.Info().Int("values", ru.Converted).Msg("values converted from the unit their row states")
+		}
+		if ru.Rejected > 0 {
+			ev := log.Warn().Int("rows", ru.Rejected)
+			if len(ru.Examples) > 0 {
+				ev = ev.Str("example", ru.Examples[0].String())
+			}
+			ev.Msg("rows rejected: their unit is not of the point's kind; correct the unit column")
+		}
+	}
 	names := make([]string, 0, len(rh.Unmatched))
 	for n := range rh.Unmatched {
 		names = append(names, n)

@@ -140,6 +140,7 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 		}
 		defer files.Close()
 		unmatched := map[string]int{}
+		rowUnits := ingest.NewRowUnits(ix)
 		for {
 			rec, err := files.Next()
 			if errors.Is(err, io.EOF) {
@@ -153,12 +154,15 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 				unmatched[rec.Series]++
 				continue
 			}
-			if pc.n == 0 {
-				if err := ix.CheckUnit(rec); err != nil {
-					return err
-				}
+			ru, ok, err := rowUnits.Check(rec)
+			if err != nil {
+				return err
 			}
-			pc.add(rec.Time, rec.Value)
+			if !ok {
+				continue // counted in rowUnits
+			}
+			t0 := pc.targets[0]
+			pc.add(rec.Time, t0.Unit.FromSI(ru.ToSI(t0, rec.Value)))
 		}
 		for _, r := range files.Readers() {
 			s := r.Stats()
@@ -167,6 +171,7 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 				fmt.Fprintf(e.stdout, "  rejected: %s\n", ex.String())
 			}
 		}
+		printRowUnits(e.stdout, rowUnits)
 		if len(unmatched) > 0 {
 			names := make([]string, 0, len(unmatched))
 			for n := range unmatched {

@@ -33,6 +33,7 @@ type importStats struct {
 	written   int
 	unmatched map[string]int
 	notFinite int
+	units     *ingest.RowUnits
 	csv       csvfile.Stats
 }
 
@@ -131,7 +132,7 @@ func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, st *
 		return s, err
 	}
 	batches := map[string][]ingest.Sample{}
-	checked := map[string]bool{}
+	s.units = ingest.NewRowUnits(ix)
 	flush := func(name string) error {
 		b := batches[name]
 		if len(b) == 0 {
@@ -175,13 +176,14 @@ func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, st *
 			s.unmatched[rec.Series]++
 			continue
 		}
-		if !checked[rec.Series] {
-			checked[rec.Series] = true
-			if err := ix.CheckUnit(rec); err != nil {
-				return s, err
-			}
+		ru, ok, err := s.units.Check(rec)
+		if err != nil {
+			return s, err
 		}
-		v := ts[0].Unit.ToSI(rec.Value)
+		if !ok {
+			continue // counted in s.units
+		}
+		v := ru.ToSI(ts[0], rec.Value)
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			s.notFinite++
 			continue
@@ -209,7 +211,7 @@ func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, st *
 	s.csv = r.Stats()
 	s.rows = s.csv.Rows
 	if st.emb != nil {
-		rejected := s.csv.RejectedTotal() + s.notFinite
+		rejected := s.csv.RejectedTotal() + s.notFinite + s.units.Rejected
 		if err := st.emb.RecordImport(ctx, embedded.ImportLog{File: path, SHA256: sum, RowsRead: s.rows, Accepted: s.written,
 			Rejected: rejected, Started: started, Finished: time.Now()}); err != nil {
 			return s, err
@@ -240,6 +242,7 @@ func printImport(w io.Writer, all []importStats) {
 		if s.notFinite > 0 {
 			fmt.Fprintf(w, "  rejected, not a finite number after unit conversion: %d\n", s.notFinite)
 		}
+		printRowUnits(w, s.units)
 		if d := s.csv.DST; d.Repeated > 0 || d.Skipped > 0 {
 			fmt.Fprintf(w, "  daylight saving: %d rows in a repeated hour (%d read as the earlier offset, %d as the later); %d rows in a skipped hour rejected\n",
 				d.Repeated, d.RepeatedEarlier, d.RepeatedLater, d.Skipped)
@@ -251,6 +254,23 @@ func printImport(w io.Writer, all []importStats) {
 		sort.Strings(names)
 		for _, n := range names {
 			fmt.Fprintf(w, "  not in the configuration, skipped: %q (%d values)\n", n, s.unmatched[n])
+		}
+	}
+}
+
+// printRowUnits reports the rows read in a unit their row states other
+// than the configured one, and the rows refused for their unit.
+func printRowUnits(w io.Writer, ru *ingest.RowUnits) {
+	if ru == nil {
+		return
+	}
+	if ru.Converted > 0 {
+		fmt.Fprintf(w, "  converted from the unit their row states (not the configured one): %d\n", ru.Converted)
+	}
+	if ru.Rejected > 0 {
+		fmt.Fprintf(w, "  rejected, unit not of the point's kind: %d\n", ru.Rejected)
+		for _, ex := range ru.Examples {
+			fmt.Fprintf(w, "    e.g. %s\n", ex.String())
 		}
 	}
 }

@@ -9,8 +9,9 @@
 // conversion. Record.Unit carries the unit the file states for the series
 // ("" when it states none), as written: from a second header row of units,
 // from the column header ("Supply Temp (°F)", "SAT [degC]", "Flow, CFM"), or
-// from a unit column in the long layout. Convert with psychro.LookupUnit
-// once per series. Times are instants (time.Time) in Options.Location, or
+// from a unit column in the long layout, where it may change from row to
+// row: convert each record with its own Unit (ingest.RowUnits does), never
+// with the unit of a series' first record. Times are instants (time.Time) in Options.Location, or
 // UTC when no Location is set.
 //
 // # What it detects

@@ -1,0 +1,96 @@
+package main
+
+import (
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+)
+
+// longExport writes a long export (time, point, value, unit) of the five
+// points of analyzeConfig for two hours, with the supply temperature's
+// unit cell given per minute by satUnit and its value by satValue.
+func longExport(t *testing.T, path string, satUnit func(m int) string, satValue func(m int) float64) {
+	t.Helper()
+	var b strings.Builder
+	b.WriteString("Time,Point,Value,Unit\n")
+	start := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
+	for m := 0; m < 120; m++ {
+		ts := start.Add(time.Duration(m) * time.Minute).Format("2006-01-02 15:04:05")
+		fmt.Fprintf(&b, "%s,MAT,76,F\n%s,MARH,60,%%\n%s,LAT,52,F\n%s,SAT,%g,%s\n%s,CFM,8000,CFM\n",
+			ts, ts, ts, ts, satValue(m), satUnit(m), ts)
+	}
+	require.NoError(t, os.WriteFile(path, []byte(b.String()), 0o600))
+}
+
+// storedSAT reads the supply temperature samples (°C, as stored) back.
+func storedSAT(t *testing.T, dbPath string) []float64 {
+	t.Helper()
+	db := openSQLite(t, dbPath)
+	rows, err := db.Query(`SELECT x.value FROM samples x JOIN series s ON s.id = x.series_id WHERE s.name = 'SAT' ORDER BY x.ts_ms`)
+	require.NoError(t, err)
+	defer rows.Close()
+	var out []float64
+	for rows.Next() {
+		var v float64
+		require.NoError(t, rows.Scan(&v))
+		out = append(out, v)
+	}
+	require.NoError(t, rows.Err())
+	return out
+}
+
+// TestImport_RowUnits: each row's unit is honoured by import and check.
+// The supply temperature cycles through 70 °F, 21 °C and 294.15 K, all
+// about 21.1 °C (°F = °C x 9/5 + 32, K = °C + 273.15: SI Brochure, 9th
+// ed., 2019); every tenth row states "kPa", which is not a temperature,
+// and is rejected and counted.
+func TestImport_RowUnits(t *testing.T) {
+	dir := t.TempDir()
+	cfg, _ := writeScenario(t, dir)
+	data := filepath.Join(dir, "long.csv")
+	units := []string{"F", "C", "K"}
+	values := []float64{70, 21.1111, 294.2611}
+	longExport(t, data, func(m int) string {
+		if m%10 == 9 {
+			return "kPa"
+		}
+		return units[m%3]
+	}, func(m int) float64 { return values[m%3] })
+
+	code, out, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, out, "rejected, unit not of the point's kind: 12")
+	assert.Contains(t, out, `long.csv line 50: "SAT" states the unit "kPa", which is not a unit of temperature`)
+	sat := storedSAT(t, filepath.Join(dir, "test.db"))
+	require.Len(t, sat, 108, "120 minutes less the 12 rows in kPa")
+	for i, v := range sat {
+		assert.InDelta(t, 21.111, v, 0.001, "sample %d", i)
+	}
+
+	code, out, errOut = runCLI(t, "check", "--config", cfg, "--input", data)
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, out, "rejected, unit not of the point's kind: 12")
+	assert.Regexp(t, `AHU-7\s+supply_temp\s+SAT\s+F\s+108\s+.*\s0.0%`, out, "every value in range once converted")
+
+	// A blank first unit cell does not let later °C rows be read as °F:
+	// the first unit the file states must match the configuration.
+	blank := filepath.Join(dir, "blank.csv")
+	longExport(t, blank, func(m int) string {
+		if m == 0 {
+			return ""
+		}
+		return "C"
+	}, func(m int) float64 { return 21.1111 })
+	for _, cmd := range [][]string{{"import", "--config", cfg, blank}, {"check", "--config", cfg, "--input", blank},
+		{"analyze", "--config", cfg, "--input", blank, "--no-store"}} {
+		code, _, errOut = runCLI(t, append([]string{"--log-level", "warn"}, cmd...)...)
+		assert.Equal(t, 1, code, cmd[0])
+		assert.Contains(t, errOut, `blank.csv line 10: column "SAT" is in °C according to the file but F according to the configuration`, cmd[0])
+	}
+}
