@@ -95,7 +95,14 @@
 // rows never stop reading: malformed quotes, wrong field counts, a
 // truncated last line, unparseable or skipped-hour times and bad cells are
 // counted in Stats.Rejected by Reason, and the first MaxExamples are kept
-// with their line numbers. Which columns mean what (supply temperature,
+// with their line numbers.
+//
+// A quoted field may hold line breaks for up to 16 lines. A quote that
+// does not close by then, or by the end of the input, rejects only the
+// first line of its record (ReasonOpenQuote): reading resumes on the next
+// line, so a stray quote costs one row. Every physical line is accounted
+// for: Stats.HeaderLines + Blank + Rows + Continued equals the lines of the
+// file, and each row is kept or counted in Stats.RowsRejected. Which columns mean what (supply temperature,
 // reheat kW) is not this package's concern: callers map series names.
 //
 // # Streaming and speed
