@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"sort"
 	"strings"
 	"text/tabwriter"
@@ -18,6 +17,7 @@ import (
 	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
+	"github.com/dewline/dewline/internal/outfile"
 	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/psychro"
 )
@@ -74,18 +74,22 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	}
 	log := e.log
 
-	// Output file first: a bad path fails before any work.
+	// Output file first: a bad path fails before any work. It is written
+	// aside and put in place only when the run succeeds.
 	var hw *ingest.HourlyWriter
-	var outFile *os.File
+	var outFile *outfile.File
 	if *out != "" {
 		format, err := ingest.FormatFor(*out)
 		if err != nil {
 			return usagef("--out: %v", err)
 		}
-		if outFile, err = os.Create(*out); err != nil {
+		if err := outfile.RefuseInputs("--out", *out, append([]string{*cfgPath, cfg.StorePath(), cfg.StatePath()}, inputs...)...); err != nil {
+			return usagef("%v", err)
+		}
+		if outFile, err = outfile.Create(*out); err != nil {
 			return fmt.Errorf("--out: %w", err)
 		}
-		defer outFile.Close()
+		defer outFile.Abort()
 		if hw, err = ingest.NewHourlyWriter(outFile, format); err != nil {
 			return err
 		}
@@ -171,8 +175,8 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 			runErr = err
 		}
 	}
-	if hw != nil {
-		if err := hw.Close(); err != nil && runErr == nil {
+	if hw != nil && runErr == nil {
+		if err := hw.Close(); err != nil {
 			runErr = fmt.Errorf("write %s: %w", *out, err)
 		}
 	}
@@ -192,6 +196,11 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	}
 	if hours == 0 {
 		return fmt.Errorf("no hours to analyse: the inputs hold no data for the configured points in the period")
+	}
+	if outFile != nil {
+		if _, err := outFile.Commit(); err != nil {
+			return err
+		}
 	}
 	log.Info().Int("hours", hours).Dur("took", time.Since(start)).Int("failed", len(failed)).Msg("analysis done")
 	return printSummary(e.stdout, cfg, ahus, sums)

@@ -94,3 +94,49 @@ func TestImport_RowUnits(t *testing.T) {
 		assert.Contains(t, errOut, `blank.csv line 10: column "SAT" is in °C according to the file but F according to the configuration`, cmd[0])
 	}
 }
+
+// TestAnalyze_OutputNeverDestroys: --out naming an input is refused and
+// the input stays whole; a run that fails leaves the previous output as
+// it was; a run that succeeds replaces it.
+func TestAnalyze_OutputNeverDestroys(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeScenario(t, dir)
+	orig, err := os.ReadFile(data)
+	require.NoError(t, err)
+
+	code, _, errOut := runCLI(t, "--log-level", "error", "analyze", "--config", cfg, "--input", data, "--out", data, "--no-store")
+	assert.Equal(t, 2, code)
+	assert.Contains(t, errOut, "is also an input of this run")
+	// The same file by another path.
+	alias := filepath.Join(dir, "alias.csv")
+	require.NoError(t, os.Symlink(data, alias))
+	code, _, errOut = runCLI(t, "--log-level", "error", "analyze", "--config", cfg, "--input", data, "--out", alias, "--no-store")
+	assert.Equal(t, 2, code)
+	assert.Contains(t, errOut, "is the same file as the input")
+	got, err := os.ReadFile(data)
+	require.NoError(t, err)
+	assert.Equal(t, orig, got, "the export is untouched")
+
+	out := filepath.Join(dir, "hourly.csv")
+	require.NoError(t, os.WriteFile(out, []byte("previous results\n"), 0o600))
+	// An export whose unit conflicts with the configuration fails the run
+	// after the output was opened.
+	conflict := filepath.Join(dir, "conflict.csv")
+	longExport(t, conflict, func(int) string { return "C" }, func(int) float64 { return 21 })
+	code, _, errOut = runCLI(t, "--log-level", "error", "analyze", "--config", cfg, "--input", conflict, "--out", out, "--no-store")
+	assert.Equal(t, 1, code)
+	assert.Contains(t, errOut, "according to the configuration")
+	got, err = os.ReadFile(out)
+	require.NoError(t, err)
+	assert.Equal(t, "previous results\n", string(got), "a failed run keeps the previous output")
+
+	code, _, errOut = runCLI(t, "--log-level", "error", "analyze", "--config", cfg, "--input", data, "--out", out, "--no-store")
+	require.Equal(t, 0, code, errOut)
+	_, rows := readHourly(t, out)
+	assert.Len(t, rows, 48)
+	entries, err := os.ReadDir(dir)
+	require.NoError(t, err)
+	for _, e := range entries {
+		assert.NotContains(t, e.Name(), ".tmp", "no temporary file left behind")
+	}
+}

@@ -17,6 +17,8 @@ import (
 
 	"github.com/chromedp/chromedp"
 	"github.com/rs/zerolog"
+
+	"github.com/dewline/dewline/internal/outfile"
 )
 
 // envChromium names the browser to print with, overriding the search.
@@ -131,7 +133,7 @@ func printPDF(ctx context.Context, htmlPath, pdfPath, title string, log zerolog.
 	if !bytes.HasPrefix(buf, []byte("%PDF")) {
 		return 0, fmt.Errorf("print the report: Chromium returned %d bytes that are not a PDF; the HTML report was written to %s", len(buf), htmlPath)
 	}
-	if _, err := writeFileAtomic(pdfPath, func(w *bufio.Writer) error { _, err := w.Write(buf); return err }); err != nil {
+	if _, err := outfile.Write(pdfPath, func(w *bufio.Writer) error { _, err := w.Write(buf); return err }); err != nil {
 		return 0, err
 	}
 	pages := pdfPages(buf)
