@@ -1,10 +1,13 @@
 package main
 
 import (
+	"database/sql"
+	"encoding/json"
 	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
+	"sync"
 	"testing"
 	"time"
 
@@ -138,5 +141,144 @@ func TestAnalyze_OutputNeverDestroys(t *testing.T) {
 	require.NoError(t, err)
 	for _, e := range entries {
 		assert.NotContains(t, e.Name(), ".tmp", "no temporary file left behind")
+	}
+}
+
+// TestAnalyze_AlertEventsOnce: analysing a period again, or twice at
+// once on one store file, records each alert transition once; events
+// already delivered are not queued again.
+func TestAnalyze_AlertEventsOnce(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeScenario(t, dir)
+	db := filepath.Join(dir, "test.db")
+	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, errOut)
+	analyze := func() (int, string) {
+		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-13", "--to", "2026-07-16")
+		return code, errOut
+	}
+	code, errOut = analyze()
+	require.Equal(t, 0, code, errOut)
+	first := storedEvents(t, db)
+	require.NotEmpty(t, first, "the humid days raise alerts")
+	keys := map[string]int{}
+	for _, e := range first {
+		keys[e.AlertID+"/"+e.Transition]++
+	}
+	for k, n := range keys {
+		assert.Equal(t, 1, n, "webhook key %s", k)
+	}
+
+	code, errOut = analyze()
+	require.Equal(t, 0, code, errOut)
+	assert.Len(t, storedEvents(t, db), len(first), "a second analysis of the same period records nothing new")
+
+	// Two analyses at once on one file.
+	var wg sync.WaitGroup
+	codes := make([]int, 2)
+	outs := make([]string, 2)
+	for i := range codes {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			codes[i], outs[i] = analyze()
+		}()
+	}
+	wg.Wait()
+	for i := range codes {
+		require.Equal(t, 0, codes[i], outs[i])
+	}
+	assert.Len(t, storedEvents(t, db), len(first), "concurrent analyses record nothing new")
+
+	// Delivered events stay delivered through another analysis.
+	rw, err := sql.Open("sqlite", "file:"+db+"?_busy_timeout=5000")
+	require.NoError(t, err)
+	_, err = rw.Exec("UPDATE alert_events SET delivered_ms = 1")
+	require.NoError(t, err)
+	require.NoError(t, rw.Close())
+	code, errOut = analyze()
+	require.Equal(t, 0, code, errOut)
+	for _, e := range storedEvents(t, db) {
+		assert.True(t, e.DeliveredMs.Valid, "event %d (%s %s) queued again", e.Seq, e.AlertID, e.Transition)
+	}
+}
+
+// TestInflux_AlertEventsOnce: with InfluxDB as the store, two agents
+// computing the same hours at once (as after a reshard) and a third run
+// over them record each alert transition once in the webhook queue, and
+// each alert transition point once in the real server.
+func TestInflux_AlertEventsOnce(t *testing.T) {
+	url, _ := influxEnv(t)
+	db := freshDB(t, url, "events_once")
+	dir := t.TempDir()
+	_, data := writeScenario(t, dir)
+	meas := "ahu7"
+	cfgText := strings.Replace(analyzeConfig, "store: {kind: embedded, path: test.db}",
+		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}\nschedule: {backfill: 96h}", url, db+"/autogen"), 1)
+	for _, p := range []string{"MAT", "MARH", "LAT", "SAT", "CFM"} {
+		cfgText = strings.Replace(cfgText, "{column: "+p+",", fmt.Sprintf("{column: %s, measurement: %s, field: %s,", p, meas, strings.ToLower(p)), 1)
+	}
+	cfg := filepath.Join(dir, "influx.yaml")
+	require.NoError(t, os.WriteFile(cfg, []byte(cfgText), 0o600))
+	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, errOut)
+
+	runOnce := func() (int, string) {
+		code, _, errOut := runCLI(t, "--log-level", "warn", "run", "--config", cfg, "--once", "--as-of", "2026-07-16T06:00:00Z")
+		return code, errOut
+	}
+	var wg sync.WaitGroup
+	codes, outs := make([]int, 2), make([]string, 2)
+	for i := range codes {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			codes[i], outs[i] = runOnce()
+		}()
+	}
+	wg.Wait()
+	for i := range codes {
+		require.Equal(t, 0, codes[i], outs[i])
+	}
+	state := filepath.Join(dir, "dewline-state.db")
+	events := storedEvents(t, state)
+	require.NotEmpty(t, events, "the humid days raise alerts")
+	keys := map[string]int{}
+	for _, e := range events {
+		keys[e.AlertID+"/"+e.Transition]++
+	}
+	for k, n := range keys {
+		assert.Equal(t, 1, n, "webhook key %s queued %d times", k, n)
+	}
+	// An analysis of the same period into the same server adds no point.
+	count := func() int {
+		n := 0
+		for _, s := range influxQL(t, url, db, `SELECT count("open") FROM dewline_alert GROUP BY *`) {
+			for _, r := range s.rows() {
+				c, _ := r["count"].(json.Number).Int64()
+				n += int(c)
+			}
+		}
+		return n
+	}
+	before := count()
+	if !assert.Equal(t, len(events), before, "one point per transition") {
+		for _, e := range events {
+			t.Logf("event %s %s %d", e.AlertID, e.Transition, e.AtMs)
+		}
+		for _, s := range influxQL(t, url, db, `SELECT * FROM dewline_alert`) {
+			for _, r := range s.rows() {
+				t.Logf("point %v %v %v %v", r["id"], r["status"], r["time"], r["severity"])
+			}
+		}
+	}
+	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-12T06:00:00Z", "--to", "2026-07-16T06:00:00Z")
+	require.Equal(t, 0, code, errOut)
+	if !assert.Equal(t, before, count()) {
+		for _, s := range influxQL(t, url, db, `SELECT * FROM dewline_alert`) {
+			for _, r := range s.rows() {
+				t.Logf("point %v %v %v %v", r["id"], r["status"], r["time"], r["severity"])
+			}
+		}
 	}
 }

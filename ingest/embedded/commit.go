@@ -60,8 +60,8 @@ func (s *Store) Commit(ctx context.Context, c Commit) error {
 			if len(e.Payload) > 0 {
 				payload = string(e.Payload)
 			}
-			if _, err := tx.ExecContext(ctx, `INSERT INTO alert_events (alert_id, transition, at_ms, payload, delivered_ms)
-				VALUES (?, ?, ?, ?, NULL)`, e.AlertID, e.Transition, toMs(e.At), payload); err != nil {
+			e.Delivered = time.Time{}
+			if _, err := insertEvent(ctx, tx, e, payload); err != nil {
 				return fmt.Errorf("append event for %s: %w", quote(e.AlertID), err)
 			}
 		}
