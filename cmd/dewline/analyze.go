@@ -141,11 +141,8 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	var trs []metrics.Transition
 	flush := func(ctx context.Context) error {
 		if st != nil && !*noStore {
-			if err := st.putHourly(ctx, batch); err != nil {
-				return fmt.Errorf("write results: %w", err)
-			}
-			if err := st.putAlerts(ctx, trs, cfg.Prices.Currency); err != nil {
-				return fmt.Errorf("write alerts: %w", err)
+			if err := st.putResults(ctx, batch, trs, cfg.Prices.Currency); err != nil {
+				return fmt.Errorf("write results and alerts: %w", err)
 			}
 		}
 		batch, trs = batch[:0], trs[:0]

@@ -282,3 +282,24 @@ func TestInflux_AlertEventsOnce(t *testing.T) {
 		}
 	}
 }
+
+// TestAnalyze_ResultsAndAlertsTogether: when the store refuses the alerts
+// of an analysis (a trigger stands in for any failure between the two
+// writes), no hourly row of it is stored either.
+func TestAnalyze_ResultsAndAlertsTogether(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeScenario(t, dir)
+	db := filepath.Join(dir, "test.db")
+	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, errOut)
+	rw, err := sql.Open("sqlite", "file:"+db+"?_busy_timeout=5000")
+	require.NoError(t, err)
+	_, err = rw.Exec(`CREATE TRIGGER refuse_alerts BEFORE INSERT ON alerts BEGIN SELECT RAISE(ABORT, 'alerts refused'); END`)
+	require.NoError(t, err)
+	require.NoError(t, rw.Close())
+
+	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-13", "--to", "2026-07-16")
+	assert.Equal(t, 1, code)
+	assert.Contains(t, errOut, "alerts refused")
+	assert.Empty(t, storedHours(t, db), "no hours stored without their alerts")
+}

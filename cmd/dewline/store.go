@@ -79,21 +79,6 @@ func (r embeddedReader) ReadSeries(ctx context.Context, ref metrics.PointRef, _ 
 	return r.s.ReadSeries(ctx, ref, from, to, fn)
 }
 
-// putHourly writes records; re-writing an hour replaces it.
-func (s *stores) putHourly(ctx context.Context, recs []metrics.Record) error {
-	if len(recs) == 0 {
-		return nil
-	}
-	if s.flux != nil {
-		return s.flux.WritePoints(ctx, hourlyPoints(recs))
-	}
-	rows := make([]embedded.HourRow, 0, len(recs))
-	for _, r := range recs {
-		rows = append(rows, hourRow(&r))
-	}
-	return s.emb.PutHourly(ctx, rows)
-}
-
 func hourRow(r *metrics.Record) embedded.HourRow {
 	f := map[string]float64{}
 	for _, x := range r.Fields() {
@@ -102,29 +87,32 @@ func hourRow(r *metrics.Record) embedded.HourRow {
 	return embedded.HourRow{AHU: r.AHU, Hour: r.HourStart, Schema: metrics.RecordSchema, Fields: f, Flags: r.Flags}
 }
 
-// putAlerts records alert transitions: in InfluxDB as dewline_alert
-// points, in the embedded store as alerts and webhook events (the same
-// records the agent writes).
-func (s *stores) putAlerts(ctx context.Context, tr []metrics.Transition, currency string) error {
-	if len(tr) == 0 {
+// putResults writes hourly records and the alert transitions computed
+// from them together: in InfluxDB as one batch of dewline_hourly and
+// dewline_alert points, in the embedded store in one transaction with the
+// alerts and webhook events (the same records the agent writes). A
+// failure leaves no hour stored without its alerts.
+func (s *stores) putResults(ctx context.Context, recs []metrics.Record, tr []metrics.Transition, currency string) error {
+	if len(recs) == 0 && len(tr) == 0 {
 		return nil
 	}
 	if s.flux != nil {
-		return s.flux.WritePoints(ctx, alertPoints(tr))
+		return s.flux.WritePoints(ctx, append(hourlyPoints(recs), alertPoints(tr)...))
 	}
+	rows := make([]embedded.HourRow, 0, len(recs))
+	for i := range recs {
+		rows = append(rows, hourRow(&recs[i]))
+	}
+	var alerts []embedded.AlertRow
+	var events []embedded.AlertEvent
 	for _, t := range tr {
 		row, ev, err := alertRecords(t, currency)
 		if err != nil {
 			return err
 		}
-		if err := s.emb.PutAlert(ctx, row); err != nil {
-			return err
-		}
-		if _, err := s.emb.AppendAlertEvent(ctx, ev); err != nil {
-			return err
-		}
+		alerts, events = append(alerts, row), append(events, ev)
 	}
-	return nil
+	return s.emb.PutResults(ctx, rows, alerts, events)
 }
 
 func b2f(b bool) float64 {
