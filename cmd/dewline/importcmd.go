@@ -86,17 +86,28 @@ func runImport(ctx context.Context, e *env, args []string) error {
 	defer st.Close()
 
 	var all []importStats
+	var empty []error // files that stored nothing: the others are still imported
 	for _, path := range files {
-		s, err := importFile(ctx, e.log, cfg, st, ix, path)
+		s, err := importFile(ctx, e.log, cfg, *cfgPath, st, ix, path)
 		all = append(all, s)
+		var ne *nothingWrittenError
+		if errors.As(err, &ne) {
+			empty = append(empty, err)
+			continue
+		}
 		if err != nil {
 			printImport(e.stdout, all)
 			return err
 		}
 	}
 	printImport(e.stdout, all)
-	return nil
+	return errors.Join(empty...)
 }
+
+// nothingWrittenError is an import that stored no value.
+type nothingWrittenError struct{ msg string }
+
+func (e *nothingWrittenError) Error() string { return e.msg }
 
 func contains(list []string, s string) bool {
 	for _, x := range list {
@@ -110,7 +121,7 @@ func contains(list []string, s string) bool {
 // importFile reads one export and writes its configured points to the
 // store, in batches per series. What was written before an error stays
 // written (re-importing the file later upserts, never duplicates).
-func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, st *stores, ix ingest.PointIndex, path string) (importStats, error) {
+func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, cfgPath string, st *stores, ix ingest.PointIndex, path string) (importStats, error) {
 	s := importStats{file: path, unmatched: map[string]int{}}
 	started := time.Now()
 	sum, err := fileSHA256(path)
@@ -219,7 +230,34 @@ func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, st *
 	}
 	log.Info().Str("file", path).Int("rows", s.rows).Int("written", s.written).Int("rejected", s.csv.RejectedTotal()).
 		Dur("took", time.Since(started)).Msg("imported")
+	if s.written == 0 {
+		return s, nothingWritten(s, cfgPath)
+	}
 	return s, nil
+}
+
+// nothingWritten explains an import that stored no value, with the fix.
+func nothingWritten(s importStats, cfgPath string) error {
+	what := fmt.Sprintf("%s: nothing was written to the store (%d rows read, %d values, %d rejected)",
+		s.file, s.rows, s.records, s.csv.RejectedTotal()+s.notFinite+s.units.Rejected)
+	fix := "every value was refused; see the rejections above"
+	switch {
+	case s.rows == 0:
+		fix = "the file has a header but no data rows; export the trend log again"
+	case s.records == 0:
+		fix = fmt.Sprintf("no value could be read; see the rejected rows above and correct the file, or exports: in %s", cfgPath)
+	case len(s.unmatched) > 0 && s.records == sumCounts(s.unmatched):
+		fix = fmt.Sprintf("none of the file's series is mapped to a point in %s; map them under air_handlers[].points (column: for wide exports, point: for long ones)", cfgPath)
+	}
+	return &nothingWrittenError{msg: what + ": " + fix}
+}
+
+func sumCounts(m map[string]int) int {
+	n := 0
+	for _, c := range m {
+		n += c
+	}
+	return n
 }
 
 func printImport(w io.Writer, all []importStats) {

@@ -303,3 +303,22 @@ func TestAnalyze_ResultsAndAlertsTogether(t *testing.T) {
 	assert.Contains(t, errOut, "alerts refused")
 	assert.Empty(t, storedHours(t, db), "no hours stored without their alerts")
 }
+
+// TestImport_NothingWrittenFails: an import that stores nothing exits 1
+// and says why and what to change; the other files are still imported.
+func TestImport_NothingWrittenFails(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeScenario(t, dir)
+	other := filepath.Join(dir, "lights.csv")
+	require.NoError(t, os.WriteFile(other, []byte("Time,Lobby lights,Garage fan\n2026-07-14 00:00:00,1,0\n2026-07-14 00:01:00,1,1\n"), 0o600))
+	code, out, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, other, data)
+	assert.Equal(t, 1, code)
+	assert.Contains(t, errOut, "lights.csv: nothing was written to the store (2 rows read, 4 values, 0 rejected): none of the file's series is mapped to a point in "+cfg)
+	assert.Contains(t, out, "export.csv: 2880 rows read, 14400 values accepted, 14400 written to the store", "the other file is imported")
+
+	noRows := filepath.Join(dir, "header-only.csv")
+	require.NoError(t, os.WriteFile(noRows, []byte("Time,MAT,MARH,LAT,SAT,CFM\n"), 0o600))
+	code, _, errOut = runCLI(t, "--log-level", "warn", "import", "--config", cfg, noRows)
+	assert.Equal(t, 1, code)
+	assert.Contains(t, errOut, "header-only.csv: nothing was written to the store (0 rows read, 0 values, 0 rejected): the file has a header but no data rows")
+}

@@ -90,7 +90,8 @@
 // a *FileError naming the file, what was found and the fix: empty files,
 // Excel workbooks (.xlsx is a ZIP archive; old .xls), HTML pages saved in
 // place of an export, XML, PDF, binary data, no delimiter, no header, no
-// time column, unrecognised timestamps, unresolvable day/month order or
+// time column, unrecognised timestamps, a first data row that does not end
+// within the 128 KiB head (ErrRowTooLong), unresolvable day/month order or
 // decimal separator, duplicate or empty column names. Problems with single
 // rows never stop reading: malformed quotes, wrong field counts, a
 // truncated last line, unparseable or skipped-hour times and bad cells are

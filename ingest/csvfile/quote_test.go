@@ -110,3 +110,28 @@ func TestReader_QuotedLineBreakLimit(t *testing.T) {
 		assert.Equal(t, physicalLines([]byte(in)), s.HeaderLines+s.Blank+s.Rows+s.Continued)
 	})
 }
+
+// TestNewReader_FirstRowPastHead: a first data row that does not end in
+// the 128 KiB head cannot be detected; NewReader says so, naming its line,
+// instead of rejecting every row as an unparseable time.
+func TestNewReader_FirstRowPastHead(t *testing.T) {
+	const n = 20_000 // 20,000 columns: a 129 KB header, 100 KB rows
+	var b strings.Builder
+	b.WriteString("Time")
+	for i := range n {
+		fmt.Fprintf(&b, ",P%d", i)
+	}
+	b.WriteString("\n")
+	for m := range 3 {
+		fmt.Fprintf(&b, "2026-07-14T00:%02d:00Z", m)
+		for range n {
+			b.WriteString(",21.5")
+		}
+		b.WriteString("\n")
+	}
+	require.Less(t, strings.Index(b.String(), "\n"), 128<<10, "the header fits the head")
+	_, err := newString(t, b.String(), Options{})
+	require.ErrorIs(t, err, ErrRowTooLong)
+	assert.Contains(t, err.Error(), "test.csv line 2: data row too long to detect the format")
+	assert.Contains(t, err.Error(), "export fewer points per file")
+}
