@@ -1,10 +1,12 @@
 package main
 
 import (
+	"bytes"
 	"database/sql"
 	"encoding/json"
 	"fmt"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"strings"
 	"sync"
@@ -321,4 +323,82 @@ func TestImport_NothingWrittenFails(t *testing.T) {
 	code, _, errOut = runCLI(t, "--log-level", "warn", "import", "--config", cfg, noRows)
 	assert.Equal(t, 1, code)
 	assert.Contains(t, errOut, "header-only.csv: nothing was written to the store (0 rows read, 0 values, 0 rejected): the file has a header but no data rows")
+}
+
+// TestServe_ReadOnlyFolderAndReadiness: serve opens a store in a folder
+// it cannot write (as another user when the test runs as root, else with
+// the folder made read-only), and /readyz follows the store: 503 while
+// its file is gone, 200 again when it is back.
+func TestServe_ReadOnlyFolderAndReadiness(t *testing.T) {
+	dir, err := os.MkdirTemp("", "dewline-ro-*")
+	require.NoError(t, err)
+	t.Cleanup(func() { _ = os.Chmod(dir, 0o755); _ = os.RemoveAll(dir) })
+	cfg, data := writeScenario(t, dir)
+	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, errOut)
+	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-16")
+	require.Equal(t, 0, code, errOut)
+	db := filepath.Join(dir, "test.db")
+	for _, suffix := range []string{"-wal", "-shm"} {
+		_, err := os.Stat(db + suffix)
+		require.True(t, os.IsNotExist(err), "the writer closed the store cleanly")
+	}
+	// A copy of the binary every user may run.
+	bin := filepath.Join(dir, "dewline")
+	b, err := os.ReadFile(dewlineBinary(t))
+	require.NoError(t, err)
+	require.NoError(t, os.WriteFile(bin, b, 0o755))
+	for _, f := range []string{cfg, db, data} {
+		require.NoError(t, os.Chmod(f, 0o644))
+	}
+	args := []string{bin, "--log-level", "info", "serve", "--config", cfg, "--listen", "127.0.0.1:0"}
+	if os.Geteuid() == 0 {
+		setpriv, err := exec.LookPath("setpriv")
+		require.NoError(t, err, "setpriv (util-linux) runs serve as another user")
+		args = append([]string{setpriv, "--reuid=65534", "--regid=65534", "--clear-groups"}, args...)
+		require.NoError(t, os.Chmod(dir, 0o755)) // not writable by that user
+	} else {
+		require.NoError(t, os.Chmod(dir, 0o555))
+	}
+	cmd := exec.Command(args[0], args[1:]...)
+	var stderr bytes.Buffer
+	var mu sync.Mutex
+	cmd.Stderr = &lockedWriter{mu: &mu, w: &stderr}
+	require.NoError(t, cmd.Start())
+	exited := make(chan struct{})
+	go func() { _ = cmd.Wait(); close(exited) }()
+	t.Cleanup(func() { _ = cmd.Process.Kill(); <-exited })
+	var base string
+	deadline := time.Now().Add(60 * time.Second)
+	for base == "" {
+		mu.Lock()
+		text := stderr.String()
+		mu.Unlock()
+		for _, line := range strings.Split(text, "\n") {
+			var l logLine
+			if json.Unmarshal([]byte(line), &l) == nil && l.str("message") == "dashboard listening" {
+				base = strings.TrimSuffix(l.str("url"), "/")
+			}
+		}
+		select {
+		case <-exited:
+			t.Fatalf("serve exited:\n%s", text)
+		default:
+		}
+		require.True(t, time.Now().Before(deadline), "serve did not start:\n%s", text)
+		time.Sleep(100 * time.Millisecond)
+	}
+	status, body := httpGet(t, base, "/readyz")
+	assert.Equal(t, 200, status, body)
+	status, _ = httpGet(t, base, "/")
+	assert.Equal(t, 200, status)
+	_, err = os.Stat(db + "-shm")
+	assert.True(t, os.IsNotExist(err), "serve wrote nothing beside the store")
+
+	// The store goes away and comes back (a disk unmounted and mounted).
+	require.NoError(t, os.Chmod(dir, 0o755))
+	require.NoError(t, os.Rename(db, db+".away"))
+	waitHTTP(t, base, "/readyz", 30*time.Second, "/readyz 503 without the store", func(s int, _ string) bool { return s == 503 })
+	require.NoError(t, os.Rename(db+".away", db))
+	waitHTTP(t, base, "/readyz", 30*time.Second, "/readyz 200 with the store back", func(s int, _ string) bool { return s == 200 })
 }

@@ -59,6 +59,16 @@ func runServe(ctx context.Context, e *env, args []string) error {
 	return serveDashboard(ctx, e, cfg, st, addr)
 }
 
+// storeProbeEvery is how often serve checks that its store still answers.
+const storeProbeEvery = 5 * time.Second
+
+func errText(err error) string {
+	if err == nil {
+		return ""
+	}
+	return err.Error()
+}
+
 // serveDashboard serves the dashboard with the agent's HTTP server (health,
 // readiness, metrics, security headers, token) until ctx ends.
 func serveDashboard(ctx context.Context, e *env, cfg *agent.Config, st *stores, addr string) error {
@@ -71,15 +81,46 @@ func serveDashboard(ctx context.Context, e *env, cfg *agent.Config, st *stores, 
 		return err
 	}
 	tel := agent.NewTelemetry()
-	tel.SetStoreUp(true, "")
-	if st.flux != nil {
-		pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
-		if err := st.flux.Ping(pctx); err != nil {
-			tel.SetStoreUp(false, err.Error())
-			e.log.Warn().Err(err).Msg("InfluxDB does not answer yet; the pages will say so until it does")
-		}
-		cancel()
+	if st.emb != nil && st.emb.Immutable() {
+		e.log.Warn().Str("path", st.emb.Path()).Msg("the store's folder is read-only: its results are read as they are now; restart serve to show later ones")
 	}
+	// /readyz follows the store: checked now and every storeProbeEvery.
+	probe := func() error {
+		pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
+		defer cancel()
+		if st.flux != nil {
+			return st.flux.Ping(pctx)
+		}
+		return st.emb.Check(pctx)
+	}
+	up := true
+	report := func(err error) {
+		tel.SetStoreUp(err == nil, errText(err))
+		switch {
+		case err != nil && up:
+			e.log.Warn().Err(err).Msg("the store does not answer; /readyz says so until it does")
+		case err == nil && !up:
+			e.log.Info().Msg("the store answers again")
+		}
+		up = err == nil
+	}
+	report(probe())
+	probed := make(chan struct{})
+	loopCtx, stopProbe := context.WithCancel(ctx)
+	go func() {
+		defer close(probed)
+		tick := time.NewTicker(storeProbeEvery)
+		defer tick.Stop()
+		for {
+			select {
+			case <-loopCtx.Done():
+				return
+			case <-tick.C:
+				report(probe())
+			}
+		}
+	}()
+	defer func() { stopProbe(); <-probed }()
 	log := e.log.With().Str("component", "http").Logger()
 	srv, err := agent.NewServer(agent.ServerOptions{Listen: addr, BearerToken: token, Telemetry: tel, Pages: pages, Log: log})
 	if err != nil {
