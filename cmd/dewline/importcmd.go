@@ -6,6 +6,7 @@ import (
 	"encoding/hex"
 	"errors"
 	"flag"
+	"hash"
 	"fmt"
 	"io"
 	"math"
@@ -40,14 +41,16 @@ type importStats struct {
 func runImport(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("import", flag.ContinueOnError)
 	cfgPath := fs.String("config", "", "configuration file (required)")
+	maxMiB := fs.Int64("max-mib", defaultMaxImportMiB, "refuse an export larger than this many MiB (as read, before any gzip is unpacked); it bounds an endless pipe")
 	fs.Usage = func() {
-		fmt.Fprintln(fs.Output(), "usage: dewline import --config FILE trends.csv [more.csv ...]")
+		fmt.Fprintln(fs.Output(), "usage: dewline import --config FILE [--max-mib N] trends.csv [more.csv ...]  (/dev/stdin reads a pipe)")
 		fs.PrintDefaults()
 	}
 	// Files come after the flags.
+	valueFlag := map[string]bool{"--config": true, "-config": true, "--max-mib": true, "-max-mib": true}
 	var files []string
 	for i, a := range args {
-		if len(a) > 0 && a[0] != '-' && (i == 0 || args[i-1] != "--config" && args[i-1] != "-config") {
+		if len(a) > 0 && a[0] != '-' && (i == 0 || !valueFlag[args[i-1]]) {
 			files = append(files, a)
 		}
 	}
@@ -65,6 +68,9 @@ func runImport(ctx context.Context, e *env, args []string) error {
 	}
 	if len(files) == 0 {
 		return usagef("name at least one trend export to import")
+	}
+	if *maxMiB <= 0 {
+		return usagef("--max-mib %d: give a positive size in MiB", *maxMiB)
 	}
 	cfg, err := agent.LoadConfig(*cfgPath)
 	if err != nil {
@@ -88,7 +94,7 @@ func runImport(ctx context.Context, e *env, args []string) error {
 	var all []importStats
 	var empty []error // files that stored nothing: the others are still imported
 	for _, path := range files {
-		s, err := importFile(ctx, e.log, cfg, *cfgPath, st, ix, path)
+		s, err := importFile(ctx, e.log, cfg, *cfgPath, st, ix, path, *maxMiB<<20)
 		all = append(all, s)
 		var ne *nothingWrittenError
 		if errors.As(err, &ne) {
@@ -121,24 +127,31 @@ func contains(list []string, s string) bool {
 // importFile reads one export and writes its configured points to the
 // store, in batches per series. What was written before an error stays
 // written (re-importing the file later upserts, never duplicates).
-func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, cfgPath string, st *stores, ix ingest.PointIndex, path string) (importStats, error) {
+//
+// The file is read once: its SHA-256 (for the import log) is taken from
+// the bytes the parser reads, so a pipe or /dev/stdin works, and reading
+// stops with an error past maxBytes, so an endless input cannot run on.
+func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, cfgPath string, st *stores, ix ingest.PointIndex, path string, maxBytes int64) (importStats, error) {
 	s := importStats{file: path, unmatched: map[string]int{}}
 	started := time.Now()
-	sum, err := fileSHA256(path)
-	if err != nil {
-		return s, err
-	}
 	f, err := os.Open(path)
 	if err != nil {
 		return s, fmt.Errorf("import: %w", err)
 	}
 	defer f.Close()
 	size := int64(0)
-	if fi, err := f.Stat(); err == nil {
+	if fi, err := f.Stat(); err == nil && fi.Mode().IsRegular() {
 		size = fi.Size()
 	}
-	cr := &countingReader{r: f}
-	r, err := csvfile.NewReader(cr, path, csvOptions(cfg))
+	if size > maxBytes {
+		return s, fmt.Errorf("import %s: the file is %d MiB, more than --max-mib %d; split the export or raise --max-mib", path, size>>20, maxBytes>>20)
+	}
+	cr := &hashingReader{r: f, h: sha256.New(), max: maxBytes, path: path}
+	var src io.Reader = cr
+	if size > 0 {
+		src = seekingHashReader{cr} // a regular file: the reader may scan ahead and seek back
+	}
+	r, err := csvfile.NewReader(src, path, csvOptions(cfg))
 	if err != nil {
 		return s, err
 	}
@@ -219,6 +232,12 @@ func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, cfgP
 	if size > 0 {
 		prog.update(1000, 1000)
 	}
+	// Whatever the parser left unread (nothing, normally) still counts
+	// towards the hash and the limit.
+	if _, err := io.Copy(io.Discard, cr); err != nil {
+		return s, err
+	}
+	sum := hex.EncodeToString(cr.h.Sum(nil))
 	s.csv = r.Stats()
 	s.rows = s.csv.Rows
 	if st.emb != nil {
@@ -313,27 +332,65 @@ func printRowUnits(w io.Writer, ru *ingest.RowUnits) {
 	}
 }
 
-func fileSHA256(path string) (string, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return "", fmt.Errorf("import: %w", err)
-	}
-	defer f.Close()
-	h := sha256.New()
-	if _, err := io.Copy(h, f); err != nil {
-		return "", fmt.Errorf("import: read %s: %w", path, err)
-	}
-	return hex.EncodeToString(h.Sum(nil)), nil
+// defaultMaxImportMiB bounds one import: 64 GiB, some fifty times a year
+// of one-minute readings of 500 points in a wide export.
+const defaultMaxImportMiB = 64 << 10
+
+// hashingReader reads a file once for the parser: it hashes every byte
+// the first time it is read (a seek back and a second read, as the reader's
+// date-order scan does on a regular file, hash nothing twice), counts the
+// bytes for progress and fails past max.
+type hashingReader struct {
+	r      io.Reader
+	h      hash.Hash
+	max    int64
+	path   string
+	pos    int64 // offset of the next byte read
+	hashed int64 // bytes hashed: [0, hashed)
+	n      int64 // furthest offset read, for progress
 }
 
-// countingReader counts the bytes read, for progress.
-type countingReader struct {
-	r io.Reader
-	n int64
+// errTooLarge is the error past the size limit.
+func (c *hashingReader) errTooLarge() error {
+	return fmt.Errorf("import %s: more than --max-mib %d MiB read (an endless pipe?); split the export or raise --max-mib", c.path, c.max>>20)
 }
 
-func (c *countingReader) Read(p []byte) (int, error) {
+func (c *hashingReader) Read(p []byte) (int, error) {
+	if c.pos >= c.max {
+		// At the limit: only the end of the input may follow.
+		var one [1]byte
+		if n, err := c.r.Read(one[:]); n == 0 && err != nil {
+			return 0, err
+		}
+		return 0, c.errTooLarge()
+	}
+	if int64(len(p)) > c.max-c.pos {
+		p = p[:c.max-c.pos]
+	}
 	n, err := c.r.Read(p)
-	c.n += int64(n)
+	if end := c.pos + int64(n); end > c.hashed {
+		if c.pos > c.hashed {
+			return n, fmt.Errorf("import %s: read skipped bytes %d..%d, the hash would miss them", c.path, c.hashed, c.pos)
+		}
+		c.h.Write(p[c.hashed-c.pos : n])
+		c.hashed = end
+	}
+	c.pos += int64(n)
+	c.n = max(c.n, c.pos)
 	return n, err
+}
+
+// seekingHashReader is a hashingReader over a regular file, which may seek.
+type seekingHashReader struct{ *hashingReader }
+
+func (s seekingHashReader) Seek(offset int64, whence int) (int64, error) {
+	sk, ok := s.r.(io.Seeker)
+	if !ok {
+		return 0, fmt.Errorf("import %s: not seekable", s.path)
+	}
+	pos, err := sk.Seek(offset, whence)
+	if err == nil {
+		s.pos = pos
+	}
+	return pos, err
 }

@@ -2,9 +2,12 @@ package main
 
 import (
 	"bytes"
+	"crypto/sha256"
 	"database/sql"
 	"encoding/json"
+	"errors"
 	"fmt"
+	"io"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -401,4 +404,75 @@ func TestServe_ReadOnlyFolderAndReadiness(t *testing.T) {
 	waitHTTP(t, base, "/readyz", 30*time.Second, "/readyz 503 without the store", func(s int, _ string) bool { return s == 503 })
 	require.NoError(t, os.Rename(db+".away", db))
 	waitHTTP(t, base, "/readyz", 30*time.Second, "/readyz 200 with the store back", func(s int, _ string) bool { return s == 200 })
+}
+
+// endless is a trend export that never ends: one-minute rows forever.
+type endless struct {
+	m   int
+	buf []byte
+}
+
+func (e *endless) Read(p []byte) (int, error) {
+	if len(e.buf) == 0 {
+		if e.m == 0 {
+			e.buf = []byte("Time,MAT,MARH,LAT,SAT,CFM\n")
+		}
+		ts := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC).Add(time.Duration(e.m) * time.Minute)
+		e.buf = fmt.Appendf(e.buf, "%s,76.00,60.0,52.00,62.00,8000\n", ts.Format("2006-01-02 15:04:05"))
+		e.m++
+	}
+	n := copy(p, e.buf)
+	e.buf = e.buf[n:]
+	return n, nil
+}
+
+// TestImport_OnePass: import reads its input once, hashing what it
+// parses: a pipe on /dev/stdin imports whole, the import log's SHA-256 is
+// the file's (computed here with crypto/sha256), and an endless pipe stops
+// at --max-mib with an error that names the limit.
+func TestImport_OnePass(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeScenario(t, dir)
+	raw, err := os.ReadFile(data)
+	require.NoError(t, err)
+	want := fmt.Sprintf("%x", sha256.Sum256(raw))
+
+	run := func(stdin io.Reader, args ...string) (int, string, string) {
+		cmd := exec.Command(dewlineBinary(t), args...)
+		cmd.Env = childEnv()
+		cmd.Stdin = stdin
+		var o, e bytes.Buffer
+		cmd.Stdout, cmd.Stderr = &o, &e
+		err := cmd.Run()
+		code := 0
+		var ee *exec.ExitError
+		if errors.As(err, &ee) {
+			code = ee.ExitCode()
+		} else {
+			require.NoError(t, err)
+		}
+		return code, o.String(), e.String()
+	}
+	code, out, errOut := run(bytes.NewReader(raw), "--log-level", "warn", "import", "--config", cfg, "/dev/stdin")
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, out, "/dev/stdin: 2880 rows read, 14400 values accepted, 14400 written to the store")
+	code, _, errOut = runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, errOut)
+
+	db := openSQLite(t, filepath.Join(dir, "test.db"))
+	rows, err := db.Query("SELECT file, sha256 FROM imports ORDER BY id")
+	require.NoError(t, err)
+	defer rows.Close()
+	var sums []string
+	for rows.Next() {
+		var file, sum string
+		require.NoError(t, rows.Scan(&file, &sum))
+		sums = append(sums, sum)
+	}
+	require.NoError(t, rows.Err())
+	assert.Equal(t, []string{want, want}, sums, "the pipe and the file hash alike")
+
+	code, _, errOut = run(&endless{}, "--log-level", "warn", "import", "--config", cfg, "--max-mib", "1", "/dev/stdin")
+	assert.Equal(t, 1, code)
+	assert.Contains(t, errOut, "more than --max-mib 1 MiB read (an endless pipe?); split the export or raise --max-mib")
 }
