@@ -29,9 +29,9 @@ type RecordHours struct {
 	Units map[string]UnitPoints
 	Step  time.Duration
 	// Records counts the records used; Unmatched counts records whose
-	// series no air handler maps, by series name.
+	// series no air handler maps.
 	Records   int
-	Unmatched map[string]int
+	Unmatched Unmatched
 	// RowUnits reads each record in the unit its row states and counts the
 	// rows converted or rejected for their unit (see RowUnits).
 	RowUnits *RowUnits
@@ -49,7 +49,7 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 	if err != nil {
 		return err
 	}
-	rh.Unmatched = map[string]int{}
+	rh.Unmatched = Unmatched{}
 	rh.RowUnits = NewRowUnits(byName)
 	lead := time.Duration(0)
 	for _, ahu := range ahus {
@@ -117,7 +117,7 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 		}
 		targets, ok := byName[rec.Series]
 		if !ok {
-			rh.Unmatched[rec.Series]++
+			rh.Unmatched.Add(rec.Series)
 			continue
 		}
 		ru, ok, err := rh.RowUnits.Check(rec)

@@ -57,7 +57,7 @@ func TestRecordHours(t *testing.T) {
 	assert.InDelta(t, 15.0, got[0].Values[metrics.RoleSupplyTemp][10], 1e-12, "59 °F is 15 °C")
 	assert.InDelta(t, 30.0, got[1].Values[metrics.RoleOutdoorTemp][10], 1e-12, "86 °F is 30 °C, shared by both")
 	assert.InDelta(t, 44.0/60, got[4].Coverage(metrics.RoleSupplyTemp), 1e-12, "logged to 14:29, held 15 min: midpoints 14:00:30..14:43:30")
-	assert.Equal(t, 150, rh.Unmatched["Lobby lights"])
+	assert.Equal(t, 150, rh.Unmatched.Count("Lobby lights"))
 	assert.Equal(t, 300, rh.Records)
 }
 

@@ -225,13 +225,8 @@ func reportInputs(log zerolog.Logger, files *csvfile.Files, rh *ingest.RecordHou
 			ev.Msg("rows rejected: their unit is not of the point's kind; correct the unit column")
 		}
 	}
-	names := make([]string, 0, len(rh.Unmatched))
-	for n := range rh.Unmatched {
-		names = append(names, n)
-	}
-	sort.Strings(names)
-	for _, n := range names {
-		log.Debug().Str("series", n).Int("records", rh.Unmatched[n]).Msg("series not mapped to any air handler")
+	if u := rh.Unmatched.Summary(unmatchedExamples); u != "" {
+		log.Info().Str("unmatched", u).Msg("series not mapped to any air handler")
 	}
 }
 

@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"io"
 	"sort"
-	"strings"
 	"text/tabwriter"
 	"time"
 
@@ -139,7 +138,7 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 			return err
 		}
 		defer files.Close()
-		unmatched := map[string]int{}
+		var unmatched ingest.Unmatched
 		rowUnits := ingest.NewRowUnits(ix)
 		for {
 			rec, err := files.Next()
@@ -151,7 +150,7 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 			}
 			pc, ok := checks[rec.Series]
 			if !ok {
-				unmatched[rec.Series]++
+				unmatched.Add(rec.Series)
 				continue
 			}
 			ru, ok, err := rowUnits.Check(rec)
@@ -172,13 +171,8 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 			}
 		}
 		printRowUnits(e.stdout, rowUnits)
-		if len(unmatched) > 0 {
-			names := make([]string, 0, len(unmatched))
-			for n := range unmatched {
-				names = append(names, fmt.Sprintf("%q", n))
-			}
-			sort.Strings(names)
-			fmt.Fprintf(e.stdout, "series in the files that no air handler maps: %s\n", strings.Join(names, ", "))
+		if u := unmatched.Summary(unmatchedExamples); u != "" {
+			fmt.Fprintf(e.stdout, "%s; map them under air_handlers[].points if they are needed\n", u)
 		}
 	} else {
 		to := time.Now()

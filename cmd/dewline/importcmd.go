@@ -32,7 +32,7 @@ type importStats struct {
 	rows      int
 	records   int
 	written   int
-	unmatched map[string]int
+	unmatched ingest.Unmatched
 	notFinite int
 	units     *ingest.RowUnits
 	csv       csvfile.Stats
@@ -132,7 +132,7 @@ func contains(list []string, s string) bool {
 // the bytes the parser reads, so a pipe or /dev/stdin works, and reading
 // stops with an error past maxBytes, so an endless input cannot run on.
 func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, cfgPath string, st *stores, ix ingest.PointIndex, path string, maxBytes int64) (importStats, error) {
-	s := importStats{file: path, unmatched: map[string]int{}}
+	s := importStats{file: path}
 	started := time.Now()
 	f, err := os.Open(path)
 	if err != nil {
@@ -197,7 +197,7 @@ func importFile(ctx context.Context, log zerolog.Logger, cfg *agent.Config, cfgP
 		s.records++
 		ts, ok := ix[rec.Series]
 		if !ok {
-			s.unmatched[rec.Series]++
+			s.unmatched.Add(rec.Series)
 			continue
 		}
 		ru, ok, err := s.units.Check(rec)
@@ -265,7 +265,7 @@ func nothingWritten(s importStats, cfgPath string) error {
 		fix = "the file has a header but no data rows; export the trend log again"
 	case s.records == 0:
 		fix = fmt.Sprintf("no value could be read; see the rejected rows above and correct the file, or exports: in %s", cfgPath)
-	case len(s.unmatched) > 0 && s.records == sumCounts(s.unmatched):
+	case s.unmatched.Values > 0 && s.records == s.unmatched.Values:
 		fix = fmt.Sprintf("none of the file's series is mapped to a point in %s; map them under air_handlers[].points (column: for wide exports, point: for long ones)", cfgPath)
 	}
 	return &nothingWrittenError{msg: what + ": " + fix}
@@ -304,13 +304,8 @@ func printImport(w io.Writer, all []importStats) {
 			fmt.Fprintf(w, "  daylight saving: %d rows in a repeated hour (%d read as the earlier offset, %d as the later); %d rows in a skipped hour rejected\n",
 				d.Repeated, d.RepeatedEarlier, d.RepeatedLater, d.Skipped)
 		}
-		names := make([]string, 0, len(s.unmatched))
-		for n := range s.unmatched {
-			names = append(names, n)
-		}
-		sort.Strings(names)
-		for _, n := range names {
-			fmt.Fprintf(w, "  not in the configuration, skipped: %q (%d values)\n", n, s.unmatched[n])
+		if u := s.unmatched.Summary(unmatchedExamples); u != "" {
+			fmt.Fprintf(w, "  skipped: %s\n", u)
 		}
 	}
 }
@@ -331,6 +326,9 @@ func printRowUnits(w io.Writer, ru *ingest.RowUnits) {
 		}
 	}
 }
+
+// unmatchedExamples is how many unmapped series names a summary shows.
+const unmatchedExamples = 5
 
 // defaultMaxImportMiB bounds one import: 64 GiB, some fifty times a year
 // of one-minute readings of 500 points in a wide export.

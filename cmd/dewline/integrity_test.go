@@ -476,3 +476,35 @@ func TestImport_OnePass(t *testing.T) {
 	assert.Equal(t, 1, code)
 	assert.Contains(t, errOut, "more than --max-mib 1 MiB read (an endless pipe?); split the export or raise --max-mib")
 }
+
+// TestImport_UnknownPointsSummarised: points the configuration does not
+// map are reported as one line with a count and the first few names, not
+// a line each.
+func TestImport_UnknownPointsSummarised(t *testing.T) {
+	dir := t.TempDir()
+	cfg, _ := writeScenario(t, dir)
+	var b strings.Builder
+	b.WriteString("Time,MAT,MARH,LAT,SAT,CFM")
+	for i := range 200 {
+		fmt.Fprintf(&b, ",Zone %03d temp", i)
+	}
+	b.WriteString("\n")
+	for m := range 3 {
+		fmt.Fprintf(&b, "2026-07-14 00:%02d:00,76,60,52,62,8000", m)
+		for range 200 {
+			b.WriteString(",71.5")
+		}
+		b.WriteString("\n")
+	}
+	data := filepath.Join(dir, "zones.csv")
+	require.NoError(t, os.WriteFile(data, []byte(b.String()), 0o600))
+	code, out, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, out, `skipped: 200 series not in the configuration (600 values), e.g. "Zone 000 temp" (3), "Zone 001 temp" (3), "Zone 002 temp" (3), "Zone 003 temp" (3), "Zone 004 temp" (3) and 195 more`)
+	assert.LessOrEqual(t, strings.Count(out, "\n"), 5, "a summary, not a line per point:\n%s", out)
+
+	code, out, errOut = runCLI(t, "check", "--config", cfg, "--input", data)
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, out, `200 series not in the configuration (600 values), e.g. "Zone 000 temp" (3)`)
+	assert.NotContains(t, out, "Zone 199 temp")
+}
