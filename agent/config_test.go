@@ -63,6 +63,9 @@ func TestLoadConfig_Bad(t *testing.T) {
 			`air_handlers[1].id: id "A" is also used by air_handlers[0]`,
 			`air_handlers[1].cooling.kind: unknown cooling kind "steam"`,
 		}},
+		{"open-listen.bad.yaml", []string{
+			`:4: http.listen: "0.0.0.0:9470" listens beyond loopback without a token; set http.token_env to an environment variable holding a token of at least 16 characters`,
+		}},
 		// Not-a-number, infinity and absurd magnitudes are refused with the
 		// key and the range (the ranges are common practice, no source).
 		{"numbers.bad.yaml", []string{

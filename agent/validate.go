@@ -515,8 +515,11 @@ func (c *Config) validateSchedule(v *validator) {
 	if c.Schedule.Timeout < time.Minute {
 		v.bad(at(p, "timeout"), fmt.Sprintf("timeout %v is too short", c.Schedule.Timeout), "give a run at least a few minutes, less than the time between runs")
 	}
-	if _, port, err := net.SplitHostPort(c.HTTP.Listen); err != nil || port == "" {
+	if host, port, err := net.SplitHostPort(c.HTTP.Listen); err != nil || port == "" {
 		v.bad([]any{"http", "listen"}, fmt.Sprintf("%q is not host:port", c.HTTP.Listen), "e.g. 127.0.0.1:9470 (loopback) or 0.0.0.0:9470 with a token")
+	} else if !isLoopback(host) && c.HTTP.TokenEnv == "" {
+		v.bad([]any{"http", "listen"}, fmt.Sprintf("%q listens beyond loopback without a token", c.HTTP.Listen),
+			fmt.Sprintf("set http.token_env to an environment variable holding a token of at least %d characters (e.g. from openssl rand -hex 32), or listen on 127.0.0.1", MinTokenLength))
 	}
 	if w := c.Webhook; w != nil {
 		wp := []any{"webhook"}

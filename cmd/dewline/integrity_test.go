@@ -508,3 +508,12 @@ func TestImport_UnknownPointsSummarised(t *testing.T) {
 	assert.Contains(t, out, `200 series not in the configuration (600 values), e.g. "Zone 000 temp" (3)`)
 	assert.NotContains(t, out, "Zone 199 temp")
 }
+
+// TestCheck_OpenListenNeedsToken: check refuses an http.listen beyond
+// loopback without http.token_env, naming the key and the fix.
+func TestCheck_OpenListenNeedsToken(t *testing.T) {
+	code, _, errOut := runCLI(t, "check", "--config", "../../testdata/config/open-listen.bad.yaml")
+	assert.Equal(t, 1, code)
+	assert.Contains(t, errOut, `open-listen.bad.yaml:4: http.listen: "0.0.0.0:9470" listens beyond loopback without a token`)
+	assert.Contains(t, errOut, "set http.token_env")
+}
