@@ -517,3 +517,38 @@ func TestCheck_OpenListenNeedsToken(t *testing.T) {
 	assert.Contains(t, errOut, `open-listen.bad.yaml:4: http.listen: "0.0.0.0:9470" listens beyond loopback without a token`)
 	assert.Contains(t, errOut, "set http.token_env")
 }
+
+// TestDemo_RefusesAnExistingSite: demo --dir D refuses a folder holding a
+// site it did not write, and leaves it untouched; --force overrides. (The
+// run stops at the flag check, before any generation, so the test is
+// quick; the end-to-end demo test covers the writing.)
+func TestDemo_RefusesAnExistingSite(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeScenario(t, dir)
+	store := filepath.Join(dir, "demo.db")
+	require.NoError(t, os.WriteFile(store, []byte("a site's own store"), 0o600))
+	code, _, errOut := runCLI(t, "demo", "--dir", dir, "--no-serve", "--days", "2")
+	assert.Equal(t, 2, code)
+	assert.Contains(t, errOut, "already holds files the demo did not write (demo.db, export.csv, site.yaml)")
+	assert.Contains(t, errOut, "add --force")
+	for _, f := range []string{cfg, data, store} {
+		_, err := os.Stat(f)
+		assert.NoError(t, err)
+	}
+	got, err := os.ReadFile(store)
+	require.NoError(t, err)
+	assert.Equal(t, "a site's own store", string(got))
+	_, err = os.Stat(filepath.Join(dir, ".dewline-demo"))
+	assert.True(t, os.IsNotExist(err), "nothing written")
+
+	// With --force the check passes (the bad --days then stops the run
+	// before it writes anything).
+	code, _, errOut = runCLI(t, "demo", "--dir", dir, "--force", "--no-serve", "--days", "2")
+	assert.Equal(t, 2, code)
+	assert.Contains(t, errOut, "--days 2")
+	// A folder the demo marked as its own passes without --force.
+	require.NoError(t, os.WriteFile(filepath.Join(dir, ".dewline-demo"), nil, 0o600))
+	code, _, errOut = runCLI(t, "demo", "--dir", dir, "--no-serve", "--days", "2")
+	assert.Equal(t, 2, code)
+	assert.Contains(t, errOut, "--days 2")
+}
