@@ -271,14 +271,6 @@ func nothingWritten(s importStats, cfgPath string) error {
 	return &nothingWrittenError{msg: what + ": " + fix}
 }
 
-func sumCounts(m map[string]int) int {
-	n := 0
-	for _, c := range m {
-		n += c
-	}
-	return n
-}
-
 func printImport(w io.Writer, all []importStats) {
 	for _, s := range all {
 		fmt.Fprintf(w, "%s: %d rows read, %d values accepted, %d written to the store\n", s.file, s.rows, s.records, s.written)
