@@ -135,3 +135,18 @@ func TestNewReader_FirstRowPastHead(t *testing.T) {
 	assert.Contains(t, err.Error(), "test.csv line 2: data row too long to detect the format")
 	assert.Contains(t, err.Error(), "export fewer points per file")
 }
+
+// TestReader_OpenQuoteOnLastLine: a quote opened on the last line, which
+// ends with its line break, rejects that line alone.
+func TestReader_OpenQuoteOnLastLine(t *testing.T) {
+	in := "Time,SAT,Flow\n2026-07-14T13:00:00Z,55.1,1200\n2026-07-14T13:01:00Z,55.2,\"1210\n"
+	r, err := newString(t, in, Options{})
+	require.NoError(t, err)
+	recs := readAll(t, r)
+	s := r.Stats()
+	assert.Len(t, recs, 2)
+	assert.Equal(t, map[Reason]int{ReasonOpenQuote: 1}, s.Rejected)
+	require.Len(t, s.Examples, 1)
+	assert.Equal(t, 3, s.Examples[0].Line)
+	assert.Equal(t, 3, s.HeaderLines+s.Blank+s.Rows+s.Continued)
+}

@@ -319,9 +319,10 @@ func (s *splitter) resync(st recStatus) recStatus {
 			// rest was read from pend's front or from br: it goes back
 			// ahead of what pend still holds.
 			s.pend = append(append(make([]byte, 0, len(rest)+len(s.pend)), rest...), s.pend...)
-			s.nl = s.start
-			s.noNL = false
 		}
+		// The record is its first line, which ends with a line break.
+		s.nl = s.start
+		s.noNL = false
 	}
 	s.fields = s.fields[:0]
 	s.raw = first[:min(len(first), 80)]
