@@ -30,6 +30,14 @@ func (p Period) Hours() float64 { return p.To.Sub(p.From).Hours() }
 
 const dateLayout = "2006-01-02"
 
+// The years a custom period may name: results are stored from Unix time 0,
+// and trend exports are read up to 2199 (csvfile's own bound); a year past
+// 9999 cannot even be written as JSON.
+const (
+	minYear = 1970
+	maxYear = 2199
+)
+
 // ResolvePeriod turns a request's kind (day, week, month, custom) and, for
 // custom, its first and last dates (YYYY-MM-DD, inclusive) into a period.
 // The named kinds end with the last day that has results (latest), so a
@@ -56,6 +64,14 @@ func ResolvePeriod(kind, from, to string, zone *time.Location, latest time.Time)
 		t, err := time.ParseInLocation(dateLayout, to, zone)
 		if err != nil {
 			return Period{}, fmt.Errorf("to %q: give the last day as YYYY-MM-DD", to)
+		}
+		for _, d := range []struct {
+			name, s string
+			t       time.Time
+		}{{"from", from, f}, {"to", to, t}} {
+			if d.t.Year() < minYear || d.t.Year() > maxYear {
+				return Period{}, fmt.Errorf("%s %s: give a day between %d-01-01 and %d-12-31", d.name, d.s, minYear, maxYear)
+			}
 		}
 		if t.Before(f) {
 			return Period{}, fmt.Errorf("to %s is before from %s: swap them", to, from)

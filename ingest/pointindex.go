@@ -64,3 +64,117 @@ func (ix PointIndex) CheckUnit(rec Record) error {
 	}
 	return nil
 }
+
+// RowUnits reads each record's value in the unit its row states, so that a
+// long export whose unit column changes within a point (a controller
+// replaced, two exports appended) is converted row by row, never read in
+// the unit of the point's first row:
+//
+//   - a record that states no unit is in the configured unit;
+//   - the first unit a file states for a series must match the configured
+//     one (which of the two is right cannot be guessed): a mismatch is an
+//     error naming the file, the line and the fix;
+//   - after that, a row that states another unit of the point's kind is
+//     converted from that unit and counted in Converted;
+//   - a row that states a unit psychro does not know for the point's kind
+//     is rejected and counted in Rejected, with its line in Examples.
+//
+// The zero value is not usable; make one with NewRowUnits.
+type RowUnits struct {
+	ix      PointIndex
+	checked map[string]bool // series whose first stated unit was checked
+	cache   map[unitKey]unitAnswer
+
+	Converted int            // values read in a stated unit other than the configured one
+	Rejected  int            // rows refused for their unit
+	Examples  []RowUnitIssue // the first MaxUnitExamples rejections
+}
+
+// MaxUnitExamples is how many rejected rows RowUnits keeps with their lines.
+const MaxUnitExamples = 5
+
+// RowUnitIssue is one row refused for the unit it states.
+type RowUnitIssue struct {
+	File   string
+	Line   int
+	Series string
+	Unit   string
+	Kind   psychro.Kind
+}
+
+func (i RowUnitIssue) String() string {
+	return fmt.Sprintf("%s line %d: %q states the unit %q, which is not a unit of %s", i.File, i.Line, i.Series, i.Unit, i.Kind)
+}
+
+type unitKey struct {
+	kind psychro.Kind
+	name string
+}
+
+type unitAnswer struct {
+	u  psychro.Unit
+	ok bool
+}
+
+// NewRowUnits returns a RowUnits over the index.
+func NewRowUnits(ix PointIndex) *RowUnits {
+	return &RowUnits{ix: ix, checked: map[string]bool{}, cache: map[unitKey]unitAnswer{}}
+}
+
+// RowUnit is how one record's value is read.
+type RowUnit struct {
+	stated bool
+	unit   psychro.Unit
+}
+
+// ToSI converts the record's value for one of its targets: in the unit
+// the row states, or else in the unit configured for the target.
+func (u RowUnit) ToSI(tg PointTarget, v float64) float64 {
+	if u.stated {
+		return u.unit.ToSI(v)
+	}
+	return tg.Unit.ToSI(v)
+}
+
+// Check decides how rec is read. ok is false when the row is rejected (and
+// counted); an error is a conflict between the file and the configuration.
+// rec must be a record of a series in the index.
+func (ru *RowUnits) Check(rec Record) (RowUnit, bool, error) {
+	ts := ru.ix[rec.Series]
+	if len(ts) == 0 || rec.Unit == "" {
+		return RowUnit{}, true, nil
+	}
+	if !ru.checked[rec.Series] {
+		if err := ru.ix.CheckUnit(rec); err != nil {
+			return RowUnit{}, false, err
+		}
+		ru.checked[rec.Series] = true
+	}
+	k := unitKey{ts[0].Kind, rec.Unit}
+	a, hit := ru.cache[k]
+	if !hit {
+		u, err := psychro.LookupUnit(k.kind, k.name)
+		a = unitAnswer{u, err == nil}
+		if len(ru.cache) < maxInternedUnits {
+			ru.cache[k] = a
+		}
+	}
+	if !a.ok {
+		ru.Rejected++
+		if len(ru.Examples) < MaxUnitExamples {
+			ru.Examples = append(ru.Examples, RowUnitIssue{File: rec.File, Line: rec.Line, Series: rec.Series, Unit: rec.Unit, Kind: k.kind})
+		}
+		return RowUnit{}, false, nil
+	}
+	for _, tg := range ts {
+		if tg.Unit.Name != a.u.Name {
+			ru.Converted++
+			break
+		}
+	}
+	return RowUnit{stated: true, unit: a.u}, true, nil
+}
+
+// maxInternedUnits bounds the unit spellings RowUnits remembers; the names
+// come from files.
+const maxInternedUnits = 1024

@@ -20,17 +20,21 @@ type RecordSource interface {
 // RecordHours streams records from exports into hours of several air
 // handlers at once, without storing them: memory stays flat however long
 // the files are. Records are matched to points by series name (the CSV
-// column or long-format point name) and converted to SI with the unit the
-// configuration gives; a file whose header states a different unit for the
-// same column is refused, not guessed.
+// column or long-format point name) and converted to SI row by row (see
+// RowUnits): in the unit the row states, or else the configured one. A file
+// whose first stated unit for a series differs from the configured one is
+// refused, not guessed.
 type RecordHours struct {
 	Src   RecordSource
 	Units map[string]UnitPoints
 	Step  time.Duration
 	// Records counts the records used; Unmatched counts records whose
-	// series no air handler maps, by series name.
+	// series no air handler maps.
 	Records   int
-	Unmatched map[string]int
+	Unmatched Unmatched
+	// RowUnits reads each record in the unit its row states and counts the
+	// rows converted or rejected for their unit (see RowUnits).
+	RowUnits *RowUnits
 }
 
 // Hours implements agent.HourSource. A zero from starts at the hour of the
@@ -45,7 +49,8 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 	if err != nil {
 		return err
 	}
-	rh.Unmatched = map[string]int{}
+	rh.Unmatched = Unmatched{}
+	rh.RowUnits = NewRowUnits(byName)
 	lead := time.Duration(0)
 	for _, ahu := range ahus {
 		u := rh.Units[ahu]
@@ -96,7 +101,6 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 			}
 		}
 	}
-	checked := map[string]bool{}
 	var last time.Time
 	for n := 0; ; n++ {
 		if n%4096 == 0 {
@@ -113,14 +117,15 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 		}
 		targets, ok := byName[rec.Series]
 		if !ok {
-			rh.Unmatched[rec.Series]++
+			rh.Unmatched.Add(rec.Series)
 			continue
 		}
-		if !checked[rec.Series] {
-			checked[rec.Series] = true
-			if err := byName.CheckUnit(rec); err != nil {
-				return err
-			}
+		ru, ok, err := rh.RowUnits.Check(rec)
+		if err != nil {
+			return err
+		}
+		if !ok {
+			continue // counted in RowUnits
 		}
 		if len(order) == 0 {
 			if err := start(rec.Time); err != nil {
@@ -132,7 +137,7 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 		}
 		rh.Records++
 		for _, tg := range targets {
-			aligners[tg.AHU].Push(tg.Role, Sample{Time: rec.Time, Value: tg.Unit.ToSI(rec.Value)})
+			aligners[tg.AHU].Push(tg.Role, Sample{Time: rec.Time, Value: ru.ToSI(tg, rec.Value)})
 		}
 		if rec.Time.After(last) {
 			last = rec.Time

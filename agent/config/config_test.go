@@ -63,6 +63,29 @@ func TestLoadConfig_Bad(t *testing.T) {
 			`air_handlers[1].id: id "A" is also used by air_handlers[0]`,
 			`air_handlers[1].cooling.kind: unknown cooling kind "steam"`,
 		}},
+		{"open-listen.bad.yaml", []string{
+			`:4: http.listen: "0.0.0.0:9470" listens beyond loopback without a token; set http.token_env to an environment variable holding a token of at least 16 characters`,
+		}},
+		// Not-a-number, infinity and absurd magnitudes are refused with the
+		// key and the range (the ranges are common practice, no source).
+		{"numbers.bad.yaml", []string{
+			`:5: prices.electricity_per_kwh: NaN is outside 0..100000`,
+			`:6: prices.fuel_per_kwh: +Inf is outside 0..100000`,
+			`:7: prices.electricity_co2_kg_per_kwh: 40 is outside 0..3 kg/kWh`,
+			`:8: prices.fuel_co2_kg_per_kwh: -Inf is outside 0..3 kg/kWh`,
+			`:10: alerts.min_avoidable_kwh: NaN is outside 0..1000000 kWh`,
+			`:11: alerts.min_effective_eer: +Inf is outside 0..40 Btu/Wh`,
+			`:12: alerts.coil_min_leaving: 1e300F is outside 0..25 °C (32..77 °F)`,
+			`:15: air_handlers[0].cooling.rated_eer: NaN is outside 0..40 Btu/Wh`,
+			`:15: air_handlers[0].cooling.eer_per_kelvin: 5 is outside -2..0 Btu/Wh per K`,
+			`:15: air_handlers[0].cooling.rated_outdoor: 1e300F is outside 15..55 °C (59..131 °F)`,
+			`:16: air_handlers[0].reheat.boiler_efficiency: NaN is outside 0..1`,
+			`:19: air_handlers[0].target.max_supply_dewpoint: 1e300F is outside 0..25 °C (32..77 °F)`,
+			`:27: air_handlers[1].cooling.plant_kw_per_ton: NaN is outside 0..3 kW/ton`,
+			`:27: air_handlers[1].cooling.eer_per_kelvin: +Inf is outside -2..0 Btu/Wh per K`,
+			`:31: air_handlers[1].target.max_space_rh: 300% is outside 20..90 %`,
+			`:31: air_handlers[1].target.space_temp: -400C is outside 10..35 °C (50..95 °F)`,
+		}},
 	}
 	for _, tt := range tests {
 		t.Run(tt.file, func(t *testing.T) {

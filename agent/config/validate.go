@@ -2,9 +2,11 @@ package config
 
 import (
 	"fmt"
+	"math"
 	"net"
 	"net/url"
 	"sort"
+	"strconv"
 	"strings"
 	"time"
 
@@ -51,6 +53,43 @@ func (v *validator) quantity(path []any, s string, kind psychro.Kind) (float64, 
 	x, _, err := psychro.ParseQuantity(s, kind, "")
 	if err != nil {
 		v.bad(path, err.Error(), "")
+		return 0, false
+	}
+	return x, true
+}
+
+// number refuses a configured number that is not finite (YAML .nan,
+// .inf) or lies outside lo..hi; unit follows the range in the message.
+func (v *validator) number(path []any, x, lo, hi float64, unit, fix string) bool {
+	if math.IsNaN(x) || math.IsInf(x, 0) || x < lo || x > hi {
+		v.bad(path, fmt.Sprintf("%s is outside %s..%s%s", fmtNumber(x), fmtNumber(lo), fmtNumber(hi), unit), fix)
+		return false
+	}
+	return true
+}
+
+// fmtNumber writes NaN and infinities as Go does and other numbers
+// without an exponent where they have none.
+func fmtNumber(x float64) string {
+	switch {
+	case math.IsInf(x, 1):
+		return "+Inf"
+	case math.Abs(x) < 1e15:
+		return strconv.FormatFloat(x, 'f', -1, 64)
+	}
+	return fmt.Sprintf("%g", x)
+}
+
+// temperatureIn parses a temperature (with its unit) and refuses it
+// outside loC..hiC, stating the range in °C and °F.
+func (v *validator) temperatureIn(path []any, s string, loC, hiC float64, fix string) (float64, bool) {
+	x, ok := v.quantity(path, s, psychro.KindTemperature)
+	if !ok {
+		return 0, false
+	}
+	if x < loC || x > hiC {
+		v.bad(path, fmt.Sprintf("%s is outside %g..%g °C (%g..%g °F)", s, loC, hiC,
+			psychro.CToF(loC), psychro.CToF(hiC)), fix)
 		return 0, false
 	}
 	return x, true
@@ -183,17 +222,15 @@ func (c *Config) validateGrid(v *validator) {
 
 func (c *Config) validatePrices(v *validator) {
 	p := []any{"prices"}
-	for _, f := range []struct {
-		key string
-		val float64
-	}{
-		{"electricity_per_kwh", c.Prices.ElectricityPerKWh}, {"fuel_per_kwh", c.Prices.FuelPerKWh},
-		{"electricity_co2_kg_per_kwh", c.Prices.ElectricityCO2KgPerKWh}, {"fuel_co2_kg_per_kwh", c.Prices.FuelCO2KgPerKWh},
-	} {
-		if f.val < 0 {
-			v.bad(at(p, f.key), "must not be negative", "")
-		}
-	}
+	// Ranges (common practice, no source): a price per kWh below 100,000
+	// in any currency's unit; an emission factor up to 3 kg CO2 per kWh,
+	// above coal-fired generation.
+	const priceFix = "give the price of one kWh in the currency's unit (e.g. 0.12 for USD)"
+	v.number(at(p, "electricity_per_kwh"), c.Prices.ElectricityPerKWh, 0, 1e5, "", priceFix)
+	v.number(at(p, "fuel_per_kwh"), c.Prices.FuelPerKWh, 0, 1e5, "", priceFix)
+	const co2Fix = "give kg of CO2 per kWh, e.g. 0.4 for grid electricity or 0.2 for natural gas"
+	v.number(at(p, "electricity_co2_kg_per_kwh"), c.Prices.ElectricityCO2KgPerKWh, 0, 3, " kg/kWh", co2Fix)
+	v.number(at(p, "fuel_co2_kg_per_kwh"), c.Prices.FuelCO2KgPerKWh, 0, 3, " kg/kWh", co2Fix)
 	if len(c.Prices.Currency) != 3 {
 		v.bad(at(p, "currency"), fmt.Sprintf("%q is not a currency code", c.Prices.Currency), "use an ISO 4217 code such as USD or EUR")
 	}
@@ -272,19 +309,23 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 		if !metered && a.Cooling.RatedEER <= 0 {
 			v.bad(at(cp, "rated_eer"), "a DX unit needs a cooling_kw point or a rated EER", "map cooling_kw, or set rated_eer (Btu/Wh) from the nameplate")
 		}
-		if a.Cooling.RatedEER < 0 || a.Cooling.RatedEER > 40 {
-			v.bad(at(cp, "rated_eer"), fmt.Sprintf("EER %g is not plausible", a.Cooling.RatedEER), "give the rated EER in Btu/Wh, typically 8-16")
-		}
-		v.quantity(at(cp, "rated_outdoor"), a.Cooling.RatedOutdoor, psychro.KindTemperature)
+		v.number(at(cp, "rated_eer"), a.Cooling.RatedEER, 0, 40, " Btu/Wh", "give the rated EER in Btu/Wh, typically 8-16")
+		v.temperatureIn(at(cp, "rated_outdoor"), a.Cooling.RatedOutdoor, 15, 55, "give the outdoor temperature of the rating, typically 95F (35C)")
 	case "chilled_water":
-		if !metered && (a.Cooling.PlantKWPerTon <= 0 || a.Cooling.PlantKWPerTon > 3) {
+		if !metered && a.Cooling.PlantKWPerTon == 0 {
 			v.bad(at(cp, "plant_kw_per_ton"), "chilled water needs the plant's kW per ton (0 < x <= 3)", "set plant_kw_per_ton, typically 0.6-1.2")
+		} else {
+			v.number(at(cp, "plant_kw_per_ton"), a.Cooling.PlantKWPerTon, 0, 3, " kW/ton", "set plant_kw_per_ton, typically 0.6-1.2")
 		}
 	case "":
 		v.bad(at(cp, "kind"), "missing cooling kind", "use dx or chilled_water")
 	default:
 		v.bad(at(cp, "kind"), fmt.Sprintf("unknown cooling kind %q", a.Cooling.Kind), "use dx or chilled_water")
 	}
+
+	// Capacity falls with outdoor temperature: about -0.1 to -0.3 Btu/Wh
+	// per K for air-cooled units (common practice, no source).
+	v.number(at(cp, "eer_per_kelvin"), a.Cooling.EERPerKelvin, -2, 0, " Btu/Wh per K", "give the change of EER per K above the rating, negative, e.g. -0.1")
 
 	// Reheat source.
 	hp := at(p, "reheat")
@@ -294,8 +335,10 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 			v.bad(at(hp, "boiler_efficiency"), "boiler efficiency is for hot_water reheat", "remove it or set kind: hot_water")
 		}
 	case "hot_water":
-		if e := a.Reheat.BoilerEfficiency; e <= 0 || e > 1 {
+		if e := a.Reheat.BoilerEfficiency; e == 0 {
 			v.bad(at(hp, "boiler_efficiency"), "hot-water reheat needs the boiler efficiency (0 < x <= 1)", "set boiler_efficiency, e.g. 0.82; the fuel is priced with prices.fuel_per_kwh")
+		} else {
+			v.number(at(hp, "boiler_efficiency"), e, 0, 1, "", "set boiler_efficiency as a fraction, e.g. 0.82")
 		}
 	case "":
 		v.bad(at(hp, "kind"), "missing reheat kind", "use electric, hot_water, recovered or none")
@@ -352,24 +395,29 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 	// Humidity target: exactly one form.
 	tp := at(p, "target")
 	forms := 0
+	// Ranges (common practice, no source): dew point targets of occupied
+	// buildings lie near 10-15 °C, space humidity limits near 50-65 %.
+	const dpFix = "give the dew point limit, e.g. 52F or 11C"
 	if a.Target.MaxSupplyDewPoint != "" {
 		forms++
-		v.quantity(at(tp, "max_supply_dewpoint"), a.Target.MaxSupplyDewPoint, psychro.KindTemperature)
+		v.temperatureIn(at(tp, "max_supply_dewpoint"), a.Target.MaxSupplyDewPoint, 0, 25, dpFix)
 	}
 	if a.Target.MaxSpaceDewPoint != "" {
 		forms++
-		v.quantity(at(tp, "max_space_dewpoint"), a.Target.MaxSpaceDewPoint, psychro.KindTemperature)
+		v.temperatureIn(at(tp, "max_space_dewpoint"), a.Target.MaxSpaceDewPoint, 0, 25, dpFix)
 	}
 	if a.Target.MaxSpaceRH != "" {
 		forms++
-		v.quantity(at(tp, "max_space_rh"), a.Target.MaxSpaceRH, psychro.KindRH)
+		if x, ok := v.quantity(at(tp, "max_space_rh"), a.Target.MaxSpaceRH, psychro.KindRH); ok && (x < 0.2 || x > 0.9) {
+			v.bad(at(tp, "max_space_rh"), fmt.Sprintf("%s is outside 20..90 %%", a.Target.MaxSpaceRH), "give the space humidity limit, e.g. 55%")
+		}
 		_, spaceT := a.Points[string(metrics.RoleSpaceTemp)]
 		if !spaceT && a.Target.SpaceTemp == "" {
 			v.bad(at(tp, "space_temp"), "max_space_rh needs the space temperature", "map space_temp or set target.space_temp (e.g. 74F)")
 		}
 	}
 	if a.Target.SpaceTemp != "" {
-		v.quantity(at(tp, "space_temp"), a.Target.SpaceTemp, psychro.KindTemperature)
+		v.temperatureIn(at(tp, "space_temp"), a.Target.SpaceTemp, 10, 35, "give the space temperature, e.g. 74F or 23C")
 	}
 	if forms != 1 {
 		v.bad(tp, fmt.Sprintf("%d humidity targets given", forms), "give exactly one of max_supply_dewpoint, max_space_dewpoint or max_space_rh")
@@ -426,7 +474,7 @@ func (v *validator) accuracy(path []any, s string, temp bool, max float64) (floa
 			return 0, false
 		}
 	}
-	if x <= 0 || x > max {
+	if !(x > 0 && x <= max) {
 		v.bad(path, fmt.Sprintf("%s is not a plausible sensor accuracy", s), "give the 95 % accuracy from the sensor's data sheet")
 		return 0, false
 	}
@@ -444,15 +492,11 @@ func (c *Config) validateSensors(v *validator) {
 
 func (c *Config) validateAlerts(v *validator) {
 	p := []any{"alerts"}
-	if c.Alerts.MinAvoidableKWh < 0 {
-		v.bad(at(p, "min_avoidable_kwh"), "must not be negative", "")
-	}
-	if c.Alerts.MinEffectiveEER < 0 {
-		v.bad(at(p, "min_effective_eer"), "must not be negative", "")
-	}
+	v.number(at(p, "min_avoidable_kwh"), c.Alerts.MinAvoidableKWh, 0, 1e6, " kWh", "give the smallest avoidable energy worth an alert, e.g. 5")
+	v.number(at(p, "min_effective_eer"), c.Alerts.MinEffectiveEER, 0, 40, " Btu/Wh", "give the effective EER below which an alert opens, e.g. 6")
 	v.accuracy(at(p, "overcooling"), c.Alerts.Overcooling, true, 20)
 	if c.Alerts.CoilMinLeaving != "" {
-		v.quantity(at(p, "coil_min_leaving"), c.Alerts.CoilMinLeaving, psychro.KindTemperature)
+		v.temperatureIn(at(p, "coil_min_leaving"), c.Alerts.CoilMinLeaving, 0, 25, "give the coldest air the coils can deliver, e.g. 50F or 10C")
 	}
 	v.accuracy(at(p, "min_coverage"), c.Alerts.MinCoverage, false, 1)
 }
@@ -471,8 +515,11 @@ func (c *Config) validateSchedule(v *validator) {
 	if c.Schedule.Timeout < time.Minute {
 		v.bad(at(p, "timeout"), fmt.Sprintf("timeout %v is too short", c.Schedule.Timeout), "give a run at least a few minutes, less than the time between runs")
 	}
-	if _, port, err := net.SplitHostPort(c.HTTP.Listen); err != nil || port == "" {
+	if host, port, err := net.SplitHostPort(c.HTTP.Listen); err != nil || port == "" {
 		v.bad([]any{"http", "listen"}, fmt.Sprintf("%q is not host:port", c.HTTP.Listen), "e.g. 127.0.0.1:9470 (loopback) or 0.0.0.0:9470 with a token")
+	} else if !IsLoopback(host) && c.HTTP.TokenEnv == "" {
+		v.bad([]any{"http", "listen"}, fmt.Sprintf("%q listens beyond loopback without a token", c.HTTP.Listen),
+			fmt.Sprintf("set http.token_env to an environment variable holding a token of at least %d characters (e.g. from openssl rand -hex 32), or listen on 127.0.0.1", MinTokenLength))
 	}
 	if w := c.Webhook; w != nil {
 		wp := []any{"webhook"}
@@ -513,4 +560,20 @@ func (c *Config) validateExports(v *validator) {
 	if e.Year != 0 && (e.Year < 1900 || e.Year > 2199) {
 		v.bad(at(p, "year"), fmt.Sprintf("year %d is not plausible", e.Year), "give the year the export was logged in, e.g. 2026")
 	}
+}
+
+// MinTokenLength is the shortest bearer token accepted for an address
+// other than loopback: 16 characters, e.g. 8 random bytes in hex (common
+// practice, no source; "openssl rand -hex 32" gives 64).
+const MinTokenLength = 16
+
+// IsLoopback reports whether host names only loopback interfaces. An empty
+// host or a wildcard (0.0.0.0, ::) listens on every interface; other names
+// are not resolved, because what they resolve to can change.
+func IsLoopback(host string) bool {
+	if strings.EqualFold(host, "localhost") {
+		return true
+	}
+	ip := net.ParseIP(host)
+	return ip != nil && ip.IsLoopback()
 }

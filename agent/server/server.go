@@ -7,6 +7,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"github.com/dewline/dewline/agent/config"
 	"log"
 	"net"
 	"net/http"
@@ -22,6 +23,14 @@ import (
 // ErrInsecureListen is returned by NewServer for an address other than
 // loopback without a bearer token.
 var ErrInsecureListen = errors.New("listening beyond loopback needs a bearer token")
+
+// MinTokenLength is the shortest bearer token NewServer accepts for an
+// address other than loopback (config.MinTokenLength).
+const MinTokenLength = config.MinTokenLength
+
+// ErrWeakToken is returned by NewServer for an address other than
+// loopback with a token shorter than MinTokenLength.
+var ErrWeakToken = errors.New("the bearer token is too short")
 
 // ServerOptions configures the agent's HTTP endpoint.
 type ServerOptions struct {
@@ -60,6 +69,80 @@ type Server struct {
 	ln      net.Listener
 	served  chan struct{} // closed when Serve returns
 	started bool
+
+	fails *authFailures                                    // wrong tokens by client address
+	sleep func(ctx context.Context, d time.Duration) error // the delay of a wrong token's answer; replaced in tests
+}
+
+// Wrong tokens from one client address are answered later and later: the
+// first authFreeFailures at once, then after authFirstDelay, doubling up
+// to authMaxDelay. A right token, or authForget without a wrong one,
+// clears the count. At most authMaxClients addresses are tracked; past
+// that the oldest counts are dropped (common practice, no source).
+const (
+	authFreeFailures = 5
+	authFirstDelay   = 250 * time.Millisecond
+	authMaxDelay     = 5 * time.Second
+	authForget       = 10 * time.Minute
+	authMaxClients   = 4096
+)
+
+type authFailures struct {
+	mu   sync.Mutex
+	byIP map[string]*failCount
+}
+
+type failCount struct {
+	n    int
+	last time.Time
+}
+
+// fail counts a wrong token from ip and returns how long to hold its answer.
+func (a *authFailures) fail(ip string, now time.Time) time.Duration {
+	a.mu.Lock()
+	defer a.mu.Unlock()
+	c, ok := a.byIP[ip]
+	if !ok || now.Sub(c.last) > authForget {
+		if !ok && len(a.byIP) >= authMaxClients {
+			a.forgetOldest()
+		}
+		c = &failCount{}
+		a.byIP[ip] = c
+	}
+	c.n++
+	c.last = now
+	if c.n <= authFreeFailures {
+		return 0
+	}
+	d := authFirstDelay << min(c.n-authFreeFailures-1, 16)
+	return min(d, authMaxDelay)
+}
+
+// ok clears ip's count after a right token.
+func (a *authFailures) ok(ip string) {
+	a.mu.Lock()
+	delete(a.byIP, ip)
+	a.mu.Unlock()
+}
+
+func (a *authFailures) forgetOldest() {
+	var oldest string
+	var at time.Time
+	for ip, c := range a.byIP {
+		if oldest == "" || c.last.Before(at) {
+			oldest, at = ip, c.last
+		}
+	}
+	delete(a.byIP, oldest)
+}
+
+// clientIP is the address of the request's peer, without the port.
+func clientIP(r *http.Request) string {
+	host, _, err := net.SplitHostPort(r.RemoteAddr)
+	if err != nil {
+		return r.RemoteAddr
+	}
+	return host
 }
 
 // Server timeouts: the endpoint serves small pages to a browser or a
@@ -90,7 +173,12 @@ func NewServer(opt ServerOptions) (*Server, error) {
 	if opt.BearerToken == "" && !isLoopback(host) {
 		return nil, fmt.Errorf("http.listen %q: %w: set http.token_env to an environment variable holding a token, or listen on 127.0.0.1", opt.Listen, ErrInsecureListen)
 	}
-	s := &Server{opt: opt, log: opt.Log.With().Str("component", "http").Logger()}
+	if n := len([]rune(opt.BearerToken)); n > 0 && n < MinTokenLength && !isLoopback(host) {
+		return nil, fmt.Errorf("http.listen %q: %w: the variable named by http.token_env holds %d characters, at least %d are needed beyond loopback; e.g. openssl rand -hex 32",
+			opt.Listen, ErrWeakToken, n, MinTokenLength)
+	}
+	s := &Server{opt: opt, log: opt.Log.With().Str("component", "http").Logger(),
+		fails: &authFailures{byIP: map[string]*failCount{}}, sleep: sleepCtx}
 	if opt.BearerToken != "" {
 		s.tokenH = sha256.Sum256([]byte(opt.BearerToken))
 	}
@@ -106,15 +194,20 @@ func NewServer(opt ServerOptions) (*Server, error) {
 	return s, nil
 }
 
-// isLoopback reports whether host names only loopback interfaces. An empty
-// host or a wildcard (0.0.0.0, ::) listens on every interface; other names
-// are not resolved, because what they resolve to can change.
-func isLoopback(host string) bool {
-	if strings.EqualFold(host, "localhost") {
-		return true
+// isLoopback reports whether host names only loopback interfaces
+// (config.IsLoopback).
+func isLoopback(host string) bool { return config.IsLoopback(host) }
+
+// sleepCtx waits for d or until ctx ends.
+func sleepCtx(ctx context.Context, d time.Duration) error {
+	t := time.NewTimer(d)
+	defer t.Stop()
+	select {
+	case <-ctx.Done():
+		return ctx.Err()
+	case <-t.C:
+		return nil
 	}
-	ip := net.ParseIP(host)
-	return ip != nil && ip.IsLoopback()
 }
 
 // Start listens and serves in the background. It returns at once, with the
@@ -264,11 +357,15 @@ func (s *Server) authorize(h http.Handler) http.Handler {
 			return
 		}
 		if !s.tokenMatches(r) {
+			if d := s.fails.fail(clientIP(r), time.Now()); d > 0 {
+				_ = s.sleep(r.Context(), d) // a client that hangs up ends the wait
+			}
 			w.Header().Add("WWW-Authenticate", `Bearer realm="dewline", error="invalid_token"`)
 			w.Header().Add("WWW-Authenticate", `Basic realm="dewline", charset="UTF-8"`)
 			http.Error(w, "unauthorized: wrong token", http.StatusUnauthorized)
 			return
 		}
+		s.fails.ok(clientIP(r))
 		h.ServeHTTP(w, r)
 	})
 }

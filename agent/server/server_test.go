@@ -9,6 +9,7 @@ import (
 	"net"
 	"net/http"
 	"strings"
+	"sync"
 	"testing"
 	"time"
 
@@ -186,8 +187,11 @@ func TestServer_Listen(t *testing.T) {
 		{"all v6 interfaces", "[::]:9470", "", false},
 		{"lan address", "192.0.2.10:9470", "", false},
 		{"host name", "dewline.example:9470", "", false},
-		{"all interfaces with token", "0.0.0.0:9470", "t0ken", true},
-		{"lan address with token", "192.0.2.10:9470", "t0ken", true},
+		{"all interfaces with token", "0.0.0.0:9470", "0123456789abcdef", true},
+		{"lan address with token", "192.0.2.10:9470", "0123456789abcdef0123", true},
+		{"all interfaces, short token", "0.0.0.0:9470", "t0ken", false},
+		{"lan address, 15 characters", "192.0.2.10:9470", "0123456789abcde", false},
+		{"loopback, short token", "127.0.0.1:0", "t0ken", true},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
@@ -198,7 +202,13 @@ func TestServer_Listen(t *testing.T) {
 				return
 			}
 			require.Error(t, err)
-			assert.ErrorIs(t, err, ErrInsecureListen)
+			if tt.token == "" {
+				assert.ErrorIs(t, err, ErrInsecureListen)
+			} else {
+				assert.ErrorIs(t, err, ErrWeakToken)
+				assert.Contains(t, err.Error(), "at least 16 are needed beyond loopback")
+				assert.NotContains(t, err.Error(), tt.token, "the token never shows")
+			}
 			assert.Contains(t, err.Error(), "http.token_env")
 		})
 	}
@@ -311,4 +321,53 @@ func TestServer_Shutdown(t *testing.T) {
 	require.Error(t, err)
 	var opErr *net.OpError
 	assert.True(t, errors.As(err, &opErr), "connection refused after shutdown: %v", err)
+}
+
+// TestServer_WrongTokensSlowDown: after five wrong tokens from one
+// address each further wrong answer is held longer (250 ms, doubling, at
+// most 5 s); a right token clears the count. The delays are read from the
+// server's wait function, not timed.
+func TestServer_WrongTokensSlowDown(t *testing.T) {
+	const token = "s3cret-token-for-tests"
+	pages := http.HandlerFunc(func(w http.ResponseWriter, _ *http.Request) { _, _ = io.WriteString(w, "dashboard") })
+	srv, err := NewServer(ServerOptions{Listen: "127.0.0.1:0", Telemetry: telemetry.NewTelemetry(), BearerToken: token, Pages: pages, Log: zerolog.Nop()})
+	require.NoError(t, err)
+	var mu sync.Mutex
+	var waits []time.Duration
+	srv.sleep = func(_ context.Context, d time.Duration) error {
+		mu.Lock()
+		waits = append(waits, d)
+		mu.Unlock()
+		return nil
+	}
+	got := func() []time.Duration {
+		mu.Lock()
+		defer mu.Unlock()
+		return append([]time.Duration(nil), waits...)
+	}
+	require.NoError(t, srv.Start())
+	t.Cleanup(func() { _ = srv.Shutdown(context.Background()) })
+	base := "http://" + srv.Addr()
+	for range 10 {
+		resp, _ := get(t, http.MethodGet, base+"/", "Bearer wrong-token")
+		assert.Equal(t, http.StatusUnauthorized, resp.StatusCode)
+	}
+	ms := time.Millisecond
+	assert.Equal(t, []time.Duration{250 * ms, 500 * ms, 1000 * ms, 2000 * ms, 4000 * ms}, got())
+	for range 3 {
+		resp, _ := get(t, http.MethodGet, base+"/", "Bearer wrong-token")
+		assert.Equal(t, http.StatusUnauthorized, resp.StatusCode)
+	}
+	assert.Equal(t, []time.Duration{5000 * ms, 5000 * ms, 5000 * ms}, got()[5:], "at most 5 s")
+
+	resp, body := get(t, http.MethodGet, base+"/", "Bearer "+token)
+	assert.Equal(t, http.StatusOK, resp.StatusCode, body)
+	mu.Lock()
+	waits = nil
+	mu.Unlock()
+	for range 6 {
+		resp, _ := get(t, http.MethodGet, base+"/", "Bearer wrong-token")
+		assert.Equal(t, http.StatusUnauthorized, resp.StatusCode)
+	}
+	assert.Equal(t, []time.Duration{250 * ms}, got(), "a right token cleared the count")
 }

@@ -5,8 +5,6 @@ import (
 	"errors"
 	"flag"
 	"fmt"
-	"os"
-	"sort"
 	"strings"
 	"time"
 
@@ -15,6 +13,7 @@ import (
 	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
+	"github.com/dewline/dewline/ingest/outfile"
 	"github.com/dewline/dewline/metrics"
 )
 
@@ -67,18 +66,22 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	}
 	log := e.log
 
-	// Output file first: a bad path fails before any work.
+	// Output file first: a bad path fails before any work. It is written
+	// aside and put in place only when the run succeeds.
 	var hw *ingest.HourlyWriter
-	var outFile *os.File
+	var outFile *outfile.File
 	if *out != "" {
 		format, err := ingest.FormatFor(*out)
 		if err != nil {
 			return usagef("--out: %v", err)
 		}
-		if outFile, err = os.Create(*out); err != nil {
+		if err := outfile.RefuseInputs("--out", *out, append([]string{*cfgPath, cfg.StorePath(), cfg.StatePath()}, inputs...)...); err != nil {
+			return usagef("%v", err)
+		}
+		if outFile, err = outfile.Create(*out); err != nil {
 			return fmt.Errorf("--out: %w", err)
 		}
-		defer outFile.Close()
+		defer outFile.Abort()
 		if hw, err = ingest.NewHourlyWriter(outFile, format); err != nil {
 			return err
 		}
@@ -129,11 +132,8 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	var trs []metrics.Transition
 	flush := func(ctx context.Context) error {
 		if st != nil && !*noStore {
-			if err := st.PutHourly(ctx, batch); err != nil {
-				return fmt.Errorf("write results: %w", err)
-			}
-			if err := st.PutTransitions(ctx, trs); err != nil {
-				return fmt.Errorf("write alerts: %w", err)
+			if err := st.PutResults(ctx, batch, trs); err != nil {
+				return fmt.Errorf("write results and alerts: %w", err)
 			}
 		}
 		batch, trs = batch[:0], trs[:0]
@@ -163,8 +163,8 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 			runErr = err
 		}
 	}
-	if hw != nil {
-		if err := hw.Close(); err != nil && runErr == nil {
+	if hw != nil && runErr == nil {
+		if err := hw.Close(); err != nil {
 			runErr = fmt.Errorf("write %s: %w", *out, err)
 		}
 	}
@@ -185,6 +185,11 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	if hours == 0 {
 		return fmt.Errorf("no hours to analyse: the inputs hold no data for the configured points in the period")
 	}
+	if outFile != nil {
+		if _, err := outFile.Commit(); err != nil {
+			return err
+		}
+	}
 	log.Info().Int("hours", hours).Dur("took", time.Since(start)).Int("failed", len(failed)).Msg("analysis done")
 	return agent.WriteSummaries(e.stdout, cfg, ahus, sums)
 }
@@ -199,12 +204,19 @@ func reportInputs(log zerolog.Logger, files *csvfile.Files, rh *ingest.RecordHou
 			log.Warn().Str("file", r.Name()).Str("rejected", rej.String()).Msg("row rejected")
 		}
 	}
-	names := make([]string, 0, len(rh.Unmatched))
-	for n := range rh.Unmatched {
-		names = append(names, n)
+	if ru := rh.RowUnits; ru != nil {
+		if ru.Converted > 0 {
+			log.Info().Int("values", ru.Converted).Msg("values converted from the unit their row states")
+		}
+		if ru.Rejected > 0 {
+			ev := log.Warn().Int("rows", ru.Rejected)
+			if len(ru.Examples) > 0 {
+				ev = ev.Str("example", ru.Examples[0].String())
+			}
+			ev.Msg("rows rejected: their unit is not of the point's kind; correct the unit column")
+		}
 	}
-	sort.Strings(names)
-	for _, n := range names {
-		log.Debug().Str("series", n).Int("records", rh.Unmatched[n]).Msg("series not mapped to any air handler")
+	if u := rh.Unmatched.Summary(unmatchedExamples); u != "" {
+		log.Info().Str("unmatched", u).Msg("series not mapped to any air handler")
 	}
 }

@@ -6,8 +6,6 @@ import (
 	"flag"
 	"fmt"
 	"io"
-	"sort"
-	"strings"
 	"time"
 
 	"github.com/dewline/dewline/ingest"
@@ -57,7 +55,8 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 			return err
 		}
 		defer files.Close()
-		unmatched := map[string]int{}
+		var unmatched ingest.Unmatched
+		rowUnits := ingest.NewRowUnits(ix)
 		for {
 			rec, err := files.Next()
 			if errors.Is(err, io.EOF) {
@@ -68,15 +67,18 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 			}
 			pc, ok := checks[rec.Series]
 			if !ok {
-				unmatched[rec.Series]++
+				unmatched.Add(rec.Series)
 				continue
 			}
-			if pc.N == 0 {
-				if err := ix.CheckUnit(rec); err != nil {
-					return err
-				}
+			ru, ok, err := rowUnits.Check(rec)
+			if err != nil {
+				return err
 			}
-			pc.Add(rec.Time, rec.Value)
+			if !ok {
+				continue // counted in rowUnits
+			}
+			t0 := pc.Targets[0]
+			pc.Add(rec.Time, t0.Unit.FromSI(ru.ToSI(t0, rec.Value)))
 		}
 		for _, r := range files.Readers() {
 			s := r.Stats()
@@ -85,13 +87,9 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 				fmt.Fprintf(e.stdout, "  rejected: %s\n", ex.String())
 			}
 		}
-		if len(unmatched) > 0 {
-			names := make([]string, 0, len(unmatched))
-			for n := range unmatched {
-				names = append(names, fmt.Sprintf("%q", n))
-			}
-			sort.Strings(names)
-			fmt.Fprintf(e.stdout, "series in the files that no air handler maps: %s\n", strings.Join(names, ", "))
+		printRowUnits(e.stdout, rowUnits)
+		if u := unmatched.Summary(unmatchedExamples); u != "" {
+			fmt.Fprintf(e.stdout, "%s; map them under air_handlers[].points if they are needed\n", u)
 		}
 	} else {
 		to := time.Now()

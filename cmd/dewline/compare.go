@@ -14,6 +14,7 @@ import (
 	"time"
 
 	"github.com/dewline/dewline/dashboards"
+	"github.com/dewline/dewline/ingest/outfile"
 	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/metrics/compare"
 )
@@ -64,6 +65,9 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
+	if err := outfile.RefuseInputs("-o", *out, *cfgPath, cfg.StorePath(), cfg.StatePath()); err != nil {
+		return usagef("%v", err)
+	}
 	before, err := parsePeriodFlag("--before", *beforeS, cfg.Location)
 	if err != nil {
 		return err
@@ -106,7 +110,7 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 		printComparison(e.stdout, c, display)
 	}
 	if *out != "" {
-		if err := os.WriteFile(*out, page.Bytes(), 0o644); err != nil {
+		if err := outfile.WriteBytes(*out, page.Bytes()); err != nil {
 			return fmt.Errorf("-o: %w", err)
 		}
 		e.log.Info().Str("path", *out).Int("bytes", page.Len()).Msg("comparison written")

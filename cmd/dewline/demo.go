@@ -8,9 +8,11 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"strings"
 	"time"
 
 	"github.com/dewline/dewline/deploy/demo"
+	"github.com/dewline/dewline/ingest/outfile"
 )
 
 func runDemo(ctx context.Context, e *env, args []string) error {
@@ -20,16 +22,23 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 	days := fs.Int("days", demo.DefaultDays, fmt.Sprintf("length of the scenario, %d to %d days", demo.MinDays, demo.MaxDays))
 	noServe := fs.Bool("no-serve", false, "exit after writing the report instead of serving the dashboard")
 	listen := fs.String("listen", "127.0.0.1:9470", "where the dashboard listens (loopback)")
+	force := fs.Bool("force", false, "write into --dir even when it holds files the demo did not write (they may be replaced)")
 	fs.Usage = func() {
-		fmt.Fprintln(fs.Output(), "usage: dewline demo [--dir dewline-demo] [--seed 1] [--days 21] [--no-serve] [--listen 127.0.0.1:9470]")
+		fmt.Fprintln(fs.Output(), "usage: dewline demo [--dir dewline-demo] [--force] [--seed 1] [--days 21] [--no-serve] [--listen 127.0.0.1:9470]")
 		fmt.Fprintln(fs.Output(), "Generates an invented building's trend exports, imports and analyses them, writes the report and serves the dashboard.")
 		fs.PrintDefaults()
 	}
 	if err := parseFlags(fs, args, e.stdout); err != nil {
 		return err
 	}
+	if err := demoDirFree(*dir, *force); err != nil {
+		return err
+	}
 	if *days < demo.MinDays || *days > demo.MaxDays {
 		return usagef("--days %d: choose %d to %d", *days, demo.MinDays, demo.MaxDays)
+	}
+	if err := markDemoDir(*dir); err != nil {
+		return err
 	}
 	w := e.stdout
 	start := time.Now()
@@ -84,4 +93,42 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 	}
 	defer st.Close()
 	return serveDashboard(ctx, e, cfg, st, *listen)
+}
+
+// demoMarker marks a folder the demo wrote; the demo writes into such a
+// folder again without --force.
+const demoMarker = ".dewline-demo"
+
+// demoDirFree refuses a --dir that holds anything but an earlier demo's
+// files (a real site's configuration, store or exports would be replaced),
+// unless force.
+func demoDirFree(dir string, force bool) error {
+	entries, err := os.ReadDir(dir)
+	switch {
+	case errors.Is(err, os.ErrNotExist):
+	case err != nil:
+		return fmt.Errorf("--dir %s: %w", dir, err)
+	case len(entries) > 0 && !force:
+		if _, err := os.Stat(filepath.Join(dir, demoMarker)); err != nil {
+			var names []string
+			for _, e := range entries[:min(3, len(entries))] {
+				names = append(names, e.Name())
+			}
+			more := ""
+			if len(entries) > 3 {
+				more = fmt.Sprintf(" and %d more", len(entries)-3)
+			}
+			return usagef("--dir %s already holds files the demo did not write (%s%s): the demo would replace a configuration, store or exports of that name; choose an empty or new folder, or add --force",
+				dir, strings.Join(names, ", "), more)
+		}
+	}
+	return nil
+}
+
+// markDemoDir creates dir and marks it as the demo's.
+func markDemoDir(dir string) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return fmt.Errorf("--dir %s: %w", dir, err)
+	}
+	return outfile.WriteBytes(filepath.Join(dir, demoMarker), []byte("written by dewline demo: \"dewline demo --dir\" may write here again\n"))
 }

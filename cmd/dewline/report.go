@@ -5,7 +5,6 @@ import (
 	"context"
 	"flag"
 	"fmt"
-	"os"
 	"path/filepath"
 	"strings"
 	"time"
@@ -13,6 +12,7 @@ import (
 	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/dashboards"
 	"github.com/dewline/dewline/dashboards/pdf"
+	"github.com/dewline/dewline/ingest/outfile"
 )
 
 // reportDays is the default length of a report: the last 30 days with results.
@@ -55,6 +55,13 @@ func runReport(ctx context.Context, e *env, args []string) error {
 	cfg, err := loadConfig(*cfgPath)
 	if err != nil {
 		return err
+	}
+	inputs := []string{*cfgPath, cfg.StorePath(), cfg.StatePath()}
+	if err := outfile.RefuseInputs("-o", out, inputs...); err != nil {
+		return usagef("%v", err)
+	}
+	if err := outfile.RefuseInputs("--pdf-out", *pdfOut, append(inputs, out)...); err != nil {
+		return usagef("%v", err)
 	}
 	loc := cfg.Location
 	from, _, err := reportBound("--from", *fromS, loc)
@@ -122,7 +129,7 @@ func runReport(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return fmt.Errorf("build the report: %w", err)
 	}
-	n, err := writeFileAtomic(out, func(w *bufio.Writer) error { return rep.WriteHTML(w) })
+	n, err := outfile.Write(out, func(w *bufio.Writer) error { return rep.WriteHTML(w) })
 	if err != nil {
 		return err
 	}
@@ -145,7 +152,7 @@ func runReport(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	if _, err := writeFileAtomic(dst, func(w *bufio.Writer) error { _, err := w.Write(buf); return err }); err != nil {
+	if _, err := outfile.Write(dst, func(w *bufio.Writer) error { _, err := w.Write(buf); return err }); err != nil {
 		return err
 	}
 	pages := pdf.Pages(buf)
@@ -187,50 +194,6 @@ func reportNotes(cfg *config.Config) []dashboards.Assumption {
 		notes = append(notes, dashboards.Assumption{Topic: "Time grid", Text: "Readings aligned on a " + fmtStep(step) + " grid; a logged value holds until the next one, at most its point's stale limit."})
 	}
 	return notes
-}
-
-// writeFileAtomic writes path through a temporary file in the same folder
-// and renames it into place, so a reader never sees half a file.
-func writeFileAtomic(path string, fill func(*bufio.Writer) error) (int64, error) {
-	dir := filepath.Dir(path)
-	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".*.tmp")
-	if err != nil {
-		return 0, fmt.Errorf("write %s: %w", path, err)
-	}
-	done := false
-	defer func() {
-		if !done {
-			_ = tmp.Close()
-			_ = os.Remove(tmp.Name())
-		}
-	}()
-	w := bufio.NewWriterSize(tmp, 1<<16)
-	if err := fill(w); err != nil {
-		return 0, fmt.Errorf("write %s: %w", path, err)
-	}
-	if err := w.Flush(); err != nil {
-		return 0, fmt.Errorf("write %s: %w", path, err)
-	}
-	if err := tmp.Chmod(0o644); err != nil {
-		return 0, fmt.Errorf("write %s: %w", path, err)
-	}
-	if err := tmp.Sync(); err != nil {
-		return 0, fmt.Errorf("write %s: %w", path, err)
-	}
-	info, err := tmp.Stat()
-	if err != nil {
-		return 0, fmt.Errorf("write %s: %w", path, err)
-	}
-	if err := tmp.Close(); err != nil {
-		return 0, fmt.Errorf("write %s: %w", path, err)
-	}
-	if err := os.Rename(tmp.Name(), path); err != nil {
-		_ = os.Remove(tmp.Name())
-		done = true
-		return 0, fmt.Errorf("write %s: %w", path, err)
-	}
-	done = true
-	return info.Size(), nil
 }
 
 // fmtStep writes a grid step as "1 min" or "30 s".

@@ -60,6 +60,16 @@ func runServe(ctx context.Context, e *env, args []string) error {
 	return serveDashboard(ctx, e, cfg, st, addr)
 }
 
+// storeProbeEvery is how often serve checks that its store still answers.
+const storeProbeEvery = 5 * time.Second
+
+func errText(err error) string {
+	if err == nil {
+		return ""
+	}
+	return err.Error()
+}
+
 // serveDashboard serves the dashboard with the agent's HTTP server (health,
 // readiness, metrics, security headers, token) until ctx ends.
 func serveDashboard(ctx context.Context, e *env, cfg *config.Config, st *stores, addr string) error {
@@ -72,13 +82,40 @@ func serveDashboard(ctx context.Context, e *env, cfg *config.Config, st *stores,
 		return err
 	}
 	tel := telemetry.NewTelemetry()
-	tel.SetStoreUp(true, "")
-	pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
-	if err := st.Ping(pctx); err != nil {
-		tel.SetStoreUp(false, err.Error())
-		e.log.Warn().Err(err).Msg("the store does not answer yet; the pages will say so until it does")
+	// /readyz follows the store: checked now and every storeProbeEvery.
+	probe := func() error {
+		pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
+		defer cancel()
+		return st.Ping(pctx)
 	}
-	cancel()
+	up := true
+	report := func(err error) {
+		tel.SetStoreUp(err == nil, errText(err))
+		switch {
+		case err != nil && up:
+			e.log.Warn().Err(err).Msg("the store does not answer; /readyz says so until it does")
+		case err == nil && !up:
+			e.log.Info().Msg("the store answers again")
+		}
+		up = err == nil
+	}
+	report(probe())
+	probed := make(chan struct{})
+	loopCtx, stopProbe := context.WithCancel(ctx)
+	go func() {
+		defer close(probed)
+		tick := time.NewTicker(storeProbeEvery)
+		defer tick.Stop()
+		for {
+			select {
+			case <-loopCtx.Done():
+				return
+			case <-tick.C:
+				report(probe())
+			}
+		}
+	}()
+	defer func() { stopProbe(); <-probed }()
 	log := e.log.With().Str("component", "http").Logger()
 	srv, err := server.NewServer(server.ServerOptions{Listen: addr, BearerToken: token, Telemetry: tel, Pages: pages, Log: log})
 	if err != nil {

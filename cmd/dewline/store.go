@@ -51,6 +51,9 @@ func openStore(ctx context.Context, cfg *config.Config, readOnly bool, log zerol
 			return nil, fmt.Errorf("open the embedded store: %w", err)
 		}
 		log.Debug().Str("store", "embedded").Str("path", s.Path()).Msg("store opened")
+		if s.Immutable() {
+			log.Warn().Str("path", s.Path()).Msg("the store's folder is read-only: its results are read as they are now; restart to show later ones")
+		}
 		return &stores{embedded.NewBackend(s, payload)}, nil
 	}
 }

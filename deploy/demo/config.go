@@ -2,10 +2,11 @@ package demo
 
 import (
 	"fmt"
-	"os"
 	"strconv"
 	"strings"
 	"time"
+
+	"github.com/dewline/dewline/ingest/outfile"
 )
 
 // Invented prices and emission factors of the scenario (USD).
@@ -103,7 +104,7 @@ func writeConfig(path string, g *generator, sc *Scenario) error {
 			}
 		}
 	}
-	if err := os.WriteFile(path, []byte(b.String()), 0o644); err != nil {
+	if err := outfile.WriteBytes(path, []byte(b.String())); err != nil {
 		return fmt.Errorf("demo: write configuration: %w", err)
 	}
 	return nil

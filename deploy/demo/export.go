@@ -14,6 +14,7 @@ import (
 	"sync"
 	"time"
 
+	"github.com/dewline/dewline/ingest/outfile"
 	"github.com/dewline/dewline/psychro"
 )
 
@@ -30,7 +31,7 @@ type pointLog struct {
 type exportFile struct {
 	name   string
 	path   string
-	f      *os.File
+	f      *outfile.File // written aside, put in place by close
 	zw     *gzip.Writer
 	w      *bufio.Writer
 	buf    []byte
@@ -45,7 +46,7 @@ const flushAt = 64 << 10
 
 func (e *exportFile) open(dir string) error {
 	e.path = filepath.Join(dir, e.name)
-	f, err := os.Create(e.path)
+	f, err := outfile.Create(e.path)
 	if err != nil {
 		return fmt.Errorf("demo: create export: %w", err)
 	}
@@ -86,14 +87,25 @@ func (e *exportFile) close() error {
 			err = cerr
 		}
 	}
-	if cerr := e.f.Close(); err == nil {
-		err = cerr
+	if err == nil {
+		_, err = e.f.Commit()
+	} else {
+		e.f.Abort()
 	}
 	e.f = nil
 	if err != nil {
 		return fmt.Errorf("demo: write %s: %w", e.path, err)
 	}
 	return nil
+}
+
+// abort drops an export that is still open: after a failure, nothing
+// half-written takes the place of a previous file.
+func (e *exportFile) abort() {
+	if e.f != nil {
+		e.f.Abort()
+		e.f = nil
+	}
 }
 
 // clock is the local calendar of every minute, shared by the writers.
@@ -163,7 +175,7 @@ func (g *generator) run(dir string, sc *Scenario) error {
 	}
 	wg.Wait()
 	for _, f := range files {
-		_ = f.close() // after a failure, close what is open
+		f.abort() // after a failure, drop what is open
 	}
 	if err := errors.Join(errs...); err != nil {
 		return err

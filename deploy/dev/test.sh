@@ -38,6 +38,7 @@ FUZZ_TARGETS=(
 	"./psychro FuzzState"
 	"./agent/config FuzzParseConfig"
 	"./ingest/csvfile FuzzReader"
+	"./ingest/csvfile FuzzReaderLines"
 	"./ingest/influx FuzzFluxString"
 )
 

@@ -9,8 +9,9 @@
 // conversion. Record.Unit carries the unit the file states for the series
 // ("" when it states none), as written: from a second header row of units,
 // from the column header ("Supply Temp (°F)", "SAT [degC]", "Flow, CFM"), or
-// from a unit column in the long layout. Convert with psychro.LookupUnit
-// once per series. Times are instants (time.Time) in Options.Location, or
+// from a unit column in the long layout, where it may change from row to
+// row: convert each record with its own Unit (ingest.RowUnits does), never
+// with the unit of a series' first record. Times are instants (time.Time) in Options.Location, or
 // UTC when no Location is set.
 //
 // # What it detects
@@ -89,12 +90,20 @@
 // a *FileError naming the file, what was found and the fix: empty files,
 // Excel workbooks (.xlsx is a ZIP archive; old .xls), HTML pages saved in
 // place of an export, XML, PDF, binary data, no delimiter, no header, no
-// time column, unrecognised timestamps, unresolvable day/month order or
+// time column, unrecognised timestamps, a first data row that does not end
+// within the 128 KiB head (ErrRowTooLong), unresolvable day/month order or
 // decimal separator, duplicate or empty column names. Problems with single
 // rows never stop reading: malformed quotes, wrong field counts, a
 // truncated last line, unparseable or skipped-hour times and bad cells are
 // counted in Stats.Rejected by Reason, and the first MaxExamples are kept
-// with their line numbers. Which columns mean what (supply temperature,
+// with their line numbers.
+//
+// A quoted field may hold line breaks for up to 16 lines. A quote that
+// does not close by then, or by the end of the input, rejects only the
+// first line of its record (ReasonOpenQuote): reading resumes on the next
+// line, so a stray quote costs one row. Every physical line is accounted
+// for: Stats.HeaderLines + Blank + Rows + Continued equals the lines of the
+// file, and each row is kept or counted in Stats.RowsRejected. Which columns mean what (supply temperature,
 // reheat kW) is not this package's concern: callers map series names.
 //
 // # Streaming and speed

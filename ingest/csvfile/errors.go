@@ -17,6 +17,7 @@ var (
 	ErrNeedLocation     = errors.New("timestamps have no UTC offset")
 	ErrAmbiguousDate    = errors.New("day and month order cannot be told")
 	ErrAmbiguousDecimal = errors.New("decimal separator cannot be told")
+	ErrRowTooLong       = errors.New("data row too long to detect the format")
 	ErrRead             = errors.New("read error")
 )
 

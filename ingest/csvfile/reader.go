@@ -151,6 +151,10 @@ func NewReader(src io.Reader, name string, opt Options) (*Reader, error) {
 			return nil, &FileError{File: name, Err: ErrRead, Cause: err}
 		}
 	}
+	r.stats.HeaderLines = r.sp.nl
+	if r.skip > 0 && r.sp.noNL {
+		r.stats.HeaderLines++ // the header is the last line, without a line break
+	}
 	r.fast = r.layout == LayoutWide && r.dateIdx < 0 && r.timeIdx == 0 && r.ncols == len(r.cols)+1
 	r.sp.lazy = r.fast
 	if r.layout == LayoutLong {
@@ -329,8 +333,13 @@ func (r *Reader) row() {
 		r.stats.Rows++
 		r.reject(ReasonTooLong, "", nil)
 		return
+	case recOpenQuote:
+		r.stats.Rows++
+		r.reject(ReasonOpenQuote, "", nil)
+		return
 	}
 	r.stats.Rows++
+	r.stats.Continued += r.sp.lines() - 1
 	f := r.sp.fields
 	if len(f) != r.ncols {
 		if len(f) < r.ncols {
@@ -610,6 +619,9 @@ func (r *Reader) reject(reason Reason, col string, b []byte) {
 		r.stats.Rejected = make(map[Reason]int)
 	}
 	r.stats.Rejected[reason]++
+	if col == "" {
+		r.stats.RowsRejected++
+	}
 	if len(r.stats.Examples) >= MaxExamples {
 		return
 	}

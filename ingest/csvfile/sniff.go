@@ -406,6 +406,12 @@ func (r *Reader) sniff(head []byte, atEOF bool) (needPass bool, err error) {
 		return false, fe(ErrTimeFormat, hdr.line, fmt.Sprintf("column %q is empty in the first rows", r.det.TimeColumn),
 			"check the time column, or set Options.TimeColumn")
 	}
+	if g.n == 0 && !atEOF && !hasData(data) {
+		// The file goes on, but no data row ends within the head: the
+		// timestamps cannot be detected, and every row would be rejected.
+		return false, fe(ErrRowTooLong, hdr.line+1, fmt.Sprintf("no data row ends within the first %d KiB after the header", bufSize>>10),
+			"detection needs one whole data row in the first 128 KiB: export fewer points per file, or check that rows end with line breaks")
+	}
 	if g.n == 0 {
 		// A header and no data in the head: nothing to read, and nothing
 		// to detect the form from. Rows that turn up anyway are rejected.

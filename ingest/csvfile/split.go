@@ -10,16 +10,26 @@ import (
 type recStatus uint8
 
 const (
-	recOK      recStatus = iota
-	recBlank             // a line of nothing but spaces
-	recEOF               // end of input
-	recQuotes            // malformed or unterminated quotes
-	recTooLong           // longer than maxRecordBytes; skipped to the next line
+	recOK        recStatus = iota
+	recBlank               // a line of nothing but spaces
+	recEOF                 // end of input
+	recQuotes              // malformed or unterminated quotes
+	recTooLong             // longer than maxRecordBytes; skipped to the next line
+	recOpenQuote           // a quote not closed within maxRecordLines lines (or before the end): the record's first line is dropped and reading resumes on the next
 )
 
 // maxRecordBytes bounds one record, so that a runaway quote or a file with
 // no line breaks cannot make the reader hold the whole input.
 const maxRecordBytes = 1 << 20
+
+// maxRecordLines bounds the physical lines one record may span through
+// line breaks inside quotes. A stray quote would otherwise join every line
+// after it into one field up to maxRecordBytes; past this many lines (or at
+// the end of the input) the record's first line is rejected and reading
+// resumes on its second line. Trend exports put line breaks inside quotes
+// only in comment fields, and rarely more than a few (common practice, no
+// source).
+const maxRecordLines = 16
 
 // splitter cuts a stream into records of fields, RFC 4180 style: fields may
 // be quoted, and quoted fields may hold delimiters, doubled quotes and line
@@ -44,6 +54,12 @@ type splitter struct {
 	fullErr error
 	buf     []byte
 	ends    []int
+
+	// Resynchronisation after a quote that does not close: the bytes of
+	// the current record as read (general path only), and the lines read
+	// past its first one, handed out again before br.
+	seen []byte
+	pend []byte
 }
 
 func newSplitter(br *bufio.Reader, delim byte) *splitter {
@@ -57,7 +73,7 @@ func (s *splitter) next() (recStatus, error) {
 	s.noNL = false
 	s.raw = nil
 	s.pendSp = false
-	line, err := s.br.ReadSlice('\n')
+	line, err := s.readSlice()
 	switch err {
 	case nil:
 		s.nl++
@@ -95,6 +111,32 @@ func (s *splitter) next() (recStatus, error) {
 		s.cut()
 	}
 	return recOK, nil
+}
+
+// readSlice is bufio.Reader.ReadSlice('\n') on the lines handed back by a
+// resynchronisation, then on br. A piece of pend without a line break is
+// returned with bufio.ErrBufferFull: the rest of its line follows from br.
+func (s *splitter) readSlice() ([]byte, error) {
+	if len(s.pend) > 0 {
+		if i := bytes.IndexByte(s.pend, '\n'); i >= 0 {
+			line := s.pend[:i+1]
+			s.pend = s.pend[i+1:]
+			return line, nil
+		}
+		line := s.pend
+		s.pend = nil
+		return line, bufio.ErrBufferFull
+	}
+	return s.br.ReadSlice('\n')
+}
+
+// lines is the number of physical lines the current record spans.
+func (s *splitter) lines() int {
+	n := s.nl - s.start + 1
+	if s.noNL {
+		n++
+	}
+	return n
 }
 
 // split finishes a line that next left whole in lazy mode: a line without
@@ -148,6 +190,7 @@ func trimSpace(b []byte) []byte {
 func (s *splitter) general(chunk []byte, err error) (recStatus, error) {
 	s.buf = s.buf[:0]
 	s.ends = s.ends[:0]
+	s.seen = append(s.seen[:0], chunk...)
 	var (
 		inQ        bool // inside a quoted field
 		qPend      bool // a quote closed at the very end of a chunk: maybe the first of a doubled pair
@@ -218,22 +261,29 @@ func (s *splitter) general(chunk []byte, err error) (recStatus, error) {
 		if err == io.EOF {
 			s.noNL = true
 			if inQ && !qPend {
-				return s.fail(recQuotes), nil
+				return s.unclosed(), nil
 			}
 			return s.finish(sawQuote, bad)
 		}
 		if len(s.buf) > maxRecordBytes {
+			if s.nl >= s.start {
+				return s.unclosed(), nil // the record has a line break: resume on its second line
+			}
 			s.fail(recTooLong)
 			return s.skipLine(err)
 		}
-		chunk, err = s.br.ReadSlice('\n')
+		if inQ && s.nl-s.start+1 >= maxRecordLines {
+			return s.unclosed(), nil
+		}
+		chunk, err = s.readSlice()
+		s.seen = append(s.seen, chunk...)
 		switch err {
 		case nil, bufio.ErrBufferFull:
 		case io.EOF:
 			if len(chunk) == 0 {
 				s.noNL = true
 				if inQ && !qPend {
-					return s.fail(recQuotes), nil
+					return s.unclosed(), nil
 				}
 				if qPend {
 					afterQ = true
@@ -246,12 +296,45 @@ func (s *splitter) general(chunk []byte, err error) (recStatus, error) {
 	}
 }
 
+// unclosed rejects a record whose quote did not close within
+// maxRecordLines lines or before the end of the input. Only its first
+// physical line is rejected: the lines read after it are handed out again,
+// so that one stray quote costs one row, not every row up to the limit.
+// A single line cut by the end of the input is a truncated last line.
+func (s *splitter) unclosed() recStatus {
+	if bytes.IndexByte(s.seen, '\n') < 0 {
+		s.noNL = true
+		return s.fail(recQuotes)
+	}
+	return s.resync(recOpenQuote)
+}
+
+// resync rejects the first physical line of the current record with st
+// and hands the lines read after it out again.
+func (s *splitter) resync(st recStatus) recStatus {
+	first := s.seen
+	if i := bytes.IndexByte(s.seen, '\n'); i >= 0 {
+		first = s.seen[:i+1]
+		if rest := s.seen[i+1:]; len(rest) > 0 {
+			// rest was read from pend's front or from br: it goes back
+			// ahead of what pend still holds.
+			s.pend = append(append(make([]byte, 0, len(rest)+len(s.pend)), rest...), s.pend...)
+		}
+		// The record is its first line, which ends with a line break.
+		s.nl = s.start
+		s.noNL = false
+	}
+	s.fields = s.fields[:0]
+	s.raw = first[:min(len(first), 80)]
+	return st
+}
+
 // skipLine drops the rest of the current physical line after a record grew
 // too long.
 func (s *splitter) skipLine(err error) (recStatus, error) {
 	for err == bufio.ErrBufferFull {
 		var chunk []byte
-		chunk, err = s.br.ReadSlice('\n')
+		chunk, err = s.readSlice()
 		if err == nil && len(chunk) > 0 {
 			s.nl++
 			return recTooLong, nil
@@ -275,6 +358,9 @@ func (s *splitter) fail(st recStatus) recStatus {
 
 func (s *splitter) finish(sawQuote, bad bool) (recStatus, error) {
 	if bad {
+		if s.lines() > 1 {
+			return s.resync(recQuotes), nil // a line break inside the bad quotes: resume on the record's second line
+		}
 		return s.fail(recQuotes), nil
 	}
 	if !sawQuote && len(s.ends) == 0 && len(trimSpace(s.buf)) == 0 {

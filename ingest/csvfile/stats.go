@@ -15,6 +15,7 @@ const (
 	ReasonFieldCount Reason = "wrong field count"
 	ReasonTruncated  Reason = "truncated last line"
 	ReasonQuotes     Reason = "malformed quotes"
+	ReasonOpenQuote  Reason = "quote not closed (reading resumed on the next line)"
 	ReasonTooLong    Reason = "line too long"
 	ReasonBadTime    Reason = "unparseable time"
 	ReasonNoOffset   Reason = "time without UTC offset"
@@ -60,12 +61,23 @@ type DST struct {
 }
 
 // Stats counts what a Reader did with its file.
+//
+// Every physical line of a file is accounted for:
+//
+//	HeaderLines + Blank + Rows + Continued = lines of the file
+//
+// and every data row is either rejected whole (RowsRejected, with its line
+// among Examples while they last) or kept, its cells turned into records,
+// missing values or rejected cells.
 type Stats struct {
-	Rows     int // data rows read (header, unit row, preamble and blank lines excluded)
-	Records  int // records returned
-	Missing  int // empty cells and missing-value markers ("NaN", "null", "---", ...): no record, no error
-	Booleans int // cells read as 1 or 0 from On/Off, True/False, Active/Inactive, Yes/No
-	Blank    int // blank lines skipped
+	HeaderLines  int // lines before the first data row: preamble, header, unit row
+	Rows         int // data rows read (header, unit row, preamble and blank lines excluded), each counted at its first line
+	RowsRejected int // data rows rejected whole (row reasons)
+	Continued    int // lines after the first of kept rows whose quoted fields hold line breaks
+	Records      int // records returned
+	Missing      int // empty cells and missing-value markers ("NaN", "null", "---", ...): no record, no error
+	Booleans     int // cells read as 1 or 0 from On/Off, True/False, Active/Inactive, Yes/No
+	Blank        int // blank lines skipped
 	// Rejected counts rejections by reason: rows for row reasons, cells for
 	// cell reasons.
 	Rejected map[Reason]int

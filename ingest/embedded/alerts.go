@@ -167,7 +167,11 @@ func (s *Store) ListAlerts(ctx context.Context, f AlertFilter) ([]AlertRow, erro
 }
 
 // AppendAlertEvent queues e for delivery and returns its sequence number.
-// The alert must have been put first (ErrUnknownAlert otherwise).
+// The alert must have been put first (ErrUnknownAlert otherwise). A
+// transition is recorded once: appending the same alert's same transition
+// again returns the first event's seq; while that event is undelivered its
+// time and payload are replaced, once delivered it is left alone, so a
+// re-analysis never queues a delivered event again.
 func (s *Store) AppendAlertEvent(ctx context.Context, e AlertEvent) (seq int64, err error) {
 	what := fmt.Sprintf("append %s event for alert %s", quote(e.Transition), quote(e.AlertID))
 	var p []string
@@ -199,14 +203,34 @@ func (s *Store) AppendAlertEvent(ctx context.Context, e AlertEvent) (seq int64, 
 		if err != nil {
 			return fmt.Errorf("look up alert: %w", err)
 		}
-		return tx.QueryRowContext(ctx, `INSERT INTO alert_events (alert_id, transition, at_ms, payload, delivered_ms)
-			VALUES (?, ?, ?, ?, ?) RETURNING seq`,
-			e.AlertID, e.Transition, toMs(e.At), payload, msOrNull(e.Delivered)).Scan(&seq)
+		seq, err = insertEvent(ctx, tx, e, payload)
+		return err
 	})
 	if err != nil {
 		return 0, err
 	}
 	return seq, nil
+}
+
+// upsertEventSQL inserts an event or, for a transition already recorded
+// and not yet delivered, refreshes its time and payload. The unique index
+// alert_events_once makes this hold across concurrent writers.
+const upsertEventSQL = `INSERT INTO alert_events (alert_id, transition, at_ms, payload, delivered_ms)
+	VALUES (?, ?, ?, ?, ?)
+	ON CONFLICT (alert_id, transition) DO UPDATE SET at_ms = excluded.at_ms, payload = excluded.payload
+	WHERE alert_events.delivered_ms IS NULL
+	RETURNING seq`
+
+// insertEvent records e once and returns its seq.
+func insertEvent(ctx context.Context, tx *sql.Tx, e AlertEvent, payload string) (int64, error) {
+	var seq int64
+	err := tx.QueryRowContext(ctx, upsertEventSQL, e.AlertID, e.Transition, toMs(e.At), payload, msOrNull(e.Delivered)).Scan(&seq)
+	if errors.Is(err, sql.ErrNoRows) {
+		// Already delivered: nothing changes.
+		err = tx.QueryRowContext(ctx, "SELECT seq FROM alert_events WHERE alert_id = ? AND transition = ?",
+			e.AlertID, e.Transition).Scan(&seq)
+	}
+	return seq, err
 }
 
 // PendingAlertEvents returns up to limit undelivered events, oldest first;

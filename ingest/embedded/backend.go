@@ -58,34 +58,27 @@ func (b *Backend) RecordImport(ctx context.Context, l store.ImportLog) error {
 		Rejected: l.Rejected, Started: l.Started, Finished: l.Finished})
 }
 
-// PutHourly writes records; re-writing an hour replaces it.
-func (b *Backend) PutHourly(ctx context.Context, recs []metrics.Record) error {
-	if len(recs) == 0 {
+// PutResults writes records, alerts and their webhook events in one
+// transaction (the same records the agent writes): a failure leaves no
+// hour stored without its alerts.
+func (b *Backend) PutResults(ctx context.Context, recs []metrics.Record, tr []metrics.Transition) error {
+	if len(recs) == 0 && len(tr) == 0 {
 		return nil
 	}
 	rows := make([]HourRow, 0, len(recs))
 	for i := range recs {
 		rows = append(rows, hourRow(&recs[i]))
 	}
-	return b.s.PutHourly(ctx, rows)
-}
-
-// PutTransitions records alert transitions as alerts and webhook events
-// (the same records the agent writes).
-func (b *Backend) PutTransitions(ctx context.Context, tr []metrics.Transition) error {
+	alerts := make([]AlertRow, 0, len(tr))
+	events := make([]AlertEvent, 0, len(tr))
 	for _, t := range tr {
 		row, ev, err := alertRecords(t, b.payload)
 		if err != nil {
 			return err
 		}
-		if err := b.s.PutAlert(ctx, row); err != nil {
-			return err
-		}
-		if _, err := b.s.AppendAlertEvent(ctx, ev); err != nil {
-			return err
-		}
+		alerts, events = append(alerts, row), append(events, ev)
 	}
-	return nil
+	return b.s.PutResults(ctx, rows, alerts, events)
 }
 
 // Results is the dashboard's read side of the file.
@@ -97,8 +90,9 @@ func (b *Backend) Agent(context.Context) (store.AgentStore, error) {
 	return &agentStore{s: b.s, payload: b.payload}, nil
 }
 
-// Ping answers at once: the file is open.
-func (b *Backend) Ping(context.Context) error { return nil }
+// Ping reports whether the file still answers: where it was opened, with
+// this binary's schema (Store.Check).
+func (b *Backend) Ping(ctx context.Context) error { return b.s.Check(ctx) }
 
 // IsOutage takes every error as the store's: the file holds no point of
 // its own that could fail alone.

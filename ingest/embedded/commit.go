@@ -47,23 +47,8 @@ func (s *Store) Commit(ctx context.Context, c Commit) error {
 	}
 	return s.write(ctx, what, func(tx *sql.Tx) error {
 		now := s.nowMs()
-		if err := s.putHourly(ctx, tx, c.Rows, now); err != nil {
+		if err := s.writeResults(ctx, tx, c.Rows, c.Alerts, c.Events, now); err != nil {
 			return err
-		}
-		for _, a := range c.Alerts {
-			if err := upsertAlert(ctx, tx, a, now); err != nil {
-				return fmt.Errorf("put alert %s: %w", quote(a.ID), err)
-			}
-		}
-		for _, e := range c.Events {
-			payload := "{}"
-			if len(e.Payload) > 0 {
-				payload = string(e.Payload)
-			}
-			if _, err := tx.ExecContext(ctx, `INSERT INTO alert_events (alert_id, transition, at_ms, payload, delivered_ms)
-				VALUES (?, ?, ?, ?, NULL)`, e.AlertID, e.Transition, toMs(e.At), payload); err != nil {
-				return fmt.Errorf("append event for %s: %w", quote(e.AlertID), err)
-			}
 		}
 		if c.States != nil {
 			if _, err := tx.ExecContext(ctx, "DELETE FROM alert_states WHERE ahu = ?", c.AHU); err != nil {
@@ -89,6 +74,52 @@ func (s *Store) Commit(ctx context.Context, c Commit) error {
 		}
 		return setCheckpoint(ctx, tx, c.AHU, c.Through, now)
 	})
+}
+
+// PutResults writes the hourly rows, alerts and alert events of an
+// analysis in one transaction: either the hours and their alerts land
+// together or nothing does, so a failure never leaves hours stored
+// without the alerts computed from them. Rows replace stored hours;
+// events are recorded once per alert transition (see AppendAlertEvent).
+func (s *Store) PutResults(ctx context.Context, rows []HourRow, alerts []AlertRow, events []AlertEvent) error {
+	what := fmt.Sprintf("put %d hourly rows and %d alert events", len(rows), len(events))
+	if err := validateHours(rows); err != nil {
+		return fmt.Errorf("%s: %w", what, err)
+	}
+	for _, a := range alerts {
+		if err := a.validate(); err != nil {
+			return fmt.Errorf("%s: alert %s: %w", what, quote(a.ID), err)
+		}
+	}
+	return s.write(ctx, what, func(tx *sql.Tx) error {
+		return s.writeResults(ctx, tx, rows, alerts, events, s.nowMs())
+	})
+}
+
+// writeResults writes hours, alerts and events inside tx.
+func (s *Store) writeResults(ctx context.Context, tx *sql.Tx, rows []HourRow, alerts []AlertRow, events []AlertEvent, now int64) error {
+	if err := s.putHourly(ctx, tx, rows, now); err != nil {
+		return err
+	}
+	for _, a := range alerts {
+		if err := upsertAlert(ctx, tx, a, now); err != nil {
+			return fmt.Errorf("put alert %s: %w", quote(a.ID), err)
+		}
+	}
+	for _, e := range events {
+		payload := "{}"
+		if len(e.Payload) > 0 {
+			if !json.Valid(e.Payload) {
+				return fmt.Errorf("event for %s: payload is not valid JSON: %w", quote(e.AlertID), ErrInvalid)
+			}
+			payload = string(e.Payload)
+		}
+		e.Delivered = time.Time{}
+		if _, err := insertEvent(ctx, tx, e, payload); err != nil {
+			return fmt.Errorf("append event for %s: %w", quote(e.AlertID), err)
+		}
+	}
+	return nil
 }
 
 // AlertStates returns the air handler's stored alert rule states by kind.

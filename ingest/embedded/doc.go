@@ -63,6 +63,9 @@
 //	  transition  TEXT, at_ms INTEGER
 //	  payload     TEXT                   JSON
 //	  delivered_ms INTEGER NULL          NULL until delivered; partial index on pending
+//	  UNIQUE (alert_id, transition)      (schema v4) a transition is recorded once; a
+//	                                     repeat refreshes an undelivered event, never
+//	                                     re-queues a delivered one
 //
 //	checkpoints   WITHOUT ROWID
 //	  ahu         TEXT PRIMARY KEY

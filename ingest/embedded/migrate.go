@@ -8,7 +8,7 @@ import (
 
 // SchemaVersion is the schema this binary writes and reads: the number of
 // steps in migrations. A file's version is its PRAGMA user_version.
-const SchemaVersion = 3
+const SchemaVersion = 4
 
 // applicationID marks the file as a dewline store in the SQLite header
 // (PRAGMA application_id, bytes 68-71; "dewl" in ASCII), so Open can tell a
@@ -40,7 +40,23 @@ var migrations = []migration{
 	{name: "initial schema", sql: schemaV1},
 	{name: "alert rule states", sql: schemaV2},
 	{name: "daily sums", sql: schemaV3},
+	{name: "one event per alert transition", sql: schemaV4},
 }
+
+// schemaV4 records each transition of an alert once: an alert (its id is
+// the air handler, the kind and the start hour) opens once and closes
+// once, so (alert_id, transition) is unique, and the webhook's event key
+// (alert id/transition) never names two events. Files written before kept
+// a repeat for every re-analysis of a period; the step keeps the first of
+// each, delivered when any of them was.
+const schemaV4 = `
+UPDATE alert_events SET delivered_ms = (
+	SELECT min(d.delivered_ms) FROM alert_events d
+	WHERE d.alert_id = alert_events.alert_id AND d.transition = alert_events.transition)
+WHERE delivered_ms IS NULL;
+DELETE FROM alert_events WHERE seq NOT IN (SELECT min(seq) FROM alert_events GROUP BY alert_id, transition);
+CREATE UNIQUE INDEX alert_events_once ON alert_events(alert_id, transition);
+`
 
 // schemaV3 keeps per air handler and local day the sums of the additive
 // hourly fields (metrics.AdditiveFields), so that a portfolio's month is

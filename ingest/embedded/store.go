@@ -3,6 +3,7 @@ package embedded
 import (
 	"context"
 	"database/sql"
+	"errors"
 	"fmt"
 	"net/url"
 	"os"
@@ -11,7 +12,7 @@ import (
 	"sync"
 	"time"
 
-	_ "modernc.org/sqlite" // registers the pure-Go "sqlite" database/sql driver
+	"modernc.org/sqlite" // registers the pure-Go "sqlite" database/sql driver
 )
 
 // driverName is the database/sql name modernc.org/sqlite registers.
@@ -42,11 +43,13 @@ type Options struct {
 // writes are serialised inside the process, and reads run in parallel with
 // them on their own pooled connections (WAL mode).
 type Store struct {
-	db       *sql.DB
-	path     string
-	readOnly bool
-	now      func() time.Time
-	zone     *time.Location // DayZone
+	db        *sql.DB
+	path      string
+	abs       string
+	readOnly  bool
+	immutable bool // read-only in a folder it cannot write: read as a snapshot
+	now       func() time.Time
+	zone      *time.Location // DayZone
 
 	// writeMu serialises this process's write transactions, so they queue
 	// in Go instead of meeting SQLite's lock and busy_timeout.
@@ -88,20 +91,32 @@ func open(ctx context.Context, path string, opt Options, steps []migration) (*St
 		opt.Now = time.Now
 	}
 
-	db, err := sql.Open(driverName, dsn(abs, opt))
+	db, err := sql.Open(driverName, dsn(abs, opt, false))
 	if err != nil {
 		return nil, fmt.Errorf("open store %s: %w", path, err)
 	}
-	s := &Store{db: db, path: path, readOnly: opt.ReadOnly, now: opt.Now, zone: opt.DayZone}
+	s := &Store{db: db, path: path, abs: abs, readOnly: opt.ReadOnly, now: opt.Now, zone: opt.DayZone}
 	// A ping opens the first connection, which runs the DSN's PRAGMAs: a
 	// file that is not SQLite fails here.
-	if err := db.PingContext(ctx); err != nil {
-		db.Close()
-		return nil, fmt.Errorf("open store %s: %w", path, err)
-	}
-	if opt.ReadOnly {
+	err = db.PingContext(ctx)
+	if err == nil && opt.ReadOnly {
 		err = checkVersion(ctx, db, len(steps))
-	} else {
+	}
+	if err != nil && opt.ReadOnly && cannotWriteBeside(err) {
+		// A WAL file needs its -shm beside it, which a reader creates when
+		// it is missing; in a folder this process cannot write it cannot,
+		// and no writer has the file open (it would have made the -shm).
+		// Read the file as it is: immutable.
+		db.Close()
+		if db, err = sql.Open(driverName, dsn(abs, opt, true)); err != nil {
+			return nil, fmt.Errorf("open store %s: %w", path, err)
+		}
+		s.db, s.immutable = db, true
+		if err = db.PingContext(ctx); err == nil {
+			err = checkVersion(ctx, db, len(steps))
+		}
+	}
+	if err == nil && !opt.ReadOnly {
 		err = migrate(ctx, db, steps)
 	}
 	if err != nil {
@@ -128,20 +143,60 @@ func open(ctx context.Context, path string, opt Options, steps []migration) (*St
 //   - busy_timeout: wait for another process's write lock;
 //   - _txlock=immediate: a write transaction takes the write lock at BEGIN,
 //     so it cannot fail half-way when a read lock cannot be upgraded.
-func dsn(abs string, opt Options) string {
+//
+// immutable (read-only only) tells SQLite the file cannot change, so it
+// needs no -shm: for a file in a folder the reader cannot write.
+func dsn(abs string, opt Options, immutable bool) string {
 	u := url.URL{Scheme: "file", Path: filepath.ToSlash(abs)}
 	q := "_busy_timeout=" + strconv.FormatInt(opt.BusyTimeout.Milliseconds(), 10) + "&_foreign_keys=1"
 	if opt.ReadOnly {
 		// No journal_mode: switching a file to WAL is a write.
 		q += "&mode=ro"
+		if immutable {
+			q += "&immutable=1"
+		}
 	} else {
 		q += "&_journal_mode=WAL&_synchronous=NORMAL&_txlock=immediate"
 	}
 	return u.String() + "?" + q
 }
 
+// cannotWriteBeside reports an SQLite error of a reader that could not
+// create the files beside a WAL database (SQLITE_READONLY or
+// SQLITE_CANTOPEN, with any extended code).
+func cannotWriteBeside(err error) bool {
+	var se *sqlite.Error
+	if !errors.As(err, &se) {
+		return false
+	}
+	code := se.Code() & 0xff
+	return code == 8 || code == 14 // SQLITE_READONLY, SQLITE_CANTOPEN
+}
+
 // Path returns the path the store was opened with.
 func (s *Store) Path() string { return s.path }
+
+// Immutable reports whether a read-only store is read as a snapshot
+// because its folder cannot be written (see Open): results written later
+// are seen after the store is opened again.
+func (s *Store) Immutable() bool { return s.immutable }
+
+// Check reports whether the store still answers: its file is where it was
+// opened and its header reads as this binary's schema. It is cheap enough
+// for a readiness probe (no table scan).
+func (s *Store) Check(ctx context.Context) error {
+	if _, err := os.Stat(s.abs); err != nil {
+		return fmt.Errorf("store %s: %w", s.path, err)
+	}
+	if err := checkVersion(ctx, s.db, len(migrations)); err != nil {
+		return fmt.Errorf("store %s: %w", s.path, err)
+	}
+	var n int
+	if err := s.db.QueryRowContext(ctx, "SELECT count(*) FROM (SELECT 1 FROM hourly LIMIT 1)").Scan(&n); err != nil {
+		return fmt.Errorf("store %s: %w", s.path, err)
+	}
+	return nil
+}
 
 // ReadOnly reports whether the store was opened read-only.
 func (s *Store) ReadOnly() bool { return s.readOnly }

@@ -54,20 +54,13 @@ func (b *Backend) WriteSamples(ctx context.Context, _ string, t ingest.PointTarg
 	return b.c.WriteSamples(ctx, t.Ref, t.Kind, samples)
 }
 
-// PutHourly writes records as dewline_hourly points; re-writing an hour replaces it.
-func (b *Backend) PutHourly(ctx context.Context, recs []metrics.Record) error {
-	if len(recs) == 0 {
+// PutResults writes records as dewline_hourly points and transitions as
+// dewline_alert points in one batch; re-writing an hour replaces it.
+func (b *Backend) PutResults(ctx context.Context, recs []metrics.Record, tr []metrics.Transition) error {
+	if len(recs) == 0 && len(tr) == 0 {
 		return nil
 	}
-	return b.c.WritePoints(ctx, HourlyPoints(recs))
-}
-
-// PutTransitions writes alert transitions as dewline_alert points.
-func (b *Backend) PutTransitions(ctx context.Context, tr []metrics.Transition) error {
-	if len(tr) == 0 {
-		return nil
-	}
-	return b.c.WritePoints(ctx, AlertPoints(tr))
+	return b.c.WritePoints(ctx, append(HourlyPoints(recs), AlertPoints(tr)...))
 }
 
 // Results reads results back: dewline_hourly pivoted into records, and the

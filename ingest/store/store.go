@@ -53,8 +53,11 @@ type SampleWriter interface {
 // re-writing an hour replaces it; alert transitions are kept as the agent
 // keeps them (and queued for the webhook where the store holds the queue).
 type ResultWriter interface {
-	PutHourly(ctx context.Context, recs []metrics.Record) error
-	PutTransitions(ctx context.Context, tr []metrics.Transition) error
+	// PutResults writes hourly records and the alert transitions computed
+	// from them together: a failure leaves no hour stored without its
+	// alerts. Re-writing an hour replaces it; a transition already
+	// recorded is not recorded again.
+	PutResults(ctx context.Context, recs []metrics.Record, tr []metrics.Transition) error
 }
 
 // ImportLogger is what a store may also offer: a log of the files imported.
