@@ -203,15 +203,20 @@ func judge(p *Point) *candidate {
 	if p.Unit == "" && st.unit != "" {
 		p.Unit = st.unit
 	}
-	// Which air handler.
+	if p.Unit == "" {
+		p.Unit = unitInName(p.Name)
+	}
+	// Which air handler: an equipment tag first. A reference to a part of
+	// the unit ("AHU_7_Cooling_Coil") also says what the point measures.
+	refWords := ""
 	if st.equip != "" {
-		if id, _ := equipID(st.equip); id != "" {
-			c.ahu = id
+		if id, rest := equipID(st.equip); id != "" {
+			c.ahu, refWords = id, rest
 		} else {
 			c.ahu = cleanRef(st.equip)
 		}
 	}
-	name := p.Name
+	name := p.Name + " " + refWords
 	if id, rest := equipID(name); id != "" {
 		if c.ahu == "" {
 			c.ahu = id
@@ -231,7 +236,7 @@ func judge(p *Point) *candidate {
 	var stdWhat string
 	switch {
 	case st.brick != "":
-		std = decide(readName(brickText(st.brick)).f)
+		std = decide(readName(brickText(st.brick) + " " + refWords).f)
 		stdWhat = "Brick class " + st.brick
 	case len(st.markers) > 0:
 		std = decide(readName(haystackText(st.markers)).f)
@@ -254,6 +259,13 @@ func judge(p *Point) *candidate {
 		}
 		if std.role == "" {
 			c.v.note = std.note + " (" + stdWhat + ")"
+		}
+	}
+	// A site-wide point (outdoor air) tagged with a weather station or the
+	// building rather than an air handler is shared.
+	if c.v.shared && st.equip != "" {
+		if id, _ := equipID(st.equip); id == "" {
+			c.ahu = ""
 		}
 	}
 	return c
@@ -388,4 +400,20 @@ func splitID(id string) (string, int) {
 		n = n*10 + int(r-'0')
 	}
 	return id[:i], n
+}
+
+// unitInName returns a unit a name spells out as a word ("SA-CFM",
+// "CMP-KW"), "" when none.
+func unitInName(name string) string {
+	for _, w := range splitWords(name) {
+		switch w {
+		case "cfm":
+			return "CFM"
+		case "kw":
+			return "kW"
+		case "lps":
+			return "L/s"
+		}
+	}
+	return ""
 }

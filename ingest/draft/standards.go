@@ -59,7 +59,7 @@ func readTags(tags map[string]string) standardTags {
 			for _, m := range strings.FieldsFunc(v, func(r rune) bool { return r == ' ' || r == ',' || r == ';' }) {
 				st.markers = append(st.markers, m)
 			}
-		case markerValues[strings.ToLower(v)] && !nameKeys[lk]:
+		case markerValues[strings.ToLower(v)] && lk != "id":
 			st.markers = append(st.markers, k)
 		case nameKeys[lk]:
 			st.names = append(st.names, v)
