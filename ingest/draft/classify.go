@@ -92,6 +92,10 @@ func decide(f feature) verdict {
 	if f&fGuess != 0 {
 		v.conf = Medium
 	}
+	if f&fDoubt != 0 {
+		v.conf = Low
+		v.evidence = append(v.evidence, "an abbreviation with two meanings")
+	}
 	coilLeaving := f&fLeaving != 0 && f&(fCoil|fCool) != 0 ||
 		f&fCoil != 0 && f&fSupply != 0 // "CC Discharge Temp", "DAT Coil"
 	entering := f&fMix != 0 || f&fEntering != 0

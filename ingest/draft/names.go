@@ -41,6 +41,7 @@ const (
 	fAmbigRH // "RH" that may mean reheat
 	fAmbigDP // "DP" that may mean differential pressure
 	fGuess   // the word was read by splitting an unknown run of letters
+	fDoubt   // the word has two common meanings (EAT: entering or exhaust air)
 )
 
 // words maps a lower-case word of a name to what it says. Abbreviations are
@@ -89,7 +90,7 @@ var compounds = map[string]feature{
 	"oat": fOutdoor | fTemp, "oarh": fOutdoor | fRH, "oadp": fOutdoor | fDew, "oah": fOutdoor | fRH, "osat": fOutdoor | fTemp, "oatemp": fOutdoor | fTemp,
 	"cclt": fCoil | fCool | fLeaving | fTemp, "ccdt": fCoil | fCool | fLeaving | fTemp, "cclat": fCoil | fCool | fLeaving | fTemp, "lat": fLeaving | fTemp, "lvgt": fLeaving | fTemp,
 	"ccdp": fCoil | fCool | fLeaving | fDew, "ccrh": fCoil | fCool | fLeaving | fRH, "ccet": fCoil | fCool | fEntering | fTemp,
-	"eat": fEntering | fTemp | fGuess, "zat": fSpace | fTemp, "znt": fSpace | fTemp, "rmt": fSpace | fTemp, "spt": fSetpt, "zntemp": fSpace | fTemp,
+	"eat": fEntering | fTemp | fDoubt, "zat": fSpace | fTemp, "znt": fSpace | fTemp, "rmt": fSpace | fTemp, "spt": fSetpt, "zntemp": fSpace | fTemp,
 	"zarh": fSpace | fRH, "znrh": fSpace | fRH, "rmrh": fSpace | fRH, "sprh": fSpace | fRH,
 	"sacfm": fSupply | fFlow, "saf": fSupply | fFlow, "safl": fSupply | fFlow, "daf": fSupply | fFlow, "oacfm": fOutdoor | fFlow, "oaf": fOutdoor | fFlow, "racfm": fReturn | fFlow,
 	"chwv": fCool | fChw | fValve, "chwvlv": fCool | fChw | fValve, "clgv": fCool | fValve, "ccv": fCool | fValve, "hwv": fHeat | fHotWat | fValve, "hwvlv": fHeat | fHotWat | fValve,
@@ -165,7 +166,8 @@ func splitWords(name string) []string {
 		case unicode.IsDigit(r) != unicode.IsDigit(p):
 			flush(i)
 			start = i
-		case unicode.IsUpper(r) && unicode.IsLower(p):
+		case unicode.IsUpper(r) && unicode.IsLower(p) && (i-start >= 2 || unicode.IsUpper(rs[start])):
+			// "ClgCoil" splits; "kW" stays one word.
 			flush(i)
 			start = i
 		case unicode.IsUpper(r) && unicode.IsUpper(p) && i+1 < len(rs) && unicode.IsLower(rs[i+1]) && i-start >= 2:

@@ -24,6 +24,8 @@ type Point struct {
 	Tags map[string]string
 	// Stats summarises the values.
 	Stats Stats
+
+	unitFrom string // where Unit came from when not the source: "name" or "tag"
 }
 
 // maxKept bounds the values and times a Stats keeps for its medians.

@@ -182,10 +182,21 @@ func Propose(points []Point, opt Options) *Proposal {
 			a.Mappings = append(a.Mappings, mapping(c, isShared && len(ids) > 1, prop.IP))
 		}
 		a.Missing = missing(a)
+		for _, m := range a.Mappings {
+			switch m.Unit {
+			case "°F":
+				nF++
+			case "°C":
+				nC++
+			}
+		}
 		if lv, su := a.Mapping(metrics.RoleLeavingTemp), a.Mapping(metrics.RoleSupplyTemp); lv != nil && su != nil && lv.Point == su.Point {
 			a.sameLvSu = true
 		}
 	}
+	// The display units follow the temperatures as mapped, units guessed
+	// from values included.
+	prop.IP = nF > nC
 	sort.SliceStable(prop.Unassigned, func(i, j int) bool {
 		a, b := prop.Unassigned[i], prop.Unassigned[j]
 		if a.AHU != b.AHU {
@@ -201,10 +212,12 @@ func judge(p *Point) *candidate {
 	st := readTags(p.Tags)
 	c := &candidate{p: p}
 	if p.Unit == "" && st.unit != "" {
-		p.Unit = st.unit
+		p.Unit, p.unitFrom = st.unit, "a unit tag"
 	}
 	if p.Unit == "" {
-		p.Unit = unitInName(p.Name)
+		if u := unitInName(p.Name); u != "" {
+			p.Unit, p.unitFrom = u, "the name"
+		}
 	}
 	// Which air handler: an equipment tag first. A reference to a part of
 	// the unit ("AHU_7_Cooling_Coil") also says what the point measures.
@@ -279,7 +292,11 @@ func mapping(c *candidate, shared, ip bool) *Mapping {
 	if uc.note != "" {
 		m.Evidence = append(m.Evidence, uc.note)
 	} else if c.p.Unit != "" {
-		m.Evidence = append(m.Evidence, "unit "+c.p.Unit+" as declared, values "+num(c.p.Stats.Min)+".."+num(c.p.Stats.Max))
+		from := "as declared"
+		if c.p.unitFrom != "" {
+			from = "from " + c.p.unitFrom
+		}
+		m.Evidence = append(m.Evidence, "unit "+c.p.Unit+" "+from+", values "+num(c.p.Stats.Min)+".."+num(c.p.Stats.Max))
 	}
 	if c.p.Stats.N > 0 {
 		m.Evidence = append(m.Evidence, intervalText(&c.p.Stats))
