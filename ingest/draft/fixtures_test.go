@@ -37,6 +37,7 @@ type expectation struct {
 	AHU  string `yaml:"ahu"`
 	Role string `yaml:"role"`
 	Unit string `yaml:"unit"`
+	Low  bool   `yaml:"low"`
 }
 
 func loadExpected(t *testing.T) map[string]map[string]expectation {

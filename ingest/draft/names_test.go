@@ -74,9 +74,9 @@ func TestChooseUnit(t *testing.T) {
 		unit     string
 		cap      Confidence
 	}{
-		{"F label, °C values", metrics.RoleSupplyTemp, "F", series(13, 18, 0), "°C", Low},
+		{"F label, °C values", metrics.RoleSupplyTemp, "F", series(13, 18, 0), "°F", Low},
 		{"F label, F values", metrics.RoleSupplyTemp, "°F", series(55, 62, 0), "°F", High},
-		{"% label, fraction values", metrics.RoleEnteringRH, "%", series(0.4, 0.6, 0), "fraction", Medium},
+		{"% label, fraction values", metrics.RoleEnteringRH, "%", series(0.4, 0.6, 0), "%", Low},
 		{"no label, fraction values", metrics.RoleEnteringRH, "", series(0.4, 0.6, 0), "fraction", Medium},
 		{"no label, F values", metrics.RoleEnteringTemp, "", series(70, 80, 0), "°F", Medium},
 		{"no label, °C values", metrics.RoleEnteringTemp, "", series(20, 25, 0), "°C", Medium},

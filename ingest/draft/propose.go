@@ -100,6 +100,20 @@ func Propose(points []Point, opt Options) *Proposal {
 			}
 		}
 	}
+	if nF+nC == 0 {
+		// No declared temperature unit: let the values of the points that
+		// read as temperatures tell.
+		for _, c := range cands {
+			if spec, ok := metrics.LookupRole(string(c.v.role)); ok && spec.Kind == psychro.KindTemperature {
+				switch chooseUnit(c.v.role, c.p.Unit, &c.p.Stats, false).unit {
+				case "°F":
+					nF++
+				case "°C":
+					nC++
+				}
+			}
+		}
+	}
 	prop.IP = nF > nC
 	if len(groups) == 0 {
 		groups[opt.DefaultID] = true
@@ -182,21 +196,10 @@ func Propose(points []Point, opt Options) *Proposal {
 			a.Mappings = append(a.Mappings, mapping(c, isShared && len(ids) > 1, prop.IP))
 		}
 		a.Missing = missing(a)
-		for _, m := range a.Mappings {
-			switch m.Unit {
-			case "°F":
-				nF++
-			case "°C":
-				nC++
-			}
-		}
 		if lv, su := a.Mapping(metrics.RoleLeavingTemp), a.Mapping(metrics.RoleSupplyTemp); lv != nil && su != nil && lv.Point == su.Point {
 			a.sameLvSu = true
 		}
 	}
-	// The display units follow the temperatures as mapped, units guessed
-	// from values included.
-	prop.IP = nF > nC
 	sort.SliceStable(prop.Unassigned, func(i, j int) bool {
 		a, b := prop.Unassigned[i], prop.Unassigned[j]
 		if a.AHU != b.AHU {

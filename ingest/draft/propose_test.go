@@ -70,7 +70,7 @@ func TestPropose_Fixtures(t *testing.T) {
 				}
 				ok = g.role == e.Role
 				if ok && e.Role != "none" {
-					ok = g.ahu == e.AHU && (e.Unit == "" || g.unit == e.Unit)
+					ok = g.ahu == e.AHU && (e.Unit == "" || g.unit == e.Unit) && (!e.Low || g.conf == Low)
 				}
 				if ok {
 					right++

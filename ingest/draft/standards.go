@@ -56,9 +56,7 @@ func readTags(tags map[string]string) standardTags {
 		case unitKeys[lk]:
 			st.unit = v
 		case markerListKeys[lk]:
-			for _, m := range strings.FieldsFunc(v, func(r rune) bool { return r == ' ' || r == ',' || r == ';' }) {
-				st.markers = append(st.markers, m)
-			}
+			st.markers = append(st.markers, strings.FieldsFunc(v, func(r rune) bool { return r == ' ' || r == ',' || r == ';' })...)
 		case markerValues[strings.ToLower(v)] && lk != "id":
 			st.markers = append(st.markers, k)
 		case nameKeys[lk]:

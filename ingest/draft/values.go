@@ -53,10 +53,13 @@ func chooseUnit(role metrics.Role, declared string, s *Stats, ip bool) unitChoic
 		if s.N < 5 {
 			return unitChoice{unit: u.Name, cap: High}
 		}
+		// The declared unit stays: dewline reads the unit an export states,
+		// and a configuration that says otherwise is refused. Values that
+		// contradict it are a mislabelled export, flagged for a person.
 		own := typical(u.Name)
 		if role == metrics.RoleEnteringRH || role == metrics.RoleLeavingRH || role == metrics.RoleSpaceRH || role == metrics.RoleOutdoorRH {
 			if u.Name == "%" && s.Max <= 1.0 && s.Max > 0 {
-				return unitChoice{unit: "fraction", cap: Medium, note: fmt.Sprintf("declared %%, but the values (%s) lie in 0..1: read as a fraction", span)}
+				return unitChoice{unit: u.Name, cap: Low, note: fmt.Sprintf("declared %%, but the values (%s) lie in 0..1 like a fraction: fix the export's unit or the point's scaling", span)}
 			}
 		}
 		if own >= 0.8 {
@@ -67,7 +70,7 @@ func chooseUnit(role metrics.Role, declared string, s *Stats, ip bool) unitChoic
 				continue
 			}
 			if a := typical(alt); a >= 0.8 && own < 0.5 {
-				return unitChoice{unit: alt, cap: Low, note: fmt.Sprintf("declared %s, but the values (%s) read as %s for a %s; check the export", u.Name, span, alt, spec.Doc)}
+				return unitChoice{unit: u.Name, cap: Low, note: fmt.Sprintf("declared %s, but the values (%s) read as %s for a %s: fix the export's unit label", u.Name, span, alt, spec.Doc)}
 			}
 		}
 		c := Low
