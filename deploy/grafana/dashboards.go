@@ -33,6 +33,7 @@ func UID(name string, f Flavour) string { return "dewline-" + name + "-" + strin
 
 // Build builds one dashboard in one flavour.
 func Build(name string, f Flavour) (dashboard.Dashboard, error) {
+	buildQueries()
 	lang := map[Flavour]string{InfluxQL: "InfluxQL", Flux: "Flux"}[f]
 	var d *dashboard.DashboardBuilder
 	switch name {

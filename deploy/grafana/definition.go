@@ -134,9 +134,13 @@ const hourly = "FROM \"" + measHourly + "\" WHERE "
 // The fields of the overview's table, in column order.
 var overviewFields = []string{"cost_avoidable", "cost", "reheat_avoidable_kwh", "reheat_needed_kwh", "reheat_kwh", "cooling_input_kwh", "water_removed_kg"}
 
+// The queries of every panel, built from scopeTags by buildQueries.
+var qMoney, qByAHU, qAvoidByAHU, qDaily, qUnitTotals, qEnergy, qTemps, qEERCoverage, qWater, qFlags, qAlerts, qOpen q
+
 // Queries of every panel. Sums skip hours where a field has no value, as
 // dewline's own totals do; the effective EER is that of the sums.
-var (
+func buildQueries() {
+
 	qMoney = q{
 		influxQL: "SELECT " + sums("cost_avoidable", "cost", "reheat_avoidable_kwh") + " " + hourly + where(false, "$timeFilter"),
 		table:    true,
@@ -170,10 +174,10 @@ var (
 		flux: fluxFrom(measHourly, true, "v.timeRangeStart") + fieldFilter("cost_avoidable", "reheat_avoidable_kwh", "reheat_kwh", "water_removed_kg") +
 			"  |> group(columns: [\"_field\"])\n  |> sum()\n",
 	}
-	qEnergy      = rawFields("cooling_input_kwh", "reheat_needed_kwh", "reheat_avoidable_kwh")
-	qTemps       = rawFields("leaving_temp_c", "required_leaving_temp_c", "supply_temp_c", "entering_dewpoint_c")
+	qEnergy = rawFields("cooling_input_kwh", "reheat_needed_kwh", "reheat_avoidable_kwh")
+	qTemps = rawFields("leaving_temp_c", "required_leaving_temp_c", "supply_temp_c", "entering_dewpoint_c")
 	qEERCoverage = rawFields("effective_eer", "coverage")
-	qWater       = q{
+	qWater = q{
 		influxQL: "SELECT \"water_removed_kg\", \"water_removed_kg\" - \"water_removed_kg_u95\" AS \"water_removed_kg_low\", \"water_removed_kg\" + \"water_removed_kg_u95\" AS \"water_removed_kg_high\" " +
 			hourly + where(true, "$timeFilter"),
 		flux: fluxFrom(measHourly, true, "v.timeRangeStart") + fieldFilter("water_removed_kg", "water_removed_kg_u95") +
@@ -213,7 +217,7 @@ var (
 			"  |> filter(fn: (r) => r.open == 1.0)\n  |> group()\n" +
 			"  |> keep(columns: [\"" + tagAHU + "\", \"kind\", \"severity\", \"id\", \"money\", \"start\", \"reason\"])\n",
 	}
-)
+}
 
 // rawFields reads fields of one air handler hour by hour.
 func rawFields(names ...string) q {
