@@ -73,14 +73,14 @@ func Build(name string, f Flavour) (dashboard.Dashboard, error) {
 	case Alerts:
 		d = dashboard.NewDashboardBuilder("dewline: alerts (" + lang + ")").
 			Description("Alerts dewline raised, with the money at stake and the reason; and those open at the end of the range.")
-		alerts := tablePanel("Alerts", alertsDescription(f), qAlerts, f).
-			SortBy([]cog.Builder[common.TableSortByFieldState]{common.NewTableSortByFieldStateBuilder().DisplayName("money").Desc(true)}).
-			Span(24).Height(12)
+		title := "Alerts in the range"
 		if f == InfluxQL {
-			alerts.WithTransformation(lastPerAlert())
+			title = "Alert transitions in the range"
 		}
-		d.WithPanel(alerts)
-		d.WithPanel(tablePanel("Open at the end of the range", "The last transition of each air handler's alert kind up to the end of the range, where it is open.", qOpen, f).
+		d.WithPanel(tablePanel(title, alertsDescription(f), qAlerts, f).
+			SortBy([]cog.Builder[common.TableSortByFieldState]{common.NewTableSortByFieldStateBuilder().DisplayName("money").Desc(true)}).
+			Span(24).Height(12))
+		d.WithPanel(tablePanel("Open now", "The alerts open now (each air handler's alert kinds at their latest transition), whatever the range.", qOpen, f).
 			WithTransformation(dashboard.DataTransformerConfig{Id: "filterByValue", Options: map[string]any{
 				"type": "include", "match": "any",
 				"filters": []any{map[string]any{"fieldName": "open", "config": map[string]any{"id": "equal", "options": map[string]any{"value": 1}}}},
@@ -99,22 +99,9 @@ func Build(name string, f Flavour) (dashboard.Dashboard, error) {
 
 func alertsDescription(f Flavour) string {
 	if f == InfluxQL {
-		return "Each alert with a transition (opened, closed) in the range, at its last state up to the range's end, with the energy and money at stake and the reason."
+		return "Each transition (opened, closed) of an alert in the range, with the energy and money at stake then and the reason."
 	}
-	return "Each alert that overlaps the range (as dewline's own alert page), at its last state up to the range's end, with the energy and money at stake and the reason."
-}
-
-// lastPerAlert groups the InfluxQL alert transitions by id, keeping each
-// column's last value: the alert's state at its last transition.
-func lastPerAlert() dashboard.DataTransformerConfig {
-	last := func() map[string]any {
-		return map[string]any{"aggregations": []string{"last"}, "operation": "aggregate"}
-	}
-	return dashboard.DataTransformerConfig{Id: "groupBy", Options: map[string]any{"fields": map[string]any{
-		"id":  map[string]any{"aggregations": []string{}, "operation": "groupby"},
-		"ahu": last(), "kind": last(), "severity": last(), "status": last(), "money": last(),
-		"energy_kwh": last(), "start": last(), "end": last(), "reason": last(),
-	}}}
+	return "Each alert that overlaps the range (as dewline's own alert page), at its latest state, with the energy and money at stake and the reason."
 }
 
 func variables(name string, f Flavour) []cog.Builder[dashboard.VariableModel] {

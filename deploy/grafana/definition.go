@@ -190,28 +190,30 @@ func buildQueries() {
 		flux: fluxFrom(measHourly, true, "v.timeRangeStart") + fieldFilter("flags") +
 			"  |> filter(fn: (r) => r._value != \"\")\n  |> keep(columns: [\"_time\", \"_value\"])\n  |> rename(columns: {_value: \"flags\"})\n",
 	}
-	// Alerts: each transition is a point carrying the alert's id, money,
-	// reason, start and end; the last transition of an id is the alert's
-	// state. InfluxQL cannot group by a string field: its table takes the
-	// transitions in the period and groups them by id in Grafana (a
-	// transformation); Flux groups them in the query and also lists the
-	// alerts that opened before the period and were still open in it.
+	// Alerts: each transition (opened, closed) is a point carrying the
+	// alert's id, money, reason, start and end; an alert's latest
+	// transition is its state. InfluxQL cannot group by a string field, so
+	// its table lists the transitions in the range; Flux groups them by id
+	// and lists, like dewline's alert page, every alert whose start..end
+	// overlaps the range, at its latest state.
 	qAlerts = q{
 		influxQL: "SELECT \"" + tagAHU + "\", \"kind\", \"severity\", \"status\", \"id\", \"money\", \"energy_kwh\", \"start\", \"end\", \"reason\" FROM \"" + measAlert + "\" WHERE " + where(true, "$timeFilter"),
 		table:    true,
-		flux: fluxFrom(measAlert, true, "1970-01-01T00:00:00Z") +
+		flux: strings.Replace(fluxFrom(measAlert, true, "1970-01-01T00:00:00Z"), "stop: v.timeRangeStop", "stop: now()", 1) +
 			"  |> pivot(rowKey: [\"_time\"], columnKey: [\"_field\"], valueColumn: \"_value\")\n" +
 			"  |> group(columns: [\"id\"])\n  |> sort(columns: [\"_time\"])\n  |> tail(n: 1)\n" +
-			"  |> filter(fn: (r) => r.status == \"open\" or (if r.end == \"\" then r._time else time(v: r.end)) > v.timeRangeStart)\n" +
+			"  |> filter(fn: (r) => time(v: r.start) < v.timeRangeStop and (r.status == \"open\" or (if r.end == \"\" then r._time else time(v: r.end)) > v.timeRangeStart))\n" +
 			"  |> group()\n" +
 			"  |> keep(columns: [\"_time\", \"" + tagAHU + "\", \"kind\", \"severity\", \"status\", \"id\", \"money\", \"energy_kwh\", \"start\", \"end\", \"reason\"])\n" +
 			"  |> sort(columns: [\"money\"], desc: true)\n",
 	}
+	// Open now: the latest transition of each air handler's alert kind
+	// (a kind has one alert open at a time), where it is open.
 	qOpen = q{
 		influxQL: "SELECT last(\"open\") AS \"open\", last(\"id\") AS \"id\", last(\"money\") AS \"money\", last(\"start\") AS \"start\", last(\"reason\") AS \"reason\" FROM \"" + measAlert + "\" WHERE " +
-			where(true, "time <= ${__to}ms") + " GROUP BY \"" + tagAHU + "\", \"kind\", \"severity\"",
+			strings.TrimSuffix(where(true, ""), " AND ") + " GROUP BY \"" + tagAHU + "\", \"kind\", \"severity\"",
 		table: true,
-		flux: fluxFrom(measAlert, true, "1970-01-01T00:00:00Z") +
+		flux: strings.Replace(fluxFrom(measAlert, true, "1970-01-01T00:00:00Z"), "stop: v.timeRangeStop", "stop: now()", 1) +
 			"  |> pivot(rowKey: [\"_time\"], columnKey: [\"_field\"], valueColumn: \"_value\")\n" +
 			"  |> group(columns: [\"" + tagAHU + "\", \"kind\"])\n  |> sort(columns: [\"_time\"])\n  |> tail(n: 1)\n" +
 			"  |> filter(fn: (r) => r.open == 1.0)\n  |> group()\n" +
