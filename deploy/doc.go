@@ -6,6 +6,7 @@
 //	systemd/     a hardened service unit, its secrets file example, its user
 //	kubernetes/  a StatefulSet of sharded agents with its ConfigMap, Secret and Service
 //	docker/      a multi-stage image: static binary on a distroless base
+//	grafana/     Grafana dashboards generated from a Go definition, and their provisioning
 //
 // The tests parse every file here against the code it configures: each
 // example configuration and the one inside the ConfigMap load with

@@ -115,7 +115,7 @@ func TestProvisioning(t *testing.T) {
 			} `yaml:"options"`
 		} `yaml:"providers"`
 	}
-	b, err := os.ReadFile("provisioning/dashboards/dewline.yaml")
+	b, err := os.ReadFile("provisioning/dashboards/provider.yaml")
 	require.NoError(t, err)
 	require.NoError(t, yaml.Unmarshal(b, &dash))
 	assert.Equal(t, 1, dash.APIVersion)
@@ -136,7 +136,7 @@ func TestProvisioning(t *testing.T) {
 			Secure   map[string]string `yaml:"secureJsonData"`
 		} `yaml:"datasources"`
 	}
-	b, err = os.ReadFile("provisioning/datasources/dewline.yaml")
+	b, err = os.ReadFile("provisioning/datasources/influxdb.yaml")
 	require.NoError(t, err)
 	require.NoError(t, yaml.Unmarshal(b, &ds))
 	uids := map[string]bool{}
