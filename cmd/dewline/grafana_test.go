@@ -172,7 +172,9 @@ func TestGrafana_QueriesMatchAPI(t *testing.T) {
 						c.hourly(uh.Hours, "water_removed_kg", uh.Water)
 						// Each of the API's two figures is rounded: their
 						// roundings add up in the band's edges.
-						c.slack = func(i int) float64 { return 6e-6 * (math.Abs(float64(uh.Water[i])) + math.Abs(float64(uh.WaterU95[i]))) }
+						c.slack = func(i int) float64 {
+							return 6e-6 * (math.Abs(float64(uh.Water[i])) + math.Abs(float64(uh.WaterU95[i])))
+						}
 						c.hourly(uh.Hours, "water_removed_kg_low", lo)
 						c.hourly(uh.Hours, "water_removed_kg_high", hi)
 					case "Effective EER and coverage":
@@ -578,4 +580,3 @@ func (c *panelCheck) open(api []dashboards.Alert) {
 	sort.Strings(got)
 	assert.Equal(c.t, want, got, c.label)
 }
-
