@@ -41,7 +41,7 @@ type verdict struct {
 
 // Notes for points no role takes yet.
 const (
-	noteReturn   = "return air: no role takes it yet; keep it for the return-air roles of a later version (entering air is mixed air)"
+	noteReturn   = "return air: no role takes it (the entering air is the mixed air, after the outdoor air joins the return air)"
 	noteSetpoint = "a set point, not a measurement"
 	noteOther    = "a quantity no role uses (status, pressure, speed, damper, energy, ...)"
 	noteUnknown  = "the name says nothing dewline reads"
