@@ -35,42 +35,42 @@ func UID(name string, f Flavour) string { return "dewline-" + name + "-" + strin
 
 // Build builds one dashboard in one flavour.
 func Build(name string, f Flavour) (dashboard.Dashboard, error) {
-	buildQueries()
+	qs := newQueries()
 	lang := map[Flavour]string{InfluxQL: "InfluxQL", Flux: "Flux"}[f]
 	var d *dashboard.DashboardBuilder
 	switch name {
 	case Overview:
 		d = dashboard.NewDashboardBuilder("dewline: air handlers by money at stake (" + lang + ")").
 			Description("Avoidable cost, reheat and effective EER per air handler over the time range, from the hourly results dewline writes to InfluxDB.")
-		d.WithPanel(statPanel("Money at stake", "Avoidable cost, cost, and avoidable reheat (kWh) of every air handler over the range, in the site's currency.", qMoney, f).Span(24).Height(5))
-		d.WithPanel(tablePanel("Air handlers by money at stake", "Sums over the range; effective EER = 3.412 × (coil total − reheat) / (cooling input + reheat input), of the sums.", qByAHU, f).
+		d.WithPanel(statPanel("Money at stake", "Avoidable cost, cost, and avoidable reheat (kWh) of every air handler over the range, in the site's currency.", qs.qMoney, f).Span(24).Height(5))
+		d.WithPanel(tablePanel("Air handlers by money at stake", "Sums over the range; effective EER = 3.412 × (coil total − reheat) / (cooling input + reheat input), of the sums.", qs.qByAHU, f).
 			SortBy([]cog.Builder[common.TableSortByFieldState]{common.NewTableSortByFieldStateBuilder().DisplayName("cost_avoidable").Desc(true)}).
 			Span(24).Height(9))
 		d.WithPanel(bargauge.NewPanelBuilder().Title("Avoidable cost by air handler").
 			Description("The money each air handler's avoidable reheat and cooling cost over the range.").
-			Datasource(*dsRef()).WithTarget(qAvoidByAHU.target(f, "A")).
+			Datasource(*dsRef()).WithTarget(qs.qAvoidByAHU.target(f, "A")).
 			Orientation(common.VizOrientationHorizontal).DisplayMode(common.BarGaugeDisplayModeGradient).
 			ReduceOptions(common.NewReduceDataOptionsBuilder().Calcs([]string{"sum"})).
 			Span(12).Height(9))
 		d.WithPanel(timeseries.NewPanelBuilder().Title("Avoidable cost per day").
 			Description("Per air handler and UTC day.").
-			Datasource(*dsRef()).WithTarget(qDaily.target(f, "A")).
+			Datasource(*dsRef()).WithTarget(qs.qDaily.target(f, "A")).
 			DrawStyle(common.GraphDrawStyleBars).FillOpacity(60).
 			Stacking(common.NewStackingConfigBuilder().Mode(common.StackingModeNormal)).
 			Span(12).Height(9))
 	case Unit:
 		d = dashboard.NewDashboardBuilder("dewline: one air handler's hours (" + lang + ")").
 			Description("One air handler hour by hour: energy, coil leaving against required temperature, water removed with its 95 % band, effective EER, data-quality flags.")
-		d.WithPanel(statPanel("Totals over the range", "Avoidable cost, avoidable reheat (kWh), reheat (kWh) and water removed (kg).", qUnitTotals, f).Span(24).Height(5))
-		d.WithPanel(seriesPanel("Energy per hour", "Cooling input, reheat the humidity target needed and reheat it did not need (kWh per hour).", qEnergy, f).
+		d.WithPanel(statPanel("Totals over the range", "Avoidable cost, avoidable reheat (kWh), reheat (kWh) and water removed (kg).", qs.qUnitTotals, f).Span(24).Height(5))
+		d.WithPanel(seriesPanel("Energy per hour", "Cooling input, reheat the humidity target needed and reheat it did not need (kWh per hour).", qs.qEnergy, f).
 			Unit("kwatth").Stacking(common.NewStackingConfigBuilder().Mode(common.StackingModeNormal)).FillOpacity(40).Span(24).Height(9))
-		d.WithPanel(seriesPanel("Coil leaving against required", "Coil leaving temperature, the leaving temperature the humidity target required, supply temperature and entering dew point (°C).", qTemps, f).
+		d.WithPanel(seriesPanel("Coil leaving against required", "Coil leaving temperature, the leaving temperature the humidity target required, supply temperature and entering dew point (°C).", qs.qTemps, f).
 			Unit("celsius").Span(12).Height(9))
-		d.WithPanel(seriesPanel("Water removed, with its 95 % band", "kg per hour; the band is the 95 % half-width of sensor calibration bias.", qWater, f).
+		d.WithPanel(seriesPanel("Water removed, with its 95 % band", "kg per hour; the band is the 95 % half-width of sensor calibration bias.", qs.qWater, f).
 			Unit("masskg").Span(12).Height(9))
-		d.WithPanel(seriesPanel("Effective EER and coverage", "Effective EER (Btu/Wh) and the share of the hour with every required reading (0..1).", qEERCoverage, f).
+		d.WithPanel(seriesPanel("Effective EER and coverage", "Effective EER (Btu/Wh) and the share of the hour with every required reading (0..1).", qs.qEERCoverage, f).
 			Span(12).Height(8))
-		d.WithPanel(tablePanel("Hours with data-quality flags", "Flags such as low_coverage, flat:<role> or coil_adds_moisture; see the README's hourly output.", qFlags, f).
+		d.WithPanel(tablePanel("Hours with data-quality flags", "Flags such as low_coverage, flat:<role> or coil_adds_moisture; see the README's hourly output.", qs.qFlags, f).
 			Span(12).Height(8))
 	case Alerts:
 		d = dashboard.NewDashboardBuilder("dewline: alerts (" + lang + ")").
@@ -79,10 +79,10 @@ func Build(name string, f Flavour) (dashboard.Dashboard, error) {
 		if f == InfluxQL {
 			title = "Alert transitions in the range"
 		}
-		d.WithPanel(tablePanel(title, alertsDescription(f), qAlerts, f).
+		d.WithPanel(tablePanel(title, alertsDescription(f), qs.qAlerts, f).
 			SortBy([]cog.Builder[common.TableSortByFieldState]{common.NewTableSortByFieldStateBuilder().DisplayName("money").Desc(true)}).
 			Span(24).Height(12))
-		d.WithPanel(tablePanel("Open now", "The alerts open now (each air handler's alert kinds at their latest transition), whatever the range.", qOpen, f).
+		d.WithPanel(tablePanel("Open now", "The alerts open now (each air handler's alert kinds at their latest transition), whatever the range.", qs.qOpen, f).
 			WithTransformation(dashboard.DataTransformerConfig{Id: "filterByValue", Options: map[string]any{
 				"type": "include", "match": "any",
 				"filters": []any{map[string]any{"fieldName": "open", "config": map[string]any{"id": "equal", "options": map[string]any{"value": 1}}}},

@@ -134,20 +134,23 @@ const hourly = "FROM \"" + measHourly + "\" WHERE "
 // The fields of the overview's table, in column order.
 var overviewFields = []string{"cost_avoidable", "cost", "reheat_avoidable_kwh", "reheat_needed_kwh", "reheat_kwh", "cooling_input_kwh", "water_removed_kg"}
 
-// The queries of every panel, built from scopeTags by buildQueries.
-var qMoney, qByAHU, qAvoidByAHU, qDaily, qUnitTotals, qEnergy, qTemps, qEERCoverage, qWater, qFlags, qAlerts, qOpen q
+// queries are the queries of every panel, built from scopeTags by newQueries.
+type queries struct {
+	qMoney, qByAHU, qAvoidByAHU, qDaily, qUnitTotals, qEnergy, qTemps, qEERCoverage, qWater, qFlags, qAlerts, qOpen q
+}
 
 // Queries of every panel. Sums skip hours where a field has no value, as
 // dewline's own totals do; the effective EER is that of the sums.
-func buildQueries() {
+func newQueries() *queries {
+	x := &queries{}
 
-	qMoney = q{
+	x.qMoney = q{
 		influxQL: "SELECT " + sums("cost_avoidable", "cost", "reheat_avoidable_kwh") + " " + hourly + where(false, "$timeFilter"),
 		table:    true,
 		flux: fluxFrom(measHourly, false, "v.timeRangeStart") + fieldFilter("cost_avoidable", "cost", "reheat_avoidable_kwh") +
 			"  |> group(columns: [\"_field\"])\n  |> sum()\n",
 	}
-	qByAHU = q{
+	x.qByAHU = q{
 		influxQL: "SELECT " + sums(append(overviewFields, "coil_total_kwh", "reheat_input_kwh")...) +
 			", " + eerPerCOP + " * (sum(\"coil_total_kwh\") - sum(\"reheat_kwh\")) / (sum(\"cooling_input_kwh\") + sum(\"reheat_input_kwh\")) AS \"effective_eer\" " +
 			hourly + where(false, "$timeFilter") + " GROUP BY \"" + tagAHU + "\"",
@@ -158,33 +161,33 @@ func buildQueries() {
 			"  |> map(fn: (r) => ({r with effective_eer: " + eerPerCOP + " * (r.coil_total_kwh - r.reheat_kwh) / (r.cooling_input_kwh + r.reheat_input_kwh)}))\n" +
 			"  |> group()\n  |> sort(columns: [\"cost_avoidable\"], desc: true)\n",
 	}
-	qAvoidByAHU = q{
+	x.qAvoidByAHU = q{
 		influxQL: "SELECT sum(\"cost_avoidable\") AS \"cost_avoidable\" " + hourly + where(false, "$timeFilter") + " GROUP BY \"" + tagAHU + "\"",
 		flux: fluxFrom(measHourly, false, "v.timeRangeStart") + fieldFilter("cost_avoidable") +
 			"  |> group(columns: [\"" + tagAHU + "\"])\n  |> sum()\n",
 	}
-	qDaily = q{
+	x.qDaily = q{
 		influxQL: "SELECT sum(\"cost_avoidable\") AS \"cost_avoidable\" " + hourly + where(false, "$timeFilter") + " GROUP BY time(1d), \"" + tagAHU + "\" fill(none)",
 		flux: fluxFrom(measHourly, false, "v.timeRangeStart") + fieldFilter("cost_avoidable") +
 			"  |> aggregateWindow(every: 1d, fn: sum, createEmpty: false, timeSrc: \"_start\")\n",
 	}
-	qUnitTotals = q{
+	x.qUnitTotals = q{
 		influxQL: "SELECT " + sums("cost_avoidable", "reheat_avoidable_kwh", "reheat_kwh", "water_removed_kg") + " " + hourly + where(true, "$timeFilter"),
 		table:    true,
 		flux: fluxFrom(measHourly, true, "v.timeRangeStart") + fieldFilter("cost_avoidable", "reheat_avoidable_kwh", "reheat_kwh", "water_removed_kg") +
 			"  |> group(columns: [\"_field\"])\n  |> sum()\n",
 	}
-	qEnergy = rawFields("cooling_input_kwh", "reheat_needed_kwh", "reheat_avoidable_kwh")
-	qTemps = rawFields("leaving_temp_c", "required_leaving_temp_c", "supply_temp_c", "entering_dewpoint_c")
-	qEERCoverage = rawFields("effective_eer", "coverage")
-	qWater = q{
+	x.qEnergy = rawFields("cooling_input_kwh", "reheat_needed_kwh", "reheat_avoidable_kwh")
+	x.qTemps = rawFields("leaving_temp_c", "required_leaving_temp_c", "supply_temp_c", "entering_dewpoint_c")
+	x.qEERCoverage = rawFields("effective_eer", "coverage")
+	x.qWater = q{
 		influxQL: "SELECT \"water_removed_kg\", \"water_removed_kg\" - \"water_removed_kg_u95\" AS \"water_removed_kg_low\", \"water_removed_kg\" + \"water_removed_kg_u95\" AS \"water_removed_kg_high\" " +
 			hourly + where(true, "$timeFilter"),
 		flux: fluxFrom(measHourly, true, "v.timeRangeStart") + fieldFilter("water_removed_kg", "water_removed_kg_u95") +
 			"  |> pivot(rowKey: [\"_time\"], columnKey: [\"_field\"], valueColumn: \"_value\")\n" +
 			"  |> map(fn: (r) => ({_time: r._time, water_removed_kg: r.water_removed_kg, water_removed_kg_low: r.water_removed_kg - r.water_removed_kg_u95, water_removed_kg_high: r.water_removed_kg + r.water_removed_kg_u95}))\n",
 	}
-	qFlags = q{
+	x.qFlags = q{
 		influxQL: "SELECT \"flags\" " + hourly + where(true, "\"flags\" != '' AND $timeFilter"),
 		table:    true,
 		flux: fluxFrom(measHourly, true, "v.timeRangeStart") + fieldFilter("flags") +
@@ -196,7 +199,7 @@ func buildQueries() {
 	// its table lists the transitions in the range; Flux groups them by id
 	// and lists, like dewline's alert page, every alert whose start..end
 	// overlaps the range, at its latest state.
-	qAlerts = q{
+	x.qAlerts = q{
 		influxQL: "SELECT \"" + tagAHU + "\", \"kind\", \"severity\", \"status\", \"id\", \"money\", \"energy_kwh\", \"start\", \"end\", \"reason\" FROM \"" + measAlert + "\" WHERE " + where(true, "$timeFilter"),
 		table:    true,
 		flux: strings.Replace(fluxFrom(measAlert, true, "1970-01-01T00:00:00Z"), "stop: v.timeRangeStop", "stop: now()", 1) +
@@ -209,7 +212,7 @@ func buildQueries() {
 	}
 	// Open now: the latest transition of each air handler's alert kind
 	// (a kind has one alert open at a time), where it is open.
-	qOpen = q{
+	x.qOpen = q{
 		influxQL: "SELECT last(\"open\") AS \"open\", last(\"id\") AS \"id\", last(\"money\") AS \"money\", last(\"start\") AS \"start\", last(\"reason\") AS \"reason\" FROM \"" + measAlert + "\" WHERE " +
 			strings.TrimSuffix(where(true, ""), " AND ") + " GROUP BY \"" + tagAHU + "\", \"kind\", \"severity\"",
 		table: true,
@@ -219,6 +222,7 @@ func buildQueries() {
 			"  |> filter(fn: (r) => r.open == 1.0)\n  |> group()\n" +
 			"  |> keep(columns: [\"" + tagAHU + "\", \"kind\", \"severity\", \"id\", \"money\", \"start\", \"reason\"])\n",
 	}
+	return x
 }
 
 // rawFields reads fields of one air handler hour by hour.
