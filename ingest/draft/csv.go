@@ -7,6 +7,7 @@ import (
 	"os"
 
 	"github.com/dewline/dewline/ingest/csvfile"
+	"github.com/dewline/dewline/metrics"
 )
 
 // Read is what reading the sources found besides the points.
@@ -71,6 +72,14 @@ func ReadCSV(paths []string, opt csvfile.Options) ([]Point, Read, error) {
 				points[i].Unit = rec.Unit
 			}
 			points[i].Stats.Add(rec.Time, rec.Value)
+		}
+		// Columns of a wide file that hold no value at all are points too:
+		// the draft lists them rather than letting them vanish.
+		for _, col := range r.Columns() {
+			if _, ok := idx[col.Name]; !ok && !long {
+				idx[col.Name] = len(points)
+				points = append(points, Point{Name: col.Name, Unit: col.Unit, Ref: metrics.PointRef{Column: col.Name}})
+			}
 		}
 		rd.Rejected += r.Stats().RejectedTotal()
 		if err := f.Close(); err != nil {

@@ -1,12 +1,15 @@
 package draft
 
 import (
+	"os"
+	"path/filepath"
 	"testing"
 	"time"
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
+	"github.com/dewline/dewline/ingest/csvfile"
 	"github.com/dewline/dewline/metrics"
 )
 
@@ -98,4 +101,18 @@ func TestSplitWords(t *testing.T) {
 	assert.Equal(t, []string{"ahu", "01", "clg", "coil", "lvg", "temp"}, splitWords("Ahu01ClgCoilLvgTemp"))
 	assert.Equal(t, []string{"sa", "temp"}, splitWords("SATemp"))
 	assert.Equal(t, []string{"bldg", "2", "ah", "5", "cc", "dat"}, splitWords("Bldg2/AH-5/CC-DAT"))
+}
+
+// TestReadCSV_EmptyColumn: a column without a single value is listed as
+// unassigned, not dropped.
+func TestReadCSV_EmptyColumn(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "x.csv")
+	require.NoError(t, os.WriteFile(path, []byte("Time,AHU-1 SAT,AHU-1 Spare Temp\n2026-07-14T06:00:00Z,58,\n2026-07-14T06:05:00Z,58.5,\n"), 0o600))
+	pts, _, err := ReadCSV([]string{path}, csvfile.Options{})
+	require.NoError(t, err)
+	require.Len(t, pts, 2)
+	prop := Propose(pts, Options{})
+	require.Len(t, prop.Unassigned, 1)
+	assert.Equal(t, "AHU-1 Spare Temp", prop.Unassigned[0].Point.Name)
+	assert.Contains(t, prop.Unassigned[0].Note, "no numeric value")
 }

@@ -149,6 +149,8 @@ func Propose(points []Point, opt Options) *Proposal {
 	var shared []*candidate
 	for _, c := range cands {
 		switch {
+		case c.p.Stats.N == 0:
+			prop.Unassigned = append(prop.Unassigned, Unassigned{Point: c.p, AHU: strings.TrimPrefix(c.ahu, "!"), Note: "no numeric value in the source"})
 		case strings.HasPrefix(c.ahu, "!"):
 			prop.Unassigned = append(prop.Unassigned, Unassigned{Point: c.p, Note: "belongs to " + c.ahu[1:] + ", not an air handler"})
 		case c.ahu != "" && byID[c.ahu] != nil:
