@@ -76,8 +76,9 @@ func looksLikeUnit(v string) bool {
 	return id == "" && len(v) <= 8
 }
 
-// haystackMarkers that say something about a role; others (point, his,
-// cur, writable) are ignored.
+// haystackText joins Haystack markers into words for the name rules;
+// markers that say nothing about a role (point, his, cur, writable) are
+// words the rules do not know, and change nothing.
 func haystackText(markers []string) string {
 	return strings.Join(markers, " ")
 }
