@@ -3,9 +3,11 @@
 package grafana
 
 import (
+	"bytes"
 	"encoding/json"
 	"fmt"
 	"path"
+	"strings"
 
 	"github.com/grafana/grafana-foundation-sdk/go/bargauge"
 	"github.com/grafana/grafana-foundation-sdk/go/cog"
@@ -43,8 +45,12 @@ func Build(name string, f Flavour) (dashboard.Dashboard, error) {
 		d = dashboard.NewDashboardBuilder("dewline: air handlers by money at stake (" + lang + ")").
 			Description("Avoidable cost, reheat and effective EER per air handler over the time range, from the hourly results dewline writes to InfluxDB.")
 		d.WithPanel(statPanel("Money at stake", "Avoidable cost, cost, and avoidable reheat (kWh) of every air handler over the range, in the site's currency.", qs.qMoney, f).Span(24).Height(5))
-		d.WithPanel(tablePanel("Air handlers by money at stake", "Sums over the range; effective EER = 3.412 × (coil total − reheat) / (cooling input + reheat input), of the sums.", qs.qByAHU, f).
+		d.WithPanel(tablePanel("Air handlers by money at stake", "Sums over the range; effective EER = 3.412 × (coil total − reheat) / (cooling input + reheat input), of the sums. An air handler's name opens its hours.", qs.qByAHU, f).
 			SortBy([]cog.Builder[common.TableSortByFieldState]{common.NewTableSortByFieldStateBuilder().DisplayName("cost_avoidable").Desc(true)}).
+			OverrideByName(tagAHU, []dashboard.DynamicConfigValue{{Id: "links", Value: []map[string]any{{
+				"title": "Hours of ${__value.text}",
+				"url":   unitLink(f),
+			}}}}).
 			Span(24).Height(9))
 		d.WithPanel(bargauge.NewPanelBuilder().Title("Avoidable cost by air handler").
 			Description("The money each air handler's avoidable reheat and cooling cost over the range.").
@@ -97,6 +103,19 @@ func Build(name string, f Flavour) (dashboard.Dashboard, error) {
 		d.WithVariable(v)
 	}
 	return d.Build()
+}
+
+// unitLink opens the unit dashboard of the flavour on the air handler of
+// the clicked cell, keeping the time range and the data source.
+func unitLink(f Flavour) string {
+	u := "/d/" + UID(Unit, f) + "?var-" + tagAHU + "=${__value.raw}&var-ds=${ds}&${__url_time_range}"
+	if f == Flux {
+		u += "&var-bucket=${bucket}"
+	}
+	for _, s := range scopeTags {
+		u += "&var-" + s.Tag + "=${" + s.Tag + "}"
+	}
+	return u
 }
 
 func alertsDescription(f Flavour) string {
@@ -153,6 +172,8 @@ func seriesPanel(title, desc string, x q, f Flavour) *timeseries.PanelBuilder {
 	return timeseries.NewPanelBuilder().Title(title).Description(desc).Datasource(*dsRef()).WithTarget(x.target(f, "A"))
 }
 
+var htmlUnescaper = strings.NewReplacer(`\u003c`, "<", `\u003e`, ">", `\u0026`, "&")
+
 // Files renders every dashboard: the path under deploy/grafana and its JSON.
 func Files() (map[string][]byte, error) {
 	out := map[string][]byte{}
@@ -166,7 +187,15 @@ func Files() (map[string][]byte, error) {
 			if err != nil {
 				return nil, fmt.Errorf("encode %s (%s): %w", n, f, err)
 			}
-			out[path.Join("dashboards", string(f), "dewline-"+n+".json")] = append(b, '\n')
+			b = append(b, '\n')
+			if bytes.Contains(b, []byte(`\\u00`)) {
+				return nil, fmt.Errorf("encode %s (%s): a value holds a backslash before u00", n, f)
+			}
+			// The SDK's own marshalling escapes <, > and & inside the
+			// values ("|>" of every Flux query); none of the definition's
+			// strings holds a backslash, so the plain characters can
+			// come back.
+			out[path.Join("dashboards", string(f), "dewline-"+n+".json")] = []byte(htmlUnescaper.Replace(string(b)))
 		}
 	}
 	return out, nil
