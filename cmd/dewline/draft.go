@@ -96,7 +96,12 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 		var rd draft.Read
 		points, rd, err = draft.ReadCSV(inputs, opt)
 		if errors.Is(err, csvfile.ErrNeedLocation) {
-			return usagef("%v; pass --timezone with the site's IANA zone (e.g. America/Chicago)", err)
+			var fe *csvfile.FileError
+			name := "an export"
+			if errors.As(err, &fe) {
+				name = fe.File
+			}
+			return usagef("%s has local times without a UTC offset: pass --timezone with the site's IANA zone (e.g. America/Chicago), or --timezone UTC if the export is in UTC", name)
 		}
 		if err != nil {
 			return err

@@ -131,3 +131,11 @@ func TestDraft_OpenData(t *testing.T) {
 	assert.Contains(t, text, "air_handlers: []")
 	assert.True(t, strings.Contains(text, "# HP-1 is incomplete"), text)
 }
+
+// TestDraft_NeedsZone: local times without an offset need --timezone, and
+// the message says so with the file's name.
+func TestDraft_NeedsZone(t *testing.T) {
+	code, _, errOut := runCLI(t, "--log-level", "warn", "draft", "../../testdata/draft/alder-court.csv")
+	assert.Equal(t, 2, code)
+	assert.Contains(t, errOut, "alder-court.csv has local times without a UTC offset: pass --timezone")
+}
