@@ -8,6 +8,7 @@
 //	docker/      a multi-stage image: static binary on a distroless base
 //	demo/        the invented demo building ("dewline demo"): its physics, logs and configuration
 //	testkit/     what the tests share: the rule for a missing service, psychrolib through node
+//	grafana/     Grafana dashboards generated from a Go definition, and their provisioning
 //
 // The tests parse every file here against the code it configures: each
 // example configuration and the one inside the ConfigMap load with

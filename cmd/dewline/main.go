@@ -33,6 +33,7 @@ type env struct {
 
 var commands = map[string]command{
 	"air":     {"compute one moist-air state (dry bulb with RH, dew point, wet bulb or humidity ratio)", runAir},
+	"draft":   {"propose a configuration (air handlers, roles, units) from trend exports or an InfluxDB bucket", runDraft},
 	"check":   {"validate a configuration and inspect its points in exports or the store", runCheck},
 	"import":  {"load trend exports (CSV) into the configured store", runImport},
 	"run":     {"the agent: compute every hour on a schedule, write results and alerts back, serve health and metrics", runRun},

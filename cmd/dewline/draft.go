@@ -1,0 +1,210 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"os"
+	"strings"
+	"time"
+
+	"github.com/dewline/dewline/ingest/csvfile"
+	"github.com/dewline/dewline/ingest/draft"
+	"github.com/dewline/dewline/ingest/influx"
+)
+
+// runDraft proposes a configuration from CSV exports or an InfluxDB bucket.
+func runDraft(ctx context.Context, e *env, args []string) error {
+	fs := flag.NewFlagSet("draft", flag.ContinueOnError)
+	var inputs stringList
+	fs.Var(&inputs, "input", "trend export (CSV) to read the points from; repeatable (files may also follow the flags)")
+	out := fs.String("o", "", "write the configuration to this file (default: standard output)")
+	site := fs.String("site", "", "the site's name")
+	zone := fs.String("timezone", "", "the site's IANA time zone, e.g. America/Chicago (needed for exports with local times)")
+	altitude := fs.String("altitude", "", "the site's elevation with its unit, e.g. 15m or 50ft")
+	year := fs.Int("year", 0, "year of export dates written without one")
+	dayFirst := fs.String("day-first", "", "yes or no, for dates like 04/07/2026 when the exports do not tell")
+	decimalComma := fs.String("decimal-comma", "", "yes or no, when the exports do not tell")
+	id := fs.String("id", "AHU-1", "air handler id when no point names one (a single unit's export)")
+	influxURL := fs.String("influx-url", "", "read the points from this InfluxDB server instead of exports")
+	bucket := fs.String("bucket", "", "with --influx-url: the 2.x bucket, or database/retention_policy for 1.8")
+	org := fs.String("org", "", "with --influx-url: the 2.x organisation")
+	tokenEnv := fs.String("token-env", "DEWLINE_INFLUX_TOKEN", "with --influx-url: environment variable holding the token (\"user:pass\" for 1.8; unset: no authentication)")
+	since := fs.Duration("since", 30*24*time.Hour, "with --influx-url: how far back to look for series")
+	toS := fs.String("to", "", "with --influx-url: end of the window (RFC 3339; default now)")
+	fs.Usage = func() {
+		fmt.Fprintln(fs.Output(), "usage: dewline draft [flags] trends.csv ...\n       dewline draft [flags] --influx-url URL --bucket B")
+		fs.PrintDefaults()
+	}
+	if err := parseFlagsFiles(fs, args, e); err != nil {
+		return err
+	}
+	inputs = append(inputs, fs.Args()...)
+	if (len(inputs) == 0) == (*influxURL == "") {
+		return usagef("give either trend exports (files or --input) or --influx-url with --bucket")
+	}
+	var loc *time.Location
+	if *zone != "" {
+		l, err := time.LoadLocation(*zone)
+		if err != nil {
+			return usagef("--timezone %q is not an IANA zone name such as America/Chicago", *zone)
+		}
+		loc = l
+	}
+	s := draft.Site{Name: *site, TimeZone: *zone, Altitude: *altitude, Year: *year}
+	var points []draft.Point
+	if *influxURL != "" {
+		if *bucket == "" {
+			return usagef("--influx-url needs --bucket")
+		}
+		token := ""
+		if *tokenEnv != "" {
+			token = strings.TrimSpace(os.Getenv(*tokenEnv))
+		}
+		c, err := influx.New(influx.Options{URL: *influxURL, Org: *org, Bucket: *bucket, Token: token})
+		if err != nil {
+			return err
+		}
+		defer c.Close()
+		to := time.Now()
+		if *toS != "" {
+			t, err := time.Parse(time.RFC3339, *toS)
+			if err != nil {
+				return usagef("--to %q: use RFC 3339, e.g. 2026-07-01T00:00:00Z", *toS)
+			}
+			to = t
+		}
+		points, err = draft.ReadInflux(ctx, c, to.Add(-*since), to, 500)
+		if err != nil {
+			return err
+		}
+		s.Sources = []string{fmt.Sprintf("InfluxDB %s, bucket %s, %s to %s", *influxURL, *bucket, to.Add(-*since).UTC().Format(time.RFC3339), to.UTC().Format(time.RFC3339))}
+		s.InfluxURL, s.InfluxBucket, s.InfluxOrg = *influxURL, *bucket, *org
+		if token != "" {
+			s.InfluxTokenEnv = *tokenEnv
+		}
+	} else {
+		opt := csvfile.Options{Location: loc, Year: *year}
+		var err error
+		if opt.DayFirst, err = triFlag("day-first", *dayFirst); err != nil {
+			return err
+		}
+		if opt.DecimalComma, err = triFlag("decimal-comma", *decimalComma); err != nil {
+			return err
+		}
+		var rd draft.Read
+		points, rd, err = draft.ReadCSV(inputs, opt)
+		if errors.Is(err, csvfile.ErrNeedLocation) {
+			var fe *csvfile.FileError
+			name := "an export"
+			if errors.As(err, &fe) {
+				name = fe.File
+			}
+			return usagef("%s has local times without a UTC offset: pass --timezone with the site's IANA zone (e.g. America/Chicago), or --timezone UTC if the export is in UTC", name)
+		}
+		if err != nil {
+			return err
+		}
+		s.Sources = inputs
+		s.DayFirst, s.DecimalComma = orFlag(*dayFirst, rd.DayFirst), orFlag(*decimalComma, rd.DecimalComma)
+		e.log.Info().Int("files", len(inputs)).Int("values", rd.Rows).Int("rejected", rd.Rejected).Int("points", len(points)).Msg("exports read")
+	}
+	if len(points) == 0 {
+		return errors.New("no numeric series found; check the exports or the bucket and --since")
+	}
+	prop := draft.Propose(points, draft.Options{DefaultID: *id})
+	w := e.stdout
+	var f *os.File
+	if *out != "" {
+		var err error
+		if f, err = os.Create(*out); err != nil {
+			return fmt.Errorf("create %s: %w", *out, err)
+		}
+		w = f
+	}
+	if err := prop.Write(w, s); err != nil {
+		if f != nil {
+			_ = f.Close()
+		}
+		return fmt.Errorf("write the draft: %w", err)
+	}
+	if f != nil {
+		if err := f.Close(); err != nil {
+			return fmt.Errorf("write %s: %w", *out, err)
+		}
+	}
+	// The summary goes to standard error when the configuration goes to
+	// standard output.
+	sw := e.stderr
+	if *out != "" {
+		sw = e.stdout
+	}
+	complete := 0
+	for _, a := range prop.AirHandlers {
+		low := 0
+		for _, m := range a.Mappings {
+			if m.Conf == draft.Low {
+				low++
+			}
+		}
+		state := "complete"
+		if !a.Complete() {
+			state = "incomplete, commented out"
+		} else {
+			complete++
+		}
+		fmt.Fprintf(sw, "%-10s %2d roles mapped, %d to check (LOW), %s\n", a.ID, len(a.Mappings), low, state)
+		for _, m := range a.Missing {
+			fmt.Fprintf(sw, "           missing %s: look for %s\n", m.Role, m.LookFor)
+		}
+	}
+	fmt.Fprintf(sw, "%d point(s) read, %d left unassigned (listed at the end of the file)\n", len(points), len(prop.Unassigned))
+	if *out != "" {
+		fmt.Fprintf(sw, "next: review the ASSUMED and LOW lines of %s, then dewline check --config %s\n", *out, *out)
+	}
+	if complete == 0 {
+		return errors.New("no air handler has every required role; complete one in the draft (see missing above)")
+	}
+	return nil
+}
+
+// parseFlagsFiles parses flags that may be followed by file names.
+func parseFlagsFiles(fs *flag.FlagSet, args []string, e *env) error {
+	usage := fs.Usage
+	fs.SetOutput(nopWriter{})
+	fs.Usage = func() {}
+	err := fs.Parse(args)
+	if errors.Is(err, flag.ErrHelp) {
+		fs.SetOutput(e.stdout)
+		usage()
+		return err
+	}
+	if err != nil {
+		return usagef("%v (run \"dewline %s -h\" for the flags)", err, fs.Name())
+	}
+	return nil
+}
+
+type nopWriter struct{}
+
+func (nopWriter) Write(p []byte) (int, error) { return len(p), nil }
+
+func triFlag(name, v string) (csvfile.Tri, error) {
+	switch v {
+	case "":
+		return csvfile.Auto, nil
+	case "yes":
+		return csvfile.Yes, nil
+	case "no":
+		return csvfile.No, nil
+	}
+	return csvfile.Auto, usagef("--%s %q: use yes or no", name, v)
+}
+
+func orFlag(flagValue, detected string) string {
+	if flagValue != "" {
+		return flagValue
+	}
+	return detected
+}

@@ -1,0 +1,141 @@
+package main
+
+import (
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+	"testing"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/agent/config"
+	"github.com/dewline/dewline/deploy/demo"
+	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
+)
+
+// TestDraft_FixturesReachAnalyze: for each invented building of
+// testdata/draft exported as CSV, "dewline draft" writes a configuration
+// that "dewline check" accepts as it is, and "dewline analyze" computes
+// hours from it: no point map written by hand.
+func TestDraft_FixturesReachAnalyze(t *testing.T) {
+	for _, f := range []string{"northgate-library.csv", "kestrel-depot.csv", "alder-court.csv", "birchwood-annex.csv"} {
+		t.Run(f, func(t *testing.T) {
+			dir := t.TempDir()
+			export := filepath.Join("../../testdata/draft", f)
+			cfg := filepath.Join(dir, "site.yaml")
+			code, out, errOut := runCLI(t, "--log-level", "warn", "draft", "--timezone", "UTC", "-o", cfg, export)
+			require.Equal(t, 0, code, errOut)
+			assert.Contains(t, out, "complete")
+
+			code, out, errOut = runCLI(t, "--log-level", "warn", "check", "--config", cfg, "--input", export)
+			require.Equal(t, 0, code, errOut)
+			assert.Contains(t, out, "valid; 2 air handler(s)")
+
+			hourly := filepath.Join(dir, "hourly.csv")
+			code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", export, "--no-store", "--out", hourly)
+			require.Equal(t, 0, code, errOut)
+			_, rows := readHourly(t, hourly)
+			assert.NotEmpty(t, rows)
+		})
+	}
+}
+
+// TestDraft_DemoExports: the draft of the demo's exports against the demo's
+// own configuration, written independently of the draft's rules: every
+// role the demo maps gets the same point, and the draft analyses.
+func TestDraft_DemoExports(t *testing.T) {
+	dir := t.TempDir()
+	sc, err := demo.Write(dir, demo.Options{Days: demo.MinDays})
+	require.NoError(t, err)
+	want, err := config.Load(sc.ConfigPath)
+	require.NoError(t, err)
+
+	cfg := filepath.Join(dir, "draft.yaml")
+	args := append([]string{"--log-level", "warn", "draft", "--timezone", sc.Zone, "-o", cfg}, sc.Exports...)
+	code, out, errOut := runCLI(t, args...)
+	require.Equal(t, 0, code, errOut+out)
+	got, err := config.Load(cfg)
+	require.NoError(t, err)
+	require.Len(t, got.AirHandlers, len(want.AirHandlers))
+
+	n, same := 0, 0
+	for _, wa := range want.AirHandlers {
+		ga, ok := got.AirHandler(wa.ID)
+		require.True(t, ok, "air handler %s", wa.ID)
+		roles := make([]string, 0, len(wa.Points))
+		for r := range wa.Points {
+			roles = append(roles, r)
+		}
+		sort.Strings(roles)
+		for _, r := range roles {
+			n++
+			wp, gp := wa.Points[r], ga.Points[r]
+			if assert.Equal(t, wp.Name(), gp.Name(), "%s %s", wa.ID, r) && assert.True(t, sameUnitName(r, wp.Unit, gp.Unit), "%s %s: %s vs %s", wa.ID, r, wp.Unit, gp.Unit) {
+				same++
+			}
+		}
+	}
+	t.Logf("demo: %d of %d mappings of the demo's configuration proposed alike", same, n)
+
+	var inputs []string
+	for _, e := range sc.Exports {
+		inputs = append(inputs, "--input", e)
+	}
+	code, _, errOut = runCLI(t, append([]string{"--log-level", "warn", "check", "--config", cfg}, inputs...)...)
+	require.Equal(t, 0, code, errOut)
+	hourly := filepath.Join(dir, "hourly.csv")
+	code, _, errOut = runCLI(t, append([]string{"--log-level", "warn", "analyze", "--config", cfg, "--no-store", "--out", hourly}, inputs...)...)
+	require.Equal(t, 0, code, errOut)
+	_, rows := readHourly(t, hourly)
+	assert.Equal(t, len(want.AirHandlers)*demo.MinDays*24+len(want.AirHandlers), len(rows), "every air handler-hour of the period (the fall-back day has 25)")
+}
+
+// sameUnitName compares two unit names as the configuration reads them.
+func sameUnitName(role, a, b string) bool {
+	spec, _ := metrics.LookupRole(role)
+	ua, e1 := psychro.LookupUnit(spec.Kind, a)
+	ub, e2 := psychro.LookupUnit(spec.Kind, b)
+	return e1 == nil && e2 == nil && ua.Name == ub.Name
+}
+
+// TestDraft_OpenData: the open HILFT data (testdata/open; no unit row,
+// dates without a year) has no mixed-air point: the draft names the
+// roles it can read, writes the unit commented out with what is missing,
+// and says so with exit status 1.
+func TestDraft_OpenData(t *testing.T) {
+	dir := t.TempDir()
+	cfg := filepath.Join(dir, "draft.yaml")
+	code, out, errOut := runCLI(t, "--log-level", "warn", "draft", "--timezone", "UTC", "--year", "2023", "--day-first", "no",
+		"--id", "HP-1", "-o", cfg, "../../testdata/open/hilft-ashp/Atlanta_Eff_Default.csv.gz")
+	assert.Equal(t, 1, code, errOut)
+	assert.Contains(t, out, "missing entering_temp")
+	assert.Contains(t, out, "missing entering_rh or entering_dewpoint")
+	assert.Contains(t, out, "missing leaving_temp")
+	assert.Contains(t, errOut, "no air handler has every required role")
+	b, err := os.ReadFile(cfg)
+	require.NoError(t, err)
+	text := string(b)
+	// The mappings the data set's own configuration (config.yaml beside it,
+	// written by hand) also makes, with the units its metadata gives.
+	for _, want := range []string{
+		`#       supply_temp:        {column: "sa_temp", unit: "°F"}`,
+		`#       supply_flow:        {column: "sa_flow", unit: "CFM"}`,
+		`#       outdoor_temp:       {column: "oa_temp", unit: "°F"}`,
+		`#       leaving_dewpoint:   {column: "sa_temp_dp", unit: "°F"}`,
+	} {
+		assert.Contains(t, text, want)
+	}
+	assert.Contains(t, text, "air_handlers: []")
+	assert.True(t, strings.Contains(text, "# HP-1 is incomplete"), text)
+}
+
+// TestDraft_NeedsZone: local times without an offset need --timezone, and
+// the message says so with the file's name.
+func TestDraft_NeedsZone(t *testing.T) {
+	code, _, errOut := runCLI(t, "--log-level", "warn", "draft", "../../testdata/draft/alder-court.csv")
+	assert.Equal(t, 2, code)
+	assert.Contains(t, errOut, "alder-court.csv has local times without a UTC offset: pass --timezone")
+}
