@@ -164,6 +164,27 @@ func TestInflux_ReadWindowBounds(t *testing.T) {
 	assert.Equal(t, PointStats{Count: 3, First: from, Last: to.Add(-1), Series: 1}, st)
 }
 
+// TestInflux_ReadWideBounds: a wide read of [from, to) returns the rows at
+// from .. to-1 and not the one at to, which InfluxDB 1.x's range() would
+// include (its stop time is inclusive there; Flux documents it exclusive).
+func TestInflux_ReadWideBounds(t *testing.T) {
+	c := realClient(t, Options{})
+	m := unique("wide")
+	var lines bytes.Buffer
+	for h := -1; h <= 3; h++ {
+		fmt.Fprintf(&lines, "%s,ahu=AHU-1 reheat_kwh=%d %d\n", m, h, t0.Add(time.Duration(h)*time.Hour).UnixNano())
+	}
+	require.NoError(t, c.client.WriteAPIBlocking("", c.opt.Bucket).WriteRecord(context.Background(), lines.String()))
+	var got []time.Time
+	require.NoError(t, c.ReadWide(context.Background(), WideQuery{Measurement: m, Match: map[string]string{"ahu": "AHU-1"},
+		From: t0, To: t0.Add(2 * time.Hour)}, func(r Row) error {
+		at, err := r.Time()
+		got = append(got, at.UTC())
+		return err
+	}))
+	assert.Equal(t, []time.Time{t0, t0.Add(time.Hour)}, got)
+}
+
 // TestClient_ReadPointsAggregated has the server average 1-minute samples
 // valued 0, 1, 2, ... (minute index) over 15-minute windows. The mean of
 // the consecutive integers a..b is (a+b)/2.

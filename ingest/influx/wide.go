@@ -53,6 +53,9 @@ func (c *Client) ReadWide(ctx context.Context, q WideQuery, fn func(Row) error) 
 		fmt.Fprintf(&b, " and %s == %s", fluxColumn(k), fluxString(q.Match[k]))
 	}
 	b.WriteString(")\n")
+	// InfluxDB 1.x includes range()'s stop time: without this a period of
+	// N hours read N+1 hourly rows.
+	fmt.Fprintf(&b, "  |> filter(fn: (r) => r._time < %s)\n", fluxTime(q.To))
 	if len(q.Fields) > 0 {
 		b.WriteString("  |> filter(fn: (r) => ")
 		for i, f := range q.Fields {
