@@ -36,6 +36,15 @@ import (
 // ---------------------------------------------------------------------------
 // The binary
 
+// TestMain removes the binary the tests built.
+func TestMain(m *testing.M) {
+	code := m.Run()
+	if binPath != "" {
+		_ = os.Remove(binPath)
+	}
+	os.Exit(code)
+}
+
 var (
 	binOnce sync.Once
 	binPath string
@@ -43,8 +52,9 @@ var (
 )
 
 // dewlineBinary builds ./cmd/dewline once per test process. The binary goes
-// to the dewline cache (beside influxd) under a fixed name and is replaced
-// atomically, so a concurrent test run keeps executing its own copy.
+// to the dewline cache (beside influxd) under a name of its own, so a
+// concurrent test run of another checkout never executes this one's copy
+// (or this one theirs); TestMain removes it when the tests end.
 //
 // It is built without -race even when the tests run with it: under the race
 // detector the pure-Go SQLite driver imports a month of readings 30 times
@@ -74,8 +84,7 @@ func dewlineBinary(t testing.TB) string {
 			binErr = fmt.Errorf("go build ./cmd/dewline: %v\n%s", err, out)
 			return
 		}
-		binPath = filepath.Join(dir, "dewline-faulttest")
-		binErr = os.Rename(tmp.Name(), binPath)
+		binPath = tmp.Name()
 	})
 	require.NoError(t, binErr)
 	return binPath
