@@ -139,7 +139,7 @@ var configTypes = map[string]reflect.Type{
 	"agent.Fan": reflect.TypeOf(Fan{}), "agent.Target": reflect.TypeOf(Target{}),
 	"agent.Sensors": reflect.TypeOf(Sensors{}), "agent.Alerts": reflect.TypeOf(Alerts{}),
 	"agent.Exports": reflect.TypeOf(Exports{}), "agent.Schedule": reflect.TypeOf(Schedule{}), "agent.HTTP": reflect.TypeOf(HTTP{}), "agent.Webhook": reflect.TypeOf(Webhook{}),
-	"metrics.PointRef": reflect.TypeOf(metrics.PointRef{}),
+	"metrics.PointRef": reflect.TypeOf(metrics.PointRef{}), "agent.OutdoorAir": reflect.TypeOf(OutdoorAir{}),
 }
 
 func keysOf(typ string) []string {

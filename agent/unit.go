@@ -18,6 +18,7 @@ func (c *Config) Unit(a *AirHandler) *metrics.Unit {
 		ID:         a.ID,
 		PressurePa: c.PressurePa,
 		LeavingRH:  a.LeavingRHFrac,
+		MinOutdoor: a.MinOutdoorFrac,
 		FanRiseK:   a.FanHeatRiseK(),
 		Prices: metrics.Prices{
 			ElectricityPerKWh:      c.Prices.ElectricityPerKWh,

@@ -182,7 +182,7 @@ func Compute(u *Unit, hr *Hour) Record {
 		if q.OutOfRange > 0 || q.NotFinite > 0 {
 			flags = append(flags, FlagOutOfRange+r)
 		}
-		if flatRoles[Role(r)] && q.Samples >= 10 && q.OutOfRange == 0 && isFlat(hr.Values[Role(r)]) {
+		if flatRoles[Role(r)] && q.OutOfRange == 0 && (q.Flat || q.Samples >= 10 && isFlat(hr.Values[Role(r)])) {
 			flags = append(flags, FlagFlat+r)
 		}
 	}
@@ -213,6 +213,7 @@ func Compute(u *Unit, hr *Hour) Record {
 var flatRoles = map[Role]bool{
 	RoleEnteringTemp: true, RoleEnteringRH: true, RoleEnteringDewPoint: true, RoleLeavingTemp: true,
 	RoleLeavingRH: true, RoleLeavingDewPoint: true, RoleSupplyTemp: true, RoleSpaceRH: true, RoleOutdoorTemp: true,
+	RoleReturnTemp: true, RoleReturnRH: true, RoleReturnDewPoint: true, RoleOutdoorRH: true,
 }
 
 func isFlat(v []float64) bool {
@@ -248,6 +249,14 @@ func newEngine(u *Unit, hr *Hour) *engine {
 	if hr.Has(RoleSpaceRH) {
 		e.spaceHum = humRH
 	}
+	if e.humIn == humNone && hr.Has(RoleReturnTemp) && hr.Has(RoleOutdoorTemp) && hr.Has(RoleOutdoorRH) {
+		switch {
+		case hr.Has(RoleReturnRH):
+			e.mix, e.retHum = true, humRH
+		case hr.Has(RoleReturnDewPoint):
+			e.mix, e.retHum = true, humDewPoint
+		}
+	}
 	e.hasFanKW = hr.Has(RoleFanPower)
 	e.hasCoolKW = hr.Has(RoleCoolingPower)
 	e.hasReheatKW = hr.Has(RoleReheatPower)
@@ -265,6 +274,7 @@ func newEngine(u *Unit, hr *Hour) *engine {
 // (nil for unmapped roles).
 type cols struct {
 	tIn, humIn, tLv, lvHum, tSup, flow, fanKW, coolKW, reheatKW, tOut, spaceT, spaceHum []float64
+	tRet, retHum, oaRH, oaFlow                                                          []float64
 }
 
 func (e *engine) columns(hr *Hour) cols {
@@ -273,6 +283,13 @@ func (e *engine) columns(hr *Hour) cols {
 		flow: hr.Values[RoleSupplyFlow], fanKW: hr.Values[RoleFanPower], coolKW: hr.Values[RoleCoolingPower],
 		reheatKW: hr.Values[RoleReheatPower], tOut: hr.Values[RoleOutdoorTemp], spaceT: hr.Values[RoleSpaceTemp],
 		spaceHum: hr.Values[RoleSpaceRH],
+		tRet:     hr.Values[RoleReturnTemp], oaRH: hr.Values[RoleOutdoorRH], oaFlow: hr.Values[RoleOutdoorFlow],
+	}
+	switch e.retHum {
+	case humRH:
+		c.retHum = hr.Values[RoleReturnRH]
+	case humDewPoint:
+		c.retHum = hr.Values[RoleReturnDewPoint]
 	}
 	switch e.humIn {
 	case humRH:
@@ -301,6 +318,7 @@ func (c *cols) fill(in *stepIn, i int) {
 	in.tIn, in.humIn, in.tLv, in.lvHum = at(c.tIn, i), at(c.humIn, i), at(c.tLv, i), at(c.lvHum, i)
 	in.tSup, in.flow, in.fanKW, in.coolKW = at(c.tSup, i), at(c.flow, i), at(c.fanKW, i), at(c.coolKW, i)
 	in.reheatKW, in.tOut, in.spaceT, in.spaceHum = at(c.reheatKW, i), at(c.tOut, i), at(c.spaceT, i), at(c.spaceHum, i)
+	in.tRet, in.retHum, in.oaRH, in.oaFlow = at(c.tRet, i), at(c.retHum, i), at(c.oaRH, i), at(c.oaFlow, i)
 }
 
 // uncertainty sets the 95 % half-widths by first-order propagation of
@@ -314,9 +332,13 @@ func (e *engine) uncertainty(sens *[nSens][4]float64, rec *Record) {
 	a := e.u.Accuracy
 	var acc [nSens]float64
 	acc[sensTIn], acc[sensTLv], acc[sensTSup] = a.TempK, a.TempK, a.TempK
+	humIn := e.humIn
+	if e.mix {
+		humIn = e.retHum
+	}
 	for _, x := range []struct {
 		form, idx int
-	}{{e.humIn, sensHumIn}, {e.lvHum, sensLvHum}} {
+	}{{humIn, sensHumIn}, {e.lvHum, sensLvHum}} {
 		switch x.form {
 		case humRH:
 			acc[x.idx] = a.RH

@@ -22,6 +22,10 @@ type RoleQuality struct {
 	Samples    int     // samples logged inside the hour
 	OutOfRange int     // samples inside the hour excluded as physically implausible
 	NotFinite  int     // samples inside the hour that were NaN or infinite
+	// Flat: every sample of the hour repeats one value, in a run long
+	// enough that a working sensor would have moved (set by the aligner
+	// from the raw samples, whatever the logging interval).
+	Flat bool
 }
 
 // Steps returns the number of grid steps in the hour.

@@ -111,6 +111,7 @@ type Unit struct {
 	Fan           FanPosition
 	FanRiseK      float64 // used when no fan_kw is trended
 	LeavingRH     float64 // assumed coil leaving RH when not measured, fraction
+	MinOutdoor    float64 // outdoor-air share at minimum position, for mixing when temperatures are too close (0: unknown)
 	Target        Target
 	Prices        Prices
 	Accuracy      Accuracy

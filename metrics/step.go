@@ -12,6 +12,7 @@ type stepIn struct {
 	tIn, humIn, tLv, lvHum, tSup, flow float64 // humIn/lvHum: RH fraction or dew point °C per humKind
 	fanKW, coolKW, reheatKW, tOut      float64
 	spaceT, spaceHum                   float64
+	tRet, retHum, oaRH, oaFlow         float64 // return air, outdoor RH and airflow for mixing
 }
 
 // humidity sensor forms
@@ -52,6 +53,8 @@ type engine struct {
 	u                      *Unit
 	p                      float64
 	humIn, lvHum, spaceHum int
+	mix                    bool // entering state mixed from return and outdoor air
+	retHum                 int
 	hasFanKW, hasCoolKW    bool
 	hasReheatKW, hasSpaceT bool
 	wTarget                float64 // humidity ratio of the target (supply or space)
@@ -95,16 +98,69 @@ func (e *engine) wFromHum(form int, t, hum dv) (w dv, supersat, ok bool) {
 	return dv{}, false, false
 }
 
-// leavingW is the coil leaving humidity ratio by the assumed-RH rule: the
-// coil condenses only when it cools below the entering dew point, and never
-// adds moisture.
+// mixMinDeltaK is the smallest outdoor-to-return temperature difference
+// from which the outdoor-air share is taken from the three temperatures:
+// with ±0.3 K sensors, 3 K gives the share to within about 0.15 (common
+// practice, no source).
+const mixMinDeltaK = 3
+
+// mixedW is the humidity ratio of the air entering the coil, mixed from
+// return and outdoor air: W = x W_oa + (1 - x) W_ra, x the outdoor air's
+// share of the dry-air mass. x comes from the three temperatures, x = (t_ma
+// - t_ra) / (t_oa - t_ra), when outdoor and return differ by mixMinDeltaK
+// or more; else from the outdoor airflow over the supply airflow; else the
+// configured minimum share. The return humidity carries the entering
+// humidity sensor's uncertainty, the mixed-air temperature the share's.
+func (e *engine) mixedW(x *stepIn, tIn dv) (dv, bool) {
+	if math.IsNaN(x.tRet) || math.IsNaN(x.retHum) || math.IsNaN(x.tOut) || math.IsNaN(x.oaRH) {
+		return dv{}, false
+	}
+	wRa, _, ok := e.wFromHum(e.retHum, cst(x.tRet), seed(x.retHum, sensHumIn))
+	if !ok {
+		return dv{}, false
+	}
+	wOa, _, ok := e.wFromHum(humRH, cst(x.tOut), cst(x.oaRH))
+	if !ok {
+		return dv{}, false
+	}
+	var share dv
+	switch d := x.tOut - x.tRet; {
+	case math.Abs(d) >= mixMinDeltaK:
+		share = tIn.addc(-x.tRet).scale(1 / d)
+		if share.v < 0 {
+			share = cst(0)
+		} else if share.v > 1 {
+			share = cst(1)
+		}
+	case !math.IsNaN(x.oaFlow) && x.flow > 0:
+		share = cst(math.Min(1, x.oaFlow/x.flow))
+	case e.u.MinOutdoor > 0:
+		share = cst(e.u.MinOutdoor)
+	default:
+		return dv{}, false
+	}
+	return wOa.sub(wRa).mul(share).add(wRa), true
+}
+
+// leavingW is the coil leaving humidity ratio when no sensor measures it:
+// the leaving air at the assumed RH, never wetter than the entering air,
+// W_out = min(W_in, W(t_lv, RH_assumed)). The rule is continuous: the coil
+// starts to condense where air at the assumed RH holds the entering
+// moisture, a little above the entering dew point, as a coil with some
+// bypass air does (the apparatus-dew-point / bypass-factor picture of
+// ASHRAE Handbook - Fundamentals, ch. 1 and HVAC Systems and Equipment,
+// cooling coils, memory); there is no step of 1 - RH_assumed at the dew
+// point.
 func (e *engine) leavingW(t, wIn dv) dv {
-	pwIn := pwFromW(wIn, e.p)
+	return e.leavingWAt(t, wIn, e.u.LeavingRH)
+}
+
+func (e *engine) leavingWAt(t, wIn dv, rh float64) dv {
 	pws, ok := pwsD(t)
-	if !ok || pws.v >= pwIn.v { // at or above the entering dew point: dry coil
+	if !ok {
 		return wIn
 	}
-	return dmin(wIn, wFromPw(pws.scale(e.u.LeavingRH), e.p))
+	return dmin(wIn, wFromPw(pws.scale(rh), e.p))
 }
 
 // tRequired returns the coil leaving temperature at which air at the
@@ -147,11 +203,17 @@ func condensateD(t dv) dv {
 // or the readings describe no possible air state.
 func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	u := e.u
-	if math.IsNaN(x.tIn) || math.IsNaN(x.humIn) || math.IsNaN(x.tLv) || math.IsNaN(x.tSup) || math.IsNaN(x.flow) {
+	if math.IsNaN(x.tIn) || (!e.mix && math.IsNaN(x.humIn)) || math.IsNaN(x.tLv) || math.IsNaN(x.tSup) || math.IsNaN(x.flow) {
 		return o, false
 	}
 	tIn, tLv, tSup := seed(x.tIn, sensTIn), seed(x.tLv, sensTLv), seed(x.tSup, sensTSup)
-	wIn, supersat, ok := e.wFromHum(e.humIn, tIn, seed(x.humIn, sensHumIn))
+	var wIn dv
+	var supersat bool
+	if e.mix {
+		wIn, ok = e.mixedW(x, tIn)
+	} else {
+		wIn, supersat, ok = e.wFromHum(e.humIn, tIn, seed(x.humIn, sensHumIn))
+	}
 	if !ok {
 		return o, false
 	}
