@@ -41,6 +41,9 @@ func Compute(u *Unit, hr *Hour) Record {
 	in := &stepIn{}
 	var sens [nSens][4]float64
 	c := e.columns(hr)
+	if e.mix {
+		e.hourShare = c.share(n)
+	}
 	for i := 0; i < n; i++ {
 		c.fill(in, i)
 		o, ok := e.step(in)
@@ -69,6 +72,7 @@ func Compute(u *Unit, hr *Hour) Record {
 		rec.CoolingInputKWh += o.coolIn * dtH
 		rec.CoolingAvoidKWh += o.coolAvoidIn * dtH
 		rec.FanHeatKWh += o.fanHeat * dtH
+		rec.WaterReevaporatedKg += o.reevaporated * 3600 * dtH
 		if o.reheat.v > 0 {
 			reheatAvoidIn += o.reheatIn * o.reheatAvoid.v / o.reheat.v * dtH
 		}
@@ -118,6 +122,9 @@ func Compute(u *Unit, hr *Hour) Record {
 		sumTSup += in.tSup
 	}
 	rec.Coverage = float64(valid) / float64(n)
+	// A leaving sensor's noise was kept on both sides step by step; what the
+	// hour cannot tell from zero is no water.
+	rec.WaterRemovedKg = math.Max(0, rec.WaterRemovedKg)
 	nan := math.NaN()
 	rec.EnteringTempC, rec.EnteringDewPointC, rec.LeavingTempC, rec.LeavingDewPointC, rec.SupplyTempC = nan, nan, nan, nan, nan
 	rec.RequiredLeavingC, rec.OvercoolingK = nan, nan
@@ -145,7 +152,14 @@ func Compute(u *Unit, hr *Hour) Record {
 	}
 	rec.ReheatCoilRatio = ratio(rec.ReheatKWh, rec.CoilTotalKWh)
 	rec.CoilEER = psychro.COPToEER(ratio(rec.CoilTotalKWh, rec.CoolingInputKWh))
-	rec.EffectiveEER = psychro.COPToEER(ratio(rec.CoilTotalKWh-rec.ReheatKWh, rec.CoolingInputKWh+rec.ReheatInputKWh))
+	// Effective EER on electricity only: fuel kWh are not electric kWh and
+	// are not added to them. The cost-basis figure counts fuel as the
+	// electricity its price would buy at the site's prices.
+	rec.EffectiveEER = psychro.COPToEER(ratio(rec.CoilTotalKWh-rec.ReheatKWh, rec.ElectricityKWh))
+	rec.EffectiveEERCost = math.NaN()
+	if pr := u.Prices; pr.ElectricityPerKWh > 0 {
+		rec.EffectiveEERCost = psychro.COPToEER(ratio(rec.CoilTotalKWh-rec.ReheatKWh, rec.ElectricityKWh+rec.FuelKWh*pr.FuelPerKWh/pr.ElectricityPerKWh))
+	}
 	rec.SHR = ratio(rec.CoilSensibleKWh, rec.CoilTotalKWh)
 	rec.WaterPerKWhL = ratio(rec.WaterRemovedKg, rec.CoolingInputKWh+rec.ReheatInputKWh) // 1 kg of condensate is about 1 L
 
@@ -261,6 +275,17 @@ func newEngine(u *Unit, hr *Hour) *engine {
 	e.hasCoolKW = hr.Has(RoleCoolingPower)
 	e.hasReheatKW = hr.Has(RoleReheatPower)
 	e.hasSpaceT = hr.Has(RoleSpaceTemp)
+	// The dry-coil margin: twice the combined 95 % uncertainty of the
+	// leaving temperature and the entering dew point. An RH sensor's dew
+	// point uncertainty is taken near 60 % RH and 15 °C, where d ln p_ws /
+	// dT is about 0.065 /K (ASHRAE ch. 1 eq. 6, evaluated).
+	a := u.Accuracy
+	tdU := a.RH / 0.6 / 0.065
+	if e.humIn == humDewPoint {
+		tdU = a.DewPointK
+	}
+	e.dryMarginK = 2 * math.Hypot(a.TempK, tdU)
+	e.hourShare = math.NaN()
 	switch u.Target.Kind {
 	case TargetSupplyDewPoint, TargetSpaceDewPoint:
 		if pw, err := psychro.SatVapPressure(u.Target.DewPointC); err == nil {
@@ -304,6 +329,28 @@ func (e *engine) columns(hr *Hour) cols {
 		c.lvHum = hr.Values[RoleLeavingDewPoint]
 	}
 	return c
+}
+
+// share returns the mean outdoor-air share over the hour's steps where the
+// outdoor and return temperatures differ by mixMinDeltaK or more, NaN when
+// there are none.
+func (c *cols) share(n int) float64 {
+	if c.tRet == nil || c.tOut == nil || c.tIn == nil {
+		return math.NaN()
+	}
+	sum, k := 0.0, 0
+	for i := 0; i < n; i++ {
+		d := c.tOut[i] - c.tRet[i]
+		if math.IsNaN(d) || math.IsNaN(c.tIn[i]) || math.Abs(d) < mixMinDeltaK {
+			continue
+		}
+		sum += math.Max(0, math.Min(1, (c.tIn[i]-c.tRet[i])/d))
+		k++
+	}
+	if k == 0 {
+		return math.NaN()
+	}
+	return sum / float64(k)
 }
 
 func at(v []float64, i int) float64 {

@@ -42,7 +42,11 @@ type stepOut struct {
 	tReq                     float64 // coil leaving temperature the target requires, +Inf when none
 	tNeed                    float64 // coil temperature needed (T_c)
 	wReq                     float64 // supply humidity ratio the target requires
-	moistureAdded            bool    // measured leaving air wetter than entering beyond uncertainty
+	moistureAdded            bool    // measured leaving air wetter than entering beyond uncertainty while the coil cools
+	wetterOut                bool
+	measuredOut              bool    // a leaving sensor gave the leaving humidity
+	reevaporated             float64 // kg/s the wet coil gives back to the air while it does not cool
+	rhLv                     float64 // leaving RH used for the required temperature
 	enteringSupersat         bool    // entering dew point above dry bulb (sensor problem)
 	reheatWithoutCoil        bool    // supply warmer than leaving with no reheat coil
 	meteredCool, meteredHeat bool
@@ -58,7 +62,9 @@ type engine struct {
 	hasFanKW, hasCoolKW    bool
 	hasReheatKW, hasSpaceT bool
 	wTarget                float64 // humidity ratio of the target (supply or space)
-	reqW                   float64 // cache of tRequired for a constant target
+	reqW, reqRH            float64 // cache of tRequired for a constant target
+	dryMarginK             float64 // a coil leaving this far above the entering dew point is dry
+	hourShare              float64 // outdoor-air share of the hour's steps where the temperatures tell it; NaN when none
 	reqT                   dv
 	reqOK                  bool
 }
@@ -109,7 +115,8 @@ const mixMinDeltaK = 3
 // share of the dry-air mass. x comes from the three temperatures, x = (t_ma
 // - t_ra) / (t_oa - t_ra), when outdoor and return differ by mixMinDeltaK
 // or more; else from the outdoor airflow over the supply airflow; else the
-// configured minimum share. The return humidity carries the entering
+// mean share of the hour's steps where the temperatures told it (a damper
+// moves slowly); else the configured minimum share. The return humidity carries the entering
 // humidity sensor's uncertainty, the mixed-air temperature the share's.
 func (e *engine) mixedW(x *stepIn, tIn dv) (dv, bool) {
 	if math.IsNaN(x.tRet) || math.IsNaN(x.retHum) || math.IsNaN(x.tOut) || math.IsNaN(x.oaRH) {
@@ -134,6 +141,8 @@ func (e *engine) mixedW(x *stepIn, tIn dv) (dv, bool) {
 		}
 	case !math.IsNaN(x.oaFlow) && x.flow > 0:
 		share = cst(math.Min(1, x.oaFlow/x.flow))
+	case !math.IsNaN(e.hourShare):
+		share = cst(e.hourShare)
 	case e.u.MinOutdoor > 0:
 		share = cst(e.u.MinOutdoor)
 	default:
@@ -164,21 +173,22 @@ func (e *engine) leavingWAt(t, wIn dv, rh float64) dv {
 }
 
 // tRequired returns the coil leaving temperature at which air at the
-// assumed leaving RH has humidity ratio w: p_ws(T) = p_w(w) / RH.
-func (e *engine) tRequired(w dv) dv {
+// leaving RH rh (measured when a leaving sensor reads a wet coil, else the
+// assumed one) has humidity ratio w: p_ws(T) = p_w(w) / RH.
+func (e *engine) tRequired(w dv, rh float64) dv {
 	constant := w.g == [nSens]float64{}
-	if constant && e.reqOK && w.v == e.reqW {
+	if constant && e.reqOK && w.v == e.reqW && rh == e.reqRH {
 		return e.reqT // a fixed target: the same answer every step
 	}
-	r := e.tRequiredCalc(w)
+	r := e.tRequiredCalc(w, rh)
 	if constant {
-		e.reqW, e.reqT, e.reqOK = w.v, r, true
+		e.reqW, e.reqRH, e.reqT, e.reqOK = w.v, rh, r, true
 	}
 	return r
 }
 
-func (e *engine) tRequiredCalc(w dv) dv {
-	pw := pwFromW(w, e.p).scale(1 / e.u.LeavingRH)
+func (e *engine) tRequiredCalc(w dv, rh float64) dv {
+	pw := pwFromW(w, e.p).scale(1 / rh)
 	t, err := psychro.DewPointFromVapPressure(pw.v)
 	if err != nil {
 		return cst(math.Inf(-1))
@@ -219,14 +229,30 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	}
 	o.wIn, o.enteringSupersat = wIn.v, supersat
 
-	// Leaving humidity: measured when a sensor reads, else the assumed-RH rule.
+	// Leaving humidity. Physics first: a coil leaving clearly above the
+	// entering dew point (by more than twice the sensors' combined
+	// uncertainty, so a coil wetted on part of its surface still counts)
+	// condenses nothing, whatever a leaving sensor reads. Otherwise a
+	// leaving sensor refines the wet coil; its noise is kept on both sides
+	// (clipping only the wet side would turn noise into water) and the
+	// hour's water is clipped at zero instead. Without a sensor, the
+	// assumed-RH rule.
 	var wOut dv
 	measured := false
+	o.rhLv = u.LeavingRH
+	dry := false
 	if e.lvHum != humNone && !math.IsNaN(x.lvHum) {
+		if td, err := psychro.DewPointFromHumRatio(wIn.v, e.p); err == nil && x.tLv > td+e.dryMarginK {
+			dry = true
+		}
+	}
+	if e.lvHum != humNone && !math.IsNaN(x.lvHum) && !dry {
 		if w, _, ok := e.wFromHum(e.lvHum, tLv, seed(x.lvHum, sensLvHum)); ok {
 			measured = true
 			// A leaving sensor that reads wetter than the entering air beyond
-			// its accuracy is a sensor finding, not a negative latent load.
+			// its accuracy while the coil cools is a sensor finding, not a
+			// negative latent load; with the coil off it is water the wet
+			// coil gives back to the air.
 			tol := 0.0
 			switch e.lvHum {
 			case humRH:
@@ -234,15 +260,19 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 			case humDewPoint:
 				tol = w.g[sensLvHum] * u.Accuracy.DewPointK
 			}
-			if w.v > wIn.v+tol {
-				o.moistureAdded = true
+			o.wetterOut = w.v > wIn.v+tol
+			wOut = w
+			if w.v < wIn.v {
+				if pws, err := psychro.SatVapPressure(x.tLv); err == nil && pws > 0 {
+					o.rhLv = math.Max(0.5, math.Min(1, pwFromW(w, e.p).v/pws))
+				}
 			}
-			wOut = dmin(w, wIn)
 		}
 	}
 	if !measured {
 		wOut = e.leavingW(tLv, wIn)
 	}
+	o.measuredOut = measured
 	o.wOut = wOut.v
 
 	// Dry-air mass flow on the configured basis.
@@ -265,8 +295,12 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 
 	// Cooling coil.
 	hIn, hOut := hD(tIn, wIn), hD(tLv, wOut)
+	if measured && !(x.tIn-x.tLv > u.Thresholds.CoilDeadbandK) && wOut.v > wIn.v && m.v > 0 {
+		o.reevaporated = m.v * (wOut.v - wIn.v)
+	}
 	if x.tIn-x.tLv > u.Thresholds.CoilDeadbandK && m.v > 0 {
 		o.coolOn = true
+		o.moistureAdded = o.wetterOut
 		o.water = m.mul(wIn.sub(wOut))
 		gross := m.mul(hIn.sub(hOut))
 		o.total = gross.sub(o.water.mul(condensateD(tLv)))
@@ -327,19 +361,21 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	tReq := cst(math.Inf(1))
 	if wIn.v > wReq.v {
 		o.humidityNeed = true
-		tReq = e.tRequired(wReq)
+		tReq = e.tRequired(wReq, o.rhLv)
 	}
 	o.tReq = tReq.v
 	tc := dmin(tIn, dmin(tSupEff, tReq))
 	o.tNeed = tc.v
 	wc := wIn
 	if tc.v < tIn.v {
-		wc = e.leavingW(tc, wIn)
+		wc = e.leavingWAt(tc, wIn, o.rhLv)
 		mw := m.v * (wIn.v - wc.v)
 		o.coilNeeded = math.Max(0, m.v*(hIn.v-h(tc.v, wc.v))-mw*condensate(tc.v))
 	}
 	if o.reheatOn {
-		needed := dmax(cst(0), m.mul(cpD(wc)).mul(tSupEff.sub(tc)))
+		// Needed never exceeds what was delivered: a coil warmer than the
+		// target required left a shortfall, reported on its own.
+		needed := dmin(o.reheat, dmax(cst(0), m.mul(cpD(wc)).mul(tSupEff.sub(tc))))
 		o.reheatNeeded = needed.v
 		o.reheatAvoid = dmax(cst(0), o.reheat.sub(needed))
 	}

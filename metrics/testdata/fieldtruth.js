@@ -28,7 +28,8 @@
 //     saturating at 100 %), coil run warm (dry) at night and in the dry spell;
 //   - AHU-3: no mixed-air RH: return temperature (change of value) and RH
 //     (15-minute), outdoor temperature and RH (5-minute), mixed-air
-//     temperature (1-minute); the outdoor-air share follows occupancy;
+//     temperature (1-minute); the outdoor-air share sits at its minimum
+//     (30 %) and an economizer opens it when the outdoor air is cool and dry;
 //   - AHU-4: the coil set point follows the humidity target through a slow
 //     reset that lags after the dry spell, so the coil runs warmer than the
 //     target needs for hours (too little dehumidification), and colder than
@@ -118,7 +119,7 @@ const units = [
     cool: 'dx', eer: 11.2, eerPerK: -0.12, swing: 3.0, supSet: 17.5, gainOcc: 0.0011, gainUnocc: 0.0004 },
   { id: 'AHU-2', bf: 0.12, flowDay: 3.4, flowNight: 2.2, oaMin: 0.25, oaOcc: 0.35, targetTd: 11, fan: 0, reheat: 'hot_water', boiler: 0.82,
     cool: 'chw', kwPerTon: 0.9, swing: 0, supSet: 16.5, gainOcc: 0.0010, gainUnocc: 0.0003 },
-  { id: 'AHU-3', bf: 0.10, flowDay: 5.0, flowNight: 3.0, oaMin: 0.2, oaOcc: 0.35, targetTd: 12, fan: 0, reheat: 'electric',
+  { id: 'AHU-3', bf: 0.10, flowDay: 5.0, flowNight: 3.0, oaMin: 0.3, oaOcc: 0.3, economizer: true, targetTd: 12, fan: 0, reheat: 'electric',
     cool: 'dx', eer: 10.5, eerPerK: -0.1, swing: 0, supSet: 17, gainOcc: 0.0012, gainUnocc: 0.0004 },
   { id: 'AHU-4', bf: 0.10, flowDay: 3.8, flowNight: 2.4, oaMin: 0.25, oaOcc: 0.3, targetTd: 12.5, fan: 0.6, reheat: 'electric',
     cool: 'dx', eer: 11, eerPerK: -0.1, swing: 0, supSet: 17.5, gainOcc: 0.0011, gainUnocc: 0.0004 },
@@ -206,18 +207,21 @@ for (const u of units) {
     if (!acc) return;
     const eer = acc.coolIn + acc.reheatElec > 0 && acc.coilOnMin >= 30 ? 3.412142 * (acc.coil - acc.reheat) / (acc.coolIn + acc.reheatElec) : NaN;
     truthRows.push([new Date(hourStart).toISOString().replace('.000Z', 'Z'), u.id, acc.water, acc.coil, acc.reheat, eer,
-      acc.needed, acc.shortfall, acc.stuck ? 1 : 0, acc.dryAir, acc.coolIn, acc.wetMin].join(','));
+      acc.needed, acc.shortfall, acc.stuck ? 1 : 0, acc.dryAir, acc.coolIn, acc.wetMin,
+      psy.GetTDewPointFromHumRatio(20, acc.wInSum / 60, P), psy.GetTDewPointFromHumRatio(20, acc.wOutSum / 60, P), acc.tLvSum / 60].join(','));
   };
   for (let m = 0; m < MINUTES; m++) {
     const ms = T0 + m * 60e3;
-    if ((ms - T0) % 3600e3 === 0) { flush(); hourStart = ms; acc = { water: 0, coil: 0, reheat: 0, needed: 0, shortfall: 0, coolIn: 0, reheatElec: 0, dryAir: 0, coilOnMin: 0, stuck: false, wetMin: 0 }; }
+    if ((ms - T0) % 3600e3 === 0) { flush(); hourStart = ms; acc = { water: 0, coil: 0, reheat: 0, needed: 0, shortfall: 0, coolIn: 0, reheatElec: 0, dryAir: 0, coilOnMin: 0, stuck: false, wetMin: 0, wInSum: 0, wOutSum: 0, tLvSum: 0 }; }
     const lh = localHour(ms);
     const occ = lh >= 6 && lh < 20;
     const oa = weather(ms);
     // return air: space temperature with zone cycling, moisture from a first-order space
     tRaSlow = 23.5 + 0.4 * Math.sin(2 * Math.PI * (lh - 14) / 24);
     const tRa = tRaSlow + u.swing * Math.sin(2 * Math.PI * m / 20);
-    const x = occ ? u.oaOcc : u.oaMin;
+    let x = occ ? u.oaOcc : u.oaMin;
+    // a dry-bulb economizer opens the damper when the outdoor air is cool and dry
+    if (u.economizer && oa.t < tRa - 4 && oa.w < wRa) x = Math.min(0.7, x + 0.08 * (tRa - 4 - oa.t));
     const hMix = x * hk(oa.t, oa.w) + (1 - x) * hk(tRa, wRa);
     const wIn = x * oa.w + (1 - x) * wRa;
     const tIn = psy.GetTDryBulbFromEnthalpyAndHumRatio(hMix * 1000, wIn);
@@ -276,6 +280,7 @@ for (const u of units) {
 
     acc.water += water * 60; acc.coil += coil / 60; acc.reheat += reheat / 60; acc.needed += needed / 60;
     acc.shortfall += shortfall * 60; acc.coolIn += coolIn / 60; acc.reheatElec += reheatElec / 60; acc.dryAir += mDa * 60;
+    acc.wInSum += wIn; acc.wOutSum += wOut; acc.tLvSum += tLv;
     if (on) acc.coilOnMin++;
     if (wOut < wIn - 1e-7) acc.wetMin++;
 
@@ -313,7 +318,7 @@ for (const u of units) {
 }
 
 fs.writeFileSync(path.join(out, 'truth.csv'),
-  'hour_start,ahu,water_kg,coil_net_kwh,reheat_kwh,effective_eer_electric,reheat_needed_kwh,shortfall_kg,stuck,dry_air_kg,cooling_input_kwh,wet_minutes\n' +
+  'hour_start,ahu,water_kg,coil_net_kwh,reheat_kwh,effective_eer_electric,reheat_needed_kwh,shortfall_kg,stuck,dry_air_kg,cooling_input_kwh,wet_minutes,entering_dewpoint_c,leaving_dewpoint_c,leaving_temp_c\n' +
   truthRows.join('\n') + '\n');
 
 // The configuration: what a careful user writes for these units.
@@ -346,7 +351,7 @@ ${pointsYaml('AHU-2')}
     reheat: {kind: electric}
     airflow: {basis: standard}
     fan: {position: none}
-    outdoor_air: {min_fraction: 20%}
+    outdoor_air: {min_fraction: 30%}
     target: {max_supply_dewpoint: 12C}
     points:
 ${pointsYaml('AHU-3')}
