@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"sync"
 	"time"
 
 	"github.com/dewline/dewline/psychro"
@@ -286,6 +287,7 @@ func newEngine(u *Unit, hr *Hour) *engine {
 	}
 	e.dryMarginK = 2 * math.Hypot(a.TempK, tdU)
 	e.hourShare = math.NaN()
+	e.bf = bypassFor(u.LeavingRH, e.p)
 	switch u.Target.Kind {
 	case TargetSupplyDewPoint, TargetSpaceDewPoint:
 		if pw, err := psychro.SatVapPressure(u.Target.DewPointC); err == nil {
@@ -414,3 +416,25 @@ func (r *Record) String() string {
 	return fmt.Sprintf("%s %s cov=%.2f water=%.2fkg coil=%.2fkWh reheat=%.2fkWh (needed %.2f, avoidable %.2f) cool_in=%.2fkWh eer_eff=%.2f flags=%v",
 		r.AHU, r.HourStart.Format(time.RFC3339), r.Coverage, r.WaterRemovedKg, r.CoilTotalKWh, r.ReheatKWh, r.ReheatNeededKWh, r.ReheatAvoidKWh, r.CoolingInputKWh, r.EffectiveEER, r.Flags)
 }
+
+// bypassFor caches bypassFactor by leaving RH and pressure: units share a
+// handful of settings, and the search costs sixty saturation pressures.
+func bypassFor(rh, p float64) float64 {
+	k := [2]float64{rh, p}
+	bfMu.Lock()
+	defer bfMu.Unlock()
+	if v, ok := bfCache[k]; ok {
+		return v
+	}
+	v := bypassFactor(rh, p)
+	if len(bfCache) > 256 {
+		clear(bfCache)
+	}
+	bfCache[k] = v
+	return v
+}
+
+var (
+	bfMu    sync.Mutex
+	bfCache = map[[2]float64]float64{}
+)

@@ -64,6 +64,7 @@ type engine struct {
 	wTarget                float64 // humidity ratio of the target (supply or space)
 	reqW, reqRH            float64 // cache of tRequired for a constant target
 	dryMarginK             float64 // a coil leaving this far above the entering dew point is dry
+	bf                     float64 // coil bypass factor, from the assumed leaving RH
 	hourShare              float64 // outdoor-air share of the hour's steps where the temperatures tell it; NaN when none
 	reqT                   dv
 	reqOK                  bool
@@ -151,19 +152,36 @@ func (e *engine) mixedW(x *stepIn, tIn dv) (dv, bool) {
 	return wOa.sub(wRa).mul(share).add(wRa), true
 }
 
-// leavingW is the coil leaving humidity ratio when no sensor measures it:
-// the leaving air at the assumed RH, never wetter than the entering air,
-// W_out = min(W_in, W(t_lv, RH_assumed)). The rule is continuous: the coil
-// starts to condense where air at the assumed RH holds the entering
-// moisture, a little above the entering dew point, as a coil with some
-// bypass air does (the apparatus-dew-point / bypass-factor picture of
-// ASHRAE Handbook - Fundamentals, ch. 1 and HVAC Systems and Equipment,
-// cooling coils, memory); there is no step of 1 - RH_assumed at the dew
-// point.
-func (e *engine) leavingW(t, wIn dv) dv {
-	return e.leavingWAt(t, wIn, e.u.LeavingRH)
+// leavingW is the coil leaving humidity ratio when no sensor measures it,
+// by the apparatus-dew-point / bypass-factor model of a cooling coil
+// (ASHRAE Handbook - Fundamentals, ch. 1 and HVAC Systems and Equipment,
+// cooling coils, memory): a share BF of the air passes the coil untouched,
+// the rest leaves saturated at the apparatus dew point ADP, so the leaving
+// dry bulb is t_lv = ADP + BF (t_in - ADP) and W_out = W_s(ADP) + BF (W_in -
+// W_s(ADP)) when W_s(ADP) < W_in, else W_in (the coil surface is above the
+// entering dew point: a dry coil). The rule is continuous: condensation
+// starts where the apparatus dew point reaches the entering dew point,
+// with no step. BF comes from the assumed leaving RH (see bypassFactor).
+func (e *engine) leavingW(tIn, t, wIn dv) dv {
+	if t.v >= tIn.v {
+		return wIn
+	}
+	bf := e.bf
+	adp := t.sub(tIn.scale(bf)).scale(1 / (1 - bf))
+	pws, ok := pwsD(adp)
+	if !ok || pws.v >= e.p {
+		return wIn
+	}
+	ws := wFromPw(pws, e.p)
+	if ws.v >= wIn.v {
+		return wIn
+	}
+	return wIn.sub(ws).scale(bf).add(ws)
 }
 
+// leavingWAt is the leaving humidity ratio of air at t and relative
+// humidity rh, never wetter than the entering air: the rule with a
+// measured leaving RH.
 func (e *engine) leavingWAt(t, wIn dv, rh float64) dv {
 	pws, ok := pwsD(t)
 	if !ok {
@@ -172,23 +190,73 @@ func (e *engine) leavingWAt(t, wIn dv, rh float64) dv {
 	return dmin(wIn, wFromPw(pws.scale(rh), e.p))
 }
 
-// tRequired returns the coil leaving temperature at which air at the
-// leaving RH rh (measured when a leaving sensor reads a wet coil, else the
-// assumed one) has humidity ratio w: p_ws(T) = p_w(w) / RH.
-func (e *engine) tRequired(w dv, rh float64) dv {
+// Rating point from which the bypass factor follows: the entering air of
+// the AHRI unitary rating, 80 °F dry bulb / 67 °F wet bulb (memory), cooled
+// to 55 °F, a usual design leaving temperature (common practice, no source).
+const (
+	bfRefInC  = 26.6667
+	bfRefWbC  = 19.4444
+	bfRefOutC = 12.7778
+)
+
+// bypassFactor returns the bypass factor of a coil that leaves the rating
+// point's air at relative humidity rh: the line from the entering state
+// through the leaving state meets saturation at the apparatus dew point,
+// and BF = (t_lv - ADP) / (t_in - ADP). 1 % RH below saturation is about
+// 0.02 of BF; rh = 1 gives BF = 0.
+func bypassFactor(rh, p float64) float64 {
+	wIn, err := psychro.HumRatioFromWetBulb(bfRefInC, bfRefWbC, p)
+	if err != nil || rh >= 1 {
+		return 0
+	}
+	wOut := wAtRH(bfRefOutC, rh, p)
+	lo, hi := -20.0, bfRefOutC // ADP between; the line's W at ADP minus W_s(ADP) changes sign once
+	for i := 0; i < 60; i++ {
+		adp := (lo + hi) / 2
+		// the line E -> L extended to adp
+		wLine := wOut + (wOut-wIn)*(bfRefOutC-adp)/(bfRefInC-bfRefOutC)
+		if wLine > wAtRH(adp, 1, p) {
+			lo = adp // the line is still above saturation: the crossing is warmer
+		} else {
+			hi = adp
+		}
+	}
+	adp := (lo + hi) / 2
+	return (bfRefOutC - adp) / (bfRefInC - adp)
+}
+
+// tRequired returns the coil leaving temperature at which the coil leaves
+// air at humidity ratio w. With a measured leaving RH rh (a wet coil's
+// sensor), air at rh: p_ws(T) = p_w(w) / RH. Otherwise the bypass-factor
+// model in closed form: W_s(ADP) = (w - BF W_in) / (1 - BF), T = ADP + BF
+// (t_in - ADP).
+func (e *engine) tRequired(w, tIn, wIn dv, rh float64, measured bool) dv {
+	if !measured {
+		ws := w.sub(wIn.scale(e.bf)).scale(1 / (1 - e.bf))
+		if ws.v <= 0 {
+			return cst(math.Inf(-1))
+		}
+		adp := e.dewPointD(ws)
+		return adp.scale(1 - e.bf).add(tIn.scale(e.bf))
+	}
 	constant := w.g == [nSens]float64{}
 	if constant && e.reqOK && w.v == e.reqW && rh == e.reqRH {
 		return e.reqT // a fixed target: the same answer every step
 	}
-	r := e.tRequiredCalc(w, rh)
+	r := e.dewPointD(pwToW(pwFromW(w, e.p).scale(1/rh), e.p))
 	if constant {
 		e.reqW, e.reqRH, e.reqT, e.reqOK = w.v, rh, r, true
 	}
 	return r
 }
 
-func (e *engine) tRequiredCalc(w dv, rh float64) dv {
-	pw := pwFromW(w, e.p).scale(1 / rh)
+// pwToW is W from a vapour pressure (the same as wFromPw; named for the
+// direction it is read in).
+func pwToW(pw dv, p float64) dv { return wFromPw(pw, p) }
+
+// dewPointD is the dew point of a dual humidity ratio.
+func (e *engine) dewPointD(w dv) dv {
+	pw := pwFromW(w, e.p)
 	t, err := psychro.DewPointFromVapPressure(pw.v)
 	if err != nil {
 		return cst(math.Inf(-1))
@@ -270,7 +338,7 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 		}
 	}
 	if !measured {
-		wOut = e.leavingW(tLv, wIn)
+		wOut = e.leavingW(tIn, tLv, wIn)
 	}
 	o.measuredOut = measured
 	o.wOut = wOut.v
@@ -361,14 +429,18 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	tReq := cst(math.Inf(1))
 	if wIn.v > wReq.v {
 		o.humidityNeed = true
-		tReq = e.tRequired(wReq, o.rhLv)
+		tReq = e.tRequired(wReq, tIn, wIn, o.rhLv, measured)
 	}
 	o.tReq = tReq.v
 	tc := dmin(tIn, dmin(tSupEff, tReq))
 	o.tNeed = tc.v
 	wc := wIn
 	if tc.v < tIn.v {
-		wc = e.leavingWAt(tc, wIn, o.rhLv)
+		if measured {
+			wc = e.leavingWAt(tc, wIn, o.rhLv)
+		} else {
+			wc = e.leavingW(tIn, tc, wIn)
+		}
 		mw := m.v * (wIn.v - wc.v)
 		o.coilNeeded = math.Max(0, m.v*(hIn.v-h(tc.v, wc.v))-mw*condensate(tc.v))
 	}
