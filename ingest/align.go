@@ -61,11 +61,11 @@ func Align(ahu string, from time.Time, hours int, step time.Duration, series []S
 // temperature moves would bias the humidity ratio by about 6 % per kelvin.
 //
 // A sensor that repeats exactly the same value is flagged whatever its
-// logging interval (RoleQuality.Flat): every sample of the hour belongs to
-// one run of identical values that spans FlatSpan or more, counting the
-// samples already queued after the hour (up to FlatLookahead of them are
-// available when the input runs that far ahead), or the hour has ten or
-// more samples, all identical.
+// logging interval: when every sample of the hour belongs to one run of
+// identical values, RoleQuality.Flat says the hour has ten or more of them
+// and RoleQuality.FlatFor how long the run lasts, counting the samples
+// already queued after the hour (up to FlatLookahead of them are available
+// when the input runs that far ahead).
 type Aligner struct {
 	ahu     string
 	step    time.Duration
@@ -99,14 +99,14 @@ type roleStream struct {
 	runN     int
 }
 
-// FlatSpan is how long a run of identical samples must last before the
-// sensor counts as flat whatever its logging interval; FlatLookahead is how
+// FlatSpan is how long a run of identical samples must last before a
+// humidity or outdoor sensor counts as flat whatever its logging interval
+// (metrics.FlatSpan); FlatLookahead is how
 // far after an hour a reader should have pushed samples before emitting it,
 // so a run that starts in the hour can be seen to go on (common practice,
 // no source: an RH or temperature sensor in a working air handler does not
 // repeat its reading exactly for three hours).
 const (
-	FlatSpan      = 3 * time.Hour
 	FlatLookahead = 3 * time.Hour
 	flatMinRun    = 6 // samples in a run of FlatSpan
 	flatMinHour   = 10
@@ -276,7 +276,7 @@ func (a *Aligner) hour() *metrics.Hour {
 		// Drop what was consumed; keep the backing array small.
 		r.queue = append(r.queue[:0], r.queue[k:]...)
 		q.Coverage = float64(present) / float64(a.n)
-		q.Flat = r.flat(q.Samples, firstIn)
+		q.Flat, q.FlatFor = r.flat(q.Samples, firstIn)
 		h.Values[r.role] = vals
 		h.Quality[r.role] = q
 	}
@@ -305,14 +305,12 @@ func (r *roleStream) moisture(tC float64) float64 {
 }
 
 // flat reports whether the hour's samples all belong to the current run of
-// identical values and that run is long: FlatSpan or more including the
-// samples queued after the hour, or ten or more samples inside the hour.
-func (r *roleStream) flat(samples int, firstIn time.Time) bool {
+// identical values, and then whether the hour alone has ten or more of
+// them, and how long the run lasts including the samples queued after the
+// hour (0 when it has fewer than six samples).
+func (r *roleStream) flat(samples int, firstIn time.Time) (bool, time.Duration) {
 	if samples == 0 || r.runN == 0 || firstIn.IsZero() || r.runFirst.After(firstIn) {
-		return false
-	}
-	if samples >= flatMinHour {
-		return true
+		return false, 0
 	}
 	n, last := r.runN, r.runLast
 	for _, s := range r.queue {
@@ -322,5 +320,9 @@ func (r *roleStream) flat(samples int, firstIn time.Time) bool {
 		n++
 		last = s.Time
 	}
-	return n >= flatMinRun && last.Sub(r.runFirst) >= FlatSpan
+	span := time.Duration(0)
+	if n >= flatMinRun {
+		span = last.Sub(r.runFirst)
+	}
+	return samples >= flatMinHour, span
 }

@@ -197,7 +197,8 @@ func Compute(u *Unit, hr *Hour) Record {
 		if q.OutOfRange > 0 || q.NotFinite > 0 {
 			flags = append(flags, FlagOutOfRange+r)
 		}
-		if flatRoles[Role(r)] && q.OutOfRange == 0 && (q.Flat || q.Samples >= 10 && isFlat(hr.Values[Role(r)])) {
+		if flatRoles[Role(r)] && q.OutOfRange == 0 &&
+			(q.Flat || q.Samples >= 10 && isFlat(hr.Values[Role(r)]) || slowFlatRoles[Role(r)] && q.FlatFor >= FlatSpan) {
 			flags = append(flags, FlagFlat+r)
 		}
 	}
@@ -230,6 +231,23 @@ var flatRoles = map[Role]bool{
 	RoleLeavingRH: true, RoleLeavingDewPoint: true, RoleSupplyTemp: true, RoleSpaceRH: true, RoleOutdoorTemp: true,
 	RoleReturnTemp: true, RoleReturnRH: true, RoleReturnDewPoint: true, RoleOutdoorRH: true,
 }
+
+// slowFlatRoles are the sensors of air whose state no controller holds:
+// humidity and outdoor temperature. One that repeats its exact value for
+// FlatSpan is stuck, however seldom it is logged (a 15-minute or
+// change-of-value log gives too few samples in an hour to tell). Supply and
+// coil leaving temperatures sit at their set points and are left to the
+// one-hour rule (common practice, no source).
+var slowFlatRoles = map[Role]bool{
+	RoleEnteringRH: true, RoleEnteringDewPoint: true, RoleLeavingRH: true, RoleLeavingDewPoint: true,
+	RoleSpaceRH: true, RoleReturnRH: true, RoleReturnDewPoint: true, RoleOutdoorRH: true, RoleOutdoorTemp: true,
+}
+
+// FlatSpan is how long a humidity or outdoor sensor must repeat exactly the
+// same value before it is flagged flat whatever its logging interval
+// (common practice, no source: such a sensor in moving air does not repeat
+// its reading for three hours at 0.1 % RH resolution).
+const FlatSpan = 3 * time.Hour
 
 func isFlat(v []float64) bool {
 	first, seen := math.NaN(), 0

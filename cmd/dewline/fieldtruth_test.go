@@ -164,7 +164,7 @@ func TestFieldTruth_Goals(t *testing.T) {
 	needed := &hourErrors{name: "reheat needed for the target"}
 	byUnit := map[string]*hourErrors{}
 	stuck, stuckFlagged := 0, 0
-	var missing []string
+	var missing, falseFlat, dryWater []string
 	for _, r := range truth {
 		key := r["ahu"] + " " + r["hour_start"]
 		g, ok := got[key]
@@ -173,6 +173,16 @@ func TestFieldTruth_Goals(t *testing.T) {
 			continue
 		}
 		floor := func(f string) float64 { return 0.1 * mean[r["ahu"]][f] / count[r["ahu"]] }
+		for _, f := range strings.Fields(g["flags"]) {
+			if strings.HasPrefix(f, "flat:") && r["stuck"] != "1" {
+				falseFlat = append(falseFlat, key+" "+f)
+			}
+		}
+		// A coil whose surface never reached the entering dew point (no wet
+		// minute in the truth) removes no water.
+		if r["wet_minutes"] == "0" && fnum(g["water_removed_kg"]) > 0.5 {
+			dryWater = append(dryWater, fmt.Sprintf("%s: %s kg", key, g["water_removed_kg"]))
+		}
 		if r["stuck"] == "1" {
 			stuck++
 			if strings.Contains(g["flags"], "flat:entering_rh") {
@@ -194,6 +204,8 @@ func TestFieldTruth_Goals(t *testing.T) {
 		needed.add(fnum(r["reheat_needed_kwh"]), fnum(g["reheat_needed_kwh"]), floor("reheat_needed_kwh"), key)
 	}
 	require.Empty(t, missing, "hours without a record")
+	assert.Empty(t, falseFlat, "flat flags on sensors that work")
+	assert.Empty(t, dryWater, "water on dry-coil hours")
 	goals := []struct {
 		e         *hourErrors
 		mape, p95 float64
