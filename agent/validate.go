@@ -546,7 +546,9 @@ func placeWord(name string) string {
 
 func sameSensorAllowed(a, b string) bool {
 	pair := map[string]bool{a: true, b: true}
-	return pair[string(metrics.RoleLeavingTemp)] && pair[string(metrics.RoleSupplyTemp)]
+	return pair[string(metrics.RoleLeavingTemp)] && pair[string(metrics.RoleSupplyTemp)] ||
+		pair[string(metrics.RoleReturnTemp)] && pair[string(metrics.RoleSpaceTemp)] ||
+		pair[string(metrics.RoleReturnRH)] && pair[string(metrics.RoleSpaceRH)]
 }
 
 func (c *Config) validateExports(v *validator) {

@@ -27,9 +27,11 @@ func TestCompute_RulesOfThumb(t *testing.T) {
 	// rules' mass flow of 0.075 lb/ft³ x CFM.
 	q := psychro.LbToKg(0.075) / psychro.M3PerFt3 * psychro.CFMToM3s(cfm) / psychro.StandardAirDensity
 	tIn, rhIn, tLv := psychro.FToC(78), 0.55, psychro.FToC(54)
+	// The leaving state is measured (95 % RH), so the check is of the
+	// factors, not of a coil model.
 	h := newHour(day0, map[metrics.Role]func(int) float64{
 		metrics.RoleEnteringTemp: constant(tIn), metrics.RoleEnteringRH: constant(rhIn),
-		metrics.RoleLeavingTemp: constant(tLv), metrics.RoleSupplyTemp: constant(tLv), metrics.RoleSupplyFlow: constant(q),
+		metrics.RoleLeavingTemp: constant(tLv), metrics.RoleLeavingRH: constant(0.95), metrics.RoleSupplyTemp: constant(tLv), metrics.RoleSupplyFlow: constant(q),
 	})
 	rec := metrics.Compute(u, h)
 	in, err := psychro.NewStateRH(tIn, rhIn, u.PressurePa)
@@ -72,7 +74,8 @@ func TestCompute_HandbookExample(t *testing.T) {
 func TestCompute_ReheatSources(t *testing.T) {
 	h := newHour(day0, map[metrics.Role]func(int) float64{
 		metrics.RoleEnteringTemp: constant(24), metrics.RoleEnteringRH: constant(0.55),
-		metrics.RoleLeavingTemp: constant(11), metrics.RoleSupplyTemp: constant(17.5), metrics.RoleSupplyFlow: constant(3),
+		metrics.RoleLeavingTemp: constant(11), metrics.RoleLeavingRH: constant(0.95),
+		metrics.RoleSupplyTemp: constant(17.5), metrics.RoleSupplyFlow: constant(3),
 	})
 	base := testUnit()
 	base.Prices = metrics.Prices{ElectricityPerKWh: 0.20, FuelPerKWh: 0.05, ElectricityCO2KgPerKWh: 0.5, FuelCO2KgPerKWh: 0.2}
@@ -109,9 +112,12 @@ func TestCompute_ReheatSources(t *testing.T) {
 func TestCompute_NeededAndAvoidable(t *testing.T) {
 	u := testUnit()
 	u.Fan, u.FanRiseK = metrics.FanNone, 0
+	// A leaving sensor reads 95 %: the required temperature follows from
+	// the measured leaving RH (the bypass-factor case is in the synthetic
+	// ground truth).
 	hour := func(tIn, rh, tLv, tSup float64) metrics.Record {
 		return metrics.Compute(u, newHour(day0, map[metrics.Role]func(int) float64{
-			metrics.RoleEnteringTemp: constant(tIn), metrics.RoleEnteringRH: constant(rh),
+			metrics.RoleEnteringTemp: constant(tIn), metrics.RoleEnteringRH: constant(rh), metrics.RoleLeavingRH: constant(0.95),
 			metrics.RoleLeavingTemp: constant(tLv), metrics.RoleSupplyTemp: constant(tSup), metrics.RoleSupplyFlow: constant(2),
 		}))
 	}
@@ -190,10 +196,21 @@ func TestCompute_Flags(t *testing.T) {
 		assert.Contains(t, r.Flags, metrics.FlagFlat+"entering_rh")
 	})
 	t.Run("leaving sensor wetter than entering", func(t *testing.T) {
+		// Saturated at 20 °C holds more moisture than 24 °C at 55-59 % RH:
+		// a cooling coil cannot have added it.
 		r := metrics.Compute(u, with(map[metrics.Role]func(int) float64{metrics.RoleLeavingRH: constant(1.0),
-			metrics.RoleLeavingTemp: constant(23.5)}))
+			metrics.RoleLeavingTemp: func(i int) float64 { return 20 + float64(i%3)/10 }}))
 		assert.Contains(t, r.Flags, metrics.FlagMoistureAdded)
-		assert.GreaterOrEqual(t, r.WaterRemovedKg, 0.0, "never a negative latent load")
+		assert.Equal(t, 0.0, r.WaterRemovedKg, "a coil 5 K above the entering dew point removes nothing")
+	})
+	t.Run("wet coil gives water back after the compressor stops", func(t *testing.T) {
+		// Coil off (leaving 0.3 K below entering, inside the 0.5 K
+		// deadband), leaving sensor saturated: the wet coil re-evaporates.
+		r := metrics.Compute(u, with(map[metrics.Role]func(int) float64{metrics.RoleLeavingRH: constant(1.0),
+			metrics.RoleLeavingTemp: func(i int) float64 { return 24 + float64(i%7)/10 - 0.3 }}))
+		assert.NotContains(t, r.Flags, metrics.FlagMoistureAdded)
+		assert.Greater(t, r.WaterReevaporatedKg, 1.0)
+		assert.Equal(t, 0.0, r.WaterRemovedKg)
 	})
 	t.Run("reheat meter disagrees", func(t *testing.T) {
 		r := metrics.Compute(u, with(map[metrics.Role]func(int) float64{metrics.RoleReheatPower: constant(80)}))

@@ -307,6 +307,7 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	// assumed-RH rule.
 	var wOut dv
 	measured := false
+	sensorW := math.NaN()
 	o.rhLv = u.LeavingRH
 	dry := false
 	if e.lvHum != humNone && !math.IsNaN(x.lvHum) {
@@ -314,9 +315,8 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 			dry = true
 		}
 	}
-	if e.lvHum != humNone && !math.IsNaN(x.lvHum) && !dry {
+	if e.lvHum != humNone && !math.IsNaN(x.lvHum) {
 		if w, _, ok := e.wFromHum(e.lvHum, tLv, seed(x.lvHum, sensLvHum)); ok {
-			measured = true
 			// A leaving sensor that reads wetter than the entering air beyond
 			// its accuracy while the coil cools is a sensor finding, not a
 			// negative latent load; with the coil off it is water the wet
@@ -329,10 +329,14 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 				tol = w.g[sensLvHum] * u.Accuracy.DewPointK
 			}
 			o.wetterOut = w.v > wIn.v+tol
-			wOut = w
-			if w.v < wIn.v {
-				if pws, err := psychro.SatVapPressure(x.tLv); err == nil && pws > 0 {
-					o.rhLv = math.Max(0.5, math.Min(1, pwFromW(w, e.p).v/pws))
+			sensorW = w.v
+			if !dry {
+				measured = true
+				wOut = w
+				if w.v < wIn.v {
+					if pws, err := psychro.SatVapPressure(x.tLv); err == nil && pws > 0 {
+						o.rhLv = math.Max(0.5, math.Min(1, pwFromW(w, e.p).v/pws))
+					}
 				}
 			}
 		}
@@ -363,8 +367,8 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 
 	// Cooling coil.
 	hIn, hOut := hD(tIn, wIn), hD(tLv, wOut)
-	if measured && !(x.tIn-x.tLv > u.Thresholds.CoilDeadbandK) && wOut.v > wIn.v && m.v > 0 {
-		o.reevaporated = m.v * (wOut.v - wIn.v)
+	if !(x.tIn-x.tLv > u.Thresholds.CoilDeadbandK) && sensorW > wIn.v && m.v > 0 {
+		o.reevaporated = m.v * (sensorW - wIn.v)
 	}
 	if x.tIn-x.tLv > u.Thresholds.CoilDeadbandK && m.v > 0 {
 		o.coolOn = true
