@@ -40,6 +40,7 @@ func Compute(u *Unit, hr *Hour) Record {
 		meterSteps                                                                      int
 	)
 	in := &stepIn{}
+	lastOff := -1 << 30 // step index of the last step with the coil off
 	var sens [nSens][4]float64
 	c := e.columns(hr)
 	if e.mix {
@@ -49,7 +50,22 @@ func Compute(u *Unit, hr *Hour) Record {
 		c.fill(in, i)
 		o, ok := e.step(in)
 		if !ok {
+			lastOff = i
 			continue
+		}
+		if !o.coolOn || o.meteredCool && o.coolIn <= 0 {
+			lastOff = i
+		}
+		// A wet coil that sat still gives its water back to the first air
+		// through it: leaving air wetter than the entering air within
+		// reevapWindow of the coil being off is that water, not a sensor
+		// fault, and not a negative water removal.
+		if o.moistureAdded && time.Duration(i-lastOff)*hr.Step <= reevapWindow {
+			o.moistureAdded = false
+			o.reevaporated += o.mDa * (o.sensorW - o.wIn)
+			if o.water.v < 0 {
+				o.water = dv{}
+			}
 		}
 		valid++
 		rec.DryAirKg += o.mDa * 3600 * dtH
@@ -224,6 +240,12 @@ func Compute(u *Unit, hr *Hour) Record {
 	rec.Flags = flags
 	return rec
 }
+
+// reevapWindow is how long after the coil was off leaving air wetter than
+// the entering air counts as water the wet coil gives back (a dew-point or
+// RH sensor also lags by a few minutes behind such a start; common
+// practice, no source).
+const reevapWindow = 10 * time.Minute
 
 // flatRoles are sensors whose readings never sit exactly still in operation.
 var flatRoles = map[Role]bool{

@@ -46,6 +46,7 @@ type stepOut struct {
 	wetterOut                bool
 	measuredOut              bool    // a leaving sensor gave the leaving humidity
 	reevaporated             float64 // kg/s the wet coil gives back to the air while it does not cool
+	sensorW                  float64 // the leaving sensor's humidity ratio, when it reads
 	rhLv                     float64 // leaving RH used for the required temperature
 	enteringSupersat         bool    // entering dew point above dry bulb (sensor problem)
 	reheatWithoutCoil        bool    // supply warmer than leaving with no reheat coil
@@ -330,6 +331,7 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 			}
 			o.wetterOut = w.v > wIn.v+tol
 			sensorW = w.v
+			o.sensorW = w.v
 			if !dry {
 				measured = true
 				wOut = w
