@@ -114,6 +114,14 @@ func Compute(u *Unit, hr *Hour) Record {
 				rec.SHCUnneededH += dtH
 			}
 		}
+		if o.shortfall > 0 {
+			rec.ShortfallKg += o.shortfall * 3600 * dtH
+			rec.ShortfallCoolKWh += o.shortCool * dtH
+			rec.ShortfallReheatKWh += o.shortReheat * dtH
+			if o.wOut > o.wReq*(1+shortfallTol) {
+				rec.ShortfallHours += dtH
+			}
+		}
 		if o.humidityNeed {
 			rec.HumidityNeedHours += dtH
 			needSteps++
@@ -240,6 +248,11 @@ func Compute(u *Unit, hr *Hour) Record {
 	rec.Flags = flags
 	return rec
 }
+
+// shortfallTol is how much wetter than the target the coil leaving air
+// may be before the step counts towards the hours above the target: 2 % of
+// W, about 0.3 K of dew point (common practice, no source).
+const shortfallTol = 0.02
 
 // reevapWindow is how long after the coil was off leaving air wetter than
 // the entering air counts as water the wet coil gives back (a dew-point or

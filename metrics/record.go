@@ -61,6 +61,15 @@ type Record struct {
 	OvercoolingK      float64 // mean over coil-on steps of (needed coil temperature - actual), when positive
 	HumidityNeedHours float64 // time the entering air was wetter than the target allowed
 
+	// Too little dehumidification: water the target needed removed and the
+	// coil left in the air, the time the coil left air wetter than the
+	// target (by more than 2 % of W), and the cooling and reheat (at the same
+	// supply temperature) that meeting the target would have taken.
+	ShortfallKg        float64
+	ShortfallHours     float64
+	ShortfallCoolKWh   float64
+	ShortfallReheatKWh float64
+
 	Cost           float64 // currency of the configuration
 	CostAvoidable  float64
 	CO2Kg          float64
@@ -117,6 +126,10 @@ func (r *Record) Fields() []Field {
 		{"supply_temp_c", r.SupplyTempC},
 		{"overcooling_k", r.OvercoolingK},
 		{"humidity_need_h", r.HumidityNeedHours},
+		{"humidity_shortfall_kg", r.ShortfallKg},
+		{"humidity_shortfall_h", r.ShortfallHours},
+		{"shortfall_cooling_kwh", r.ShortfallCoolKWh},
+		{"shortfall_reheat_kwh", r.ShortfallReheatKWh},
 		{"cost", r.Cost},
 		{"cost_avoidable", r.CostAvoidable},
 		{"co2_kg", r.CO2Kg},
@@ -136,7 +149,7 @@ func AdditiveFields() []string {
 	return []string{"coverage", "dry_air_kg", "water_removed_kg", "coil_sensible_kwh", "coil_latent_kwh", "coil_total_kwh",
 		"coil_total_gross_kwh", "reheat_kwh", "reheat_needed_kwh", "reheat_avoidable_kwh", "reheat_input_kwh",
 		"cooling_input_kwh", "cooling_avoidable_input_kwh", "fan_heat_kwh", "water_reevaporated_kg", "electricity_kwh", "fuel_kwh", "shc_h",
-		"shc_unneeded_h", "humidity_need_h", "cost", "cost_avoidable", "co2_kg", "co2_avoidable_kg",
+		"shc_unneeded_h", "humidity_need_h", "humidity_shortfall_kg", "humidity_shortfall_h", "shortfall_cooling_kwh", "shortfall_reheat_kwh", "cost", "cost_avoidable", "co2_kg", "co2_avoidable_kg",
 		"water_removed_kg_u95", "coil_total_kwh_u95", "reheat_kwh_u95", "reheat_avoidable_kwh_u95"}
 }
 
@@ -176,7 +189,8 @@ func (r *Record) fieldPtrs() map[string]*float64 {
 		"shr": &r.SHR, "water_per_kwh_l": &r.WaterPerKWhL, "shc_h": &r.SHCHours, "shc_unneeded_h": &r.SHCUnneededH,
 		"entering_temp_c": &r.EnteringTempC, "entering_dewpoint_c": &r.EnteringDewPointC, "leaving_temp_c": &r.LeavingTempC, "leaving_dewpoint_c": &r.LeavingDewPointC,
 		"required_leaving_temp_c": &r.RequiredLeavingC, "supply_temp_c": &r.SupplyTempC, "overcooling_k": &r.OvercoolingK,
-		"humidity_need_h": &r.HumidityNeedHours, "cost": &r.Cost, "cost_avoidable": &r.CostAvoidable, "co2_kg": &r.CO2Kg,
+		"humidity_need_h": &r.HumidityNeedHours, "humidity_shortfall_kg": &r.ShortfallKg, "humidity_shortfall_h": &r.ShortfallHours,
+		"shortfall_cooling_kwh": &r.ShortfallCoolKWh, "shortfall_reheat_kwh": &r.ShortfallReheatKWh, "cost": &r.Cost, "cost_avoidable": &r.CostAvoidable, "co2_kg": &r.CO2Kg,
 		"co2_avoidable_kg": &r.CO2AvoidableKg, "water_removed_kg_u95": &r.WaterRemovedKgU95, "coil_total_kwh_u95": &r.CoilTotalKWhU95,
 		"reheat_kwh_u95": &r.ReheatKWhU95, "reheat_avoidable_kwh_u95": &r.ReheatAvoidKWhU95,
 	}

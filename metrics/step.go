@@ -47,6 +47,8 @@ type stepOut struct {
 	measuredOut              bool    // a leaving sensor gave the leaving humidity
 	reevaporated             float64 // kg/s the wet coil gives back to the air while it does not cool
 	sensorW                  float64 // the leaving sensor's humidity ratio, when it reads
+	shortfall                float64 // kg/s of water the target needed removed and the coil left in
+	shortCool, shortReheat   float64 // kW of cooling and reheat meeting the target would have taken
 	rhLv                     float64 // leaving RH used for the required temperature
 	enteringSupersat         bool    // entering dew point above dry bulb (sensor problem)
 	reheatWithoutCoil        bool    // supply warmer than leaving with no reheat coil
@@ -438,6 +440,18 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 		tReq = e.tRequired(wReq, tIn, wIn, o.rhLv, measured)
 	}
 	o.tReq = tReq.v
+	// Too little dehumidification: the coil left air wetter than the target
+	// allows while the entering air needed drying. What meeting the target
+	// would have taken: cooling from the actual leaving state down to
+	// T_required (with the condensate), and, at the same supply
+	// temperature, the reheat for the extra cooling.
+	if o.humidityNeed && wOut.v > wReq.v && m.v > 0 {
+		o.shortfall = m.v * (wOut.v - wReq.v)
+		if x.tLv > tReq.v {
+			o.shortCool = math.Max(0, m.v*(h(x.tLv, wOut.v)-h(tReq.v, wReq.v))-o.shortfall*condensate(tReq.v))
+			o.shortReheat = m.v * cp(wReq.v) * (x.tLv - tReq.v)
+		}
+	}
 	tc := dmin(tIn, dmin(tSupEff, tReq))
 	o.tNeed = tc.v
 	wc := wIn

@@ -14,6 +14,8 @@ import (
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/metrics"
 )
 
 // fieldTruth runs metrics/testdata/fieldtruth.js (npm psychrolib and the
@@ -70,8 +72,8 @@ func fnum(s string) float64 {
 // Hours where neither truth nor estimate reaches the floor say nothing
 // about the figure and are left out.
 type hourErrors struct {
-	name string
-	errs []float64
+	name  string
+	errs  []float64
 	worst []string
 }
 
@@ -163,6 +165,9 @@ func TestFieldTruth_Goals(t *testing.T) {
 	eer := &hourErrors{name: "effective EER"}
 	needed := &hourErrors{name: "reheat needed for the target"}
 	byUnit := map[string]*hourErrors{}
+	shortTruth, shortEst := map[string]float64{}, map[string]float64{}
+	lagHours, lagAlerted := 0, 0
+	shortRule := ruleOf(t, metrics.AlertShortfall)
 	stuck, stuckFlagged := 0, 0
 	var missing, falseFlat, dryWater []string
 	for _, r := range truth {
@@ -182,6 +187,17 @@ func TestFieldTruth_Goals(t *testing.T) {
 		// minute in the truth) removes no water.
 		if r["wet_minutes"] == "0" && fnum(g["water_removed_kg"]) > 0.5 {
 			dryWater = append(dryWater, fmt.Sprintf("%s: %s kg", key, g["water_removed_kg"]))
+		}
+		shortTruth[r["ahu"]] += fnum(r["shortfall_kg"])
+		shortEst[r["ahu"]] += fnum(g["humidity_shortfall_kg"])
+		// The lagging controller: hours where the coil left more than 5 kg
+		// the target needed removed must raise too_little_dehumidification.
+		if r["ahu"] == "AHU-4" && fnum(r["shortfall_kg"]) > 5 {
+			lagHours++
+			rec := recordOf(g)
+			if hit, _, _, _ := shortRule.Check(&rec, metrics.DefaultRuleParams); hit {
+				lagAlerted++
+			}
 		}
 		if r["stuck"] == "1" {
 			stuck++
@@ -222,9 +238,36 @@ func TestFieldTruth_Goals(t *testing.T) {
 		assert.LessOrEqual(t, m, g.mape, "%s MAPE; worst hours:%s", g.e.name, g.e.worstN(8))
 		assert.LessOrEqual(t, p, g.p95, "%s P95; worst hours:%s", g.e.name, g.e.worstN(8))
 	}
+	for _, u := range []string{"AHU-2", "AHU-4"} {
+		t.Logf("%s humidity shortfall: truth %.1f kg, dewline %.1f kg", u, shortTruth[u], shortEst[u])
+		assert.InEpsilon(t, shortTruth[u], shortEst[u], 0.15, "%s humidity shortfall over the week", u)
+	}
+	t.Logf("lagging controller: %d of %d hours with more than 5 kg left in raise %s", lagAlerted, lagHours, metrics.AlertShortfall)
+	require.Greater(t, lagHours, 5, "the scenario has a lagging controller")
+	assert.GreaterOrEqual(t, float64(lagAlerted), 0.8*float64(lagHours))
 	t.Logf("stuck entering-RH hours flagged: %d of %d", stuckFlagged, stuck)
 	require.Equal(t, 7, stuck, "the scenario has seven stuck hours")
 	assert.Equal(t, stuck, stuckFlagged, "every stuck-sensor hour carries flat:entering_rh")
+}
+
+func ruleOf(t *testing.T, kind string) metrics.Rule {
+	for _, r := range metrics.Rules() {
+		if r.Kind == kind {
+			return r
+		}
+	}
+	t.Fatalf("no rule %s", kind)
+	return metrics.Rule{}
+}
+
+// recordOf reads an hourly CSV row back into a record.
+func recordOf(row map[string]string) metrics.Record {
+	var r metrics.Record
+	for k, v := range row {
+		r.SetField(k, fnum(v))
+	}
+	r.Flags = strings.Fields(row["flags"])
+	return r
 }
 
 // eerColumn is the hourly column compared with the truth's electric-only
