@@ -338,3 +338,68 @@ func TestCompute_StepSize(t *testing.T) {
 	assert.InEpsilon(t, a.CoilTotalKWh, b.CoilTotalKWh, 1e-9)
 	assert.InEpsilon(t, a.ReheatKWh, b.ReheatKWh, 1e-9)
 }
+
+// TestCompute_DryCoilWithLeavingSensor: a coil leaving at 16 °C with the
+// entering dew point near 8.4 °C (22 °C, 40 % RH) is dry: no water can
+// condense on a surface above the entering dew point. A leaving RH sensor
+// that reads 3 % low (within its accuracy), with noise, must not turn that
+// into water (physics; the handbook's coil process, ASHRAE Fundamentals
+// ch. 1).
+func TestCompute_DryCoilWithLeavingSensor(t *testing.T) {
+	u := testUnit()
+	p := u.PressurePa
+	wIn, err := psychro.HumRatioFromRH(22, 0.40, p)
+	require.NoError(t, err)
+	rhTrue, err := psychro.RHFromHumRatio(16, wIn, p)
+	require.NoError(t, err)
+	r := rand.New(rand.NewPCG(3, 5))
+	noise := make([]float64, 60)
+	for i := range noise {
+		noise[i] = 0.01 * r.NormFloat64()
+	}
+	rec := metrics.Compute(u, newHour(day0, map[metrics.Role]func(int) float64{
+		metrics.RoleEnteringTemp: func(i int) float64 { return 22 + float64(i%5)/20 },
+		metrics.RoleEnteringRH:   func(i int) float64 { return 0.40 + float64(i%3)/500 },
+		metrics.RoleLeavingTemp:  func(i int) float64 { return 16 + float64(i%4)/20 },
+		metrics.RoleLeavingRH:    func(i int) float64 { return rhTrue - 0.03 + noise[i] },
+		metrics.RoleSupplyTemp:   constant(17), metrics.RoleSupplyFlow: constant(3),
+	}))
+	assert.Equal(t, 0.0, rec.WaterRemovedKg, "a dry coil removes no water")
+	assert.InDelta(t, rec.CoilSensibleKWh, rec.CoilTotalKWh, 1e-9, "all of a dry coil's load is sensible")
+	assert.NotContains(t, rec.Flags, metrics.FlagMoistureAdded)
+}
+
+// TestCompute_LeavingRuleContinuous: without a leaving sensor the leaving
+// humidity has no step at the entering dew point: water removed changes
+// smoothly as the coil leaving temperature crosses it (the bypass-factor
+// coil; a rule that jumps to the assumed RH below the dew point would move
+// the water by about 5 % of W_in in 0.02 K).
+func TestCompute_LeavingRuleContinuous(t *testing.T) {
+	u := testUnit()
+	td, err := psychro.DewPointFromHumRatio(mustW(t, 24, 0.5, u.PressurePa), u.PressurePa)
+	require.NoError(t, err)
+	water := func(tLv float64) float64 {
+		return metrics.Compute(u, newHour(day0, map[metrics.Role]func(int) float64{
+			metrics.RoleEnteringTemp: constant(24), metrics.RoleEnteringRH: constant(0.5),
+			metrics.RoleLeavingTemp: constant(tLv), metrics.RoleSupplyTemp: constant(17), metrics.RoleSupplyFlow: constant(3),
+		})).WaterRemovedKg
+	}
+	prev := water(td + 2)
+	for d := 2.0; d > -2; d -= 0.01 {
+		w := water(td + d)
+		// On a smooth rule 0.01 K of coil temperature moves the water of 3
+		// m³/s (about 13,000 kg of dry air an hour) by at most 13,000 x
+		// 0.01 K x 0.8 g/kg per K (the slope of W at saturation near 12 °C)
+		// ≈ 0.1 kg.
+		assert.Less(t, math.Abs(w-prev), 0.2, "leaving %.2f K from the dew point", d)
+		prev = w
+	}
+	assert.Greater(t, water(td-2), 10.0, "2 K below the dew point the coil is wet")
+}
+
+func mustW(t *testing.T, tC, rh, p float64) float64 {
+	t.Helper()
+	w, err := psychro.HumRatioFromRH(tC, rh, p)
+	require.NoError(t, err)
+	return w
+}
