@@ -112,12 +112,12 @@ func TestCompute_ReheatSources(t *testing.T) {
 func TestCompute_NeededAndAvoidable(t *testing.T) {
 	u := testUnit()
 	u.Fan, u.FanRiseK = metrics.FanNone, 0
-	// A leaving sensor reads 95 %: the required temperature follows from
-	// the measured leaving RH (the bypass-factor case is in the synthetic
-	// ground truth).
+	// A leaving sensor reads 90 % (the unit assumes 95 %): the required
+	// temperature follows from the measured leaving RH (the bypass-factor
+	// case is in the synthetic ground truth).
 	hour := func(tIn, rh, tLv, tSup float64) metrics.Record {
 		return metrics.Compute(u, newHour(day0, map[metrics.Role]func(int) float64{
-			metrics.RoleEnteringTemp: constant(tIn), metrics.RoleEnteringRH: constant(rh), metrics.RoleLeavingRH: constant(0.95),
+			metrics.RoleEnteringTemp: constant(tIn), metrics.RoleEnteringRH: constant(rh), metrics.RoleLeavingRH: constant(0.90),
 			metrics.RoleLeavingTemp: constant(tLv), metrics.RoleSupplyTemp: constant(tSup), metrics.RoleSupplyFlow: constant(2),
 		}))
 	}
@@ -132,11 +132,11 @@ func TestCompute_NeededAndAvoidable(t *testing.T) {
 	})
 	t.Run("humid air, coil colder than needed", func(t *testing.T) {
 		r := hour(25, 0.65, 9, 17)
-		// The target (12 °C dew point) at 95 % leaving RH needs a coil of
-		// about 12.8 °C: the dew point of W(12 °C sat) at RH 0.95.
+		// The target (12 °C dew point) needs a coil of
+		// about 13.6 °C: the dew point of W(12 °C sat) at the measured RH 0.90.
 		wReq, _ := psychro.HumRatioFromDewPoint(12, u.PressurePa)
 		pw, _ := psychro.VapPressureFromHumRatio(wReq, u.PressurePa)
-		tReq, _ := psychro.DewPointFromVapPressure(pw / 0.95)
+		tReq, _ := psychro.DewPointFromVapPressure(pw / 0.90)
 		assert.InDelta(t, tReq, r.RequiredLeavingC, 1e-9)
 		assert.InDelta(t, tReq-9, r.OvercoolingK, 1e-9)
 		assert.Greater(t, r.ReheatNeededKWh, 0.0)
@@ -148,7 +148,7 @@ func TestCompute_NeededAndAvoidable(t *testing.T) {
 	t.Run("humid air, coil at the required temperature", func(t *testing.T) {
 		wReq, _ := psychro.HumRatioFromDewPoint(12, u.PressurePa)
 		pw, _ := psychro.VapPressureFromHumRatio(wReq, u.PressurePa)
-		tReq, _ := psychro.DewPointFromVapPressure(pw / 0.95)
+		tReq, _ := psychro.DewPointFromVapPressure(pw / 0.90)
 		r := hour(25, 0.65, tReq, 17)
 		assert.InDelta(t, 0, r.ReheatAvoidKWh, 1e-6)
 		assert.InDelta(t, 0, r.CoolingAvoidKWh, 1e-6)
