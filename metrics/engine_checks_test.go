@@ -403,3 +403,54 @@ func mustW(t *testing.T, tC, rh, p float64) float64 {
 	require.NoError(t, err)
 	return w
 }
+
+// TestCompute_MixedEnteringAir: no mixed-air humidity sensor; return air at
+// 24 °C / 50 % and outdoor air at 32 °C / 60 % mix 30 % outdoor (by dry-air
+// mass; adiabatic mixing of ASHRAE Fundamentals ch. 1: W and h mix
+// linearly). The entering humidity must be the mix, with the share read
+// from the three temperatures, not the configured 15 % minimum; and in
+// steps where outdoor and return read within 3 K of each other, the share
+// of the hour's other steps.
+func TestCompute_MixedEnteringAir(t *testing.T) {
+	u := testUnit()
+	u.MinOutdoor = 0.15
+	p := u.PressurePa
+	wRa, wOa := mustW(t, 24, 0.5, p), mustW(t, 32, 0.6, p)
+	const x = 0.3
+	wMix := x*wOa + (1-x)*wRa
+	h := func(tC, w float64) float64 { return 1.006*tC + w*(2501+1.86*tC) } // eq. 32
+	hMix := x*h(32, wOa) + (1-x)*h(24, wRa)
+	tMix := (hMix - 2501*wMix) / (1.006 + 1.86*wMix) // eq. 32 solved for t
+	tdWant, err := psychro.DewPointFromHumRatio(wMix, p)
+	require.NoError(t, err)
+	for _, tt := range []struct {
+		name string
+		tOut func(int) float64
+	}{
+		{"outdoor and return apart", constant(32)},
+		// Half the steps read the outdoor sensor 1 K from the return: the
+		// temperatures cannot tell the share there; the hour's other half can.
+		{"half the hour too close", func(i int) float64 {
+			if i%2 == 0 {
+				return 25
+			}
+			return 32
+		}},
+	} {
+		t.Run(tt.name, func(t *testing.T) {
+			rec := metrics.Compute(u, newHour(day0, map[metrics.Role]func(int) float64{
+				metrics.RoleEnteringTemp: constant(tMix),
+				metrics.RoleReturnTemp:   constant(24), metrics.RoleReturnRH: constant(0.5),
+				metrics.RoleOutdoorTemp: tt.tOut, metrics.RoleOutdoorRH: func(i int) float64 {
+					// the outdoor RH at the logged outdoor temperature for the
+					// same outdoor moisture
+					rh, _ := psychro.RHFromHumRatio(tt.tOut(i), wOa, p)
+					return rh
+				},
+				metrics.RoleLeavingTemp: constant(12), metrics.RoleSupplyTemp: constant(17), metrics.RoleSupplyFlow: constant(3),
+			}))
+			require.Equal(t, 1.0, rec.Coverage)
+			assert.InDelta(t, tdWant, rec.EnteringDewPointC, 0.05, "dew point of the mixed air")
+		})
+	}
+}

@@ -29,7 +29,9 @@
 //   - AHU-3: no mixed-air RH: return temperature (change of value) and RH
 //     (15-minute), outdoor temperature and RH (5-minute), mixed-air
 //     temperature (1-minute); the outdoor-air share sits at its minimum
-//     (30 %) and an economizer opens it when the outdoor air is cool and dry;
+//     (30 %) at night, at 42 % when occupied (demand-controlled
+//     ventilation, with an outdoor airflow station logged every 5 minutes),
+//     and an economizer opens it when the outdoor air is cool and dry;
 //   - coils: bypass factors 0.07-0.12; AHU-1 and AHU-3 leave air of the
 //     AHRI rating point (80/67 °F, cooled to 55 °F) at about 95 % RH, the
 //     configuration's default; AHU-4's coil (BF 0.10) leaves it at about
@@ -123,7 +125,7 @@ const units = [
     cool: 'dx', eer: 11.2, eerPerK: -0.12, swing: 3.0, supSet: 17.5, gainOcc: 0.0011, gainUnocc: 0.0004 },
   { id: 'AHU-2', bf: 0.12, flowDay: 3.4, flowNight: 2.2, oaMin: 0.25, oaOcc: 0.35, targetTd: 11, fan: 0, reheat: 'hot_water', boiler: 0.82,
     cool: 'chw', kwPerTon: 0.9, swing: 0, supSet: 16.5, gainOcc: 0.0010, gainUnocc: 0.0003 },
-  { id: 'AHU-3', bf: 0.07, flowDay: 5.0, flowNight: 3.0, oaMin: 0.3, oaOcc: 0.3, economizer: true, targetTd: 12, fan: 0, reheat: 'electric',
+  { id: 'AHU-3', bf: 0.07, flowDay: 5.0, flowNight: 3.0, oaMin: 0.3, oaOcc: 0.42, economizer: true, targetTd: 12, fan: 0, reheat: 'electric',
     cool: 'dx', eer: 10.5, eerPerK: -0.1, swing: 0, supSet: 17, gainOcc: 0.0012, gainUnocc: 0.0004 },
   { id: 'AHU-4', bf: 0.10, flowDay: 3.8, flowNight: 2.4, oaMin: 0.25, oaOcc: 0.3, targetTd: 12.5, fan: 0.6, reheat: 'electric',
     cool: 'dx', eer: 11, eerPerK: -0.1, swing: 0, supSet: 17.5, gainOcc: 0.0011, gainUnocc: 0.0004 },
@@ -139,7 +141,7 @@ function makeLogger(spec) {
 function logMinute(lg, m, ms, v) {
   const s = lg.spec;
   const read = (x) => {
-    let y = x + (s.bias || 0) + (s.noise || 0) * gauss();
+    let y = x * (s.scale || 1) + (s.noise || 0) * gauss();
     if (s.clip !== undefined) y = Math.min(s.clip, y);
     return Math.round(y / s.quant) * s.quant;
   };
@@ -183,6 +185,7 @@ const plans = {
     return_rh: { name: 'AHU-3 Return Air RH', every: 15, noise: 0.3, quant: 0.1, unit: '%' },
     outdoor_temp: { name: 'AHU-3 OA Temp', every: 5, noise: 0.05, quant: 0.1, unit: '°C' },
     outdoor_rh: { name: 'AHU-3 OA RH', every: 5, noise: 0.5, quant: 0.1, unit: '%' },
+    outdoor_flow: { name: 'AHU-3 OA Flow', every: 5, noise: 40, quant: 1, unit: 'L/s' },
     leaving_temp: { name: 'AHU-3 Coil Leaving Temp', every: 1, noise: 0.06, quant: 0.1, unit: '°C' },
     supply_temp: { name: 'AHU-3 Supply Air Temp', every: 1, noise: 0.06, quant: 0.1, unit: '°C' },
     supply_flow: { name: 'AHU-3 Supply Flow', every: 5, noise: 10, quant: 1, unit: 'L/s' },
@@ -293,7 +296,7 @@ for (const u of units) {
     const truthOf = {
       entering_temp: tIn, entering_rh: rh(tIn, wIn), leaving_temp: tLv, leaving_rh: rh(tLv, wOut), supply_temp: tSup,
       supply_flow: q * 1000, reheat_kw: reheatElec, cooling_kw: u.cool === 'dx' ? coolIn : 0, outdoor_temp: oa.t,
-      outdoor_rh: rh(oa.t, oa.w), return_temp: tRa, return_rh: rh(tRa, wRa),
+      outdoor_rh: rh(oa.t, oa.w), return_temp: tRa, return_rh: rh(tRa, wRa), outdoor_flow: x * q * 1000,
     };
     for (const role of Object.keys(plan)) {
       let v = truthOf[role];
