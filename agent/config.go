@@ -150,13 +150,18 @@ type AirHandler struct {
 	// OutdoorAir is the outdoor-air share used when the entering state is
 	// mixed from return and outdoor air and the temperatures are too close
 	// to tell it.
-	OutdoorAir OutdoorAir                  `yaml:"outdoor_air"`
-	Target     Target                      `yaml:"target"`
-	Points     map[string]metrics.PointRef `yaml:"points"`
+	OutdoorAir OutdoorAir `yaml:"outdoor_air"`
+	// SpaceMoistureGain is what the space adds to the supply air's humidity
+	// ratio, for a space target without space humidity sensors, e.g.
+	// 0.8g/kg (default metrics.DefaultSpaceGain).
+	SpaceMoistureGain string                      `yaml:"space_moisture_gain"`
+	Target            Target                      `yaml:"target"`
+	Points            map[string]metrics.PointRef `yaml:"points"`
 
 	// Resolved by Parse.
 	LeavingRHFrac  float64 `yaml:"-"`
 	MinOutdoorFrac float64 `yaml:"-"`
+	SpaceGainKgKg  float64 `yaml:"-"`
 }
 
 // OutdoorAir describes the outdoor air the mixing box takes in.

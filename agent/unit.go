@@ -19,6 +19,7 @@ func (c *Config) Unit(a *AirHandler) *metrics.Unit {
 		PressurePa: c.PressurePa,
 		LeavingRH:  a.LeavingRHFrac,
 		MinOutdoor: a.MinOutdoorFrac,
+		SpaceGain:  a.SpaceGainKgKg,
 		FanRiseK:   a.FanHeatRiseK(),
 		Prices: metrics.Prices{
 			ElectricityPerKWh:      c.Prices.ElectricityPerKWh,

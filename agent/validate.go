@@ -336,6 +336,18 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 		}
 	}
 
+	// Space moisture gain.
+	a.SpaceGainKgKg = metrics.DefaultSpaceGain
+	if a.SpaceMoistureGain != "" {
+		if x, ok := v.quantity(at(p, "space_moisture_gain"), a.SpaceMoistureGain, psychro.KindHumRatio); ok {
+			if x < 0 || x > 0.005 {
+				v.bad(at(p, "space_moisture_gain"), fmt.Sprintf("%s is outside 0-5 g/kg", a.SpaceMoistureGain), "an office adds about 0.5-1.5 g/kg to its supply air")
+			} else {
+				a.SpaceGainKgKg = x
+			}
+		}
+	}
+
 	// Assumed leaving RH.
 	if x, ok := v.quantity(at(p, "leaving_rh"), a.LeavingRH, psychro.KindRH); ok {
 		if x < 0.5 || x > 1 {

@@ -23,6 +23,7 @@ const (
 	FlagReheatMeter        = "reheat_meter_mismatch"
 	FlagWaterInUncertainty = "water_within_uncertainty"
 	FlagModelledCooling    = "cooling_input_modelled"
+	FlagSpaceGainAssumed   = "space_gain_assumed"
 )
 
 // Compute turns one aligned hour into a record. It never fails: missing or
@@ -37,7 +38,7 @@ func Compute(u *Unit, hr *Hour) Record {
 		valid, coolOnSteps, needSteps, moistSteps, supersatSteps, noCoilSteps, modelled int
 		sumTIn, sumWIn, sumWLv, sumTLv, sumTSup, sumReq, sumOver                        float64
 		reheatElecIn, reheatAvoidIn, meterHeat, computedHeat                            float64
-		meterSteps                                                                      int
+		meterSteps, gainSteps                                                           int
 	)
 	in := &stepIn{}
 	lastOff := -1 << 30 // step index of the last step with the coil off
@@ -133,6 +134,9 @@ func Compute(u *Unit, hr *Hour) Record {
 		}
 		if o.moistureAdded {
 			moistSteps++
+		}
+		if o.gainAssumed {
+			gainSteps++
 		}
 		if o.enteringSupersat {
 			supersatSteps++
@@ -244,6 +248,9 @@ func Compute(u *Unit, hr *Hour) Record {
 	}
 	if modelled > 0 {
 		flags = append(flags, FlagModelledCooling)
+	}
+	if gainSteps > 0 {
+		flags = append(flags, FlagSpaceGainAssumed)
 	}
 	rec.Flags = flags
 	return rec

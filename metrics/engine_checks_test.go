@@ -454,3 +454,35 @@ func TestCompute_MixedEnteringAir(t *testing.T) {
 		})
 	}
 }
+
+// TestCompute_SpaceGain: a space dew-point target without space sensors
+// needs the supply drier than the space limit by what the space adds. With
+// the assumed 0.8 g/kg the required supply W is W(13 °C dew point) - 0.0008
+// (by hand), the hour says the gain was assumed, and less of the reheat is
+// avoidable than with no gain at all.
+func TestCompute_SpaceGain(t *testing.T) {
+	u := testUnit()
+	u.Target = metrics.Target{Kind: metrics.TargetSpaceDewPoint, DewPointC: 13}
+	u.SpaceGain = metrics.DefaultSpaceGain
+	vals := map[metrics.Role]func(int) float64{
+		metrics.RoleEnteringTemp: constant(25), metrics.RoleEnteringRH: constant(0.65),
+		metrics.RoleLeavingTemp: constant(10), metrics.RoleLeavingRH: constant(0.95),
+		metrics.RoleSupplyTemp: constant(17), metrics.RoleSupplyFlow: constant(3),
+	}
+	rec := metrics.Compute(u, newHour(day0, vals))
+	wSpace, err := psychro.HumRatioFromDewPoint(13, u.PressurePa)
+	require.NoError(t, err)
+	pw, err := psychro.VapPressureFromHumRatio(wSpace-0.0008, u.PressurePa)
+	require.NoError(t, err)
+	tReq, err := psychro.DewPointFromVapPressure(pw / 0.95)
+	require.NoError(t, err)
+	assert.InDelta(t, tReq, rec.RequiredLeavingC, 1e-6)
+	assert.Contains(t, rec.Flags, metrics.FlagSpaceGainAssumed)
+	none := *u
+	none.SpaceGain = 0
+	r0 := metrics.Compute(&none, newHour(day0, vals))
+	assert.Greater(t, r0.ReheatAvoidKWh, rec.ReheatAvoidKWh, "no gain overstates the avoidable reheat")
+	// With space sensors the gain is observed, not assumed.
+	vals[metrics.RoleSpaceTemp], vals[metrics.RoleSpaceRH] = constant(23), constant(0.55)
+	assert.NotContains(t, metrics.Compute(u, newHour(day0, vals)).Flags, metrics.FlagSpaceGainAssumed)
+}

@@ -49,6 +49,7 @@ type stepOut struct {
 	sensorW                  float64 // the leaving sensor's humidity ratio, when it reads
 	shortfall                float64 // kg/s of water the target needed removed and the coil left in
 	shortCool, shortReheat   float64 // kW of cooling and reheat meeting the target would have taken
+	gainAssumed              bool    // a space target used the assumed space moisture gain
 	rhLv                     float64 // leaving RH used for the required temperature
 	enteringSupersat         bool    // entering dew point above dry bulb (sensor problem)
 	reheatWithoutCoil        bool    // supply warmer than leaving with no reheat coil
@@ -420,13 +421,16 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 			}
 			wSpace = wAtRH(ts, u.Target.RH, e.p)
 		}
-		wReq = cst(wSpace)
 		// The supply must be drier than the space limit by the moisture the
 		// space adds, seen as the space's W above the supply's when both
-		// are trended (space sensors are taken as exact).
+		// are trended (space sensors are taken as exact), else the
+		// configured or default gain (an assumption the hour is flagged for).
+		wReq = cst(wSpace - u.SpaceGain)
+		o.gainAssumed = true
 		if e.spaceHum != humNone && e.hasSpaceT && !math.IsNaN(x.spaceT) && !math.IsNaN(x.spaceHum) {
 			if ws, _, ok := e.wFromHum(e.spaceHum, cst(x.spaceT), cst(x.spaceHum)); ok && ws.v > wOut.v {
 				wReq = cst(wSpace - ws.v).add(wOut)
+				o.gainAssumed = false
 			}
 		}
 		if wReq.v < 1e-5 {
