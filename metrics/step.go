@@ -428,8 +428,12 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 		wReq = cst(wSpace - u.SpaceGain)
 		o.gainAssumed = true
 		if e.spaceHum != humNone && e.hasSpaceT && !math.IsNaN(x.spaceT) && !math.IsNaN(x.spaceHum) {
-			if ws, _, ok := e.wFromHum(e.spaceHum, cst(x.spaceT), cst(x.spaceHum)); ok && ws.v > wOut.v {
-				wReq = cst(wSpace - ws.v).add(wOut)
+			if ws, _, ok := e.wFromHum(e.spaceHum, cst(x.spaceT), cst(x.spaceHum)); ok {
+				// the observed gain, none when the space reads no wetter
+				wReq = cst(wSpace)
+				if ws.v > wOut.v {
+					wReq = cst(wSpace - ws.v).add(wOut)
+				}
 				o.gainAssumed = false
 			}
 		}
