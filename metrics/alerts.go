@@ -168,6 +168,12 @@ func checkShortfall(r *Record, p RuleParams) (bool, float64, float64, string) {
 	if r.LeavingTempC <= p.CoilMinLeavingC+1 {
 		return false, 0, 0, "" // at its coldest: humidity_target_missed
 	}
+	// Within half the over-cooling threshold of the required temperature the
+	// coil model's own uncertainty (the assumed leaving RH) can explain
+	// the difference: no alert.
+	if r.LeavingTempC-r.RequiredLeavingC < p.OvercoolingK/2 {
+		return false, 0, 0, ""
+	}
 	return true, 0, 0, fmt.Sprintf(
 		"the coil left air at %s while the humidity target needed %s and the coil could go colder: %.1f kg of water stayed in the air; meeting the target would have taken %.1f kWh more cooling and %.1f kWh more reheat. "+
 			"Space humidity may rise: a comfort, mould and liability risk. Have the dehumidification sequence checked by the engineer of record; some spaces have humidity limits set by code",
