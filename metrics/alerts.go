@@ -213,6 +213,10 @@ func checkImplausible(r *Record, _ RuleParams) (bool, float64, float64, string) 
 			why = append(why, "the entering dew point reads above the dry bulb")
 		case f == FlagReheatWithoutCoil:
 			why = append(why, "the supply reads warmer than the coil leaving air on a unit without reheat")
+		case f == FlagCOPImplausible:
+			why = append(why, fmt.Sprintf("the air-side coil load (%.1f kWh) over the metered cooling input (%.1f kWh) is outside 1.5-7: suspect the airflow, the entering humidity sensor or the meter", r.CoilTotalKWh, r.CoolingInputKWh))
+		case f == FlagLeavingSensorOut:
+			why = append(why, "the coil leaving humidity sensor read nothing for part of the hour; the assumed coil model took over")
 		case strings.HasPrefix(f, FlagOutOfRange):
 			why = append(why, strings.TrimPrefix(f, FlagOutOfRange)+" logged values outside its physical range")
 		}

@@ -103,6 +103,8 @@ func TestRules_Conditions(t *testing.T) {
 		{"little shortfall", metrics.AlertShortfall, metrics.Record{Coverage: 1, HumidityNeedHours: 1, ShortfallHours: 0.2, ShortfallKg: 2, RequiredLeavingC: 11, LeavingTempC: 15}, false, ""},
 		{"gap", metrics.AlertDataGap, metrics.Record{Coverage: 0.3}, true, "only 30 %"},
 		{"flat RH", metrics.AlertSensorFlat, metrics.Record{Coverage: 1, Flags: []string{metrics.FlagFlat + "entering_rh"}}, true, "entering_rh reads exactly the same value"},
+		{"coil load and meter disagree", metrics.AlertSensorImplausible, metrics.Record{Coverage: 1, CoilTotalKWh: 90, CoolingInputKWh: 9, Flags: []string{metrics.FlagCOPImplausible}}, true, "suspect the airflow"},
+		{"leaving sensor out", metrics.AlertSensorImplausible, metrics.Record{Coverage: 1, Flags: []string{metrics.FlagLeavingSensorOut}}, true, "assumed coil model took over"},
 		{"wet leaving sensor", metrics.AlertSensorImplausible, metrics.Record{Coverage: 1, Flags: []string{metrics.FlagMoistureAdded}}, true, "wetter than the entering air"},
 		{"meter", metrics.AlertReheatMeter, metrics.Record{Coverage: 1, ReheatInputKWh: 80, ReheatKWh: 30, Flags: []string{metrics.FlagReheatMeter}}, true, "80.0 kWh"},
 	}

@@ -24,6 +24,8 @@ const (
 	FlagWaterInUncertainty = "water_within_uncertainty"
 	FlagModelledCooling    = "cooling_input_modelled"
 	FlagSpaceGainAssumed   = "space_gain_assumed"
+	FlagCOPImplausible     = "cop_implausible"        // air-side coil load over metered cooling input outside 1.5-7
+	FlagLeavingSensorOut   = "leaving_sensor_missing" // a mapped leaving humidity sensor read nothing; the coil model took over
 )
 
 // Compute turns one aligned hour into a record. It never fails: missing or
@@ -38,7 +40,8 @@ func Compute(u *Unit, hr *Hour) Record {
 		valid, coolOnSteps, needSteps, moistSteps, supersatSteps, noCoilSteps, modelled int
 		sumTIn, sumWIn, sumWLv, sumTLv, sumTSup, sumReq, sumOver                        float64
 		reheatElecIn, reheatAvoidIn, meterHeat, computedHeat                            float64
-		meterSteps, gainSteps                                                           int
+		meterSteps, gainSteps, lvOutSteps, copSteps                                     int
+		copCoil, copIn                                                                  float64
 	)
 	in := &stepIn{}
 	lastOff := -1 << 30 // step index of the last step with the coil off
@@ -137,6 +140,14 @@ func Compute(u *Unit, hr *Hour) Record {
 		}
 		if o.gainAssumed {
 			gainSteps++
+		}
+		if e.lvHum != humNone && math.IsNaN(in.lvHum) {
+			lvOutSteps++
+		}
+		if o.meteredCool && o.coolOn {
+			copCoil += o.total.v * dtH
+			copIn += o.coolIn * dtH
+			copSteps++
 		}
 		if o.enteringSupersat {
 			supersatSteps++
@@ -251,6 +262,18 @@ func Compute(u *Unit, hr *Hour) Record {
 	}
 	if gainSteps > 0 {
 		flags = append(flags, FlagSpaceGainAssumed)
+	}
+	if lvOutSteps >= 5 {
+		flags = append(flags, FlagLeavingSensorOut)
+	}
+	// The air side and the meter must tell one story: a vapour-compression
+	// unit's coil load over its electric input lies between about 1.5 and
+	// 7 (DX and chiller plants alike; common practice, no source). Outside,
+	// the airflow, the entering humidity or the meter is wrong.
+	if copSteps*2 >= n && copIn > 0.5 {
+		if c := copCoil / copIn; c < 1.5 || c > 7 {
+			flags = append(flags, FlagCOPImplausible)
+		}
 	}
 	rec.Flags = flags
 	return rec

@@ -233,6 +233,25 @@ func TestCompute_Flags(t *testing.T) {
 			metrics.RoleReheatPower: constant(11)}))
 		assert.Contains(t, r.Flags, metrics.FlagReheatMeter)
 	})
+	t.Run("metered cooling input far below the air-side load", func(t *testing.T) {
+		// About 40 kW of coil load (3 m³/s cooled 13 K with condensation)
+		// on 2 kW of compressor: a COP near 20, impossible for a
+		// vapour-compression unit.
+		r := metrics.Compute(u, with(map[metrics.Role]func(int) float64{metrics.RoleCoolingPower: constant(2)}))
+		assert.Contains(t, r.Flags, metrics.FlagCOPImplausible)
+		r = metrics.Compute(u, with(map[metrics.Role]func(int) float64{metrics.RoleCoolingPower: func(int) float64 { return r.CoilTotalKWh / 4 }}))
+		assert.NotContains(t, r.Flags, metrics.FlagCOPImplausible, "COP 4 is plausible")
+	})
+	t.Run("leaving sensor drops out", func(t *testing.T) {
+		r := metrics.Compute(u, with(map[metrics.Role]func(int) float64{metrics.RoleLeavingRH: func(i int) float64 {
+			if i < 30 {
+				return math.NaN()
+			}
+			return 0.95 + float64(i%3)/100
+		}}))
+		assert.Contains(t, r.Flags, metrics.FlagLeavingSensorOut)
+		assert.Equal(t, 1.0, r.Coverage, "the coil model covers the steps")
+	})
 	t.Run("supply warmer with no reheat coil", func(t *testing.T) {
 		v := *u
 		v.Reheat = metrics.ReheatNone
