@@ -241,7 +241,9 @@ func Compute(u *Unit, hr *Hour) Record {
 			flags = append(flags, FlagFlat+r)
 		}
 	}
-	if moistSteps >= 5 {
+	// A fault reads wetter much of the time; a noisy sensor on a dry coil
+	// now and then (one 5-minute sample fills five steps).
+	if moistSteps >= 5 && 4*moistSteps >= coolOnSteps {
 		flags = append(flags, FlagMoistureAdded)
 	}
 	if supersatSteps >= 5 {
