@@ -113,7 +113,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	}
 	log.Info().Strs("ahus", owned).Str("shard", *shardS).Msg("air handlers owned")
 	if *dry {
-		runner.Store = &influx.DryRun{Inner: rs, W: e.stdout}
+		runner.Store = &influx.DryRun{Inner: rs, W: e.stdout, Site: cfg.Site.ID}
 		_, err := runner.RunOnce(ctx)
 		return err
 	}

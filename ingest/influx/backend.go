@@ -23,7 +23,8 @@ type Backend struct {
 
 // BackendOptions are what the backend needs besides the client.
 type BackendOptions struct {
-	// Site tags the agent's state points (checkpoints, alert rule states).
+	// Site is the site id: every point written is tagged with it (SiteTag)
+	// and every read of results, checkpoints and alert states matches it.
 	Site string
 	// Queue opens the local queue of alerts and webhook events the agent
 	// keeps beside InfluxDB; required for Agent.
@@ -59,7 +60,7 @@ func (b *Backend) PutHourly(ctx context.Context, recs []metrics.Record) error {
 	if len(recs) == 0 {
 		return nil
 	}
-	return b.c.WritePoints(ctx, HourlyPoints(recs))
+	return b.c.WritePoints(ctx, HourlyPoints(b.opt.Site, recs))
 }
 
 // PutTransitions writes alert transitions as dewline_alert points.
@@ -67,12 +68,15 @@ func (b *Backend) PutTransitions(ctx context.Context, tr []metrics.Transition) e
 	if len(tr) == 0 {
 		return nil
 	}
-	return b.c.WritePoints(ctx, AlertPoints(tr))
+	return b.c.WritePoints(ctx, AlertPoints(b.opt.Site, tr))
 }
 
-// Results reads results back: dewline_hourly pivoted into records, and the
-// alerts rebuilt from their transitions.
-func (b *Backend) Results(now func() time.Time) dashboards.Results { return &results{c: b.c, now: now} }
+// Results reads the site's results back: dewline_hourly pivoted into
+// records, and the alerts rebuilt from their transitions, both matching
+// the site tag.
+func (b *Backend) Results(now func() time.Time) dashboards.Results {
+	return &results{c: b.c, site: SiteTag(b.opt.Site), now: now}
+}
 
 // Agent returns the agent's results in InfluxDB with its local queue.
 func (b *Backend) Agent(ctx context.Context) (store.AgentStore, error) {
