@@ -1,0 +1,183 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/rs/zerolog"
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/dashboards"
+	"github.com/dewline/dewline/deploy/testkit"
+	"github.com/dewline/dewline/metrics"
+)
+
+// portfolioSite is one invented site of the portfolio tests: its id and
+// how its two days differ from the others' (mixed-air RH by day and the
+// leaving temperature at night), so that a site's hours overwritten by
+// another's would show.
+type portfolioSite struct {
+	id            string
+	dayRHPct      float64
+	nightLeavingF float64
+}
+
+var portfolioSites = []portfolioSite{
+	{id: "north", dayRHPct: 60, nightLeavingF: 55},
+	{id: "south", dayRHPct: 72, nightLeavingF: 53},
+}
+
+// writePortfolioSite writes s's export and a configuration whose store is
+// the InfluxDB database db, with the site's trend points in a measurement
+// of its own; both sites name their air handler AHU-7.
+func writePortfolioSite(t *testing.T, s portfolioSite, base, db string) (cfg, data string) {
+	t.Helper()
+	dir := filepath.Join(t.TempDir(), s.id)
+	require.NoError(t, os.MkdirAll(dir, 0o700))
+	var b strings.Builder
+	b.WriteString("Time,MAT,MARH,LAT,SAT,CFM\n")
+	start := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
+	for m := 0; m < 48*60; m++ {
+		ts := start.Add(time.Duration(m) * time.Minute)
+		day := ts.Hour() >= 8 && ts.Hour() < 20
+		mat, rh, lat := 76.0+math.Sin(float64(m)/90), s.dayRHPct, 52.0
+		if !day {
+			rh, lat = 38, s.nightLeavingF
+		}
+		fmt.Fprintf(&b, "%s,%.2f,%.1f,%.2f,%.2f,%d\n", ts.Format("2006-01-02 15:04:05"), mat, rh, lat, 62.0, 8000)
+	}
+	data = filepath.Join(dir, "export.csv")
+	require.NoError(t, os.WriteFile(data, []byte(b.String()), 0o600))
+	text := strings.Replace(analyzeConfig, "site: {", "site: {id: "+s.id+", name: "+s.id+", ", 1)
+	text = strings.Replace(text, "store: {kind: embedded, path: test.db}",
+		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", base, db+"/autogen"), 1)
+	for _, p := range []string{"MAT", "MARH", "LAT", "SAT", "CFM"} {
+		text = strings.Replace(text, "{column: "+p+",", fmt.Sprintf("{column: %s, measurement: %s_trend, field: %s,", p, s.id, strings.ToLower(p)), 1)
+	}
+	cfg = filepath.Join(dir, "site.yaml")
+	require.NoError(t, os.WriteFile(cfg, []byte(text), 0o600))
+	return cfg, data
+}
+
+// siteResults is what one site reads back from its store.
+type siteResults struct {
+	hours      []metrics.Record
+	alerts     []dashboards.Alert
+	checkpoint time.Time
+}
+
+func readSite(t *testing.T, cfgPath string) siteResults {
+	t.Helper()
+	ctx := context.Background()
+	cfg, err := loadConfig(cfgPath)
+	require.NoError(t, err)
+	st, err := openStore(ctx, cfg, false, zerolog.Nop())
+	require.NoError(t, err)
+	defer st.Close()
+	var out siteResults
+	res := st.results(time.Now)
+	from, to := time.Date(2026, 7, 1, 0, 0, 0, 0, time.UTC), time.Date(2026, 8, 1, 0, 0, 0, 0, time.UTC)
+	require.NoError(t, res.Hours(ctx, "", from, to, func(r *metrics.Record) error {
+		c := *r
+		c.Flags = append([]string(nil), r.Flags...)
+		out.hours = append(out.hours, c)
+		return nil
+	}))
+	out.alerts, err = res.Alerts(ctx, dashboards.AlertQuery{From: from, To: to})
+	require.NoError(t, err)
+	ag, err := st.Agent(ctx)
+	require.NoError(t, err)
+	defer ag.Close()
+	cp, ok, err := ag.Checkpoint(ctx, "AHU-7")
+	require.NoError(t, err)
+	require.True(t, ok)
+	out.checkpoint = cp
+	return out
+}
+
+// fieldsEqual compares records field by field, NaN equal to NaN.
+func fieldsEqual(a, b metrics.Record) bool {
+	fa, fb := a.Fields(), b.Fields()
+	for i := range fa {
+		x, y := fa[i].Value, fb[i].Value
+		if !(x == y || math.IsNaN(x) && math.IsNaN(y)) {
+			return false
+		}
+	}
+	return a.AHU == b.AHU && a.HourStart.Equal(b.HourStart) && strings.Join(a.Flags, " ") == strings.Join(b.Flags, " ")
+}
+
+// TestPortfolio_InfluxTwoSitesShareIDs: two sites whose air handlers share
+// an id (AHU-7), each imported and analysed by its agent into one real
+// InfluxDB database, read back exactly what each gives analysed alone in a
+// database of its own: the same hours (count and every value), the same
+// alerts, its own checkpoint.
+func TestPortfolio_InfluxTwoSitesShareIDs(t *testing.T) {
+	base, _ := testkit.InfluxDB(t)
+	shared := freshDB(t, base, "portfolio")
+	asOf := map[string]string{"north": "2026-07-15T12:07", "south": "2026-07-15T13:07"}
+	wantCP := map[string]time.Time{"north": time.Date(2026, 7, 15, 16, 0, 0, 0, time.UTC), "south": time.Date(2026, 7, 15, 17, 0, 0, 0, time.UTC)}
+	analyse := func(cfg, data, site string) {
+		code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+		require.Equal(t, 0, code, errOut)
+		code, out, errOut := runCLI(t, "--log-level", "warn", "run", "--config", cfg, "--once", "--as-of", asOf[site])
+		require.Equal(t, 0, code, errOut)
+		require.Contains(t, out, "checkpoint "+wantCP[site].Format(time.RFC3339), out)
+	}
+	alone, together := map[string]siteResults{}, map[string]siteResults{}
+	for _, s := range portfolioSites {
+		cfg, data := writePortfolioSite(t, s, base, freshDB(t, base, "alone_"+s.id))
+		analyse(cfg, data, s.id)
+		alone[s.id] = readSite(t, cfg)
+	}
+	var cfgs []string
+	for _, s := range portfolioSites {
+		cfg, data := writePortfolioSite(t, s, base, shared)
+		analyse(cfg, data, s.id)
+		cfgs = append(cfgs, cfg)
+	}
+	for i, s := range portfolioSites {
+		together[s.id] = readSite(t, cfgs[i])
+	}
+
+	n, so := alone["north"], alone["south"]
+	require.NotEmpty(t, n.hours)
+	require.NotEmpty(t, n.alerts, "the humid days raise alerts")
+	differ := 0
+	for i := range min(len(n.hours), len(so.hours)) {
+		if !fieldsEqual(n.hours[i], so.hours[i]) {
+			differ++
+		}
+	}
+	require.Greater(t, differ, 20, "the sites' hours differ, so an overwrite would show")
+
+	for _, s := range portfolioSites {
+		a, b := alone[s.id], together[s.id]
+		require.Len(t, b.hours, len(a.hours), s.id)
+		for i := range a.hours {
+			assert.True(t, fieldsEqual(a.hours[i], b.hours[i]), "%s: hour %s differs from the site analysed alone", s.id, a.hours[i].HourStart)
+		}
+		require.Len(t, b.alerts, len(a.alerts), s.id)
+		for i := range a.alerts {
+			assert.Equal(t, a.alerts[i].ID, b.alerts[i].ID, s.id)
+			assert.Equal(t, a.alerts[i].State, b.alerts[i].State, s.id)
+			assert.InDelta(t, a.alerts[i].Money, b.alerts[i].Money, 1e-9, "%s %s: a float written and read back", s.id, a.alerts[i].ID)
+		}
+		assert.True(t, b.checkpoint.Equal(wantCP[s.id]), "%s: checkpoint %s", s.id, b.checkpoint)
+	}
+
+	// In the database: two dewline_hourly series of AHU-7, one per site.
+	series := influxQL(t, base, shared, `SELECT count("coverage") FROM dewline_hourly GROUP BY "site", "ahu"`)
+	got := map[string]string{}
+	for _, s := range series {
+		got[s.Tags["site"]] = s.Tags["ahu"]
+	}
+	assert.Equal(t, map[string]string{"north": "AHU-7", "south": "AHU-7"}, got)
+}
