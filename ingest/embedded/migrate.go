@@ -8,7 +8,7 @@ import (
 
 // SchemaVersion is the schema this binary writes and reads: the number of
 // steps in migrations. A file's version is its PRAGMA user_version.
-const SchemaVersion = 3
+const SchemaVersion = 4
 
 // applicationID marks the file as a dewline store in the SQLite header
 // (PRAGMA application_id, bytes 68-71; "dewl" in ASCII), so Open can tell a
@@ -40,7 +40,19 @@ var migrations = []migration{
 	{name: "initial schema", sql: schemaV1},
 	{name: "alert rule states", sql: schemaV2},
 	{name: "daily sums", sql: schemaV3},
+	{name: "site of the file", sql: schemaV4},
 }
+
+// schemaV4 names the site whose results the file holds: one file holds
+// one site (see site.go). A file from before has no row; the first site to
+// open it read-write claims it, since until then a file held one site.
+const schemaV4 = `
+CREATE TABLE site (
+	only       INTEGER PRIMARY KEY CHECK (only = 1),
+	id         TEXT    NOT NULL,
+	claimed_ms INTEGER NOT NULL
+);
+`
 
 // schemaV3 keeps per air handler and local day the sums of the additive
 // hourly fields (metrics.AdditiveFields), so that a portfolio's month is
