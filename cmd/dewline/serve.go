@@ -16,7 +16,7 @@ import (
 
 // siteFor is the dashboard's view of the configuration.
 func siteFor(cfg *config.Config) *dashboards.Site {
-	s := &dashboards.Site{Name: cfg.Site.Name, Zone: cfg.Location, IP: cfg.Site.Units == "ip",
+	s := &dashboards.Site{ID: cfg.Site.ID, Name: cfg.Site.Name, Zone: cfg.Location, IP: cfg.Site.Units == "ip",
 		Currency: cfg.Prices.Currency, PressurePa: cfg.PressurePa}
 	for i := range cfg.AirHandlers {
 		a := &cfg.AirHandlers[i]
