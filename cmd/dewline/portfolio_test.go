@@ -90,6 +90,15 @@ func readSite(t *testing.T, cfgPath string) siteResults {
 		out.hours = append(out.hours, c)
 		return nil
 	}))
+	// One air handler's read (the unit page's) gives the same hours.
+	i := 0
+	require.NoError(t, res.Hours(ctx, "AHU-7", from, to, func(r *metrics.Record) error {
+		require.Less(t, i, len(out.hours), "more hours of AHU-7 than of the site")
+		require.True(t, fieldsEqual(out.hours[i], *r), "hour %s", r.HourStart)
+		i++
+		return nil
+	}))
+	require.Equal(t, len(out.hours), i)
 	out.alerts, err = res.Alerts(ctx, dashboards.AlertQuery{From: from, To: to})
 	require.NoError(t, err)
 	ag, err := st.Agent(ctx)
@@ -114,38 +123,57 @@ func fieldsEqual(a, b metrics.Record) bool {
 	return a.AHU == b.AHU && a.HourStart.Equal(b.HourStart) && strings.Join(a.Flags, " ") == strings.Join(b.Flags, " ")
 }
 
+// portfolioCheckpoints is where each site's agent run leaves its checkpoint.
+var (
+	portfolioAsOf        = map[string]string{"north": "2026-07-15T12:07", "south": "2026-07-15T13:07"}
+	portfolioCheckpoints = map[string]time.Time{"north": time.Date(2026, 7, 15, 16, 0, 0, 0, time.UTC), "south": time.Date(2026, 7, 15, 17, 0, 0, 0, time.UTC)}
+)
+
+// portfolio is the two sites analysed by their agents: each alone in a
+// database of its own (alone, read back) and both in the shared one (cfgs).
+type portfolio struct {
+	base, shared string
+	cfgs         []string
+	alone        map[string]siteResults
+}
+
+func setUpPortfolio(t *testing.T) portfolio {
+	t.Helper()
+	base, _ := testkit.InfluxDB(t)
+	pf := portfolio{base: base, shared: freshDB(t, base, "portfolio"), alone: map[string]siteResults{}}
+	analyse := func(cfg, data, site string) {
+		code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+		require.Equal(t, 0, code, errOut)
+		code, out, errOut := runCLI(t, "--log-level", "warn", "run", "--config", cfg, "--once", "--as-of", portfolioAsOf[site])
+		require.Equal(t, 0, code, errOut)
+		require.Contains(t, out, "checkpoint "+portfolioCheckpoints[site].Format(time.RFC3339), out)
+	}
+	for _, s := range portfolioSites {
+		cfg, data := writePortfolioSite(t, s, base, freshDB(t, base, "alone_"+s.id))
+		analyse(cfg, data, s.id)
+		pf.alone[s.id] = readSite(t, cfg)
+	}
+	for _, s := range portfolioSites {
+		cfg, data := writePortfolioSite(t, s, base, pf.shared)
+		analyse(cfg, data, s.id)
+		pf.cfgs = append(pf.cfgs, cfg)
+	}
+	return pf
+}
+
 // TestPortfolio_InfluxTwoSitesShareIDs: two sites whose air handlers share
 // an id (AHU-7), each imported and analysed by its agent into one real
 // InfluxDB database, read back exactly what each gives analysed alone in a
 // database of its own: the same hours (count and every value), the same
 // alerts, its own checkpoint.
 func TestPortfolio_InfluxTwoSitesShareIDs(t *testing.T) {
-	base, _ := testkit.InfluxDB(t)
-	shared := freshDB(t, base, "portfolio")
-	asOf := map[string]string{"north": "2026-07-15T12:07", "south": "2026-07-15T13:07"}
-	wantCP := map[string]time.Time{"north": time.Date(2026, 7, 15, 16, 0, 0, 0, time.UTC), "south": time.Date(2026, 7, 15, 17, 0, 0, 0, time.UTC)}
-	analyse := func(cfg, data, site string) {
-		code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
-		require.Equal(t, 0, code, errOut)
-		code, out, errOut := runCLI(t, "--log-level", "warn", "run", "--config", cfg, "--once", "--as-of", asOf[site])
-		require.Equal(t, 0, code, errOut)
-		require.Contains(t, out, "checkpoint "+wantCP[site].Format(time.RFC3339), out)
-	}
-	alone, together := map[string]siteResults{}, map[string]siteResults{}
-	for _, s := range portfolioSites {
-		cfg, data := writePortfolioSite(t, s, base, freshDB(t, base, "alone_"+s.id))
-		analyse(cfg, data, s.id)
-		alone[s.id] = readSite(t, cfg)
-	}
-	var cfgs []string
-	for _, s := range portfolioSites {
-		cfg, data := writePortfolioSite(t, s, base, shared)
-		analyse(cfg, data, s.id)
-		cfgs = append(cfgs, cfg)
-	}
+	pf := setUpPortfolio(t)
+	alone, together := pf.alone, map[string]siteResults{}
 	for i, s := range portfolioSites {
-		together[s.id] = readSite(t, cfgs[i])
+		together[s.id] = readSite(t, pf.cfgs[i])
 	}
+	wantCP := portfolioCheckpoints
+	base, shared := pf.base, pf.shared
 
 	n, so := alone["north"], alone["south"]
 	require.NotEmpty(t, n.hours)

@@ -24,7 +24,7 @@ type results struct {
 func (ir *results) Hours(ctx context.Context, ahu string, from, to time.Time, fn func(*metrics.Record) error) error {
 	q := WideQuery{Measurement: MeasurementHourly, Match: map[string]string{"site": ir.site}, From: from, To: to}
 	if ahu != "" {
-		q.Match = map[string]string{"ahu": ahu}
+		q.Match["ahu"] = ahu
 	}
 	var rec metrics.Record
 	ptrs := rec.FieldPtrs()
