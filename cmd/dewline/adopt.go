@@ -15,11 +15,11 @@ import (
 // the configured site's series, once, after an upgrade: until then no site
 // reads them.
 func runAdopt(ctx context.Context, e *env, args []string) error {
-	fs := flag.NewFlagSet("adopt-untagged", flag.ContinueOnError)
+	fs := flag.NewFlagSet("adopt", flag.ContinueOnError)
 	fs.String("config", "", "configuration file of the site that wrote the untagged results (required)")
 	list := fs.Bool("list", false, "only list the air handlers with untagged results, and copy nothing")
 	fs.Usage = func() {
-		fmt.Fprintln(fs.Output(), "usage: dewline adopt-untagged --config FILE [--list]")
+		fmt.Fprintln(fs.Output(), "usage: dewline adopt --config FILE [--list]")
 		fs.PrintDefaults()
 	}
 	cfg, err := parseWithConfig(fs, args, e.stdout)

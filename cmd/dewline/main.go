@@ -32,16 +32,16 @@ type env struct {
 }
 
 var commands = map[string]command{
-	"air":            {"compute one moist-air state (dry bulb with RH, dew point, wet bulb or humidity ratio)", runAir},
-	"check":          {"validate a configuration and inspect its points in exports or the store", runCheck},
-	"import":         {"load trend exports (CSV) into the configured store", runImport},
-	"run":            {"the agent: compute every hour on a schedule, write results and alerts back, serve health and metrics", runRun},
-	"analyze":        {"compute the hourly figures and alerts for a period, from the store or from exports", runAnalyze},
-	"serve":          {"serve the dashboard over the stored results (read-only)", runServe},
-	"demo":           {"generate an invented building's trend logs, analyse them, write the report and serve the dashboard", runDemo},
-	"report":         {"write a self-contained HTML report (and with --pdf a PDF) of a period's findings, measures and method", runReport},
-	"adopt-untagged": {"after an upgrade: copy InfluxDB results written without the site tag into the configured site", runAdopt},
-	"compare":        {"what a sequence change saved: a baseline model of the before period against the after period", runCompare},
+	"air":     {"compute one moist-air state (dry bulb with RH, dew point, wet bulb or humidity ratio)", runAir},
+	"check":   {"validate a configuration and inspect its points in exports or the store", runCheck},
+	"import":  {"load trend exports (CSV) into the configured store", runImport},
+	"run":     {"the agent: compute every hour on a schedule, write results and alerts back, serve health and metrics", runRun},
+	"analyze": {"compute the hourly figures and alerts for a period, from the store or from exports", runAnalyze},
+	"serve":   {"serve the dashboard over the stored results (read-only)", runServe},
+	"demo":    {"generate an invented building's trend logs, analyse them, write the report and serve the dashboard", runDemo},
+	"report":  {"write a self-contained HTML report (and with --pdf a PDF) of a period's findings, measures and method", runReport},
+	"adopt":   {"after an upgrade: copy InfluxDB results written without the site tag into the configured site", runAdopt},
+	"compare": {"what a sequence change saved: a baseline model of the before period against the after period", runCompare},
 }
 
 // usageError is a mistake in the command line: it prints the reason and exits 2.

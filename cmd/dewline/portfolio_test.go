@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"encoding/json"
 	"fmt"
 	"math"
 	"os"
@@ -16,6 +17,7 @@ import (
 
 	"github.com/dewline/dewline/dashboards"
 	"github.com/dewline/dewline/deploy/testkit"
+	"github.com/dewline/dewline/ingest/influx"
 	"github.com/dewline/dewline/metrics"
 )
 
@@ -104,10 +106,9 @@ func readSite(t *testing.T, cfgPath string) siteResults {
 	ag, err := st.Agent(ctx)
 	require.NoError(t, err)
 	defer ag.Close()
-	cp, ok, err := ag.Checkpoint(ctx, "AHU-7")
+	cp, _, err := ag.Checkpoint(ctx, "AHU-7")
 	require.NoError(t, err)
-	require.True(t, ok)
-	out.checkpoint = cp
+	out.checkpoint = cp // zero when there is none
 	return out
 }
 
@@ -208,4 +209,80 @@ func TestPortfolio_InfluxTwoSitesShareIDs(t *testing.T) {
 		got[s.Tags["site"]] = s.Tags["ahu"]
 	}
 	assert.Equal(t, map[string]string{"north": "AHU-7", "south": "AHU-7"}, got)
+}
+
+// TestPortfolio_InfluxAdoptCommand: the upgrade on the real server through
+// the command. A database holding what an earlier dewline wrote (the
+// site's hours and alert transitions without the site tag) shows the site
+// nothing until "dewline adopt" copies them; then the site reads the same
+// hours and alerts as were written, and a second run copies nothing.
+func TestPortfolio_InfluxAdoptCommand(t *testing.T) {
+	base, _ := testkit.InfluxDB(t)
+	ctx := context.Background()
+	cfg, data := writePortfolioSite(t, portfolioSites[0], base, freshDB(t, base, "tagged"))
+	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, errOut)
+	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data)
+	require.Equal(t, 0, code, errOut)
+	want := readSite(t, cfg)
+	require.Len(t, want.hours, 48)
+	require.NotEmpty(t, want.alerts)
+
+	// The same results as an earlier dewline wrote them: tagged by ahu only.
+	old := freshDB(t, base, "untagged")
+	oldCfg, _ := writePortfolioSite(t, portfolioSites[0], base, old)
+	c, err := influx.New(influx.Options{URL: base, Bucket: old + "/autogen", Timeout: 20 * time.Second})
+	require.NoError(t, err)
+	defer c.Close()
+	var pts []influx.Point
+	for _, p := range influx.HourlyPoints("", want.hours) {
+		delete(p.Tags, "site")
+		pts = append(pts, p)
+	}
+	require.NoError(t, c.WritePoints(ctx, pts))
+	// The alert transitions, copied on the server without their site tag
+	// (InfluxQL keeps the tags named in GROUP BY).
+	influxQL(t, base, old, fmt.Sprintf(`SELECT "energy_kwh", "money", "open", "id", "reason", "start", "end" INTO %q.."dewline_alert" FROM %q.."dewline_alert" GROUP BY "ahu", "kind", "severity", "status"`,
+		old, strings.Split(cfgBucket(t, cfg), "/")[0]))
+	before := readSite(t, oldCfg)
+	assert.Empty(t, before.hours, "untagged results are read by no site")
+	assert.Empty(t, before.alerts)
+
+	code, out, errOut := runCLI(t, "--log-level", "warn", "adopt", "--config", oldCfg, "--list")
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, out, "AHU-7 (48 hours)")
+	code, out, errOut = runCLI(t, "--log-level", "warn", "adopt", "--config", oldCfg)
+	require.Equal(t, 0, code, errOut)
+	transitions := 0
+	for _, s := range influxQL(t, base, strings.Split(cfgBucket(t, cfg), "/")[0], `SELECT count("money") FROM dewline_alert`) {
+		for _, r := range s.rows() {
+			n, err := r["count"].(json.Number).Int64()
+			require.NoError(t, err)
+			transitions += int(n)
+		}
+	}
+	require.Greater(t, transitions, len(want.alerts), "alerts that opened and closed")
+	assert.Contains(t, out, fmt.Sprintf(`site "north" adopted 48 hours and %d alert transitions`, transitions), out)
+	after := readSite(t, oldCfg)
+	require.Len(t, after.hours, len(want.hours))
+	for i := range want.hours {
+		assert.True(t, fieldsEqual(want.hours[i], after.hours[i]), "hour %s", want.hours[i].HourStart)
+	}
+	require.Len(t, after.alerts, len(want.alerts))
+	for i := range want.alerts {
+		assert.Equal(t, want.alerts[i].ID, after.alerts[i].ID)
+		assert.Equal(t, want.alerts[i].State, after.alerts[i].State)
+		assert.InDelta(t, want.alerts[i].Money, after.alerts[i].Money, 1e-9, "a float written and read back")
+	}
+	code, out, errOut = runCLI(t, "--log-level", "warn", "adopt", "--config", oldCfg)
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, out, "adopted 0 hours and 0 alert transitions")
+}
+
+// cfgBucket is the InfluxDB bucket of a configuration.
+func cfgBucket(t *testing.T, path string) string {
+	t.Helper()
+	cfg, err := loadConfig(path)
+	require.NoError(t, err)
+	return cfg.Store.InfluxDB.Bucket
 }

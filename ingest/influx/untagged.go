@@ -17,7 +17,7 @@ var _ store.UntaggedAdopter = (*Backend)(nil)
 // dewline_alert tagged by ahu only) are read by no site: every read of
 // results matches the site tag. UntaggedResults finds them and
 // AdoptUntagged copies them, once, into the series of the site that wrote
-// them ("dewline adopt-untagged"). The untagged points stay where they are
+// them ("dewline adopt"). The untagged points stay where they are
 // (InfluxDB 1.8 offers no delete through the API dewline uses), unread.
 
 // resultSchema is how the points of a result measurement are rebuilt from
