@@ -7,6 +7,8 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"regexp"
+	"strconv"
 	"strings"
 	"testing"
 	"time"
@@ -37,8 +39,9 @@ var portfolioSites = []portfolioSite{
 }
 
 // writePortfolioSite writes s's export and a configuration whose store is
-// the InfluxDB database db, with the site's trend points in a measurement
-// of its own; both sites name their air handler AHU-7.
+// the InfluxDB database db (the embedded store when base is ""), with the
+// site's trend points in a measurement of its own; both sites name their
+// air handler AHU-7.
 func writePortfolioSite(t *testing.T, s portfolioSite, base, db string) (cfg, data string) {
 	t.Helper()
 	dir := filepath.Join(t.TempDir(), s.id)
@@ -58,8 +61,12 @@ func writePortfolioSite(t *testing.T, s portfolioSite, base, db string) (cfg, da
 	data = filepath.Join(dir, "export.csv")
 	require.NoError(t, os.WriteFile(data, []byte(b.String()), 0o600))
 	text := strings.Replace(analyzeConfig, "site: {", "site: {id: "+s.id+", name: "+s.id+", ", 1)
-	text = strings.Replace(text, "store: {kind: embedded, path: test.db}",
-		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", base, db+"/autogen"), 1)
+	if base == "" { // the embedded store, a file of the site's own
+		text = strings.Replace(text, "path: test.db", "path: "+s.id+".db", 1)
+	} else {
+		text = strings.Replace(text, "store: {kind: embedded, path: test.db}",
+			fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", base, db+"/autogen"), 1)
+	}
 	for _, p := range []string{"MAT", "MARH", "LAT", "SAT", "CFM"} {
 		text = strings.Replace(text, "{column: "+p+",", fmt.Sprintf("{column: %s, measurement: %s_trend, field: %s,", p, s.id, strings.ToLower(p)), 1)
 	}
@@ -285,4 +292,66 @@ func cfgBucket(t *testing.T, path string) string {
 	cfg, err := loadConfig(path)
 	require.NoError(t, err)
 	return cfg.Store.InfluxDB.Bucket
+}
+
+// TestPortfolio_Report: "dewline report" given two sites writes each
+// site's own report beside the portfolio summary, whose site totals are
+// the sums of each site's hourly file (written by the same analysis, summed
+// here) and whose findings rank both sites' AHU-7 by avoidable cost.
+func TestPortfolio_Report(t *testing.T) {
+	dir := t.TempDir()
+	want := map[string]float64{}
+	var cfgs []string
+	for _, s := range portfolioSites {
+		cfg, data := writePortfolioSite(t, s, "", "")
+		hourly := filepath.Join(dir, s.id+".csv")
+		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data, "--out", hourly)
+		require.Equal(t, 0, code, errOut)
+		header, rows := readHourly(t, hourly)
+		col := -1
+		for i, h := range header {
+			if h == "cost_avoidable" {
+				col = i
+			}
+		}
+		require.NotEqual(t, -1, col, "hourly file has cost_avoidable")
+		for _, r := range rows {
+			if v, err := strconv.ParseFloat(r[col], 64); err == nil {
+				want[s.id] += v
+			}
+		}
+		cfgs = append(cfgs, cfg)
+	}
+	require.NotEqual(t, want["north"], want["south"])
+	out := filepath.Join(dir, "portfolio.html")
+	code, stdout, errOut := runCLI(t, "--log-level", "warn", "report", "--config", cfgs[0], "--config", cfgs[1], "--from", "2026-07-14", "--to", "2026-07-15", "-o", out)
+	require.Equal(t, 0, code, errOut)
+	for _, id := range []string{"north", "south"} {
+		assert.Contains(t, stdout, filepath.Join(dir, "portfolio-"+id+".html"))
+		b, err := os.ReadFile(filepath.Join(dir, "portfolio-"+id+".html"))
+		require.NoError(t, err)
+		assert.Contains(t, string(b), `id="site-name">`+id+`<`, "the site's own report")
+	}
+	b, err := os.ReadFile(out)
+	require.NoError(t, err)
+	html := string(b)
+	site := regexp.MustCompile(`<tr data-site="([a-z]+)"><th scope="row"><a href="portfolio-([a-z]+)\.html">[^<]*</a></th><td>[^<]*</td><td class="num">1</td><td class="num" data-field="cost_avoidable" data-value="([^"]+)"`)
+	m := site.FindAllStringSubmatch(html, -1)
+	require.Len(t, m, 2, html)
+	for _, r := range m {
+		assert.Equal(t, r[1], r[2], "the link goes to the site's report")
+		v, err := strconv.ParseFloat(r[3], 64)
+		require.NoError(t, err)
+		assert.InEpsilon(t, want[r[1]], v, 1e-6, "%s: the hourly file rounds", r[1])
+	}
+	find := regexp.MustCompile(`<tr data-site="([a-z]+)" data-unit="AHU-7"><td>(\d)</td>`).FindAllStringSubmatch(html, -1)
+	require.Len(t, find, 2)
+	first := "north"
+	if want["south"] > want["north"] {
+		first = "south"
+	}
+	assert.Equal(t, []string{first, "1"}, find[0][1:], "ranked by avoidable cost across the sites")
+	code, _, errOut = runCLI(t, "report", "--config", cfgs[0], "--config", cfgs[1], "--pdf", "-o", out)
+	assert.Equal(t, 2, code)
+	assert.Contains(t, errOut, "--pdf takes one site")
 }
