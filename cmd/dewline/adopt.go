@@ -61,7 +61,7 @@ func runAdopt(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	fmt.Fprintf(e.stdout, "site %q adopted %d hours and %d alert transitions; %d untagged points kept out (the site has newer ones at those times)\n",
+	fmt.Fprintf(e.stdout, "site %q adopted %d hours and %d alert transitions; %d untagged points left (the site already has points at those times: copied before, or written since)\n",
 		siteLabel(cfg.Site.ID), done.Hours, done.Transitions, done.Kept)
 	return nil
 }
