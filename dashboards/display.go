@@ -1,10 +1,7 @@
 package dashboards
 
 import (
-	"encoding/json"
-	"math"
-	"strconv"
-
+	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/psychro"
 )
 
@@ -79,38 +76,5 @@ func (d Display) WaterUnit() string {
 	return "kg"
 }
 
-// Num is a number that encodes NaN and ±Inf as JSON null (encoding/json
-// refuses them), rounded to a sensible number of significant digits.
-type Num float64
-
-// MarshalJSON writes null for a missing value.
-func (n Num) MarshalJSON() ([]byte, error) {
-	v := float64(n)
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return []byte("null"), nil
-	}
-	return strconv.AppendFloat(nil, round(v, 6), 'g', -1, 64), nil
-}
-
-// UnmarshalJSON reads null as NaN.
-func (n *Num) UnmarshalJSON(b []byte) error {
-	if string(b) == "null" {
-		*n = Num(math.NaN())
-		return nil
-	}
-	var v float64
-	if err := json.Unmarshal(b, &v); err != nil {
-		return err
-	}
-	*n = Num(v)
-	return nil
-}
-
-// round keeps sig significant digits.
-func round(v float64, sig int) float64 {
-	if v == 0 || math.IsNaN(v) || math.IsInf(v, 0) {
-		return v
-	}
-	p := math.Pow(10, float64(sig)-math.Ceil(math.Log10(math.Abs(v))))
-	return math.Round(v*p) / p
-}
+// Num is a number that encodes NaN and ±Inf as JSON null (metrics.Num).
+type Num = metrics.Num

@@ -1,7 +1,6 @@
 package compare
 
 import (
-	"encoding/json"
 	"math"
 	"strconv"
 	"time"
@@ -42,41 +41,8 @@ type Input struct {
 	Options       Options
 }
 
-// Num is a number that encodes NaN and ±Inf as JSON null (encoding/json
-// refuses them), rounded to six significant digits.
-type Num float64
-
-// MarshalJSON writes null for a missing value.
-func (n Num) MarshalJSON() ([]byte, error) {
-	v := float64(n)
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return []byte("null"), nil
-	}
-	return strconv.AppendFloat(nil, round(v, 6), 'g', -1, 64), nil
-}
-
-// UnmarshalJSON reads null as NaN.
-func (n *Num) UnmarshalJSON(b []byte) error {
-	if string(b) == "null" {
-		*n = Num(math.NaN())
-		return nil
-	}
-	var v float64
-	if err := json.Unmarshal(b, &v); err != nil {
-		return err
-	}
-	*n = Num(v)
-	return nil
-}
-
-// round keeps sig significant digits.
-func round(v float64, sig int) float64 {
-	if v == 0 || math.IsNaN(v) || math.IsInf(v, 0) {
-		return v
-	}
-	p := math.Pow(10, float64(sig)-math.Ceil(math.Log10(math.Abs(v))))
-	return math.Round(v*p) / p
-}
+// Num is a number that encodes NaN and ±Inf as JSON null (metrics.Num).
+type Num = metrics.Num
 
 // Sums are the raw totals of a unit's stored hours in one period, not
 // normalised. Energies in kWh, water in kg, money in the site's currency;
