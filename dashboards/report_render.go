@@ -136,7 +136,7 @@ type reportView struct {
 	PeriodHours                              string
 	Unc                                      []rvUnc
 	TempUnit, WaterUnit, DeltaUnit           string
-	HasFuel, WholeDays                       bool
+	HasFuel, WholeDays, PartCovered          bool
 }
 
 // paperSize returns the CSS page size and the paper's name: paper as
@@ -229,6 +229,7 @@ func (r *Report) view() (*reportView, error) {
 	v.WholeDays = midnight(r.Period.From).Equal(r.Period.From) && midnight(r.Period.To).Equal(r.Period.To)
 	if n := float64(len(r.Units)) * r.Period.Hours(); n > 0 {
 		v.HoursShare = fmtPct(float64(t.Hours) / n)
+		v.PartCovered = v.HoursShare != "100 %"
 	}
 	v.Annual = []rvRow{
 		{"Avoidable cost", fmtFixed(a.CostAvoidable, 0) + " " + cur, "± " + fmtFixed(a.CostAvoidableU95, 0) + " " + cur + " from the sensors' uncertainty of the avoidable reheat", "annual_cost_avoidable", raw(a.CostAvoidable)},

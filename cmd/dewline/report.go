@@ -5,9 +5,12 @@ import (
 	"context"
 	"flag"
 	"fmt"
+	"math"
 	"path/filepath"
 	"strings"
 	"time"
+
+	"github.com/rs/zerolog"
 
 	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/dashboards"
@@ -129,6 +132,11 @@ func runReport(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return fmt.Errorf("build the report: %w", err)
 	}
+	// A period without results is not a clean bill of health: refuse it,
+	// as compare does, and warn when results cover only part of it.
+	if err := reportCoverage(ctx, res, rep.Overview.Total.Hours, len(site.Units), period, log); err != nil {
+		return err
+	}
 	n, err := outfile.Write(out, func(w *bufio.Writer) error { return rep.WriteHTML(w) })
 	if err != nil {
 		return err
@@ -158,6 +166,30 @@ func runReport(ctx context.Context, e *env, args []string) error {
 	pages := pdf.Pages(buf)
 	log.Info().Str("path", dst).Int("pages", pages).Msg("report printed to PDF")
 	fmt.Fprintln(e.stdout, dst)
+	return nil
+}
+
+// reportMinShare is the share of a period's air handler-hours with results
+// below which report warns that its figures cover only part of the period
+// (common practice, no source: a tenth missing already moves an annual figure).
+const reportMinShare = 0.9
+
+// reportCoverage refuses a period without any stored hour and logs a
+// warning when the hours with results cover less than reportMinShare of
+// the period's air handler-hours.
+func reportCoverage(ctx context.Context, res dashboards.Results, hours, units int, period dashboards.Period, log zerolog.Logger) error {
+	if hours == 0 {
+		span := ""
+		if first, last, ok, err := res.Span(ctx); err == nil && ok {
+			span = fmt.Sprintf("; the store holds results from %s to %s", first.In(period.From.Location()).Format(time.DateOnly), last.In(period.From.Location()).Format(time.DateOnly))
+		}
+		return fmt.Errorf("no results are stored for %s, so the report would show no avoidable cost for lack of data: run \"dewline analyze\" (or the agent) over the period first, or choose a period with results with --from/--to%s", period.Label, span)
+	}
+	expected := float64(units) * period.Hours()
+	if share := float64(hours) / expected; expected > 0 && share < reportMinShare {
+		log.Warn().Int("hours", hours).Float64("expected_hours", expected).Float64("share", math.Round(share*1000)/1000).
+			Msgf("report: results cover only %.0f %% of the period's air handler-hours; its figures count the hours without results as nothing", share*100)
+	}
 	return nil
 }
 
