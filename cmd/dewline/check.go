@@ -17,11 +17,12 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 	cfgPath := fs.String("config", "", "configuration file (required)")
 	useStore := fs.Bool("store", false, "also report what the configured store holds for each point")
 	fromS := fs.String("from", "", "with --store: start of the window to inspect (default: 7 days before --to)")
-	toS := fs.String("to", "", "with --store: end of the window (default: now)")
+	toS := fs.String("to", "", "with --store: end of the window, the last day included (2026-07-31) or a time excluded (default: now)")
 	var inputs stringList
 	fs.Var(&inputs, "input", "trend export (CSV) to inspect against the configuration; repeatable")
 	fs.Usage = func() {
 		fmt.Fprintln(fs.Output(), "usage: dewline check --config FILE [--input trends.csv ...] [--store [--from T] [--to T]]")
+		fmt.Fprintln(fs.Output(), "Period bounds: "+periodRule+".")
 		fs.PrintDefaults()
 	}
 	cfg, err := parseWithConfig(fs, args, e.stdout)
@@ -94,14 +95,14 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 	} else {
 		to := time.Now()
 		if *toS != "" {
-			if to, err = parseTime(*toS, cfg.Location); err != nil {
-				return usagef("--to: %v", err)
+			if to, _, err = parseTo("--to", *toS, cfg.Location); err != nil {
+				return err
 			}
 		}
 		from := to.Add(-7 * 24 * time.Hour)
 		if *fromS != "" {
-			if from, err = parseTime(*fromS, cfg.Location); err != nil {
-				return usagef("--from: %v", err)
+			if from, err = parseFrom("--from", *fromS, cfg.Location); err != nil {
+				return err
 			}
 		}
 		st, err := openStore(ctx, cfg, true, e.log)

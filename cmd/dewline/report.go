@@ -24,8 +24,8 @@ const reportDays = 30
 func runReport(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("report", flag.ContinueOnError)
 	cfgPath := fs.String("config", "", "configuration file (required)")
-	fromS := fs.String("from", "", "first day (2026-07-01, site time) or start as RFC 3339; default: 30 days before --to")
-	toS := fs.String("to", "", "last day, inclusive (2026-07-31, site time), or end as RFC 3339 (exclusive); default: the last day with results")
+	fromS := fs.String("from", "", "start of the period: a day (2026-07-01) or a time; default: 30 days before --to")
+	toS := fs.String("to", "", "end of the period: the last day, included (2026-07-31), or a time, excluded; default: the last day with results")
 	var out string
 	fs.StringVar(&out, "o", "report.html", "the HTML file to write")
 	fs.StringVar(&out, "out", "report.html", "same as -o")
@@ -38,6 +38,7 @@ func runReport(ctx context.Context, e *env, args []string) error {
 		fmt.Fprintln(fs.Output(), "Writes a self-contained HTML report of the stored results for a building owner: findings ranked")
 		fmt.Fprintln(fs.Output(), "by avoidable cost, an annualised estimate, candidate measures, each air handler's charts and")
 		fmt.Fprintln(fs.Output(), "alerts, the method, assumptions, data quality, uncertainty and cautions. Reads the store only.")
+		fmt.Fprintln(fs.Output(), "Period bounds: "+periodRule+".")
 		fs.PrintDefaults()
 	}
 	if err := parseFlags(fs, args, e.stdout); err != nil {
@@ -67,16 +68,16 @@ func runReport(ctx context.Context, e *env, args []string) error {
 		return usagef("%v", err)
 	}
 	loc := cfg.Location
-	from, _, err := reportBound("--from", *fromS, loc)
-	if err != nil {
-		return err
+	var from, to time.Time
+	if *fromS != "" {
+		if from, err = parseFrom("--from", *fromS, loc); err != nil {
+			return err
+		}
 	}
-	to, toDate, err := reportBound("--to", *toS, loc)
-	if err != nil {
-		return err
-	}
-	if toDate {
-		to = to.AddDate(0, 0, 1) // the last day is inclusive
+	if *toS != "" {
+		if to, _, err = parseTo("--to", *toS, loc); err != nil {
+			return err
+		}
 	}
 
 	st, err := openStore(ctx, cfg, true, e.log)
@@ -191,20 +192,6 @@ func reportCoverage(ctx context.Context, res dashboards.Results, hours, units in
 			Msgf("report: results cover only %.0f %% of the period's air handler-hours; its figures count the hours without results as nothing", share*100)
 	}
 	return nil
-}
-
-// reportBound parses --from or --to; date reports whether it was a bare
-// date (a whole local day).
-func reportBound(flagName, s string, loc *time.Location) (t time.Time, date bool, err error) {
-	if s == "" {
-		return time.Time{}, false, nil
-	}
-	t, err = parseTime(s, loc)
-	if err != nil {
-		return time.Time{}, false, usagef("%s: %v", flagName, err)
-	}
-	_, derr := time.ParseInLocation(time.DateOnly, s, loc)
-	return t, derr == nil, nil
 }
 
 func localMidnight(t time.Time) time.Time {

@@ -29,7 +29,7 @@ func reportStore(t *testing.T) (dir, cfg, hourly string) {
 	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
 	require.Equal(t, 0, code, errOut)
 	hourly = filepath.Join(dir, "hourly.csv")
-	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-16", "--out", hourly)
+	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-15", "--out", hourly)
 	require.Equal(t, 0, code, errOut)
 	return dir, cfg, hourly
 }
