@@ -29,6 +29,9 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
+	if err := cfg.CheckSecrets(); err != nil {
+		return fmt.Errorf("%s: the configuration is valid, but a secret it names is missing:\n%w", *cfgPath, err)
+	}
 	points := 0
 	for _, a := range cfg.AirHandlers {
 		points += len(a.Points)

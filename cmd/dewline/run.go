@@ -45,6 +45,15 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
+	// Every secret the configuration names is looked up now, also for
+	// --once, which needs none of the agent's: a missing one fails here,
+	// not after the long-running agent has started its endpoint.
+	if err := cfg.CheckSecrets(); err != nil {
+		if !*dry {
+			return fmt.Errorf("%w (\"dewline check --config %s\" lists every setting)", err, *cfgPath)
+		}
+		e.log.Warn().Err(err).Msg("dry run: a secret the agent needs is missing")
+	}
 	var shard agent.Shard
 	if *shardS != "" {
 		if shard, err = parseShard(*shardS); err != nil {

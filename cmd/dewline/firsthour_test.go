@@ -1,0 +1,51 @@
+package main
+
+import (
+	"path/filepath"
+	"testing"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+)
+
+// TestSecrets_FailEarly: a secret the configuration names but the
+// environment lacks is reported by "check" and "run --once" (which needs
+// none of the agent's secrets), not first by the long-running agent after
+// its endpoint started. Every missing one is named at once, with its key.
+func TestSecrets_FailEarly(t *testing.T) {
+	dir := t.TempDir()
+	cfg := site{ahus: []string{"AHU-1"},
+		extra: "http: {listen: \"127.0.0.1:0\", token_env: DEWLINE_TEST_HTTP_TOKEN_UNSET}\n" +
+			"webhook: {url: \"http://127.0.0.1:9/hook\", secret_env: DEWLINE_TEST_WEBHOOK_SECRET_UNSET}\n"}.write(t, dir, "site.yaml")
+	t.Setenv("DEWLINE_TEST_HTTP_TOKEN_UNSET", "")
+	t.Setenv("DEWLINE_TEST_WEBHOOK_SECRET_UNSET", "")
+
+	for _, args := range [][]string{
+		{"check", "--config", cfg},
+		{"run", "--config", cfg, "--once", "--as-of", "2026-07-15T12:00:00Z"},
+	} {
+		t.Run(args[0], func(t *testing.T) {
+			code, stdout, errOut := runCLI(t, append([]string{"--log-level", "error"}, args...)...)
+			assert.Equal(t, 1, code, errOut)
+			assert.Contains(t, errOut, "webhook.secret_env: environment variable DEWLINE_TEST_WEBHOOK_SECRET_UNSET is not set")
+			assert.Contains(t, errOut, "http.token_env: environment variable DEWLINE_TEST_HTTP_TOKEN_UNSET is not set")
+			assert.NotContains(t, stdout, "valid;", "not called valid while a secret is missing")
+		})
+	}
+
+	// With both set, check passes and prints neither value.
+	t.Setenv("DEWLINE_TEST_HTTP_TOKEN_UNSET", "a-token-of-at-least-some-length-0123456789")
+	t.Setenv("DEWLINE_TEST_WEBHOOK_SECRET_UNSET", "webhook-secret-value")
+	code, stdout, errOut := runCLI(t, "--log-level", "error", "check", "--config", cfg)
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, stdout, "valid;")
+	assert.NotContains(t, stdout+errOut, "webhook-secret-value")
+
+	// A token file that is not there fails check too.
+	dir2 := t.TempDir()
+	cfg2 := site{ahus: []string{"AHU-1"}, store: "store:\n  kind: influxdb\n  influxdb: {url: \"http://127.0.0.1:9\", bucket: \"db/autogen\", token_file: " +
+		filepath.Join(dir2, "no-such-token") + "}\n"}.write(t, dir2, "site.yaml")
+	code, _, errOut = runCLI(t, "--log-level", "error", "check", "--config", cfg2)
+	assert.Equal(t, 1, code, errOut)
+	assert.Contains(t, errOut, "store.influxdb.token_file")
+}
