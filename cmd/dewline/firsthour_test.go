@@ -2,7 +2,9 @@ package main
 
 import (
 	"path/filepath"
+	"strings"
 	"testing"
+	"time"
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
@@ -48,4 +50,42 @@ func TestSecrets_FailEarly(t *testing.T) {
 	code, _, errOut = runCLI(t, "--log-level", "error", "check", "--config", cfg2)
 	assert.Equal(t, 1, code, errOut)
 	assert.Contains(t, errOut, "store.influxdb.token_file")
+}
+
+// TestRun_CatchUpDoesNotQueueOldAlerts: a first start that catches up five
+// days of the fault scenario (an alert opens every night and closes every
+// morning) records every alert, but queues for the webhook only the
+// transitions within webhook.max_age of the run, and says so in one log
+// line instead of a warning per dropped event later.
+func TestRun_CatchUpDoesNotQueueOldAlerts(t *testing.T) {
+	dir := t.TempDir()
+	ahus := []string{"AHU-1"}
+	cfg := site{
+		schedule: "{backfill: 120h}",
+		extra:    "webhook: {url: \"http://127.0.0.1:9/hook\", max_age: 24h}\n",
+		ahus:     ahus,
+	}.write(t, dir, "site.yaml")
+	asOf := time.Date(2026, 7, 20, 12, 30, 0, 0, time.UTC)
+	from := asOf.Truncate(time.Hour).Add(-120 * time.Hour)
+	data := filepath.Join(dir, "trends.csv")
+	writeTrends(t, data, ahus, from, asOf.Sub(from))
+	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, errOut)
+
+	code, _, errOut = runCLI(t, "run", "--config", cfg, "--once", "--as-of", asOf.Format(time.RFC3339))
+	require.Equal(t, 0, code, errOut)
+
+	db := openSQLite(t, filepath.Join(dir, "dewline.db"))
+	var alerts int
+	require.NoError(t, db.QueryRow("SELECT count(*) FROM alerts").Scan(&alerts))
+	events := storedEvents(t, filepath.Join(dir, "dewline.db"))
+	require.GreaterOrEqual(t, alerts, 4, "five nights open an alert each")
+	require.NotEmpty(t, events, "the last day's transitions are queued")
+	cutoff := asOf.Add(-24 * time.Hour)
+	for _, e := range events {
+		assert.False(t, time.UnixMilli(e.AtMs).Before(cutoff), "%s/%s at %s is older than max_age, yet queued",
+			e.AlertID, e.Transition, time.UnixMilli(e.AtMs).UTC().Format(time.RFC3339))
+	}
+	assert.Less(t, len(events), 2*alerts, "older transitions are not queued")
+	assert.Equal(t, 1, strings.Count(errOut, "recorded but not posted to the webhook"), "one summary line")
 }
