@@ -350,11 +350,20 @@ func parseAll(r io.Reader, name string) (*Config, *ConfigError, *yaml.Node, erro
 	cfg := &Config{}
 	dec := yaml.NewDecoder(bytes.NewReader(data))
 	dec.KnownFields(true)
+	var meant []string
 	if err := dec.Decode(cfg); err != nil {
-		ce.addDecodeErrors(err)
+		meant = ce.addDecodeErrors(err, &root)
 	}
 	cfg.applyDefaults()
-	cfg.validate(ce, &root)
+	// A misspelt key is reported once: not again as the key it meant
+	// being missing.
+	vce := &ConfigError{File: name}
+	cfg.validate(vce, &root)
+	for _, p := range vce.Problems {
+		if !underAny(p.Path, meant) {
+			ce.Problems = append(ce.Problems, p)
+		}
+	}
 	sort.SliceStable(ce.Problems, func(i, j int) bool { return ce.Problems[i].Line < ce.Problems[j].Line })
 	return cfg, ce, &root, nil
 }

@@ -1,6 +1,8 @@
 package main
 
 import (
+	"net"
+	"os"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -88,4 +90,48 @@ func TestRun_CatchUpDoesNotQueueOldAlerts(t *testing.T) {
 	}
 	assert.Less(t, len(events), 2*alerts, "older transitions are not queued")
 	assert.Equal(t, 1, strings.Count(errOut, "recorded but not posted to the webhook"), "one summary line")
+}
+
+// TestDemo_BusyPort: a demo whose dashboard address is taken says so
+// before it generates anything, naming --listen and --no-serve.
+func TestDemo_BusyPort(t *testing.T) {
+	ln, err := net.Listen("tcp", "127.0.0.1:0")
+	require.NoError(t, err)
+	t.Cleanup(func() { ln.Close() })
+	dir := filepath.Join(t.TempDir(), "demo")
+	code, _, errOut := runCLI(t, "demo", "--dir", dir, "--days", "14", "--listen", ln.Addr().String())
+	assert.Equal(t, 2, code, errOut)
+	assert.Contains(t, errOut, "--listen "+ln.Addr().String()+" is in use")
+	assert.Contains(t, errOut, "--no-serve")
+	_, err = os.Stat(dir)
+	assert.True(t, os.IsNotExist(err), "nothing generated")
+}
+
+// TestConfigMessages: configuration and export messages name the setting
+// a user writes (exports.day_first, the key of a bad number), and a
+// misspelt key is reported once, not again as the key it meant missing.
+func TestConfigMessages(t *testing.T) {
+	dir := t.TempDir()
+	good := site{ahus: []string{"AHU-1"}}.yaml()
+
+	bad := strings.Replace(good, "electricity_per_kwh: 0.12", "electricity_per_kwh: 0.124USD", 1)
+	bad = strings.Replace(bad, "    points:\n", "    pointz:\n", 1)
+	p := filepath.Join(dir, "bad.yaml")
+	require.NoError(t, os.WriteFile(p, []byte(bad), 0o600))
+	code, _, errOut := runCLI(t, "check", "--config", p)
+	assert.Equal(t, 1, code)
+	assert.Contains(t, errOut, `prices.electricity_per_kwh: "0.124USD" is not a valid number; give the number alone`)
+	assert.Contains(t, errOut, `unknown key "pointz"; did you mean "points"?`)
+	assert.NotContains(t, errOut, "is not mapped", "no derived problem of the misspelt key")
+	assert.Contains(t, errOut, "2 problems")
+
+	// An export whose dates never show a day above 12.
+	cfg := filepath.Join(dir, "site.yaml")
+	require.NoError(t, os.WriteFile(cfg, []byte(good), 0o600))
+	data := filepath.Join(dir, "export.csv")
+	require.NoError(t, os.WriteFile(data, []byte("time,AHU1_MAT\n07/01/2026 10:00,75\n07/02/2026 10:00,76\n"), 0o600))
+	code, _, errOut = runCLI(t, "check", "--config", cfg, "--input", data)
+	assert.Equal(t, 1, code)
+	assert.Contains(t, errOut, "set exports.day_first (yes for 14/07/2026, no for 07/14/2026)")
+	assert.NotContains(t, errOut, "Options.")
 }
