@@ -192,7 +192,7 @@ func (r *Runner) RunOnce(ctx context.Context) (*RunReport, error) {
 		err = fmt.Errorf("run for %s: every air handler failed, first: %w", slot.Format(time.RFC3339), failed[0].Err)
 	}
 	r.obs().RunFinished(rep.Took, err)
-	r.Log.Info().Time("slot", slot).Int("hours", rep.Hours).Int("failed", len(rep.Failed())).Dur("took", rep.Took).Msg("run done")
+	r.Log.Info().Time("slot", slot).Int("hours", rep.Hours).Int("failed", len(rep.Failed())).Dur("took_ms", rep.Took).Msg("run done")
 	return rep, err
 }
 

@@ -320,7 +320,7 @@ func (w *WebhookSender) deliver(ctx context.Context, ev store.Event) outcome {
 		lg.Debug().Err(last).Int("attempt", attempt).Msg("webhook attempt failed")
 		if retryAfter > w.opt.Poll {
 			w.notBefore = w.opt.Clock().Add(retryAfter)
-			lg.Warn().Err(last).Dur("retry_after", retryAfter).Msg("webhook receiver asked to wait, event stays pending")
+			lg.Warn().Err(last).Dur("retry_after_ms", retryAfter).Msg("webhook receiver asked to wait, event stays pending")
 			return outPending
 		}
 		if attempt == w.opt.MaxAttempts {

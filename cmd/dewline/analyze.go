@@ -191,7 +191,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 			return err
 		}
 	}
-	log.Info().Int("hours", hours).Dur("took", time.Since(start)).Int("failed", len(failed)).Msg("analysis done")
+	log.Info().Int("hours", hours).Dur("took_ms", time.Since(start)).Int("failed", len(failed)).Msg("analysis done")
 	return agent.WriteSummaries(e.stdout, cfg, ahus, sums)
 }
 

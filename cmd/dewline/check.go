@@ -23,6 +23,7 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 	fs.Usage = func() {
 		fmt.Fprintln(fs.Output(), "usage: dewline check --config FILE [--input trends.csv ...] [--store [--from T] [--to T]]")
 		fmt.Fprintln(fs.Output(), "Period bounds: "+periodRule+".")
+		fmt.Fprintf(fs.Output(), "Exit status: 0 all points look right, 1 an error (the configuration, a secret, a file), 2 a usage mistake, %d points need a look.\n", exitNeedsLook)
 		fs.PrintDefaults()
 	}
 	cfg, err := parseWithConfig(fs, args, e.stdout)
@@ -125,5 +126,12 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 			}
 		}
 	}
-	return ingest.WritePointChecks(e.stdout, cfg.Location, checks)
+	n, err := ingest.WritePointChecks(e.stdout, cfg.Location, checks)
+	if err != nil {
+		return err
+	}
+	if n > 0 {
+		return &exitError{code: exitNeedsLook, msg: fmt.Sprintf("%d point(s) need a look", n)}
+	}
+	return nil
 }

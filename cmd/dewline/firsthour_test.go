@@ -1,6 +1,7 @@
 package main
 
 import (
+	"encoding/json"
 	"net"
 	"os"
 	"path/filepath"
@@ -134,4 +135,71 @@ func TestConfigMessages(t *testing.T) {
 	assert.Equal(t, 1, code)
 	assert.Contains(t, errOut, "set exports.day_first (yes for 14/07/2026, no for 07/14/2026)")
 	assert.NotContains(t, errOut, "Options.")
+}
+
+// TestScriptOutput: help asked for goes to standard output with status 0,
+// a mistake to standard error with 2; --version prints the module version
+// and commit; console logs carry no colour codes off a terminal; JSON logs
+// carry one component key; durations carry their unit.
+func TestScriptOutput(t *testing.T) {
+	for _, h := range []string{"--help", "-h", "help"} {
+		code, stdout, stderr := runCLI(t, h)
+		assert.Equal(t, 0, code, h)
+		assert.Contains(t, stdout, "usage: dewline", h)
+		assert.Empty(t, stderr, h)
+	}
+	code, stdout, stderr := runCLI(t, "--bogus")
+	assert.Equal(t, 2, code)
+	assert.Empty(t, stdout)
+	assert.Contains(t, stderr, "-bogus")
+
+	code, stdout, _ = runCLI(t, "--version")
+	assert.Equal(t, 0, code)
+	assert.Regexp(t, `^dewline \S+ \(commit \S+.*, go[0-9.]+\S*\)\n$`, stdout)
+
+	// Console logs into a buffer (not a terminal): no escape codes.
+	dir := t.TempDir()
+	cfg, data := writeScenario(t, dir)
+	code, _, stderr = runCLI(t, "--log-format", "console", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, stderr)
+	assert.Contains(t, stderr, "imported")
+	assert.NotContains(t, stderr, "\x1b[", "no colour codes off a terminal")
+
+	// JSON logs: durations with their unit in the key.
+	code, _, stderr = runCLI(t, "import", "--config", cfg, data)
+	require.Equal(t, 0, code, stderr)
+	assert.Contains(t, stderr, `"took_ms":`)
+	assert.NotContains(t, stderr, `"took":`)
+}
+
+// TestRun_OneComponentKey: every JSON log line of the agent names its
+// component once (the HTTP server and the webhook sender are parts of the
+// agent, not components inside "agent").
+func TestRun_OneComponentKey(t *testing.T) {
+	dir := t.TempDir()
+	cfg := site{ahus: []string{"AHU-1"}, schedule: "{backfill: 2h}",
+		extra: "http: {listen: \"127.0.0.1:0\"}\nwebhook: {url: \"http://127.0.0.1:9/hook\"}\n"}.write(t, dir, "site.yaml")
+	now := time.Now().UTC().Truncate(time.Minute)
+	data := filepath.Join(dir, "trends.csv")
+	writeTrends(t, data, []string{"AHU-1"}, now.Truncate(time.Hour).Add(-3*time.Hour), 3*time.Hour)
+	r := runDewline(t, runBound, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, r.code, r.stderr)
+	p := startDewline(t, "--log-level", "debug", "run", "--config", cfg)
+	p.waitLog(t, runBound, "the http endpoint", msgIs("http endpoint listening"))
+	p.stop(t, 30*time.Second)
+	seen := map[string]bool{}
+	for _, line := range strings.Split(p.stderrText(), "\n") {
+		if line == "" {
+			continue
+		}
+		n := strings.Count(line, `"component":`)
+		assert.LessOrEqual(t, n, 1, "one component key: %s", line)
+		if n == 1 {
+			var l logLine
+			require.NoError(t, json.Unmarshal([]byte(line), &l))
+			seen[l.str("component")] = true
+		}
+	}
+	assert.True(t, seen["http"], "the server's lines say http")
+	assert.True(t, seen["agent"], "the run loop's lines say agent")
 }

@@ -60,7 +60,10 @@ func runRun(ctx context.Context, e *env, args []string) error {
 			return err
 		}
 	}
-	log := e.log.With().Str("component", "agent").Str("site", cfg.Site.ID).Logger()
+	// Each part names its component once: the HTTP server and the webhook
+	// sender add theirs to base, the run loop's is "agent".
+	base := e.log.With().Str("site", cfg.Site.ID).Logger()
+	log := base.With().Str("component", "agent").Logger()
 	owned := shard.Owned(cfg)
 	if len(owned) == 0 {
 		return fmt.Errorf("shard %s: %w", *shardS, agent.ErrNothingOwned)
@@ -157,7 +160,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	srv, err := server.NewServer(server.ServerOptions{Listen: cfg.HTTP.Listen, BearerToken: token, Telemetry: tel, Pages: pages,
-		Log: log.With().Str("component", "http").Logger()})
+		Log: base})
 	if err != nil {
 		return err
 	}
@@ -178,7 +181,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 			return err
 		}
 		sender, err = webhook.NewWebhookSender(webhook.WebhookOptions{URL: w.URL, Secret: secret, Timeout: w.Timeout, MaxAge: w.MaxAge,
-			Store: rs, Telemetry: tel, Log: log.With().Str("component", "webhook").Logger()})
+			Store: rs, Telemetry: tel, Log: base})
 		if err != nil {
 			return err
 		}
