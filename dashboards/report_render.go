@@ -361,7 +361,7 @@ func (r *Report) unitView(ur UnitReport) rvUnit {
 	for _, a := range ur.Alerts {
 		k, ok := kinds[a.Kind]
 		if !ok {
-			k = &rvAlertKind{Kind: strings.ReplaceAll(a.Kind, "_", " ")}
+			k = &rvAlertKind{Kind: AlertLabel(a.Kind)}
 			kinds[a.Kind] = k
 			order = append(order, a.Kind)
 		}
@@ -385,7 +385,7 @@ func (r *Report) unitView(ur UnitReport) rvUnit {
 		if a.End.IsZero() || a.End.After(r.Period.To) {
 			state += ", ongoing at the end"
 		}
-		uv.Alerts = append(uv.Alerts, rvAlert{Kind: strings.ReplaceAll(a.Kind, "_", " "), Severity: a.Severity, State: state,
+		uv.Alerts = append(uv.Alerts, rvAlert{Kind: AlertLabel(a.Kind), Severity: a.Severity, State: state,
 			Start: a.Start.In(r.Site.Zone).Format("2006-01-02 15:04"), Duration: fmtDuration(r.inPeriod(a)),
 			Energy: fmtQty(a.EnergyKWh), Money: fmtMoney(a.Money), Reason: a.Reason})
 	}
