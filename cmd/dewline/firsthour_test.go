@@ -203,3 +203,22 @@ func TestRun_OneComponentKey(t *testing.T) {
 	assert.True(t, seen["http"], "the server's lines say http")
 	assert.True(t, seen["agent"], "the run loop's lines say agent")
 }
+
+// TestAir_DisplayForm: "dewline air --json" prints figures rounded to six
+// significant digits (80 °F is 26.6667 °C by the definition of the
+// Fahrenheit scale, not 26.666666666666664), and an RH given as a
+// fraction is warned about with the percentage it probably meant.
+func TestAir_DisplayForm(t *testing.T) {
+	code, stdout, stderr := runCLI(t, "air", "--db", "80F", "--rh", "50", "--json")
+	require.Equal(t, 0, code, stderr)
+	assert.Contains(t, stdout, `"dry_bulb_c": 26.6667,`)
+	assert.Contains(t, stdout, `"rh_pct": 50,`)
+	assert.NotRegexp(t, `[0-9]\.[0-9]{9,}`, stdout, "no float noise")
+
+	code, _, stderr = runCLI(t, "air", "--db", "80F", "--rh", "0.5")
+	require.Equal(t, 0, code, stderr)
+	assert.Contains(t, stderr, "--rh 0.5 was read as 0.5 %; for 50 % give --rh 50")
+	code, _, stderr = runCLI(t, "air", "--db", "80F", "--rh", "50")
+	require.Equal(t, 0, code, stderr)
+	assert.NotContains(t, stderr, "was read as")
+}
