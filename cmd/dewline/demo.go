@@ -88,6 +88,15 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 	}
 	abs, _ := filepath.Abs(report)
 	fmt.Fprintf(w, "report: %s\n", abs)
+	// Where to go next: the configuration is the best start for a site of
+	// one's own, and the exports show what it reads.
+	cfgAbs, _ := filepath.Abs(sc.ConfigPath)
+	fmt.Fprintf(w, "configuration: %s\n  (commented; copy it to start your own site, then run dewline check --config on the copy)\n", cfgAbs)
+	names := make([]string, 0, len(sc.Exports))
+	for _, x := range sc.Exports {
+		names = append(names, filepath.Base(x))
+	}
+	fmt.Fprintf(w, "exports: %s: %s\n", filepath.Dir(cfgAbs), strings.Join(names, ", "))
 	if *noServe {
 		return nil
 	}

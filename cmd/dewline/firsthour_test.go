@@ -222,3 +222,24 @@ func TestAir_DisplayForm(t *testing.T) {
 	require.Equal(t, 0, code, stderr)
 	assert.NotContains(t, stderr, "was read as")
 }
+
+// TestDemo_SaysWhereItsFilesAre: the demo names its configuration (the
+// newcomer's best starting point) and its exports, with paths that exist.
+func TestDemo_SaysWhereItsFilesAre(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "demo")
+	code, stdout, stderr := runCLI(t, "--log-level", "warn", "demo", "--dir", dir, "--days", "14", "--no-serve")
+	require.Equal(t, 0, code, stderr)
+	abs, err := filepath.Abs(dir)
+	require.NoError(t, err)
+	cfg := filepath.Join(abs, "dewline-demo.yaml")
+	assert.Contains(t, stdout, "configuration: "+cfg+"\n")
+	assert.Contains(t, stdout, "copy it to start your own site")
+	assert.FileExists(t, cfg)
+	i := strings.Index(stdout, "exports: "+abs+": ")
+	require.GreaterOrEqual(t, i, 0, stdout)
+	line := stdout[i+len("exports: "+abs+": "):]
+	line = line[:strings.IndexByte(line, '\n')]
+	for _, name := range strings.Split(line, ", ") {
+		assert.FileExists(t, filepath.Join(abs, name))
+	}
+}
