@@ -34,6 +34,11 @@ type Options struct {
 	Results Results
 	Now     func() time.Time // default time.Now
 	Log     zerolog.Logger
+	// Base is the path the handler is mounted under, without a trailing
+	// slash ("/sites/north" in a portfolio, which strips it before the
+	// handler sees the request); the pages' links start with it. Empty
+	// when the handler serves the root.
+	Base string
 }
 
 // Handler serves the dashboard pages and their JSON API:
@@ -245,6 +250,7 @@ func (h *Handler) render(w http.ResponseWriter, name string, data any) {
 
 // SiteInfo is /api/v1/site.
 type SiteInfo struct {
+	ID         string     `json:"id,omitempty"` // site.id
 	Name       string     `json:"name"`
 	Zone       string     `json:"timezone"`
 	Units      string     `json:"units"` // the site's display units
@@ -264,7 +270,7 @@ type UnitInfo struct {
 
 func (h *Handler) apiSite(w http.ResponseWriter, r *http.Request) error {
 	s := h.opt.Site
-	info := SiteInfo{Name: s.Name, Zone: s.Zone.String(), Units: Display{IP: s.IP}.Name(), Currency: s.Currency, PressurePa: Num(s.PressurePa)}
+	info := SiteInfo{ID: s.ID, Name: s.Name, Zone: s.Zone.String(), Units: Display{IP: s.IP}.Name(), Currency: s.Currency, PressurePa: Num(s.PressurePa)}
 	for _, u := range s.Units {
 		ui := UnitInfo{ID: u.ID, Name: u.Name}
 		if u.Spec != nil {
@@ -381,7 +387,7 @@ func (h *Handler) apiAlerts(w http.ResponseWriter, r *http.Request) error {
 		u, _ := h.opt.Site.Unit(a.AHU)
 		list = append(list, out{Alert: a, EnergyKWh: Num(a.EnergyKWh), Money: Num(a.Money), Hours: Num(a.Duration(now).Hours()), Unit: u.Name})
 	}
-	writeJSON(w, http.StatusOK, map[string]any{"period": req.Period, "currency": h.opt.Site.Currency, "alerts": list})
+	writeJSON(w, http.StatusOK, map[string]any{"site_id": h.opt.Site.ID, "period": req.Period, "currency": h.opt.Site.Currency, "alerts": list})
 	return nil
 }
 
@@ -389,6 +395,7 @@ func (h *Handler) apiAlerts(w http.ResponseWriter, r *http.Request) error {
 
 // page is what every page template gets.
 type page struct {
+	Base    string // Options.Base: prefixed to every link
 	Site    *Site
 	Req     request
 	Title   string
@@ -398,8 +405,10 @@ type page struct {
 	Empty   bool
 }
 
-// Link builds a URL to path keeping the period and units, with changes.
+// Link builds a URL to path (a path of this site's pages) keeping the
+// period and units, with changes.
 func (p page) Link(path string, kv ...string) string {
+	path = p.Base + path
 	q := url.Values{}
 	for _, k := range []string{"period", "from", "to", "units"} {
 		if v := p.Req.Query.Get(k); v != "" {
@@ -426,11 +435,11 @@ func (p page) UnitsLink(name string) string {
 		q[k] = v
 	}
 	q.Set("units", name)
-	return p.Path + "?" + q.Encode()
+	return p.Base + p.Path + "?" + q.Encode()
 }
 
 func (h *Handler) newPage(r *http.Request, req request, title, nav string) page {
-	return page{Site: h.opt.Site, Req: req, Title: title, Nav: nav, Path: r.URL.Path, Display: req.display, Empty: req.empty}
+	return page{Base: h.opt.Base, Site: h.opt.Site, Req: req, Title: title, Nav: nav, Path: r.URL.Path, Display: req.display, Empty: req.empty}
 }
 
 func (h *Handler) overviewPage(w http.ResponseWriter, r *http.Request) error {
@@ -563,7 +572,7 @@ var funcs = template.FuncMap{
 	"temp":       func(d Display, c float64) string { return fmtFixed(d.Temp(c), 1) },
 	"water":      func(d Display, kg Num) string { return fmtQty(d.Water(float64(kg))) },
 	"sub":        func(a, b Num) Num { return a - b },
-	"unitPath":   func(id string) string { return "/units/" + url.PathEscape(id) },
+	"unitPath":   unitPath,
 	"chartPath":  func(id string) string { return "/units/" + url.PathEscape(id) + "/chart" },
 }
 

@@ -21,7 +21,7 @@ import (
 // inline SVG, it has no script and refers to nothing outside itself, so it
 // can be mailed, archived and printed as it is.
 //
-//go:embed templates/report.html templates/report.css
+//go:embed templates/report.html templates/report.css templates/portfolio_report.html
 var reportAssets embed.FS
 
 // --- the HTML ---

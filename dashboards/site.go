@@ -9,6 +9,7 @@ import (
 
 // Site is what the pages and the report know of the configuration.
 type Site struct {
+	ID       string // site.id: tags its results, names it in a portfolio
 	Name     string
 	Zone     *time.Location // days and tick labels are in this zone
 	IP       bool           // the site's display units (a page may switch)

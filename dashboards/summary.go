@@ -154,6 +154,7 @@ type UnitRow struct {
 
 // Overview is the site over a period, units ranked by avoidable cost.
 type Overview struct {
+	SiteID   string    `json:"site_id,omitempty"` // site.id
 	Site     string    `json:"site"`
 	Currency string    `json:"currency"`
 	Period   Period    `json:"period"`
@@ -165,7 +166,7 @@ type Overview struct {
 // BuildOverview reads the period's hours of every configured unit once
 // and sums them per unit and per local day.
 func BuildOverview(ctx context.Context, site *Site, res Results, p Period) (*Overview, error) {
-	ov := &Overview{Site: site.Name, Currency: site.Currency, Period: p, Total: NewTotals()}
+	ov := &Overview{SiteID: site.ID, Site: site.Name, Currency: site.Currency, Period: p, Total: NewTotals()}
 	var dayStarts []time.Time
 	for d := p.From; d.Before(p.To); d = d.AddDate(0, 0, 1) {
 		dayStarts = append(dayStarts, d)

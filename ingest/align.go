@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
 )
 
 // Series is one role's samples for alignment: SI values, ideally in time
@@ -49,6 +50,22 @@ func Align(ahu string, from time.Time, hours int, step time.Duration, series []S
 // infinite or outside the role's physical range are excluded and counted;
 // they also end the hold of the sample before them, because at that moment
 // the true value is unknown. Nothing is clipped or filled.
+//
+// Humidity is held as moisture, not as RH: an RH sample belongs to the
+// temperature of its own instant. When the RH role's temperature (see
+// metrics.PairedTemperature) is aligned too, each RH sample is turned into a
+// vapour pressure with the temperature holding when it was logged (the
+// first grid step at or after it), that vapour pressure holds, and each
+// step's RH is the held vapour pressure over the saturation pressure at the
+// step's own temperature (capped at 100 %). Holding RH while the
+// temperature moves would bias the humidity ratio by about 6 % per kelvin.
+//
+// A sensor that repeats exactly the same value is flagged whatever its
+// logging interval: when every sample of the hour belongs to one run of
+// identical values, RoleQuality.Flat says the hour has ten or more of them
+// and RoleQuality.FlatFor how long the run lasts, counting the samples
+// already queued after the hour (up to FlatLookahead of them are available
+// when the input runs that far ahead).
 type Aligner struct {
 	ahu     string
 	step    time.Duration
@@ -69,7 +86,31 @@ type roleStream struct {
 	cur   Sample
 	good  bool // cur is usable
 	has   bool
+
+	// humidity held as vapour pressure (paired RH roles)
+	temp    int     // index of the paired temperature stream, -1 when none
+	pw      float64 // vapour pressure of cur, Pa; NaN until a temperature was seen
+	pending bool    // cur awaits the temperature of its instant
+
+	// the run of identical samples the stream is in
+	runVal   float64
+	runFirst time.Time
+	runLast  time.Time
+	runN     int
 }
+
+// FlatSpan is how long a run of identical samples must last before a
+// humidity or outdoor sensor counts as flat whatever its logging interval
+// (metrics.FlatSpan); FlatLookahead is how
+// far after an hour a reader should have pushed samples before emitting it,
+// so a run that starts in the hour can be seen to go on (common practice,
+// no source: an RH or temperature sensor in a working air handler does not
+// repeat its reading exactly for three hours).
+const (
+	FlatLookahead = 3 * time.Hour
+	flatMinRun    = 6 // samples in a run of FlatSpan
+	flatMinHour   = 10
+)
 
 // NewAligner aligns the given roles (with their stale limits; 0 takes the
 // role's default) from the hour of from on a grid of step, which must
@@ -95,7 +136,26 @@ func NewAligner(ahu string, from time.Time, step time.Duration, roles map[metric
 			st = spec.Stale
 		}
 		a.index[r] = len(a.roles)
-		a.roles = append(a.roles, &roleStream{role: r, spec: spec, stale: st})
+		a.roles = append(a.roles, &roleStream{role: r, spec: spec, stale: st, temp: -1})
+	}
+	// Humidity roles follow their temperatures, so each hour aligns the
+	// temperature before the RH that is converted with it.
+	for _, r := range a.roles {
+		if tr, ok := metrics.PairedTemperature(r.role); ok {
+			if j, ok := a.index[tr]; ok {
+				r.temp = j
+			}
+		}
+	}
+	sort.SliceStable(a.roles, func(i, j int) bool { return a.roles[i].temp < 0 && a.roles[j].temp >= 0 })
+	for i, r := range a.roles {
+		a.index[r.role] = i
+	}
+	for _, r := range a.roles {
+		if r.temp >= 0 {
+			tr, _ := metrics.PairedTemperature(r.role)
+			r.temp = a.index[tr]
+		}
 	}
 	return a, nil
 }
@@ -152,33 +212,57 @@ func (a *Aligner) hour() *metrics.Hour {
 		Values:  make(map[metrics.Role][]float64, len(a.roles)),
 		Quality: make(map[metrics.Role]metrics.RoleQuality, len(a.roles)),
 	}
-	for _, r := range a.roles {
+	byIndex := make([][]float64, len(a.roles))
+	for ri, r := range a.roles {
 		vals := make([]float64, a.n)
+		byIndex[ri] = vals
+		var temps []float64
+		if r.temp >= 0 {
+			temps = byIndex[r.temp]
+		}
 		var q metrics.RoleQuality
 		present, k := 0, 0
-		count := func(s Sample) {
-			if s.Time.Before(hs) || !s.Time.Before(he) {
-				return
+		var firstIn time.Time // first sample inside the hour
+		consume := func(s Sample) {
+			if !s.Time.Before(hs) && s.Time.Before(he) {
+				q.Samples++
+				if firstIn.IsZero() {
+					firstIn = s.Time
+				}
+				if math.IsNaN(s.Value) || math.IsInf(s.Value, 0) {
+					q.NotFinite++
+				} else if !r.spec.Plausible(s.Value) {
+					q.OutOfRange++
+				}
 			}
-			q.Samples++
-			if math.IsNaN(s.Value) || math.IsInf(s.Value, 0) {
-				q.NotFinite++
-			} else if !r.spec.Plausible(s.Value) {
-				q.OutOfRange++
+			finite := !math.IsNaN(s.Value) && !math.IsInf(s.Value, 0)
+			r.cur, r.good, r.has = s, finite && r.spec.Plausible(s.Value), true
+			r.pending, r.pw = r.temp >= 0, math.NaN()
+			switch {
+			case !r.good:
+				r.runN = 0
+			case r.runN > 0 && s.Value == r.runVal:
+				r.runN++
+				r.runLast = s.Time
+			default:
+				r.runVal, r.runFirst, r.runLast, r.runN = s.Value, s.Time, s.Time, 1
 			}
 		}
 		for i := 0; i < a.n; i++ {
 			mid := hs.Add(time.Duration(i)*a.step + a.step/2)
 			for k < len(r.queue) && !r.queue[k].Time.After(mid) {
-				s := r.queue[k]
+				consume(r.queue[k])
 				k++
-				count(s)
-				finite := !math.IsNaN(s.Value) && !math.IsInf(s.Value, 0)
-				r.cur, r.good, r.has = s, finite && r.spec.Plausible(s.Value), true
 			}
 			if r.has && r.good && mid.Sub(r.cur.Time) <= r.stale {
-				vals[i] = r.cur.Value
-				present++
+				v := r.cur.Value
+				if temps != nil {
+					v = r.moisture(temps[i])
+				}
+				vals[i] = v
+				if !math.IsNaN(v) {
+					present++
+				}
 			} else {
 				vals[i] = math.NaN()
 			}
@@ -186,17 +270,59 @@ func (a *Aligner) hour() *metrics.Hour {
 		// Samples after the last midpoint but inside the hour count here
 		// and update the held value for the next hour.
 		for k < len(r.queue) && r.queue[k].Time.Before(he) {
-			s := r.queue[k]
+			consume(r.queue[k])
 			k++
-			count(s)
-			finite := !math.IsNaN(s.Value) && !math.IsInf(s.Value, 0)
-			r.cur, r.good, r.has = s, finite && r.spec.Plausible(s.Value), true
 		}
 		// Drop what was consumed; keep the backing array small.
 		r.queue = append(r.queue[:0], r.queue[k:]...)
 		q.Coverage = float64(present) / float64(a.n)
+		q.Flat, q.FlatFor = r.flat(q.Samples, firstIn)
 		h.Values[r.role] = vals
 		h.Quality[r.role] = q
 	}
 	return h
+}
+
+// moisture returns the RH at a step whose temperature is tC, from the
+// vapour pressure of the held sample (fixed at the first step with a
+// temperature at or after the sample's instant). NaN when no temperature
+// has been seen for the sample yet.
+func (r *roleStream) moisture(tC float64) float64 {
+	if math.IsNaN(tC) {
+		return math.NaN()
+	}
+	pws, err := psychro.SatVapPressure(tC)
+	if err != nil || pws <= 0 {
+		return math.NaN()
+	}
+	if r.pending {
+		r.pw, r.pending = r.cur.Value*pws, false
+	}
+	if math.IsNaN(r.pw) {
+		return math.NaN()
+	}
+	return math.Min(1, r.pw/pws)
+}
+
+// flat reports whether the hour's samples all belong to the current run of
+// identical values, and then whether the hour alone has ten or more of
+// them, and how long the run lasts including the samples queued after the
+// hour (0 when it has fewer than six samples).
+func (r *roleStream) flat(samples int, firstIn time.Time) (bool, time.Duration) {
+	if samples == 0 || r.runN == 0 || firstIn.IsZero() || r.runFirst.After(firstIn) {
+		return false, 0
+	}
+	n, last := r.runN, r.runLast
+	for _, s := range r.queue {
+		if s.Value != r.runVal {
+			break
+		}
+		n++
+		last = s.Time
+	}
+	span := time.Duration(0)
+	if n >= flatMinRun {
+		span = last.Sub(r.runFirst)
+	}
+	return samples >= flatMinHour, span
 }

@@ -9,6 +9,7 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
 )
 
 var t0 = time.Date(2026, 7, 14, 12, 0, 0, 0, time.UTC)
@@ -163,4 +164,61 @@ func TestAligner_Incremental(t *testing.T) {
 	a.Push(metrics.RoleSupplyTemp, Sample{t0.Add(30 * time.Minute), 99})
 	assert.Equal(t, 1, a.Late())
 	assert.Equal(t, t0.Add(3*time.Hour), a.Next())
+}
+
+// TestAlign_HoldsMoistureNotRH: an RH logged every 15 minutes beside a
+// temperature logged every minute that swings by 2 K. The moisture of the
+// air does not change, so the humidity ratio computed from each step's
+// aligned RH and temperature must stay at that of the logged sample (the
+// physics: an RH belongs to the temperature of its own instant). Holding
+// the RH itself would move W by about 6 % per kelvin.
+func TestAlign_HoldsMoistureNotRH(t *testing.T) {
+	const p = psychro.StandardPressurePa
+	wTrue, err := psychro.HumRatioFromDewPoint(14, p)
+	require.NoError(t, err)
+	var temps, rhs []Sample
+	tAt := func(i int) float64 { return 24 + math.Sin(2*math.Pi*float64(i)/20) }
+	for i := 0; i < 60; i++ {
+		temps = append(temps, Sample{t0.Add(time.Duration(i) * time.Minute), tAt(i)})
+		if i%15 == 0 {
+			rh, err := psychro.RHFromHumRatio(tAt(i), wTrue, p)
+			require.NoError(t, err)
+			rhs = append(rhs, Sample{t0.Add(time.Duration(i) * time.Minute), rh})
+		}
+	}
+	h := alignHours(t, 1, Series{Role: metrics.RoleEnteringTemp, Samples: temps}, Series{Role: metrics.RoleEnteringRH, Samples: rhs})[0]
+	for i := 0; i < 60; i++ {
+		w, err := psychro.HumRatioFromRH(h.Values[metrics.RoleEnteringTemp][i], h.Values[metrics.RoleEnteringRH][i], p)
+		require.NoError(t, err)
+		assert.InEpsilon(t, wTrue, w, 1e-9, "step %d", i)
+	}
+	// Without its temperature an RH is held as logged.
+	h = alignHours(t, 1, Series{Role: metrics.RoleEnteringRH, Samples: rhs})[0]
+	assert.Equal(t, rhs[1].Value, h.Values[metrics.RoleEnteringRH][20])
+}
+
+// TestAlign_FlatWhateverTheInterval: an RH logged every 15 minutes that
+// sticks for seven hours gives four samples an hour, too few for a one-hour
+// rule; every hour of the stuck run must still report a run of three hours
+// or more (the samples after the hour are already pushed), and the hours
+// around it none.
+func TestAlign_FlatWhateverTheInterval(t *testing.T) {
+	var s []Sample
+	for i := 0; i < 12*4; i++ {
+		v := 0.55 + 0.001*float64(i%7)
+		if i >= 2*4 && i < 9*4 {
+			v = 0.612
+		}
+		s = append(s, Sample{t0.Add(time.Duration(i) * 15 * time.Minute), v})
+	}
+	hs := alignHours(t, 12, Series{Role: metrics.RoleEnteringRH, Samples: s})
+	for i, h := range hs {
+		q := h.Quality[metrics.RoleEnteringRH]
+		if i >= 2 && i < 9 {
+			assert.GreaterOrEqual(t, q.FlatFor, 3*time.Hour, "hour %d", i)
+		} else {
+			assert.Zero(t, q.FlatFor, "hour %d", i)
+		}
+		assert.False(t, q.Flat, "four samples an hour are too few for the one-hour rule")
+	}
 }

@@ -142,8 +142,10 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 		if rec.Time.After(last) {
 			last = rec.Time
 			// Records arrive in time order; an hour is complete once the
-			// input is an hour past its end (room for small disorder).
-			if err := emit(last.Add(-time.Hour).UTC().Truncate(time.Hour)); err != nil {
+			// input is an hour past its end (room for small disorder), and
+			// it is emitted once the input is FlatLookahead further, so a
+			// run of identical values can be seen to go on after it.
+			if err := emit(last.Add(-time.Hour - FlatLookahead).UTC().Truncate(time.Hour)); err != nil {
 				return err
 			}
 		}

@@ -36,6 +36,7 @@ const (
 	AlertOvercooling       = "coil_colder_than_needed"
 	AlertLowEfficiency     = "low_effective_eer"
 	AlertTargetMissed      = "humidity_target_missed"
+	AlertShortfall         = "too_little_dehumidification"
 	AlertDataGap           = "data_gap"
 	AlertSensorFlat        = "sensor_flat"
 	AlertSensorImplausible = "sensor_implausible"
@@ -91,6 +92,7 @@ func Rules() []Rule {
 		{AlertOvercooling, SeverityWarning, 3, 2, checkOvercooling},
 		{AlertLowEfficiency, SeverityInfo, 3, 3, checkLowEfficiency},
 		{AlertTargetMissed, SeverityCritical, 2, 2, checkTargetMissed},
+		{AlertShortfall, SeverityCritical, 2, 2, checkShortfall},
 		{AlertDataGap, SeverityWarning, 2, 1, checkDataGap},
 		{AlertSensorFlat, SeverityWarning, 6, 2, checkFlat},
 		{AlertSensorImplausible, SeverityWarning, 2, 2, checkImplausible},
@@ -114,15 +116,20 @@ func checkOvercooling(r *Record, p RuleParams) (bool, float64, float64, string) 
 	if !covered(r) || math.IsNaN(r.OvercoolingK) || r.OvercoolingK < p.OvercoolingK {
 		return false, 0, 0, ""
 	}
-	kwh := r.CoolingAvoidKWh + r.ReheatAvoidKWh
+	kwh, money := r.CoolingAvoidKWh+r.ReheatAvoidKWh, r.CostAvoidable
 	if kwh < p.MinAvoidableKWh {
 		return false, 0, 0, ""
+	}
+	// Each avoidable kWh belongs to one alert: when reheat_not_needed
+	// claims the hour, this one names the cause but claims nothing.
+	if hit, _, _, _ := checkReheatNotNeeded(r, p); hit {
+		kwh, money = 0, 0
 	}
 	need := "the supply temperature"
 	if !math.IsNaN(r.RequiredLeavingC) {
 		need = fmt.Sprintf("the humidity target (%s)", p.temp(r.RequiredLeavingC))
 	}
-	return true, kwh, r.CostAvoidable, fmt.Sprintf(
+	return true, kwh, money, fmt.Sprintf(
 		"the coil left air at %s, %s colder than %s needed; that cost %.1f kWh of cooling and %.1f kWh of reheat",
 		p.temp(r.LeavingTempC), p.delta(r.OvercoolingK), need, r.CoolingAvoidKWh, r.ReheatAvoidKWh)
 }
@@ -131,7 +138,9 @@ func checkLowEfficiency(r *Record, p RuleParams) (bool, float64, float64, string
 	if !covered(r) || r.CoilTotalKWh < 1 || math.IsNaN(r.EffectiveEER) || r.EffectiveEER >= p.MinEffectiveEER {
 		return false, 0, 0, ""
 	}
-	return true, r.CoolingAvoidKWh + r.ReheatAvoidKWh, r.CostAvoidable, fmt.Sprintf(
+	// A symptom, not a cause: the avoidable energy belongs to the alert
+	// that names its cause (reheat_not_needed or coil_colder_than_needed).
+	return true, 0, 0, fmt.Sprintf(
 		"effective EER %.1f Btu/Wh (coil EER %.1f) is below %.1f: reheat took %.0f %% of the coil's work back",
 		r.EffectiveEER, r.CoilEER, p.MinEffectiveEER, 100*r.ReheatCoilRatio)
 }
@@ -146,6 +155,29 @@ func checkTargetMissed(r *Record, p RuleParams) (bool, float64, float64, string)
 	return true, 0, 0, fmt.Sprintf(
 		"the coil is at its coldest (%s leaving) but the humidity target needs %s: space humidity may rise above the target",
 		p.temp(r.LeavingTempC), p.temp(r.RequiredLeavingC))
+}
+
+// checkShortfall finds the other failure: the coil ran warmer than the
+// target required while it could have gone colder (a lagging or mis-set
+// sequence), so too little water came out. Distinct from
+// humidity_target_missed, where the coil is at its coldest.
+func checkShortfall(r *Record, p RuleParams) (bool, float64, float64, string) {
+	if !covered(r) || r.ShortfallHours < 0.5*r.Coverage || r.ShortfallKg < 1 || math.IsNaN(r.RequiredLeavingC) {
+		return false, 0, 0, ""
+	}
+	if r.LeavingTempC <= p.CoilMinLeavingC+1 {
+		return false, 0, 0, "" // at its coldest: humidity_target_missed
+	}
+	// Within half the over-cooling threshold of the required temperature the
+	// coil model's own uncertainty (the assumed leaving RH) can explain
+	// the difference: no alert.
+	if r.LeavingTempC-r.RequiredLeavingC < p.OvercoolingK/2 {
+		return false, 0, 0, ""
+	}
+	return true, 0, 0, fmt.Sprintf(
+		"the coil left air at %s while the humidity target needed %s and the coil could go colder: %.1f kg of water stayed in the air; meeting the target would have taken %.1f kWh more cooling and %.1f kWh more reheat. "+
+			"Space humidity may rise: a comfort, mould and liability risk. Have the dehumidification sequence checked by the engineer of record; some spaces have humidity limits set by code",
+		p.temp(r.LeavingTempC), p.temp(r.RequiredLeavingC), r.ShortfallKg, r.ShortfallCoolKWh, r.ShortfallReheatKWh)
 }
 
 func checkDataGap(r *Record, p RuleParams) (bool, float64, float64, string) {
@@ -181,6 +213,10 @@ func checkImplausible(r *Record, _ RuleParams) (bool, float64, float64, string) 
 			why = append(why, "the entering dew point reads above the dry bulb")
 		case f == FlagReheatWithoutCoil:
 			why = append(why, "the supply reads warmer than the coil leaving air on a unit without reheat")
+		case f == FlagCOPImplausible:
+			why = append(why, fmt.Sprintf("the air-side coil load (%.1f kWh) over the metered cooling input (%.1f kWh) is outside 1.5-7: suspect the airflow, the entering humidity sensor or the meter", r.CoilTotalKWh, r.CoolingInputKWh))
+		case f == FlagLeavingSensorOut:
+			why = append(why, "the coil leaving humidity sensor read nothing for part of the hour; the assumed coil model took over")
 		case strings.HasPrefix(f, FlagOutOfRange):
 			why = append(why, strings.TrimPrefix(f, FlagOutOfRange)+" logged values outside its physical range")
 		}

@@ -98,14 +98,22 @@ func TestRules_Conditions(t *testing.T) {
 		{"negative effective EER", metrics.AlertLowEfficiency, metrics.Record{Coverage: 1, CoilTotalKWh: 20, EffectiveEER: -1.2, CoilEER: 10, ReheatCoilRatio: 1.2}, true, "effective EER -1.2 Btu/Wh"},
 		{"coil at its coldest, still humid", metrics.AlertTargetMissed, metrics.Record{Coverage: 1, HumidityNeedHours: 1, RequiredLeavingC: 8, LeavingTempC: 10.2}, true, "space humidity may rise"},
 		{"coil could go colder", metrics.AlertTargetMissed, metrics.Record{Coverage: 1, HumidityNeedHours: 1, RequiredLeavingC: 8, LeavingTempC: 14}, false, ""},
+		{"coil warmer than the target needs", metrics.AlertShortfall, metrics.Record{Coverage: 1, HumidityNeedHours: 1, ShortfallHours: 0.8, ShortfallKg: 12, RequiredLeavingC: 11, LeavingTempC: 15}, true, "12.0 kg of water stayed in the air"},
+		{"shortfall at the coldest coil is the other alert", metrics.AlertShortfall, metrics.Record{Coverage: 1, HumidityNeedHours: 1, ShortfallHours: 0.8, ShortfallKg: 12, RequiredLeavingC: 8, LeavingTempC: 10.5}, false, ""},
+		{"little shortfall", metrics.AlertShortfall, metrics.Record{Coverage: 1, HumidityNeedHours: 1, ShortfallHours: 0.2, ShortfallKg: 2, RequiredLeavingC: 11, LeavingTempC: 15}, false, ""},
 		{"gap", metrics.AlertDataGap, metrics.Record{Coverage: 0.3}, true, "only 30 %"},
 		{"flat RH", metrics.AlertSensorFlat, metrics.Record{Coverage: 1, Flags: []string{metrics.FlagFlat + "entering_rh"}}, true, "entering_rh reads exactly the same value"},
+		{"coil load and meter disagree", metrics.AlertSensorImplausible, metrics.Record{Coverage: 1, CoilTotalKWh: 90, CoolingInputKWh: 9, Flags: []string{metrics.FlagCOPImplausible}}, true, "suspect the airflow"},
+		{"leaving sensor out", metrics.AlertSensorImplausible, metrics.Record{Coverage: 1, Flags: []string{metrics.FlagLeavingSensorOut}}, true, "assumed coil model took over"},
 		{"wet leaving sensor", metrics.AlertSensorImplausible, metrics.Record{Coverage: 1, Flags: []string{metrics.FlagMoistureAdded}}, true, "wetter than the entering air"},
 		{"meter", metrics.AlertReheatMeter, metrics.Record{Coverage: 1, ReheatInputKWh: 80, ReheatKWh: 30, Flags: []string{metrics.FlagReheatMeter}}, true, "80.0 kWh"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
 			hit, _, _, reason := find(tt.kind).Check(&tt.rec, p)
+			if tt.kind == metrics.AlertShortfall && tt.hit {
+				assert.Contains(t, reason, "mould")
+			}
 			assert.Equal(t, tt.hit, hit)
 			if tt.hit {
 				assert.Contains(t, reason, tt.in)
@@ -127,4 +135,25 @@ func TestRules_ReasonsInSiteUnits(t *testing.T) {
 	}
 	// 10 °C = 50.0 °F, 2.5 K = 4.5 °F, 12.5 °C = 54.5 °F.
 	assert.Contains(t, reason, "the coil left air at 50.0 °F, 4.5 °F colder than the humidity target (54.5 °F)")
+}
+
+// TestRules_AvoidableClaimedOnce: an hour whose reheat was not needed and
+// whose coil was also colder than needed, with a low effective EER, hands
+// its avoidable energy and money to one alert only.
+func TestRules_AvoidableClaimedOnce(t *testing.T) {
+	r := metrics.Record{Coverage: 1, ReheatKWh: 20, ReheatAvoidKWh: 20, CoolingAvoidKWh: 6, CostAvoidable: 3.9,
+		OvercoolingK: 4, LeavingTempC: 10, EnteringDewPointC: 8, CoilTotalKWh: 30, EffectiveEER: 1, CoilEER: 10}
+	var kwh, money float64
+	hits := 0
+	for _, rule := range metrics.Rules() {
+		hit, k, m, _ := rule.Check(&r, metrics.DefaultRuleParams)
+		if hit {
+			hits++
+			kwh += k
+			money += m
+		}
+	}
+	assert.GreaterOrEqual(t, hits, 3, "reheat not needed, over-cooling and low EER all hold")
+	assert.InDelta(t, 3.9, money, 1e-9, "the hour's avoidable cost, once")
+	assert.LessOrEqual(t, kwh, r.ReheatAvoidKWh+r.CoolingAvoidKWh)
 }

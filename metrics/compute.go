@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"sync"
 	"time"
 
 	"github.com/dewline/dewline/psychro"
@@ -22,6 +23,9 @@ const (
 	FlagReheatMeter        = "reheat_meter_mismatch"
 	FlagWaterInUncertainty = "water_within_uncertainty"
 	FlagModelledCooling    = "cooling_input_modelled"
+	FlagSpaceGainAssumed   = "space_gain_assumed"
+	FlagCOPImplausible     = "cop_implausible"        // air-side coil load over metered cooling input outside 1.5-7
+	FlagLeavingSensorOut   = "leaving_sensor_missing" // a mapped leaving humidity sensor read nothing; the coil model took over
 )
 
 // Compute turns one aligned hour into a record. It never fails: missing or
@@ -36,16 +40,36 @@ func Compute(u *Unit, hr *Hour) Record {
 		valid, coolOnSteps, needSteps, moistSteps, supersatSteps, noCoilSteps, modelled int
 		sumTIn, sumWIn, sumWLv, sumTLv, sumTSup, sumReq, sumOver                        float64
 		reheatElecIn, reheatAvoidIn, meterHeat, computedHeat                            float64
-		meterSteps                                                                      int
+		meterSteps, gainSteps, lvOutSteps, copSteps                                     int
+		copCoil, copIn                                                                  float64
 	)
 	in := &stepIn{}
+	lastOff := -1 << 30 // step index of the last step with the coil off
 	var sens [nSens][4]float64
 	c := e.columns(hr)
+	if e.mix {
+		e.hourShare = c.share(n)
+	}
 	for i := 0; i < n; i++ {
 		c.fill(in, i)
 		o, ok := e.step(in)
 		if !ok {
+			lastOff = i
 			continue
+		}
+		if !o.coolOn || o.meteredCool && o.coolIn <= 0 {
+			lastOff = i
+		}
+		// A wet coil that sat still gives its water back to the first air
+		// through it: leaving air wetter than the entering air within
+		// reevapWindow of the coil being off is that water, not a sensor
+		// fault, and not a negative water removal.
+		if o.moistureAdded && time.Duration(i-lastOff)*hr.Step <= reevapWindow {
+			o.moistureAdded = false
+			o.reevaporated += o.mDa * (o.sensorW - o.wIn)
+			if o.water.v < 0 {
+				o.water = dv{}
+			}
 		}
 		valid++
 		rec.DryAirKg += o.mDa * 3600 * dtH
@@ -69,6 +93,7 @@ func Compute(u *Unit, hr *Hour) Record {
 		rec.CoolingInputKWh += o.coolIn * dtH
 		rec.CoolingAvoidKWh += o.coolAvoidIn * dtH
 		rec.FanHeatKWh += o.fanHeat * dtH
+		rec.WaterReevaporatedKg += o.reevaporated * 3600 * dtH
 		if o.reheat.v > 0 {
 			reheatAvoidIn += o.reheatIn * o.reheatAvoid.v / o.reheat.v * dtH
 		}
@@ -93,6 +118,14 @@ func Compute(u *Unit, hr *Hour) Record {
 				rec.SHCUnneededH += dtH
 			}
 		}
+		if o.shortfall > 0 {
+			rec.ShortfallKg += o.shortfall * 3600 * dtH
+			rec.ShortfallCoolKWh += o.shortCool * dtH
+			rec.ShortfallReheatKWh += o.shortReheat * dtH
+			if o.wOut > o.wReq*(1+shortfallTol) {
+				rec.ShortfallHours += dtH
+			}
+		}
 		if o.humidityNeed {
 			rec.HumidityNeedHours += dtH
 			needSteps++
@@ -104,6 +137,17 @@ func Compute(u *Unit, hr *Hour) Record {
 		}
 		if o.moistureAdded {
 			moistSteps++
+		}
+		if o.gainAssumed {
+			gainSteps++
+		}
+		if e.lvHum != humNone && math.IsNaN(in.lvHum) {
+			lvOutSteps++
+		}
+		if o.meteredCool && o.coolOn {
+			copCoil += o.total.v * dtH
+			copIn += o.coolIn * dtH
+			copSteps++
 		}
 		if o.enteringSupersat {
 			supersatSteps++
@@ -118,6 +162,9 @@ func Compute(u *Unit, hr *Hour) Record {
 		sumTSup += in.tSup
 	}
 	rec.Coverage = float64(valid) / float64(n)
+	// A leaving sensor's noise was kept on both sides step by step; what the
+	// hour cannot tell from zero is no water.
+	rec.WaterRemovedKg = math.Max(0, rec.WaterRemovedKg)
 	nan := math.NaN()
 	rec.EnteringTempC, rec.EnteringDewPointC, rec.LeavingTempC, rec.LeavingDewPointC, rec.SupplyTempC = nan, nan, nan, nan, nan
 	rec.RequiredLeavingC, rec.OvercoolingK = nan, nan
@@ -145,7 +192,14 @@ func Compute(u *Unit, hr *Hour) Record {
 	}
 	rec.ReheatCoilRatio = ratio(rec.ReheatKWh, rec.CoilTotalKWh)
 	rec.CoilEER = psychro.COPToEER(ratio(rec.CoilTotalKWh, rec.CoolingInputKWh))
-	rec.EffectiveEER = psychro.COPToEER(ratio(rec.CoilTotalKWh-rec.ReheatKWh, rec.CoolingInputKWh+rec.ReheatInputKWh))
+	// Effective EER on electricity only: fuel kWh are not electric kWh and
+	// are not added to them. The cost-basis figure counts fuel as the
+	// electricity its price would buy at the site's prices.
+	rec.EffectiveEER = psychro.COPToEER(ratio(rec.CoilTotalKWh-rec.ReheatKWh, rec.ElectricityKWh))
+	rec.EffectiveEERCost = math.NaN()
+	if pr := u.Prices; pr.ElectricityPerKWh > 0 {
+		rec.EffectiveEERCost = psychro.COPToEER(ratio(rec.CoilTotalKWh-rec.ReheatKWh, rec.ElectricityKWh+rec.FuelKWh*pr.FuelPerKWh/pr.ElectricityPerKWh))
+	}
 	rec.SHR = ratio(rec.CoilSensibleKWh, rec.CoilTotalKWh)
 	rec.WaterPerKWhL = ratio(rec.WaterRemovedKg, rec.CoolingInputKWh+rec.ReheatInputKWh) // 1 kg of condensate is about 1 L
 
@@ -182,11 +236,14 @@ func Compute(u *Unit, hr *Hour) Record {
 		if q.OutOfRange > 0 || q.NotFinite > 0 {
 			flags = append(flags, FlagOutOfRange+r)
 		}
-		if flatRoles[Role(r)] && q.Samples >= 10 && q.OutOfRange == 0 && isFlat(hr.Values[Role(r)]) {
+		if flatRoles[Role(r)] && q.OutOfRange == 0 &&
+			(q.Flat || q.Samples >= 10 && isFlat(hr.Values[Role(r)]) || slowFlatRoles[Role(r)] && q.FlatFor >= FlatSpan) {
 			flags = append(flags, FlagFlat+r)
 		}
 	}
-	if moistSteps >= 5 {
+	// A fault reads wetter much of the time; a noisy sensor on a dry coil
+	// now and then (one 5-minute sample fills five steps).
+	if moistSteps >= 5 && 4*moistSteps >= coolOnSteps {
 		flags = append(flags, FlagMoistureAdded)
 	}
 	if supersatSteps >= 5 {
@@ -205,15 +262,59 @@ func Compute(u *Unit, hr *Hour) Record {
 	if modelled > 0 {
 		flags = append(flags, FlagModelledCooling)
 	}
+	if gainSteps > 0 {
+		flags = append(flags, FlagSpaceGainAssumed)
+	}
+	if lvOutSteps >= 5 {
+		flags = append(flags, FlagLeavingSensorOut)
+	}
+	// The air side and the meter must tell one story: a vapour-compression
+	// unit's coil load over its electric input lies between about 1.5 and
+	// 7 (DX and chiller plants alike; common practice, no source). Outside,
+	// the airflow, the entering humidity or the meter is wrong.
+	if copSteps*2 >= n && copIn > 0.5 {
+		if c := copCoil / copIn; c < 1.5 || c > 7 {
+			flags = append(flags, FlagCOPImplausible)
+		}
+	}
 	rec.Flags = flags
 	return rec
 }
+
+// shortfallTol is how much wetter than the target the coil leaving air
+// may be before the step counts towards the hours above the target: 2 % of
+// W, about 0.3 K of dew point (common practice, no source).
+const shortfallTol = 0.02
+
+// reevapWindow is how long after the coil was off leaving air wetter than
+// the entering air counts as water the wet coil gives back (a dew-point or
+// RH sensor also lags by a few minutes behind such a start; common
+// practice, no source).
+const reevapWindow = 10 * time.Minute
 
 // flatRoles are sensors whose readings never sit exactly still in operation.
 var flatRoles = map[Role]bool{
 	RoleEnteringTemp: true, RoleEnteringRH: true, RoleEnteringDewPoint: true, RoleLeavingTemp: true,
 	RoleLeavingRH: true, RoleLeavingDewPoint: true, RoleSupplyTemp: true, RoleSpaceRH: true, RoleOutdoorTemp: true,
+	RoleReturnTemp: true, RoleReturnRH: true, RoleReturnDewPoint: true, RoleOutdoorRH: true,
 }
+
+// slowFlatRoles are the sensors of air whose state no controller holds:
+// humidity and outdoor temperature. One that repeats its exact value for
+// FlatSpan is stuck, however seldom it is logged (a 15-minute or
+// change-of-value log gives too few samples in an hour to tell). Supply and
+// coil leaving temperatures sit at their set points and are left to the
+// one-hour rule (common practice, no source).
+var slowFlatRoles = map[Role]bool{
+	RoleEnteringRH: true, RoleEnteringDewPoint: true, RoleLeavingRH: true, RoleLeavingDewPoint: true,
+	RoleSpaceRH: true, RoleReturnRH: true, RoleReturnDewPoint: true, RoleOutdoorRH: true, RoleOutdoorTemp: true,
+}
+
+// FlatSpan is how long a humidity or outdoor sensor must repeat exactly the
+// same value before it is flagged flat whatever its logging interval
+// (common practice, no source: such a sensor in moving air does not repeat
+// its reading for three hours at 0.1 % RH resolution).
+const FlatSpan = 3 * time.Hour
 
 func isFlat(v []float64) bool {
 	first, seen := math.NaN(), 0
@@ -248,10 +349,30 @@ func newEngine(u *Unit, hr *Hour) *engine {
 	if hr.Has(RoleSpaceRH) {
 		e.spaceHum = humRH
 	}
+	if e.humIn == humNone && hr.Has(RoleReturnTemp) && hr.Has(RoleOutdoorTemp) && hr.Has(RoleOutdoorRH) {
+		switch {
+		case hr.Has(RoleReturnRH):
+			e.mix, e.retHum = true, humRH
+		case hr.Has(RoleReturnDewPoint):
+			e.mix, e.retHum = true, humDewPoint
+		}
+	}
 	e.hasFanKW = hr.Has(RoleFanPower)
 	e.hasCoolKW = hr.Has(RoleCoolingPower)
 	e.hasReheatKW = hr.Has(RoleReheatPower)
 	e.hasSpaceT = hr.Has(RoleSpaceTemp)
+	// The dry-coil margin: twice the combined 95 % uncertainty of the
+	// leaving temperature and the entering dew point. An RH sensor's dew
+	// point uncertainty is taken near 60 % RH and 15 °C, where d ln p_ws /
+	// dT is about 0.065 /K (ASHRAE ch. 1 eq. 6, evaluated).
+	a := u.Accuracy
+	tdU := a.RH / 0.6 / 0.065
+	if e.humIn == humDewPoint {
+		tdU = a.DewPointK
+	}
+	e.dryMarginK = 2 * math.Hypot(a.TempK, tdU)
+	e.hourShare = math.NaN()
+	e.bf = bypassFor(u.LeavingRH, e.p)
 	switch u.Target.Kind {
 	case TargetSupplyDewPoint, TargetSpaceDewPoint:
 		if pw, err := psychro.SatVapPressure(u.Target.DewPointC); err == nil {
@@ -265,6 +386,7 @@ func newEngine(u *Unit, hr *Hour) *engine {
 // (nil for unmapped roles).
 type cols struct {
 	tIn, humIn, tLv, lvHum, tSup, flow, fanKW, coolKW, reheatKW, tOut, spaceT, spaceHum []float64
+	tRet, retHum, oaRH, oaFlow                                                          []float64
 }
 
 func (e *engine) columns(hr *Hour) cols {
@@ -273,6 +395,13 @@ func (e *engine) columns(hr *Hour) cols {
 		flow: hr.Values[RoleSupplyFlow], fanKW: hr.Values[RoleFanPower], coolKW: hr.Values[RoleCoolingPower],
 		reheatKW: hr.Values[RoleReheatPower], tOut: hr.Values[RoleOutdoorTemp], spaceT: hr.Values[RoleSpaceTemp],
 		spaceHum: hr.Values[RoleSpaceRH],
+		tRet:     hr.Values[RoleReturnTemp], oaRH: hr.Values[RoleOutdoorRH], oaFlow: hr.Values[RoleOutdoorFlow],
+	}
+	switch e.retHum {
+	case humRH:
+		c.retHum = hr.Values[RoleReturnRH]
+	case humDewPoint:
+		c.retHum = hr.Values[RoleReturnDewPoint]
 	}
 	switch e.humIn {
 	case humRH:
@@ -289,6 +418,28 @@ func (e *engine) columns(hr *Hour) cols {
 	return c
 }
 
+// share returns the mean outdoor-air share over the hour's steps where the
+// outdoor and return temperatures differ by mixMinDeltaK or more, NaN when
+// there are none.
+func (c *cols) share(n int) float64 {
+	if c.tRet == nil || c.tOut == nil || c.tIn == nil {
+		return math.NaN()
+	}
+	sum, k := 0.0, 0
+	for i := 0; i < n; i++ {
+		d := c.tOut[i] - c.tRet[i]
+		if math.IsNaN(d) || math.IsNaN(c.tIn[i]) || math.Abs(d) < mixMinDeltaK {
+			continue
+		}
+		sum += math.Max(0, math.Min(1, (c.tIn[i]-c.tRet[i])/d))
+		k++
+	}
+	if k == 0 {
+		return math.NaN()
+	}
+	return sum / float64(k)
+}
+
 func at(v []float64, i int) float64 {
 	if v == nil {
 		return math.NaN()
@@ -301,6 +452,7 @@ func (c *cols) fill(in *stepIn, i int) {
 	in.tIn, in.humIn, in.tLv, in.lvHum = at(c.tIn, i), at(c.humIn, i), at(c.tLv, i), at(c.lvHum, i)
 	in.tSup, in.flow, in.fanKW, in.coolKW = at(c.tSup, i), at(c.flow, i), at(c.fanKW, i), at(c.coolKW, i)
 	in.reheatKW, in.tOut, in.spaceT, in.spaceHum = at(c.reheatKW, i), at(c.tOut, i), at(c.spaceT, i), at(c.spaceHum, i)
+	in.tRet, in.retHum, in.oaRH, in.oaFlow = at(c.tRet, i), at(c.retHum, i), at(c.oaRH, i), at(c.oaFlow, i)
 }
 
 // uncertainty sets the 95 % half-widths by first-order propagation of
@@ -314,9 +466,13 @@ func (e *engine) uncertainty(sens *[nSens][4]float64, rec *Record) {
 	a := e.u.Accuracy
 	var acc [nSens]float64
 	acc[sensTIn], acc[sensTLv], acc[sensTSup] = a.TempK, a.TempK, a.TempK
+	humIn := e.humIn
+	if e.mix {
+		humIn = e.retHum
+	}
 	for _, x := range []struct {
 		form, idx int
-	}{{e.humIn, sensHumIn}, {e.lvHum, sensLvHum}} {
+	}{{humIn, sensHumIn}, {e.lvHum, sensLvHum}} {
 		switch x.form {
 		case humRH:
 			acc[x.idx] = a.RH
@@ -345,3 +501,25 @@ func (r *Record) String() string {
 	return fmt.Sprintf("%s %s cov=%.2f water=%.2fkg coil=%.2fkWh reheat=%.2fkWh (needed %.2f, avoidable %.2f) cool_in=%.2fkWh eer_eff=%.2f flags=%v",
 		r.AHU, r.HourStart.Format(time.RFC3339), r.Coverage, r.WaterRemovedKg, r.CoilTotalKWh, r.ReheatKWh, r.ReheatNeededKWh, r.ReheatAvoidKWh, r.CoolingInputKWh, r.EffectiveEER, r.Flags)
 }
+
+// bypassFor caches bypassFactor by leaving RH and pressure: units share a
+// handful of settings, and the search costs sixty saturation pressures.
+func bypassFor(rh, p float64) float64 {
+	k := [2]float64{rh, p}
+	bfMu.Lock()
+	defer bfMu.Unlock()
+	if v, ok := bfCache[k]; ok {
+		return v
+	}
+	v := bypassFactor(rh, p)
+	if len(bfCache) > 256 {
+		clear(bfCache)
+	}
+	bfCache[k] = v
+	return v
+}
+
+var (
+	bfMu    sync.Mutex
+	bfCache = map[[2]float64]float64{}
+)

@@ -27,9 +27,11 @@ func TestCompute_RulesOfThumb(t *testing.T) {
 	// rules' mass flow of 0.075 lb/ft³ x CFM.
 	q := psychro.LbToKg(0.075) / psychro.M3PerFt3 * psychro.CFMToM3s(cfm) / psychro.StandardAirDensity
 	tIn, rhIn, tLv := psychro.FToC(78), 0.55, psychro.FToC(54)
+	// The leaving state is measured (95 % RH), so the check is of the
+	// factors, not of a coil model.
 	h := newHour(day0, map[metrics.Role]func(int) float64{
 		metrics.RoleEnteringTemp: constant(tIn), metrics.RoleEnteringRH: constant(rhIn),
-		metrics.RoleLeavingTemp: constant(tLv), metrics.RoleSupplyTemp: constant(tLv), metrics.RoleSupplyFlow: constant(q),
+		metrics.RoleLeavingTemp: constant(tLv), metrics.RoleLeavingRH: constant(0.95), metrics.RoleSupplyTemp: constant(tLv), metrics.RoleSupplyFlow: constant(q),
 	})
 	rec := metrics.Compute(u, h)
 	in, err := psychro.NewStateRH(tIn, rhIn, u.PressurePa)
@@ -72,7 +74,8 @@ func TestCompute_HandbookExample(t *testing.T) {
 func TestCompute_ReheatSources(t *testing.T) {
 	h := newHour(day0, map[metrics.Role]func(int) float64{
 		metrics.RoleEnteringTemp: constant(24), metrics.RoleEnteringRH: constant(0.55),
-		metrics.RoleLeavingTemp: constant(11), metrics.RoleSupplyTemp: constant(17.5), metrics.RoleSupplyFlow: constant(3),
+		metrics.RoleLeavingTemp: constant(11), metrics.RoleLeavingRH: constant(0.95),
+		metrics.RoleSupplyTemp: constant(17.5), metrics.RoleSupplyFlow: constant(3),
 	})
 	base := testUnit()
 	base.Prices = metrics.Prices{ElectricityPerKWh: 0.20, FuelPerKWh: 0.05, ElectricityCO2KgPerKWh: 0.5, FuelCO2KgPerKWh: 0.2}
@@ -109,9 +112,12 @@ func TestCompute_ReheatSources(t *testing.T) {
 func TestCompute_NeededAndAvoidable(t *testing.T) {
 	u := testUnit()
 	u.Fan, u.FanRiseK = metrics.FanNone, 0
+	// A leaving sensor reads 90 % (the unit assumes 95 %): the required
+	// temperature follows from the measured leaving RH (the bypass-factor
+	// case is in the synthetic ground truth).
 	hour := func(tIn, rh, tLv, tSup float64) metrics.Record {
 		return metrics.Compute(u, newHour(day0, map[metrics.Role]func(int) float64{
-			metrics.RoleEnteringTemp: constant(tIn), metrics.RoleEnteringRH: constant(rh),
+			metrics.RoleEnteringTemp: constant(tIn), metrics.RoleEnteringRH: constant(rh), metrics.RoleLeavingRH: constant(0.90),
 			metrics.RoleLeavingTemp: constant(tLv), metrics.RoleSupplyTemp: constant(tSup), metrics.RoleSupplyFlow: constant(2),
 		}))
 	}
@@ -126,11 +132,11 @@ func TestCompute_NeededAndAvoidable(t *testing.T) {
 	})
 	t.Run("humid air, coil colder than needed", func(t *testing.T) {
 		r := hour(25, 0.65, 9, 17)
-		// The target (12 °C dew point) at 95 % leaving RH needs a coil of
-		// about 12.8 °C: the dew point of W(12 °C sat) at RH 0.95.
+		// The target (12 °C dew point) needs a coil of
+		// about 13.6 °C: the dew point of W(12 °C sat) at the measured RH 0.90.
 		wReq, _ := psychro.HumRatioFromDewPoint(12, u.PressurePa)
 		pw, _ := psychro.VapPressureFromHumRatio(wReq, u.PressurePa)
-		tReq, _ := psychro.DewPointFromVapPressure(pw / 0.95)
+		tReq, _ := psychro.DewPointFromVapPressure(pw / 0.90)
 		assert.InDelta(t, tReq, r.RequiredLeavingC, 1e-9)
 		assert.InDelta(t, tReq-9, r.OvercoolingK, 1e-9)
 		assert.Greater(t, r.ReheatNeededKWh, 0.0)
@@ -142,7 +148,7 @@ func TestCompute_NeededAndAvoidable(t *testing.T) {
 	t.Run("humid air, coil at the required temperature", func(t *testing.T) {
 		wReq, _ := psychro.HumRatioFromDewPoint(12, u.PressurePa)
 		pw, _ := psychro.VapPressureFromHumRatio(wReq, u.PressurePa)
-		tReq, _ := psychro.DewPointFromVapPressure(pw / 0.95)
+		tReq, _ := psychro.DewPointFromVapPressure(pw / 0.90)
 		r := hour(25, 0.65, tReq, 17)
 		assert.InDelta(t, 0, r.ReheatAvoidKWh, 1e-6)
 		assert.InDelta(t, 0, r.CoolingAvoidKWh, 1e-6)
@@ -190,10 +196,21 @@ func TestCompute_Flags(t *testing.T) {
 		assert.Contains(t, r.Flags, metrics.FlagFlat+"entering_rh")
 	})
 	t.Run("leaving sensor wetter than entering", func(t *testing.T) {
+		// Saturated at 20 °C holds more moisture than 24 °C at 55-59 % RH:
+		// a cooling coil cannot have added it.
 		r := metrics.Compute(u, with(map[metrics.Role]func(int) float64{metrics.RoleLeavingRH: constant(1.0),
-			metrics.RoleLeavingTemp: constant(23.5)}))
+			metrics.RoleLeavingTemp: func(i int) float64 { return 20 + float64(i%3)/10 }}))
 		assert.Contains(t, r.Flags, metrics.FlagMoistureAdded)
-		assert.GreaterOrEqual(t, r.WaterRemovedKg, 0.0, "never a negative latent load")
+		assert.Equal(t, 0.0, r.WaterRemovedKg, "a coil 5 K above the entering dew point removes nothing")
+	})
+	t.Run("wet coil gives water back after the compressor stops", func(t *testing.T) {
+		// Coil off (leaving 0.3 K below entering, inside the 0.5 K
+		// deadband), leaving sensor saturated: the wet coil re-evaporates.
+		r := metrics.Compute(u, with(map[metrics.Role]func(int) float64{metrics.RoleLeavingRH: constant(1.0),
+			metrics.RoleLeavingTemp: func(i int) float64 { return 24 + float64(i%7)/10 - 0.3 }}))
+		assert.NotContains(t, r.Flags, metrics.FlagMoistureAdded)
+		assert.Greater(t, r.WaterReevaporatedKg, 1.0)
+		assert.Equal(t, 0.0, r.WaterRemovedKg)
 	})
 	t.Run("reheat meter disagrees", func(t *testing.T) {
 		r := metrics.Compute(u, with(map[metrics.Role]func(int) float64{metrics.RoleReheatPower: constant(80)}))
@@ -215,6 +232,25 @@ func TestCompute_Flags(t *testing.T) {
 			metrics.RoleLeavingTemp: constant(11), metrics.RoleSupplyTemp: constant(11.8),
 			metrics.RoleReheatPower: constant(11)}))
 		assert.Contains(t, r.Flags, metrics.FlagReheatMeter)
+	})
+	t.Run("metered cooling input far below the air-side load", func(t *testing.T) {
+		// About 40 kW of coil load (3 m³/s cooled 13 K with condensation)
+		// on 2 kW of compressor: a COP near 20, impossible for a
+		// vapour-compression unit.
+		r := metrics.Compute(u, with(map[metrics.Role]func(int) float64{metrics.RoleCoolingPower: constant(2)}))
+		assert.Contains(t, r.Flags, metrics.FlagCOPImplausible)
+		r = metrics.Compute(u, with(map[metrics.Role]func(int) float64{metrics.RoleCoolingPower: func(int) float64 { return r.CoilTotalKWh / 4 }}))
+		assert.NotContains(t, r.Flags, metrics.FlagCOPImplausible, "COP 4 is plausible")
+	})
+	t.Run("leaving sensor drops out", func(t *testing.T) {
+		r := metrics.Compute(u, with(map[metrics.Role]func(int) float64{metrics.RoleLeavingRH: func(i int) float64 {
+			if i < 30 {
+				return math.NaN()
+			}
+			return 0.95 + float64(i%3)/100
+		}}))
+		assert.Contains(t, r.Flags, metrics.FlagLeavingSensorOut)
+		assert.Equal(t, 1.0, r.Coverage, "the coil model covers the steps")
 	})
 	t.Run("supply warmer with no reheat coil", func(t *testing.T) {
 		v := *u
@@ -320,4 +356,152 @@ func TestCompute_StepSize(t *testing.T) {
 	a, b := mk(time.Minute), mk(5*time.Minute)
 	assert.InEpsilon(t, a.CoilTotalKWh, b.CoilTotalKWh, 1e-9)
 	assert.InEpsilon(t, a.ReheatKWh, b.ReheatKWh, 1e-9)
+}
+
+// TestCompute_DryCoilWithLeavingSensor: a coil leaving at 16 °C with the
+// entering dew point near 8.4 °C (22 °C, 40 % RH) is dry: no water can
+// condense on a surface above the entering dew point. A leaving RH sensor
+// that reads 3 % low (within its accuracy), with noise, must not turn that
+// into water (physics; the handbook's coil process, ASHRAE Fundamentals
+// ch. 1).
+func TestCompute_DryCoilWithLeavingSensor(t *testing.T) {
+	u := testUnit()
+	p := u.PressurePa
+	wIn, err := psychro.HumRatioFromRH(22, 0.40, p)
+	require.NoError(t, err)
+	rhTrue, err := psychro.RHFromHumRatio(16, wIn, p)
+	require.NoError(t, err)
+	r := rand.New(rand.NewPCG(3, 5))
+	noise := make([]float64, 60)
+	for i := range noise {
+		noise[i] = 0.01 * r.NormFloat64()
+	}
+	rec := metrics.Compute(u, newHour(day0, map[metrics.Role]func(int) float64{
+		metrics.RoleEnteringTemp: func(i int) float64 { return 22 + float64(i%5)/20 },
+		metrics.RoleEnteringRH:   func(i int) float64 { return 0.40 + float64(i%3)/500 },
+		metrics.RoleLeavingTemp:  func(i int) float64 { return 16 + float64(i%4)/20 },
+		metrics.RoleLeavingRH:    func(i int) float64 { return rhTrue - 0.03 + noise[i] },
+		metrics.RoleSupplyTemp:   constant(17), metrics.RoleSupplyFlow: constant(3),
+	}))
+	assert.Equal(t, 0.0, rec.WaterRemovedKg, "a dry coil removes no water")
+	assert.InDelta(t, rec.CoilSensibleKWh, rec.CoilTotalKWh, 1e-9, "all of a dry coil's load is sensible")
+	assert.NotContains(t, rec.Flags, metrics.FlagMoistureAdded)
+}
+
+// TestCompute_LeavingRuleContinuous: without a leaving sensor the leaving
+// humidity has no step at the entering dew point: water removed changes
+// smoothly as the coil leaving temperature crosses it (the bypass-factor
+// coil; a rule that jumps to the assumed RH below the dew point would move
+// the water by about 5 % of W_in in 0.02 K).
+func TestCompute_LeavingRuleContinuous(t *testing.T) {
+	u := testUnit()
+	td, err := psychro.DewPointFromHumRatio(mustW(t, 24, 0.5, u.PressurePa), u.PressurePa)
+	require.NoError(t, err)
+	water := func(tLv float64) float64 {
+		return metrics.Compute(u, newHour(day0, map[metrics.Role]func(int) float64{
+			metrics.RoleEnteringTemp: constant(24), metrics.RoleEnteringRH: constant(0.5),
+			metrics.RoleLeavingTemp: constant(tLv), metrics.RoleSupplyTemp: constant(17), metrics.RoleSupplyFlow: constant(3),
+		})).WaterRemovedKg
+	}
+	prev := water(td + 2)
+	for d := 2.0; d > -2; d -= 0.01 {
+		w := water(td + d)
+		// On a smooth rule 0.01 K of coil temperature moves the water of 3
+		// m³/s (about 13,000 kg of dry air an hour) by at most 13,000 x
+		// 0.01 K x 0.8 g/kg per K (the slope of W at saturation near 12 °C)
+		// ≈ 0.1 kg.
+		assert.Less(t, math.Abs(w-prev), 0.2, "leaving %.2f K from the dew point", d)
+		prev = w
+	}
+	assert.Greater(t, water(td-2), 10.0, "2 K below the dew point the coil is wet")
+}
+
+func mustW(t *testing.T, tC, rh, p float64) float64 {
+	t.Helper()
+	w, err := psychro.HumRatioFromRH(tC, rh, p)
+	require.NoError(t, err)
+	return w
+}
+
+// TestCompute_MixedEnteringAir: no mixed-air humidity sensor; return air at
+// 24 °C / 50 % and outdoor air at 32 °C / 60 % mix 30 % outdoor (by dry-air
+// mass; adiabatic mixing of ASHRAE Fundamentals ch. 1: W and h mix
+// linearly). The entering humidity must be the mix, with the share read
+// from the three temperatures, not the configured 15 % minimum; and in
+// steps where outdoor and return read within 3 K of each other, the share
+// of the hour's other steps.
+func TestCompute_MixedEnteringAir(t *testing.T) {
+	u := testUnit()
+	u.MinOutdoor = 0.15
+	p := u.PressurePa
+	wRa, wOa := mustW(t, 24, 0.5, p), mustW(t, 32, 0.6, p)
+	const x = 0.3
+	wMix := x*wOa + (1-x)*wRa
+	h := func(tC, w float64) float64 { return 1.006*tC + w*(2501+1.86*tC) } // eq. 32
+	hMix := x*h(32, wOa) + (1-x)*h(24, wRa)
+	tMix := (hMix - 2501*wMix) / (1.006 + 1.86*wMix) // eq. 32 solved for t
+	tdWant, err := psychro.DewPointFromHumRatio(wMix, p)
+	require.NoError(t, err)
+	for _, tt := range []struct {
+		name string
+		tOut func(int) float64
+	}{
+		{"outdoor and return apart", constant(32)},
+		// Half the steps read the outdoor sensor 1 K from the return: the
+		// temperatures cannot tell the share there; the hour's other half can.
+		{"half the hour too close", func(i int) float64 {
+			if i%2 == 0 {
+				return 25
+			}
+			return 32
+		}},
+	} {
+		t.Run(tt.name, func(t *testing.T) {
+			rec := metrics.Compute(u, newHour(day0, map[metrics.Role]func(int) float64{
+				metrics.RoleEnteringTemp: constant(tMix),
+				metrics.RoleReturnTemp:   constant(24), metrics.RoleReturnRH: constant(0.5),
+				metrics.RoleOutdoorTemp: tt.tOut, metrics.RoleOutdoorRH: func(i int) float64 {
+					// the outdoor RH at the logged outdoor temperature for the
+					// same outdoor moisture
+					rh, _ := psychro.RHFromHumRatio(tt.tOut(i), wOa, p)
+					return rh
+				},
+				metrics.RoleLeavingTemp: constant(12), metrics.RoleSupplyTemp: constant(17), metrics.RoleSupplyFlow: constant(3),
+			}))
+			require.Equal(t, 1.0, rec.Coverage)
+			assert.InDelta(t, tdWant, rec.EnteringDewPointC, 0.05, "dew point of the mixed air")
+		})
+	}
+}
+
+// TestCompute_SpaceGain: a space dew-point target without space sensors
+// needs the supply drier than the space limit by what the space adds. With
+// the assumed 0.8 g/kg the required supply W is W(13 °C dew point) - 0.0008
+// (by hand), the hour says the gain was assumed, and less of the reheat is
+// avoidable than with no gain at all.
+func TestCompute_SpaceGain(t *testing.T) {
+	u := testUnit()
+	u.Target = metrics.Target{Kind: metrics.TargetSpaceDewPoint, DewPointC: 13}
+	u.SpaceGain = metrics.DefaultSpaceGain
+	vals := map[metrics.Role]func(int) float64{
+		metrics.RoleEnteringTemp: constant(25), metrics.RoleEnteringRH: constant(0.65),
+		metrics.RoleLeavingTemp: constant(10), metrics.RoleLeavingRH: constant(0.95),
+		metrics.RoleSupplyTemp: constant(17), metrics.RoleSupplyFlow: constant(3),
+	}
+	rec := metrics.Compute(u, newHour(day0, vals))
+	wSpace, err := psychro.HumRatioFromDewPoint(13, u.PressurePa)
+	require.NoError(t, err)
+	pw, err := psychro.VapPressureFromHumRatio(wSpace-0.0008, u.PressurePa)
+	require.NoError(t, err)
+	tReq, err := psychro.DewPointFromVapPressure(pw / 0.95)
+	require.NoError(t, err)
+	assert.InDelta(t, tReq, rec.RequiredLeavingC, 1e-6)
+	assert.Contains(t, rec.Flags, metrics.FlagSpaceGainAssumed)
+	none := *u
+	none.SpaceGain = 0
+	r0 := metrics.Compute(&none, newHour(day0, vals))
+	assert.Greater(t, r0.ReheatAvoidKWh, rec.ReheatAvoidKWh, "no gain overstates the avoidable reheat")
+	// With space sensors the gain is observed, not assumed.
+	vals[metrics.RoleSpaceTemp], vals[metrics.RoleSpaceRH] = constant(23), constant(0.55)
+	assert.NotContains(t, metrics.Compute(u, newHour(day0, vals)).Flags, metrics.FlagSpaceGainAssumed)
 }

@@ -22,6 +22,13 @@ type RoleQuality struct {
 	Samples    int     // samples logged inside the hour
 	OutOfRange int     // samples inside the hour excluded as physically implausible
 	NotFinite  int     // samples inside the hour that were NaN or infinite
+	// Flat: the hour has ten or more samples, all the same value. FlatFor:
+	// how long the run of identical samples that holds every sample of the
+	// hour lasts (0 when the hour's samples differ or the run has fewer than
+	// six samples). Both are set by the aligner from the raw samples, so
+	// they do not depend on the logging interval.
+	Flat    bool
+	FlatFor time.Duration
 }
 
 // Steps returns the number of grid steps in the hour.

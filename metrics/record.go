@@ -7,7 +7,10 @@ import (
 
 // RecordSchema is the version of the hourly record's field set. It changes
 // when a field is renamed or its meaning changes; adding a field does not.
-const RecordSchema = 1
+//
+// Schema 2: effective_eer counts electricity only (schema 1 added fuel kWh
+// to electric kWh); effective_eer_cost_basis is new.
+const RecordSchema = 2
 
 // Record is one air handler-hour of results, SI, with units in the names.
 // Energies are kWh over the hour's covered steps: an hour with partial
@@ -30,16 +33,24 @@ type Record struct {
 	CoolingInputKWh   float64 // electricity for cooling (metered or modelled)
 	CoolingAvoidKWh   float64 // cooling input caused by over-cooling
 	FanHeatKWh        float64
-	ElectricityKWh    float64 // cooling input + electric reheat input
-	FuelKWh           float64 // hot-water reheat fuel
+	// WaterReevaporatedKg is water a wet coil gave back to the air while it
+	// did not cool (a measured leaving humidity above the entering one after
+	// the compressor stopped); it is not subtracted from WaterRemovedKg.
+	WaterReevaporatedKg float64
+	ElectricityKWh      float64 // cooling input + electric reheat input
+	FuelKWh             float64 // hot-water reheat fuel
 
 	ReheatCoilRatio float64 // reheat / coil total
 	CoilEER         float64 // Btu/Wh: coil total / cooling input
-	EffectiveEER    float64 // Btu/Wh: (coil total - reheat) / (cooling input + reheat input); may be negative
-	SHR             float64 // sensible heat ratio of the coil
-	WaterPerKWhL    float64 // litres of water removed per kWh of input
-	SHCHours        float64 // time with cooling and reheat both running
-	SHCUnneededH    float64 // of which the humidity target did not need the cooling
+	EffectiveEER    float64 // Btu/Wh: (coil total - reheat) / electricity (cooling input + electric reheat input); may be negative
+	// EffectiveEERCost is (coil total - reheat) over the electricity plus
+	// the fuel valued at the electricity it would buy at the site's prices,
+	// Btu/Wh of electricity-equivalent; NaN without an electricity price.
+	EffectiveEERCost float64
+	SHR              float64 // sensible heat ratio of the coil
+	WaterPerKWhL     float64 // litres of water removed per kWh of input
+	SHCHours         float64 // time with cooling and reheat both running
+	SHCUnneededH     float64 // of which the humidity target did not need the cooling
 
 	EnteringTempC     float64 // means over covered steps
 	EnteringDewPointC float64
@@ -49,6 +60,15 @@ type Record struct {
 	SupplyTempC       float64
 	OvercoolingK      float64 // mean over coil-on steps of (needed coil temperature - actual), when positive
 	HumidityNeedHours float64 // time the entering air was wetter than the target allowed
+
+	// Too little dehumidification: water the target needed removed and the
+	// coil left in the air, the time the coil left air wetter than the
+	// target (by more than 2 % of W), and the cooling and reheat (at the same
+	// supply temperature) that meeting the target would have taken.
+	ShortfallKg        float64
+	ShortfallHours     float64
+	ShortfallCoolKWh   float64
+	ShortfallReheatKWh float64
 
 	Cost           float64 // currency of the configuration
 	CostAvoidable  float64
@@ -87,11 +107,13 @@ func (r *Record) Fields() []Field {
 		{"cooling_input_kwh", r.CoolingInputKWh},
 		{"cooling_avoidable_input_kwh", r.CoolingAvoidKWh},
 		{"fan_heat_kwh", r.FanHeatKWh},
+		{"water_reevaporated_kg", r.WaterReevaporatedKg},
 		{"electricity_kwh", r.ElectricityKWh},
 		{"fuel_kwh", r.FuelKWh},
 		{"reheat_coil_ratio", r.ReheatCoilRatio},
 		{"coil_eer", r.CoilEER},
 		{"effective_eer", r.EffectiveEER},
+		{"effective_eer_cost_basis", r.EffectiveEERCost},
 		{"shr", r.SHR},
 		{"water_per_kwh_l", r.WaterPerKWhL},
 		{"shc_h", r.SHCHours},
@@ -104,6 +126,10 @@ func (r *Record) Fields() []Field {
 		{"supply_temp_c", r.SupplyTempC},
 		{"overcooling_k", r.OvercoolingK},
 		{"humidity_need_h", r.HumidityNeedHours},
+		{"humidity_shortfall_kg", r.ShortfallKg},
+		{"humidity_shortfall_h", r.ShortfallHours},
+		{"shortfall_cooling_kwh", r.ShortfallCoolKWh},
+		{"shortfall_reheat_kwh", r.ShortfallReheatKWh},
 		{"cost", r.Cost},
 		{"cost_avoidable", r.CostAvoidable},
 		{"co2_kg", r.CO2Kg},
@@ -122,8 +148,8 @@ func (r *Record) Fields() []Field {
 func AdditiveFields() []string {
 	return []string{"coverage", "dry_air_kg", "water_removed_kg", "coil_sensible_kwh", "coil_latent_kwh", "coil_total_kwh",
 		"coil_total_gross_kwh", "reheat_kwh", "reheat_needed_kwh", "reheat_avoidable_kwh", "reheat_input_kwh",
-		"cooling_input_kwh", "cooling_avoidable_input_kwh", "fan_heat_kwh", "electricity_kwh", "fuel_kwh", "shc_h",
-		"shc_unneeded_h", "humidity_need_h", "cost", "cost_avoidable", "co2_kg", "co2_avoidable_kg",
+		"cooling_input_kwh", "cooling_avoidable_input_kwh", "fan_heat_kwh", "water_reevaporated_kg", "electricity_kwh", "fuel_kwh", "shc_h",
+		"shc_unneeded_h", "humidity_need_h", "humidity_shortfall_kg", "humidity_shortfall_h", "shortfall_cooling_kwh", "shortfall_reheat_kwh", "cost", "cost_avoidable", "co2_kg", "co2_avoidable_kg",
 		"water_removed_kg_u95", "coil_total_kwh_u95", "reheat_kwh_u95", "reheat_avoidable_kwh_u95"}
 }
 
@@ -158,12 +184,13 @@ func (r *Record) fieldPtrs() map[string]*float64 {
 		"coil_sensible_kwh": &r.CoilSensibleKWh, "coil_latent_kwh": &r.CoilLatentKWh, "coil_total_kwh": &r.CoilTotalKWh,
 		"coil_total_gross_kwh": &r.CoilTotalGrossKWh, "reheat_kwh": &r.ReheatKWh, "reheat_needed_kwh": &r.ReheatNeededKWh,
 		"reheat_avoidable_kwh": &r.ReheatAvoidKWh, "reheat_input_kwh": &r.ReheatInputKWh, "cooling_input_kwh": &r.CoolingInputKWh,
-		"cooling_avoidable_input_kwh": &r.CoolingAvoidKWh, "fan_heat_kwh": &r.FanHeatKWh, "electricity_kwh": &r.ElectricityKWh,
-		"fuel_kwh": &r.FuelKWh, "reheat_coil_ratio": &r.ReheatCoilRatio, "coil_eer": &r.CoilEER, "effective_eer": &r.EffectiveEER,
+		"cooling_avoidable_input_kwh": &r.CoolingAvoidKWh, "fan_heat_kwh": &r.FanHeatKWh, "water_reevaporated_kg": &r.WaterReevaporatedKg, "electricity_kwh": &r.ElectricityKWh,
+		"fuel_kwh": &r.FuelKWh, "reheat_coil_ratio": &r.ReheatCoilRatio, "coil_eer": &r.CoilEER, "effective_eer": &r.EffectiveEER, "effective_eer_cost_basis": &r.EffectiveEERCost,
 		"shr": &r.SHR, "water_per_kwh_l": &r.WaterPerKWhL, "shc_h": &r.SHCHours, "shc_unneeded_h": &r.SHCUnneededH,
 		"entering_temp_c": &r.EnteringTempC, "entering_dewpoint_c": &r.EnteringDewPointC, "leaving_temp_c": &r.LeavingTempC, "leaving_dewpoint_c": &r.LeavingDewPointC,
 		"required_leaving_temp_c": &r.RequiredLeavingC, "supply_temp_c": &r.SupplyTempC, "overcooling_k": &r.OvercoolingK,
-		"humidity_need_h": &r.HumidityNeedHours, "cost": &r.Cost, "cost_avoidable": &r.CostAvoidable, "co2_kg": &r.CO2Kg,
+		"humidity_need_h": &r.HumidityNeedHours, "humidity_shortfall_kg": &r.ShortfallKg, "humidity_shortfall_h": &r.ShortfallHours,
+		"shortfall_cooling_kwh": &r.ShortfallCoolKWh, "shortfall_reheat_kwh": &r.ShortfallReheatKWh, "cost": &r.Cost, "cost_avoidable": &r.CostAvoidable, "co2_kg": &r.CO2Kg,
 		"co2_avoidable_kg": &r.CO2AvoidableKg, "water_removed_kg_u95": &r.WaterRemovedKgU95, "coil_total_kwh_u95": &r.CoilTotalKWhU95,
 		"reheat_kwh_u95": &r.ReheatKWhU95, "reheat_avoidable_kwh_u95": &r.ReheatAvoidKWhU95,
 	}

@@ -30,6 +30,10 @@ const (
 	RoleSpaceRH          Role = "space_rh"          // space (or return) RH
 	RoleCoolingValve     Role = "cooling_valve"     // cooling valve or capacity command, fraction open
 	RoleReheatValve      Role = "reheat_valve"      // reheat valve or stage command, fraction open
+	RoleReturnTemp       Role = "return_temp"       // return air temperature, before the outdoor air joins it
+	RoleReturnRH         Role = "return_rh"         // return air RH
+	RoleReturnDewPoint   Role = "return_dewpoint"   // return air dew point
+	RoleOutdoorFlow      Role = "outdoor_flow"      // outdoor airflow into the mixing box
 )
 
 // RoleSpec describes a role: the kind of quantity, the physically plausible
@@ -68,6 +72,24 @@ var roleSpecs = []RoleSpec{
 	{RoleSpaceRH, psychro.KindRH, 0, 1, 30 * time.Minute, "space or return air relative humidity", 0.1, 0.95},
 	{RoleCoolingValve, psychro.KindFraction, 0, 1, 15 * time.Minute, "cooling valve or capacity command", 0, 1},
 	{RoleReheatValve, psychro.KindFraction, 0, 1, 15 * time.Minute, "reheat valve or stage command", 0, 1},
+	{RoleReturnTemp, psychro.KindTemperature, -10, 50, 30 * time.Minute, "return air temperature, before the outdoor air joins it", 12, 35},
+	{RoleReturnRH, psychro.KindRH, 0, 1, 30 * time.Minute, "return air relative humidity", 0.1, 0.95},
+	{RoleReturnDewPoint, psychro.KindTemperature, -60, 40, 30 * time.Minute, "return air dew point", -10, 25},
+	{RoleOutdoorFlow, psychro.KindFlow, 0, 200, 15 * time.Minute, "outdoor airflow into the mixing box", 0, 100},
+}
+
+// humidityPairs maps each RH role to the temperature measured at the same
+// place: an RH means nothing without the temperature of its own air.
+var humidityPairs = map[Role]Role{
+	RoleEnteringRH: RoleEnteringTemp, RoleLeavingRH: RoleLeavingTemp, RoleOutdoorRH: RoleOutdoorTemp,
+	RoleSpaceRH: RoleSpaceTemp, RoleReturnRH: RoleReturnTemp,
+}
+
+// PairedTemperature returns the temperature role measured at the same place
+// as the RH role r.
+func PairedTemperature(r Role) (Role, bool) {
+	t, ok := humidityPairs[r]
+	return t, ok
 }
 
 var roleIndex = func() map[Role]RoleSpec {

@@ -111,11 +111,20 @@ type Unit struct {
 	Fan           FanPosition
 	FanRiseK      float64 // used when no fan_kw is trended
 	LeavingRH     float64 // assumed coil leaving RH when not measured, fraction
+	MinOutdoor    float64 // outdoor-air share at minimum position, for mixing when temperatures are too close (0: unknown)
+	SpaceGain     float64 // moisture the space adds to the supply air, kg/kg, when no space sensors show it (DefaultSpaceGain)
 	Target        Target
 	Prices        Prices
 	Accuracy      Accuracy
 	Thresholds    Thresholds
 }
+
+// DefaultSpaceGain is the moisture a space adds to its supply air when no
+// space humidity sensor shows it: 0.8 g/kg, about the latent gain of an
+// office at design occupancy on a typical supply flow (common practice, no
+// source; override with air_handlers[].space_moisture_gain). Assuming no
+// gain overstates the avoidable reheat of a space target.
+const DefaultSpaceGain = 0.0008
 
 // copAt returns the DX model's COP at outdoor temperature tOutC (NaN: the
 // rated COP). The correction is linear and held between 40 % and 160 % of

@@ -12,6 +12,7 @@ type stepIn struct {
 	tIn, humIn, tLv, lvHum, tSup, flow float64 // humIn/lvHum: RH fraction or dew point °C per humKind
 	fanKW, coolKW, reheatKW, tOut      float64
 	spaceT, spaceHum                   float64
+	tRet, retHum, oaRH, oaFlow         float64 // return air, outdoor RH and airflow for mixing
 }
 
 // humidity sensor forms
@@ -41,7 +42,15 @@ type stepOut struct {
 	tReq                     float64 // coil leaving temperature the target requires, +Inf when none
 	tNeed                    float64 // coil temperature needed (T_c)
 	wReq                     float64 // supply humidity ratio the target requires
-	moistureAdded            bool    // measured leaving air wetter than entering beyond uncertainty
+	moistureAdded            bool    // measured leaving air wetter than entering beyond uncertainty while the coil cools
+	wetterOut                bool
+	measuredOut              bool    // a leaving sensor gave the leaving humidity
+	reevaporated             float64 // kg/s the wet coil gives back to the air while it does not cool
+	sensorW                  float64 // the leaving sensor's humidity ratio, when it reads
+	shortfall                float64 // kg/s of water the target needed removed and the coil left in
+	shortCool, shortReheat   float64 // kW of cooling and reheat meeting the target would have taken
+	gainAssumed              bool    // a space target used the assumed space moisture gain
+	rhLv                     float64 // leaving RH used for the required temperature
 	enteringSupersat         bool    // entering dew point above dry bulb (sensor problem)
 	reheatWithoutCoil        bool    // supply warmer than leaving with no reheat coil
 	meteredCool, meteredHeat bool
@@ -52,10 +61,15 @@ type engine struct {
 	u                      *Unit
 	p                      float64
 	humIn, lvHum, spaceHum int
+	mix                    bool // entering state mixed from return and outdoor air
+	retHum                 int
 	hasFanKW, hasCoolKW    bool
 	hasReheatKW, hasSpaceT bool
 	wTarget                float64 // humidity ratio of the target (supply or space)
-	reqW                   float64 // cache of tRequired for a constant target
+	reqW, reqRH            float64 // cache of tRequired for a constant target
+	dryMarginK             float64 // a coil leaving this far above the entering dew point is dry
+	bf                     float64 // coil bypass factor, from the assumed leaving RH
+	hourShare              float64 // outdoor-air share of the hour's steps where the temperatures tell it; NaN when none
 	reqT                   dv
 	reqOK                  bool
 }
@@ -95,34 +109,158 @@ func (e *engine) wFromHum(form int, t, hum dv) (w dv, supersat, ok bool) {
 	return dv{}, false, false
 }
 
-// leavingW is the coil leaving humidity ratio by the assumed-RH rule: the
-// coil condenses only when it cools below the entering dew point, and never
-// adds moisture.
-func (e *engine) leavingW(t, wIn dv) dv {
-	pwIn := pwFromW(wIn, e.p)
-	pws, ok := pwsD(t)
-	if !ok || pws.v >= pwIn.v { // at or above the entering dew point: dry coil
-		return wIn
+// mixMinDeltaK is the smallest outdoor-to-return temperature difference
+// from which the outdoor-air share is taken from the three temperatures:
+// with ±0.3 K sensors, 3 K gives the share to within about 0.15 (common
+// practice, no source).
+const mixMinDeltaK = 3
+
+// mixedW is the humidity ratio of the air entering the coil, mixed from
+// return and outdoor air: W = x W_oa + (1 - x) W_ra, x the outdoor air's
+// share of the dry-air mass. x comes from the three temperatures, x = (t_ma
+// - t_ra) / (t_oa - t_ra), when outdoor and return differ by mixMinDeltaK
+// or more; else from the outdoor airflow over the supply airflow; else the
+// mean share of the hour's steps where the temperatures told it (a damper
+// moves slowly); else the configured minimum share. The return humidity carries the entering
+// humidity sensor's uncertainty, the mixed-air temperature the share's.
+func (e *engine) mixedW(x *stepIn, tIn dv) (dv, bool) {
+	if math.IsNaN(x.tRet) || math.IsNaN(x.retHum) || math.IsNaN(x.tOut) || math.IsNaN(x.oaRH) {
+		return dv{}, false
 	}
-	return dmin(wIn, wFromPw(pws.scale(e.u.LeavingRH), e.p))
+	wRa, _, ok := e.wFromHum(e.retHum, cst(x.tRet), seed(x.retHum, sensHumIn))
+	if !ok {
+		return dv{}, false
+	}
+	wOa, _, ok := e.wFromHum(humRH, cst(x.tOut), cst(x.oaRH))
+	if !ok {
+		return dv{}, false
+	}
+	var share dv
+	switch d := x.tOut - x.tRet; {
+	case math.Abs(d) >= mixMinDeltaK:
+		share = tIn.addc(-x.tRet).scale(1 / d)
+		if share.v < 0 {
+			share = cst(0)
+		} else if share.v > 1 {
+			share = cst(1)
+		}
+	case !math.IsNaN(x.oaFlow) && x.flow > 0:
+		share = cst(math.Min(1, x.oaFlow/x.flow))
+	case !math.IsNaN(e.hourShare):
+		share = cst(e.hourShare)
+	case e.u.MinOutdoor > 0:
+		share = cst(e.u.MinOutdoor)
+	default:
+		return dv{}, false
+	}
+	return wOa.sub(wRa).mul(share).add(wRa), true
 }
 
-// tRequired returns the coil leaving temperature at which air at the
-// assumed leaving RH has humidity ratio w: p_ws(T) = p_w(w) / RH.
-func (e *engine) tRequired(w dv) dv {
+// leavingW is the coil leaving humidity ratio when no sensor measures it,
+// by the apparatus-dew-point / bypass-factor model of a cooling coil
+// (ASHRAE Handbook - Fundamentals, ch. 1 and HVAC Systems and Equipment,
+// cooling coils, memory): a share BF of the air passes the coil untouched,
+// the rest leaves saturated at the apparatus dew point ADP, so the leaving
+// dry bulb is t_lv = ADP + BF (t_in - ADP) and W_out = W_s(ADP) + BF (W_in -
+// W_s(ADP)) when W_s(ADP) < W_in, else W_in (the coil surface is above the
+// entering dew point: a dry coil). The rule is continuous: condensation
+// starts where the apparatus dew point reaches the entering dew point,
+// with no step. BF comes from the assumed leaving RH (see bypassFactor).
+func (e *engine) leavingW(tIn, t, wIn dv) dv {
+	if t.v >= tIn.v {
+		return wIn
+	}
+	bf := e.bf
+	adp := t.sub(tIn.scale(bf)).scale(1 / (1 - bf))
+	pws, ok := pwsD(adp)
+	if !ok || pws.v >= e.p {
+		return wIn
+	}
+	ws := wFromPw(pws, e.p)
+	if ws.v >= wIn.v {
+		return wIn
+	}
+	return wIn.sub(ws).scale(bf).add(ws)
+}
+
+// leavingWAt is the leaving humidity ratio of air at t and relative
+// humidity rh, never wetter than the entering air: the rule with a
+// measured leaving RH.
+func (e *engine) leavingWAt(t, wIn dv, rh float64) dv {
+	pws, ok := pwsD(t)
+	if !ok {
+		return wIn
+	}
+	return dmin(wIn, wFromPw(pws.scale(rh), e.p))
+}
+
+// Rating point from which the bypass factor follows: the entering air of
+// the AHRI unitary rating, 80 °F dry bulb / 67 °F wet bulb (memory), cooled
+// to 55 °F, a usual design leaving temperature (common practice, no source).
+const (
+	bfRefInC  = 26.6667
+	bfRefWbC  = 19.4444
+	bfRefOutC = 12.7778
+)
+
+// bypassFactor returns the bypass factor of a coil that leaves the rating
+// point's air at relative humidity rh: the line from the entering state
+// through the leaving state meets saturation at the apparatus dew point,
+// and BF = (t_lv - ADP) / (t_in - ADP). 1 % RH below saturation is about
+// 0.02 of BF; rh = 1 gives BF = 0.
+func bypassFactor(rh, p float64) float64 {
+	wIn, err := psychro.HumRatioFromWetBulb(bfRefInC, bfRefWbC, p)
+	if err != nil || rh >= 1 {
+		return 0
+	}
+	wOut := wAtRH(bfRefOutC, rh, p)
+	lo, hi := -20.0, bfRefOutC // ADP between; the line's W at ADP minus W_s(ADP) changes sign once
+	for i := 0; i < 60; i++ {
+		adp := (lo + hi) / 2
+		// the line E -> L extended to adp
+		wLine := wOut + (wOut-wIn)*(bfRefOutC-adp)/(bfRefInC-bfRefOutC)
+		if wLine > wAtRH(adp, 1, p) {
+			lo = adp // the line is still above saturation: the crossing is warmer
+		} else {
+			hi = adp
+		}
+	}
+	adp := (lo + hi) / 2
+	return (bfRefOutC - adp) / (bfRefInC - adp)
+}
+
+// tRequired returns the coil leaving temperature at which the coil leaves
+// air at humidity ratio w. With a measured leaving RH rh (a wet coil's
+// sensor), air at rh: p_ws(T) = p_w(w) / RH. Otherwise the bypass-factor
+// model in closed form: W_s(ADP) = (w - BF W_in) / (1 - BF), T = ADP + BF
+// (t_in - ADP).
+func (e *engine) tRequired(w, tIn, wIn dv, rh float64, measured bool) dv {
+	if !measured {
+		ws := w.sub(wIn.scale(e.bf)).scale(1 / (1 - e.bf))
+		if ws.v <= 0 {
+			return cst(math.Inf(-1))
+		}
+		adp := e.dewPointD(ws)
+		return adp.scale(1 - e.bf).add(tIn.scale(e.bf))
+	}
 	constant := w.g == [nSens]float64{}
-	if constant && e.reqOK && w.v == e.reqW {
+	if constant && e.reqOK && w.v == e.reqW && rh == e.reqRH {
 		return e.reqT // a fixed target: the same answer every step
 	}
-	r := e.tRequiredCalc(w)
+	r := e.dewPointD(pwToW(pwFromW(w, e.p).scale(1/rh), e.p))
 	if constant {
-		e.reqW, e.reqT, e.reqOK = w.v, r, true
+		e.reqW, e.reqRH, e.reqT, e.reqOK = w.v, rh, r, true
 	}
 	return r
 }
 
-func (e *engine) tRequiredCalc(w dv) dv {
-	pw := pwFromW(w, e.p).scale(1 / e.u.LeavingRH)
+// pwToW is W from a vapour pressure (the same as wFromPw; named for the
+// direction it is read in).
+func pwToW(pw dv, p float64) dv { return wFromPw(pw, p) }
+
+// dewPointD is the dew point of a dual humidity ratio.
+func (e *engine) dewPointD(w dv) dv {
+	pw := pwFromW(w, e.p)
 	t, err := psychro.DewPointFromVapPressure(pw.v)
 	if err != nil {
 		return cst(math.Inf(-1))
@@ -147,24 +285,46 @@ func condensateD(t dv) dv {
 // or the readings describe no possible air state.
 func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	u := e.u
-	if math.IsNaN(x.tIn) || math.IsNaN(x.humIn) || math.IsNaN(x.tLv) || math.IsNaN(x.tSup) || math.IsNaN(x.flow) {
+	if math.IsNaN(x.tIn) || (!e.mix && math.IsNaN(x.humIn)) || math.IsNaN(x.tLv) || math.IsNaN(x.tSup) || math.IsNaN(x.flow) {
 		return o, false
 	}
 	tIn, tLv, tSup := seed(x.tIn, sensTIn), seed(x.tLv, sensTLv), seed(x.tSup, sensTSup)
-	wIn, supersat, ok := e.wFromHum(e.humIn, tIn, seed(x.humIn, sensHumIn))
+	var wIn dv
+	var supersat bool
+	if e.mix {
+		wIn, ok = e.mixedW(x, tIn)
+	} else {
+		wIn, supersat, ok = e.wFromHum(e.humIn, tIn, seed(x.humIn, sensHumIn))
+	}
 	if !ok {
 		return o, false
 	}
 	o.wIn, o.enteringSupersat = wIn.v, supersat
 
-	// Leaving humidity: measured when a sensor reads, else the assumed-RH rule.
+	// Leaving humidity. Physics first: a coil leaving clearly above the
+	// entering dew point (by more than twice the sensors' combined
+	// uncertainty, so a coil wetted on part of its surface still counts)
+	// condenses nothing, whatever a leaving sensor reads. Otherwise a
+	// leaving sensor refines the wet coil; its noise is kept on both sides
+	// (clipping only the wet side would turn noise into water) and the
+	// hour's water is clipped at zero instead. Without a sensor, the
+	// assumed-RH rule.
 	var wOut dv
 	measured := false
+	sensorW := math.NaN()
+	o.rhLv = u.LeavingRH
+	dry := false
+	if e.lvHum != humNone && !math.IsNaN(x.lvHum) {
+		if td, err := psychro.DewPointFromHumRatio(wIn.v, e.p); err == nil && x.tLv > td+e.dryMarginK {
+			dry = true
+		}
+	}
 	if e.lvHum != humNone && !math.IsNaN(x.lvHum) {
 		if w, _, ok := e.wFromHum(e.lvHum, tLv, seed(x.lvHum, sensLvHum)); ok {
-			measured = true
 			// A leaving sensor that reads wetter than the entering air beyond
-			// its accuracy is a sensor finding, not a negative latent load.
+			// its accuracy while the coil cools is a sensor finding, not a
+			// negative latent load; with the coil off it is water the wet
+			// coil gives back to the air.
 			tol := 0.0
 			switch e.lvHum {
 			case humRH:
@@ -172,15 +332,24 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 			case humDewPoint:
 				tol = w.g[sensLvHum] * u.Accuracy.DewPointK
 			}
-			if w.v > wIn.v+tol {
-				o.moistureAdded = true
+			o.wetterOut = w.v > wIn.v+tol
+			sensorW = w.v
+			o.sensorW = w.v
+			if !dry {
+				measured = true
+				wOut = w
+				if w.v < wIn.v {
+					if pws, err := psychro.SatVapPressure(x.tLv); err == nil && pws > 0 {
+						o.rhLv = math.Max(0.5, math.Min(1, pwFromW(w, e.p).v/pws))
+					}
+				}
 			}
-			wOut = dmin(w, wIn)
 		}
 	}
 	if !measured {
-		wOut = e.leavingW(tLv, wIn)
+		wOut = e.leavingW(tIn, tLv, wIn)
 	}
+	o.measuredOut = measured
 	o.wOut = wOut.v
 
 	// Dry-air mass flow on the configured basis.
@@ -203,8 +372,12 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 
 	// Cooling coil.
 	hIn, hOut := hD(tIn, wIn), hD(tLv, wOut)
+	if !(x.tIn-x.tLv > u.Thresholds.CoilDeadbandK) && sensorW > wIn.v && m.v > 0 {
+		o.reevaporated = m.v * (sensorW - wIn.v)
+	}
 	if x.tIn-x.tLv > u.Thresholds.CoilDeadbandK && m.v > 0 {
 		o.coolOn = true
+		o.moistureAdded = o.wetterOut
 		o.water = m.mul(wIn.sub(wOut))
 		gross := m.mul(hIn.sub(hOut))
 		o.total = gross.sub(o.water.mul(condensateD(tLv)))
@@ -248,13 +421,20 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 			}
 			wSpace = wAtRH(ts, u.Target.RH, e.p)
 		}
-		wReq = cst(wSpace)
 		// The supply must be drier than the space limit by the moisture the
 		// space adds, seen as the space's W above the supply's when both
-		// are trended (space sensors are taken as exact).
+		// are trended (space sensors are taken as exact), else the
+		// configured or default gain (an assumption the hour is flagged for).
+		wReq = cst(wSpace - u.SpaceGain)
+		o.gainAssumed = true
 		if e.spaceHum != humNone && e.hasSpaceT && !math.IsNaN(x.spaceT) && !math.IsNaN(x.spaceHum) {
-			if ws, _, ok := e.wFromHum(e.spaceHum, cst(x.spaceT), cst(x.spaceHum)); ok && ws.v > wOut.v {
-				wReq = cst(wSpace - ws.v).add(wOut)
+			if ws, _, ok := e.wFromHum(e.spaceHum, cst(x.spaceT), cst(x.spaceHum)); ok {
+				// the observed gain, none when the space reads no wetter
+				wReq = cst(wSpace)
+				if ws.v > wOut.v {
+					wReq = cst(wSpace - ws.v).add(wOut)
+				}
+				o.gainAssumed = false
 			}
 		}
 		if wReq.v < 1e-5 {
@@ -265,19 +445,37 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	tReq := cst(math.Inf(1))
 	if wIn.v > wReq.v {
 		o.humidityNeed = true
-		tReq = e.tRequired(wReq)
+		tReq = e.tRequired(wReq, tIn, wIn, o.rhLv, measured)
 	}
 	o.tReq = tReq.v
+	// Too little dehumidification: the coil left air wetter than the target
+	// allows while the entering air needed drying. What meeting the target
+	// would have taken: cooling from the actual leaving state down to
+	// T_required (with the condensate), and, at the same supply
+	// temperature, the reheat for the extra cooling.
+	if o.humidityNeed && wOut.v > wReq.v && m.v > 0 {
+		o.shortfall = m.v * (wOut.v - wReq.v)
+		if x.tLv > tReq.v {
+			o.shortCool = math.Max(0, m.v*(h(x.tLv, wOut.v)-h(tReq.v, wReq.v))-o.shortfall*condensate(tReq.v))
+			o.shortReheat = m.v * cp(wReq.v) * (x.tLv - tReq.v)
+		}
+	}
 	tc := dmin(tIn, dmin(tSupEff, tReq))
 	o.tNeed = tc.v
 	wc := wIn
 	if tc.v < tIn.v {
-		wc = e.leavingW(tc, wIn)
+		if measured {
+			wc = e.leavingWAt(tc, wIn, o.rhLv)
+		} else {
+			wc = e.leavingW(tIn, tc, wIn)
+		}
 		mw := m.v * (wIn.v - wc.v)
 		o.coilNeeded = math.Max(0, m.v*(hIn.v-h(tc.v, wc.v))-mw*condensate(tc.v))
 	}
 	if o.reheatOn {
-		needed := dmax(cst(0), m.mul(cpD(wc)).mul(tSupEff.sub(tc)))
+		// Needed never exceeds what was delivered: a coil warmer than the
+		// target required left a shortfall, reported on its own.
+		needed := dmin(o.reheat, dmax(cst(0), m.mul(cpD(wc)).mul(tSupEff.sub(tc))))
 		o.reheatNeeded = needed.v
 		o.reheatAvoid = dmax(cst(0), o.reheat.sub(needed))
 	}

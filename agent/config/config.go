@@ -141,18 +141,33 @@ type Alerts struct {
 
 // AirHandler is one unit: its equipment facts, humidity target and point map.
 type AirHandler struct {
-	ID        string                      `yaml:"id"`
-	Name      string                      `yaml:"name"`
-	Cooling   Cooling                     `yaml:"cooling"`
-	Reheat    Reheat                      `yaml:"reheat"`
-	Airflow   Airflow                     `yaml:"airflow"`
-	Fan       Fan                         `yaml:"fan"`
-	LeavingRH string                      `yaml:"leaving_rh"` // assumed coil leaving RH when not measured, default 95%
-	Target    Target                      `yaml:"target"`
-	Points    map[string]metrics.PointRef `yaml:"points"`
+	ID        string  `yaml:"id"`
+	Name      string  `yaml:"name"`
+	Cooling   Cooling `yaml:"cooling"`
+	Reheat    Reheat  `yaml:"reheat"`
+	Airflow   Airflow `yaml:"airflow"`
+	Fan       Fan     `yaml:"fan"`
+	LeavingRH string  `yaml:"leaving_rh"` // assumed coil leaving RH when not measured, default 95%
+	// OutdoorAir is the outdoor-air share used when the entering state is
+	// mixed from return and outdoor air and the temperatures are too close
+	// to tell it.
+	OutdoorAir OutdoorAir `yaml:"outdoor_air"`
+	// SpaceMoistureGain is what the space adds to the supply air's humidity
+	// ratio, for a space target without space humidity sensors, e.g.
+	// 0.8g/kg (default metrics.DefaultSpaceGain).
+	SpaceMoistureGain string                      `yaml:"space_moisture_gain"`
+	Target            Target                      `yaml:"target"`
+	Points            map[string]metrics.PointRef `yaml:"points"`
 
 	// Resolved by Parse.
-	LeavingRHFrac float64 `yaml:"-"`
+	LeavingRHFrac  float64 `yaml:"-"`
+	MinOutdoorFrac float64 `yaml:"-"`
+	SpaceGainKgKg  float64 `yaml:"-"`
+}
+
+// OutdoorAir describes the outdoor air the mixing box takes in.
+type OutdoorAir struct {
+	MinFraction string `yaml:"min_fraction"` // outdoor-air share of the supply at minimum position, e.g. 20%
 }
 
 // Cooling describes the cooling source.

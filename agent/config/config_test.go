@@ -86,6 +86,14 @@ func TestLoadConfig_Bad(t *testing.T) {
 			`:31: air_handlers[1].target.max_space_rh: 300% is outside 20..90 %`,
 			`:31: air_handlers[1].target.space_temp: -400C is outside 10..35 °C (50..95 °F)`,
 		}},
+		{"mixing.bad.yaml", []string{
+			`:12: air_handlers[0].points.entering_rh: entering_rh "AHU-1 Return RH" reads like a return RH, but entering_temp "AHU-1 Mixed Air Temp" is the mixed air`,
+			`map it as return_rh (or space_rh) instead`,
+			`:24: air_handlers[1].points.entering_rh: entering_rh is the space_rh point "H2"`,
+			`air_handlers[2].points: mixing return and outdoor air needs the outdoor-air share`,
+			`set outdoor_air.min_fraction (e.g. 20%) or map outdoor_flow`,
+			`air_handlers[3].outdoor_air.min_fraction: 150% is outside 0-100 %`,
+		}},
 	}
 	for _, tt := range tests {
 		t.Run(tt.file, func(t *testing.T) {

@@ -214,7 +214,7 @@ var configTypes = map[string]reflect.Type{
 	"config.Fan": reflect.TypeOf(Fan{}), "config.Target": reflect.TypeOf(Target{}),
 	"config.Sensors": reflect.TypeOf(Sensors{}), "config.Alerts": reflect.TypeOf(Alerts{}),
 	"config.Exports": reflect.TypeOf(Exports{}), "config.Schedule": reflect.TypeOf(Schedule{}), "config.HTTP": reflect.TypeOf(HTTP{}), "config.Webhook": reflect.TypeOf(Webhook{}),
-	"metrics.PointRef": reflect.TypeOf(metrics.PointRef{}),
+	"metrics.PointRef": reflect.TypeOf(metrics.PointRef{}), "config.OutdoorAir": reflect.TypeOf(OutdoorAir{}),
 }
 
 func keysOf(typ string) []string {

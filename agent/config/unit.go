@@ -18,6 +18,8 @@ func (c *Config) Unit(a *AirHandler) *metrics.Unit {
 		ID:         a.ID,
 		PressurePa: c.PressurePa,
 		LeavingRH:  a.LeavingRHFrac,
+		MinOutdoor: a.MinOutdoorFrac,
+		SpaceGain:  a.SpaceGainKgKg,
 		FanRiseK:   a.FanHeatRiseK(),
 		Prices: metrics.Prices{
 			ElectricityPerKWh:      c.Prices.ElectricityPerKWh,
@@ -142,4 +144,21 @@ func (c *Config) RuleParams() metrics.RuleParams {
 	p.ElectricityPrice = c.Prices.ElectricityPerKWh
 	p.IP = c.Site.Units == "ip"
 	return p
+}
+
+// EnteringAir says in a sentence how the engine gets the state of the air
+// entering the coil of air handler a, for "dewline check".
+func (a *AirHandler) EnteringAir() string {
+	has := func(r metrics.Role) bool { _, ok := a.Points[string(r)]; return ok }
+	switch {
+	case has(metrics.RoleEnteringRH):
+		return "entering air: mixed-air temperature with its own RH (each RH sample taken at the temperature of its instant)"
+	case has(metrics.RoleEnteringDewPoint):
+		return "entering air: mixed-air temperature with its own dew point"
+	}
+	share := "the configured minimum outdoor-air share " + a.OutdoorAir.MinFraction
+	if has(metrics.RoleOutdoorFlow) {
+		share = "outdoor_flow / supply_flow"
+	}
+	return "entering air: return and outdoor air mixed (W = x W_oa + (1 - x) W_ra); the outdoor-air share x from the mixed, return and outdoor temperatures when outdoor and return differ by 3 K or more, else the hour's own share from such steps, else " + share
 }

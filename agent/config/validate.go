@@ -295,11 +295,7 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 			v.bad(pp, fmt.Sprintf("required role %s is not mapped", r), "map it to the trend point that measures it")
 		}
 	}
-	_, rh := a.Points[string(metrics.RoleEnteringRH)]
-	_, dp := a.Points[string(metrics.RoleEnteringDewPoint)]
-	if !rh && !dp {
-		v.bad(pp, "entering humidity is not mapped", "map entering_rh or entering_dewpoint (a return or mixed-air RH sensor)")
-	}
+	a.validateEntering(v, p)
 
 	// Cooling source.
 	cp := at(p, "cooling")
@@ -380,6 +376,18 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 	if a.Fan.HeatRise != "" {
 		if u, ok := temperatureDelta(a.Fan.HeatRise); !ok || u < 0 || u > 5 {
 			v.bad(at(fp, "heat_rise"), fmt.Sprintf("%q is not a temperature rise of 0-5 K", a.Fan.HeatRise), "write it as 0.6K or 1F")
+		}
+	}
+
+	// Space moisture gain.
+	a.SpaceGainKgKg = metrics.DefaultSpaceGain
+	if a.SpaceMoistureGain != "" {
+		if x, ok := v.quantity(at(p, "space_moisture_gain"), a.SpaceMoistureGain, psychro.KindHumRatio); ok {
+			if x < 0 || x > 0.005 {
+				v.bad(at(p, "space_moisture_gain"), fmt.Sprintf("%s is outside 0-5 g/kg", a.SpaceMoistureGain), "an office adds about 0.5-1.5 g/kg to its supply air")
+			} else {
+				a.SpaceGainKgKg = x
+			}
 		}
 	}
 
@@ -534,9 +542,72 @@ func (c *Config) validateSchedule(v *validator) {
 
 // sameSensorAllowed: a unit without reheat often has one discharge sensor,
 // which is both the coil leaving and the supply temperature.
+// validateEntering checks that the air entering the coil is one state: a
+// humidity measured in the mixed air, or return and outdoor air that
+// dewline mixes. An RH from one place paired with a temperature from
+// another is refused.
+func (a *AirHandler) validateEntering(v *validator, p []any) {
+	pp := at(p, "points")
+	has := func(r metrics.Role) bool { _, ok := a.Points[string(r)]; return ok }
+	rh, dp := has(metrics.RoleEnteringRH), has(metrics.RoleEnteringDewPoint)
+	mix := has(metrics.RoleReturnTemp) && (has(metrics.RoleReturnRH) || has(metrics.RoleReturnDewPoint)) &&
+		has(metrics.RoleOutdoorTemp) && has(metrics.RoleOutdoorRH)
+	const mixFix = "map return_temp with return_rh (or return_dewpoint) and outdoor_temp with outdoor_rh, and dewline mixes them with the outdoor-air share from the mixed-air temperature"
+	switch {
+	case !rh && !dp && !mix:
+		v.bad(pp, "entering humidity is not mapped", "map entering_rh or entering_dewpoint if a sensor measures the mixed air; otherwise "+mixFix)
+	case !rh && !dp:
+		if x := a.OutdoorAir.MinFraction; x != "" {
+			if f, ok := v.quantity(at(p, "outdoor_air", "min_fraction"), x, psychro.KindFraction); ok {
+				if f <= 0 || f > 1 {
+					v.bad(at(p, "outdoor_air", "min_fraction"), fmt.Sprintf("%s is outside 0-100 %%", x), "give the outdoor-air share at minimum position, e.g. 20%")
+				} else {
+					a.MinOutdoorFrac = f
+				}
+			}
+		} else if !has(metrics.RoleOutdoorFlow) {
+			v.bad(pp, "mixing return and outdoor air needs the outdoor-air share for hours when their temperatures are too close to tell it",
+				"set outdoor_air.min_fraction (e.g. 20%) or map outdoor_flow")
+		}
+	}
+	if rh {
+		ref := a.Points[string(metrics.RoleEnteringRH)]
+		for _, other := range []metrics.Role{metrics.RoleReturnRH, metrics.RoleSpaceRH} {
+			if o, ok := a.Points[string(other)]; ok && o.Name() == ref.Name() {
+				v.bad(at(pp, string(metrics.RoleEnteringRH)), fmt.Sprintf("entering_rh is the %s point %q: an RH belongs to the temperature of its own air, and the entering air is the mixed air", other, ref.Name()),
+					"remove entering_rh and "+mixFix)
+			}
+		}
+		if t, ok := a.Points[string(metrics.RoleEnteringTemp)]; ok {
+			if w := placeWord(ref.Name()); w != "" && placeWord(t.Name()) != w {
+				v.bad(at(pp, string(metrics.RoleEnteringRH)), fmt.Sprintf("entering_rh %q reads like a %s RH, but entering_temp %q is the mixed air: the two are not one state (in humid weather that is wrong by about a third)", ref.Name(), w, t.Name()),
+					"map it as return_rh (or space_rh) instead and "+mixFix)
+			}
+		}
+	}
+}
+
+// placeWord returns the place a point name says it measures ("return",
+// "space") when it names one other than the mixed air.
+func placeWord(name string) string {
+	for _, f := range strings.FieldsFunc(strings.ToLower(name), func(r rune) bool {
+		return (r < 'a' || r > 'z') && (r < '0' || r > '9')
+	}) {
+		switch f {
+		case "return", "ra", "rat", "rarh", "retrh":
+			return "return"
+		case "space", "zone", "room", "stack":
+			return "space"
+		}
+	}
+	return ""
+}
+
 func sameSensorAllowed(a, b string) bool {
 	pair := map[string]bool{a: true, b: true}
-	return pair[string(metrics.RoleLeavingTemp)] && pair[string(metrics.RoleSupplyTemp)]
+	return pair[string(metrics.RoleLeavingTemp)] && pair[string(metrics.RoleSupplyTemp)] ||
+		pair[string(metrics.RoleReturnTemp)] && pair[string(metrics.RoleSpaceTemp)] ||
+		pair[string(metrics.RoleReturnRH)] && pair[string(metrics.RoleSpaceRH)]
 }
 
 func (c *Config) validateExports(v *validator) {

@@ -196,13 +196,17 @@ var servedURL = regexp.MustCompile(`dashboard: (http://\S+?)/ `)
 
 // serveDash runs "dewline serve --config cfg --listen 127.0.0.1:0" in
 // process until the test ends and returns its base URL (no trailing /).
-func serveDash(t *testing.T, cfg string) string {
+func serveDash(t *testing.T, cfg string, more ...string) string {
 	t.Helper()
+	args := []string{"--log-level", "warn", "serve", "--config", cfg, "--listen", "127.0.0.1:0"}
+	for _, c := range more {
+		args = append(args, "--config", c)
+	}
 	ctx, cancel := context.WithCancel(context.Background())
 	var stdout, stderr testkit.SyncBuffer
 	done := make(chan int, 1)
 	go func() {
-		done <- run(ctx, []string{"--log-level", "warn", "serve", "--config", cfg, "--listen", "127.0.0.1:0"}, &stdout, &stderr)
+		done <- run(ctx, args, &stdout, &stderr)
 	}()
 	t.Cleanup(func() {
 		cancel()

@@ -50,11 +50,16 @@ func TestDemo_EndToEnd(t *testing.T) {
 	out := stdout.String()
 	t.Log(out)
 	// The summary is ranked by avoidable cost: the unit whose reheat runs
-	// at night on dry air first, the dew-point-controlled unit last.
+	// at night on dry air first, one of the two units whose coil follows
+	// a dew point (AHU-1 on the space's, the laboratory's AHU-4 on the
+	// outdoor's) last: which of them wastes less is within the coil
+	// model's uncertainty (the demo's coils leave at a fixed RH, the
+	// engine's follows a bypass factor).
 	lines := summaryLines(out)
 	require.Len(t, lines, 5, out)
 	assert.True(t, strings.HasPrefix(strings.TrimSpace(lines[0]), "AHU-3"), lines[0])
-	assert.True(t, strings.HasPrefix(strings.TrimSpace(lines[4]), "AHU-1"), lines[4])
+	last := strings.Fields(lines[4])[0]
+	assert.Contains(t, []string{"AHU-1", "AHU-4"}, last, lines[4])
 	assert.Contains(t, out, "report: ")
 	info, err := os.Stat(filepath.Join(dir, "report.html"))
 	require.NoError(t, err)

@@ -27,6 +27,7 @@ import (
 	"github.com/dewline/dewline/deploy/demo"
 	"github.com/dewline/dewline/deploy/grafana"
 	"github.com/dewline/dewline/deploy/testkit"
+	"github.com/dewline/dewline/ingest/influx"
 )
 
 // TestGrafana_QueriesMatchAPI: the demo's results written to the real
@@ -54,11 +55,19 @@ func TestGrafana_QueriesMatchAPI(t *testing.T) {
 	}
 	code, _, errOut := runCLI(t, args...)
 	require.Equal(t, 0, code, errOut)
-	// The same analysis into the embedded store, for dewline's API: over
-	// InfluxDB 1.8 the API's reads include the hour at the period's end
-	// (range() includes its stop there), over the embedded store they do
-	// not, and TestInflux_DashboardMatchesEmbedded holds the stores' figures
-	// equal otherwise.
+	// A second site with the same air-handler ids and the same figures in
+	// the same bucket: a query that did not filter on the site would count
+	// every hour twice.
+	other := strings.Replace(text, "site:\n", "site:\n  id: other-site\n", 1)
+	require.NotEqual(t, text, other, "the demo's site section")
+	otherPath := filepath.Join(dir, "influx-other.yaml")
+	require.NoError(t, os.WriteFile(otherPath, []byte(other), 0o600))
+	args[4] = otherPath
+	code, _, errOut = runCLI(t, args...)
+	require.Equal(t, 0, code, errOut)
+	// The same analysis into the embedded store, for dewline's API (an
+	// independent read path; TestInflux_DashboardMatchesEmbedded holds the
+	// two stores' figures equal).
 	args[4] = sc.ConfigPath
 	code, _, errOut = runCLI(t, args...)
 	require.Equal(t, 0, code, errOut)
@@ -102,7 +111,7 @@ func TestGrafana_QueriesMatchAPI(t *testing.T) {
 	}
 	api("/api/v1/alerts?period=custom&from=2026-10-01&to=2026-12-31", &all)
 
-	g := &grafanaRun{t: t, base: base, db: db, from: from, to: to.Add(-time.Millisecond)}
+	g := &grafanaRun{t: t, base: base, db: db, site: influx.SiteTag(cfg.Site.ID), from: from, to: to.Add(-time.Millisecond)}
 	tested := 0
 	for _, f := range grafana.Flavours {
 		for _, name := range grafana.Names {
@@ -206,6 +215,7 @@ func TestGrafana_QueriesMatchAPI(t *testing.T) {
 type grafanaRun struct {
 	t        *testing.T
 	base, db string
+	site     string // the dashboards' site variable
 	from, to time.Time
 }
 
@@ -236,10 +246,11 @@ func (g *grafanaRun) run(f grafana.Flavour, query, ahu string) []qrow {
 			"$timeFilter", fmt.Sprintf("time >= %dms and time <= %dms", g.from.UnixMilli(), g.to.UnixMilli()),
 			"${__to}", strconv.FormatInt(g.to.UnixMilli(), 10),
 			"${ahu:regex}", re,
+			"${site:regex}", regexp.QuoteMeta(g.site),
 		).Replace(query)
 		return g.influxQL(query)
 	}
-	query = strings.NewReplacer("${bucket}", g.db+"/autogen", "${ahu:regex}", re).Replace(query)
+	query = strings.NewReplacer("${bucket}", g.db+"/autogen", "${ahu:regex}", re, "${site:regex}", regexp.QuoteMeta(g.site)).Replace(query)
 	vars := fmt.Sprintf("v = {timeRangeStart: %s, timeRangeStop: %s, windowPeriod: 1h}\n",
 		g.from.UTC().Format(time.RFC3339Nano), g.to.UTC().Format(time.RFC3339Nano))
 	var imports, rest []string

@@ -43,6 +43,7 @@ var commands = map[string]command{
 	"serve":   {"serve the dashboard over the stored results (read-only)", runServe},
 	"demo":    {"generate an invented building's trend logs, analyse them, write the report and serve the dashboard", runDemo},
 	"report":  {"write a self-contained HTML report (and with --pdf a PDF) of a period's findings, measures and method", runReport},
+	"adopt":   {"after an upgrade: copy InfluxDB results written without the site tag into the configured site", runAdopt},
 	"compare": {"what a sequence change saved: a baseline model of the before period against the after period", runCompare},
 }
 

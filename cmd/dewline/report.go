@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"math"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"time"
 
@@ -23,7 +24,8 @@ const reportDays = 30
 
 func runReport(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("report", flag.ContinueOnError)
-	cfgPath := fs.String("config", "", "configuration file (required)")
+	var cfgPaths stringList
+	fs.Var(&cfgPaths, "config", "configuration file, or a folder of them; several sites make a portfolio report: -o is its summary, each site's report is written beside it (required)")
 	fromS := fs.String("from", "", "start of the period: a day (2026-07-01) or a time; default: 30 days before --to")
 	toS := fs.String("to", "", "end of the period: the last day, included (2026-07-31), or a time, excluded; default: the last day with results")
 	var out string
@@ -56,86 +58,21 @@ func runReport(ctx context.Context, e *env, args []string) error {
 	if *pdfOut != "" {
 		*wantPDF = true
 	}
-	cfg, err := loadConfig(*cfgPath)
+	paths, err := configPaths(cfgPaths)
 	if err != nil {
 		return err
 	}
-	inputs := []string{*cfgPath, cfg.StorePath(), cfg.StatePath()}
-	if err := outfile.RefuseInputs("-o", out, inputs...); err != nil {
-		return usagef("%v", err)
-	}
-	if err := outfile.RefuseInputs("--pdf-out", *pdfOut, append(inputs, out)...); err != nil {
-		return usagef("%v", err)
-	}
-	loc := cfg.Location
-	var from, to time.Time
-	if *fromS != "" {
-		if from, err = parseFrom("--from", *fromS, loc); err != nil {
-			return err
+	rf := reportFlags{from: *fromS, to: *toS, units: *units, paper: *paper, out: out, pdfOut: *pdfOut}
+	if len(paths) > 1 {
+		if *wantPDF {
+			return usagef("--pdf takes one site; print each site's report on its own")
 		}
+		rf.portfolio = true
+		return writePortfolioReport(ctx, e, paths, out, rf)
 	}
-	if *toS != "" {
-		if to, _, err = parseTo("--to", *toS, loc); err != nil {
-			return err
-		}
-	}
-
-	st, err := openStore(ctx, cfg, true, e.log)
+	cfgPath := &paths[0]
+	rep, period, site, log, err := buildSiteReport(ctx, e, *cfgPath, rf)
 	if err != nil {
-		return err
-	}
-	defer st.Close()
-	res := st.results(time.Now)
-	if from.IsZero() || to.IsZero() {
-		first, last, ok, err := res.Span(ctx)
-		if err != nil {
-			return fmt.Errorf("read the span of the stored results: %w", err)
-		}
-		if !ok {
-			return fmt.Errorf("the store holds no results yet: run \"dewline analyze\" or the agent first, or check store: in %s", *cfgPath)
-		}
-		if to.IsZero() {
-			to = localMidnight(last.In(loc)).AddDate(0, 0, 1)
-		}
-		if from.IsZero() {
-			from = to.AddDate(0, 0, -reportDays)
-			if f := localMidnight(first.In(loc)); *toS == "" && f.After(from) && f.Before(to) {
-				from = f // the last 30 days with results, not days before the first
-			}
-		}
-	}
-	if !to.After(from) {
-		return usagef("--to must be after --from")
-	}
-	if to.Sub(from) > 400*24*time.Hour {
-		return usagef("--from %s to --to %s is longer than 400 days: choose a shorter period", from.Format(time.DateOnly), to.Format(time.DateOnly))
-	}
-	period := dashboards.PeriodBetween(from, to, loc)
-
-	site := siteFor(cfg)
-	if site.Name == "" {
-		site.Name = cfg.Site.ID
-	}
-	display := dashboards.DisplayFor(*units, site.IP)
-	log := e.log.With().Str("from", from.UTC().Format(time.RFC3339)).Str("to", to.UTC().Format(time.RFC3339)).Logger()
-	log.Info().Int("ahus", len(site.Units)).Str("units", display.Name()).Msg("report: reading results")
-	prog := newProgress("report", log)
-	opt := dashboards.ReportOptions{
-		Display:   display,
-		Generated: time.Now(),
-		Paper:     *paper,
-		Source:    st.Describe(),
-		Trended:   cfg.TrendedRoles(),
-		Notes:     reportNotes(cfg),
-		Progress:  prog.update,
-	}
-	rep, err := dashboards.BuildReport(ctx, site, res, period, opt)
-	if err != nil {
-		return fmt.Errorf("build the report: %w", err)
-	}
-	// A period without results is not a clean bill of health: refuse it,
-	// as compare does, and warn when results cover only part of it.
-	if err := reportCoverage(ctx, res, rep.Overview.Total.Hours, len(site.Units), period, log); err != nil {
 		return err
 	}
 	n, err := outfile.Write(out, func(w *bufio.Writer) error { return rep.WriteHTML(w) })
@@ -168,6 +105,106 @@ func runReport(ctx context.Context, e *env, args []string) error {
 	log.Info().Str("path", dst).Int("pages", pages).Msg("report printed to PDF")
 	fmt.Fprintln(e.stdout, dst)
 	return nil
+}
+
+// reportFlags are report's flags that apply to each site, and the output
+// files, which may name none of a site's inputs.
+type reportFlags struct {
+	from, to, units, paper, out, pdfOut string
+	portfolio                           bool // one of several sites: a site without results is warned about, not refused
+}
+
+// buildSiteReport reads one site's results for the period its flags name
+// (in the site's zone) and computes its report.
+func buildSiteReport(ctx context.Context, e *env, cfgPath string, rf reportFlags) (rep *dashboards.Report, period dashboards.Period, site *dashboards.Site, log zerolog.Logger, err error) {
+	log = e.log
+	cfg, err := loadConfig(cfgPath)
+	if err != nil {
+		return nil, period, nil, log, err
+	}
+	inputs := []string{cfgPath, cfg.StorePath(), cfg.StatePath()}
+	if err := outfile.RefuseInputs("-o", rf.out, inputs...); err != nil {
+		return nil, period, nil, log, usagef("%v", err)
+	}
+	if err := outfile.RefuseInputs("--pdf-out", rf.pdfOut, append(inputs, rf.out)...); err != nil {
+		return nil, period, nil, log, usagef("%v", err)
+	}
+	loc := cfg.Location
+	var from, to time.Time
+	if rf.from != "" {
+		if from, err = parseFrom("--from", rf.from, loc); err != nil {
+			return nil, period, nil, log, err
+		}
+	}
+	if rf.to != "" {
+		if to, _, err = parseTo("--to", rf.to, loc); err != nil {
+			return nil, period, nil, log, err
+		}
+	}
+
+	st, err := openStore(ctx, cfg, true, e.log)
+	if err != nil {
+		return nil, period, nil, log, err
+	}
+	defer st.Close()
+	res := st.results(time.Now)
+	if from.IsZero() || to.IsZero() {
+		first, last, ok, err := res.Span(ctx)
+		if err != nil {
+			return nil, period, nil, log, fmt.Errorf("read the span of the stored results: %w", err)
+		}
+		if !ok {
+			return nil, period, nil, log, fmt.Errorf("the store holds no results yet: run \"dewline analyze\" or the agent first, or check store: in %s", cfgPath)
+		}
+		if to.IsZero() {
+			to = localMidnight(last.In(loc)).AddDate(0, 0, 1)
+		}
+		if from.IsZero() {
+			from = to.AddDate(0, 0, -reportDays)
+			if f := localMidnight(first.In(loc)); rf.to == "" && f.After(from) && f.Before(to) {
+				from = f // the last 30 days with results, not days before the first
+			}
+		}
+	}
+	if !to.After(from) {
+		return nil, period, nil, log, usagef("--to must be after --from")
+	}
+	if to.Sub(from) > 400*24*time.Hour {
+		return nil, period, nil, log, usagef("--from %s to --to %s is longer than 400 days: choose a shorter period", from.Format(time.DateOnly), to.Format(time.DateOnly))
+	}
+	period = dashboards.PeriodBetween(from, to, loc)
+
+	site = siteFor(cfg)
+	if site.Name == "" {
+		site.Name = cfg.Site.ID
+	}
+	display := dashboards.DisplayFor(rf.units, site.IP)
+	log = e.log.With().Str("from", from.UTC().Format(time.RFC3339)).Str("to", to.UTC().Format(time.RFC3339)).Logger()
+	log.Info().Int("ahus", len(site.Units)).Str("units", display.Name()).Msg("report: reading results")
+	prog := newProgress("report", log)
+	opt := dashboards.ReportOptions{
+		Display:   display,
+		Generated: time.Now(),
+		Paper:     rf.paper,
+		Source:    st.Describe(),
+		Trended:   cfg.TrendedRoles(),
+		Notes:     reportNotes(cfg),
+		Progress:  prog.update,
+	}
+	rep, err = dashboards.BuildReport(ctx, site, res, period, opt)
+	if err != nil {
+		return nil, period, nil, log, fmt.Errorf("build the report: %w", err)
+	}
+	// A period without results is not a clean bill of health: refuse it,
+	// as compare does, and warn when results cover only part of it.
+	if err := reportCoverage(ctx, res, rep.Overview.Total.Hours, len(site.Units), period, log); err != nil {
+		if !rf.portfolio {
+			return nil, period, nil, log, fmt.Errorf("%s: %w", cfgPath, err)
+		}
+		// In a portfolio the other sites still report; this one is named.
+		log.Warn().Str("site", cfg.Site.ID).Msg(err.Error())
+	}
+	return rep, period, site, log, nil
 }
 
 // reportMinShare is the share of a period's air handler-hours with results
@@ -221,4 +258,41 @@ func fmtStep(d time.Duration) string {
 		return fmt.Sprintf("%d min", d/time.Minute)
 	}
 	return d.String()
+}
+
+// fileSafe matches what a site id may not put in a file name.
+var fileSafe = regexp.MustCompile(`[^A-Za-z0-9._-]+`)
+
+// writePortfolioReport writes each site's report beside out (its name with
+// the site id) and the portfolio summary at out.
+func writePortfolioReport(ctx context.Context, e *env, paths []string, out string, rf reportFlags) error {
+	stem := strings.TrimSuffix(out, filepath.Ext(out))
+	var sites []dashboards.PortfolioReportSite
+	seen := map[string]string{}
+	for _, p := range paths {
+		rep, _, site, log, err := buildSiteReport(ctx, e, p, rf)
+		if err != nil {
+			return fmt.Errorf("%s: %w", p, err)
+		}
+		site.ID = siteLabel(site.ID)
+		if prev, ok := seen[site.ID]; ok {
+			return fmt.Errorf("%s and %s are both site %q: give each site its own site.id", prev, p, site.ID)
+		}
+		seen[site.ID] = p
+		file := stem + "-" + fileSafe.ReplaceAllString(site.ID, "_") + ".html"
+		n, err := outfile.Write(file, func(w *bufio.Writer) error { return rep.WriteHTML(w) })
+		if err != nil {
+			return err
+		}
+		log.Info().Str("path", file).Int64("bytes", n).Msg("site report written")
+		fmt.Fprintln(e.stdout, file)
+		sites = append(sites, dashboards.PortfolioReportSite{Report: rep, Href: filepath.Base(file)})
+	}
+	if _, err := outfile.Write(out, func(w *bufio.Writer) error {
+		return dashboards.WritePortfolioReport(w, sites, time.Now())
+	}); err != nil {
+		return err
+	}
+	fmt.Fprintln(e.stdout, out)
+	return nil
 }

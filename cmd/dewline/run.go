@@ -5,6 +5,10 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
 	"time"
 
 	"github.com/dewline/dewline/agent"
@@ -23,36 +27,29 @@ import (
 
 func runRun(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("run", flag.ContinueOnError)
-	cfgPath := fs.String("config", "", "configuration file (required)")
+	var cfgPaths stringList
+	fs.Var(&cfgPaths, "config", "configuration file, or a folder of them (*.yaml, *.yml); repeatable with --once or --dry-run, for several sites (required)")
 	once := fs.Bool("once", false, "compute the pending hours and exit")
 	dry := fs.Bool("dry-run", false, "print what would be written (InfluxDB line protocol) and write nothing; implies --once")
-	shardS := fs.String("shard", "", "take only this replica's share of the air handlers, i/n (0 <= i < n), or a StatefulSet pod name and n, e.g. dewline-2/3")
+	shardS := fs.String("shard", "", "take only this replica's share of the air handlers (of all the sites given), i/n (0 <= i < n), or a StatefulSet pod name and n, e.g. dewline-2/3")
 	grace := fs.Duration("grace", 30*time.Second, "on shutdown, how long the run in flight may take to finish")
 	asOf := fs.String("as-of", "", "with --once or --dry-run: compute as if the time were T (site time or RFC 3339), to re-run a past day")
 	fs.Usage = func() {
-		fmt.Fprintln(fs.Output(), "usage: dewline run --config FILE [--once | --dry-run [--as-of T]] [--shard i/n] [--grace 30s]")
+		fmt.Fprintln(fs.Output(), "usage: dewline run --config FILE|FOLDER ... [--once | --dry-run [--as-of T]] [--shard i/n] [--grace 30s]")
 		fs.PrintDefaults()
 	}
 	if err := parseFlags(fs, args, e.stdout); err != nil {
 		return err
 	}
-	if *cfgPath == "" {
-		return usagef("--config is required")
-	}
-	// An air handler whose configuration is broken is left out and
-	// reported; the others run.
-	cfg, broken, err := config.LoadPartial(*cfgPath)
+	paths, err := configPaths(cfgPaths)
 	if err != nil {
 		return err
 	}
-	// Every secret the configuration names is looked up now, also for
-	// --once, which needs none of the agent's: a missing one fails here,
-	// not after the long-running agent has started its endpoint.
-	if err := cfg.CheckSecrets(); err != nil {
-		if !*dry {
-			return fmt.Errorf("%w (\"dewline check --config %s\" lists every setting)", err, *cfgPath)
-		}
-		e.log.Warn().Err(err).Msg("dry run: a secret the agent needs is missing")
+	if len(paths) > 1 && !*once && !*dry {
+		return usagef("several sites (%d configurations) go with --once or --dry-run; the long-running agent takes one site: start one per site, or run \"dewline run --once\" on the schedule", len(paths))
+	}
+	if *asOf != "" && !*once && !*dry {
+		return usagef("--as-of goes with --once or --dry-run")
 	}
 	var shard agent.Shard
 	if *shardS != "" {
@@ -60,14 +57,81 @@ func runRun(ctx context.Context, e *env, args []string) error {
 			return err
 		}
 	}
+	// Every site's configuration is read before any runs, so that one
+	// broken file stops nothing half way.
+	type site struct {
+		path   string
+		cfg    *config.Config
+		broken map[string]*config.ConfigError
+		owned  []string
+	}
+	var sites []site
+	seen := map[string]string{}
+	total := 0
+	for _, p := range paths {
+		cfg, broken, err := config.LoadPartial(p)
+		if err != nil {
+			return err
+		}
+		if prev, ok := seen[cfg.Site.ID]; ok {
+			return fmt.Errorf("%s and %s are both site %q: give each site its own site.id", prev, p, cfg.Site.ID)
+		}
+		seen[cfg.Site.ID] = p
+		// Every secret the configuration names is looked up now, also for
+		// --once, which needs none of the agent's: a missing one fails
+		// here, not after the long-running agent has started its endpoint.
+		if err := cfg.CheckSecrets(); err != nil {
+			if !*dry {
+				return fmt.Errorf("%s: %w (\"dewline check --config %s\" lists every setting)", p, err, p)
+			}
+			e.log.Warn().Err(err).Str("site", cfg.Site.ID).Msg("dry run: a secret the agent needs is missing")
+		}
+		owned := shard.Owned(cfg)
+		total += len(owned)
+		sites = append(sites, site{path: p, cfg: cfg, broken: broken, owned: owned})
+	}
+	if total == 0 {
+		return fmt.Errorf("shard %s: %w", *shardS, agent.ErrNothingOwned)
+	}
+	if len(sites) == 1 {
+		return runSite(ctx, e, sites[0].cfg, sites[0].broken, sites[0].owned, runFlags{once: *once, dry: *dry, asOf: *asOf, shard: *shardS, grace: *grace}, "")
+	}
+	var failed []string
+	for _, s := range sites {
+		if len(s.owned) == 0 {
+			fmt.Fprintf(e.stdout, "%s: no air handler in this shard\n", siteLabel(s.cfg.Site.ID))
+			continue
+		}
+		err := runSite(ctx, e, s.cfg, s.broken, s.owned, runFlags{once: *once, dry: *dry, asOf: *asOf, shard: *shardS, grace: *grace}, siteLabel(s.cfg.Site.ID)+" ")
+		if err != nil {
+			if ctx.Err() != nil {
+				return err
+			}
+			e.log.Error().Err(err).Str("site", s.cfg.Site.ID).Msg("site failed")
+			failed = append(failed, siteLabel(s.cfg.Site.ID))
+		}
+	}
+	if len(failed) > 0 {
+		return fmt.Errorf("%d site(s) failed: %s", len(failed), strings.Join(failed, ", "))
+	}
+	return nil
+}
+
+// runFlags are run's flags that runSite uses.
+type runFlags struct {
+	once, dry   bool
+	asOf, shard string
+	grace       time.Duration
+}
+
+// runSite runs one site's agent over its owned air handlers; prefix starts
+// each line of the --once summary (the site, when several run).
+func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]*config.ConfigError, owned []string, f runFlags, prefix string) error {
+	once, dry, asOf, shardS, grace := &f.once, &f.dry, &f.asOf, &f.shard, &f.grace
 	// Each part names its component once: the HTTP server and the webhook
 	// sender add theirs to base, the run loop's is "agent".
 	base := e.log.With().Str("site", cfg.Site.ID).Logger()
 	log := base.With().Str("component", "agent").Logger()
-	owned := shard.Owned(cfg)
-	if len(owned) == 0 {
-		return fmt.Errorf("shard %s: %w", *shardS, agent.ErrNothingOwned)
-	}
 
 	st, err := openStore(ctx, cfg, false, log)
 	if err != nil {
@@ -114,9 +178,6 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		StoreDown: st.IsOutage,
 	}
 	if *asOf != "" {
-		if !*once && !*dry {
-			return usagef("--as-of goes with --once or --dry-run")
-		}
 		t, err := parseTime(*asOf, cfg.Location)
 		if err != nil {
 			return usagef("--as-of: %v", err)
@@ -125,7 +186,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	}
 	log.Info().Strs("ahus", owned).Str("shard", *shardS).Msg("air handlers owned")
 	if *dry {
-		runner.Store = &influx.DryRun{Inner: rs, W: e.stdout}
+		runner.Store = &influx.DryRun{Inner: rs, W: e.stdout, Site: cfg.Site.ID}
 		_, err := runner.RunOnce(ctx)
 		return err
 	}
@@ -135,7 +196,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 			return err
 		}
 		for _, a := range rep.AHUs {
-			fmt.Fprintf(e.stdout, "%s: %d hours, checkpoint %s, %d alerts opened, %d closed\n", a.AHU, a.Hours,
+			fmt.Fprintf(e.stdout, "%s%s: %d hours, checkpoint %s, %d alerts opened, %d closed\n", prefix, a.AHU, a.Hours,
 				a.Checkpoint.UTC().Format(time.RFC3339), a.Opened, a.Closed)
 			if a.Err != nil {
 				fmt.Fprintf(e.stdout, "  failed: %v\n", a.Err)
@@ -213,4 +274,37 @@ func parseShard(s string) (agent.Shard, error) {
 		return agent.Shard{}, usagef("--%v", err)
 	}
 	return sh, nil
+}
+
+// configPaths expands the --config values: a file is itself, a folder its
+// *.yaml and *.yml files in name order.
+func configPaths(given []string) ([]string, error) {
+	if len(given) == 0 {
+		return nil, usagef("--config is required")
+	}
+	var out []string
+	for _, p := range given {
+		fi, err := os.Stat(p)
+		if err != nil {
+			return nil, fmt.Errorf("configuration %s: %w", p, err)
+		}
+		if !fi.IsDir() {
+			out = append(out, p)
+			continue
+		}
+		var found []string
+		for _, pat := range []string{"*.yaml", "*.yml"} {
+			m, err := filepath.Glob(filepath.Join(p, pat))
+			if err != nil {
+				return nil, err
+			}
+			found = append(found, m...)
+		}
+		if len(found) == 0 {
+			return nil, fmt.Errorf("configuration folder %s holds no *.yaml or *.yml file", p)
+		}
+		sort.Strings(found)
+		out = append(out, found...)
+	}
+	return out, nil
 }

@@ -31,7 +31,7 @@ func TestRun_OnceAndDryRun(t *testing.T) {
 	require.Equal(t, 0, code, errOut)
 	lines := strings.Split(strings.TrimSpace(out), "\n")
 	require.GreaterOrEqual(t, len(lines), 2)
-	assert.True(t, strings.HasPrefix(lines[0], "dewline_hourly,ahu=AHU-7 "), lines[0])
+	assert.True(t, strings.HasPrefix(lines[0], "dewline_hourly,ahu=AHU-7,site=default "), lines[0])
 	assert.Contains(t, lines[0], "water_removed_kg=")
 	assert.Contains(t, out, "checkpoint would move to 2026-07-15T19:00:00Z (dry run: nothing written)")
 	// Nothing moved: a real run at that time still has the two hours to do.

@@ -4,6 +4,7 @@ import (
 	"context"
 	"flag"
 	"fmt"
+	"net/http"
 	"time"
 
 	"github.com/dewline/dewline/agent/config"
@@ -16,7 +17,7 @@ import (
 
 // siteFor is the dashboard's view of the configuration.
 func siteFor(cfg *config.Config) *dashboards.Site {
-	s := &dashboards.Site{Name: cfg.Site.Name, Zone: cfg.Location, IP: cfg.Site.Units == "ip",
+	s := &dashboards.Site{ID: cfg.Site.ID, Name: cfg.Site.Name, Zone: cfg.Location, IP: cfg.Site.Units == "ip",
 		Currency: cfg.Prices.Currency, PressurePa: cfg.PressurePa}
 	for i := range cfg.AirHandlers {
 		a := &cfg.AirHandlers[i]
@@ -37,27 +38,84 @@ func dashboardFor(cfg *config.Config, st *stores, e *env) (*dashboards.Handler, 
 
 func runServe(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("serve", flag.ContinueOnError)
-	fs.String("config", "", "configuration file (required)")
-	listen := fs.String("listen", "", "host:port to listen on (default: http.listen of the configuration, 127.0.0.1:9470)")
+	var cfgPaths stringList
+	fs.Var(&cfgPaths, "config", "configuration file, or a folder of them (*.yaml, *.yml); repeatable: several sites make a portfolio (required)")
+	listen := fs.String("listen", "", "host:port to listen on (default: http.listen of the (first) configuration, 127.0.0.1:9470)")
 	fs.Usage = func() {
-		fmt.Fprintln(fs.Output(), "usage: dewline serve --config FILE [--listen 127.0.0.1:9470]")
-		fmt.Fprintln(fs.Output(), "Serves the dashboard over the results in the configured store, read-only.")
+		fmt.Fprintln(fs.Output(), "usage: dewline serve --config FILE|FOLDER ... [--listen 127.0.0.1:9470]")
+		fmt.Fprintln(fs.Output(), "Serves the dashboard over the results in the configured store, read-only; given several sites, the portfolio.")
 		fs.PrintDefaults()
 	}
-	cfg, err := parseWithConfig(fs, args, e.stdout)
+	if err := parseFlags(fs, args, e.stdout); err != nil {
+		return err
+	}
+	paths, err := configPaths(cfgPaths)
 	if err != nil {
 		return err
 	}
-	st, err := openStore(ctx, cfg, true, e.log)
-	if err != nil {
-		return err
+	var cfgs []*config.Config
+	for _, p := range paths {
+		cfg, err := config.Load(p)
+		if err != nil {
+			return err
+		}
+		cfgs = append(cfgs, cfg)
 	}
-	defer st.Close()
-	addr := cfg.HTTP.Listen
+	addr := cfgs[0].HTTP.Listen
 	if *listen != "" {
 		addr = *listen
 	}
-	return serveDashboard(ctx, e, cfg, st, addr)
+	if len(cfgs) == 1 {
+		st, err := openStore(ctx, cfgs[0], true, e.log)
+		if err != nil {
+			return err
+		}
+		defer st.Close()
+		return serveDashboard(ctx, e, cfgs[0], st, addr)
+	}
+	pf, pings, closeAll, err := portfolioFor(ctx, cfgs, paths, e)
+	if err != nil {
+		return err
+	}
+	defer closeAll()
+	return servePages(ctx, e, cfgs[0], pf, pings, addr)
+}
+
+// portfolioFor opens every site's store read-only and builds the
+// portfolio view over them; closeAll closes the stores.
+func portfolioFor(ctx context.Context, cfgs []*config.Config, paths []string, e *env) (*dashboards.Portfolio, []func(context.Context) error, func(), error) {
+	var opened []*stores
+	closeAll := func() {
+		for _, st := range opened {
+			st.Close()
+		}
+	}
+	var sites []dashboards.PortfolioSite
+	var pings []func(context.Context) error
+	seen := map[string]string{}
+	for i, cfg := range cfgs {
+		if prev, ok := seen[cfg.Site.ID]; ok {
+			closeAll()
+			return nil, nil, nil, fmt.Errorf("%s and %s are both site %q: give each site its own site.id", prev, paths[i], cfg.Site.ID)
+		}
+		seen[cfg.Site.ID] = paths[i]
+		st, err := openStore(ctx, cfg, true, e.log)
+		if err != nil {
+			closeAll()
+			return nil, nil, nil, fmt.Errorf("site %s (%s): %w", cfg.Site.ID, paths[i], err)
+		}
+		opened = append(opened, st)
+		site := siteFor(cfg)
+		site.ID = siteLabel(cfg.Site.ID)
+		sites = append(sites, dashboards.PortfolioSite{Site: site, Results: st.results(time.Now)})
+		pings = append(pings, st.Ping)
+	}
+	pf, err := dashboards.NewPortfolio(dashboards.PortfolioOptions{Sites: sites, Log: e.log.With().Str("component", "dashboard").Logger()})
+	if err != nil {
+		closeAll()
+		return nil, nil, nil, err
+	}
+	return pf, pings, closeAll, nil
 }
 
 // storeProbeEvery is how often serve checks that its store still answers.
@@ -77,6 +135,12 @@ func serveDashboard(ctx context.Context, e *env, cfg *config.Config, st *stores,
 	if err != nil {
 		return err
 	}
+	return servePages(ctx, e, cfg, pages, []func(context.Context) error{st.Ping}, addr)
+}
+
+// servePages serves pages (one site's dashboard or a portfolio) until ctx
+// ends; cfg gives the token, pings the stores to ask.
+func servePages(ctx context.Context, e *env, cfg *config.Config, pages http.Handler, pings []func(context.Context) error, addr string) error {
 	token, err := config.SecretFromEnv("http.token_env", cfg.HTTP.TokenEnv)
 	if err != nil {
 		return err
@@ -86,7 +150,12 @@ func serveDashboard(ctx context.Context, e *env, cfg *config.Config, st *stores,
 	probe := func() error {
 		pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
 		defer cancel()
-		return st.Ping(pctx)
+		for _, ping := range pings {
+			if err := ping(pctx); err != nil {
+				return err
+			}
+		}
+		return nil
 	}
 	up := true
 	report := func(err error) {

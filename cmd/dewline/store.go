@@ -46,7 +46,7 @@ func openStore(ctx context.Context, cfg *config.Config, readOnly bool, log zerol
 		}
 		return &stores{influx.NewBackend(c, influx.BackendOptions{Site: cfg.Site.ID, Queue: queue})}, nil
 	default:
-		s, err := embedded.Open(ctx, cfg.StorePath(), embedded.Options{ReadOnly: readOnly, DayZone: cfg.Location})
+		s, err := embedded.Open(ctx, cfg.StorePath(), embedded.Options{ReadOnly: readOnly, DayZone: cfg.Location, Site: cfg.Site.ID})
 		if err != nil {
 			return nil, fmt.Errorf("open the embedded store: %w", err)
 		}

@@ -19,7 +19,7 @@ import (
 // value, unit) to plain files with encoding/csv and strconv alone, with
 // no physics at all.
 //
-//	go test -run '^$' -bench Write ./ingest/demo/
+//	go test -run '^$' -bench Write ./deploy/demo/
 func BenchmarkWrite(b *testing.B) {
 	probe, err := demo.Write(b.TempDir(), demo.Options{})
 	if err != nil {

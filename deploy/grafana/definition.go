@@ -28,6 +28,7 @@ const (
 	measHourly = "dewline_hourly"
 	measAlert  = "dewline_alert"
 	tagAHU     = "ahu"
+	tagSite    = "site"
 )
 
 // scopeTag is a tag every query filters on through a dashboard variable
@@ -35,11 +36,11 @@ const (
 type scopeTag struct{ Tag, Label string }
 
 // scopeTags are the tags that select whose results a dashboard shows,
-// besides the air handler. Results carry only the ahu tag today; once they
-// also carry a site tag, adding {"site", "Site"} here gives every dashboard
-// a site variable (its values read from dewline_hourly) and every query,
-// InfluxQL and Flux, its condition.
-var scopeTags = []scopeTag{}
+// besides the air handler: the site (results of several sites share one
+// bucket, and air-handler ids repeat across sites). Each gives every
+// dashboard a variable (its values read from dewline_hourly) and every
+// query, InfluxQL and Flux, its condition.
+var scopeTags = []scopeTag{{tagSite, "Site"}}
 
 // eerPerCOP turns a ratio of energies into an EER in Btu/Wh, as dewline
 // does (psychro.COPToEER).

@@ -41,7 +41,6 @@ type verdict struct {
 
 // Notes for points no role takes yet.
 const (
-	noteReturn   = "return air: no role takes it (the entering air is the mixed air, after the outdoor air joins the return air)"
 	noteSetpoint = "a set point, not a measurement"
 	noteOther    = "a quantity no role uses (status, pressure, speed, damper, energy, ...)"
 	noteUnknown  = "the name says nothing dewline reads"
@@ -106,7 +105,7 @@ func decide(f feature) verdict {
 		case coilLeaving:
 			loc = "leaving"
 		case f&fReturn != 0:
-			return verdict{note: noteReturn}
+			loc = "return"
 		case entering && f&fOutdoor == 0:
 			loc = "entering"
 		case f&fLeaving != 0 && f&fSupply == 0:
@@ -141,8 +140,10 @@ func decide(f feature) verdict {
 		}
 	case fFlow:
 		switch {
-		case f&(fOutdoor|fReturn|fExhaust) != 0:
-			return verdict{note: "outdoor, return or exhaust airflow: no role (supply airflow is the one used)"}
+		case f&(fReturn|fExhaust) != 0:
+			return verdict{note: "return or exhaust airflow: no role (the supply and outdoor airflows are the ones used)"}
+		case f&fOutdoor != 0:
+			v.role = metrics.RoleOutdoorFlow // the unit's own outdoor-air station, not the site's
 		case f&fSupply != 0:
 			v.role = metrics.RoleSupplyFlow
 		default:
@@ -200,6 +201,12 @@ func airRole(loc string, q feature) (metrics.Role, string) {
 		return metrics.RoleLeavingDewPoint, "supply dew point taken as the coil's leaving dew point (reheat adds no moisture)"
 	case "supply/humidity":
 		return "", "supply RH: no role (after reheat its RH differs from the coil's; map a coil leaving RH or a supply dew point)"
+	case "return/temperature":
+		return metrics.RoleReturnTemp, ""
+	case "return/humidity":
+		return metrics.RoleReturnRH, ""
+	case "return/dew point":
+		return metrics.RoleReturnDewPoint, ""
 	case "outdoor/temperature":
 		return metrics.RoleOutdoorTemp, ""
 	case "outdoor/humidity":

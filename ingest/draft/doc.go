@@ -21,8 +21,10 @@
 // A mapping is High, Medium or Low confidence. Low means a guess a person
 // must check: the written configuration marks it so, and tests hold that no
 // wrong mapping is written with more than Low confidence. Points no role
-// fits are listed with the reason (a set point, a return-air sensor, a
-// status), never dropped silently. Equipment facts that trend names cannot
+// fits are listed with the reason (a set point, a return airflow, a
+// status), never dropped silently. Return-air temperature and humidity get
+// the return roles, so that a unit without a mixed-air humidity sensor has
+// its entering air mixed from return and outdoor air. Equipment facts that trend names cannot
 // tell (rated EER, boiler efficiency, humidity target, prices) are written
 // as marked assumptions to be confirmed.
 //

@@ -30,6 +30,7 @@ var fixtures = []struct {
 	{"birchwood-annex.csv", "wide, slashes and hyphens (Bldg2/AH-5/CC-DAT), no units at all"},
 	{"haystack-hq.lp", "InfluxDB, Project Haystack marker tags, cryptic names"},
 	{"brick-campus.lp", "InfluxDB, Brick classes and isPointOf, cryptic names"},
+	{"larkspur-clinic.csv", "wide, words with spaces, no mixed-air humidity: return and outdoor air to be mixed"},
 }
 
 // expectation is one hand-written line of expected.yaml.

@@ -327,13 +327,25 @@ func better(a, b *candidate) bool {
 	return len(a.p.Ref.Name()) < len(b.p.Ref.Name())
 }
 
+// Mixes reports whether the air handler's entering air comes from mixing
+// its return and outdoor air: no mixed-air humidity is mapped, and the
+// return temperature and humidity and the outdoor temperature and RH are.
+func (a *AirHandler) Mixes() bool {
+	if a.Mapping(metrics.RoleEnteringRH) != nil || a.Mapping(metrics.RoleEnteringDewPoint) != nil {
+		return false
+	}
+	return a.Mapping(metrics.RoleReturnTemp) != nil &&
+		(a.Mapping(metrics.RoleReturnRH) != nil || a.Mapping(metrics.RoleReturnDewPoint) != nil) &&
+		a.Mapping(metrics.RoleOutdoorTemp) != nil && a.Mapping(metrics.RoleOutdoorRH) != nil
+}
+
 // lookFor says what to look for when a required role is missing.
 var lookFor = []struct {
 	roles []metrics.Role
 	hint  string
 }{
 	{[]metrics.Role{metrics.RoleEnteringTemp}, "the mixed-air or coil entering temperature (MAT, MA Temp, Mixed Air Temp, Coil Entering Temp); on a 100 % outdoor-air unit, the outdoor temperature"},
-	{[]metrics.Role{metrics.RoleEnteringRH, metrics.RoleEnteringDewPoint}, "the mixed-air or coil entering humidity (MA RH, Mixed Air Humidity, MA Dewpoint); a return-air RH alone is not entering air"},
+	{[]metrics.Role{metrics.RoleEnteringRH, metrics.RoleEnteringDewPoint}, "the mixed-air or coil entering humidity (MA RH, Mixed Air Humidity, MA Dewpoint); or, for dewline to mix them, the return-air temperature and RH (RAT, RA RH) with the outdoor-air temperature and RH (OAT, OA RH); a return-air RH alone is not entering air"},
 	{[]metrics.Role{metrics.RoleLeavingTemp}, "the cooling coil leaving temperature (CCLT, Coil Leaving Temp, CC Discharge Temp, Evaporator Leaving Temp); on a unit without reheat the discharge sensor serves as both"},
 	{[]metrics.Role{metrics.RoleSupplyTemp}, "the supply or discharge air temperature (SAT, DAT, Supply Air Temp)"},
 	{[]metrics.Role{metrics.RoleSupplyFlow}, "the supply airflow (SA CFM, Supply Airflow, SA Flow); without an airflow station, trend one before analysing"},
@@ -349,6 +361,9 @@ func missing(a *AirHandler) []Missing {
 			if a.Mapping(r) != nil {
 				found = true
 			}
+		}
+		if l.roles[0] == metrics.RoleEnteringRH && a.Mixes() {
+			found = true
 		}
 		if !found {
 			out = append(out, Missing{Role: strings.Join(names, " or "), LookFor: l.hint})

@@ -57,7 +57,7 @@ func chooseUnit(role metrics.Role, declared string, s *Stats, ip bool) unitChoic
 		// and a configuration that says otherwise is refused. Values that
 		// contradict it are a mislabelled export, flagged for a person.
 		own := typical(u.Name)
-		if role == metrics.RoleEnteringRH || role == metrics.RoleLeavingRH || role == metrics.RoleSpaceRH || role == metrics.RoleOutdoorRH {
+		if role == metrics.RoleEnteringRH || role == metrics.RoleLeavingRH || role == metrics.RoleSpaceRH || role == metrics.RoleOutdoorRH || role == metrics.RoleReturnRH {
 			if u.Name == "%" && s.Max <= 1.0 && s.Max > 0 {
 				return unitChoice{unit: u.Name, cap: Low, note: fmt.Sprintf("declared %%, but the values (%s) lie in 0..1 like a fraction: fix the export's unit or the point's scaling", span)}
 			}

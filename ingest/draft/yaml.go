@@ -208,6 +208,10 @@ func (p *Proposal) writeAHU(b *strings.Builder, a *AirHandler, pre string) {
 	} else {
 		line("      max_space_dewpoint: 13C      # ASSUMED: a common comfort limit (common practice, no source); set the owner's")
 	}
+	if a.Mixes() && a.Mapping(metrics.RoleOutdoorFlow) == nil {
+		line("    outdoor_air:                   # the entering air is return and outdoor air mixed (no mixed-air humidity sensor)")
+		line("      min_fraction: 20%%           # ASSUMED: the outdoor-air share at minimum position, used when outdoor and return temperatures are too close to tell it")
+	}
 	line("    points:")
 	for _, m := range a.Mappings {
 		conf := m.Conf.String()

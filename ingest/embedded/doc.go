@@ -84,6 +84,16 @@
 //	  flagged     INTEGER                of which with a data-quality flag
 //	  sums        TEXT                   JSON: sums of metrics.AdditiveFields
 //
+//	site          (schema v5): the one site whose results the file holds
+//	  only        INTEGER PRIMARY KEY    always 1: one row at most
+//	  id          TEXT                   the site's id (site.id)
+//	  claimed_ms  INTEGER
+//
+// One file holds one site. With Options.Site, Open refuses a file that
+// names another site (ErrOtherSite, saying to give the site its own file
+// or to set site.id back), and a read-write Open of a file that names none
+// (new, or from before v5, when a file held one site) claims it.
+//
 // With Options.DayZone, every write of hourly rows rebuilds the daily rows
 // of the days it touches in the same transaction, and a read-write Open
 // rebuilds days whose hour count disagrees with hourly; ReadDays answers

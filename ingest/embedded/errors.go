@@ -31,4 +31,6 @@ var (
 	// ErrUnknownEvent: MarkDelivered names an event sequence number that
 	// does not exist.
 	ErrUnknownEvent = errors.New("unknown alert event")
+	// ErrOtherSite: the file holds the results of another site.
+	ErrOtherSite = errors.New("store file holds another site")
 )

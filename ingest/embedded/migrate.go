@@ -8,7 +8,7 @@ import (
 
 // SchemaVersion is the schema this binary writes and reads: the number of
 // steps in migrations. A file's version is its PRAGMA user_version.
-const SchemaVersion = 4
+const SchemaVersion = 5
 
 // applicationID marks the file as a dewline store in the SQLite header
 // (PRAGMA application_id, bytes 68-71; "dewl" in ASCII), so Open can tell a
@@ -41,6 +41,7 @@ var migrations = []migration{
 	{name: "alert rule states", sql: schemaV2},
 	{name: "daily sums", sql: schemaV3},
 	{name: "one event per alert transition", sql: schemaV4},
+	{name: "site of the file", sql: schemaV5},
 }
 
 // schemaV4 records each transition of an alert once: an alert (its id is
@@ -56,6 +57,17 @@ UPDATE alert_events SET delivered_ms = (
 WHERE delivered_ms IS NULL;
 DELETE FROM alert_events WHERE seq NOT IN (SELECT min(seq) FROM alert_events GROUP BY alert_id, transition);
 CREATE UNIQUE INDEX alert_events_once ON alert_events(alert_id, transition);
+`
+
+// schemaV5 names the site whose results the file holds: one file holds
+// one site (see site.go). A file from before has no row; the first site to
+// open it read-write claims it, since until then a file held one site.
+const schemaV5 = `
+CREATE TABLE site (
+	only       INTEGER PRIMARY KEY CHECK (only = 1),
+	id         TEXT    NOT NULL,
+	claimed_ms INTEGER NOT NULL
+);
 `
 
 // schemaV3 keeps per air handler and local day the sums of the additive

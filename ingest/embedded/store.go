@@ -37,6 +37,11 @@ type Options struct {
 	// keeps the daily sums of their local days up to date, and a
 	// read-write Open builds those missing for rows written without it.
 	DayZone *time.Location
+	// Site is the id of the site opening the file. One file holds one
+	// site: a file that holds another site's results is refused with
+	// ErrOtherSite; a read-write open of a file that names no site yet
+	// claims it. Empty skips the check (tests, tools).
+	Site string
 }
 
 // Store is one dewline store file. Its methods are safe for concurrent use:
@@ -122,6 +127,12 @@ func open(ctx context.Context, path string, opt Options, steps []migration) (*St
 	if err != nil {
 		db.Close()
 		return nil, fmt.Errorf("open store %s: %w", path, err)
+	}
+	if opt.Site != "" && len(steps) >= 4 {
+		if err := s.claimSite(ctx, opt.Site); err != nil {
+			db.Close()
+			return nil, fmt.Errorf("open store %s: %w", path, err)
+		}
 	}
 	if s.zone != nil && !opt.ReadOnly && len(steps) >= 3 {
 		if err := s.rollUpMissing(ctx); err != nil {

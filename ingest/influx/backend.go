@@ -23,7 +23,8 @@ type Backend struct {
 
 // BackendOptions are what the backend needs besides the client.
 type BackendOptions struct {
-	// Site tags the agent's state points (checkpoints, alert rule states).
+	// Site is the site id: every point written is tagged with it (SiteTag)
+	// and every read of results, checkpoints and alert states matches it.
 	Site string
 	// Queue opens the local queue of alerts and webhook events the agent
 	// keeps beside InfluxDB; required for Agent.
@@ -60,12 +61,15 @@ func (b *Backend) PutResults(ctx context.Context, recs []metrics.Record, tr []me
 	if len(recs) == 0 && len(tr) == 0 {
 		return nil
 	}
-	return b.c.WritePoints(ctx, append(HourlyPoints(recs), AlertPoints(tr)...))
+	return b.c.WritePoints(ctx, append(HourlyPoints(b.opt.Site, recs), AlertPoints(b.opt.Site, tr)...))
 }
 
-// Results reads results back: dewline_hourly pivoted into records, and the
-// alerts rebuilt from their transitions.
-func (b *Backend) Results(now func() time.Time) dashboards.Results { return &results{c: b.c, now: now} }
+// Results reads the site's results back: dewline_hourly pivoted into
+// records, and the alerts rebuilt from their transitions, both matching
+// the site tag.
+func (b *Backend) Results(now func() time.Time) dashboards.Results {
+	return &results{c: b.c, site: SiteTag(b.opt.Site), now: now}
+}
 
 // Agent returns the agent's results in InfluxDB with its local queue.
 func (b *Backend) Agent(ctx context.Context) (store.AgentStore, error) {

@@ -16,14 +16,15 @@ import (
 // results reads results back from InfluxDB: the hourly measurement
 // pivoted into records, and the alerts rebuilt from their transitions.
 type results struct {
-	c   *Client
-	now func() time.Time
+	c    *Client
+	site string // the site tag every read matches
+	now  func() time.Time
 }
 
 func (ir *results) Hours(ctx context.Context, ahu string, from, to time.Time, fn func(*metrics.Record) error) error {
-	q := WideQuery{Measurement: MeasurementHourly, From: from, To: to}
+	q := WideQuery{Measurement: MeasurementHourly, Match: map[string]string{"site": ir.site}, From: from, To: to}
 	if ahu != "" {
-		q.Match = map[string]string{"ahu": ahu}
+		q.Match["ahu"] = ahu
 	}
 	var rec metrics.Record
 	ptrs := rec.FieldPtrs()
@@ -62,13 +63,13 @@ func (ir *results) Hours(ctx context.Context, ahu string, from, to time.Time, fn
 }
 
 func (ir *results) Span(ctx context.Context) (time.Time, time.Time, bool, error) {
-	return ir.c.Span(ctx, MeasurementHourly, "coverage", ir.now())
+	return ir.c.Span(ctx, MeasurementHourly, "coverage", map[string]string{"site": ir.site}, ir.now())
 }
 
 // Alerts rebuilds each alert from its latest transition point; the
 // points' string fields carry its start and end.
 func (ir *results) Alerts(ctx context.Context, q dashboards.AlertQuery) ([]dashboards.Alert, error) {
-	match := map[string]string{}
+	match := map[string]string{"site": ir.site}
 	if q.AHU != "" {
 		match["ahu"] = q.AHU
 	}

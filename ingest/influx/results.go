@@ -46,13 +46,17 @@ type agentStore struct {
 
 var _ store.AgentStore = (*agentStore)(nil)
 
-// siteTag is the site tag of state points; a site without an id is "default".
-func (rs *agentStore) siteTag() string {
-	if rs.site == "" {
+// SiteTag is the value of the site tag of every point dewline writes for
+// a site (results, alert transitions, checkpoints, alert rule states): its
+// id, or "default" for a site without one.
+func SiteTag(site string) string {
+	if site == "" {
 		return "default"
 	}
-	return rs.site
+	return site
 }
+
+func (rs *agentStore) siteTag() string { return SiteTag(rs.site) }
 
 func (rs *agentStore) Checkpoint(ctx context.Context, ahu string) (time.Time, bool, error) {
 	var cp time.Time
@@ -93,8 +97,8 @@ func (rs *agentStore) Commit(ctx context.Context, ahu string, recs []metrics.Rec
 	if err != nil {
 		return err
 	}
-	pts := HourlyPoints(recs)
-	pts = append(pts, AlertPoints(up.Transitions)...)
+	pts := HourlyPoints(rs.site, recs)
+	pts = append(pts, AlertPoints(rs.site, up.Transitions)...)
 	// Every rule's state is written, empty when inactive, so a closed
 	// alert's old state is replaced; the checkpoint comes last.
 	for _, rule := range metrics.Rules() {
@@ -122,8 +126,9 @@ func (rs *agentStore) MarkDelivered(ctx context.Context, seq int64, at time.Time
 
 func (rs *agentStore) Close() error { return rs.queue.Close() }
 
-// HourlyPoints are records as dewline_hourly points.
-func HourlyPoints(recs []metrics.Record) []Point {
+// HourlyPoints are site's records as dewline_hourly points, tagged site
+// (SiteTag) and ahu: two sites' air handlers of the same id are two series.
+func HourlyPoints(site string, recs []metrics.Record) []Point {
 	pts := make([]Point, 0, len(recs))
 	for _, r := range recs {
 		f := map[string]float64{}
@@ -139,20 +144,21 @@ func HourlyPoints(recs []metrics.Record) []Point {
 		// ones, and cannot store NaN: the fields with no value this time are
 		// listed in "missing", and "flags" is always written, so a re-written
 		// hour never keeps a stale value unmarked.
-		p := Point{Measurement: MeasurementHourly, Tags: map[string]string{"ahu": r.AHU}, Fields: f, Time: r.HourStart,
+		p := Point{Measurement: MeasurementHourly, Tags: map[string]string{"site": SiteTag(site), "ahu": r.AHU}, Fields: f, Time: r.HourStart,
 			Strings: map[string]string{"flags": strings.Join(r.Flags, " "), "missing": strings.Join(missing, " ")}}
 		pts = append(pts, p)
 	}
 	return pts
 }
 
-// AlertPoints are alert transitions as dewline_alert points.
-func AlertPoints(tr []metrics.Transition) []Point {
+// AlertPoints are site's alert transitions as dewline_alert points, tagged
+// site (SiteTag), ahu, kind, severity and status.
+func AlertPoints(site string, tr []metrics.Transition) []Point {
 	pts := make([]Point, 0, len(tr))
 	for _, t := range tr {
 		a := t.Alert
 		pts = append(pts, Point{Measurement: MeasurementAlert,
-			Tags:    map[string]string{"ahu": a.AHU, "kind": a.Kind, "severity": string(a.Severity), "status": string(t.To)},
+			Tags:    map[string]string{"site": SiteTag(site), "ahu": a.AHU, "kind": a.Kind, "severity": string(a.Severity), "status": string(t.To)},
 			Fields:  map[string]float64{"energy_kwh": a.EnergyKWh, "money": a.Money, "open": b2f(t.To == metrics.StatusOpen)},
 			Strings: alertStrings(a),
 			Time:    t.At})
@@ -207,6 +213,7 @@ func clientPoint(p Point) *write.Point {
 type DryRun struct {
 	Inner store.ResultStore
 	W     io.Writer
+	Site  string // the site id the points are tagged with
 }
 
 var _ store.ResultStore = (*DryRun)(nil)
@@ -221,7 +228,7 @@ func (d *DryRun) AlertStates(ctx context.Context, ahu string) (map[string]metric
 
 // Commit prints the hourly and alert points and where the checkpoint would move.
 func (d *DryRun) Commit(_ context.Context, ahu string, recs []metrics.Record, up store.AlertUpdate, through time.Time) error {
-	for _, p := range append(HourlyPoints(recs), AlertPoints(up.Transitions)...) {
+	for _, p := range append(HourlyPoints(d.Site, recs), AlertPoints(d.Site, up.Transitions)...) {
 		fmt.Fprintln(d.W, LineProtocol(p))
 	}
 	fmt.Fprintf(d.W, "# %s: checkpoint would move to %s (dry run: nothing written)\n", ahu, through.UTC().Format(time.RFC3339))

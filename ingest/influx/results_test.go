@@ -40,7 +40,7 @@ func TestDryRun_WritesNothing(t *testing.T) {
 	require.NoError(t, d.Commit(context.Background(), "AHU-1", []metrics.Record{rec}, store.AlertUpdate{}, hour))
 	lines := strings.Split(strings.TrimSpace(out.String()), "\n")
 	require.Len(t, lines, 2)
-	assert.True(t, strings.HasPrefix(lines[0], MeasurementHourly+",ahu=AHU-1 "), lines[0])
+	assert.True(t, strings.HasPrefix(lines[0], MeasurementHourly+",ahu=AHU-1,site=default "), lines[0])
 	assert.Equal(t, "# AHU-1: checkpoint would move to 2026-07-14T10:00:00Z (dry run: nothing written)", lines[1])
 	assert.Zero(t, inner.commits)
 }

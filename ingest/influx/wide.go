@@ -16,6 +16,7 @@ import (
 type WideQuery struct {
 	Measurement string
 	Match       map[string]string // tag key -> value; all must match
+	Absent      []string          // tag keys the points must not have
 	Fields      []string          // only these fields; all when empty
 	From, To    time.Time
 }
@@ -52,6 +53,9 @@ func (c *Client) ReadWide(ctx context.Context, q WideQuery, fn func(Row) error) 
 	for _, k := range keys {
 		fmt.Fprintf(&b, " and %s == %s", fluxColumn(k), fluxString(q.Match[k]))
 	}
+	for _, k := range q.Absent {
+		fmt.Fprintf(&b, " and not exists %s", fluxColumn(k))
+	}
 	b.WriteString(")\n")
 	// InfluxDB 1.x includes range()'s stop time: without this a period of
 	// N hours read N+1 hourly rows.
@@ -82,13 +86,23 @@ func (c *Client) ReadWide(ctx context.Context, q WideQuery, fn func(Row) error) 
 }
 
 // Span returns the times of the first and the last point of measurement's
-// field (ok false when there is none), looking back to the Unix epoch.
-func (c *Client) Span(ctx context.Context, measurement, field string, now time.Time) (first, last time.Time, ok bool, err error) {
+// field (ok false when there is none) among the series whose tags include
+// match, looking back to the Unix epoch.
+func (c *Client) Span(ctx context.Context, measurement, field string, match map[string]string, now time.Time) (first, last time.Time, ok bool, err error) {
+	var pred strings.Builder
+	keys := make([]string, 0, len(match))
+	for k := range match {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	for _, k := range keys {
+		fmt.Fprintf(&pred, " and %s == %s", fluxColumn(k), fluxString(match[k]))
+	}
 	for _, pick := range []string{"first", "last"} {
 		flux := fmt.Sprintf("from(bucket: %s)\n  |> range(start: %s, stop: %s)\n"+
-			"  |> filter(fn: (r) => r._measurement == %s and r._field == %s)\n  |> group()\n  |> %s()\n",
+			"  |> filter(fn: (r) => r._measurement == %s and r._field == %s%s)\n  |> group()\n  |> %s()\n",
 			fluxString(c.opt.Bucket), fluxTime(time.Unix(1, 0)), fluxTime(now.Add(24*time.Hour)),
-			fluxString(measurement), fluxString(field), pick)
+			fluxString(measurement), fluxString(field), pred.String(), pick)
 		var t time.Time
 		found := false
 		err = c.run(ctx, flux, func() { found = false }, func(f *fluxCSV) (bool, error) {

@@ -182,3 +182,23 @@ func EncodeStates(states map[string]metrics.Alert) (map[string]json.RawMessage, 
 type PointChecker interface {
 	CheckPoint(ctx context.Context, ref metrics.PointRef, from, to time.Time) error
 }
+
+// UntaggedAdopter is what a store shared by several sites may also offer
+// (InfluxDB): results written before they carried the site tag are read by
+// no site until the site that wrote them adopts them.
+type UntaggedAdopter interface {
+	// UntaggedResults counts, per air handler, the hours stored without a
+	// site tag.
+	UntaggedResults(ctx context.Context, now time.Time) (map[string]int, error)
+	// AdoptUntagged copies them into this store's site, refusing (and
+	// writing nothing) when they name an air handler not in ahus.
+	AdoptUntagged(ctx context.Context, ahus []string, now time.Time) (Adopted, error)
+}
+
+// Adopted is what UntaggedAdopter.AdoptUntagged copied and left.
+type Adopted struct {
+	Hours, Transitions int // points copied into the site's series
+	// Kept counts untagged points not copied because the site already has
+	// a point of the same series at that time (written since, and newer).
+	Kept int
+}

@@ -10,14 +10,20 @@
 // water removed, coil loads and reheat figures that follow from the
 // definitions below, so the engine can be checked against them:
 //   - standard-air mass flow m = 1.204 kg/m3 x Q;
-//   - coil leaving air at 95 % RH once below the entering dew point, never
-//     wetter than the entering air; coil on when entering - leaving > 0.5 K;
+//   - coil leaving air by the apparatus-dew-point / bypass-factor model
+//     (leaving state on the line from the entering state to a saturated
+//     apparatus dew point ADP; t_lv = ADP + BF (t_in - ADP), W_out = W_s(ADP)
+//     + BF (W_in - W_s(ADP)) when W_s(ADP) < W_in, else W_in), with BF that
+//     of a coil leaving the AHRI rating point (80 °F dry bulb / 67 °F wet
+//     bulb entering, 55 °F leaving) at 95 % RH; coil on when entering -
+//     leaving > 0.5 K;
 //   - coil total = m (h_in - h_out) - m_w 4.186 t_out;
 //   - draw-through fan adds 0.5 K; reheat = m [h(t_sup - 0.5, W_out) - h(t_lv, W_out)]
 //     when that rise exceeds 0.5 K;
 //   - target: supply dew point <= 12 C; required leaving temperature where
-//     air at 95 % RH has that humidity ratio; needed coil temperature
-//     T_c = min(t_in, t_sup - 0.5, T_req); reheat needed = m [h(t_sup - 0.5, W_c) - h(T_c, W_c)].
+//     this coil leaves air at that humidity ratio; needed coil temperature
+//     T_c = min(t_in, t_sup - 0.5, T_req); reheat needed = m [h(t_sup - 0.5, W_c) - h(T_c, W_c)],
+//     never more than the reheat delivered.
 'use strict';
 const fs = require('fs');
 const path = require('path');
@@ -29,6 +35,34 @@ psy.SetUnitSystem(psy.SI);
 const P = 101325, RHA = 0.95, FAN = 0.5, DB = 0.5, TD_TARGET = 12;
 let seed = 20260714;
 const rand = () => { seed = (seed * 1664525 + 1013904223) % 4294967296; return seed / 4294967296; };
+
+// Bypass factor of the rating-point coil (bisection on the apparatus dew point).
+const BF = (() => {
+  const tIn = (80 - 32) / 1.8, tWb = (67 - 32) / 1.8, tOut = (55 - 32) / 1.8;
+  const wIn = psy.GetHumRatioFromTWetBulb(tIn, tWb, P);
+  const wOut = psy.GetHumRatioFromRelHum(tOut, RHA, P);
+  let lo = -20, hi = tOut;
+  for (let i = 0; i < 80; i++) {
+    const adp = (lo + hi) / 2;
+    const wLine = wOut - (wIn - wOut) * (tOut - adp) / (tIn - tOut);
+    if (wLine > psy.GetSatHumRatio(adp, P)) lo = adp; else hi = adp;
+  }
+  const adp = (lo + hi) / 2;
+  return (tOut - adp) / (tIn - adp);
+})();
+const coilW = (tIn, wIn, t) => {
+  if (t >= tIn) return wIn;
+  const ws = psy.GetSatHumRatio((t - BF * tIn) / (1 - BF), P);
+  return ws < wIn ? ws + BF * (wIn - ws) : wIn;
+};
+const coilTReq = (tIn, wIn, w) => {
+  let lo = -10, hi = tIn;
+  for (let i = 0; i < 80; i++) {
+    const mid = (lo + hi) / 2;
+    if (coilW(tIn, wIn, mid) > w) hi = mid; else lo = mid;
+  }
+  return lo;
+};
 
 const steps = [], hours = [];
 const wReq = psy.GetHumRatioFromTDewPoint(TD_TARGET, P);
@@ -46,8 +80,7 @@ for (let hr = 0; hr < 24; hr++) {
 
     const m = 1.204 * q;
     const wIn = psy.GetHumRatioFromRelHum(tIn, rhIn, P);
-    const tdIn = psy.GetTDewPointFromHumRatio(tIn, wIn, P);
-    const leaving = (t) => t < tdIn ? Math.min(wIn, psy.GetHumRatioFromRelHum(t, RHA, P)) : wIn;
+    const leaving = (t) => coilW(tIn, wIn, t);
     const hk = (t, w) => psy.GetMoistAirEnthalpy(t, w) / 1000;
     const wOut = leaving(tLv);
     acc.dryAir += m * 60;
@@ -62,10 +95,10 @@ for (let hr = 0; hr < 24; hr++) {
     if (tSupEff - tLv > DB) {
       const reheat = m * (hk(tSupEff, wOut) - hk(tLv, wOut));
       let tReq = Infinity;
-      if (wIn > wReq) tReq = psy.GetTDewPointFromVapPres(tIn, psy.GetVapPresFromHumRatio(wReq, P) / RHA);
+      if (wIn > wReq) tReq = coilTReq(tIn, wIn, wReq);
       const tc = Math.min(tIn, tSupEff, tReq);
       const wc = tc < tIn ? leaving(tc) : wIn;
-      const needed = Math.max(0, m * (hk(tSupEff, wc) - hk(tc, wc)));
+      const needed = Math.min(reheat, Math.max(0, m * (hk(tSupEff, wc) - hk(tc, wc))));
       acc.reheat += reheat / 60;
       acc.needed += needed / 60;
       acc.avoid += Math.max(0, reheat - needed) / 60;
