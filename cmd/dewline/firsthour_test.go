@@ -243,3 +243,39 @@ func TestDemo_SaysWhereItsFilesAre(t *testing.T) {
 		assert.FileExists(t, filepath.Join(abs, name))
 	}
 }
+
+// TestRun_ImplausibleSupplyRaisesAnAlert: the analysis path catches, on
+// its own, a supply reading colder than the coil leaving air. Here the two
+// points are swapped in the configuration (the coil's column mapped as the
+// supply and the other way round), so the supply reads about 52 °F below
+// a coil at about 62 °F: every hour is flagged supply_below_coil and
+// sensor_implausible opens, where before the hours had full coverage and
+// no alert.
+func TestRun_ImplausibleSupplyRaisesAnAlert(t *testing.T) {
+	dir := t.TempDir()
+	cfg := site{ahus: []string{"AHU-1"}, schedule: "{backfill: 24h}",
+		points: map[string]string{"AHU-1/leaving_temp": `{column: AHU1_SAT, unit: "F"}`, "AHU-1/supply_temp": `{column: AHU1_LAT, unit: "F"}`}}.write(t, dir, "site.yaml")
+	asOf := time.Date(2026, 7, 20, 12, 30, 0, 0, time.UTC)
+	from := asOf.Truncate(time.Hour).Add(-24 * time.Hour)
+	data := filepath.Join(dir, "trends.csv")
+	writeTrends(t, data, []string{"AHU-1"}, from, asOf.Sub(from))
+	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, errOut)
+	code, stdout, errOut := runCLI(t, "--log-level", "warn", "run", "--config", cfg, "--once", "--as-of", asOf.Format(time.RFC3339))
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, stdout, "AHU-1: 24 hours")
+
+	hours := storedHours(t, filepath.Join(dir, "dewline.db"))
+	require.Len(t, hours, 24)
+	flagged := 0
+	for _, h := range hours {
+		if strings.Contains(h.Flags, "supply_below_coil") {
+			flagged++
+		}
+	}
+	assert.Equal(t, 24, flagged, "every hour reads the supply below the coil: %v", hours[0].Flags)
+	db := openSQLite(t, filepath.Join(dir, "dewline.db"))
+	var n int
+	require.NoError(t, db.QueryRow("SELECT count(*) FROM alerts WHERE kind = 'sensor_implausible' AND state = 'open'").Scan(&n))
+	assert.Equal(t, 1, n, "sensor_implausible is open")
+}
