@@ -96,7 +96,10 @@ type AHUReport struct {
 	Checkpoint time.Time
 	Opened     int
 	Closed     int
-	Err        error
+	// NotQueued counts the transitions recorded but not queued for the
+	// webhook: older than webhook.max_age when computed (a catch-up).
+	NotQueued int
+	Err       error
 }
 
 // RunReport is what one run did.
@@ -153,7 +156,7 @@ func (r *Runner) RunOnce(ctx context.Context) (*RunReport, error) {
 	r.obs().RunStarted()
 	ahus := append([]string(nil), r.ahus()...)
 	sort.Strings(ahus)
-	open := 0
+	open, notQueued := 0, 0
 	for _, id := range ahus {
 		if err := ctx.Err(); err != nil {
 			rep.AHUs = append(rep.AHUs, AHUReport{AHU: id, Err: err})
@@ -162,6 +165,7 @@ func (r *Runner) RunOnce(ctx context.Context) (*RunReport, error) {
 		ar := r.runAHU(ctx, id, slot)
 		rep.AHUs = append(rep.AHUs, ar)
 		rep.Hours += ar.Hours
+		notQueued += ar.NotQueued
 		if ar.Err != nil {
 			r.obs().AHUFailed(id)
 			r.Log.Error().Str("ahu", id).Err(ar.Err).Msg("air handler run failed")
@@ -178,14 +182,26 @@ func (r *Runner) RunOnce(ctx context.Context) (*RunReport, error) {
 		}
 	}
 	r.obs().SetAlertsOpen(open)
+	if notQueued > 0 {
+		r.Log.Info().Int("transitions", notQueued).Str("max_age", r.Cfg.Webhook.MaxAge.String()).
+			Msg("alerts opened or closed longer ago than webhook.max_age are recorded but not posted to the webhook")
+	}
 	rep.Took = time.Since(start)
 	var err error
 	if failed := rep.Failed(); len(ahus) > 0 && len(failed) == len(ahus) {
 		err = fmt.Errorf("run for %s: every air handler failed, first: %w", slot.Format(time.RFC3339), failed[0].Err)
 	}
 	r.obs().RunFinished(rep.Took, err)
-	r.Log.Info().Time("slot", slot).Int("hours", rep.Hours).Int("failed", len(rep.Failed())).Dur("took", rep.Took).Msg("run done")
+	r.Log.Info().Time("slot", slot).Int("hours", rep.Hours).Int("failed", len(rep.Failed())).Dur("took_ms", rep.Took).Msg("run done")
 	return rep, err
+}
+
+// now reads the runner's clock.
+func (r *Runner) now() time.Time {
+	if r.Clock != nil {
+		return r.Clock()
+	}
+	return time.Now()
 }
 
 // runAHU brings one air handler up to slot. A panic in its computation is
@@ -283,7 +299,18 @@ func (r *Runner) runAHU(ctx context.Context, id string, slot time.Time) (ar AHUR
 			through = cp // re-computing old hours never moves the checkpoint back
 		}
 		t0 := time.Now()
-		err = r.Store.Commit(ctx, id, recs, store.AlertUpdate{States: states, Transitions: trs}, through)
+		up := store.AlertUpdate{States: states, Transitions: trs}
+		if w := r.Cfg.Webhook; w != nil && w.MaxAge > 0 {
+			// A catch-up computes transitions of days ago: the sender
+			// would drop them, one by one, as older than max_age.
+			up.QueueFrom = r.now().Add(-w.MaxAge)
+			for _, t := range trs {
+				if t.At.Before(up.QueueFrom) {
+					ar.NotQueued++
+				}
+			}
+		}
+		err = r.Store.Commit(ctx, id, recs, up, through)
 		r.obs().ObserveWrite(time.Since(t0), err)
 		if err != nil {
 			r.storeError(err)

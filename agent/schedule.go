@@ -92,7 +92,7 @@ func (r *Runner) Serve(ctx context.Context, grace time.Duration) error {
 	select {
 	case <-done:
 	case <-clk.After(grace):
-		r.Log.Warn().Dur("grace", grace).Msg("abandoning the run in flight")
+		r.Log.Warn().Dur("grace_ms", grace).Msg("abandoning the run in flight")
 		cancelRuns()
 		<-done
 	}

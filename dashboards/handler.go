@@ -561,18 +561,27 @@ func alertRows(alerts []Alert, s *Site, now time.Time) []AlertRow {
 }
 
 var funcs = template.FuncMap{
-	"qty":   fmtQty,
-	"money": fmtMoney,
-	"pct":   fmtPct,
-	"fixed": fmtFixed,
-	"n":     func(v Num) float64 { return float64(v) },
-	"local": func(t time.Time, z *time.Location) string { return t.In(z).Format("2006-01-02 15:04") },
-	"kindLabel": func(k string) string {
-		return strings.ReplaceAll(k, "_", " ")
-	},
-	"temp":      func(d Display, c float64) string { return fmtFixed(d.Temp(c), 1) },
-	"water":     func(d Display, kg Num) string { return fmtQty(d.Water(float64(kg))) },
-	"sub":       func(a, b Num) Num { return a - b },
-	"unitPath":  unitPath,
-	"chartPath": func(id string) string { return "/units/" + url.PathEscape(id) + "/chart" },
+	"qty":        fmtQty,
+	"money":      fmtMoney,
+	"pct":        fmtPct,
+	"fixed":      fmtFixed,
+	"n":          func(v Num) float64 { return float64(v) },
+	"local":      func(t time.Time, z *time.Location) string { return t.In(z).Format("2006-01-02 15:04") },
+	"kindLabel":  func(k string) string { return strings.ReplaceAll(k, "_", " ") },
+	"alertLabel": AlertLabel,
+	"temp":       func(d Display, c float64) string { return fmtFixed(d.Temp(c), 1) },
+	"water":      func(d Display, kg Num) string { return fmtQty(d.Water(float64(kg))) },
+	"sub":        func(a, b Num) Num { return a - b },
+	"unitPath":   unitPath,
+	"chartPath":  func(id string) string { return "/units/" + url.PathEscape(id) + "/chart" },
+}
+
+// AlertLabel is how pages and the report name an alert kind: words in
+// sentence case ("reheat_not_needed" reads "Reheat not needed").
+func AlertLabel(kind string) string {
+	s := strings.ReplaceAll(kind, "_", " ")
+	if s == "" {
+		return s
+	}
+	return strings.ToUpper(s[:1]) + s[1:]
 }

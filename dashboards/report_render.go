@@ -136,7 +136,7 @@ type reportView struct {
 	PeriodHours                              string
 	Unc                                      []rvUnc
 	TempUnit, WaterUnit, DeltaUnit           string
-	HasFuel, WholeDays                       bool
+	HasFuel, WholeDays, PartCovered          bool
 }
 
 // paperSize returns the CSS page size and the paper's name: paper as
@@ -229,6 +229,7 @@ func (r *Report) view() (*reportView, error) {
 	v.WholeDays = midnight(r.Period.From).Equal(r.Period.From) && midnight(r.Period.To).Equal(r.Period.To)
 	if n := float64(len(r.Units)) * r.Period.Hours(); n > 0 {
 		v.HoursShare = fmtPct(float64(t.Hours) / n)
+		v.PartCovered = v.HoursShare != "100 %"
 	}
 	v.Annual = []rvRow{
 		{"Avoidable cost", fmtFixed(a.CostAvoidable, 0) + " " + cur, "± " + fmtFixed(a.CostAvoidableU95, 0) + " " + cur + " from the sensors' uncertainty of the avoidable reheat", "annual_cost_avoidable", raw(a.CostAvoidable)},
@@ -360,7 +361,7 @@ func (r *Report) unitView(ur UnitReport) rvUnit {
 	for _, a := range ur.Alerts {
 		k, ok := kinds[a.Kind]
 		if !ok {
-			k = &rvAlertKind{Kind: strings.ReplaceAll(a.Kind, "_", " ")}
+			k = &rvAlertKind{Kind: AlertLabel(a.Kind)}
 			kinds[a.Kind] = k
 			order = append(order, a.Kind)
 		}
@@ -384,7 +385,7 @@ func (r *Report) unitView(ur UnitReport) rvUnit {
 		if a.End.IsZero() || a.End.After(r.Period.To) {
 			state += ", ongoing at the end"
 		}
-		uv.Alerts = append(uv.Alerts, rvAlert{Kind: strings.ReplaceAll(a.Kind, "_", " "), Severity: a.Severity, State: state,
+		uv.Alerts = append(uv.Alerts, rvAlert{Kind: AlertLabel(a.Kind), Severity: a.Severity, State: state,
 			Start: a.Start.In(r.Site.Zone).Format("2006-01-02 15:04"), Duration: fmtDuration(r.inPeriod(a)),
 			Energy: fmtQty(a.EnergyKWh), Money: fmtMoney(a.Money), Reason: a.Reason})
 	}

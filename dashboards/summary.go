@@ -43,7 +43,8 @@ type Totals struct {
 	CoilEER         Num     `json:"coil_eer"`
 	ReheatCoilRatio Num     `json:"reheat_coil_ratio"`
 	AvoidableShare  Num     `json:"avoidable_share"` // avoidable reheat / reheat
-	FlaggedHours    int     `json:"flagged_hours"`   // hours with any data-quality flag
+	FlaggedHours    int     `json:"flagged_hours"`   // hours with a data-quality flag (metrics.QualityFlagged)
+	NotedHours      int     `json:"noted_hours"`     // hours with an informational flag only (metrics.Informational)
 	covSum          float64 // for the mean
 }
 
@@ -72,8 +73,11 @@ func NewTotals() Totals {
 // errors are treated as fully correlated (an upper bound).
 func (t *Totals) Add(r *metrics.Record) {
 	t.Hours++
-	if len(r.Flags) > 0 {
+	switch {
+	case metrics.QualityFlagged(r.Flags):
 		t.FlaggedHours++
+	case len(r.Flags) > 0:
+		t.NotedHours++
 	}
 	t.addSums(r)
 }

@@ -92,7 +92,7 @@ func (p *PointCheck) UnitNote() string {
 
 // WritePointChecks writes the checks as a table, a row per air handler
 // and role, times in loc, and counts the points that need a look.
-func WritePointChecks(w io.Writer, loc *time.Location, checks map[string]*PointCheck) error {
+func WritePointChecks(w io.Writer, loc *time.Location, checks map[string]*PointCheck) (needLook int, err error) {
 	type row struct {
 		ahu, role string
 		pc        *PointCheck
@@ -132,10 +132,10 @@ func WritePointChecks(w io.Writer, loc *time.Location, checks map[string]*PointC
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%s\t%s\t%s\t%s\t%s\n", r.ahu, r.role, pc.Name, pc.Targets[0].Ref.Unit, pc.N, first, last, iv, oor, note)
 	}
 	if err := tw.Flush(); err != nil {
-		return err
+		return 0, err
 	}
 	if problems > 0 {
 		fmt.Fprintf(w, "%d point(s) need a look (see the note and out-of-range columns)\n", problems)
 	}
-	return nil
+	return problems, nil
 }

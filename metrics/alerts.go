@@ -203,7 +203,7 @@ func checkFlat(r *Record, _ RuleParams) (bool, float64, float64, string) {
 	return true, 0, 0, fmt.Sprintf("%s read exactly the same value all hour; the sensors may be stuck", strings.Join(roles, ", "))
 }
 
-func checkImplausible(r *Record, _ RuleParams) (bool, float64, float64, string) {
+func checkImplausible(r *Record, p RuleParams) (bool, float64, float64, string) {
 	var why []string
 	for _, f := range r.Flags {
 		switch {
@@ -213,6 +213,9 @@ func checkImplausible(r *Record, _ RuleParams) (bool, float64, float64, string) 
 			why = append(why, "the entering dew point reads above the dry bulb")
 		case f == FlagReheatWithoutCoil:
 			why = append(why, "the supply reads warmer than the coil leaving air on a unit without reheat")
+		case f == FlagSupplyBelowCoil:
+			why = append(why, fmt.Sprintf("the supply (%s) reads colder than the coil leaving air (%s), which nothing after the coil can do: check the supply sensor and its unit (°C logged as °F reads far too cold)",
+				p.temp(r.SupplyTempC), p.temp(r.LeavingTempC)))
 		case f == FlagCOPImplausible:
 			why = append(why, fmt.Sprintf("the air-side coil load (%.1f kWh) over the metered cooling input (%.1f kWh) is outside 1.5-7: suspect the airflow, the entering humidity sensor or the meter", r.CoilTotalKWh, r.CoolingInputKWh))
 		case f == FlagLeavingSensorOut:

@@ -26,7 +26,16 @@ const (
 	FlagSpaceGainAssumed   = "space_gain_assumed"
 	FlagCOPImplausible     = "cop_implausible"        // air-side coil load over metered cooling input outside 1.5-7
 	FlagLeavingSensorOut   = "leaving_sensor_missing" // a mapped leaving humidity sensor read nothing; the coil model took over
+	FlagSupplyBelowCoil    = "supply_below_coil"      // supply reads more than SupplyBelowCoilK colder than the coil leaving air
 )
+
+// SupplyBelowCoilK is how far the supply may read below the coil leaving
+// air before the pair is implausible: nothing between a cooling coil and
+// the supply cools the air further (the fan and duct only add heat), so a
+// supply well below the coil is a sensor or unit mistake, such as °C
+// logged as °F. Two sensors' calibration and stratification allow about
+// 3 K (common practice, no source).
+const SupplyBelowCoilK = 3.0
 
 // Compute turns one aligned hour into a record. It never fails: missing or
 // implausible data lower the coverage and raise flags.
@@ -38,6 +47,7 @@ func Compute(u *Unit, hr *Hour) Record {
 
 	var (
 		valid, coolOnSteps, needSteps, moistSteps, supersatSteps, noCoilSteps, modelled int
+		belowCoilSteps                                                                  int
 		sumTIn, sumWIn, sumWLv, sumTLv, sumTSup, sumReq, sumOver                        float64
 		reheatElecIn, reheatAvoidIn, meterHeat, computedHeat                            float64
 		meterSteps, gainSteps, lvOutSteps, copSteps                                     int
@@ -155,6 +165,9 @@ func Compute(u *Unit, hr *Hour) Record {
 		if o.reheatWithoutCoil {
 			noCoilSteps++
 		}
+		if in.tSup < in.tLv-SupplyBelowCoilK {
+			belowCoilSteps++
+		}
 		sumTIn += in.tIn
 		sumWIn += o.wIn
 		sumWLv += o.wOut
@@ -251,6 +264,9 @@ func Compute(u *Unit, hr *Hour) Record {
 	}
 	if noCoilSteps >= 5 {
 		flags = append(flags, FlagReheatWithoutCoil)
+	}
+	if belowCoilSteps >= 5 {
+		flags = append(flags, FlagSupplyBelowCoil)
 	}
 	if meterSteps > 0 && math.Max(meterHeat, computedHeat) > 0.5 &&
 		math.Abs(meterHeat-computedHeat) > u.Thresholds.MeterTolerance*math.Max(meterHeat, computedHeat) {

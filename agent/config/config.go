@@ -2,6 +2,7 @@ package config
 
 import (
 	"bytes"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -364,11 +365,20 @@ func parseAll(r io.Reader, name string) (*Config, *ConfigError, *yaml.Node, erro
 	cfg := &Config{}
 	dec := yaml.NewDecoder(bytes.NewReader(data))
 	dec.KnownFields(true)
+	var meant []string
 	if err := dec.Decode(cfg); err != nil {
-		ce.addDecodeErrors(err)
+		meant = ce.addDecodeErrors(err, &root)
 	}
 	cfg.applyDefaults()
-	cfg.validate(ce, &root)
+	// A misspelt key is reported once: not again as the key it meant
+	// being missing.
+	vce := &ConfigError{File: name}
+	cfg.validate(vce, &root)
+	for _, p := range vce.Problems {
+		if !underAny(p.Path, meant) {
+			ce.Problems = append(ce.Problems, p)
+		}
+	}
 	sort.SliceStable(ce.Problems, func(i, j int) bool { return ce.Problems[i].Line < ce.Problems[j].Line })
 	return cfg, ce, &root, nil
 }
@@ -499,9 +509,33 @@ func SecretFromEnv(key, name string) (string, error) {
 	}
 	v, ok := os.LookupEnv(name)
 	if !ok || strings.TrimSpace(v) == "" {
-		return "", fmt.Errorf("%s: environment variable %s is not set", key, name)
+		return "", fmt.Errorf("%s: environment variable %s is not set; export it in the environment dewline runs in, or remove %s", key, name, key)
 	}
 	return strings.TrimSpace(v), nil
+}
+
+// CheckSecrets looks up every environment variable and file the
+// configuration names for a secret (store.influxdb.token_env or
+// token_file, http.token_env, webhook.secret_env), all of them whatever
+// the command, so that "dewline check" and "dewline run --once" report a
+// missing one before the long-running agent trips over it. It returns every
+// one missing at once and never the values.
+func (c *Config) CheckSecrets() error {
+	var errs []error
+	if ic := c.Store.InfluxDB; c.Store.Kind == "influxdb" && ic != nil {
+		if _, err := ic.Token(); err != nil {
+			errs = append(errs, err)
+		}
+	}
+	if _, err := SecretFromEnv("http.token_env", c.HTTP.TokenEnv); err != nil {
+		errs = append(errs, err)
+	}
+	if w := c.Webhook; w != nil {
+		if _, err := SecretFromEnv("webhook.secret_env", w.SecretEnv); err != nil {
+			errs = append(errs, err)
+		}
+	}
+	return errors.Join(errs...)
 }
 
 // AirHandler returns the air handler with the given id.

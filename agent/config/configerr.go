@@ -57,9 +57,10 @@ func (e *ConfigError) add(line int, path, msg, fix string) {
 }
 
 var (
-	reLine      = regexp.MustCompile(`line (\d+)`)
-	reUnknown   = regexp.MustCompile(`^line (\d+): field (\S+) not found in type (\S+)$`)
-	reTypeError = regexp.MustCompile(`^line (\d+): cannot unmarshal !!(\w+) ` + "`" + `([^` + "`" + `]*)` + "`" + ` into (\S+)$`)
+	reLine       = regexp.MustCompile(`line (\d+)`)
+	reUnknown    = regexp.MustCompile(`^line (\d+): field (\S+) not found in type (\S+)$`)
+	reNumberUnit = regexp.MustCompile(`^\s*[-+]?[0-9.,]+\s*[^0-9\s]`)
+	reTypeError  = regexp.MustCompile(`^line (\d+): cannot unmarshal !!(\w+) ` + "`" + `([^` + "`" + `]*)` + "`" + ` into (\S+)$`)
 )
 
 func yamlLine(msg string) int {
@@ -71,12 +72,15 @@ func yamlLine(msg string) int {
 }
 
 // addDecodeErrors turns the YAML decoder's errors into problems with fixes:
-// an unknown key lists the keys allowed there and the nearest one.
-func (e *ConfigError) addDecodeErrors(err error) {
+// an unknown key lists the keys allowed there and the nearest one; a value
+// of the wrong type names its key. It returns the key paths that a
+// misspelt key probably meant and that the file therefore lacks, so that
+// the caller does not report them missing as well.
+func (e *ConfigError) addDecodeErrors(err error, root *yaml.Node) (meant []string) {
 	var te *yaml.TypeError
 	if !errors.As(err, &te) {
 		e.add(yamlLine(err.Error()), "", strings.TrimPrefix(err.Error(), "yaml: "), "fix the YAML")
-		return
+		return nil
 	}
 	for _, msg := range te.Errors {
 		line := yamlLine(msg)
@@ -88,6 +92,9 @@ func (e *ConfigError) addDecodeErrors(err error) {
 				fix = "allowed keys here: " + strings.Join(allowed, ", ")
 				if near := nearest(key, allowed); near != "" {
 					fix = fmt.Sprintf("did you mean %q? %s", near, fix)
+					if parent, ok := keyPath(root, line, key, true); ok {
+						meant = append(meant, joinPath(parentPath(parent), near))
+					}
 				}
 			}
 			if key == "token" || key == "password" {
@@ -101,12 +108,80 @@ func (e *ConfigError) addDecodeErrors(err error) {
 			fix := "give a " + friendlyType(want)
 			if want == "time.Duration" {
 				fix = "give a duration such as 90s, 15m or 1h"
+			} else if (want == "float64" || want == "int") && reNumberUnit.MatchString(m[3]) {
+				fix = "give the number alone, without a unit or currency"
 			}
-			e.add(line, "", fmt.Sprintf("%q is not a valid %s", m[3], friendlyType(want)), fix)
+			path, _ := keyPath(root, line, m[3], false)
+			e.add(line, path, fmt.Sprintf("%q is not a valid %s", m[3], friendlyType(want)), fix)
 			continue
 		}
 		e.add(line, "", strings.TrimPrefix(msg, fmt.Sprintf("line %d: ", line)), "")
 	}
+	return meant
+}
+
+// keyPath finds, in the document under n, the key on line that is text
+// (isKey) or whose scalar value is text, and returns its path
+// (air_handlers[0].points.entering_temp.unit).
+func keyPath(n *yaml.Node, line int, text string, isKey bool) (string, bool) {
+	var walk func(n *yaml.Node, path string) (string, bool)
+	walk = func(n *yaml.Node, path string) (string, bool) {
+		switch n.Kind {
+		case yaml.DocumentNode:
+			for _, c := range n.Content {
+				if p, ok := walk(c, path); ok {
+					return p, true
+				}
+			}
+		case yaml.MappingNode:
+			for i := 0; i+1 < len(n.Content); i += 2 {
+				k, v := n.Content[i], n.Content[i+1]
+				p := joinPath(path, k.Value)
+				if isKey && k.Line == line && k.Value == text {
+					return p, true
+				}
+				if !isKey && v.Kind == yaml.ScalarNode && v.Line == line && v.Value == text {
+					return p, true
+				}
+				if q, ok := walk(v, p); ok {
+					return q, true
+				}
+			}
+		case yaml.SequenceNode:
+			for i, c := range n.Content {
+				if p, ok := walk(c, fmt.Sprintf("%s[%d]", path, i)); ok {
+					return p, true
+				}
+			}
+		}
+		return "", false
+	}
+	return walk(n, "")
+}
+
+func joinPath(parent, key string) string {
+	if parent == "" {
+		return key
+	}
+	return parent + "." + key
+}
+
+// parentPath drops the last key of a path.
+func parentPath(p string) string {
+	if i := strings.LastIndexByte(p, '.'); i >= 0 {
+		return p[:i]
+	}
+	return ""
+}
+
+// underAny reports whether path is one of paths or lies under one.
+func underAny(path string, paths []string) bool {
+	for _, p := range paths {
+		if path == p || strings.HasPrefix(path, p+".") || strings.HasPrefix(path, p+"[") {
+			return true
+		}
+	}
+	return false
 }
 
 func friendlyType(t string) string {

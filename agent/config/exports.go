@@ -30,5 +30,7 @@ func (c *Config) CSVOptions() csvfile.Options {
 		return csvfile.Auto
 	}
 	o.DecimalComma, o.DayFirst = tri(e.DecimalComma), tri(e.DayFirst)
+	o.Settings = csvfile.Settings{Delimiter: "exports.delimiter", DecimalComma: "exports.decimal_comma",
+		DayFirst: "exports.day_first", TimeColumn: "exports.time_column", Location: "site.timezone"}
 	return o
 }

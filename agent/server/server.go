@@ -423,7 +423,7 @@ func (s *Server) logRequests(h http.Handler) http.Handler {
 			Str("path", r.URL.Path).
 			Int("status", rec.status).
 			Int64("bytes", rec.bytes).
-			Dur("duration", time.Since(start)).
+			Dur("duration_ms", time.Since(start)).
 			Str("remote", r.RemoteAddr).
 			Msg("http request")
 	})

@@ -90,7 +90,8 @@ type WebhookOptions struct {
 //   - other 4xx: refused for good. It is logged at error level, counted as
 //     a failure and as dropped, and marked delivered so that it does not
 //     block the queue.
-//   - older than MaxAge: dropped the same way without an attempt.
+//   - older than MaxAge: dropped the same way without an attempt, counted,
+//     and logged in one line a pass.
 //
 // One process never posts the same event twice after a 2xx: when marking
 // it delivered fails, only the mark is retried. Across a crash exactly
@@ -224,6 +225,15 @@ func (w *WebhookSender) pass(ctx context.Context) {
 	if w.opt.Clock().Before(w.notBefore) {
 		return
 	}
+	// Events too old to post are dropped with one line a pass, not one each.
+	var stale int
+	var oldest time.Duration
+	defer func() {
+		if stale > 0 {
+			w.log.Warn().Int("events", stale).Str("oldest_age", oldest.Round(time.Second).String()).Str("max_age", w.opt.MaxAge.String()).
+				Msg("webhook events older than webhook.max_age dropped without posting")
+		}
+	}()
 	for ctx.Err() == nil {
 		evs, err := w.opt.Store.PendingEvents(ctx, webhookBatch)
 		if err != nil {
@@ -239,7 +249,12 @@ func (w *WebhookSender) pass(ctx context.Context) {
 				return
 			}
 			if !w.posted[ev.Seq] && ev.Seq > w.highWater {
-				if w.deliver(ctx, ev) == outPending {
+				if age := w.opt.Clock().Sub(ev.At); age > w.opt.MaxAge {
+					w.opt.Telemetry.WebhookDropped()
+					w.log.Debug().Int64("seq", ev.Seq).Str("alert_id", ev.AlertID).Str("age", age.String()).Msg("webhook event too old, dropped")
+					stale++
+					oldest = max(oldest, age)
+				} else if w.deliver(ctx, ev) == outPending {
 					return
 				}
 				w.posted[ev.Seq] = true
@@ -266,11 +281,6 @@ func (w *WebhookSender) pass(ctx context.Context) {
 // deliver tries to post one event, retrying as WebhookSender says.
 func (w *WebhookSender) deliver(ctx context.Context, ev store.Event) outcome {
 	lg := w.log.With().Int64("seq", ev.Seq).Str("alert_id", ev.AlertID).Str("transition", ev.Transition).Logger()
-	if age := w.opt.Clock().Sub(ev.At); age > w.opt.MaxAge {
-		w.opt.Telemetry.WebhookDropped()
-		lg.Warn().Dur("age", age).Dur("max_age", w.opt.MaxAge).Msg("webhook event too old, dropped")
-		return outDropped
-	}
 	if !json.Valid(ev.Payload) {
 		w.opt.Telemetry.WebhookDropped()
 		lg.Error().Msg("webhook event payload is not JSON, dropped")
@@ -310,7 +320,7 @@ func (w *WebhookSender) deliver(ctx context.Context, ev store.Event) outcome {
 		lg.Debug().Err(last).Int("attempt", attempt).Msg("webhook attempt failed")
 		if retryAfter > w.opt.Poll {
 			w.notBefore = w.opt.Clock().Add(retryAfter)
-			lg.Warn().Err(last).Dur("retry_after", retryAfter).Msg("webhook receiver asked to wait, event stays pending")
+			lg.Warn().Err(last).Dur("retry_after_ms", retryAfter).Msg("webhook receiver asked to wait, event stays pending")
 			return outPending
 		}
 		if attempt == w.opt.MaxAttempts {

@@ -1,6 +1,7 @@
 package webhook
 
 import (
+	"bytes"
 	"context"
 	"crypto/hmac"
 	"crypto/sha256"
@@ -11,6 +12,7 @@ import (
 	"math"
 	"net/http"
 	"net/http/httptest"
+	"strings"
 	"sync"
 	"testing"
 	"time"
@@ -392,18 +394,27 @@ func TestWebhook_MaxAge(t *testing.T) {
 	rc := newReceiver(t)
 	old := testEvent(1, "ahu-1/data_gap/20250713T10Z", "open")
 	old.At = webhookNow.Add(-25 * time.Hour)
-	fresh := testEvent(2, "ahu-1/data_gap/20250713T10Z", "closed")
+	older := testEvent(3, "ahu-1/reheat_not_needed/20250712T02Z", "open")
+	older.At = webhookNow.Add(-50 * time.Hour)
+	fresh := testEvent(4, "ahu-1/data_gap/20250713T10Z", "closed")
 	fresh.At = webhookNow.Add(-23 * time.Hour)
-	store := newMemEvents(old, fresh)
+	store := newMemEvents(old, older, fresh)
 	tel := telemetry.NewTelemetry()
-	w := newTestSender(t, rc.URL, store, tel, func(o *WebhookOptions) { o.MaxAge = 24 * time.Hour })
+	var logs bytes.Buffer
+	w := newTestSender(t, rc.URL, store, tel, func(o *WebhookOptions) {
+		o.MaxAge = 24 * time.Hour
+		o.Log = zerolog.New(&logs)
+	})
 
 	w.pass(context.Background())
 	reqs := rc.requests()
-	require.Len(t, reqs, 1, "the old event is not posted")
+	require.Len(t, reqs, 1, "the old events are not posted")
 	assert.Equal(t, "ahu-1/data_gap/20250713T10Z/closed", reqs[0].header.Get("X-Dewline-Event"))
-	assert.Empty(t, store.pending(), "the old event is marked so it leaves the queue")
-	assert.Equal(t, 1.0, metricValue(t, tel, "dewline_webhook_dropped_total"))
+	assert.Empty(t, store.pending(), "the old events are marked so they leave the queue")
+	assert.Equal(t, 2.0, metricValue(t, tel, "dewline_webhook_dropped_total"))
+	// One warning for the pass, not one per event.
+	assert.Equal(t, 1, strings.Count(logs.String(), `"level":"warn"`), logs.String())
+	assert.Contains(t, logs.String(), `"events":2,"oldest_age":"50h0m0s","max_age":"24h0m0s","message":"webhook events older than webhook.max_age dropped without posting"`)
 	assert.Equal(t, 1.0, metricValue(t, tel, "dewline_webhook_deliveries_total"))
 	assert.Zero(t, metricValue(t, tel, "dewline_webhook_failures_total"))
 }

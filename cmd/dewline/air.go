@@ -6,6 +6,8 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"math"
+	"strconv"
 	"strings"
 
 	"github.com/dewline/dewline/psychro"
@@ -103,6 +105,11 @@ func runAir(_ context.Context, e *env, args []string) error {
 		if v < 0 || v > 1 {
 			return usagef("--rh %s: relative humidity must be between 0 and 100 %%", *rh)
 		}
+		if n, err := strconv.ParseFloat(strings.TrimSpace(*rh), 64); err == nil && n > 0 && n <= 1 {
+			// A fraction typed where a percentage is read: say which was used.
+			e.log.Warn().Str("rh", *rh).Msgf("--rh %s was read as %s %%; for %s %% give --rh %s", *rh, *rh,
+				strconv.FormatFloat(n*100, 'f', -1, 64), strconv.FormatFloat(n*100, 'f', -1, 64))
+		}
 		s, err = psychro.NewStateRH(tC, v, pPa)
 		if err != nil {
 			return fmt.Errorf("--rh: %w", err)
@@ -151,19 +158,33 @@ func writeAirJSON(w io.Writer, s psychro.State) error {
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
 	return enc.Encode(airJSON{
-		DryBulbC:           s.DryBulbC,
-		RHPct:              s.RH * 100,
-		PressureKPa:        s.PressurePa / 1000,
-		HumidityRatio:      s.HumRatio,
-		HumidityRatioGrLb:  psychro.HumRatioToGrainsPerLb(s.HumRatio),
-		VapourPressureKPa:  s.VapPressurePa / 1000,
-		DewPointC:          s.DewPointC,
-		WetBulbC:           s.WetBulbC,
-		EnthalpyKJPerKg:    s.EnthalpyKJPerKg,
-		SpecificVolumeM3Kg: s.VolumeM3PerKg,
-		DensityKgM3:        s.DensityKgPerM3,
-		DegreeOfSaturation: s.DegreeOfSaturation,
+		DryBulbC:           sig6(s.DryBulbC),
+		RHPct:              sig6(s.RH * 100),
+		PressureKPa:        math.Round(s.PressurePa) / 1000, // to the pascal
+		HumidityRatio:      sig6(s.HumRatio),
+		HumidityRatioGrLb:  sig6(psychro.HumRatioToGrainsPerLb(s.HumRatio)),
+		VapourPressureKPa:  sig6(s.VapPressurePa / 1000),
+		DewPointC:          sig6(s.DewPointC),
+		WetBulbC:           sig6(s.WetBulbC),
+		EnthalpyKJPerKg:    sig6(s.EnthalpyKJPerKg),
+		SpecificVolumeM3Kg: sig6(s.VolumeM3PerKg),
+		DensityKgM3:        sig6(s.DensityKgPerM3),
+		DegreeOfSaturation: sig6(s.DegreeOfSaturation),
 	})
+}
+
+// sig6 rounds to six significant digits: 80 °F reads 26.6667 °C, not
+// 26.666666666666664. Six digits are finer than any input's precision and
+// than the formulas' agreement with the handbook tables.
+func sig6(v float64) float64 {
+	if v == 0 || math.IsNaN(v) || math.IsInf(v, 0) {
+		return v
+	}
+	r, err := strconv.ParseFloat(strconv.FormatFloat(v, 'g', 6, 64), 64)
+	if err != nil {
+		return v
+	}
+	return r
 }
 
 type airRow struct{ label, value, unit string }

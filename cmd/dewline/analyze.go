@@ -26,8 +26,8 @@ func (s *stringList) Set(v string) error { *s = append(*s, v); return nil }
 func runAnalyze(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("analyze", flag.ContinueOnError)
 	cfgPath := fs.String("config", "", "configuration file (required)")
-	fromS := fs.String("from", "", "start of the period: 2026-07-01 or 2026-07-01T06:00 (site time), or RFC 3339; default: the first data")
-	toS := fs.String("to", "", "end of the period (exclusive); default: the last data")
+	fromS := fs.String("from", "", "start of the period: a day (2026-07-01) or a time (2026-07-01T06:00 site time, or RFC 3339); required with the store, default with --input: the exports' first data")
+	toS := fs.String("to", "", "end of the period: the last day, included (2026-07-31), or a time, excluded; required with the store, default with --input: the exports' last data")
 	out := fs.String("out", "", "write the hourly records to this .csv or .json file")
 	noStore := fs.Bool("no-store", false, "do not write results to the configured store")
 	var inputs, units stringList
@@ -35,6 +35,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	fs.Var(&units, "ahu", "analyse only this air handler; repeatable (default: all)")
 	fs.Usage = func() {
 		fmt.Fprintln(fs.Output(), "usage: dewline analyze --config FILE [--from T] [--to T] [--input trends.csv ...] [--out hourly.csv|hourly.json] [--ahu ID ...] [--no-store]")
+		fmt.Fprintln(fs.Output(), "Period bounds: "+periodRule+".")
 		fs.PrintDefaults()
 	}
 	cfg, err := parseWithConfig(fs, args, e.stdout)
@@ -43,17 +44,17 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	}
 	var from, to time.Time
 	if *fromS != "" {
-		if from, err = parseTime(*fromS, cfg.Location); err != nil {
-			return usagef("--from: %v", err)
+		if from, err = parseFrom("--from", *fromS, cfg.Location); err != nil {
+			return err
 		}
 	}
 	if *toS != "" {
-		if to, err = parseTime(*toS, cfg.Location); err != nil {
-			return usagef("--to: %v", err)
+		if to, _, err = parseTo("--to", *toS, cfg.Location); err != nil {
+			return err
 		}
 	}
 	if len(inputs) == 0 && (from.IsZero() || to.IsZero()) {
-		return usagef("--from and --to are required when reading from the store")
+		return usagef("--from and --to are required when reading from the store, e.g. --from 2026-07-01 --to 2026-07-31 (%s)", periodRule)
 	}
 	if !from.IsZero() && !to.IsZero() && !to.After(from) {
 		return usagef("--to must be after --from")
@@ -190,7 +191,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 			return err
 		}
 	}
-	log.Info().Int("hours", hours).Dur("took", time.Since(start)).Int("failed", len(failed)).Msg("analysis done")
+	log.Info().Int("hours", hours).Dur("took_ms", time.Since(start)).Int("failed", len(failed)).Msg("analysis done")
 	return agent.WriteSummaries(e.stdout, cfg, ahus, sums)
 }
 

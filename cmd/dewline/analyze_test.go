@@ -90,7 +90,7 @@ func TestAnalyze_ExportAndStoreAgree(t *testing.T) {
 	code, _, errOut = runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
 	require.Equal(t, 0, code, errOut)
 
-	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-16", "--out", fromStore)
+	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-15", "--out", fromStore)
 	require.Equal(t, 0, code, errOut)
 
 	h1, r1 := readHourly(t, direct)
@@ -100,7 +100,7 @@ func TestAnalyze_ExportAndStoreAgree(t *testing.T) {
 		assert.Contains(t, h1, name)
 	}
 	require.Len(t, r1, 48, "two days from the first to the last export hour")
-	require.Len(t, r2, 48, "2026-07-14..16 in Chicago is 48 hours")
+	require.Len(t, r2, 48, "14 and 15 July, the last day included, in Chicago is 48 hours")
 	for i := range r1 {
 		assert.Equal(t, r1[i], r2[i], "hour %d", i)
 	}
@@ -138,7 +138,7 @@ func TestAnalyze_BadInput(t *testing.T) {
 	}{
 		{"no config", []string{"analyze", "--input", data}, 2, "--config is required"},
 		{"store needs a period", []string{"analyze", "--config", cfg}, 2, "--from and --to are required"},
-		{"bad time", []string{"analyze", "--config", cfg, "--from", "July", "--to", "2026-07-16"}, 2, "is not a time"},
+		{"bad time", []string{"analyze", "--config", cfg, "--from", "July", "--to", "2026-07-15"}, 2, "is not a time"},
 		{"bad out", []string{"analyze", "--config", cfg, "--input", data, "--out", "x.xlsx"}, 2, ".csv or .json"},
 		{"unknown unit", []string{"analyze", "--config", cfg, "--input", data, "--ahu", "AHU-9"}, 2, `"AHU-9": no such air handler`},
 		{"missing file", []string{"analyze", "--config", cfg, "--input", filepath.Join(dir, "nope.csv")}, 1, "nope.csv"},
@@ -165,6 +165,54 @@ func TestCheck_Inputs(t *testing.T) {
 	wrong := filepath.Join(dir, "wrong.yaml")
 	require.NoError(t, os.WriteFile(wrong, bytes.ReplaceAll([]byte(analyzeConfig), []byte("{column: SAT, unit: F}"), []byte("{column: SAT, unit: C}")), 0o600))
 	code, out, _ = runCLI(t, "check", "--config", wrong, "--input", data)
-	require.Equal(t, 0, code)
+	require.Equal(t, 3, code, "points need a look: a distinct exit status")
 	assert.Contains(t, out, "values look like °F, not C")
+}
+
+// TestPeriodRule: every command reads a period's bounds by one rule (a
+// date is a whole local day, the --to day included; a time is an instant,
+// excluded), and says so in its help. One day of the scenario in Chicago
+// (CDT, UTC-5) is the 24 hours from 05:00Z; the report of the same day
+// covers the same hours.
+func TestPeriodRule(t *testing.T) {
+	dir, cfg, _ := reportStore(t)
+	tests := []struct {
+		name     string
+		from, to string
+		first    string
+		hours    int
+	}{
+		{"one day", "2026-07-14", "2026-07-14", "2026-07-14T05:00:00Z", 24},
+		{"two days", "2026-07-14", "2026-07-15", "2026-07-14T05:00:00Z", 48},
+		{"a time is excluded", "2026-07-14T06:00", "2026-07-14T09:00", "2026-07-14T11:00:00Z", 3},
+		{"RFC 3339 is excluded", "2026-07-14T05:00:00Z", "2026-07-14T07:00:00Z", "2026-07-14T05:00:00Z", 2},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			out := filepath.Join(dir, "h.csv")
+			code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--no-store", "--from", tt.from, "--to", tt.to, "--out", out)
+			require.Equal(t, 0, code, errOut)
+			header, rows := readHourly(t, out)
+			require.Len(t, rows, tt.hours)
+			col := -1
+			for i, h := range header {
+				if h == "hour_start" {
+					col = i
+				}
+			}
+			assert.Equal(t, tt.first, rows[0][col])
+		})
+	}
+	rep := filepath.Join(dir, "r.html")
+	code, _, errOut := runCLI(t, "--log-level", "warn", "report", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-14", "-o", rep)
+	require.Equal(t, 0, code, errOut)
+	body, err := os.ReadFile(rep)
+	require.NoError(t, err)
+	assert.True(t, strings.Contains(string(body), `data-field="hours" data-value="24"`), "the report of the same day holds the same 24 hours")
+
+	for _, cmd := range []string{"analyze", "report", "check"} {
+		code, stdout, _ := runCLI(t, cmd, "-h")
+		assert.Equal(t, 0, code)
+		assert.Contains(t, stdout, "--to DAY includes that day", "%s -h states the rule", cmd)
+	}
 }

@@ -17,16 +17,21 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 	cfgPath := fs.String("config", "", "configuration file (required)")
 	useStore := fs.Bool("store", false, "also report what the configured store holds for each point")
 	fromS := fs.String("from", "", "with --store: start of the window to inspect (default: 7 days before --to)")
-	toS := fs.String("to", "", "with --store: end of the window (default: now)")
+	toS := fs.String("to", "", "with --store: end of the window, the last day included (2026-07-31) or a time excluded (default: now)")
 	var inputs stringList
 	fs.Var(&inputs, "input", "trend export (CSV) to inspect against the configuration; repeatable")
 	fs.Usage = func() {
 		fmt.Fprintln(fs.Output(), "usage: dewline check --config FILE [--input trends.csv ...] [--store [--from T] [--to T]]")
+		fmt.Fprintln(fs.Output(), "Period bounds: "+periodRule+".")
+		fmt.Fprintf(fs.Output(), "Exit status: 0 all points look right, 1 an error (the configuration, a secret, a file), 2 a usage mistake, %d points need a look.\n", exitNeedsLook)
 		fs.PrintDefaults()
 	}
 	cfg, err := parseWithConfig(fs, args, e.stdout)
 	if err != nil {
 		return err
+	}
+	if err := cfg.CheckSecrets(); err != nil {
+		return fmt.Errorf("%s: the configuration is valid, but a secret it names is missing:\n%w", *cfgPath, err)
 	}
 	points := 0
 	for _, a := range cfg.AirHandlers {
@@ -97,14 +102,14 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 	} else {
 		to := time.Now()
 		if *toS != "" {
-			if to, err = parseTime(*toS, cfg.Location); err != nil {
-				return usagef("--to: %v", err)
+			if to, _, err = parseTo("--to", *toS, cfg.Location); err != nil {
+				return err
 			}
 		}
 		from := to.Add(-7 * 24 * time.Hour)
 		if *fromS != "" {
-			if from, err = parseTime(*fromS, cfg.Location); err != nil {
-				return usagef("--from: %v", err)
+			if from, err = parseFrom("--from", *fromS, cfg.Location); err != nil {
+				return err
 			}
 		}
 		st, err := openStore(ctx, cfg, true, e.log)
@@ -124,5 +129,12 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 			}
 		}
 	}
-	return ingest.WritePointChecks(e.stdout, cfg.Location, checks)
+	n, err := ingest.WritePointChecks(e.stdout, cfg.Location, checks)
+	if err != nil {
+		return err
+	}
+	if n > 0 {
+		return &exitError{code: exitNeedsLook, msg: fmt.Sprintf("%d point(s) need a look", n)}
+	}
+	return nil
 }

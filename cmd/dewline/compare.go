@@ -161,15 +161,9 @@ func parsePeriodFlag(name, s string, loc *time.Location) (dashboards.Period, err
 	if err != nil {
 		return dashboards.Period{}, usagef("%s: start %v", name, err)
 	}
-	var to time.Time
-	if day, err := time.ParseInLocation("2006-01-02", toS, loc); err == nil {
-		// The whole last day: up to the start of the next one.
-		to, err = parseTime(day.AddDate(0, 0, 1).Format("2006-01-02"), loc)
-		if err != nil {
-			return dashboards.Period{}, usagef("%s: end %v", name, err)
-		}
-	} else if to, err = parseTime(toS, loc); err != nil {
-		return dashboards.Period{}, usagef("%s: end %v", name, err)
+	to, _, err := parseTo(name+" end", toS, loc)
+	if err != nil {
+		return dashboards.Period{}, err
 	}
 	if !to.After(from) {
 		return dashboards.Period{}, usagef("%s %q: the end is not after the start; give the earlier one first", name, s)

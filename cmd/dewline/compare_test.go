@@ -79,7 +79,7 @@ func TestCompare_EndToEnd(t *testing.T) {
 	cfg, data := writeSequenceChange(t, dir)
 	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
 	require.Equal(t, 0, code, errOut)
-	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-18")
+	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-17")
 	require.Equal(t, 0, code, errOut)
 
 	// The table, and the HTML file.
@@ -240,7 +240,7 @@ func TestInflux_CompareMatchesEmbedded(t *testing.T) {
 	require.NoError(t, os.WriteFile(fluxCfg, []byte(fluxText), 0o600))
 	outs := map[string]string{}
 	for _, cfg := range []string{embCfg, fluxCfg} {
-		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data, "--from", "2026-07-14", "--to", "2026-07-18")
+		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data, "--from", "2026-07-14", "--to", "2026-07-17")
 		require.Equal(t, 0, code, errOut)
 		code, out, errOut := runCLI(t, "--log-level", "warn", "compare", "--config", cfg,
 			"--before", "2026-07-14..2026-07-15", "--after", "2026-07-16..2026-07-17", "--json", "--normalise-to", "before")

@@ -6,9 +6,11 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"net"
 	"os"
 	"path/filepath"
 	"strings"
+	"syscall"
 	"time"
 
 	"github.com/dewline/dewline/deploy/demo"
@@ -36,6 +38,12 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 	}
 	if *days < demo.MinDays || *days > demo.MaxDays {
 		return usagef("--days %d: choose %d to %d", *days, demo.MinDays, demo.MaxDays)
+	}
+	if !*noServe {
+		// A busy port is found before minutes of work, not after.
+		if err := listenFree(*listen); err != nil {
+			return err
+		}
 	}
 	if err := markDemoDir(*dir); err != nil {
 		return err
@@ -80,6 +88,15 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 	}
 	abs, _ := filepath.Abs(report)
 	fmt.Fprintf(w, "report: %s\n", abs)
+	// Where to go next: the configuration is the best start for a site of
+	// one's own, and the exports show what it reads.
+	cfgAbs, _ := filepath.Abs(sc.ConfigPath)
+	fmt.Fprintf(w, "configuration: %s\n  (commented; copy it to start your own site, then run dewline check --config on the copy)\n", cfgAbs)
+	names := make([]string, 0, len(sc.Exports))
+	for _, x := range sc.Exports {
+		names = append(names, filepath.Base(x))
+	}
+	fmt.Fprintf(w, "exports: %s: %s\n", filepath.Dir(cfgAbs), strings.Join(names, ", "))
 	if *noServe {
 		return nil
 	}
@@ -92,7 +109,26 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	defer st.Close()
-	return serveDashboard(ctx, e, cfg, st, *listen)
+	if err := serveDashboard(ctx, e, cfg, st, *listen); err != nil {
+		if errors.Is(err, syscall.EADDRINUSE) {
+			return fmt.Errorf("%w; the report is written: choose another address with --listen (e.g. 127.0.0.1:9471), or pass --no-serve", err)
+		}
+		return err
+	}
+	return nil
+}
+
+// listenFree checks that the dashboard can listen on addr, and says how to
+// go on when it cannot.
+func listenFree(addr string) error {
+	ln, err := net.Listen("tcp", addr)
+	if err != nil {
+		if errors.Is(err, syscall.EADDRINUSE) {
+			return usagef("--listen %s is in use (an earlier demo or dewline serve?): stop it, choose another address with --listen (e.g. 127.0.0.1:9471), or pass --no-serve to stop after the report", addr)
+		}
+		return usagef("--listen %s: %v", addr, err)
+	}
+	return ln.Close()
 }
 
 // demoMarker marks a folder the demo wrote; the demo writes into such a

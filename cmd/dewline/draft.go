@@ -85,7 +85,8 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 			s.InfluxTokenEnv = *tokenEnv
 		}
 	} else {
-		opt := csvfile.Options{Location: loc, Year: *year}
+		opt := csvfile.Options{Location: loc, Year: *year, Settings: csvfile.Settings{DecimalComma: "--decimal-comma",
+			DayFirst: "--day-first", Location: "--timezone"}}
 		var err error
 		if opt.DayFirst, err = triFlag("day-first", *dayFirst); err != nil {
 			return err

@@ -240,7 +240,7 @@ func importFile(ctx context.Context, log zerolog.Logger, cfg *config.Config, cfg
 		}
 	}
 	log.Info().Str("file", path).Int("rows", s.rows).Int("written", s.written).Int("rejected", s.csv.RejectedTotal()).
-		Dur("took", time.Since(started)).Msg("imported")
+		Dur("took_ms", time.Since(started)).Msg("imported")
 	if s.written == 0 {
 		return s, nothingWritten(s, cfgPath)
 	}

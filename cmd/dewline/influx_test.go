@@ -40,14 +40,14 @@ func TestInflux_ImportAnalyzeMatchesExport(t *testing.T) {
 	require.Equal(t, 0, code, errOut)
 	assert.Contains(t, out, "14400 written to the store")
 
-	code, out, errOut = runCLI(t, "--log-level", "warn", "check", "--config", cfg, "--store", "--from", "2026-07-14", "--to", "2026-07-16")
+	code, out, errOut = runCLI(t, "--log-level", "warn", "check", "--config", cfg, "--store", "--from", "2026-07-14", "--to", "2026-07-15")
 	require.Equal(t, 0, code, errOut)
 	assert.Regexp(t, `AHU-7\s+supply_temp\s+SAT\s+F\s+2880`, out)
 
 	direct, fromStore := filepath.Join(dir, "direct.csv"), filepath.Join(dir, "influx.csv")
 	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data, "--out", direct, "--no-store")
 	require.Equal(t, 0, code, errOut)
-	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-16", "--out", fromStore)
+	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-15", "--out", fromStore)
 	require.Equal(t, 0, code, errOut)
 	h1, r1 := readHourly(t, direct)
 	h2, r2 := readHourly(t, fromStore)

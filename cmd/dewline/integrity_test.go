@@ -160,7 +160,7 @@ func TestAnalyze_AlertEventsOnce(t *testing.T) {
 	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
 	require.Equal(t, 0, code, errOut)
 	analyze := func() (int, string) {
-		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-13", "--to", "2026-07-16")
+		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-13", "--to", "2026-07-15")
 		return code, errOut
 	}
 	code, errOut = analyze()
@@ -304,7 +304,7 @@ func TestAnalyze_ResultsAndAlertsTogether(t *testing.T) {
 	require.NoError(t, err)
 	require.NoError(t, rw.Close())
 
-	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-13", "--to", "2026-07-16")
+	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-13", "--to", "2026-07-15")
 	assert.Equal(t, 1, code)
 	assert.Contains(t, errOut, "alerts refused")
 	assert.Empty(t, storedHours(t, db), "no hours stored without their alerts")
@@ -340,7 +340,7 @@ func TestServe_ReadOnlyFolderAndReadiness(t *testing.T) {
 	cfg, data := writeScenario(t, dir)
 	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
 	require.Equal(t, 0, code, errOut)
-	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-16")
+	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-15")
 	require.Equal(t, 0, code, errOut)
 	db := filepath.Join(dir, "test.db")
 	for _, suffix := range []string{"-wal", "-shm"} {

@@ -10,6 +10,8 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"runtime"
+	"runtime/debug"
 	"sort"
 	"syscall"
 
@@ -52,6 +54,18 @@ func (e *usageError) Error() string { return e.msg }
 
 func usagef(format string, a ...any) error { return &usageError{fmt.Sprintf(format, a...)} }
 
+// exitNeedsLook is the exit status of "dewline check" when it ran but
+// some points need a look: distinct from an error (1) and a usage mistake (2).
+const exitNeedsLook = 3
+
+// exitError ends a command with its own exit status and message.
+type exitError struct {
+	code int
+	msg  string
+}
+
+func (e *exitError) Error() string { return e.msg }
+
 func main() {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
@@ -71,15 +85,22 @@ func main() {
 // run executes one command line and returns the process exit code.
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	global := flag.NewFlagSet("dewline", flag.ContinueOnError)
-	global.SetOutput(stderr)
+	global.SetOutput(io.Discard)
 	logLevel := global.String("log-level", "info", "log level: debug, info, warn, error")
 	logFormat := global.String("log-format", "auto", "log format: json, console, or auto (console on a terminal, JSON otherwise)")
-	global.Usage = func() { printUsage(stderr) }
+	version := global.Bool("version", false, "print the version (module version and commit) and exit")
+	global.Usage = func() {}
 	if err := global.Parse(args); err != nil {
 		if errors.Is(err, flag.ErrHelp) {
+			printUsage(stdout) // asked for: standard output, as a command's -h
 			return 0
 		}
+		fmt.Fprintf(stderr, "dewline: %v (run \"dewline help\" for the global flags and commands)\n", err)
 		return 2
+	}
+	if *version {
+		fmt.Fprintln(stdout, versionLine())
+		return 0
 	}
 	log, err := newLogger(stderr, *logLevel, *logFormat)
 	if err != nil {
@@ -105,6 +126,10 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		var ue *usageError
 		if errors.As(err, &ue) {
 			return 2
+		}
+		var xe *exitError
+		if errors.As(err, &xe) {
+			return xe.code
 		}
 		return 1
 	}
@@ -154,9 +179,11 @@ func newLogger(w io.Writer, level, format string) (zerolog.Logger, error) {
 	if err != nil || level == "" {
 		return zerolog.Logger{}, fmt.Errorf("--log-level %q: use debug, info, warn or error", level)
 	}
+	f, ok := w.(*os.File)
+	tty := ok && isatty.IsTerminal(f.Fd())
 	if format == "auto" {
 		format = "json"
-		if f, ok := w.(*os.File); ok && isatty.IsTerminal(f.Fd()) {
+		if tty {
 			format = "console"
 		}
 	}
@@ -164,7 +191,8 @@ func newLogger(w io.Writer, level, format string) (zerolog.Logger, error) {
 	case "json":
 		return zerolog.New(w).Level(lvl).With().Timestamp().Logger(), nil
 	case "console":
-		return zerolog.New(zerolog.ConsoleWriter{Out: w}).Level(lvl).With().Timestamp().Logger(), nil
+		// Colour codes only on a terminal: a file or a pipe gets plain text.
+		return zerolog.New(zerolog.ConsoleWriter{Out: w, NoColor: !tty}).Level(lvl).With().Timestamp().Logger(), nil
 	}
 	return zerolog.Logger{}, fmt.Errorf("--log-format %q: use json, console or auto", format)
 }
@@ -172,6 +200,7 @@ func newLogger(w io.Writer, level, format string) (zerolog.Logger, error) {
 func printUsage(w io.Writer) {
 	fmt.Fprintln(w, "dewline: dehumidification and reheat energy from air-handler trend logs")
 	fmt.Fprintln(w, "\nusage: dewline [--log-level L] [--log-format auto|json|console] COMMAND [flags]")
+	fmt.Fprintln(w, "       dewline --version")
 	fmt.Fprintln(w, "\ncommands:")
 	names := make([]string, 0, len(commands))
 	for n := range commands {
@@ -181,5 +210,31 @@ func printUsage(w io.Writer) {
 	for _, n := range names {
 		fmt.Fprintf(w, "  %-10s %s\n", n, commands[n].summary)
 	}
-	fmt.Fprintln(w, "\nRun \"dewline COMMAND -h\" for a command's flags.")
+	fmt.Fprintln(w, "\nRun \"dewline COMMAND -h\" for a command's flags. Exit status: 0 done, 1 an error, 2 a usage mistake;")
+	fmt.Fprintf(w, "\"dewline check\" exits %d when it ran but points need a look.\n", exitNeedsLook)
+}
+
+// versionLine is the module version and the commit this binary was built
+// from, as the Go toolchain recorded them (go build in a checkout records
+// the commit; go run and go test may not).
+func versionLine() string {
+	version, commit, modified := "unknown", "unknown", ""
+	goVersion := runtime.Version()
+	if bi, ok := debug.ReadBuildInfo(); ok {
+		if bi.Main.Version != "" {
+			version = bi.Main.Version
+		}
+		goVersion = bi.GoVersion
+		for _, s := range bi.Settings {
+			switch s.Key {
+			case "vcs.revision":
+				commit = s.Value
+			case "vcs.modified":
+				if s.Value == "true" {
+					modified = ", with local changes"
+				}
+			}
+		}
+	}
+	return fmt.Sprintf("dewline %s (commit %s%s, %s)", version, commit, modified, goVersion)
 }

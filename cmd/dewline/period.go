@@ -35,6 +35,38 @@ func parseTime(s string, loc *time.Location) (time.Time, error) {
 	return time.Time{}, fmt.Errorf("%q is not a time: use 2026-07-01, 2026-07-01T06:00 (site time) or RFC 3339 such as 2026-07-01T06:00:00Z", s)
 }
 
+// periodRule is the one rule for the bounds of a period, stated in every
+// command's help and in the README.
+const periodRule = "a date (2026-07-01, site time) is a whole day, so --to DAY includes that day; a time (2026-07-01T06:00 site time, or RFC 3339) is an instant, and --to excludes it"
+
+// parseFrom reads the start of a period: a date starts at its local
+// midnight, a time is the instant given.
+func parseFrom(flagName, s string, loc *time.Location) (time.Time, error) {
+	t, err := parseTime(s, loc)
+	if err != nil {
+		return time.Time{}, usagef("%s: %v", flagName, err)
+	}
+	return t, nil
+}
+
+// parseTo reads the end of a period by periodRule: a date is the last day,
+// included (the period ends at the next local midnight); a time is an
+// instant, excluded. date reports which it was.
+func parseTo(flagName, s string, loc *time.Location) (t time.Time, date bool, err error) {
+	if day, derr := time.ParseInLocation(time.DateOnly, s, loc); derr == nil {
+		t, err = parseTime(day.AddDate(0, 0, 1).Format(time.DateOnly), loc)
+		if err != nil {
+			return time.Time{}, true, usagef("%s: the day after %s: %v", flagName, s, err)
+		}
+		return t, true, nil
+	}
+	t, err = parseTime(s, loc)
+	if err != nil {
+		return time.Time{}, false, usagef("%s: %v", flagName, err)
+	}
+	return t, false, nil
+}
+
 // progress shows long work: a line that redraws itself on a terminal, a
 // log line every tenth otherwise.
 type progress struct {

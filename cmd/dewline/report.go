@@ -5,6 +5,7 @@ import (
 	"context"
 	"flag"
 	"fmt"
+	"math"
 	"path/filepath"
 	"regexp"
 	"strings"
@@ -25,8 +26,8 @@ func runReport(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("report", flag.ContinueOnError)
 	var cfgPaths stringList
 	fs.Var(&cfgPaths, "config", "configuration file, or a folder of them; several sites make a portfolio report: -o is its summary, each site's report is written beside it (required)")
-	fromS := fs.String("from", "", "first day (2026-07-01, site time) or start as RFC 3339; default: 30 days before --to")
-	toS := fs.String("to", "", "last day, inclusive (2026-07-31, site time), or end as RFC 3339 (exclusive); default: the last day with results")
+	fromS := fs.String("from", "", "start of the period: a day (2026-07-01) or a time; default: 30 days before --to")
+	toS := fs.String("to", "", "end of the period: the last day, included (2026-07-31), or a time, excluded; default: the last day with results")
 	var out string
 	fs.StringVar(&out, "o", "report.html", "the HTML file to write")
 	fs.StringVar(&out, "out", "report.html", "same as -o")
@@ -39,6 +40,7 @@ func runReport(ctx context.Context, e *env, args []string) error {
 		fmt.Fprintln(fs.Output(), "Writes a self-contained HTML report of the stored results for a building owner: findings ranked")
 		fmt.Fprintln(fs.Output(), "by avoidable cost, an annualised estimate, candidate measures, each air handler's charts and")
 		fmt.Fprintln(fs.Output(), "alerts, the method, assumptions, data quality, uncertainty and cautions. Reads the store only.")
+		fmt.Fprintln(fs.Output(), "Period bounds: "+periodRule+".")
 		fs.PrintDefaults()
 	}
 	if err := parseFlags(fs, args, e.stdout); err != nil {
@@ -65,6 +67,7 @@ func runReport(ctx context.Context, e *env, args []string) error {
 		if *wantPDF {
 			return usagef("--pdf takes one site; print each site's report on its own")
 		}
+		rf.portfolio = true
 		return writePortfolioReport(ctx, e, paths, out, rf)
 	}
 	cfgPath := &paths[0]
@@ -106,7 +109,10 @@ func runReport(ctx context.Context, e *env, args []string) error {
 
 // reportFlags are report's flags that apply to each site, and the output
 // files, which may name none of a site's inputs.
-type reportFlags struct{ from, to, units, paper, out, pdfOut string }
+type reportFlags struct {
+	from, to, units, paper, out, pdfOut string
+	portfolio                           bool // one of several sites: a site without results is warned about, not refused
+}
 
 // buildSiteReport reads one site's results for the period its flags name
 // (in the site's zone) and computes its report.
@@ -124,16 +130,16 @@ func buildSiteReport(ctx context.Context, e *env, cfgPath string, rf reportFlags
 		return nil, period, nil, log, usagef("%v", err)
 	}
 	loc := cfg.Location
-	from, _, err := reportBound("--from", rf.from, loc)
-	if err != nil {
-		return nil, period, nil, log, err
+	var from, to time.Time
+	if rf.from != "" {
+		if from, err = parseFrom("--from", rf.from, loc); err != nil {
+			return nil, period, nil, log, err
+		}
 	}
-	to, toDate, err := reportBound("--to", rf.to, loc)
-	if err != nil {
-		return nil, period, nil, log, err
-	}
-	if toDate {
-		to = to.AddDate(0, 0, 1) // the last day is inclusive
+	if rf.to != "" {
+		if to, _, err = parseTo("--to", rf.to, loc); err != nil {
+			return nil, period, nil, log, err
+		}
 	}
 
 	st, err := openStore(ctx, cfg, true, e.log)
@@ -189,21 +195,40 @@ func buildSiteReport(ctx context.Context, e *env, cfgPath string, rf reportFlags
 	if err != nil {
 		return nil, period, nil, log, fmt.Errorf("build the report: %w", err)
 	}
+	// A period without results is not a clean bill of health: refuse it,
+	// as compare does, and warn when results cover only part of it.
+	if err := reportCoverage(ctx, res, rep.Overview.Total.Hours, len(site.Units), period, log); err != nil {
+		if !rf.portfolio {
+			return nil, period, nil, log, fmt.Errorf("%s: %w", cfgPath, err)
+		}
+		// In a portfolio the other sites still report; this one is named.
+		log.Warn().Str("site", cfg.Site.ID).Msg(err.Error())
+	}
 	return rep, period, site, log, nil
 }
 
-// reportBound parses --from or --to; date reports whether it was a bare
-// date (a whole local day).
-func reportBound(flagName, s string, loc *time.Location) (t time.Time, date bool, err error) {
-	if s == "" {
-		return time.Time{}, false, nil
+// reportMinShare is the share of a period's air handler-hours with results
+// below which report warns that its figures cover only part of the period
+// (common practice, no source: a tenth missing already moves an annual figure).
+const reportMinShare = 0.9
+
+// reportCoverage refuses a period without any stored hour and logs a
+// warning when the hours with results cover less than reportMinShare of
+// the period's air handler-hours.
+func reportCoverage(ctx context.Context, res dashboards.Results, hours, units int, period dashboards.Period, log zerolog.Logger) error {
+	if hours == 0 {
+		span := ""
+		if first, last, ok, err := res.Span(ctx); err == nil && ok {
+			span = fmt.Sprintf("; the store holds results from %s to %s", first.In(period.From.Location()).Format(time.DateOnly), last.In(period.From.Location()).Format(time.DateOnly))
+		}
+		return fmt.Errorf("no results are stored for %s, so the report would show no avoidable cost for lack of data: run \"dewline analyze\" (or the agent) over the period first, or choose a period with results with --from/--to%s", period.Label, span)
 	}
-	t, err = parseTime(s, loc)
-	if err != nil {
-		return time.Time{}, false, usagef("%s: %v", flagName, err)
+	expected := float64(units) * period.Hours()
+	if share := float64(hours) / expected; expected > 0 && share < reportMinShare {
+		log.Warn().Int("hours", hours).Float64("expected_hours", expected).Float64("share", math.Round(share*1000)/1000).
+			Msgf("report: results cover only %.0f %% of the period's air handler-hours; its figures count the hours without results as nothing", share*100)
 	}
-	_, derr := time.ParseInLocation(time.DateOnly, s, loc)
-	return t, derr == nil, nil
+	return nil
 }
 
 func localMidnight(t time.Time) time.Time {

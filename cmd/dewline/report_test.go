@@ -29,7 +29,7 @@ func reportStore(t *testing.T) (dir, cfg, hourly string) {
 	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
 	require.Equal(t, 0, code, errOut)
 	hourly = filepath.Join(dir, "hourly.csv")
-	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-16", "--out", hourly)
+	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-15", "--out", hourly)
 	require.Equal(t, 0, code, errOut)
 	return dir, cfg, hourly
 }
@@ -176,6 +176,28 @@ func TestReport_PDFWithoutChromium(t *testing.T) {
 	assert.True(t, os.IsNotExist(err), "no PDF")
 }
 
+// TestReport_PartCoverage: a period that results cover only in part says
+// so in the summary and in a warning; the scenario holds two whole days
+// of results (14 and 15 July), so four days are half covered.
+func TestReport_PartCoverage(t *testing.T) {
+	dir, cfg, _ := reportStore(t)
+	out := filepath.Join(dir, "r.html")
+	code, _, errOut := runCLI(t, "--log-level", "warn", "report", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-17", "-o", out)
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, errOut, "results cover only 50 % of the period's air handler-hours")
+	body, err := os.ReadFile(out)
+	require.NoError(t, err)
+	assert.True(t, strings.Contains(string(body), `id="results-coverage">50 % of the period's air handler-hours: the figures count the hours without results as nothing`), "the summary states the coverage")
+
+	// The whole two days: covered, no warning.
+	code, _, errOut = runCLI(t, "--log-level", "warn", "report", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-15", "-o", out)
+	require.Equal(t, 0, code, errOut)
+	assert.NotContains(t, errOut, "results cover only")
+	body, err = os.ReadFile(out)
+	require.NoError(t, err)
+	assert.True(t, strings.Contains(string(body), `id="results-coverage">100 % of the period's air handler-hours</dd>`), "the summary states the coverage")
+}
+
 func TestReport_BadInput(t *testing.T) {
 	dir, cfg, _ := reportStore(t)
 	// A store with trends but no results yet.
@@ -198,6 +220,8 @@ func TestReport_BadInput(t *testing.T) {
 		{"too long", []string{"report", "--config", cfg, "--from", "2025-01-01", "--to", "2026-07-14"}, 2, "longer than 400 days"},
 		{"stray argument", []string{"report", "--config", cfg, "extra"}, 2, `unexpected argument "extra"`},
 		{"no results yet", []string{"report", "--config", emptyCfg, "-o", out}, 1, "the store holds no results yet"},
+		{"period without results", []string{"report", "--config", cfg, "--from", "2026-06-01", "--to", "2026-06-10", "-o", out}, 1,
+			"no results are stored for 1 Jun 2026 – 10 Jun 2026, so the report would show no avoidable cost for lack of data"},
 		{"folder missing", []string{"report", "--config", cfg, "-o", filepath.Join(dir, "nope", "r.html")}, 1, "nope"},
 	}
 	for _, tt := range tests {

@@ -77,6 +77,15 @@ func runRun(ctx context.Context, e *env, args []string) error {
 			return fmt.Errorf("%s and %s are both site %q: give each site its own site.id", prev, p, cfg.Site.ID)
 		}
 		seen[cfg.Site.ID] = p
+		// Every secret the configuration names is looked up now, also for
+		// --once, which needs none of the agent's: a missing one fails
+		// here, not after the long-running agent has started its endpoint.
+		if err := cfg.CheckSecrets(); err != nil {
+			if !*dry {
+				return fmt.Errorf("%s: %w (\"dewline check --config %s\" lists every setting)", p, err, p)
+			}
+			e.log.Warn().Err(err).Str("site", cfg.Site.ID).Msg("dry run: a secret the agent needs is missing")
+		}
 		owned := shard.Owned(cfg)
 		total += len(owned)
 		sites = append(sites, site{path: p, cfg: cfg, broken: broken, owned: owned})
@@ -119,7 +128,10 @@ type runFlags struct {
 // each line of the --once summary (the site, when several run).
 func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]*config.ConfigError, owned []string, f runFlags, prefix string) error {
 	once, dry, asOf, shardS, grace := &f.once, &f.dry, &f.asOf, &f.shard, &f.grace
-	log := e.log.With().Str("component", "agent").Str("site", cfg.Site.ID).Logger()
+	// Each part names its component once: the HTTP server and the webhook
+	// sender add theirs to base, the run loop's is "agent".
+	base := e.log.With().Str("site", cfg.Site.ID).Logger()
+	log := base.With().Str("component", "agent").Logger()
 
 	st, err := openStore(ctx, cfg, false, log)
 	if err != nil {
@@ -209,7 +221,7 @@ func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]
 		return err
 	}
 	srv, err := server.NewServer(server.ServerOptions{Listen: cfg.HTTP.Listen, BearerToken: token, Telemetry: tel, Pages: pages,
-		Log: log.With().Str("component", "http").Logger()})
+		Log: base})
 	if err != nil {
 		return err
 	}
@@ -230,7 +242,7 @@ func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]
 			return err
 		}
 		sender, err = webhook.NewWebhookSender(webhook.WebhookOptions{URL: w.URL, Secret: secret, Timeout: w.Timeout, MaxAge: w.MaxAge,
-			Store: rs, Telemetry: tel, Log: log.With().Str("component", "webhook").Logger()})
+			Store: rs, Telemetry: tel, Log: base})
 		if err != nil {
 			return err
 		}

@@ -33,7 +33,7 @@ func siteFor(cfg *config.Config) *dashboards.Site {
 // dashboardFor builds the dashboard over the configured store.
 func dashboardFor(cfg *config.Config, st *stores, e *env) (*dashboards.Handler, error) {
 	return dashboards.New(dashboards.Options{Site: siteFor(cfg), Results: st.results(time.Now),
-		Log: e.log.With().Str("component", "dashboard").Logger()})
+		Log: e.log})
 }
 
 func runServe(ctx context.Context, e *env, args []string) error {
@@ -185,7 +185,7 @@ func servePages(ctx context.Context, e *env, cfg *config.Config, pages http.Hand
 		}
 	}()
 	defer func() { stopProbe(); <-probed }()
-	log := e.log.With().Str("component", "http").Logger()
+	log := e.log // the server adds its component
 	srv, err := server.NewServer(server.ServerOptions{Listen: addr, BearerToken: token, Telemetry: tel, Pages: pages, Log: log})
 	if err != nil {
 		return err

@@ -130,7 +130,7 @@ func Print(ctx context.Context, htmlPath, title string, log zerolog.Logger) ([]b
 	if !bytes.HasPrefix(buf, []byte("%PDF")) {
 		return nil, fmt.Errorf("print the report: Chromium returned %d bytes that are not a PDF; the HTML report was written to %s", len(buf), htmlPath)
 	}
-	log.Debug().Dur("took", time.Since(start)).Int("bytes", len(buf)).Msg("chromium printed the report")
+	log.Debug().Dur("took_ms", time.Since(start)).Int("bytes", len(buf)).Msg("chromium printed the report")
 	return buf, nil
 }
 

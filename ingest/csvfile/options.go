@@ -81,6 +81,38 @@ type Options struct {
 	// month and day in the order DayFirst or the data decides), as some
 	// laboratory and controller exports do. 0 reads no such dates.
 	Year int
+
+	// Settings names, for messages, where the user sets each option: a
+	// configuration key or a command-line flag. Empty names read
+	// "Options.X".
+	Settings Settings
+}
+
+// Settings names the setting behind each option, e.g. "exports.day_first"
+// or "--day-first".
+type Settings struct {
+	Delimiter, DecimalComma, DayFirst, TimeColumn, Location string
+}
+
+// setting returns the name of the setting behind option, for messages.
+func (o Options) setting(option string) string {
+	var n string
+	switch option {
+	case "Delimiter":
+		n = o.Settings.Delimiter
+	case "DecimalComma":
+		n = o.Settings.DecimalComma
+	case "DayFirst":
+		n = o.Settings.DayFirst
+	case "TimeColumn":
+		n = o.Settings.TimeColumn
+	case "Location":
+		n = o.Settings.Location
+	}
+	if n == "" {
+		return "Options." + option
+	}
+	return n
 }
 
 func (o Options) validate() error {

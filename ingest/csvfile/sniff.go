@@ -233,7 +233,7 @@ func (r *Reader) sniff(head []byte, atEOF bool) (needPass bool, err error) {
 		if delim = chooseDelim(head); delim == 0 {
 			return false, fe(ErrNoDelimiter, 0,
 				"no comma, semicolon, tab or pipe splits the first lines into the same number of fields",
-				"check that this is a trend export, or set Options.Delimiter")
+				"check that this is a trend export, or set "+r.opt.setting("Delimiter"))
 		}
 	}
 	r.det.Delimiter = rune(delim)
@@ -347,7 +347,7 @@ func (r *Reader) sniff(head []byte, atEOF bool) (needPass bool, err error) {
 		}
 		if r.timeIdx < 0 {
 			return false, fe(ErrNoTimeColumn, hdr.line, fmt.Sprintf("no column named %q in %q", r.opt.TimeColumn, headers),
-				"set Options.TimeColumn to one of the header names")
+				"set "+r.opt.setting("TimeColumn")+" to one of the header names")
 		}
 	default:
 		r.timeIdx = findRole(headers, timeNames)
@@ -387,7 +387,7 @@ func (r *Reader) sniff(head []byte, atEOF bool) (needPass bool, err error) {
 		}
 		if r.timeIdx < 0 {
 			return false, fe(ErrNoTimeColumn, hdr.line, fmt.Sprintf("no column of %q is named like a time column or holds timestamps", headers),
-				"set Options.TimeColumn")
+				"set "+r.opt.setting("TimeColumn"))
 		}
 	}
 	r.det.TimeColumn = headers[r.timeIdx]
@@ -396,7 +396,7 @@ func (r *Reader) sniff(head []byte, atEOF bool) (needPass bool, err error) {
 	}
 	if g.n > 0 && !g.good() {
 		return false, fe(ErrTimeFormat, hdr.line, fmt.Sprintf("column %q holds values like %q", r.det.TimeColumn, g.firstBad),
-			"write times as 2026-07-14 13:05:00, 2026-07-14T13:05:00-04:00, 07/14/2026 1:05 PM, 14.07.2026 13:05 or Unix seconds/milliseconds, or set Options.TimeColumn")
+			"write times as 2026-07-14 13:05:00, 2026-07-14T13:05:00-04:00, 07/14/2026 1:05 PM, 14.07.2026 13:05 or Unix seconds/milliseconds, or set "+r.opt.setting("TimeColumn"))
 	}
 	if r.layout == LayoutLong && (r.timeIdx == r.pointIdx || r.timeIdx == r.valueIdx) {
 		return false, fe(ErrHeader, hdr.line, "the time column is also the point or value column", "rename the columns")
@@ -404,7 +404,7 @@ func (r *Reader) sniff(head []byte, atEOF bool) (needPass bool, err error) {
 	r.form = g.form
 	if g.n == 0 && hasData(data) {
 		return false, fe(ErrTimeFormat, hdr.line, fmt.Sprintf("column %q is empty in the first rows", r.det.TimeColumn),
-			"check the time column, or set Options.TimeColumn")
+			"check the time column, or set "+r.opt.setting("TimeColumn"))
 	}
 	if g.n == 0 && !atEOF && !hasData(data) {
 		// The file goes on, but no data row ends within the head: the
@@ -423,12 +423,12 @@ func (r *Reader) sniff(head []byte, atEOF bool) (needPass bool, err error) {
 	if r.form == formYearLast {
 		switch {
 		case r.opt.DayFirst == Yes:
-			r.setOrder(dayFirst, "Options.DayFirst")
+			r.setOrder(dayFirst, r.opt.setting("DayFirst"))
 		case r.opt.DayFirst == No:
-			r.setOrder(monthFirst, "Options.DayFirst")
+			r.setOrder(monthFirst, r.opt.setting("DayFirst"))
 		case g.ev.dayLine > 0 && g.ev.monthLine > 0:
 			return false, fe(ErrAmbiguousDate, g.ev.dayLine, fmt.Sprintf("%s, but %s", g.ev.byLine(dayFirst), g.ev.byLine(monthFirst)),
-				"the dates contradict each other; set Options.DayFirst and check the rows it rejects")
+				"the dates contradict each other; set "+r.opt.setting("DayFirst")+" and check the rows it rejects")
 		case g.ev.dayLine > 0:
 			r.setOrder(dayFirst, g.ev.byLine(dayFirst))
 		case g.ev.monthLine > 0:
@@ -447,7 +447,7 @@ func (r *Reader) sniff(head []byte, atEOF bool) (needPass bool, err error) {
 		r.det.LocalTime = true
 		if r.opt.Location == nil {
 			return false, fe(ErrNeedLocation, hdr.line, fmt.Sprintf("column %q holds wall-clock times like %q", r.det.TimeColumn, firstCell(column(r.timeIdx))),
-				"set Options.Location to the zone of the building (e.g. America/New_York), or time.UTC if the export is in UTC")
+				"set "+r.opt.setting("Location")+" to the zone of the building (e.g. America/New_York), or UTC if the export is in UTC")
 		}
 	}
 	if g.form == formUnix {
@@ -478,7 +478,7 @@ func (r *Reader) sniff(head []byte, atEOF bool) (needPass bool, err error) {
 		r.dec = '.'
 	default:
 		if r.dec, err = chooseDecimal(valCells, delim); err != nil {
-			return false, fe(ErrAmbiguousDecimal, 0, err.Error(), "set Options.DecimalComma")
+			return false, fe(ErrAmbiguousDecimal, 0, err.Error(), "set "+r.opt.setting("DecimalComma")+" (yes or no)")
 		}
 	}
 	r.det.DecimalComma = r.dec == ','
@@ -513,7 +513,7 @@ func (r *Reader) sniff(head []byte, atEOF bool) (needPass bool, err error) {
 		r.cols = append(r.cols, Column{Index: i, Header: hd, Name: name, Unit: unit})
 	}
 	if len(r.cols) == 0 {
-		return false, fe(ErrHeader, hdr.line, "no value columns besides the time", "check the delimiter (Options.Delimiter)")
+		return false, fe(ErrHeader, hdr.line, "no value columns besides the time", "check the delimiter ("+r.opt.setting("Delimiter")+")")
 	}
 	return needPass, nil
 }
@@ -649,5 +649,5 @@ func (r *Reader) describeTime() {
 func (r *Reader) ambiguousDate(scope string) error {
 	return &FileError{File: r.name, Line: r.det.HeaderLine, Err: ErrAmbiguousDate,
 		Detail: fmt.Sprintf("no date in %s of column %q has a day above 12", scope, r.det.TimeColumn),
-		Fix:    "set Options.DayFirst (Yes for 14/07/2026, No for 07/14/2026)"}
+		Fix:    "set " + r.opt.setting("DayFirst") + " (yes for 14/07/2026, no for 07/14/2026)"}
 }

@@ -194,6 +194,9 @@ func addAlerts(c *Commit, up store.AlertUpdate, payload store.PayloadFunc) error
 			return err
 		}
 		c.Alerts = append(c.Alerts, row)
+		if t.At.Before(up.QueueFrom) {
+			continue // too old to notify: recorded, not queued
+		}
 		c.Events = append(c.Events, ev)
 	}
 	// Pending alerts are kept in the alerts table too, for dashboards.

@@ -3,6 +3,7 @@ package embedded
 import (
 	"context"
 	"database/sql"
+	"encoding/json"
 	"fmt"
 	"math"
 	"time"
@@ -98,7 +99,13 @@ func rollUp(ctx context.Context, tx *sql.Tx, zone *time.Location, keys []dayKey)
 			}
 			hours++
 			if len(flags) > 2 {
-				flagged++
+				var fl []string
+				if err := json.Unmarshal(flags, &fl); err != nil {
+					return rowsDone(rows, fmt.Errorf("daily sums of %s %s: flags: %w", quote(k.ahu), start.Format("2006-01-02"), err))
+				}
+				if metrics.QualityFlagged(fl) {
+					flagged++ // informational notes are not data-quality flags
+				}
 			}
 		}
 		if err := rowsDone(rows, nil); err != nil {

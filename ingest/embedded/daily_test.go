@@ -50,7 +50,10 @@ func TestDaily_SumsLocalDaysAcrossFallBack(t *testing.T) {
 		}
 		r := HourRow{AHU: "AHU-1", Hour: h, Schema: 1, Fields: f}
 		if i == 3 {
-			r.Flags = []string{"low_coverage"}
+			r.Flags = []string{"low_coverage", "cooling_input_modelled"}
+		}
+		if i >= 4 && i < 10 {
+			r.Flags = []string{"cooling_input_modelled"} // a note, not a data-quality flag
 		}
 		rows = append(rows, r)
 	}
@@ -61,7 +64,7 @@ func TestDaily_SumsLocalDaysAcrossFallBack(t *testing.T) {
 	require.Len(t, got["AHU-1"], 1)
 	d := got["AHU-1"][0]
 	assert.Equal(t, 25, d.Hours)
-	assert.Equal(t, 1, d.Flagged)
+	assert.Equal(t, 1, d.Flagged, "hours with only an informational flag are not flagged")
 	assert.True(t, d.Day.Equal(day) && d.End.Equal(next))
 	assert.Equal(t, 300.0, sums["AHU-1"][0]["reheat_kwh"]) // 0 + 1 + ... + 24
 	assert.Equal(t, 25.0, sums["AHU-1"][0]["coverage"])

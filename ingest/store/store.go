@@ -91,6 +91,11 @@ type ResultStore interface {
 type AlertUpdate struct {
 	States      map[string]metrics.Alert // pending and open alerts after the run, by kind
 	Transitions []metrics.Transition     // opened and closed in the run, in order
+	// QueueFrom: transitions before it are recorded (the alerts and their
+	// history) but not queued for the webhook, being older than the
+	// sender's webhook.max_age, which would only drop them. Zero queues
+	// every transition.
+	QueueFrom time.Time
 }
 
 // Event is an alert transition waiting to be delivered to the webhook.
