@@ -248,6 +248,7 @@ type Alert struct {
 	Start     time.Time // first hour the condition held
 	End       time.Time // end of the last hour it held, once closed; zero while pending or open
 	LastSeen  time.Time // start of the last hour evaluated
+	Opened    time.Time // end of the hour it opened (its open transition's At); zero while pending
 	Hits      int       // consecutive hours the condition held
 	Misses    int       // consecutive hours it did not
 	EnergyKWh float64   // at stake over the hours the condition held
@@ -292,6 +293,7 @@ func Evaluate(rules []Rule, p RuleParams, prev map[string]Alert, r *Record) (map
 			a.LastSeen = r.HourStart
 			if a.Status == StatusPending && a.Hits >= rule.Persist {
 				a.Status = StatusOpen
+				a.Opened = end
 				out = append(out, Transition{From: StatusPending, To: StatusOpen, Alert: a, At: end})
 			}
 			next[rule.Kind] = a

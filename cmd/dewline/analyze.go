@@ -5,6 +5,8 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"maps"
+	"slices"
 	"strings"
 	"time"
 
@@ -133,7 +135,16 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	var trs []metrics.Transition
 	flush := func(ctx context.Context) error {
 		if st != nil && !*noStore {
-			if err := st.PutResults(ctx, batch, trs); err != nil {
+			// The alerts still open carry their running totals.
+			var open []metrics.Alert
+			for _, ahu := range slices.Sorted(maps.Keys(an.Alerts)) {
+				for _, kind := range slices.Sorted(maps.Keys(an.Alerts[ahu])) {
+					if a := an.Alerts[ahu][kind]; a.Status == metrics.StatusOpen {
+						open = append(open, a)
+					}
+				}
+			}
+			if err := st.PutResults(ctx, batch, trs, open); err != nil {
 				return fmt.Errorf("write results and alerts: %w", err)
 			}
 		}

@@ -61,8 +61,8 @@ func (b *Backend) RecordImport(ctx context.Context, l store.ImportLog) error {
 // PutResults writes records, alerts and their webhook events in one
 // transaction (the same records the agent writes): a failure leaves no
 // hour stored without its alerts.
-func (b *Backend) PutResults(ctx context.Context, recs []metrics.Record, tr []metrics.Transition) error {
-	if len(recs) == 0 && len(tr) == 0 {
+func (b *Backend) PutResults(ctx context.Context, recs []metrics.Record, tr []metrics.Transition, open []metrics.Alert) error {
+	if len(recs) == 0 && len(tr) == 0 && len(open) == 0 {
 		return nil
 	}
 	rows := make([]HourRow, 0, len(recs))
@@ -78,7 +78,20 @@ func (b *Backend) PutResults(ctx context.Context, recs []metrics.Record, tr []me
 		}
 		alerts, events = append(alerts, row), append(events, ev)
 	}
+	// The open alerts' running totals replace the figures of the hour
+	// they opened.
+	for _, a := range open {
+		if a.Status == metrics.StatusOpen {
+			alerts = append(alerts, openRow(a))
+		}
+	}
 	return b.s.PutResults(ctx, rows, alerts, events)
+}
+
+// openRow is an open alert's row with its running totals.
+func openRow(a metrics.Alert) AlertRow {
+	return AlertRow{ID: a.ID, AHU: a.AHU, Kind: a.Kind, Severity: string(a.Severity),
+		State: string(a.Status), Start: a.Start, EnergyKWh: a.EnergyKWh, Cost: a.Money, Reason: a.Reason}
 }
 
 // Results is the dashboard's read side of the file.
@@ -210,8 +223,7 @@ func addAlerts(c *Commit, up store.AlertUpdate, payload store.PayloadFunc) error
 		if a.Status == metrics.StatusPending {
 			continue // shown once it opens
 		}
-		c.Alerts = append(c.Alerts, AlertRow{ID: a.ID, AHU: a.AHU, Kind: a.Kind, Severity: string(a.Severity),
-			State: string(a.Status), Start: a.Start, EnergyKWh: a.EnergyKWh, Cost: a.Money, Reason: a.Reason})
+		c.Alerts = append(c.Alerts, openRow(a))
 	}
 	return nil
 }

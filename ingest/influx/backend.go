@@ -55,13 +55,15 @@ func (b *Backend) WriteSamples(ctx context.Context, _ string, t ingest.PointTarg
 	return b.c.WriteSamples(ctx, t.Ref, t.Kind, samples)
 }
 
-// PutResults writes records as dewline_hourly points and transitions as
-// dewline_alert points in one batch; re-writing an hour replaces it.
-func (b *Backend) PutResults(ctx context.Context, recs []metrics.Record, tr []metrics.Transition) error {
-	if len(recs) == 0 && len(tr) == 0 {
+// PutResults writes records as dewline_hourly points, transitions and the
+// open alerts' running totals as dewline_alert points in one batch;
+// re-writing an hour replaces it.
+func (b *Backend) PutResults(ctx context.Context, recs []metrics.Record, tr []metrics.Transition, open []metrics.Alert) error {
+	if len(recs) == 0 && len(tr) == 0 && len(open) == 0 {
 		return nil
 	}
-	return b.c.WritePoints(ctx, append(HourlyPoints(b.opt.Site, recs), AlertPoints(b.opt.Site, tr)...))
+	pts := append(HourlyPoints(b.opt.Site, recs), AlertPoints(b.opt.Site, tr)...)
+	return b.c.WritePoints(ctx, append(pts, OpenAlertPoints(b.opt.Site, open)...))
 }
 
 // Results reads the site's results back: dewline_hourly pivoted into

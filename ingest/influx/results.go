@@ -5,7 +5,9 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"maps"
 	"math"
+	"slices"
 	"strings"
 	"time"
 
@@ -99,6 +101,7 @@ func (rs *agentStore) Commit(ctx context.Context, ahu string, recs []metrics.Rec
 	}
 	pts := HourlyPoints(rs.site, recs)
 	pts = append(pts, AlertPoints(rs.site, up.Transitions)...)
+	pts = append(pts, OpenAlertPoints(rs.site, slices.Collect(maps.Values(up.States)))...)
 	// Every rule's state is written, empty when inactive, so a closed
 	// alert's old state is replaced; the checkpoint comes last.
 	for _, rule := range metrics.Rules() {
@@ -166,6 +169,29 @@ func AlertPoints(site string, tr []metrics.Transition) []Point {
 	return pts
 }
 
+// OpenAlertPoints are the open alerts' current states as dewline_alert
+// points: each replaces its alert's open transition point (same series and
+// time, the hour it opened) with the running totals and the latest reason,
+// so a transition stays one point, re-writing it is idempotent, and the
+// read side's figures grow with every hour the alert stays open. A state
+// kept before the opening hour was recorded (Opened zero) is written at the
+// end of the last hour evaluated instead.
+func OpenAlertPoints(site string, open []metrics.Alert) []Point {
+	var tr []metrics.Transition
+	for _, a := range open {
+		if a.Status != metrics.StatusOpen {
+			continue
+		}
+		at := a.Opened
+		if at.IsZero() {
+			at = a.LastSeen.Add(time.Hour)
+		}
+		tr = append(tr, metrics.Transition{From: metrics.StatusPending, To: metrics.StatusOpen, Alert: a, At: at})
+	}
+	slices.SortFunc(tr, func(x, y metrics.Transition) int { return strings.Compare(x.Alert.ID, y.Alert.ID) })
+	return AlertPoints(site, tr)
+}
+
 func isBad(v float64) bool { return math.IsNaN(v) || math.IsInf(v, 0) }
 
 func b2f(b bool) float64 {
@@ -228,7 +254,8 @@ func (d *DryRun) AlertStates(ctx context.Context, ahu string) (map[string]metric
 
 // Commit prints the hourly and alert points and where the checkpoint would move.
 func (d *DryRun) Commit(_ context.Context, ahu string, recs []metrics.Record, up store.AlertUpdate, through time.Time) error {
-	for _, p := range append(HourlyPoints(d.Site, recs), AlertPoints(d.Site, up.Transitions)...) {
+	pts := append(HourlyPoints(d.Site, recs), AlertPoints(d.Site, up.Transitions)...)
+	for _, p := range append(pts, OpenAlertPoints(d.Site, slices.Collect(maps.Values(up.States)))...) {
 		fmt.Fprintln(d.W, LineProtocol(p))
 	}
 	fmt.Fprintf(d.W, "# %s: checkpoint would move to %s (dry run: nothing written)\n", ahu, through.UTC().Format(time.RFC3339))

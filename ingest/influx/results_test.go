@@ -57,3 +57,35 @@ func (c *countingResults) Commit(context.Context, string, []metrics.Record, stor
 	c.commits++
 	return nil
 }
+
+// TestOpenAlertPoints_ReplaceTheOpenTransition: an open alert's later state
+// is written on its open transition point (same measurement, tags and time,
+// the end of the hour it opened), so the alert stays one point per
+// transition while its figures grow; a state without an opening time is
+// written at the end of the last hour evaluated.
+func TestOpenAlertPoints_ReplaceTheOpenTransition(t *testing.T) {
+	start := time.Date(2026, 7, 15, 1, 0, 0, 0, time.UTC)
+	opened := metrics.Alert{ID: "AHU-7/reheat_not_needed/20260715T01Z", AHU: "AHU-7", Kind: metrics.AlertReheatNotNeeded,
+		Severity: metrics.SeverityWarning, Status: metrics.StatusOpen, Start: start, LastSeen: start.Add(time.Hour),
+		Opened: start.Add(2 * time.Hour), EnergyKWh: 36, Money: 5.67, Reason: "first"}
+	tr := AlertPoints("north", []metrics.Transition{{From: metrics.StatusPending, To: metrics.StatusOpen, Alert: opened, At: opened.Opened}})
+	later := opened
+	later.LastSeen, later.EnergyKWh, later.Money, later.Reason = start.Add(5*time.Hour), 108, 17, "latest"
+	pending := later
+	pending.Status = metrics.StatusPending
+	up := OpenAlertPoints("north", []metrics.Alert{later, pending})
+	require.Len(t, tr, 1)
+	require.Len(t, up, 1, "pending alerts are not written")
+	assert.Equal(t, tr[0].Measurement, up[0].Measurement)
+	assert.Equal(t, tr[0].Tags, up[0].Tags)
+	assert.True(t, tr[0].Time.Equal(up[0].Time), "same point: %s and %s", tr[0].Time, up[0].Time)
+	assert.Equal(t, 108.0, up[0].Fields["energy_kwh"])
+	assert.Equal(t, 17.0, up[0].Fields["money"])
+	assert.Equal(t, "latest", up[0].Strings["reason"])
+
+	old := later
+	old.Opened = time.Time{}
+	up = OpenAlertPoints("north", []metrics.Alert{old})
+	require.Len(t, up, 1)
+	assert.True(t, up[0].Time.Equal(start.Add(6*time.Hour)), "end of the last hour evaluated: %s", up[0].Time)
+}

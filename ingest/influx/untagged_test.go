@@ -103,7 +103,7 @@ func TestInflux_UntaggedResultsAdopted(t *testing.T) {
 	// Since the upgrade north has re-written the last hour, tagged.
 	newer := old[3]
 	newer.Coverage = 0.5
-	require.NoError(t, north.PutResults(ctx, []metrics.Record{newer}, nil))
+	require.NoError(t, north.PutResults(ctx, []metrics.Record{newer}, nil, nil))
 
 	from, to := h0.Add(-time.Hour), h0.Add(24*time.Hour)
 	require.Len(t, hoursOf(t, north, "", from, to), 1, "north reads only its tagged hour")

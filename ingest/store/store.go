@@ -56,8 +56,11 @@ type ResultWriter interface {
 	// PutResults writes hourly records and the alert transitions computed
 	// from them together: a failure leaves no hour stored without its
 	// alerts. Re-writing an hour replaces it; a transition already
-	// recorded is not recorded again.
-	PutResults(ctx context.Context, recs []metrics.Record, tr []metrics.Transition) error
+	// recorded is not recorded again. open are the alerts still open
+	// after the last record, with their running totals: the store keeps
+	// their current figures (idempotent per alert and hour), so an open
+	// alert's energy, money and duration grow with every hour it stays open.
+	PutResults(ctx context.Context, recs []metrics.Record, tr []metrics.Transition, open []metrics.Alert) error
 }
 
 // ImportLogger is what a store may also offer: a log of the files imported.
