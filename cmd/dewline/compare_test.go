@@ -233,11 +233,7 @@ func TestInflux_CompareMatchesEmbedded(t *testing.T) {
 	db := freshDB(t, base, "compare")
 	dir := t.TempDir()
 	embCfg, data := writeSequenceChange(t, dir)
-	fluxText := strings.Replace(analyzeConfig, "store: {kind: embedded, path: test.db}",
-		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", base, db+"/autogen"), 1)
-	require.NotEqual(t, analyzeConfig, fluxText)
-	fluxCfg := filepath.Join(dir, "influx.yaml")
-	require.NoError(t, os.WriteFile(fluxCfg, []byte(fluxText), 0o600))
+	fluxCfg := influxConfig(t, dir, base, db)
 	outs := map[string]string{}
 	for _, cfg := range []string{embCfg, fluxCfg} {
 		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data, "--from", "2026-07-14", "--to", "2026-07-17")

@@ -1,13 +1,9 @@
 package main
 
 import (
-	"fmt"
 	"io"
 	"net/http"
 	"net/http/httptest"
-	"os"
-	"path/filepath"
-	"strings"
 	"testing"
 	"time"
 
@@ -29,11 +25,7 @@ func TestInflux_DashboardMatchesEmbedded(t *testing.T) {
 	db := freshDB(t, base, "dash")
 	dir := t.TempDir()
 	embCfg, data := writeScenario(t, dir)
-	fluxText := strings.Replace(analyzeConfig, "store: {kind: embedded, path: test.db}",
-		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", base, db+"/autogen"), 1)
-	require.NotEqual(t, analyzeConfig, fluxText)
-	fluxCfg := filepath.Join(dir, "influx.yaml")
-	require.NoError(t, os.WriteFile(fluxCfg, []byte(fluxText), 0o600))
+	fluxCfg := influxConfig(t, dir, base, db)
 	for _, cfg := range []string{embCfg, fluxCfg} {
 		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data)
 		require.Equal(t, 0, code, errOut)

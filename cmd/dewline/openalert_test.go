@@ -1,11 +1,7 @@
 package main
 
 import (
-	"fmt"
 	"math"
-	"os"
-	"path/filepath"
-	"strings"
 	"testing"
 	"time"
 
@@ -31,11 +27,7 @@ func TestInflux_OpenAlertFiguresGrowHourly(t *testing.T) {
 	db := freshDB(t, base, "openalert")
 	dir := t.TempDir()
 	embCfg, data := writeScenario(t, dir)
-	fluxText := strings.Replace(analyzeConfig, "store: {kind: embedded, path: test.db}",
-		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", base, db+"/autogen"), 1)
-	require.NotEqual(t, analyzeConfig, fluxText)
-	fluxCfg := filepath.Join(dir, "influx.yaml")
-	require.NoError(t, os.WriteFile(fluxCfg, []byte(fluxText), 0o600))
+	fluxCfg := influxConfig(t, dir, base, db)
 
 	for _, c := range []struct{ name, cfg string }{{"embedded", embCfg}, {"influxdb", fluxCfg}} {
 		t.Run(c.name, func(t *testing.T) {

@@ -869,3 +869,15 @@ func influxCheckpoints(t *testing.T, base, db string) map[string]time.Time {
 	}
 	return out
 }
+
+// influxConfig writes analyzeConfig with its store on the InfluxDB test
+// server (database db at base) into dir and returns the file's path.
+func influxConfig(t *testing.T, dir, base, db string) string {
+	t.Helper()
+	text := strings.Replace(analyzeConfig, "store: {kind: embedded, path: test.db}",
+		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", base, db+"/autogen"), 1)
+	require.NotEqual(t, analyzeConfig, text, "analyzeConfig's store line")
+	path := filepath.Join(dir, "influx.yaml")
+	require.NoError(t, os.WriteFile(path, []byte(text), 0o600))
+	return path
+}
