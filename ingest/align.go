@@ -71,19 +71,30 @@ type Aligner struct {
 	step    time.Duration
 	n       int
 	next    time.Time // start of the next hour to emit
+	base    time.Time // the first hour: times inside are nanoseconds from it
+	nextNs  int64     // next, from base
 	roles   []*roleStream
 	index   map[metrics.Role]int
 	late    int
 	emitted bool // an hour has been emitted: samples before next are late
 }
 
+// Times inside the aligner are nanoseconds from its first hour (time.Time's
+// Sub saturates at about 292 years either side): a sample is compared with
+// every grid step it may hold for, and int64 arithmetic is several times
+// cheaper than time.Time's.
+type tsample struct {
+	ns int64
+	v  float64
+}
+
 type roleStream struct {
 	role  metrics.Role
 	spec  metrics.RoleSpec
-	stale time.Duration
-	queue []Sample // pushed, not yet consumed, in time order
-	last  time.Time
-	cur   Sample
+	stale int64     // ns
+	queue []tsample // pushed, not yet consumed, in time order
+	last  int64
+	cur   tsample
 	good  bool // cur is usable
 	has   bool
 
@@ -91,11 +102,13 @@ type roleStream struct {
 	temp    int     // index of the paired temperature stream, -1 when none
 	pw      float64 // vapour pressure of cur, Pa; NaN until a temperature was seen
 	pending bool    // cur awaits the temperature of its instant
+	memoT   float64 // the last temperature moisture converted, and its p_ws
+	memoPws float64
 
 	// the run of identical samples the stream is in
 	runVal   float64
-	runFirst time.Time
-	runLast  time.Time
+	runFirst int64
+	runLast  int64
 	runN     int
 }
 
@@ -119,7 +132,8 @@ func NewAligner(ahu string, from time.Time, step time.Duration, roles map[metric
 	if step <= 0 || time.Hour%step != 0 {
 		return nil, fmt.Errorf("align %s: grid step %v does not divide an hour", ahu, step)
 	}
-	a := &Aligner{ahu: ahu, step: step, n: int(time.Hour / step), next: from.UTC().Truncate(time.Hour), index: map[metrics.Role]int{}}
+	next := from.UTC().Truncate(time.Hour)
+	a := &Aligner{ahu: ahu, step: step, n: int(time.Hour / step), next: next, base: next, index: map[metrics.Role]int{}}
 	names := make([]string, 0, len(roles))
 	for r := range roles {
 		names = append(names, string(r))
@@ -136,7 +150,7 @@ func NewAligner(ahu string, from time.Time, step time.Duration, roles map[metric
 			st = spec.Stale
 		}
 		a.index[r] = len(a.roles)
-		a.roles = append(a.roles, &roleStream{role: r, spec: spec, stale: st, temp: -1})
+		a.roles = append(a.roles, &roleStream{role: r, spec: spec, stale: int64(st), temp: -1, memoT: math.NaN()})
 	}
 	// Humidity roles follow their temperatures, so each hour aligns the
 	// temperature before the RH that is converted with it.
@@ -175,18 +189,37 @@ func (a *Aligner) Push(role metrics.Role, s Sample) {
 	if !ok {
 		return
 	}
+	a.push(i, s.Time, s.Value)
+}
+
+// roleIndex returns the index push takes for role, -1 when it is not aligned.
+func (a *Aligner) roleIndex(role metrics.Role) int {
+	if i, ok := a.index[role]; ok {
+		return i
+	}
+	return -1
+}
+
+// push is Push for the stream at index i.
+func (a *Aligner) push(i int, t time.Time, v float64) { a.pushNs(i, a.since(t), v) }
+
+// since returns t in the aligner's nanoseconds.
+func (a *Aligner) since(t time.Time) int64 { return int64(t.Sub(a.base)) }
+
+// pushNs is push with the time already in the aligner's nanoseconds.
+func (a *Aligner) pushNs(i int, ns int64, v float64) {
 	r := a.roles[i]
 	switch {
-	case a.emitted && s.Time.Before(a.next):
+	case a.emitted && ns < a.nextNs:
 		a.late++
-	case len(r.queue) == 0 || !s.Time.Before(r.last):
-		r.queue = append(r.queue, s)
-		r.last = s.Time
+	case len(r.queue) == 0 || ns >= r.last:
+		r.queue = append(r.queue, tsample{ns, v})
+		r.last = ns
 	default:
-		j := sort.Search(len(r.queue), func(k int) bool { return r.queue[k].Time.After(s.Time) })
-		r.queue = append(r.queue, Sample{})
+		j := sort.Search(len(r.queue), func(k int) bool { return r.queue[k].ns > ns })
+		r.queue = append(r.queue, tsample{})
 		copy(r.queue[j+1:], r.queue[j:])
-		r.queue[j] = s
+		r.queue[j] = tsample{ns, v}
 	}
 }
 
@@ -198,6 +231,7 @@ func (a *Aligner) Emit(until time.Time, fn func(*metrics.Hour) error) error {
 			return err
 		}
 		a.next = a.next.Add(time.Hour)
+		a.nextNs += int64(time.Hour)
 		a.emitted = true
 	}
 	return nil
@@ -205,57 +239,32 @@ func (a *Aligner) Emit(until time.Time, fn func(*metrics.Hour) error) error {
 
 // hour aligns the hour starting at a.next and consumes its samples.
 func (a *Aligner) hour() *metrics.Hour {
-	hs := a.next
-	he := hs.Add(time.Hour)
+	hs, he := a.nextNs, a.nextNs+int64(time.Hour)
+	step := int64(a.step)
 	h := &metrics.Hour{
-		AHU: a.ahu, Start: hs, Step: a.step,
+		AHU: a.ahu, Start: a.next, Step: a.step,
 		Values:  make(map[metrics.Role][]float64, len(a.roles)),
 		Quality: make(map[metrics.Role]metrics.RoleQuality, len(a.roles)),
 	}
-	byIndex := make([][]float64, len(a.roles))
+	// One allocation for every role's steps; each role's slice is capped at
+	// its own length.
+	slab := make([]float64, a.n*len(a.roles))
 	for ri, r := range a.roles {
-		vals := make([]float64, a.n)
-		byIndex[ri] = vals
+		vals := slab[ri*a.n : (ri+1)*a.n : (ri+1)*a.n]
 		var temps []float64
 		if r.temp >= 0 {
-			temps = byIndex[r.temp]
+			temps = slab[r.temp*a.n : (r.temp+1)*a.n]
 		}
-		var q metrics.RoleQuality
+		c := consumer{r: r, hs: hs, he: he}
 		present, k := 0, 0
-		var firstIn time.Time // first sample inside the hour
-		consume := func(s Sample) {
-			if !s.Time.Before(hs) && s.Time.Before(he) {
-				q.Samples++
-				if firstIn.IsZero() {
-					firstIn = s.Time
-				}
-				if math.IsNaN(s.Value) || math.IsInf(s.Value, 0) {
-					q.NotFinite++
-				} else if !r.spec.Plausible(s.Value) {
-					q.OutOfRange++
-				}
-			}
-			finite := !math.IsNaN(s.Value) && !math.IsInf(s.Value, 0)
-			r.cur, r.good, r.has = s, finite && r.spec.Plausible(s.Value), true
-			r.pending, r.pw = r.temp >= 0, math.NaN()
-			switch {
-			case !r.good:
-				r.runN = 0
-			case r.runN > 0 && s.Value == r.runVal:
-				r.runN++
-				r.runLast = s.Time
-			default:
-				r.runVal, r.runFirst, r.runLast, r.runN = s.Value, s.Time, s.Time, 1
-			}
-		}
 		for i := 0; i < a.n; i++ {
-			mid := hs.Add(time.Duration(i)*a.step + a.step/2)
-			for k < len(r.queue) && !r.queue[k].Time.After(mid) {
-				consume(r.queue[k])
+			mid := hs + int64(i)*step + step/2
+			for k < len(r.queue) && r.queue[k].ns <= mid {
+				c.consume(r.queue[k])
 				k++
 			}
-			if r.has && r.good && mid.Sub(r.cur.Time) <= r.stale {
-				v := r.cur.Value
+			if r.has && r.good && mid-r.cur.ns <= r.stale {
+				v := r.cur.v
 				if temps != nil {
 					v = r.moisture(temps[i])
 				}
@@ -269,18 +278,56 @@ func (a *Aligner) hour() *metrics.Hour {
 		}
 		// Samples after the last midpoint but inside the hour count here
 		// and update the held value for the next hour.
-		for k < len(r.queue) && r.queue[k].Time.Before(he) {
-			consume(r.queue[k])
+		for k < len(r.queue) && r.queue[k].ns < he {
+			c.consume(r.queue[k])
 			k++
 		}
 		// Drop what was consumed; keep the backing array small.
 		r.queue = append(r.queue[:0], r.queue[k:]...)
+		q := c.q
 		q.Coverage = float64(present) / float64(a.n)
-		q.Flat, q.FlatFor = r.flat(q.Samples, firstIn)
+		q.Flat, q.FlatFor = r.flat(q.Samples, c.firstIn, c.hasFirst)
 		h.Values[r.role] = vals
 		h.Quality[r.role] = q
 	}
 	return h
+}
+
+// consumer takes one role's samples in order during an hour [hs, he).
+type consumer struct {
+	r        *roleStream
+	hs, he   int64
+	q        metrics.RoleQuality
+	firstIn  int64 // first sample inside the hour
+	hasFirst bool
+}
+
+func (c *consumer) consume(s tsample) {
+	r := c.r
+	finite := !math.IsNaN(s.v) && !math.IsInf(s.v, 0)
+	plausible := finite && r.spec.Plausible(s.v)
+	if s.ns >= c.hs && s.ns < c.he {
+		c.q.Samples++
+		if !c.hasFirst {
+			c.firstIn, c.hasFirst = s.ns, true
+		}
+		if !finite {
+			c.q.NotFinite++
+		} else if !plausible {
+			c.q.OutOfRange++
+		}
+	}
+	r.cur, r.good, r.has = s, plausible, true
+	r.pending, r.pw = r.temp >= 0, math.NaN()
+	switch {
+	case !r.good:
+		r.runN = 0
+	case r.runN > 0 && s.v == r.runVal:
+		r.runN++
+		r.runLast = s.ns
+	default:
+		r.runVal, r.runFirst, r.runLast, r.runN = s.v, s.ns, s.ns, 1
+	}
 }
 
 // moisture returns the RH at a step whose temperature is tC, from the
@@ -291,12 +338,18 @@ func (r *roleStream) moisture(tC float64) float64 {
 	if math.IsNaN(tC) {
 		return math.NaN()
 	}
-	pws, err := psychro.SatVapPressure(tC)
-	if err != nil || pws <= 0 {
-		return math.NaN()
+	// Logged temperatures repeat (a set point, a coarse sensor, a value
+	// held over several steps): the last one's p_ws is remembered.
+	pws := r.memoPws
+	if tC != r.memoT {
+		p, err := psychro.SatVapPressure(tC)
+		if err != nil || p <= 0 {
+			return math.NaN()
+		}
+		r.memoT, r.memoPws, pws = tC, p, p
 	}
 	if r.pending {
-		r.pw, r.pending = r.cur.Value*pws, false
+		r.pw, r.pending = r.cur.v*pws, false
 	}
 	if math.IsNaN(r.pw) {
 		return math.NaN()
@@ -308,21 +361,21 @@ func (r *roleStream) moisture(tC float64) float64 {
 // identical values, and then whether the hour alone has ten or more of
 // them, and how long the run lasts including the samples queued after the
 // hour (0 when it has fewer than six samples).
-func (r *roleStream) flat(samples int, firstIn time.Time) (bool, time.Duration) {
-	if samples == 0 || r.runN == 0 || firstIn.IsZero() || r.runFirst.After(firstIn) {
+func (r *roleStream) flat(samples int, firstIn int64, hasFirst bool) (bool, time.Duration) {
+	if samples == 0 || r.runN == 0 || !hasFirst || r.runFirst > firstIn {
 		return false, 0
 	}
 	n, last := r.runN, r.runLast
 	for _, s := range r.queue {
-		if s.Value != r.runVal {
+		if s.v != r.runVal {
 			break
 		}
 		n++
-		last = s.Time
+		last = s.ns
 	}
 	span := time.Duration(0)
 	if n >= flatMinRun {
-		span = last.Sub(r.runFirst)
+		span = time.Duration(last - r.runFirst)
 	}
 	return samples >= flatMinHour, span
 }

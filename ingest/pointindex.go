@@ -140,12 +140,16 @@ func (u RowUnit) ToSI(tg PointTarget, v float64) float64 {
 // counted); an error is a conflict between the file and the configuration.
 // rec must be a record of a series in the index.
 func (ru *RowUnits) Check(rec Record) (RowUnit, bool, error) {
-	ts := ru.ix[rec.Series]
+	return ru.check(&rec, ru.ix[rec.Series])
+}
+
+// check is Check with the record's targets already looked up.
+func (ru *RowUnits) check(rec *Record, ts []PointTarget) (RowUnit, bool, error) {
 	if len(ts) == 0 || rec.Unit == "" {
 		return RowUnit{}, true, nil
 	}
 	if !ru.checked[rec.Series] {
-		if err := ru.ix.CheckUnit(rec); err != nil {
+		if err := ru.ix.CheckUnit(*rec); err != nil {
 			return RowUnit{}, false, err
 		}
 		ru.checked[rec.Series] = true

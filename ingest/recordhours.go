@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"sort"
+	"sync"
 	"time"
 
 	"github.com/dewline/dewline/metrics"
@@ -80,6 +81,20 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 		sort.Strings(order)
 		return nil
 	}
+	// emitFrom is the input time from which the earliest pending hour can
+	// be emitted: an hour is complete once the input is an hour past its
+	// end (room for small disorder), and it is emitted once the input is
+	// FlatLookahead further, so a run of identical values can be seen to go
+	// on after it.
+	emitFrom := func() time.Time {
+		var first time.Time
+		for i, ahu := range order {
+			if n := aligners[ahu].Next(); i == 0 || n.Before(first) {
+				first = n
+			}
+		}
+		return first.Add(2*time.Hour + FlatLookahead)
+	}
 	emit := func(until time.Time) error {
 		if !to.IsZero() && until.After(to) {
 			until = to
@@ -101,54 +116,70 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 			}
 		}
 	}
-	var last time.Time
-	for n := 0; ; n++ {
-		if n%4096 == 0 {
-			if err := ctx.Err(); err != nil {
+	routes := newRouter(byName)
+	var (
+		last, next time.Time // the latest record time; when emit has work
+		lo, hi     time.Time // the period and its lead-in, once started
+		// Every aligner starts at from, so a time is converted to the
+		// aligners' nanoseconds once for all (the records of a wide row
+		// share theirs).
+		conv   *Aligner
+		convT  time.Time
+		convNs int64
+	)
+	err = readBatches(ctx, rh.Src, func(recs []Record) error {
+		for i := range recs {
+			rec := &recs[i]
+			rt := routes.find(rec.Series)
+			if rt.targets == nil {
+				rh.Unmatched.Add(rec.Series)
+				continue
+			}
+			ru, ok, err := rh.RowUnits.check(rec, rt.targets)
+			if err != nil {
 				return err
 			}
-		}
-		rec, err := rh.Src.Next()
-		if errors.Is(err, io.EOF) {
-			break
-		}
-		if err != nil {
-			return err
-		}
-		targets, ok := byName[rec.Series]
-		if !ok {
-			rh.Unmatched.Add(rec.Series)
-			continue
-		}
-		ru, ok, err := rh.RowUnits.Check(rec)
-		if err != nil {
-			return err
-		}
-		if !ok {
-			continue // counted in RowUnits
-		}
-		if len(order) == 0 {
-			if err := start(rec.Time); err != nil {
-				return err
+			if !ok {
+				continue // counted in RowUnits
+			}
+			if len(order) == 0 {
+				if err := start(rec.Time); err != nil {
+					return err
+				}
+				lo, hi = from.Add(-lead), to
+				next = emitFrom()
+				conv = aligners[order[0]]
+				convT, convNs = from, 0
+			}
+			if !hi.IsZero() && !rec.Time.Before(hi) || rec.Time.Before(lo) {
+				continue // outside the period and its lead-in
+			}
+			rh.Records++
+			if rt.dest == nil {
+				rt.resolve(aligners)
+			}
+			if rec.Time != convT {
+				convT, convNs = rec.Time, conv.since(rec.Time)
+			}
+			for j, tg := range rt.targets {
+				if d := rt.dest[j]; d.role >= 0 {
+					d.a.pushNs(d.role, convNs, ru.ToSI(tg, rec.Value))
+				}
+			}
+			if rec.Time.After(last) {
+				last = rec.Time
+				if !last.Before(next) {
+					if err := emit(last.Add(-time.Hour - FlatLookahead).UTC().Truncate(time.Hour)); err != nil {
+						return err
+					}
+					next = emitFrom()
+				}
 			}
 		}
-		if !to.IsZero() && !rec.Time.Before(to) || rec.Time.Before(from.Add(-lead)) {
-			continue // outside the period and its lead-in
-		}
-		rh.Records++
-		for _, tg := range targets {
-			aligners[tg.AHU].Push(tg.Role, Sample{Time: rec.Time, Value: ru.ToSI(tg, rec.Value)})
-		}
-		if rec.Time.After(last) {
-			last = rec.Time
-			// Records arrive in time order; an hour is complete once the
-			// input is an hour past its end (room for small disorder), and
-			// it is emitted once the input is FlatLookahead further, so a
-			// run of identical values can be seen to go on after it.
-			if err := emit(last.Add(-time.Hour - FlatLookahead).UTC().Truncate(time.Hour)); err != nil {
-				return err
-			}
-		}
+		return nil
+	})
+	if err != nil {
+		return err
 	}
 	if len(order) == 0 {
 		return nil // no matching records at all
@@ -158,6 +189,166 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 		end = last.UTC().Truncate(time.Hour).Add(time.Hour)
 	}
 	return emit(end)
+}
+
+// router finds a series' targets by name. Records come in a repeating
+// order (a wide export's columns, row after row), so the route after the
+// last one found is tried before the map.
+type router struct {
+	byName PointIndex
+	routes map[string]*route
+	seen   []*route // in the order first met
+	pos    int      // index in seen of the last route found
+}
+
+// route is one series: its configured uses and, once the aligners exist,
+// where each use goes.
+type route struct {
+	name    string
+	targets []PointTarget // nil: no air handler maps the series
+	dest    []routeDest
+	seq     int // index in router.seen
+}
+
+type routeDest struct {
+	a    *Aligner
+	role int // stream index in a; -1 when a does not align the role
+}
+
+func newRouter(byName PointIndex) *router {
+	return &router{byName: byName, routes: map[string]*route{}}
+}
+
+func (r *router) find(name string) *route {
+	if n := len(r.seen); n > 0 {
+		p := r.pos + 1
+		if p == n {
+			p = 0
+		}
+		if rt := r.seen[p]; rt.name == name {
+			r.pos = p
+			return rt
+		}
+	}
+	rt, ok := r.routes[name]
+	if !ok {
+		rt = &route{name: name, targets: r.byName[name], seq: len(r.seen)}
+		if len(r.routes) < maxRoutes {
+			r.routes[name] = rt
+			r.seen = append(r.seen, rt)
+		}
+	}
+	r.pos = rt.seq
+	if rt.seq >= len(r.seen) {
+		r.pos = -1 // not remembered: start again from the first next time
+	}
+	return rt
+}
+
+// maxRoutes bounds the series names remembered; a long export may hold
+// many points no air handler maps.
+const maxRoutes = 1 << 16
+
+func (rt *route) resolve(aligners map[string]*Aligner) {
+	rt.dest = make([]routeDest, len(rt.targets))
+	for i, tg := range rt.targets {
+		a := aligners[tg.AHU]
+		rt.dest[i] = routeDest{a: a, role: a.roleIndex(tg.Role)}
+	}
+}
+
+// BatchSource is a RecordSource that also fills a slice of records at a
+// time (csvfile.Files and csvfile.Reader do): n > 0 records and no error,
+// or 0 and the error that ends the stream (io.EOF at its end).
+type BatchSource interface {
+	Read(dst []Record) (int, error)
+}
+
+// readBatch is how many records the reading goroutine hands over at once.
+const readBatch = 1024
+
+// readBatches reads src on a goroutine of its own, a batch of records at a
+// time, and calls fn with each batch in order on the caller's goroutine, so
+// parsing the exports overlaps with aligning and computing what was read.
+// It returns fn's error, or src's first error other than io.EOF; src is no
+// longer used when it returns.
+func readBatches(ctx context.Context, src RecordSource, fn func([]Record) error) error {
+	type batch struct {
+		recs []Record
+		err  error
+	}
+	full := make(chan batch, 4)
+	free := make(chan []Record, 6)
+	for range 6 {
+		free <- make([]Record, readBatch)
+	}
+	done := make(chan struct{})
+	var wg sync.WaitGroup
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		defer close(full)
+		bs, _ := src.(BatchSource)
+		for {
+			var buf []Record
+			select {
+			case buf = <-free:
+			case <-done:
+				return
+			}
+			n, err := 0, error(nil)
+			if bs != nil {
+				n, err = bs.Read(buf)
+			} else {
+				for n < len(buf) {
+					var rec Record
+					if rec, err = src.Next(); err != nil {
+						break
+					}
+					buf[n] = rec
+					n++
+				}
+			}
+			if n > 0 {
+				select {
+				case full <- batch{recs: buf[:n]}:
+				case <-done:
+					return
+				}
+			}
+			if err != nil {
+				select {
+				case full <- batch{err: err}:
+				case <-done:
+				}
+				return
+			}
+		}
+	}()
+	stop := func() {
+		close(done)
+		wg.Wait()
+	}
+	for b := range full {
+		if b.err != nil {
+			stop()
+			if errors.Is(b.err, io.EOF) {
+				return nil
+			}
+			return b.err
+		}
+		if err := ctx.Err(); err != nil {
+			stop()
+			return err
+		}
+		if err := fn(b.recs); err != nil {
+			stop()
+			return err
+		}
+		free <- b.recs[:cap(b.recs)]
+	}
+	stop()
+	return nil
 }
 
 // pick returns the units of the named air handlers; unknown names are left

@@ -91,6 +91,29 @@ func (f *Files) Next() (ingest.Record, error) {
 	return top.rec, nil
 }
 
+// Read fills dst with the next records in time order, like Next, and
+// returns how many it wrote: n > 0 and no error, or 0 and the error that
+// ends the stream (io.EOF at its end). One file is read straight into dst
+// (see Reader.Read); several are merged record by record.
+func (f *Files) Read(dst []ingest.Record) (int, error) {
+	if len(f.readers) == 1 && !f.started {
+		return f.readers[0].Read(dst)
+	}
+	n := 0
+	for n < len(dst) {
+		rec, err := f.Next()
+		if err != nil {
+			if n > 0 {
+				return n, nil // the error comes again with the next call
+			}
+			return 0, err
+		}
+		dst[n] = rec
+		n++
+	}
+	return n, nil
+}
+
 // Readers returns the readers in the order of the paths, for their Stats,
 // Columns and Detected.
 func (f *Files) Readers() []*Reader { return f.readers }

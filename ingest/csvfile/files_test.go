@@ -6,6 +6,8 @@ import (
 	"path/filepath"
 	"testing"
 
+	"github.com/dewline/dewline/ingest"
+
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 )
@@ -57,4 +59,54 @@ func TestFiles_Open(t *testing.T) {
 	assert.ErrorIs(t, err, ErrEmpty)
 	_, err = OpenFiles([]string{filepath.Join(fixtures, "no-such-file.csv")}, Options{})
 	assert.Error(t, err)
+}
+
+// Read gives the records Next gives, in the same order, for one file (read
+// straight into the slice) and for several (merged).
+func TestFiles_Read(t *testing.T) {
+	open := func() []*Reader {
+		a, err := newString(t, "Time,A\n2026-07-14T13:00:00Z,1\n2026-07-14T13:02:00Z,3\n2026-07-14T13:04:00Z,5\n", Options{})
+		require.NoError(t, err)
+		b, err := newString(t, "Time,B,C\n2026-07-14T13:01:00Z,2,7\n2026-07-14T13:02:00Z,4,8\n", Options{})
+		require.NoError(t, err)
+		return []*Reader{a, b}
+	}
+	key := func(rec ingest.Record) string { return rec.Series + rec.Time.Format("04") }
+	for _, tc := range []struct {
+		name  string
+		files func() *Files
+	}{
+		{"one file", func() *Files { return Merge(open()[1]) }},
+		{"several", func() *Files { return Merge(open()...) }},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			var want []string
+			f := tc.files()
+			for {
+				rec, err := f.Next()
+				if errors.Is(err, io.EOF) {
+					break
+				}
+				require.NoError(t, err)
+				want = append(want, key(rec))
+			}
+			var got []string
+			f = tc.files()
+			buf := make([]ingest.Record, 2)
+			for {
+				n, err := f.Read(buf)
+				if errors.Is(err, io.EOF) {
+					require.Zero(t, n)
+					break
+				}
+				require.NoError(t, err)
+				require.Positive(t, n)
+				for _, rec := range buf[:n] {
+					got = append(got, key(rec))
+				}
+			}
+			assert.Equal(t, want, got)
+			assert.NotEmpty(t, got)
+		})
+	}
 }
