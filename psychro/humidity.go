@@ -202,17 +202,23 @@ func (f *wbForm) linearSeed(tC, tdC, w, slope float64) float64 {
 	return (x - f.off) / f.perK
 }
 
-// dw is dW/dt* in 1/K, given dWs*/dt* in 1/K, for Newton's method.
-func (f *wbForm) dw(tC, twbC, wsStar, dWsStarK float64) float64 {
+// derivs returns dW/dt* in 1/K and d²W/dt*² in 1/K² from eq. 33/35, given
+// W_s* and its first and second derivatives in °C, for Halley's method.
+func (f *wbForm) derivs(tC, twbC, wsStar, dWs, d2Ws float64) (d1, d2 float64) {
 	t, ts := f.toSys(tC), f.toSys(twbC)
 	a, b, g := f.aW, f.bW, f.fW
 	if ts < f.freezing {
 		a, b, g = f.aI, f.bI, f.fI
 	}
+	k := f.perK // the form's degrees per K
 	n := (a-b*ts)*wsStar - f.cpa*(t-ts)
 	den := a + f.cpv*t - g*ts
-	dn := -b*wsStar + (a-b*ts)*dWsStarK/f.perK + f.cpa // per degree of the form
-	return (dn*den + n*g) / (den * den) * f.perK
+	dn := -b*k*wsStar + (a-b*ts)*dWs + f.cpa*k
+	d2n := -2*b*k*dWs + (a-b*ts)*d2Ws
+	dden := -g * k
+	d1 = (dn*den - n*dden) / (den * den)
+	d2 = (d2n - 2*dden*d1) / den
+	return d1, d2
 }
 
 // WetBulbFromHumRatio returns the thermodynamic wet bulb (°C) of air at tC
@@ -222,15 +228,36 @@ func WetBulbFromHumRatio(tC, w, pPa float64) (float64, error) {
 	if err := checkTemp(inDryBulb, tC); err != nil {
 		return 0, err
 	}
-	td, err := DewPointFromHumRatio(w, pPa)
+	pw, err := VapPressureFromHumRatio(w, pPa)
 	if err != nil {
 		return 0, err
 	}
-	if td > tC+1e-9 {
-		return 0, outOfRange(inHumRatio, w, "above saturation at this dry bulb (dew point above dry bulb)")
+	if pw < satPressureMin {
+		return 0, outOfRange(inHumRatio, w, "too dry: the dew point would be below -100 °C")
+	}
+	if pw > satPressureMax {
+		return 0, outOfRange(inHumRatio, w, "the dew point would be above 200 °C")
+	}
+	// The iteration needs only a bracket and a seed, not the dew point to
+	// 1e-9 K: one Newton step on ln p_ws from the Magnus estimate lands
+	// below the dew point (ln p_ws is concave in t), within about 1e-3 K
+	// of it in the HVAC range and 0.1 K at 200 °C. Near saturation the
+	// exact dew point decides whether the state exists.
+	td := dewPointBelow(pw)
+	if td > tC-nearSaturationK {
+		if td, err = dewPoint(pw); err != nil {
+			return 0, err
+		}
+		if td > tC+1e-9 {
+			return 0, outOfRange(inHumRatio, w, "above saturation at this dry bulb (dew point above dry bulb)")
+		}
 	}
 	return wetBulb(&wbSI, tC, w, pPa, math.Min(td, tC))
 }
+
+// nearSaturationK is how close to the dry bulb dewPointBelow's estimate
+// may come before the exact dew point is computed: well above its error.
+const nearSaturationK = 0.5
 
 // wetBulb solves for t* given a valid state and its dew point tdC.
 func wetBulb(form *wbForm, tC, w, pPa, tdC float64) (float64, error) {
@@ -242,23 +269,25 @@ func wetBulb(form *wbForm, tC, w, pPa, tdC float64) (float64, error) {
 	// dry air a band of W has a root on both branches. Physically the wetted
 	// bulb then sits on the ice-water plateau at the freezing point, which is
 	// the answer returned (ASHRAE's equations leave the choice open).
-	if lo < 0 && hi > 0 && pPa > satVapPressure(0) {
-		pws0 := satVapPressure(0)
-		ws0 := MolarMassRatio * pws0 / (pPa - pws0)
+	if lo < 0 && hi > 0 && pPa > satPressureZero {
+		ws0 := MolarMassRatio * satPressureZero / (pPa - satPressureZero)
 		if form.wBranch(tC, 0, ws0, false) < w && w < form.wBranch(tC, 0, ws0, true) {
 			return 0, nil
 		}
 	}
 	// Seed: replace W_s(t*) by its tangent at the dew point, where W_s = W,
 	// and solve eq. 33/35 for t* (linear then). The tangent lies below the
-	// convex W_s curve, so the seed overshoots a little; Newton then needs
-	// two or three steps.
+	// convex W_s curve, so the seed overshoots, by a kelvin or more in dry
+	// air.
 	pwd := pPa * w / (MolarMassRatio + w)
 	slope := MolarMassRatio * pPa * pwd * dLnSatVapPressure(tdC) / ((pPa - pwd) * (pPa - pwd))
 	t := form.linearSeed(tC, tdC, w, slope)
 	if !(t > lo && t < hi) {
 		t = 0.5 * (lo + hi)
 	}
+	// Halley's method (the second derivative of W_s comes from the same
+	// p_ws, with no further exponential or logarithm), kept inside the
+	// bracket.
 	for i := 0; i < 60; i++ {
 		pws := satVapPressure(t)
 		if pws >= pPa {
@@ -267,7 +296,8 @@ func wetBulb(form *wbForm, tC, w, pPa, tdC float64) (float64, error) {
 			t = 0.5 * (lo + hi)
 			continue
 		}
-		ws := MolarMassRatio * pws / (pPa - pws)
+		q := pPa - pws
+		ws := MolarMassRatio * pws / q
 		f := form.w(tC, t, ws) - w
 		if f == 0 {
 			return t, nil
@@ -277,22 +307,40 @@ func wetBulb(form *wbForm, tC, w, pPa, tdC float64) (float64, error) {
 		} else {
 			lo = t
 		}
-		dws := MolarMassRatio * pPa * pws * dLnSatVapPressure(t) / ((pPa - pws) * (pPa - pws))
-		df := form.dw(tC, t, ws, dws)
-		next := t - f/df
-		if !(next > lo && next < hi) || df <= 0 {
-			next = 0.5 * (lo + hi) // Newton left the bracket: bisect instead.
+		l1 := dLnSatVapPressure(t)
+		dp := pws * l1
+		d2p := pws * (l1*l1 + d2LnSatVapPressure(t))
+		dws := MolarMassRatio * pPa * dp / (q * q)
+		d2ws := MolarMassRatio * pPa * (d2p*q + 2*dp*dp) / (q * q * q)
+		df, d2f := form.derivs(tC, t, ws, dws, d2ws)
+		den := 2*df*df - f*d2f
+		if df > 0 && den > 0 {
+			step := 2 * f * df / den
+			// Cubic convergence: the error left after a step d is about
+			// K d³, K = |f3/6f1 - f2²/4f1²| with f1..f3 the derivatives of
+			// eq. 33/35 in t*, under 0.01 /K² (W_s grows by under 10 %/K),
+			// so a step below 1e-4 K leaves far less than 1e-9 K. (Tested
+			// before the bracket: the last step may be a rounding's width
+			// from its edge.)
+			if math.Abs(step) < 1e-4 {
+				return t - step, nil
+			}
+			if next := t - step; next > lo && next < hi {
+				t = next
+				continue
+			}
 		}
-		// Quadratic convergence: the error left after a step d is about
-		// C d² with C = |f''/2f'| < 0.1 /K for eq. 33/35 (W_s grows by under
-		// 10 %/K), so a step below 1e-4 K leaves less than 1e-9 K.
-		if math.Abs(next-t) < 1e-4 || hi-lo < 1e-9 {
-			return next, nil
+		// The step left the bracket: bisect instead.
+		t = 0.5 * (lo + hi)
+		if hi-lo < 1e-9 {
+			return t, nil
 		}
-		t = next
 	}
 	return 0, &InputError{Input: inHumRatio, Value: w, Reason: "wet bulb iteration did not converge", Err: ErrNoConvergence}
 }
+
+// satPressureZero is p_ws at 0 °C (eq. 5).
+var satPressureZero = satVapPressure(0)
 
 // DegreeOfSaturation returns μ = W / W_s(t, p) (ASHRAE ch. 1 definition of the degree of saturation).
 func DegreeOfSaturation(tC, w, pPa float64) (float64, error) {

@@ -52,6 +52,15 @@ func dLnSatVapPressure(tC float64) float64 {
 	return -c8/(t*t) + c10 + t*(2*c11+t*3*c12) + c13/t
 }
 
+// d2LnSatVapPressure is d² ln(p_ws)/dt² in 1/K², the second derivative of eqs. 5 and 6.
+func d2LnSatVapPressure(tC float64) float64 {
+	t := tC + ZeroCelsiusK
+	if tC <= TriplePointC {
+		return 2*c1/(t*t*t) + 2*c4 + t*(6*c5+t*12*c6) - c7/(t*t)
+	}
+	return 2*c8/(t*t*t) + 2*c11 + 6*c12*t - c13/(t*t)
+}
+
 func satVapPressure(tC float64) float64 { return math.Exp(lnSatVapPressure(tC)) }
 
 // satPressureMin and satPressureMax are p_ws at the ends of the valid range.
@@ -80,14 +89,7 @@ func dewPoint(pwPa float64) (float64, error) {
 	// Seed with the Magnus form over water or ice (a few hundredths of a
 	// kelvin from the answer in the HVAC range), then Newton: ln p_ws is
 	// smooth and nearly linear in 1/T, so two or three steps reach 1e-9 K.
-	var td float64
-	g := lnPw - lnMagnusP0
-	if g >= 0 {
-		td = 243.12 * g / (17.62 - g)
-	} else {
-		td = 272.62 * g / (22.46 - g)
-	}
-	td = clamp(td, MinTempC, MaxTempC)
+	td := magnusDewPoint(lnPw)
 	for i := 0; i < 50; i++ {
 		step := (lnSatVapPressure(td) - lnPw) / dLnSatVapPressure(td)
 		next := clamp(td-step, MinTempC, MaxTempC)
@@ -100,6 +102,31 @@ func dewPoint(pwPa float64) (float64, error) {
 		td = next
 	}
 	return 0, &InputError{Input: inVapPressure, Value: pwPa, Reason: "dew point iteration did not converge", Err: ErrNoConvergence}
+}
+
+// magnusDewPoint is the Magnus form's dew point over water or ice for
+// ln(p_w / Pa), clamped to the valid range: the seed of the iterations.
+func magnusDewPoint(lnPw float64) float64 {
+	var td float64
+	g := lnPw - lnMagnusP0
+	if g >= 0 {
+		td = 243.12 * g / (17.62 - g)
+	} else {
+		td = 272.62 * g / (22.46 - g)
+	}
+	return clamp(td, MinTempC, MaxTempC)
+}
+
+// dewPointBelow returns a lower bound of the dew point for a pressure in
+// range (within about 1e-3 K of it in the HVAC range, 0.1 K at 200 °C):
+// one Newton step from the Magnus seed.
+// ln p_ws is concave in t (eqs. 5 and 6, and the kink at the triple point
+// bends the same way), so its tangent lies above it and the step lands at
+// or below the root wherever it starts.
+func dewPointBelow(pwPa float64) float64 {
+	lnPw := math.Log(pwPa)
+	td := magnusDewPoint(lnPw)
+	return clamp(td-(lnSatVapPressure(td)-lnPw)/dLnSatVapPressure(td), MinTempC, MaxTempC)
 }
 
 // lnMagnusP0 is ln(611.2 Pa), the reference pressure of the Magnus seed.
