@@ -9,12 +9,14 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"sync"
 	"testing"
 	"time"
 
 	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/agent/config"
+	"github.com/dewline/dewline/deploy/testkit"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
 	"github.com/dewline/dewline/metrics"
@@ -46,121 +48,196 @@ air_handlers:
 `
 
 var (
-	benchOnce sync.Once
-	benchDir  string
-	benchErr  error
+	benchMu    sync.Mutex
+	benchDir   string
+	benchPaths = map[int]string{}
 )
 
-// benchFiles writes the year export and its configuration once per run.
+// benchFiles writes the configuration and an export of the first minutes
+// of the benchmark year once per run and size.
 func benchFiles(b *testing.B, minutes int) (cfgPath, csvPath string) {
-	benchOnce.Do(func() {
-		benchDir, benchErr = os.MkdirTemp("", "dewline-bench")
-		if benchErr != nil {
-			return
-		}
-		benchErr = os.WriteFile(filepath.Join(benchDir, "config.yaml"), []byte(benchConfig), 0o600)
-		if benchErr != nil {
-			return
-		}
-		f, err := os.Create(filepath.Join(benchDir, "year.csv"))
+	b.Helper()
+	benchMu.Lock()
+	defer benchMu.Unlock()
+	if benchDir == "" {
+		dir, err := os.MkdirTemp("", "dewline-bench")
 		if err != nil {
-			benchErr = err
-			return
+			b.Fatal(err)
 		}
-		w := bufio.NewWriterSize(f, 1<<20)
-		fmt.Fprintln(w, "Time,MAT,MARH,LAT,SAT,CFM,RHKW,OAT,OARH,RAT,RARH")
-		t0 := time.Date(2025, 1, 1, 0, 0, 0, 0, time.UTC)
-		for m := 0; m < minutes; m++ {
-			t := t0.Add(time.Duration(m) * time.Minute)
-			d := float64(m) / 1440
-			day := t.Hour() >= 7 && t.Hour() < 19
-			mat := 76 + 3*math.Sin(d*2*math.Pi) + 0.3*math.Sin(float64(m)/37)
-			rh := 55 + 8*math.Sin(d/365*2*math.Pi) + 2*math.Sin(float64(m)/53)
-			lat, cfm := 54.0, 6000.0
-			if day {
-				lat, cfm = 51, 9000
-			}
-			lat += 0.2 * math.Sin(float64(m)/11)
-			sat := 61 + 0.3*math.Sin(float64(m)/7)
-			rkw := 1.08 * cfm * (sat - lat - 0.9) / 3412
-			fmt.Fprintf(w, "%s,%.2f,%.1f,%.2f,%.2f,%.0f,%.2f,%.1f,%.1f,%.1f,%.1f\n", t.Format("2006-01-02T15:04:05Z"),
-				mat, rh, lat, sat, cfm, rkw, 80+10*math.Sin(d*2*math.Pi), 70+10*math.Sin(d), 74+0.5*math.Sin(float64(m)/90), 48+3*math.Sin(float64(m)/70))
+		if err := os.WriteFile(filepath.Join(dir, "config.yaml"), []byte(benchConfig), 0o600); err != nil {
+			b.Fatal(err)
 		}
-		if benchErr = w.Flush(); benchErr == nil {
-			benchErr = f.Close()
-		}
-	})
-	if benchErr != nil {
-		b.Fatal(benchErr)
+		benchDir = dir
 	}
-	return filepath.Join(benchDir, "config.yaml"), filepath.Join(benchDir, "year.csv")
+	cfgPath = filepath.Join(benchDir, "config.yaml")
+	if p, ok := benchPaths[minutes]; ok {
+		return cfgPath, p
+	}
+	p := filepath.Join(benchDir, fmt.Sprintf("ahu-%d.csv", minutes))
+	if err := writeBenchCSV(p, minutes); err != nil {
+		b.Fatal(err)
+	}
+	benchPaths[minutes] = p
+	return cfgPath, p
 }
 
-const benchMinutes = 365 * 24 * 60
+func writeBenchCSV(path string, minutes int) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return err
+	}
+	w := bufio.NewWriterSize(f, 1<<20)
+	fmt.Fprintln(w, "Time,MAT,MARH,LAT,SAT,CFM,RHKW,OAT,OARH,RAT,RARH")
+	t0 := time.Date(2025, 1, 1, 0, 0, 0, 0, time.UTC)
+	for m := 0; m < minutes; m++ {
+		t := t0.Add(time.Duration(m) * time.Minute)
+		d := float64(m) / 1440
+		day := t.Hour() >= 7 && t.Hour() < 19
+		mat := 76 + 3*math.Sin(d*2*math.Pi) + 0.3*math.Sin(float64(m)/37)
+		rh := 55 + 8*math.Sin(d/365*2*math.Pi) + 2*math.Sin(float64(m)/53)
+		lat, cfm := 54.0, 6000.0
+		if day {
+			lat, cfm = 51, 9000
+		}
+		lat += 0.2 * math.Sin(float64(m)/11)
+		sat := 61 + 0.3*math.Sin(float64(m)/7)
+		rkw := 1.08 * cfm * (sat - lat - 0.9) / 3412
+		fmt.Fprintf(w, "%s,%.2f,%.1f,%.2f,%.2f,%.0f,%.2f,%.1f,%.1f,%.1f,%.1f\n", t.Format("2006-01-02T15:04:05Z"),
+			mat, rh, lat, sat, cfm, rkw, 80+10*math.Sin(d*2*math.Pi), 70+10*math.Sin(d), 74+0.5*math.Sin(float64(m)/90), 48+3*math.Sin(float64(m)/70))
+	}
+	if err := w.Flush(); err != nil {
+		f.Close()
+		return err
+	}
+	return f.Close()
+}
+
+const (
+	benchMinutes      = 365 * 24 * 60
+	benchMonthMinutes = 30 * 24 * 60
+)
+
+// parseExport reads every record of the export, the fastest way the
+// reader offers (a slice at a time), and returns how many it read.
+func parseExport(b *testing.B, path string) int {
+	files, err := csvfile.OpenFiles([]string{path}, csvfile.Options{Location: time.UTC})
+	if err != nil {
+		b.Fatal(err)
+	}
+	defer files.Close()
+	buf := make([]ingest.Record, 1024)
+	n := 0
+	for {
+		k, err := files.Read(buf)
+		if errors.Is(err, io.EOF) {
+			return n
+		}
+		if err != nil {
+			b.Fatal(err)
+		}
+		n += k
+	}
+}
+
+// analyzeExport runs the whole analysis of the export and returns its hours.
+func analyzeExport(b *testing.B, cfg *config.Config, path string) int {
+	a := &cfg.AirHandlers[0]
+	files, err := csvfile.OpenFiles([]string{path}, csvfile.Options{Location: time.UTC})
+	if err != nil {
+		b.Fatal(err)
+	}
+	defer files.Close()
+	src := &ingest.RecordHours{Src: files, Step: cfg.Grid.Step,
+		Units: map[string]ingest.UnitPoints{a.ID: {Points: a.PointMap(), Stale: cfg.StaleLimits(a)}}}
+	an := &agent.Analyzer{Cfg: cfg, Source: src}
+	hours := 0
+	_, _, err = an.Run(context.Background(), time.Time{}, time.Time{}, nil, func(context.Context, *metrics.Record, []metrics.Transition) error {
+		hours++
+		return nil
+	})
+	if err != nil {
+		b.Fatal(err)
+	}
+	return hours
+}
 
 // BenchmarkAnalyzeYear compares, in the same run, reading the year export
-// alone (parse) with the whole analysis from it (analyze: parse, convert,
-// align, compute with uncertainty, alerts). The goal is analyze within
-// 1.5x of parse.
+// alone (parse: every record, a slice at a time) with the whole analysis
+// from it (analyze: parse, convert, align, compute with uncertainty,
+// alerts). The goal is analyze within 1.5x of parse in wall time (x_parse);
+// cpu_x_parse is the ratio of processor times (all of the analysis'
+// goroutines against the parse's one), which a loaded machine disturbs less.
 func BenchmarkAnalyzeYear(b *testing.B) {
 	cfgPath, csvPath := benchFiles(b, benchMinutes)
 	cfg, err := config.Load(cfgPath)
 	if err != nil {
 		b.Fatal(err)
 	}
-	st, _ := os.Stat(csvPath)
-	var parseNs float64
+	st, err := os.Stat(csvPath)
+	if err != nil {
+		b.Fatal(err)
+	}
+	var parseNs, parseCPU float64
 	b.Run("parse", func(b *testing.B) {
 		b.SetBytes(st.Size())
+		cpu0 := testkit.CPUTime()
 		for b.Loop() {
-			files, err := csvfile.OpenFiles([]string{csvPath}, csvfile.Options{Location: time.UTC})
-			if err != nil {
-				b.Fatal(err)
+			if n := parseExport(b, csvPath); n != 10*benchMinutes {
+				b.Fatalf("%d records", n)
 			}
-			n := 0
-			for {
-				_, err := files.Next()
-				if errors.Is(err, io.EOF) {
-					break
-				}
-				if err != nil {
-					b.Fatal(err)
-				}
-				n++
-			}
-			files.Close()
 		}
 		parseNs = float64(b.Elapsed().Nanoseconds()) / float64(b.N)
+		parseCPU = float64(testkit.CPUTime()-cpu0) / float64(b.N)
 		b.ReportMetric(float64(benchMinutes)/(parseNs/1e9), "rows/s")
 	})
 	b.Run("analyze", func(b *testing.B) {
 		b.SetBytes(st.Size())
-		a := &cfg.AirHandlers[0]
+		cpu0 := testkit.CPUTime()
 		for b.Loop() {
-			files, err := csvfile.OpenFiles([]string{csvPath}, csvfile.Options{Location: time.UTC})
-			if err != nil {
-				b.Fatal(err)
-			}
-			src := &ingest.RecordHours{Src: files, Step: cfg.Grid.Step,
-				Units: map[string]ingest.UnitPoints{a.ID: {Points: a.PointMap(), Stale: cfg.StaleLimits(a)}}}
-			an := &agent.Analyzer{Cfg: cfg, Source: src}
-			hours := 0
-			_, _, err = an.Run(context.Background(), time.Time{}, time.Time{}, nil, func(context.Context, *metrics.Record, []metrics.Transition) error {
-				hours++
-				return nil
-			})
-			if err != nil {
-				b.Fatal(err)
-			}
-			if hours != 8760 {
+			if hours := analyzeExport(b, cfg, csvPath); hours != 8760 {
 				b.Fatalf("%d hours", hours)
 			}
-			files.Close()
 		}
 		ns := float64(b.Elapsed().Nanoseconds()) / float64(b.N)
+		cpu := float64(testkit.CPUTime()-cpu0) / float64(b.N)
 		b.ReportMetric(8760/(ns/1e9), "hours/s")
 		if parseNs > 0 {
 			b.ReportMetric(ns/parseNs, "x_parse")
 		}
+		if parseCPU > 0 {
+			b.ReportMetric(cpu/parseCPU, "cpu_x_parse")
+		}
 	})
+}
+
+// BenchmarkAnalyzeMemory analyses a month and the year of the same air
+// handler and reports the bytes and allocations per hour analysed: the
+// analysis streams, so they must not grow with the length (the year's
+// figures equal the month's, within the noise of the garbage collector).
+func BenchmarkAnalyzeMemory(b *testing.B) {
+	cfgPath, _ := benchFiles(b, benchMinutes)
+	cfg, err := config.Load(cfgPath)
+	if err != nil {
+		b.Fatal(err)
+	}
+	for _, tc := range []struct {
+		name    string
+		minutes int
+	}{{"month", benchMonthMinutes}, {"year", benchMinutes}} {
+		_, path := benchFiles(b, tc.minutes)
+		b.Run(tc.name, func(b *testing.B) {
+			var before, after runtime.MemStats
+			runtime.ReadMemStats(&before)
+			hours := 0
+			for b.Loop() {
+				hours += analyzeExport(b, cfg, path)
+			}
+			runtime.ReadMemStats(&after)
+			if hours != b.N*tc.minutes/60 {
+				b.Fatalf("%d hours in %d runs", hours, b.N)
+			}
+			b.ReportMetric(float64(after.TotalAlloc-before.TotalAlloc)/float64(hours), "B/hour")
+			b.ReportMetric(float64(after.Mallocs-before.Mallocs)/float64(hours), "allocs/hour")
+		})
+	}
 }

@@ -16,4 +16,37 @@ if [[ ! -f $CACHE/npm/node_modules/psychrolib/psychrolib.js ]]; then
 fi
 export DEWLINE_PSYCHROLIB=$CACHE/npm/node_modules/psychrolib
 go test -run '^$' -bench . -benchmem "$@" ./psychro/...
+
+# --- Analysis and embedded store speed (cmd/dewline), each beside its
+# reference in the same run: the analysis of an air handler-year of
+# one-minute data from its CSV export against parsing the export (x_parse,
+# goal 1.5; cpu_x_parse compares processor times), the bytes and allocations
+# per hour of a month and of the year (flat memory: the year's must not
+# exceed the month's), the embedded store's import of the year against the
+# parse (x_parse, goal 2) and the analysis from the store against reading
+# the samples back (x_read, goal 1.5). DEWLINE_PERF_COUNT runs (default 5;
+# the store's import of the year takes a minute or more each).
+PERF_OUT=$(mktemp "${TMPDIR:-/tmp}/dewline-perf.XXXXXX")
+go test -run '^$' -bench 'AnalyzeYear|AnalyzeMemory|EmbeddedYear' -benchtime 1x -count "${DEWLINE_PERF_COUNT:-5}" \
+	-benchmem -timeout 2h "$@" ./cmd/dewline/ | tee "$PERF_OUT"
+awk '
+	function med(k,   n, i, j, t, a) {
+		n = split(vals[k], a, " ")
+		for (i = 2; i <= n; i++) for (j = i; j > 1 && a[j-1] + 0 > a[j] + 0; j--) { t = a[j]; a[j] = a[j-1]; a[j-1] = t }
+		return n ? a[int((n + 1) / 2)] : "-"
+	}
+	/^Benchmark/ {
+		name = $1; sub(/-[0-9]+$/, "", name)
+		vals[name " ns/op"] = vals[name " ns/op"] " " $3
+		for (i = 4; i < NF; i++) if ($(i+1) ~ /^(x_|cpu_x_|B\/hour|allocs\/hour)/) vals[name " " $(i+1)] = vals[name " " $(i+1)] " " $i
+	}
+	END {
+		print "\nmedians (ratio | its reference)"
+		printf "analyze year from CSV:  x_parse %s, cpu_x_parse %s | parse %s ns/op\n", med("BenchmarkAnalyzeYear/analyze x_parse"), med("BenchmarkAnalyzeYear/analyze cpu_x_parse"), med("BenchmarkAnalyzeYear/parse ns/op")
+		printf "memory per hour:        month %s B, %s allocs | year %s B, %s allocs\n", med("BenchmarkAnalyzeMemory/month B/hour"), med("BenchmarkAnalyzeMemory/month allocs/hour"), med("BenchmarkAnalyzeMemory/year B/hour"), med("BenchmarkAnalyzeMemory/year allocs/hour")
+		printf "embedded import:        x_parse %s | parse %s ns/op\n", med("BenchmarkEmbeddedYear/import x_parse"), med("BenchmarkEmbeddedYear/parse ns/op")
+		printf "analyze from embedded:  x_read %s | read back %s ns/op\n", med("BenchmarkEmbeddedYear/analyze x_read"), med("BenchmarkEmbeddedYear/read ns/op")
+	}' "$PERF_OUT"
+rm -f "$PERF_OUT"
+# --- end of the analysis and embedded store block.
 go test -run '^$' -bench 'Overview_Month|BenchmarkDemo' -benchtime 3x "$@" ./cmd/dewline/
