@@ -42,6 +42,9 @@ func TestMain(m *testing.M) {
 	if binPath != "" {
 		_ = os.Remove(binPath)
 	}
+	if benchDir != "" {
+		_ = os.RemoveAll(benchDir) // the benchmarks' exports (bench_test.go)
+	}
 	os.Exit(code)
 }
 
