@@ -135,7 +135,7 @@ type Unit struct {
 const DefaultSpaceGain = 0.0008
 
 // DefaultLeavingRHU is the 95 % half-width of an assumed coil leaving RH:
-// air leaves a wet coil at typically 90-95 % RH (DOMAIN: common practice,
+// air leaves a wet coil at typically 90-95 % RH (common practice,
 // no source), so 95 % ± 5 % spans what an unmeasured coil may do. 5 % RH
 // moves the water removed by about 40 %.
 const DefaultLeavingRHU = 0.05
