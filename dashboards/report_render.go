@@ -513,12 +513,16 @@ func (r *Report) assumptionsView(v *reportView) {
 		case metrics.FanDrawThrough:
 			if has[string(metrics.RoleFanPower)] {
 				au.Fan = "Draw-through: heat from the trended fan power."
+			} else if sp.FanRatedKW > 0 {
+				au.Fan = fmt.Sprintf("Draw-through: heat from the rated fan power, %s kW, whenever air flows.", fmtFixed(sp.FanRatedKW, 1))
 			} else {
 				au.Fan = fmt.Sprintf("Draw-through: %s %s rise assumed.", fmtFixed(d.Delta(sp.FanRiseK), 1), d.DeltaUnit())
 			}
 		case metrics.FanBlowThrough:
 			if has[string(metrics.RoleFanPower)] {
 				au.Fan = "Blow-through, after the entering sensor: heat from the trended fan power added to the coil load."
+			} else if sp.FanRatedKW > 0 {
+				au.Fan = fmt.Sprintf("Blow-through, after the entering sensor: the rated fan power, %s kW, added to the coil load whenever air flows.", fmtFixed(sp.FanRatedKW, 1))
 			} else {
 				au.Fan = fmt.Sprintf("Blow-through, after the entering sensor: %s %s rise assumed, added to the coil load.", fmtFixed(d.Delta(sp.FanRiseK), 1), d.DeltaUnit())
 			}

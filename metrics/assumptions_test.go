@@ -135,6 +135,11 @@ func TestCompute_BlowThroughFan(t *testing.T) {
 	require.NoError(t, err)
 	rise := 3 * psychro.StandardAirDensity * (1.006 + 1.86*w) * 0.8
 	assert.InDelta(t, base.CoilTotalKWh+rise, rec.CoilTotalKWh, 0.01*rise)
+	// Or the fan's rated power, the same heat as a fan_kw point reading it.
+	u.FanRiseK, u.FanRatedKW = 0, fanKW
+	rec = metrics.Compute(u, lv(nil))
+	assert.InDelta(t, base.CoilTotalKWh+fanKW, rec.CoilTotalKWh, 0.01*fanKW, "the rated power's heat is coil load")
+	assert.InDelta(t, fanKW, rec.FanHeatKWh, 1e-9)
 	// A blow-through fan ahead of the entering sensor is in its reading.
 	u.Fan = metrics.FanBlowThroughMeasured
 	rec = metrics.Compute(u, lv(map[metrics.Role]func(int) float64{metrics.RoleFanPower: constant(fanKW)}))

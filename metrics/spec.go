@@ -116,7 +116,8 @@ type Unit struct {
 	Basis           Basis
 	FlowAt          Role // where the airflow sensor sits for BasisActual: RoleSupplyTemp (default), RoleEnteringTemp or RoleLeavingTemp
 	Fan             FanPosition
-	FanRiseK        float64 // used when no fan_kw is trended
+	FanRiseK        float64 // used when no fan_kw is trended and no rated power is given
+	FanRatedKW      float64 // the fan's rated power, used when no fan_kw is trended (0: none)
 	LeavingRH       float64 // assumed coil leaving RH when not measured, fraction
 	LeavingRHU      float64 // 95 % half-width of the assumed leaving RH, fraction (DefaultLeavingRHU)
 	MinOutdoor      float64 // outdoor-air share at minimum position, for mixing when temperatures are too close (0: unknown)

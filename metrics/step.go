@@ -322,16 +322,16 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 
 	// A blow-through fan sits between the entering (mixed-air) sensor and
 	// the coil: its heat reaches the coil, which cools the air from t_in +
-	// Δt_fan. Δt_fan = fan kW / (m_da c_p) with the fan_kw point, else the
-	// configured rise (all of the fan's power ends up as heat in the air
-	// stream: the motor is taken to sit in it).
+	// Δt_fan. Δt_fan = fan kW / (m_da c_p) with the fan_kw point or the
+	// rated fan power, else the configured rise (all of the fan's power
+	// ends up as heat in the air stream: the motor is taken to sit in it).
 	tCoil := tIn
 	if u.Fan == FanBlowThrough {
 		rise := u.FanRiseK
-		if e.hasFanKW && !math.IsNaN(x.fanKW) {
+		if kw, ok := e.fanKW(x); ok {
 			rise = 0
 			if m := e.massFlow(x, tIn, tLv, tSup, wIn, wIn); m.v > 0 {
-				rise = x.fanKW / (m.v * cp(wIn.v))
+				rise = kw / (m.v * cp(wIn.v))
 			}
 		}
 		tCoil = tIn.addc(rise)
@@ -414,9 +414,9 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	// Supply fan heat between coil and supply sensor.
 	dtFan := cst(0)
 	if u.Fan == FanDrawThrough && m.v > 0 {
-		if e.hasFanKW && !math.IsNaN(x.fanKW) {
-			o.fanHeat = x.fanKW
-			dtFan = cst(x.fanKW).div(m.mul(cpD(wOut)))
+		if kw, ok := e.fanKW(x); ok {
+			o.fanHeat = kw
+			dtFan = cst(kw).div(m.mul(cpD(wOut)))
 		} else {
 			dtFan = cst(u.FanRiseK)
 			o.fanHeat = m.v * cp(wOut.v) * u.FanRiseK
@@ -539,6 +539,18 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 		o.reheatIn = o.reheat.v / u.BoilerEff
 	}
 	return o, true
+}
+
+// fanKW is the supply fan's power: the fan_kw point when it reads, else
+// the rated power (a fan running at its rating whenever air flows).
+func (e *engine) fanKW(x *stepIn) (float64, bool) {
+	if e.hasFanKW && !math.IsNaN(x.fanKW) {
+		return x.fanKW, true
+	}
+	if e.u.FanRatedKW > 0 {
+		return e.u.FanRatedKW, true
+	}
+	return 0, false
 }
 
 // massFlow is the dry-air mass flow on the configured basis: standard air

@@ -207,6 +207,9 @@ type Airflow struct {
 type Fan struct {
 	Position string `yaml:"position"`  // draw_through (between coil and supply sensor), blow_through or none
 	HeatRise string `yaml:"heat_rise"` // temperature rise when no fan_kw point is trended, e.g. 0.6K or 1F
+	// RatedPower is the fan's rated electric power, e.g. 7.5kW: its heat
+	// when no fan_kw point is trended (a constant-speed fan at its rating).
+	RatedPower string `yaml:"rated_power"`
 	// EnteringSensor says, for a blow-through fan, whether the entering
 	// temperature sensor sits before the fan (a mixed-air sensor: the
 	// fan's heat is added to the coil's entering air) or after it

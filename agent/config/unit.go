@@ -22,6 +22,7 @@ func (c *Config) Unit(a *AirHandler) *metrics.Unit {
 		MinOutdoor: a.MinOutdoorFrac,
 		SpaceGain:  a.SpaceGainKgKg,
 		FanRiseK:   a.FanHeatRiseK(),
+		FanRatedKW: q(a.Fan.RatedPower, psychro.KindPower),
 		Prices: metrics.Prices{
 			ElectricityPerKWh:      c.Prices.ElectricityPerKWh,
 			FuelPerKWh:             c.Prices.FuelPerKWh,

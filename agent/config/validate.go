@@ -379,15 +379,15 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 	_, fanKW := a.Points[string(metrics.RoleFanPower)]
 	switch a.Fan.Position {
 	case "draw_through":
-		if !fanKW && a.Fan.HeatRise == "" {
-			v.bad(at(fp, "heat_rise"), "a draw-through fan heats the air between coil and supply sensor", "map fan_kw, or set heat_rise (typically 0.3-0.8K)")
+		if !fanKW && a.Fan.HeatRise == "" && a.Fan.RatedPower == "" {
+			v.bad(at(fp, "heat_rise"), "a draw-through fan heats the air between coil and supply sensor", "map fan_kw, or set rated_power (the fan's kW) or heat_rise (typically 0.3-0.8K)")
 		}
 	case "blow_through":
 		switch a.Fan.EnteringSensor {
 		case "", "after_fan":
 		case "before_fan":
-			if !fanKW && a.Fan.HeatRise == "" {
-				v.bad(at(fp, "heat_rise"), "a blow-through fan after the entering sensor heats the air the coil then cools", "map fan_kw, or set heat_rise (typically 0.3-0.8K)")
+			if !fanKW && a.Fan.HeatRise == "" && a.Fan.RatedPower == "" {
+				v.bad(at(fp, "heat_rise"), "a blow-through fan after the entering sensor heats the air the coil then cools", "map fan_kw, or set rated_power (the fan's kW) or heat_rise (typically 0.3-0.8K)")
 			}
 		default:
 			v.bad(at(fp, "entering_sensor"), fmt.Sprintf("unknown entering sensor place %q", a.Fan.EnteringSensor), "use before_fan (a mixed-air sensor ahead of the fan) or after_fan (between fan and coil)")
@@ -400,6 +400,14 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 	}
 	if a.Fan.EnteringSensor != "" && a.Fan.Position != "blow_through" {
 		v.bad(at(fp, "entering_sensor"), "the entering sensor's place matters only for a blow-through fan", "remove it, or set position: blow_through")
+	}
+	if a.Fan.RatedPower != "" {
+		if a.Fan.HeatRise != "" {
+			v.bad(at(fp, "rated_power"), "rated_power and heat_rise both give the fan's heat", "keep one")
+		}
+		if x, ok := v.quantity(at(fp, "rated_power"), a.Fan.RatedPower, psychro.KindPower); ok && (x <= 0 || x > 500) {
+			v.bad(at(fp, "rated_power"), fmt.Sprintf("%s is outside 0-500 kW", a.Fan.RatedPower), "give the fan motor's rated input, e.g. 7.5kW or 10hp as 7.5kW")
+		}
 	}
 	if a.Fan.HeatRise != "" {
 		if u, ok := temperatureDelta(a.Fan.HeatRise); !ok || u < 0 || u > 5 {
