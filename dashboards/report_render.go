@@ -513,11 +513,21 @@ func (r *Report) assumptionsView(v *reportView) {
 		case metrics.FanDrawThrough:
 			if has[string(metrics.RoleFanPower)] {
 				au.Fan = "Draw-through: heat from the trended fan power."
+			} else if sp.FanRatedKW > 0 {
+				au.Fan = fmt.Sprintf("Draw-through: heat from the rated fan power, %s kW, whenever air flows.", fmtFixed(sp.FanRatedKW, 1))
 			} else {
 				au.Fan = fmt.Sprintf("Draw-through: %s %s rise assumed.", fmtFixed(d.Delta(sp.FanRiseK), 1), d.DeltaUnit())
 			}
 		case metrics.FanBlowThrough:
-			au.Fan = "Blow-through: fan heat is part of the coil load."
+			if has[string(metrics.RoleFanPower)] {
+				au.Fan = "Blow-through, after the entering sensor: heat from the trended fan power added to the coil load."
+			} else if sp.FanRatedKW > 0 {
+				au.Fan = fmt.Sprintf("Blow-through, after the entering sensor: the rated fan power, %s kW, added to the coil load whenever air flows.", fmtFixed(sp.FanRatedKW, 1))
+			} else {
+				au.Fan = fmt.Sprintf("Blow-through, after the entering sensor: %s %s rise assumed, added to the coil load.", fmtFixed(d.Delta(sp.FanRiseK), 1), d.DeltaUnit())
+			}
+		case metrics.FanBlowThroughMeasured:
+			au.Fan = "Blow-through, ahead of the entering sensor: fan heat is in the measured coil load."
 		default:
 			au.Fan = "No fan heat between coil and supply sensor."
 		}
@@ -526,6 +536,9 @@ func (r *Report) assumptionsView(v *reportView) {
 			au.Leaving = "Measured."
 		case known || sp.LeavingRH > 0:
 			au.Leaving = fmt.Sprintf("%s RH assumed once the coil is below the entering dew point.", fmtPct(sp.LeavingRH))
+			if sp.LeavingRHU > 0 {
+				au.Leaving = fmt.Sprintf("%s ± %s RH assumed once the coil is below the entering dew point (in the uncertainty).", fmtPct(sp.LeavingRH), fmtPct(sp.LeavingRHU))
+			}
 		}
 		au.Target = strings.TrimPrefix(r.targetWords(sp), "target: ")
 		v.AssumUnits = append(v.AssumUnits, au)

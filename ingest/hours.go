@@ -123,9 +123,12 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 					return fmt.Errorf("read %s %s: %w", ahu, r, err)
 				}
 			}
-			// Hours that end inside the chunk are complete; a final partial
-			// hour is emitted at the end of the period.
-			until := ce
+			// Hours that end inside the chunk are complete, but an hour is
+			// emitted only once the samples FlatLookahead after it are
+			// pushed (they are in the next chunk), so a sensor stuck across
+			// the chunk's end is seen to go on, as on the CSV path. A final
+			// partial hour is emitted at the end of the period.
+			until := ce.Add(-FlatLookahead).Truncate(time.Hour)
 			if !ce.Before(to) {
 				until = to.Truncate(time.Hour)
 				if until.Before(to) {

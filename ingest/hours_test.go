@@ -105,3 +105,45 @@ func sameValues(a, b map[metrics.Role][]float64) bool {
 	}
 	return true
 }
+
+// TestStoreHours_FlatAcrossMidnight: an RH logged every 15 minutes that
+// sticks from 21:00 to 04:00 spans two daily chunks. Each hour of the run
+// must report it as the CSV path (Align, all samples at once) does: the
+// hours before midnight see the run go on in the next day's samples.
+func TestStoreHours_FlatAcrossMidnight(t *testing.T) {
+	day0 := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
+	var rh []Sample
+	for i := 0; i < 2*24*4; i++ {
+		ts := day0.Add(time.Duration(i) * 15 * time.Minute)
+		v := 0.55 + 0.001*float64(i%7)
+		if h := ts.Sub(day0).Hours(); h >= 21 && h < 28 {
+			v = 0.612
+		}
+		rh = append(rh, Sample{ts, v})
+	}
+	r := &memReader{series: map[string][]Sample{"MA RH": rh}}
+	u := UnitPoints{Points: map[metrics.Role]metrics.PointRef{metrics.RoleEnteringRH: {Point: "MA RH", Unit: "%"}}}
+	sh := &StoreHours{Reader: r, Units: map[string]UnitPoints{"A": u}, Step: time.Minute,
+		IsMissing: func(err error) bool { return errors.Is(err, errNoSeries) }}
+	var store []*metrics.Hour
+	require.NoError(t, sh.Hours(context.Background(), []string{"A"}, day0, day0.Add(48*time.Hour), func(h *metrics.Hour) error {
+		store = append(store, h)
+		return nil
+	}))
+	var csv []*metrics.Hour
+	require.NoError(t, Align("A", day0, 48, time.Minute, []Series{{Role: metrics.RoleEnteringRH, Samples: rh}}, func(h *metrics.Hour) error {
+		csv = append(csv, h)
+		return nil
+	}))
+	require.Len(t, store, 48)
+	require.Len(t, csv, 48)
+	for i := range store {
+		q := store[i].Quality[metrics.RoleEnteringRH]
+		assert.Equal(t, csv[i].Quality[metrics.RoleEnteringRH].FlatFor, q.FlatFor, "hour %d: store and CSV paths agree", i)
+		if i >= 21 && i < 28 {
+			assert.GreaterOrEqual(t, q.FlatFor, 3*time.Hour, "hour %d of the stuck run", i)
+		} else {
+			assert.Zero(t, q.FlatFor, "hour %d", i)
+		}
+	}
+}

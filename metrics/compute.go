@@ -50,7 +50,8 @@ func Compute(u *Unit, hr *Hour) Record {
 		belowCoilSteps                                                                  int
 		sumTIn, sumWIn, sumWLv, sumTLv, sumTSup, sumReq, sumOver                        float64
 		reheatElecIn, reheatAvoidIn, meterHeat, computedHeat                            float64
-		meterSteps, gainSteps, lvOutSteps, copSteps                                     int
+		meterSteps, gainSteps, lvOutSteps, copSteps, meteredSteps                       int
+		meterAll                                                                        float64
 		copCoil, copIn                                                                  float64
 	)
 	in := &stepIn{}
@@ -113,6 +114,10 @@ func Compute(u *Unit, hr *Hour) Record {
 		// A meter reading no more heat than the air side's deadband can
 		// hide (twice the deadband's rise) agrees with an air side that
 		// sees no reheat: such steps are no evidence either way.
+		if o.meteredHeat {
+			meteredSteps++
+			meterAll += o.reheatIn * dtH
+		}
 		if o.meteredHeat && (o.reheatOn || o.mDa <= 0 ||
 			o.reheatIn > 2*u.Thresholds.ReheatDeadbandK*o.mDa*cp(o.wOut)) {
 			meterSteps++
@@ -199,6 +204,38 @@ func Compute(u *Unit, hr *Hour) Record {
 	if coolOnSteps > 0 {
 		rec.OvercoolingK = sumOver / float64(coolOnSteps)
 	}
+	e.uncertainty(&sens, &rec)
+
+	// A reheat meter and the air side measure the same heat (electric
+	// reheat: heat = input). Where they agree within their combined 95 %
+	// uncertainty, U_c = sqrt(U_air² + U_meter²), the hour's reheat is
+	// their inverse-variance weighted mean, R = (A/U_A² + M/U_M²) / (1/U_A²
+	// + 1/U_M²), with U_R = (1/U_A² + 1/U_M²)^-1/2, so the better
+	// measurement counts for more; needed and avoidable reheat scale with
+	// it. Where they disagree by more, one of them is wrong: the hour keeps
+	// both (the air side in reheat, the meter in reheat input) and is
+	// flagged. The meter's half-width is the power accuracy times its
+	// reading; a meter must cover every covered step to be weighed.
+	meterDisagrees := false
+	if meterSteps > 0 && math.Max(meterHeat, computedHeat) > 0.5 {
+		comb := math.Hypot(rec.ReheatKWhU95, u.Accuracy.PowerFrac*meterHeat)
+		meterDisagrees = math.Abs(meterHeat-computedHeat) > comb
+	}
+	if u.Reheat == ReheatElectric && valid > 0 && meteredSteps == valid && !meterDisagrees {
+		a, ua := rec.ReheatKWh, rec.ReheatKWhU95
+		m, um := meterAll, u.Accuracy.PowerFrac*meterAll
+		if a > 0 && m > 0 && ua > 0 && um > 0 {
+			wa, wm := 1/(ua*ua), 1/(um*um)
+			r := (wa*a + wm*m) / (wa + wm)
+			k := r / a
+			rec.ReheatKWh, rec.ReheatKWhU95 = r, 1/math.Sqrt(wa+wm)
+			rec.ReheatNeededKWh *= k
+			rec.ReheatAvoidKWh *= k
+			rec.ReheatAvoidKWhU95 *= k
+			rec.ReheatInputKWh, reheatElecIn, reheatAvoidIn = r, r, rec.ReheatAvoidKWh
+		}
+	}
+
 	rec.ElectricityKWh = rec.CoolingInputKWh + reheatElecIn
 	if u.Reheat == ReheatHotWater {
 		rec.FuelKWh = rec.ReheatInputKWh
@@ -228,8 +265,6 @@ func Compute(u *Unit, hr *Hour) Record {
 	rec.CostAvoidable = avoidElec*pr.ElectricityPerKWh + avoidFuel*pr.FuelPerKWh
 	rec.CO2Kg = rec.ElectricityKWh*pr.ElectricityCO2KgPerKWh + rec.FuelKWh*pr.FuelCO2KgPerKWh
 	rec.CO2AvoidableKg = avoidElec*pr.ElectricityCO2KgPerKWh + avoidFuel*pr.FuelCO2KgPerKWh
-
-	e.uncertainty(&sens, &rec)
 
 	// Findings.
 	var flags []string
@@ -268,8 +303,7 @@ func Compute(u *Unit, hr *Hour) Record {
 	if belowCoilSteps >= 5 {
 		flags = append(flags, FlagSupplyBelowCoil)
 	}
-	if meterSteps > 0 && math.Max(meterHeat, computedHeat) > 0.5 &&
-		math.Abs(meterHeat-computedHeat) > u.Thresholds.MeterTolerance*math.Max(meterHeat, computedHeat) {
+	if meterDisagrees {
 		flags = append(flags, FlagReheatMeter)
 	}
 	if coolOnSteps > 0 && rec.WaterRemovedKg < rec.WaterRemovedKgU95 {
@@ -389,6 +423,15 @@ func newEngine(u *Unit, hr *Hour) *engine {
 	e.dryMarginK = 2 * math.Hypot(a.TempK, tdU)
 	e.hourShare = math.NaN()
 	e.bf = bypassFor(u.LeavingRH, e.p)
+	e.bfD = dv{v: e.bf}
+	e.bfD.g[sensBF] = 1
+	// The assumed leaving RH's uncertainty as the bypass factor's: half
+	// the change of BF across the band (BF is far from linear near
+	// saturation, where it reaches 0).
+	if u.LeavingRHU > 0 {
+		lo, hi := math.Max(0.5, u.LeavingRH-u.LeavingRHU), math.Min(1, u.LeavingRH+u.LeavingRHU)
+		e.bfU = math.Abs(bypassFor(lo, e.p)-bypassFor(hi, e.p)) / 2
+	}
 	switch u.Target.Kind {
 	case TargetSupplyDewPoint, TargetSpaceDewPoint:
 		if pw, err := psychro.SatVapPressure(u.Target.DewPointC); err == nil {
@@ -482,6 +525,10 @@ func (e *engine) uncertainty(sens *[nSens][4]float64, rec *Record) {
 	a := e.u.Accuracy
 	var acc [nSens]float64
 	acc[sensTIn], acc[sensTLv], acc[sensTSup] = a.TempK, a.TempK, a.TempK
+	// The assumptions: the coil's bypass factor (from the assumed leaving
+	// RH), the outdoor-air share (its half-width rides on the gradient)
+	// and the space moisture gain.
+	acc[sensBF], acc[sensShare], acc[sensGain] = e.bfU, 1, SpaceGainRelU*e.u.SpaceGain
 	humIn := e.humIn
 	if e.mix {
 		humIn = e.retHum

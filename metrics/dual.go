@@ -2,14 +2,18 @@ package metrics
 
 import "github.com/dewline/dewline/psychro"
 
-// The sensors whose calibration bias the engine propagates, as indexes of
-// a dual number's gradient.
+// The sensors whose calibration bias the engine propagates, and the
+// assumptions it makes where a building has no sensor, as indexes of a dual
+// number's gradient.
 const (
 	sensTIn   = iota // entering dry bulb, per K
 	sensHumIn        // entering RH (per unit fraction) or dew point (per K)
 	sensTLv          // coil leaving dry bulb, per K
 	sensLvHum        // coil leaving RH or dew point
 	sensTSup         // supply dry bulb, per K
+	sensBF           // the bypass factor of the assumed coil leaving RH, per unit BF
+	sensShare        // the outdoor-air share, per its own 95 % half-width (the step's gradient carries it)
+	sensGain         // the assumed space moisture gain, per kg/kg
 	nSens
 )
 

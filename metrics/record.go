@@ -10,7 +10,15 @@ import (
 //
 // Schema 2: effective_eer counts electricity only (schema 1 added fuel kWh
 // to electric kWh); effective_eer_cost_basis is new.
-const RecordSchema = 2
+//
+// Schema 3: the *_u95 bands include the engine's assumptions (the assumed
+// coil leaving RH, the outdoor-air share, the space moisture gain);
+// reheat_kwh (and for electric reheat reheat_input_kwh) is the reheat
+// meter and the air side weighted by their uncertainties when both exist
+// and agree; coil_total_kwh includes a blow-through fan's heat after the
+// entering sensor; a modelled DX cooling_input_kwh includes part-load
+// cycling when the rated capacity is configured.
+const RecordSchema = 3
 
 // Record is one air handler-hour of results, SI, with units in the names.
 // Energies are kWh over the hour's covered steps: an hour with partial

@@ -37,8 +37,11 @@ type FanPosition int
 // Fan positions.
 const (
 	FanNone        FanPosition = iota + 1
-	FanBlowThrough             // before the coil: its heat is part of the coil load
+	FanBlowThrough             // between the entering sensor and the coil: its heat (fan_kw or FanRiseK) is added to the coil's entering air and load
 	FanDrawThrough             // between coil and supply sensor: its heat is not reheat
+	// FanBlowThroughMeasured is a blow-through fan ahead of the entering
+	// sensor: the sensor's reading holds the fan's heat already.
+	FanBlowThroughMeasured
 )
 
 // TargetKind is the form of the humidity target.
@@ -86,13 +89,12 @@ var DefaultAccuracy = Accuracy{TempK: 0.3, RH: 0.03, DewPointK: 0.5, FlowFrac: 0
 type Thresholds struct {
 	CoilDeadbandK   float64 // coil counts as cooling when entering - leaving exceeds this, default 0.5 K
 	ReheatDeadbandK float64 // reheat counts when supply - leaving - fan rise exceeds this, default 0.5 K
-	MeterTolerance  float64 // computed vs metered reheat may differ by this fraction, default 0.25
 	MinCoverage     float64 // hours below this coverage are flagged, default 0.9
 }
 
 // DefaultThresholds are dewline's defaults (common practice, no source:
 // about the combined accuracy of two temperature sensors).
-var DefaultThresholds = Thresholds{CoilDeadbandK: 0.5, ReheatDeadbandK: 0.5, MeterTolerance: 0.25, MinCoverage: 0.9}
+var DefaultThresholds = Thresholds{CoilDeadbandK: 0.5, ReheatDeadbandK: 0.5, MinCoverage: 0.9}
 
 // Unit is everything the engine needs to know about one air handler.
 type Unit struct {
@@ -103,20 +105,27 @@ type Unit struct {
 	RatedCOP      float64 // DX model: COP at the rating outdoor temperature
 	RatedOutdoorC float64
 	COPPerK       float64 // change of COP per K of outdoor temperature above the rating (negative)
-	PlantKWPerKW  float64 // chilled water: plant kW per kW of coil load (kW/ton ÷ 3.517)
-	Reheat        ReheatKind
-	BoilerEff     float64
-	Basis         Basis
-	FlowAt        Role // where the airflow sensor sits for BasisActual: RoleSupplyTemp (default), RoleEnteringTemp or RoleLeavingTemp
-	Fan           FanPosition
-	FanRiseK      float64 // used when no fan_kw is trended
-	LeavingRH     float64 // assumed coil leaving RH when not measured, fraction
-	MinOutdoor    float64 // outdoor-air share at minimum position, for mixing when temperatures are too close (0: unknown)
-	SpaceGain     float64 // moisture the space adds to the supply air, kg/kg, when no space sensors show it (DefaultSpaceGain)
-	Target        Target
-	Prices        Prices
-	Accuracy      Accuracy
-	Thresholds    Thresholds
+	// RatedCapacityKW is the DX unit's rated total cooling capacity; with
+	// it a modelled cooling input carries the part-load cycling loss
+	// (partLoadFactor). 0: unknown, cycling not modelled.
+	RatedCapacityKW float64
+	DegradationCd   float64 // cycling degradation coefficient Cd (DefaultDegradationCd)
+	PlantKWPerKW    float64 // chilled water: plant kW per kW of coil load (kW/ton ÷ 3.517)
+	Reheat          ReheatKind
+	BoilerEff       float64
+	Basis           Basis
+	FlowAt          Role // where the airflow sensor sits for BasisActual: RoleSupplyTemp (default), RoleEnteringTemp or RoleLeavingTemp
+	Fan             FanPosition
+	FanRiseK        float64 // used when no fan_kw is trended and no rated power is given
+	FanRatedKW      float64 // the fan's rated power, used when no fan_kw is trended (0: none)
+	LeavingRH       float64 // assumed coil leaving RH when not measured, fraction
+	LeavingRHU      float64 // 95 % half-width of the assumed leaving RH, fraction (DefaultLeavingRHU)
+	MinOutdoor      float64 // outdoor-air share at minimum position, for mixing when temperatures are too close (0: unknown)
+	SpaceGain       float64 // moisture the space adds to the supply air, kg/kg, when no space sensors show it (DefaultSpaceGain)
+	Target          Target
+	Prices          Prices
+	Accuracy        Accuracy
+	Thresholds      Thresholds
 }
 
 // DefaultSpaceGain is the moisture a space adds to its supply air when no
@@ -125,6 +134,54 @@ type Unit struct {
 // source; override with air_handlers[].space_moisture_gain). Assuming no
 // gain overstates the avoidable reheat of a space target.
 const DefaultSpaceGain = 0.0008
+
+// DefaultLeavingRHU is the 95 % half-width of an assumed coil leaving RH:
+// air leaves a wet coil at typically 90-95 % RH (common practice,
+// no source), so 95 % ± 5 % spans what an unmeasured coil may do. 5 % RH
+// moves the water removed by about 40 %.
+const DefaultLeavingRHU = 0.05
+
+// SpaceGainRelU is the 95 % half-width of an assumed space moisture gain
+// as a share of the gain: occupancy and infiltration easily differ by half
+// from a design figure (common practice, no source).
+const SpaceGainRelU = 0.5
+
+// Outdoor-air share uncertainty when the temperatures cannot tell it (95 %
+// half-widths, absolute share): the hour's mean from the steps that did,
+// or a configured minimum position, which drifts with damper linkage and
+// wind (common practice, no source).
+const (
+	ShareHourU = 0.05
+	ShareMinU  = 0.1
+)
+
+// DefaultDegradationCd is the cycling degradation coefficient of the
+// part-load factor PLF = 1 - Cd (1 - PLR) of AHRI Standard 210/240
+// (unitary air-conditioning and air-source heat pump equipment), the value
+// the standard assigns when the cyclic test is not run (memory: 0.25 in
+// the editions up to 2008; later editions use a lower default; verify
+// against the edition the unit was rated to and configure
+// cooling.degradation_coefficient).
+const DefaultDegradationCd = 0.25
+
+// partLoadFactor is PLF = 1 - Cd (1 - PLR) of AHRI Standard 210/240, PLR
+// = load / rated capacity, held within 0..1: a DX unit cycling at part
+// load draws load / (COP × PLF), the extra being the losses of each start
+// (refrigerant redistribution, the coil cooling down again). 1 without a
+// rated capacity.
+func (u *Unit) partLoadFactor(loadKW float64) float64 {
+	if u.RatedCapacityKW <= 0 || loadKW <= 0 {
+		return 1
+	}
+	plr := math.Min(1, loadKW/u.RatedCapacityKW)
+	return 1 - u.DegradationCd*(1-plr)
+}
+
+// modelledCoolIn is the DX model's electric input for a coil load, kW:
+// load / (COP(t_out) × PLF).
+func (u *Unit) modelledCoolIn(loadKW, tOutC float64) float64 {
+	return loadKW / (u.copAt(tOutC) * u.partLoadFactor(loadKW))
+}
 
 // copAt returns the DX model's COP at outdoor temperature tOutC (NaN: the
 // rated COP). The correction is linear and held between 40 % and 160 % of

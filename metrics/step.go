@@ -69,8 +69,10 @@ type engine struct {
 	reqW, reqRH            float64 // cache of tRequired for a constant target
 	dryMarginK             float64 // a coil leaving this far above the entering dew point is dry
 	bf                     float64 // coil bypass factor, from the assumed leaving RH
+	bfD                    dv      // bf with its gradient on sensBF (the assumption's uncertainty)
+	bfU                    float64 // 95 % half-width of bf from that of the assumed leaving RH
 	hourShare              float64 // outdoor-air share of the hour's steps where the temperatures tell it; NaN when none
-	reqT                   dv
+	reqT, reqSlope         float64 // cached T_required and dT/dW at reqW
 	reqOK                  bool
 }
 
@@ -135,7 +137,13 @@ func (e *engine) mixedW(x *stepIn, tIn dv) (dv, bool) {
 	if !ok {
 		return dv{}, false
 	}
+	// The share's own 95 % half-width rides on the sensShare gradient
+	// (its accuracy is 1): from the return and outdoor sensors' bias
+	// (dx/dt_ra = (x - 1)/d, dx/dt_oa = -x/d; the mixed-air sensor's is
+	// carried on its own gradient), from the two airflow stations, or the
+	// assumption's.
 	var share dv
+	a := e.u.Accuracy
 	switch d := x.tOut - x.tRet; {
 	case math.Abs(d) >= mixMinDeltaK:
 		share = tIn.addc(-x.tRet).scale(1 / d)
@@ -144,12 +152,16 @@ func (e *engine) mixedW(x *stepIn, tIn dv) (dv, bool) {
 		} else if share.v > 1 {
 			share = cst(1)
 		}
+		share.g[sensShare] = a.TempK * math.Hypot(1-share.v, share.v) / math.Abs(d)
 	case !math.IsNaN(x.oaFlow) && x.flow > 0:
 		share = cst(math.Min(1, x.oaFlow/x.flow))
+		share.g[sensShare] = share.v * a.FlowFrac * math.Sqrt2
 	case !math.IsNaN(e.hourShare):
 		share = cst(e.hourShare)
+		share.g[sensShare] = ShareHourU
 	case e.u.MinOutdoor > 0:
 		share = cst(e.u.MinOutdoor)
+		share.g[sensShare] = ShareMinU
 	default:
 		return dv{}, false
 	}
@@ -170,8 +182,8 @@ func (e *engine) leavingW(tIn, t, wIn dv) dv {
 	if t.v >= tIn.v {
 		return wIn
 	}
-	bf := e.bf
-	adp := t.sub(tIn.scale(bf)).scale(1 / (1 - bf))
+	bf := e.bfD
+	adp := t.sub(tIn.mul(bf)).div(cst(1).sub(bf))
 	pws, ok := pwsD(adp)
 	if !ok || pws.v >= e.p {
 		return wIn
@@ -180,7 +192,7 @@ func (e *engine) leavingW(tIn, t, wIn dv) dv {
 	if ws.v >= wIn.v {
 		return wIn
 	}
-	return wIn.sub(ws).scale(bf).add(ws)
+	return wIn.sub(ws).mul(bf).add(ws)
 }
 
 // leavingWAt is the leaving humidity ratio of air at t and relative
@@ -236,20 +248,27 @@ func bypassFactor(rh, p float64) float64 {
 // (t_in - ADP).
 func (e *engine) tRequired(w, tIn, wIn dv, rh float64, measured bool) dv {
 	if !measured {
-		ws := w.sub(wIn.scale(e.bf)).scale(1 / (1 - e.bf))
+		bf := e.bfD
+		ws := w.sub(wIn.mul(bf)).div(cst(1).sub(bf))
 		if ws.v <= 0 {
 			return cst(math.Inf(-1))
 		}
 		adp := e.dewPointD(ws)
-		return adp.scale(1 - e.bf).add(tIn.scale(e.bf))
+		return adp.mul(cst(1).sub(bf)).add(tIn.mul(bf))
 	}
-	constant := w.g == [nSens]float64{}
-	if constant && e.reqOK && w.v == e.reqW && rh == e.reqRH {
-		return e.reqT // a fixed target: the same answer every step
+	// A fixed target gives the same temperature every step: cache it with
+	// its slope, and carry w's gradient (the assumed space gain) through.
+	if !(e.reqOK && w.v == e.reqW && rh == e.reqRH) {
+		wv := dv{v: w.v}
+		wv.g[0] = 1
+		r := e.dewPointD(pwToW(pwFromW(wv, e.p).scale(1/rh), e.p))
+		e.reqW, e.reqRH, e.reqT, e.reqSlope, e.reqOK = w.v, rh, r.v, r.g[0], true
 	}
-	r := e.dewPointD(pwToW(pwFromW(w, e.p).scale(1/rh), e.p))
-	if constant {
-		e.reqW, e.reqRH, e.reqT, e.reqOK = w.v, rh, r, true
+	r := dv{v: e.reqT}
+	if !math.IsInf(r.v, 0) {
+		for i := range r.g {
+			r.g[i] = w.g[i] * e.reqSlope
+		}
 	}
 	return r
 }
@@ -301,6 +320,23 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	}
 	o.wIn, o.enteringSupersat = wIn.v, supersat
 
+	// A blow-through fan sits between the entering (mixed-air) sensor and
+	// the coil: its heat reaches the coil, which cools the air from t_in +
+	// Δt_fan. Δt_fan = fan kW / (m_da c_p) with the fan_kw point or the
+	// rated fan power, else the configured rise (all of the fan's power
+	// ends up as heat in the air stream: the motor is taken to sit in it).
+	tCoil := tIn
+	if u.Fan == FanBlowThrough {
+		rise := u.FanRiseK
+		if kw, ok := e.fanKW(x); ok {
+			rise = 0
+			if m := e.massFlow(x, tIn, tLv, tSup, wIn, wIn); m.v > 0 {
+				rise = kw / (m.v * cp(wIn.v))
+			}
+		}
+		tCoil = tIn.addc(rise)
+	}
+
 	// Leaving humidity. Physics first: a coil leaving clearly above the
 	// entering dew point (by more than twice the sensors' combined
 	// uncertainty, so a coil wetted on part of its surface still counts)
@@ -347,51 +383,40 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 		}
 	}
 	if !measured {
-		wOut = e.leavingW(tIn, tLv, wIn)
+		wOut = e.leavingW(tCoil, tLv, wIn)
 	}
 	o.measuredOut = measured
 	o.wOut = wOut.v
 
-	// Dry-air mass flow on the configured basis.
-	var m dv
-	switch u.Basis {
-	case BasisStandard:
-		m = cst(psychro.StandardAirDensity * x.flow)
-	default:
-		t, w := tSup, wOut
-		switch u.FlowAt {
-		case RoleEnteringTemp:
-			t, w = tIn, wIn
-		case RoleLeavingTemp:
-			t = tLv
-		}
-		v := t.addc(psychro.ZeroCelsiusK).mul(w.scale(1.607858).addc(1)).scale(psychro.RDryAir / e.p)
-		m = cst(x.flow).div(v)
-	}
+	m := e.massFlow(x, tIn, tLv, tSup, wIn, wOut)
 	o.mDa = m.v
 
 	// Cooling coil.
-	hIn, hOut := hD(tIn, wIn), hD(tLv, wOut)
-	if !(x.tIn-x.tLv > u.Thresholds.CoilDeadbandK) && sensorW > wIn.v && m.v > 0 {
+	hIn, hOut := hD(tCoil, wIn), hD(tLv, wOut)
+	coilDT := tCoil.v - x.tLv
+	if !(coilDT > u.Thresholds.CoilDeadbandK) && sensorW > wIn.v && m.v > 0 {
 		o.reevaporated = m.v * (sensorW - wIn.v)
 	}
-	if x.tIn-x.tLv > u.Thresholds.CoilDeadbandK && m.v > 0 {
+	if coilDT > u.Thresholds.CoilDeadbandK && m.v > 0 {
 		o.coolOn = true
 		o.moistureAdded = o.wetterOut
 		o.water = m.mul(wIn.sub(wOut))
 		gross := m.mul(hIn.sub(hOut))
 		o.total = gross.sub(o.water.mul(condensateD(tLv)))
 		o.gross = gross.v
-		o.sens = m.v * cp(wIn.v) * (x.tIn - x.tLv)
+		o.sens = m.v * cp(wIn.v) * coilDT
 		o.lat = o.total.v - o.sens
+	}
+	if u.Fan == FanBlowThrough && m.v > 0 {
+		o.fanHeat = m.v * cp(wIn.v) * (tCoil.v - tIn.v)
 	}
 
 	// Supply fan heat between coil and supply sensor.
 	dtFan := cst(0)
 	if u.Fan == FanDrawThrough && m.v > 0 {
-		if e.hasFanKW && !math.IsNaN(x.fanKW) {
-			o.fanHeat = x.fanKW
-			dtFan = cst(x.fanKW).div(m.mul(cpD(wOut)))
+		if kw, ok := e.fanKW(x); ok {
+			o.fanHeat = kw
+			dtFan = cst(kw).div(m.mul(cpD(wOut)))
 		} else {
 			dtFan = cst(u.FanRiseK)
 			o.fanHeat = m.v * cp(wOut.v) * u.FanRiseK
@@ -425,7 +450,9 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 		// space adds, seen as the space's W above the supply's when both
 		// are trended (space sensors are taken as exact), else the
 		// configured or default gain (an assumption the hour is flagged for).
-		wReq = cst(wSpace - u.SpaceGain)
+		gain := dv{v: u.SpaceGain}
+		gain.g[sensGain] = 1
+		wReq = cst(wSpace).sub(gain)
 		o.gainAssumed = true
 		if e.spaceHum != humNone && e.hasSpaceT && !math.IsNaN(x.spaceT) && !math.IsNaN(x.spaceHum) {
 			if ws, _, ok := e.wFromHum(e.spaceHum, cst(x.spaceT), cst(x.spaceHum)); ok {
@@ -445,7 +472,7 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	tReq := cst(math.Inf(1))
 	if wIn.v > wReq.v {
 		o.humidityNeed = true
-		tReq = e.tRequired(wReq, tIn, wIn, o.rhLv, measured)
+		tReq = e.tRequired(wReq, tCoil, wIn, o.rhLv, measured)
 	}
 	o.tReq = tReq.v
 	// Too little dehumidification: the coil left air wetter than the target
@@ -460,14 +487,14 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 			o.shortReheat = m.v * cp(wReq.v) * (x.tLv - tReq.v)
 		}
 	}
-	tc := dmin(tIn, dmin(tSupEff, tReq))
+	tc := dmin(tCoil, dmin(tSupEff, tReq))
 	o.tNeed = tc.v
 	wc := wIn
-	if tc.v < tIn.v {
+	if tc.v < tCoil.v {
 		if measured {
 			wc = e.leavingWAt(tc, wIn, o.rhLv)
 		} else {
-			wc = e.leavingW(tIn, tc, wIn)
+			wc = e.leavingW(tCoil, tc, wIn)
 		}
 		mw := m.v * (wIn.v - wc.v)
 		o.coilNeeded = math.Max(0, m.v*(hIn.v-h(tc.v, wc.v))-mw*condensate(tc.v))
@@ -493,8 +520,10 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 			o.coolAvoidIn = x.coolKW * o.coilAvoid / total
 		}
 	case u.Cooling == CoolingDX:
-		cop := u.copAt(x.tOut)
-		o.coolIn, o.coolAvoidIn = total/cop, o.coilAvoid/cop
+		// The avoidable input is what the load beyond the needed one drew:
+		// at part load each kWh of coil load costs more input (PLF).
+		o.coolIn = u.modelledCoolIn(total, x.tOut)
+		o.coolAvoidIn = o.coolIn - u.modelledCoolIn(total-o.coilAvoid, x.tOut)
 	case u.Cooling == CoolingChilledWater:
 		o.coolIn, o.coolAvoidIn = total*u.PlantKWPerKW, o.coilAvoid*u.PlantKWPerKW
 	}
@@ -510,6 +539,38 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 		o.reheatIn = o.reheat.v / u.BoilerEff
 	}
 	return o, true
+}
+
+// fanKW is the supply fan's power: the fan_kw point when it reads, else
+// the rated power (a fan running at its rating whenever air flows).
+func (e *engine) fanKW(x *stepIn) (float64, bool) {
+	if e.hasFanKW && !math.IsNaN(x.fanKW) {
+		return x.fanKW, true
+	}
+	if e.u.FanRatedKW > 0 {
+		return e.u.FanRatedKW, true
+	}
+	return 0, false
+}
+
+// massFlow is the dry-air mass flow on the configured basis: standard air
+// is dry air at 1.204 kg/m³, so m_da = 1.204 Q; an actual volume is read
+// at the sensor's state, m_da = Q / v (eq. 26), with the leaving humidity
+// wOut at the supply or coil leaving sensor.
+func (e *engine) massFlow(x *stepIn, tIn, tLv, tSup, wIn, wOut dv) dv {
+	u := e.u
+	if u.Basis == BasisStandard {
+		return cst(psychro.StandardAirDensity * x.flow)
+	}
+	t, w := tSup, wOut
+	switch u.FlowAt {
+	case RoleEnteringTemp:
+		t, w = tIn, wIn
+	case RoleLeavingTemp:
+		t = tLv
+	}
+	v := t.addc(psychro.ZeroCelsiusK).mul(w.scale(1.607858).addc(1)).scale(psychro.RDryAir / e.p)
+	return cst(x.flow).div(v)
 }
 
 // h is moist-air enthalpy (eq. 32), kJ/kg.

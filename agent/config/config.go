@@ -148,6 +148,10 @@ type AirHandler struct {
 	Airflow   Airflow `yaml:"airflow"`
 	Fan       Fan     `yaml:"fan"`
 	LeavingRH string  `yaml:"leaving_rh"` // assumed coil leaving RH when not measured, default 95%
+	// LeavingRHUncertainty is the 95 % half-width of leaving_rh, default 5%
+	// (metrics.DefaultLeavingRHU); a commissioning measurement of the coil
+	// may justify less.
+	LeavingRHUncertainty string `yaml:"leaving_rh_uncertainty"`
 	// OutdoorAir is the outdoor-air share used when the entering state is
 	// mixed from return and outdoor air and the temperatures are too close
 	// to tell it.
@@ -161,6 +165,7 @@ type AirHandler struct {
 
 	// Resolved by Parse.
 	LeavingRHFrac  float64 `yaml:"-"`
+	LeavingRHUFrac float64 `yaml:"-"`
 	MinOutdoorFrac float64 `yaml:"-"`
 	SpaceGainKgKg  float64 `yaml:"-"`
 }
@@ -177,6 +182,13 @@ type Cooling struct {
 	RatedOutdoor  string  `yaml:"rated_outdoor"`    // outdoor temperature of the rating, default 95F
 	EERPerKelvin  float64 `yaml:"eer_per_kelvin"`   // change of EER per K of outdoor temperature above the rating (negative), default -0.1
 	PlantKWPerTon float64 `yaml:"plant_kw_per_ton"` // chilled water: plant kW per ton of coil load
+	// RatedCapacity is a DX unit's rated total cooling capacity, e.g. 40ton
+	// or 140kW: with it a modelled cooling input carries the part-load
+	// cycling loss (PLF = 1 - Cd (1 - PLR), AHRI Standard 210/240).
+	RatedCapacity string `yaml:"rated_capacity"`
+	// DegradationCoefficient is Cd of that factor, default
+	// metrics.DefaultDegradationCd.
+	DegradationCoefficient float64 `yaml:"degradation_coefficient"`
 }
 
 // Reheat describes the reheat source.
@@ -195,6 +207,14 @@ type Airflow struct {
 type Fan struct {
 	Position string `yaml:"position"`  // draw_through (between coil and supply sensor), blow_through or none
 	HeatRise string `yaml:"heat_rise"` // temperature rise when no fan_kw point is trended, e.g. 0.6K or 1F
+	// RatedPower is the fan's rated electric power, e.g. 7.5kW: its heat
+	// when no fan_kw point is trended (a constant-speed fan at its rating).
+	RatedPower string `yaml:"rated_power"`
+	// EnteringSensor says, for a blow-through fan, whether the entering
+	// temperature sensor sits before the fan (a mixed-air sensor: the
+	// fan's heat is added to the coil's entering air) or after it
+	// (after_fan, the default: its reading holds the fan's heat).
+	EnteringSensor string `yaml:"entering_sensor"`
 }
 
 // Target is the humidity the air handler must hold; give exactly one form.

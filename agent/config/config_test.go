@@ -9,6 +9,9 @@ import (
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
 )
 
 func TestLoadConfig_Good(t *testing.T) {
@@ -166,4 +169,51 @@ func TestLoadConfigPartial(t *testing.T) {
 	_, broken, err = LoadPartial("../../testdata/config/minimal.good.yaml")
 	require.NoError(t, err)
 	assert.Empty(t, broken)
+}
+
+// TestConfig_FanCyclingAndAssumptions: the fan's place and power, the DX
+// unit's rated capacity and degradation coefficient, and the leaving RH's
+// uncertainty reach the engine, with their defaults; contradictions are
+// refused with the key and a fix.
+func TestConfig_FanCyclingAndAssumptions(t *testing.T) {
+	base, err := os.ReadFile("../../testdata/config/minimal.good.yaml")
+	require.NoError(t, err)
+	with := func(old, new string) string {
+		s := strings.Replace(string(base), old, new, 1)
+		require.NotEqual(t, string(base), s, old)
+		return s
+	}
+	unit := func(t *testing.T, yaml string) *metrics.Unit {
+		cfg, err := Parse(strings.NewReader(yaml), "c.yaml")
+		require.NoError(t, err)
+		return cfg.Unit(&cfg.AirHandlers[0])
+	}
+	u := unit(t, string(base))
+	assert.Equal(t, metrics.DefaultLeavingRHU, u.LeavingRHU)
+	assert.Zero(t, u.RatedCapacityKW, "no capacity: cycling not modelled")
+	u = unit(t, with("rated_eer: 10}", "rated_eer: 10, rated_capacity: 40ton}\n    leaving_rh_uncertainty: 2%"))
+	assert.InDelta(t, psychro.TonsToKW(40), u.RatedCapacityKW, 1e-9)
+	assert.Equal(t, metrics.DefaultDegradationCd, u.DegradationCd)
+	assert.InDelta(t, 0.02, u.LeavingRHU, 1e-12)
+	u = unit(t, with("rated_eer: 10}", "rated_eer: 10, rated_capacity: 140kW, degradation_coefficient: 0.15}"))
+	assert.InDelta(t, 0.15, u.DegradationCd, 1e-12)
+	u = unit(t, with("fan: {position: none}", "fan: {position: blow_through, entering_sensor: before_fan, rated_power: 7.5kW}"))
+	assert.Equal(t, metrics.FanBlowThrough, u.Fan)
+	assert.InDelta(t, 7.5, u.FanRatedKW, 1e-12)
+	u = unit(t, with("fan: {position: none}", "fan: {position: blow_through}"))
+	assert.Equal(t, metrics.FanBlowThroughMeasured, u.Fan, "by default the entering sensor sits after the fan")
+
+	for _, c := range []struct{ old, new, want string }{
+		{"fan: {position: none}", "fan: {position: blow_through, entering_sensor: before_fan}", "fan.heat_rise: a blow-through fan after the entering sensor heats the air the coil then cools"},
+		{"fan: {position: none}", "fan: {position: blow_through, entering_sensor: inside}", `fan.entering_sensor: unknown entering sensor place "inside"`},
+		{"fan: {position: none}", "fan: {position: none, entering_sensor: before_fan}", "fan.entering_sensor: the entering sensor's place matters only for a blow-through fan"},
+		{"fan: {position: none}", "fan: {position: draw_through, rated_power: 5kW, heat_rise: 0.5K}", "fan.rated_power: rated_power and heat_rise both give the fan's heat"},
+		{"rated_eer: 10}", "rated_eer: 10, degradation_coefficient: 0.2}", "cooling.degradation_coefficient: the degradation coefficient needs the rated capacity"},
+		{"rated_eer: 10}", "rated_eer: 10, rated_capacity: 40}", "cooling.rated_capacity"},
+		{"fan: {position: none}", "fan: {position: none}\n    leaving_rh_uncertainty: 40%", "leaving_rh_uncertainty: 40% is outside 0-30 %"},
+	} {
+		_, err := Parse(strings.NewReader(with(c.old, c.new)), "c.yaml")
+		require.Error(t, err, c.new)
+		assert.Contains(t, err.Error(), c.want)
+	}
 }

@@ -18,9 +18,11 @@ func (c *Config) Unit(a *AirHandler) *metrics.Unit {
 		ID:         a.ID,
 		PressurePa: c.PressurePa,
 		LeavingRH:  a.LeavingRHFrac,
+		LeavingRHU: a.LeavingRHUFrac,
 		MinOutdoor: a.MinOutdoorFrac,
 		SpaceGain:  a.SpaceGainKgKg,
 		FanRiseK:   a.FanHeatRiseK(),
+		FanRatedKW: q(a.Fan.RatedPower, psychro.KindPower),
 		Prices: metrics.Prices{
 			ElectricityPerKWh:      c.Prices.ElectricityPerKWh,
 			FuelPerKWh:             c.Prices.FuelPerKWh,
@@ -43,6 +45,13 @@ func (c *Config) Unit(a *AirHandler) *metrics.Unit {
 		u.RatedCOP = psychro.EERToCOP(a.Cooling.RatedEER)
 		u.RatedOutdoorC = q(a.Cooling.RatedOutdoor, psychro.KindTemperature)
 		u.COPPerK = psychro.EERToCOP(a.Cooling.EERPerKelvin)
+		if a.Cooling.RatedCapacity != "" {
+			u.RatedCapacityKW = q(a.Cooling.RatedCapacity, psychro.KindPower)
+			u.DegradationCd = metrics.DefaultDegradationCd
+			if a.Cooling.DegradationCoefficient > 0 {
+				u.DegradationCd = a.Cooling.DegradationCoefficient
+			}
+		}
 	case "chilled_water":
 		u.Cooling = metrics.CoolingChilledWater
 		u.PlantKWPerKW = a.Cooling.PlantKWPerTon / psychro.TonsToKW(1)
@@ -67,6 +76,9 @@ func (c *Config) Unit(a *AirHandler) *metrics.Unit {
 		u.Fan = metrics.FanDrawThrough
 	case "blow_through":
 		u.Fan = metrics.FanBlowThrough
+		if a.Fan.EnteringSensor != "before_fan" {
+			u.Fan = metrics.FanBlowThroughMeasured
+		}
 	default:
 		u.Fan = metrics.FanNone
 	}

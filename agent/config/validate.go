@@ -319,6 +319,21 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 		v.bad(at(cp, "kind"), fmt.Sprintf("unknown cooling kind %q", a.Cooling.Kind), "use dx or chilled_water")
 	}
 
+	// Part-load cycling of a DX unit whose input is modelled.
+	if a.Cooling.RatedCapacity != "" {
+		if a.Cooling.Kind != "dx" {
+			v.bad(at(cp, "rated_capacity"), "the rated capacity is for the part-load cycling of a DX unit", "remove it, or set kind: dx")
+		} else if x, ok := v.quantity(at(cp, "rated_capacity"), a.Cooling.RatedCapacity, psychro.KindPower); ok && (x <= 0 || x > 5000) {
+			v.bad(at(cp, "rated_capacity"), fmt.Sprintf("%s is outside 0-5000 kW", a.Cooling.RatedCapacity), "give the nameplate's total cooling capacity, e.g. 40ton or 140kW")
+		}
+	}
+	if a.Cooling.DegradationCoefficient != 0 {
+		if a.Cooling.RatedCapacity == "" {
+			v.bad(at(cp, "degradation_coefficient"), "the degradation coefficient needs the rated capacity to tell the part load", "set rated_capacity, or remove degradation_coefficient")
+		}
+		v.number(at(cp, "degradation_coefficient"), a.Cooling.DegradationCoefficient, 0, 0.5, "", "give Cd from the unit's rating, typically 0.1-0.25")
+	}
+
 	// Capacity falls with outdoor temperature: about -0.1 to -0.3 Btu/Wh
 	// per K for air-cooled units (common practice, no source).
 	v.number(at(cp, "eer_per_kelvin"), a.Cooling.EERPerKelvin, -2, 0, " Btu/Wh per K", "give the change of EER per K above the rating, negative, e.g. -0.1")
@@ -364,14 +379,35 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 	_, fanKW := a.Points[string(metrics.RoleFanPower)]
 	switch a.Fan.Position {
 	case "draw_through":
-		if !fanKW && a.Fan.HeatRise == "" {
-			v.bad(at(fp, "heat_rise"), "a draw-through fan heats the air between coil and supply sensor", "map fan_kw, or set heat_rise (typically 0.3-0.8K)")
+		if !fanKW && a.Fan.HeatRise == "" && a.Fan.RatedPower == "" {
+			v.bad(at(fp, "heat_rise"), "a draw-through fan heats the air between coil and supply sensor", "map fan_kw, or set rated_power (the fan's kW) or heat_rise (typically 0.3-0.8K)")
 		}
-	case "blow_through", "none":
+	case "blow_through":
+		switch a.Fan.EnteringSensor {
+		case "", "after_fan":
+		case "before_fan":
+			if !fanKW && a.Fan.HeatRise == "" && a.Fan.RatedPower == "" {
+				v.bad(at(fp, "heat_rise"), "a blow-through fan after the entering sensor heats the air the coil then cools", "map fan_kw, or set rated_power (the fan's kW) or heat_rise (typically 0.3-0.8K)")
+			}
+		default:
+			v.bad(at(fp, "entering_sensor"), fmt.Sprintf("unknown entering sensor place %q", a.Fan.EnteringSensor), "use before_fan (a mixed-air sensor ahead of the fan) or after_fan (between fan and coil)")
+		}
+	case "none":
 	case "":
 		v.bad(at(fp, "position"), "missing fan position", "use draw_through (fan between coil and supply sensor), blow_through or none")
 	default:
 		v.bad(at(fp, "position"), fmt.Sprintf("unknown fan position %q", a.Fan.Position), "use draw_through, blow_through or none")
+	}
+	if a.Fan.EnteringSensor != "" && a.Fan.Position != "blow_through" {
+		v.bad(at(fp, "entering_sensor"), "the entering sensor's place matters only for a blow-through fan", "remove it, or set position: blow_through")
+	}
+	if a.Fan.RatedPower != "" {
+		if a.Fan.HeatRise != "" {
+			v.bad(at(fp, "rated_power"), "rated_power and heat_rise both give the fan's heat", "keep one")
+		}
+		if x, ok := v.quantity(at(fp, "rated_power"), a.Fan.RatedPower, psychro.KindPower); ok && (x <= 0 || x > 500) {
+			v.bad(at(fp, "rated_power"), fmt.Sprintf("%s is outside 0-500 kW", a.Fan.RatedPower), "give the fan motor's rated input, e.g. 7.5kW or 10hp as 7.5kW")
+		}
 	}
 	if a.Fan.HeatRise != "" {
 		if u, ok := temperatureDelta(a.Fan.HeatRise); !ok || u < 0 || u > 5 {
@@ -387,6 +423,18 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 				v.bad(at(p, "space_moisture_gain"), fmt.Sprintf("%s is outside 0-5 g/kg", a.SpaceMoistureGain), "an office adds about 0.5-1.5 g/kg to its supply air")
 			} else {
 				a.SpaceGainKgKg = x
+			}
+		}
+	}
+
+	// Uncertainty of the assumed leaving RH.
+	a.LeavingRHUFrac = metrics.DefaultLeavingRHU
+	if a.LeavingRHUncertainty != "" {
+		if x, ok := v.quantity(at(p, "leaving_rh_uncertainty"), a.LeavingRHUncertainty, psychro.KindRH); ok {
+			if x < 0 || x > 0.3 {
+				v.bad(at(p, "leaving_rh_uncertainty"), fmt.Sprintf("%s is outside 0-30 %%", a.LeavingRHUncertainty), "give the 95 % half-width of leaving_rh, e.g. 5% (2% after a commissioning measurement)")
+			} else {
+				a.LeavingRHUFrac = x
 			}
 		}
 	}

@@ -165,6 +165,14 @@ func TestFieldTruth_Goals(t *testing.T) {
 	eer := &hourErrors{name: "effective EER"}
 	needed := &hourErrors{name: "reheat needed for the target"}
 	byUnit := map[string]*hourErrors{}
+	// per air handler, for the fixes that concern one of them
+	unitErr := func(m map[string]*hourErrors, name, u string) *hourErrors {
+		if m[u] == nil {
+			m[u] = &hourErrors{name: name + ", " + u}
+		}
+		return m[u]
+	}
+	coilBy, reheatBy, eerBy := map[string]*hourErrors{}, map[string]*hourErrors{}, map[string]*hourErrors{}
 	shortTruth, shortEst := map[string]float64{}, map[string]float64{}
 	lagHours, lagAlerted := 0, 0
 	shortRule := ruleOf(t, metrics.AlertShortfall)
@@ -184,8 +192,14 @@ func TestFieldTruth_Goals(t *testing.T) {
 			}
 		}
 		// A coil whose surface never reached the entering dew point (no wet
-		// minute in the truth) removes no water.
-		if r["wet_minutes"] == "0" && fnum(g["water_removed_kg"]) > 0.5 {
+		// minute in the truth) removes no water. With a leaving sensor
+		// (AHU-2) physics must say so; a coil model without one may claim a
+		// little on a coil within a few tenths of a kelvin of the dew
+		// point, as long as the hour says it is within the uncertainty (the
+		// assumed bypass factor decides where condensation starts).
+		modelled := r["ahu"] != "AHU-2" && fnum(g["water_removed_kg"]) <= fnum(g["water_removed_kg_u95"]) &&
+			strings.Contains(g["flags"], metrics.FlagWaterInUncertainty)
+		if r["wet_minutes"] == "0" && fnum(g["water_removed_kg"]) > 0.5 && !modelled {
 			dryWater = append(dryWater, fmt.Sprintf("%s: %s kg", key, g["water_removed_kg"]))
 		}
 		shortTruth[r["ahu"]] += fnum(r["shortfall_kg"])
@@ -217,6 +231,9 @@ func TestFieldTruth_Goals(t *testing.T) {
 		coil.add(fnum(r["coil_net_kwh"]), fnum(g["coil_total_kwh"]), floor("coil_net_kwh"), key)
 		reheat.add(fnum(r["reheat_kwh"]), fnum(g["reheat_kwh"]), floor("reheat_kwh"), key)
 		eer.add(fnum(r["effective_eer_electric"]), fnum(g[eerColumn]), 0.5, key)
+		unitErr(coilBy, "net coil energy", r["ahu"]).add(fnum(r["coil_net_kwh"]), fnum(g["coil_total_kwh"]), floor("coil_net_kwh"), key)
+		unitErr(reheatBy, "reheat energy", r["ahu"]).add(fnum(r["reheat_kwh"]), fnum(g["reheat_kwh"]), floor("reheat_kwh"), key)
+		unitErr(eerBy, "effective EER", r["ahu"]).add(fnum(r["effective_eer_electric"]), fnum(g[eerColumn]), 0.5, key)
 		needed.add(fnum(r["reheat_needed_kwh"]), fnum(g["reheat_needed_kwh"]), floor("reheat_needed_kwh"), key)
 	}
 	require.Empty(t, missing, "hours without a record")
@@ -231,6 +248,27 @@ func TestFieldTruth_Goals(t *testing.T) {
 	for _, u := range []string{"AHU-1", "AHU-2", "AHU-3", "AHU-4"} {
 		m, p := byUnit[u].stats()
 		t.Logf("%-28s MAPE %5.1f %%  P95 %5.1f %%  (%d hours)", byUnit[u].name, 100*m, 100*p, len(byUnit[u].errs))
+	}
+	for _, u := range []string{"AHU-1", "AHU-2", "AHU-3", "AHU-4"} {
+		for _, e := range []*hourErrors{coilBy[u], reheatBy[u], eerBy[u]} {
+			m, p := e.stats()
+			t.Logf("%-28s MAPE %5.1f %%  P95 %5.1f %%  (%d hours)", e.name, 100*m, 100*p, len(e.errs))
+		}
+	}
+	// The fixes of one air handler each, held to the goals on their own:
+	// AHU-3's blow-through fan heat is coil load (without it its coil
+	// energy is about 4 % low), AHU-3's modelled DX input carries the
+	// part-load cycling loss (without it its EER is about 10 % high), and
+	// the exact reheat meters of AHU-1 and AHU-3 outweigh the air side's
+	// reading of the same heat (AHU-3's supply sensor reads 0.25 K high:
+	// its air side alone is several per cent high).
+	for _, c := range []struct {
+		e         *hourErrors
+		mape, p95 float64
+	}{{coilBy["AHU-3"], 0.02, 0.06}, {eerBy["AHU-3"], 0.03, 0.10}, {reheatBy["AHU-1"], 0.005, 0.02}, {reheatBy["AHU-3"], 0.005, 0.02}} {
+		m, p := c.e.stats()
+		assert.LessOrEqual(t, m, c.mape, "%s MAPE; worst hours:%s", c.e.name, c.e.worstN(5))
+		assert.LessOrEqual(t, p, c.p95, "%s P95; worst hours:%s", c.e.name, c.e.worstN(5))
 	}
 	for _, g := range goals {
 		m, p := g.e.stats()
@@ -273,3 +311,87 @@ func recordOf(row map[string]string) metrics.Record {
 // eerColumn is the hourly column compared with the truth's electric-only
 // effective EER.
 const eerColumn = "effective_eer"
+
+// analyzeTruth runs "dewline analyze" on the field ground truth's exports
+// with the given configuration and returns the records by "ahu hour".
+func analyzeTruth(t *testing.T, dir, config string) map[string]map[string]string {
+	t.Helper()
+	out := filepath.Join(t.TempDir(), "hourly.csv")
+	args := []string{"--log-level", "error", "analyze", "--config", config, "--out", out, "--no-store"}
+	for _, id := range []string{"AHU-1", "AHU-2", "AHU-3", "AHU-4"} {
+		args = append(args, "--input", filepath.Join(dir, id+".csv"))
+	}
+	code, _, errOut := runCLI(t, args...)
+	require.Equal(t, 0, code, errOut)
+	got := map[string]map[string]string{}
+	for _, r := range csvTable(t, out) {
+		got[r["ahu"]+" "+r["hour_start"]] = r
+	}
+	return got
+}
+
+// bandCover counts the hours whose truth lies inside the estimate's 95 %
+// band, est ± u95, over hours whose truth reaches floorShare of the air
+// handler's mean hourly truth (stuck-sensor hours excluded).
+func bandCover(truth []map[string]string, got map[string]map[string]string, truthCol, col string, floorShare float64, units ...string) (in, n int, relU []float64) {
+	mean, count := map[string]float64{}, map[string]float64{}
+	for _, r := range truth {
+		mean[r["ahu"]] += fnum(r[truthCol])
+		count[r["ahu"]]++
+	}
+	want := map[string]bool{}
+	for _, u := range units {
+		want[u] = true
+	}
+	for _, r := range truth {
+		g, ok := got[r["ahu"]+" "+r["hour_start"]]
+		tr := fnum(r[truthCol])
+		if !ok || !want[r["ahu"]] || r["stuck"] == "1" || tr < floorShare*mean[r["ahu"]]/count[r["ahu"]] {
+			continue
+		}
+		est, u := fnum(g[col]), fnum(g[col+"_u95"])
+		n++
+		if math.Abs(est-tr) <= u {
+			in++
+		}
+		relU = append(relU, u/tr)
+	}
+	return in, n, relU
+}
+
+func median(x []float64) float64 {
+	s := append([]float64(nil), x...)
+	sort.Float64s(s)
+	return s[len(s)/2]
+}
+
+// TestFieldTruth_BandsCoverTheTruth: the 95 % bands must hold the truth
+// about 95 % of the time, including what the engine assumes where a
+// building has no sensor. The truth's sensors carry noise but no
+// calibration bias, so the configuration here states them nearly exact:
+// what is left of each band is the assumptions. The truth's coils leave the
+// rating air at about 95 % RH (AHU-1, AHU-3) and 93 % (AHU-4); AHU-4 is
+// configured as a user who knows nothing of its coil writes it (the default
+// 95 %), so its water removed is off by what the assumption can be off by,
+// and a band without the assumption does not cover it. AHU-3 mixes return
+// and outdoor air: its band carries the outdoor-air share's uncertainty.
+func TestFieldTruth_BandsCoverTheTruth(t *testing.T) {
+	dir := fieldTruth(t)
+	truth := csvTable(t, filepath.Join(dir, "truth.csv"))
+	b, err := os.ReadFile(filepath.Join(dir, "config.yaml"))
+	require.NoError(t, err)
+	cfg := strings.Replace(string(b), "    leaving_rh: 93%", "    # leaving_rh not known", 1)
+	require.NotEqual(t, string(b), cfg, "the configuration states AHU-4's leaving RH")
+	cfg = strings.Replace(cfg, "grid:\n", "sensors: {temperature: 0.02K, rh: 0.2%, airflow: 0.5%, power: 0.5%}\ngrid:\n", 1)
+	path := filepath.Join(t.TempDir(), "config.yaml")
+	require.NoError(t, os.WriteFile(path, []byte(cfg), 0o600))
+	got := analyzeTruth(t, dir, path)
+	for _, u := range []string{"AHU-1", "AHU-2", "AHU-3", "AHU-4"} {
+		in, n, relU := bandCover(truth, got, "water_kg", "water_removed_kg", 0.3, u)
+		t.Logf("%s: water removed inside its 95 %% band in %d of %d hours (%.1f %%), median band ±%.1f %%", u, in, n, 100*float64(in)/float64(n), 100*median(relU))
+		if u != "AHU-2" { // AHU-2 measures its leaving humidity: no assumption
+			require.Greater(t, n, 100)
+			assert.GreaterOrEqual(t, float64(in)/float64(n), 0.90, "%s: water removed inside its band", u)
+		}
+	}
+}

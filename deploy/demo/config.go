@@ -84,6 +84,9 @@ func writeConfig(path string, g *generator, sc *Scenario) error {
 		if c.heatRise != "" {
 			p("      heat_rise: %s\n", c.heatRise)
 		}
+		if c.spaceGain != "" {
+			p("    space_moisture_gain: %s   # a lab at 100 %% outdoor air: many air changes carry its moisture away\n", c.spaceGain)
+		}
 		p("    target:\n      %s: %s\n", c.target[0], q(c.target[1]))
 		p("    points:\n")
 		key := "point"

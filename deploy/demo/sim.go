@@ -260,7 +260,8 @@ func (s *unitSim) step(c *minuteCtx, pPa float64, stuck bool) error {
 	}
 
 	// Cooling coil: the leaving temperature follows its setpoint with a
-	// lag and some hunting; the leaving air is near saturation.
+	// lag and some hunting; the leaving humidity follows the coil's
+	// apparatus dew point and bypass factor (coilBypass).
 	target := coilSP
 	coilOn := target < ent.DryBulbC-0.3
 	if !coilOn {
@@ -268,14 +269,14 @@ func (s *unitSim) step(c *minuteCtx, pPa float64, stuck bool) error {
 	}
 	s.tLv += (target - s.tLv) * (1 - math.Exp(-1/2.5))
 	s.hunt = 0.85*s.hunt + 0.53*s.noise(0.12)
-	s.rhAR = 0.995*s.rhAR + 0.1*s.noise(0.008)
+	s.rhAR = 0.995*s.rhAR + 0.1*s.noise(0.016)
 	tLv := s.tLv
 	if coilOn {
 		tLv += s.hunt
 	}
 	tLv = math.Min(tLv, ent.DryBulbC)
-	rhLv := clamp(d.rhLv+s.rhAR, 0.93, 0.97)
-	lv, err := psychro.CoilLeaving(ent, tLv, rhLv)
+	bf := clamp(d.bypass+s.rhAR, 0.03, 0.15)
+	lv, err := coilBypass(ent, tLv, bf)
 	if err != nil {
 		return fmt.Errorf("%w: %s coil leaving: %v", errPhysics, d.ID, err)
 	}
@@ -376,6 +377,35 @@ func (s *unitSim) step(c *minuteCtx, pPa float64, stuck bool) error {
 		}
 	}
 	return nil
+}
+
+// coilBypass is the state of air leaving a cooling coil at leavingC by the
+// apparatus-dew-point / bypass-factor model (ASHRAE Handbook -
+// Fundamentals, ch. 1, and HVAC Systems and Equipment, cooling coils;
+// memory): a share bf of the air passes the coil untouched and the rest
+// leaves saturated at the apparatus dew point ADP, so leavingC = ADP + bf
+// (t_in - ADP) and W = W_s(ADP) + bf (W_in - W_s(ADP)); a coil whose ADP is
+// above the entering dew point is dry and leaves W unchanged. The leaving
+// RH then rises as the coil runs colder, as a real coil's does, instead of
+// sitting at one value.
+func coilBypass(in psychro.State, leavingC, bf float64) (psychro.State, error) {
+	w := in.HumRatio
+	if leavingC < in.DryBulbC {
+		adp := (leavingC - bf*in.DryBulbC) / (1 - bf)
+		ws, err := psychro.HumRatioFromRH(adp, 1, in.PressurePa)
+		if err != nil {
+			return psychro.State{}, err
+		}
+		if ws < w {
+			w = ws + bf*(w-ws)
+		}
+		// The line lies below saturation; near-saturated entering air can
+		// cross it by rounding.
+		if wl, err := psychro.SatHumRatio(leavingC, in.PressurePa); err == nil {
+			w = math.Min(w, wl)
+		}
+	}
+	return psychro.NewStateHumRatio(leavingC, w, in.PressurePa)
 }
 
 // off is a minute with the fan stopped: the zone floats, the air in the

@@ -130,7 +130,7 @@ type unitDef struct {
 	capKJK, moistKg          float64
 
 	reheatCapKW   float64
-	rhLv          float64 // mean RH of the air leaving the wet coil
+	bypass        float64 // the coil's mean bypass factor (0.06-0.11: the AHRI rating point's air leaves it at about 96-93 % RH)
 	eer95         float64 // DX: EER at 95 °F outdoor, Btu/Wh
 	eerPerK       float64 // DX: change of EER per K above 35 °C
 	plantKWPerTon float64 // chilled water: plant kW per ton at 30 °C outdoor
@@ -152,6 +152,7 @@ type cfgFacts struct {
 	basis         string
 	fan           string
 	heatRise      string
+	spaceGain     string    // space_moisture_gain, when the space adds less or more than the default
 	target        [2]string // key, value
 }
 
@@ -181,7 +182,7 @@ func units() []unitDef {
 			spaceSetC: 22.8, supMinC: 12.8, supMaxC: 20,
 			qOcc: 44, qUnocc: 3, ua: 2.2, qSolar: 9, gOcc: 0.0024, infil: 0.25,
 			capKJK: 80000, moistKg: 22000,
-			reheatCapKW: 60, rhLv: 0.95, eer95: 11.4, eerPerK: -0.2, coolCapKW: 190,
+			reheatCapKW: 60, bypass: 0.075, eer95: 11.4, eerPerK: -0.2, coolCapKW: 190,
 			cfg: cfgFacts{basis: "standard", fan: "draw_through", heatRise: "1.6F",
 				target: [2]string{"max_space_dewpoint", "55F"}},
 			points: []pointDef{
@@ -204,7 +205,7 @@ func units() []unitDef {
 			spaceSetC: 23.3, supMinC: 12.8, supMaxC: 20,
 			qOcc: 40, qUnocc: 4, ua: 1.5, qSolar: 4, gOcc: 0.0012, infil: 0.2,
 			capKJK: 60000, moistKg: 18000,
-			reheatCapKW: 45, rhLv: 0.96, eer95: 10.8, eerPerK: -0.18, coolCapKW: 160,
+			reheatCapKW: 45, bypass: 0.06, eer95: 10.8, eerPerK: -0.18, coolCapKW: 160,
 			cfg: cfgFacts{ratedEER: 10.5, eerPerK: -0.15, basis: "standard", fan: "draw_through",
 				target: [2]string{"max_supply_dewpoint", "53F"}},
 			points: []pointDef{
@@ -225,7 +226,7 @@ func units() []unitDef {
 			spaceSetC: 22.8, supMinC: 12.8, supMaxC: 22.2,
 			qOcc: 21, qUnocc: 4, ua: 1.4, qSolar: 7, gOcc: 0.0015, infil: 0.12,
 			capKJK: 50000, moistKg: 15000,
-			reheatCapKW: 35, rhLv: 0.94, eer95: 9.9, eerPerK: -0.17, coolCapKW: 120,
+			reheatCapKW: 35, bypass: 0.09, eer95: 9.9, eerPerK: -0.17, coolCapKW: 120,
 			cfg: cfgFacts{ratedEER: 9.8, eerPerK: -0.15, basis: "standard", fan: "draw_through", heatRise: "1.2F",
 				target: [2]string{"max_space_dewpoint", "55F"}},
 			points: []pointDef{
@@ -248,9 +249,9 @@ func units() []unitDef {
 			spaceSetC: 21.7, supMinC: 12.8, supMaxC: 18.3,
 			qOcc: 42, qUnocc: 30, ua: 1.5, qSolar: 6, gOcc: 0.0010, infil: 0,
 			capKJK: 70000, moistKg: 26000,
-			reheatCapKW: 110, rhLv: 0.955, plantKWPerTon: 0.82, boilerEff: 0.82, coolCapKW: 420,
+			reheatCapKW: 110, bypass: 0.067, plantKWPerTon: 0.82, boilerEff: 0.82, coolCapKW: 420,
 			cfg: cfgFacts{plantKWPerTon: 0.85, boilerEff: 0.82, basis: "actual", fan: "blow_through",
-				target: [2]string{"max_space_rh", "50%"}},
+				spaceGain: "0.15g/kg", target: [2]string{"max_space_rh", "50%"}},
 			points: []pointDef{
 				temp("entering_temp", "AHU-4 Coil Entering Temp", sigEnterT, 2),
 				rhPt("entering_rh", "AHU-4 Coil Entering RH", sigEnterRH, 8),
@@ -271,7 +272,7 @@ func units() []unitDef {
 			spaceSetC: 21.1, supMinC: 12.8, supMaxC: 20,
 			qOcc: 12, qUnocc: 7, ua: 0.6, qSolar: 3, gOcc: 0.0004, infil: 0.05,
 			capKJK: 30000, moistKg: 9000,
-			reheatCapKW: 26, rhLv: 0.93, eer95: 10.2, eerPerK: -0.19, coolCapKW: 80,
+			reheatCapKW: 26, bypass: 0.107, eer95: 10.2, eerPerK: -0.19, coolCapKW: 80,
 			cfg: cfgFacts{basis: "standard", fan: "draw_through", heatRise: "0.9F",
 				target: [2]string{"max_space_rh", "55%"}},
 			points: []pointDef{

@@ -36,6 +36,15 @@
 //     AHRI rating point (80/67 °F, cooled to 55 °F) at about 95 % RH, the
 //     configuration's default; AHU-4's coil (BF 0.10) leaves it at about
 //     93 %, which its configuration states as a commissioning check would;
+//   - AHU-3's supply fan blows through the coil: it sits after the
+//     mixed-air sensor, so its heat (0.8 kW per m3/s, logged every 5
+//     minutes) reaches the coil, which removes it;
+//   - the DX units (AHU-1, AHU-3, AHU-4) cycle at part load: their input
+//     carries the part-load factor PLF = 1 - Cd (1 - PLR) of AHRI Standard
+//     210/240 with the standard's default Cd = 0.25 (memory) and PLR = coil
+//     load / rated capacity (150, 190 and 125 kW, on the nameplates the
+//     configuration states); the compressor meters of AHU-1 and AHU-4 read
+//     it, AHU-3's input is modelled from its nameplate;
 //   - AHU-4: the coil set point follows the humidity target through a slow
 //     reset that lags after the dry spell, so the coil runs warmer than the
 //     target needs for hours (too little dehumidification), and colder than
@@ -44,10 +53,13 @@
 // Truth definitions, per minute, summed over each UTC hour:
 //   m = 1.204 kg/s of dry air per m3/s of standard air (the standard-air
 //   basis the configuration declares); water = m (W_in - W_out); coil net =
-//   m (h_in - h_out) - water x 4.186 t_out (kJ/kg, condensate enthalpy);
+//   m (h_in - h_out) - water x 4.186 t_out (kJ/kg, condensate enthalpy),
+//   h_in at the coil's entering air (a blow-through fan's heat,
+//   t_mix + fan kW / (m cp), included);
 //   reheat = m (h(t_lv + rise, W_out) - h(t_lv, W_out)); cooling input =
 //   coil net / COP (DX: linear in outdoor temperature, as on the nameplate
-//   the configuration states; chilled water: plant kW per kW of coil);
+//   the configuration states, divided by PLF; chilled water: plant kW per
+//   kW of coil);
 //   effective EER (electric only) = 3.412 (coil net - reheat) / (cooling
 //   input + electric reheat input); reheat needed for the supply dew-point
 //   target = min(reheat, m cp (t_sup - fan - T_c)), T_c = min(t_in, t_sup -
@@ -122,13 +134,13 @@ function coilTReq(tIn, wIn, wTarget, bf) {
 
 const units = [
   { id: 'AHU-1', bf: 0.08, flowDay: 4.2, flowNight: 2.6, oaMin: 0.3, oaOcc: 0.3, targetTd: 12, fan: 0.6, reheat: 'electric',
-    cool: 'dx', eer: 11.2, eerPerK: -0.12, swing: 3.0, supSet: 17.5, gainOcc: 0.0011, gainUnocc: 0.0004 },
+    cool: 'dx', eer: 11.2, eerPerK: -0.12, capKW: 150, swing: 3.0, supSet: 17.5, gainOcc: 0.0011, gainUnocc: 0.0004 },
   { id: 'AHU-2', bf: 0.12, flowDay: 3.4, flowNight: 2.2, oaMin: 0.25, oaOcc: 0.35, targetTd: 11, fan: 0, reheat: 'hot_water', boiler: 0.82,
     cool: 'chw', kwPerTon: 0.9, swing: 0, supSet: 16.5, gainOcc: 0.0010, gainUnocc: 0.0003 },
   { id: 'AHU-3', bf: 0.07, flowDay: 5.0, flowNight: 3.0, oaMin: 0.3, oaOcc: 0.42, economizer: true, targetTd: 12, fan: 0, reheat: 'electric',
-    cool: 'dx', eer: 10.5, eerPerK: -0.1, swing: 0, supSet: 17, gainOcc: 0.0012, gainUnocc: 0.0004 },
+    cool: 'dx', eer: 10.5, eerPerK: -0.1, capKW: 190, fanKWPerM3s: 0.8, swing: 0, supSet: 17, gainOcc: 0.0012, gainUnocc: 0.0004 },
   { id: 'AHU-4', bf: 0.10, flowDay: 3.8, flowNight: 2.4, oaMin: 0.25, oaOcc: 0.3, targetTd: 12.5, fan: 0.6, reheat: 'electric',
-    cool: 'dx', eer: 11, eerPerK: -0.1, swing: 0, supSet: 17.5, gainOcc: 0.0011, gainUnocc: 0.0004 },
+    cool: 'dx', eer: 11, eerPerK: -0.1, capKW: 125, swing: 0, supSet: 17.5, gainOcc: 0.0011, gainUnocc: 0.0004 },
 ];
 const STUCK_FROM = Date.UTC(2026, 10, 2, 16), STUCK_TO = Date.UTC(2026, 10, 2, 23); // AHU-1 entering RH, 10:00-17:00 CST
 
@@ -190,6 +202,7 @@ const plans = {
     supply_temp: { name: 'AHU-3 Supply Air Temp', every: 1, noise: 0.06, quant: 0.1, unit: '°C' },
     supply_flow: { name: 'AHU-3 Supply Flow', every: 5, noise: 10, quant: 1, unit: 'L/s' },
     reheat_kw: { name: 'AHU-3 Reheat kW', every: 1, noise: 0, quant: 0.01, unit: 'kW' },
+    fan_kw: { name: 'AHU-3 Supply Fan kW', every: 5, noise: 0.02, quant: 0.01, unit: 'kW' },
   },
   'AHU-4': {
     entering_temp: { name: 'AHU-4 MAT', every: 5, noise: 0.06, quant: 0.1, unit: '°C' },
@@ -234,9 +247,12 @@ for (const u of units) {
     const tIn = psy.GetTDryBulbFromEnthalpyAndHumRatio(hMix * 1000, wIn);
     const q = (occ ? u.flowDay : u.flowNight) * (1 + 0.02 * Math.sin(m / 37)); // m3/s standard air
     const mDa = RHO_STD * q;
+    // a blow-through fan's heat reaches the coil: the coil's entering air
+    const fanKW = (u.fanKWPerM3s || 0) * q;
+    const tCoilIn = tIn + fanKW / (mDa * cpm(wIn));
 
     // coil leaving set point by unit
-    const tReq = coilTReq(tIn, wIn, wTarget, u.bf);
+    const tReq = coilTReq(tCoilIn, wIn, wTarget, u.bf);
     const dry = ms > DRY_FROM + 3 * 3600e3 && ms < DRY_TO + 3 * 3600e3;
     let goal;
     switch (u.id) {
@@ -251,23 +267,25 @@ for (const u of units) {
         goal = set;
       }
     }
-    const coilOn = goal < tIn - 0.8;
-    const tLvGoal = coilOn ? goal : tIn;
+    const coilOn = goal < tCoilIn - 0.8;
+    const tLvGoal = coilOn ? goal : tCoilIn;
     tLv += (tLvGoal - tLv) * (1 - Math.exp(-1 / 4)); // four-minute lag
-    tLv = Math.min(tLv, tIn);
-    const wOut = coilW(tIn, wIn, tLv, u.bf);
-    const on = tIn - tLv > 0.5;
+    tLv = Math.min(tLv, tCoilIn);
+    const wOut = coilW(tCoilIn, wIn, tLv, u.bf);
+    const on = tCoilIn - tLv > 0.5;
     // reheat to the supply set point (its own 0.8 K deadband), then the fan
     let rise = u.supSet - u.fan - tLv;
     if (rise < 0.8) rise = 0;
     const tSup = tLv + rise + u.fan;
     const reheat = mDa * (hk(tLv + rise, wOut) - hk(tLv, wOut)); // kW
     const water = mDa * (wIn - wOut); // kg/s
-    const coil = on ? mDa * (hk(tIn, wIn) - hk(tLv, wOut)) - water * 4.186 * tLv : 0;
+    const coil = on ? mDa * (hk(tCoilIn, wIn) - hk(tLv, wOut)) - water * 4.186 * tLv : 0;
     let coolIn = 0;
     if (u.cool === 'dx') {
       const cop = Math.max(0.4, Math.min(1.6, 1 + (u.eerPerK * (oa.t - 35)) / u.eer)) * u.eer / 3.412142;
-      coolIn = Math.max(0, coil) / cop;
+      // AHRI 210/240 part-load factor, Cd = 0.25 (the standard's default, memory)
+      const plf = 1 - 0.25 * (1 - Math.min(1, Math.max(0, coil) / u.capKW));
+      coolIn = Math.max(0, coil) / (cop * plf);
     } else {
       coolIn = Math.max(0, coil) * u.kwPerTon / 3.51685;
     }
@@ -276,8 +294,8 @@ for (const u of units) {
     let needed = 0;
     if (rise > 0) {
       const tSupEff = tSup - u.fan;
-      const tc = Math.min(tIn, tSupEff, tReq);
-      const wc = coilW(tIn, wIn, tc, u.bf);
+      const tc = Math.min(tCoilIn, tSupEff, tReq);
+      const wc = coilW(tCoilIn, wIn, tc, u.bf);
       needed = Math.min(reheat, Math.max(0, mDa * (hk(tSupEff, wc) - hk(tc, wc))));
     }
     const shortfall = wOut > wTarget && wIn > wTarget ? mDa * (wOut - wTarget) : 0;
@@ -295,7 +313,7 @@ for (const u of units) {
     const rh = (t, w) => 100 * psy.GetRelHumFromHumRatio(t, w, P);
     const truthOf = {
       entering_temp: tIn, entering_rh: rh(tIn, wIn), leaving_temp: tLv, leaving_rh: rh(tLv, wOut), supply_temp: tSup,
-      supply_flow: q * 1000, reheat_kw: reheatElec, cooling_kw: u.cool === 'dx' ? coolIn : 0, outdoor_temp: oa.t,
+      supply_flow: q * 1000, reheat_kw: reheatElec, fan_kw: fanKW, cooling_kw: u.cool === 'dx' ? coolIn : 0, outdoor_temp: oa.t,
       outdoor_rh: rh(oa.t, oa.w), return_temp: tRa, return_rh: rh(tRa, wRa), outdoor_flow: x * q * 1000,
     };
     for (const role of Object.keys(plan)) {
@@ -338,7 +356,7 @@ grid:
 prices: {currency: USD, electricity_per_kwh: 0.12, fuel_per_kwh: 0.04}
 air_handlers:
   - id: AHU-1
-    cooling: {kind: dx, rated_eer: 11.2, rated_outdoor: 35C, eer_per_kelvin: -0.12}
+    cooling: {kind: dx, rated_eer: 11.2, rated_outdoor: 35C, eer_per_kelvin: -0.12, rated_capacity: 150kW}
     reheat: {kind: electric}
     airflow: {basis: standard}
     fan: {position: draw_through, heat_rise: 0.6K}
@@ -354,16 +372,16 @@ ${pointsYaml('AHU-1')}
     points:
 ${pointsYaml('AHU-2')}
   - id: AHU-3
-    cooling: {kind: dx, rated_eer: 10.5, rated_outdoor: 35C, eer_per_kelvin: -0.1}
+    cooling: {kind: dx, rated_eer: 10.5, rated_outdoor: 35C, eer_per_kelvin: -0.1, rated_capacity: 190kW}
     reheat: {kind: electric}
     airflow: {basis: standard}
-    fan: {position: none}
+    fan: {position: blow_through, entering_sensor: before_fan}
     outdoor_air: {min_fraction: 30%}
     target: {max_supply_dewpoint: 12C}
     points:
 ${pointsYaml('AHU-3')}
   - id: AHU-4
-    cooling: {kind: dx, rated_eer: 11, rated_outdoor: 35C, eer_per_kelvin: -0.1}
+    cooling: {kind: dx, rated_eer: 11, rated_outdoor: 35C, eer_per_kelvin: -0.1, rated_capacity: 125kW}
     reheat: {kind: electric}
     airflow: {basis: standard}
     fan: {position: draw_through, heat_rise: 0.6K}
