@@ -483,7 +483,9 @@ func bulkFlux(ctx context.Context, url, db string, ahus []string, from, to time.
 	req.Header.Set("Content-Type", "application/json")
 	req.Header.Set("Accept", "application/csv")
 	return countCSV(req, func(rec []string) int {
-		if len(rec) < 3 || rec[1] == "result" {
+		// Annotation rows start with "#", header rows have "result" where
+		// data rows have the result's name (empty: its #default).
+		if len(rec) < 3 || rec[0] != "" || rec[1] == "result" {
 			return 0
 		}
 		return 1
