@@ -216,6 +216,27 @@ func (t *timedReader) ReadSeries(ctx context.Context, ref metrics.PointRef, kind
 	return err
 }
 
+// ReadBatch times a batch read (the InfluxDB backend reads one).
+func (t *timedReader) ReadBatch(ctx context.Context, points []ingest.PointRead, from, to time.Time, fn func(int, ingest.Sample) error) error {
+	br, ok := t.r.(ingest.BatchReader)
+	if !ok {
+		return fmt.Errorf("%T reads no batches", t.r)
+	}
+	start := time.Now()
+	var push time.Duration
+	err := br.ReadBatch(ctx, points, from, to, func(i int, s ingest.Sample) error {
+		c := time.Now()
+		err := fn(i, s)
+		push += time.Since(c)
+		t.samples++
+		return err
+	})
+	t.query += time.Since(start) - push
+	t.push += push
+	t.reqs++
+	return err
+}
+
 // timedSource times an agent.HourSource and, apart, the runner's callback.
 type timedSource struct {
 	src            agent.HourSource
@@ -254,6 +275,20 @@ func (s *timedStore) AlertStates(ctx context.Context, ahu string) (map[string]me
 	start := time.Now()
 	defer func() { s.read += time.Since(start) }()
 	return s.ResultStore.AlertStates(ctx, ahu)
+}
+
+func (s *timedStore) LoadStates(ctx context.Context, ahus []string) (map[string]store.AHUState, error) {
+	start := time.Now()
+	defer func() { s.read += time.Since(start) }()
+	return s.ResultStore.(store.StateLoader).LoadStates(ctx, ahus)
+}
+
+func (s *timedStore) CommitBatch(ctx context.Context, items []store.CommitItem) error {
+	start := time.Now()
+	err := s.ResultStore.(store.BatchCommitter).CommitBatch(ctx, items)
+	s.write += time.Since(start)
+	s.commits++
+	return err
 }
 
 func (s *timedStore) Commit(ctx context.Context, ahu string, recs []metrics.Record, up store.AlertUpdate, through time.Time) error {
@@ -389,7 +424,7 @@ func (ba *benchAgent) run(b *testing.B, site string, ahus []string, wantHrs int)
 	ctx := context.Background()
 	ba.seq++
 	statePath := filepath.Join(ba.dir, fmt.Sprintf("state-%d.db", ba.seq))
-	tr := &timedReader{r: ba.st}
+	tr := &timedReader{r: ba.st.Store}
 	src := &timedSource{src: &ingest.StoreHours{Reader: tr, Units: ba.units, Step: ba.cfg.Grid.Step, IsMissing: ba.st.IsMissing}}
 	payload := func(t metrics.Transition) (json.RawMessage, error) {
 		return webhook.AlertPayload(t, ba.cfg.Prices.Currency)
