@@ -11,6 +11,7 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/ingest"
+	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/psychro"
 )
@@ -117,4 +118,66 @@ func TestInflux_ReadBatch(t *testing.T) {
 		require.ErrorIs(t, err, ErrAmbiguousPoint)
 		assert.Contains(t, err.Error(), "AHU-N")
 	})
+}
+
+// recQueue records which air handlers' updates reach the local queue.
+type recQueue struct{ ahus []string }
+
+func (q *recQueue) Queue(_ context.Context, ahu string, _ store.AlertUpdate) error {
+	q.ahus = append(q.ahus, ahu)
+	return nil
+}
+func (q *recQueue) PendingEvents(context.Context, int) ([]store.Event, error) { return nil, nil }
+func (q *recQueue) MarkDelivered(context.Context, int64, time.Time) error     { return nil }
+func (q *recQueue) Close() error                                              { return nil }
+
+// TestInflux_CommitBatchLoadStates commits several air handlers in one
+// batch, names with regular-expression characters among them, and reads
+// their checkpoints and alert states back in one query: the same as the
+// one-by-one reads (Checkpoint, AlertStates) return, for the air handlers
+// asked for only. Only an update with an alert reaches the local queue.
+func TestInflux_CommitBatchLoadStates(t *testing.T) {
+	c := realClient(t, Options{})
+	ctx := context.Background()
+	q := &recQueue{}
+	rs := &agentStore{c: c, site: unique("site"), queue: q}
+	ahus := []string{"AHU-1", `AHU "2"/b`, "AHU.3", "AHU-3"}
+	kind := metrics.Rules()[0].Kind
+	open := metrics.Alert{ID: "AHU-1/" + kind + "/x", AHU: "AHU-1", Kind: kind, Severity: metrics.Rules()[0].Severity,
+		Status: metrics.StatusOpen, Start: t0, Opened: t0.Add(2 * time.Hour), LastSeen: t0.Add(2 * time.Hour), Hits: 3, EnergyKWh: 1.5}
+	var items []store.CommitItem
+	for i, id := range ahus[:3] {
+		through := t0.Add(time.Duration(i) * time.Hour)
+		it := store.CommitItem{AHU: id, Through: through, Records: []metrics.Record{{AHU: id, HourStart: through}}}
+		if i == 0 {
+			it.Alerts.States = map[string]metrics.Alert{kind: open}
+		}
+		items = append(items, it)
+	}
+	require.NoError(t, rs.CommitBatch(ctx, items))
+	assert.Equal(t, []string{"AHU-1"}, q.ahus)
+
+	got, err := rs.LoadStates(ctx, ahus)
+	require.NoError(t, err)
+	assert.Len(t, got, 3, "AHU-3 was never committed")
+	for i, id := range ahus {
+		cp, has, err := rs.Checkpoint(ctx, id)
+		require.NoError(t, err)
+		states, err := rs.AlertStates(ctx, id)
+		require.NoError(t, err)
+		assert.Equal(t, i < 3, has, id)
+		assert.Equal(t, has, got[id].HasCheckpoint, id)
+		assert.True(t, cp.Equal(got[id].Checkpoint), "%s: %s and %s", id, cp, got[id].Checkpoint)
+		assert.Equal(t, len(states), len(got[id].Alerts), id)
+		for k, a := range states {
+			assert.Equal(t, a.ID, got[id].Alerts[k].ID, id)
+			assert.Equal(t, a.Status, got[id].Alerts[k].Status, id)
+		}
+	}
+	assert.Equal(t, metrics.StatusOpen, got["AHU-1"].Alerts[kind].Status)
+
+	one, err := rs.LoadStates(ctx, []string{"AHU.3"})
+	require.NoError(t, err)
+	assert.Len(t, one, 1, "a shard reads its own air handlers only")
+	assert.True(t, one["AHU.3"].Checkpoint.Equal(t0.Add(2*time.Hour)))
 }

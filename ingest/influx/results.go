@@ -95,9 +95,12 @@ func (rs *agentStore) AlertStates(ctx context.Context, ahu string) (map[string]m
 	return store.DecodeStates(ahu, raw)
 }
 
-// LoadStates reads the checkpoints and alert rule states of the site in
-// one query and returns those of ahus.
+// LoadStates reads the checkpoints and alert rule states of ahus in one
+// query.
 func (rs *agentStore) LoadStates(ctx context.Context, ahus []string) (map[string]store.AHUState, error) {
+	if len(ahus) == 0 {
+		return map[string]store.AHUState{}, nil
+	}
 	want := make(map[string]bool, len(ahus))
 	for _, a := range ahus {
 		want[a] = true
@@ -107,8 +110,10 @@ func (rs *agentStore) LoadStates(ctx context.Context, ahus []string) (map[string
 	var b strings.Builder
 	fmt.Fprintf(&b, "from(bucket: %s)\n  |> range(start: %s, stop: %s)\n", fluxString(rs.c.opt.Bucket),
 		fluxTime(StateTime), fluxTime(StateTime.Add(time.Second)))
-	fmt.Fprintf(&b, "  |> filter(fn: (r) => (r._measurement == %s and r._field == \"hour\" or r._measurement == %s and r._field == \"state\") and %s == %s)\n",
-		fluxString(MeasurementCheckpoint), fluxString(MeasurementAlertState), fluxColumn("site"), fluxString(rs.siteTag()))
+	// The air handlers as a set of tag values (one regular expression, as
+	// ReadBatch selects them): a shard reads its own states only.
+	fmt.Fprintf(&b, "  |> filter(fn: (r) => (r._measurement == %s and r._field == \"hour\" or r._measurement == %s and r._field == \"state\") and %s == %s and %s)\n",
+		fluxString(MeasurementCheckpoint), fluxString(MeasurementAlertState), fluxColumn("site"), fluxString(rs.siteTag()), fluxOneOf("ahu", slices.Compact(slices.Sorted(maps.Keys(want)))))
 	b.WriteString("  |> last()\n")
 	err := rs.c.run(ctx, b.String(), func() { clear(out); clear(raw) }, func(f *fluxCSV) (bool, error) {
 		ahu := f.get("ahu")
