@@ -31,6 +31,12 @@ func (c *Client) ReadBatch(ctx context.Context, points []Query, from, to time.Ti
 	if plan == nil {
 		return nil
 	}
+	if c.useInfluxQL(ctx) {
+		if err := c.readBatchInfluxQL(ctx, plan, from, to, fn); err != nil {
+			return fmt.Errorf("read %d points: %w", len(points), err)
+		}
+		return nil
+	}
 	var (
 		last     = make([]time.Time, len(points))
 		series   = make([]string, len(points))
@@ -96,10 +102,11 @@ type batchPlan struct {
 
 // batchGroup is the points of one measurement with the same tag keys.
 type batchGroup struct {
-	keys   []string
-	fields []string
-	values [][]string       // per key, the distinct values asked for
-	route  map[string][]int // field, then each key's value, NUL-separated -> points
+	measurement string
+	keys        []string
+	fields      []string
+	values      [][]string       // per key, the distinct values asked for
+	route       map[string][]int // field, then each key's value, NUL-separated -> points
 }
 
 func planBatch(bucket string, points []Query, from, to time.Time) (*batchPlan, error) {

@@ -56,7 +56,7 @@ func TestFluxRegexOneOf(t *testing.T) {
 // tagged with hostile and regular-expression names plus decoys, and reads
 // every asked-for point in one ReadBatch: each gets exactly its own
 // samples (so no name was read as syntax), a decoy none, the same as
-// ReadPoints returns point by point. A second tag that varies selects
+// ReadPoints returns point by point; in Flux and in InfluxQL. A second tag that varies selects
 // combinations nobody asked for; those series are skipped.
 func TestInflux_ReadBatch(t *testing.T) {
 	c := realClient(t, Options{})
@@ -96,28 +96,38 @@ func TestInflux_ReadBatch(t *testing.T) {
 	add(map[string]string{"ahu": "AHU-N", "site": "north"}, "sat", 1000)
 	add(map[string]string{"ahu": "AHU-S", "site": "south"}, "rat", 2000.5)
 
-	got := make([][]float64, len(qs))
-	require.NoError(t, c.ReadBatch(ctx, qs, t0, t0.Add(time.Hour), func(i int, s ingest.Sample) error {
-		got[i] = append(got[i], s.Value)
-		return nil
-	}))
-	for i, q := range qs {
-		assert.Equal(t, want[i], got[i], "point %s", q.Ref.Name())
-		one := make([][]float64, 1)
-		require.NoError(t, c.ReadPoints(ctx, qs[i:i+1], t0, t0.Add(time.Hour), 0, func(_ int, s ingest.Sample) error {
-			one[0] = append(one[0], s.Value)
-			return nil
-		}))
-		assert.Equal(t, one[0], got[i], "ReadBatch and ReadPoints agree on %s", q.Ref.Name())
-	}
+	assert.True(t, c.useInfluxQL(ctx), "a 1.x server is read with InfluxQL")
+	for _, lang := range []struct {
+		name string
+		ql   int
+	}{{"Flux", batchFlux}, {"InfluxQL", batchInfluxQL}} {
+		t.Run(lang.name, func(t *testing.T) {
+			c.batchQL = lang.ql
+			defer func() { c.batchQL = batchAuto }()
+			got := make([][]float64, len(qs))
+			require.NoError(t, c.ReadBatch(ctx, qs, t0, t0.Add(time.Hour), func(i int, s ingest.Sample) error {
+				got[i] = append(got[i], s.Value)
+				return nil
+			}))
+			for i, q := range qs {
+				assert.Equal(t, want[i], got[i], "point %s", q.Ref.Name())
+				one := make([][]float64, 1)
+				require.NoError(t, c.ReadPoints(ctx, qs[i:i+1], t0, t0.Add(time.Hour), 0, func(_ int, s ingest.Sample) error {
+					one[0] = append(one[0], s.Value)
+					return nil
+				}))
+				assert.Equal(t, one[0], got[i], "ReadBatch and ReadPoints agree on %s", q.Ref.Name())
+			}
 
-	t.Run("a point that matches two series fails", func(t *testing.T) {
-		// AHU-N without its site matches the north and the south series.
-		amb := []Query{qs[0], {Ref: metrics.PointRef{Measurement: meas, Field: "sat", Tags: map[string]string{"ahu": "AHU-N"}, Unit: "°C"}, Kind: psychro.KindTemperature}}
-		err := c.ReadBatch(ctx, amb, t0, t0.Add(time.Hour), func(int, ingest.Sample) error { return nil })
-		require.ErrorIs(t, err, ErrAmbiguousPoint)
-		assert.Contains(t, err.Error(), "AHU-N")
-	})
+			t.Run("a point that matches two series fails", func(t *testing.T) {
+				// AHU-N without its site matches the north and the south series.
+				amb := []Query{qs[0], {Ref: metrics.PointRef{Measurement: meas, Field: "sat", Tags: map[string]string{"ahu": "AHU-N"}, Unit: "°C"}, Kind: psychro.KindTemperature}}
+				err := c.ReadBatch(ctx, amb, t0, t0.Add(time.Hour), func(int, ingest.Sample) error { return nil })
+				require.ErrorIs(t, err, ErrAmbiguousPoint)
+				assert.Contains(t, err.Error(), "AHU-N")
+			})
+		})
+	}
 }
 
 // recQueue records which air handlers' updates reach the local queue.
@@ -180,4 +190,51 @@ func TestInflux_CommitBatchLoadStates(t *testing.T) {
 	require.NoError(t, err)
 	assert.Len(t, one, 1, "a shard reads its own air handlers only")
 	assert.True(t, one["AHU.3"].Checkpoint.Equal(t0.Add(2*time.Hour)))
+}
+
+// TestInflux_ReadBatchInfluxQLErrors: a statement's error in InfluxQL's
+// answer (here a database that does not exist, which 1.8 reports inside
+// the result rather than as the response's status) fails the read instead
+// of reading as no data.
+func TestInflux_ReadBatchInfluxQLErrors(t *testing.T) {
+	c := realClient(t, Options{Bucket: unique("nosuchdb") + "/autogen"})
+	c.batchQL = batchInfluxQL
+	q := Query{Ref: metrics.PointRef{Measurement: "m", Field: "f", Tags: map[string]string{"ahu": "A"}, Unit: "°C"}, Kind: psychro.KindTemperature}
+	err := c.ReadBatch(context.Background(), []Query{q, q}, t0, t0.Add(time.Hour), func(int, ingest.Sample) error { return nil })
+	require.Error(t, err)
+	assert.Contains(t, err.Error(), "database not found")
+}
+
+// TestQLRow reads rows of InfluxQL's JSON answer: numbers, integers and
+// booleans as numbers, null as no value, a string as a value that is not a
+// number.
+func TestQLRow(t *testing.T) {
+	tests := []struct {
+		in   string
+		t    int64
+		v    []float64
+		set  []bool
+		kind []string
+		err  bool
+	}{
+		{in: `[1720000000000000000,1.5,-2e3,7]`, t: 1720000000000000000, v: []float64{1.5, -2000, 7}, set: []bool{true, true, true}, kind: []string{"", "", ""}},
+		{in: `[ 5 , null , true,false ]`, t: 5, v: []float64{0, 1, 0}, set: []bool{false, true, true}, kind: []string{"", "", ""}},
+		{in: `[5,"a, \"b\"",2]`, t: 5, v: []float64{0, 2}, set: []bool{true, true}, kind: []string{"string", ""}},
+		{in: `[]`, err: true},
+		{in: `["x",1]`, err: true},
+		{in: `[5,1.2.3]`, err: true},
+	}
+	for _, tc := range tests {
+		var r qlRow
+		err := r.UnmarshalJSON([]byte(tc.in))
+		if tc.err {
+			assert.Error(t, err, tc.in)
+			continue
+		}
+		require.NoError(t, err, tc.in)
+		assert.Equal(t, tc.t, r.t, tc.in)
+		assert.Equal(t, tc.v, r.v, tc.in)
+		assert.Equal(t, tc.set, r.set, tc.in)
+		assert.Equal(t, tc.kind, r.kind, tc.in)
+	}
 }
