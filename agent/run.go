@@ -344,7 +344,7 @@ func (r *Runner) plan(ctx context.Context, ahus []string, slot time.Time) []*ahu
 
 // DefaultReadBatch is Runner.ReadBatch's default: air-handler hours per
 // read of the source.
-const DefaultReadBatch = 4000
+const DefaultReadBatch = 300
 
 // groups gathers the air handlers with work to do that start at the same
 // hour, in their order, into groups of at most ReadBatch air-handler hours
