@@ -602,7 +602,7 @@ func reportRef(b *testing.B, run benchIter, influxQL, flux time.Duration) {
 // limit before them, which the run reads too). Then the same run split
 // over 3 replicas (--shard i/3), one after the other: shard_max_% is the
 // slowest replica's time over the single replica's, from the same
-// iteration.
+// iteration, and shard_sum_% all three replicas' together.
 func BenchmarkAgentHourly(b *testing.B) {
 	url, db := benchEnv(b)
 	cfg := agentBenchConfig(b, url, db, benchPortfol)
@@ -617,6 +617,7 @@ func BenchmarkAgentHourly(b *testing.B) {
 	var run, shardMax benchIter
 	var influxQL, flux time.Duration
 	var shardWorst float64
+	var shardSum time.Duration
 	for b.Loop() {
 		q, f := bulkRef(b, url, db, nil, from, end, benchPortfol*len(benchRoles)*int(end.Sub(from)/time.Minute))
 		influxQL += q
@@ -631,6 +632,10 @@ func BenchmarkAgentHourly(b *testing.B) {
 			owned := agent.Shard{Index: i, Count: benchShards}.Owned(cfg)
 			it := ba.run(b, site, owned, len(owned)*3)
 			total += len(owned)
+			shardSum += it.took
+			b.Logf("replica %d/%d: %d air handlers in %.2fs (query %.2fs, state %.2fs, write %.2fs), %.0f %% of one replica's %.2fs",
+				i, benchShards, len(owned), it.took.Seconds(), it.query.Seconds(), it.state.Seconds(), it.write.Seconds(),
+				100*it.took.Seconds()/one.Seconds(), one.Seconds())
 			if it.took > worst.took {
 				worst = it
 			}
@@ -646,6 +651,9 @@ func BenchmarkAgentHourly(b *testing.B) {
 	n := float64(run.runs)
 	b.ReportMetric(shardMax.took.Seconds()/n, "shard_max_s/op")
 	b.ReportMetric(100*shardMax.took.Seconds()/run.took.Seconds(), "shard_max_%")
+	// All replicas' time over one replica's: 100 % when sharding costs
+	// nothing beyond the work itself.
+	b.ReportMetric(100*shardSum.Seconds()/run.took.Seconds(), "shard_sum_%")
 	b.Logf("slowest of %d replicas: %.2fs per run, %.0f %% of one replica's run (worst iteration %.0f %%)",
 		benchShards, shardMax.took.Seconds()/n, 100*shardMax.took.Seconds()/run.took.Seconds(), shardWorst)
 }
