@@ -157,9 +157,10 @@ func (r *Runner) ahus() []string {
 // checkpoints and alert states are read at once (store.StateLoader), each
 // chunk of their hours is one call of the source for all of them (up to
 // ReadBatch air-handler hours), and its results are one commit
-// (store.BatchCommitter). Should a group's read or commit fail for a
-// reason of its own rather than a store outage, its air handlers are run
-// one by one again, so that only the one at fault fails.
+// (store.BatchCommitter). Should a group's read fail, its air handlers are
+// run one by one again (until two in a row find the store down), so that
+// only the one at fault fails; a commit that fails for a reason of its own
+// rather than an outage is written again air handler by air handler.
 func (r *Runner) RunOnce(ctx context.Context) (*RunReport, error) {
 	start := time.Now()
 	clock := r.Clock
@@ -418,14 +419,30 @@ type chunkResult struct {
 }
 
 // runChunk computes and commits the hours [cs, ce) of the air handlers g.
-// A failure of the group that is not an outage (or a panic) runs its air
-// handlers again one by one, so that it is charged to the one at fault.
+// A failed read (or a panic) of a group runs its air handlers again one by
+// one, so that it is charged to the one at fault.
 func (r *Runner) runChunk(ctx context.Context, g []*ahuRun, cs, ce time.Time) {
 	res, own, err := r.compute(ctx, g, cs, ce)
 	if err != nil {
-		if len(g) > 1 && (own || !r.isOutage(err)) && ctx.Err() == nil {
-			for _, a := range g {
+		if len(g) > 1 && ctx.Err() == nil {
+			// One by one, so that only the air handler at fault fails (a
+			// store whose every error counts as an outage, such as the
+			// embedded file, too); two outages in a row mean the store is
+			// down, and the rest fail without asking it again.
+			down := 0
+			for k, a := range g {
+				if down >= 2 {
+					for _, b := range g[k:] {
+						b.fail(err)
+					}
+					break
+				}
 				r.runChunk(ctx, []*ahuRun{a}, cs, ce)
+				if a.rep.Err != nil && r.isOutage(a.rep.Err) {
+					down, err = down+1, a.rep.Err
+				} else {
+					down = 0
+				}
 			}
 			return
 		}
