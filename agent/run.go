@@ -86,8 +86,6 @@ type Runner struct {
 	// Scheduler is the clock Serve's ticks and shutdown grace run on;
 	// nil is the wall clock.
 	Scheduler SchedulerClock
-
-	pending func() // takes the outcome of the commit in flight (RunOnce)
 }
 
 // storeError records err against the store's health when it is an outage.
@@ -183,12 +181,6 @@ func (r *Runner) RunOnce(ctx context.Context) (*RunReport, error) {
 			continue
 		}
 		r.runGroup(ctx, g, slot)
-	}
-	r.flush()
-	for _, a := range runs {
-		if a.rep.Err == nil && a.total > 0 {
-			r.obs().SetLag(a.id, slot.Sub(a.rep.Checkpoint).Hours())
-		}
 	}
 	open, notQueued := 0, 0
 	for _, a := range runs {
@@ -412,6 +404,11 @@ func (r *Runner) runGroup(ctx context.Context, g []*ahuRun, slot time.Time) {
 			}
 		}
 	}
+	for _, a := range g {
+		if a.rep.Err == nil {
+			r.obs().SetLag(a.id, slot.Sub(a.cp).Hours())
+		}
+	}
 }
 
 // chunkResult is what one chunk computed for one air handler.
@@ -480,81 +477,37 @@ func (r *Runner) runChunk(ctx context.Context, g []*ahuRun, cs, ce time.Time) {
 		ok = append(ok, a)
 		oks = append(oks, c)
 	}
-	// The previous chunk's commit first: it may have failed some of these
-	// air handlers, whose hours are then dropped, and commits stay in order.
-	r.flush()
-	n := 0
-	for i, a := range ok {
-		if a.rep.Err == nil {
-			items[n], ok[n], oks[n] = items[i], a, oks[i]
-			n++
-		}
-	}
-	items, ok, oks = items[:n], ok[:n], oks[:n]
 	if len(items) == 0 {
 		return
 	}
-	// From here the chunk's state is the air handlers': the next chunk,
-	// read and computed while this one is written, continues from it.
+	errs := r.commit(ctx, items, cs, ce)
+	delivered := false
 	for i, a := range ok {
-		a.cp, a.has, a.states = items[i].Through, true, oks[i].states
-	}
-	apply := func(errs []error) {
-		delivered := false
-		for i, a := range ok {
-			if errs[i] != nil {
-				a.fail(errs[i])
-				continue
-			}
-			c, it := oks[i], items[i]
-			a.rep.Checkpoint = it.Through
-			a.rep.Hours += len(c.recs)
-			r.obs().HoursComputed(a.id, len(c.recs))
-			for _, t := range c.trs {
-				if !it.Alerts.QueueFrom.IsZero() && t.At.Before(it.Alerts.QueueFrom) {
-					a.rep.NotQueued++
-				}
-				switch t.To {
-				case metrics.StatusOpen:
-					a.rep.Opened++
-				case metrics.StatusClosed:
-					a.rep.Closed++
-				}
-				r.Log.Info().Str("ahu", a.id).Str("alert", t.Alert.Kind).Str("status", string(t.To)).Str("reason", t.Alert.Reason).Msg("alert")
-			}
-			delivered = delivered || len(c.trs) > 0
+		if errs[i] != nil {
+			a.fail(errs[i])
+			continue
 		}
-		if delivered && r.Delivered != nil {
-			r.Delivered()
-		}
-	}
-	if _, batch := r.Store.(store.BatchCommitter); !batch {
-		apply(r.commit(ctx, items, cs, ce))
-		return
-	}
-	// A store that takes batches is written while the next chunk is read
-	// (a remote server: its write and the next read overlap).
-	done := make(chan []error, 1)
-	go func() {
-		defer func() {
-			if p := recover(); p != nil {
-				errs := make([]error, len(items))
-				for i := range errs {
-					errs[i] = fmt.Errorf("panic: %v\n%s", p, debug.Stack())
-				}
-				done <- errs
+		c, it := oks[i], items[i]
+		a.cp, a.has, a.states = it.Through, true, c.states
+		a.rep.Checkpoint = a.cp
+		a.rep.Hours += len(c.recs)
+		r.obs().HoursComputed(a.id, len(c.recs))
+		for _, t := range c.trs {
+			if !it.Alerts.QueueFrom.IsZero() && t.At.Before(it.Alerts.QueueFrom) {
+				a.rep.NotQueued++
 			}
-		}()
-		done <- r.commit(ctx, items, cs, ce)
-	}()
-	r.pending = func() { apply(<-done) }
-}
-
-// flush waits for the commit in flight, if any, and takes its outcome.
-func (r *Runner) flush() {
-	if p := r.pending; p != nil {
-		r.pending = nil
-		p()
+			switch t.To {
+			case metrics.StatusOpen:
+				a.rep.Opened++
+			case metrics.StatusClosed:
+				a.rep.Closed++
+			}
+			r.Log.Info().Str("ahu", a.id).Str("alert", t.Alert.Kind).Str("status", string(t.To)).Str("reason", t.Alert.Reason).Msg("alert")
+		}
+		delivered = delivered || len(c.trs) > 0
+	}
+	if delivered && r.Delivered != nil {
+		r.Delivered()
 	}
 }
 
