@@ -22,8 +22,8 @@
 // ReadBatch reads the points of many air handlers in one query (the
 // agent's reads: ingest.BatchReader): points that share a measurement and
 // tag keys are selected together, each tag key by the set of its values.
-// On an InfluxDB 1.x server it asks in InfluxQL, which 1.8 answers two to
-// three times faster than Flux, and reads the chunked JSON answer (the CSV
+// On an InfluxDB 1.x server it asks in InfluxQL, which 1.8 answers about two
+// to three times faster than Flux, and reads the chunked JSON answer (the CSV
 // answer drops a statement's error); elsewhere in Flux. The agent's
 // checkpoints and alert states of many air handlers are one query too
 // (LoadStates), and its results one write (CommitBatch, checkpoints last).
