@@ -19,9 +19,9 @@ import (
 )
 
 // InfluxDB 1.x answers InfluxQL (its /query endpoint) about two to three
-// times faster than Flux for the same raw samples (1.4 to 4.3 times over 18
-// runs) (measured on 1.8.3 with the
-// agent benchmarks' bulk reads, cmd/dewline agentbench_test.go), so
+// times faster than Flux for the same raw samples (1.4 to 4.3 times in 18
+// runs of the agent benchmarks' bulk reads on 1.8.3, cmd/dewline
+// agentbench_test.go), so
 // ReadBatch uses it on a 1.x server and Flux elsewhere. The answer is read
 // as chunked JSON: the CSV answer would be faster still, but 1.8 leaves a
 // statement's error out of it (services/httpd response_writer.go writes
