@@ -48,12 +48,15 @@ func (nopObserver) SetStoreUp(bool, string)           {}
 // One run, for the slot S (the start of the last complete hour, never the
 // current one):
 //
-//	for each air handler (of this shard), independently:
+//	checkpoints and alert states of every air handler (of this shard), at once
+//	for each air handler:
 //	  checkpoint C  ->  hours from min(C+1h, S+1h-lookback), not before S+1h-backfill, to S
+//	for each group of air handlers that start at the same hour:
 //	  per day of those hours, oldest first:
-//	    source (trend store) -> aligned hours -> metrics.Compute
+//	    source (trend store, one read for the group) -> aligned hours -> metrics.Compute
 //	    alert rules run on hours after C only (re-computed hours never re-alert)
-//	    store.Commit(records, alert states, events, checkpoint)   <- atomic
+//	    store.Commit(records, alert states, events, checkpoint) per air handler
+//	      <- atomic per air handler, one batch for the group
 //	  a failure or panic stops that air handler, not the others
 type Runner struct {
 	Cfg    *config.Config
@@ -71,6 +74,10 @@ type Runner struct {
 	Delivered func()
 	// Chunk is how many hours are committed at once; default 24.
 	Chunk int
+	// ReadBatch is how many air-handler hours one read of the source may
+	// cover (air handlers that resume at the same hour are read together,
+	// a chunk at a time); default DefaultReadBatch.
+	ReadBatch int
 	// StoreDown tells a store outage (unreachable, timing out, failing)
 	// from an error of one air handler (a point that matches several
 	// series); only an outage marks the store down. Nil takes every error
@@ -145,6 +152,15 @@ func (r *Runner) ahus() []string {
 // RunOnce computes every pending hour up to the last complete one and
 // returns what it did. The error is non-nil only when no air handler could
 // be run; per air handler failures are in the report.
+//
+// Air handlers that resume from the same hour run together: their
+// checkpoints and alert states are read at once (store.StateLoader), each
+// chunk of their hours is one call of the source for all of them (up to
+// ReadBatch air-handler hours), and its results are one commit
+// (store.BatchCommitter). Should a group's read fail, its air handlers are
+// run one by one again (until two in a row find the store down), so that
+// only the one at fault fails; a commit that fails for a reason of its own
+// rather than an outage is written again air handler by air handler.
 func (r *Runner) RunOnce(ctx context.Context) (*RunReport, error) {
 	start := time.Now()
 	clock := r.Clock
@@ -156,28 +172,37 @@ func (r *Runner) RunOnce(ctx context.Context) (*RunReport, error) {
 	r.obs().RunStarted()
 	ahus := append([]string(nil), r.ahus()...)
 	sort.Strings(ahus)
-	open, notQueued := 0, 0
-	for _, id := range ahus {
+	runs := r.plan(ctx, ahus, slot)
+	for _, g := range r.groups(runs, slot) {
 		if err := ctx.Err(); err != nil {
-			rep.AHUs = append(rep.AHUs, AHUReport{AHU: id, Err: err})
+			for _, a := range g {
+				a.fail(err)
+			}
 			continue
 		}
-		ar := r.runAHU(ctx, id, slot)
+		r.runGroup(ctx, g, slot)
+	}
+	open, notQueued := 0, 0
+	for _, a := range runs {
+		ar := a.rep
 		rep.AHUs = append(rep.AHUs, ar)
 		rep.Hours += ar.Hours
 		notQueued += ar.NotQueued
 		if ar.Err != nil {
-			r.obs().AHUFailed(id)
-			r.Log.Error().Str("ahu", id).Err(ar.Err).Msg("air handler run failed")
-		}
-		if ar.Err != nil {
+			r.obs().AHUFailed(a.id)
+			r.Log.Error().Str("ahu", a.id).Err(ar.Err).Msg("air handler run failed")
 			continue // its store may be down: do not ask it again
 		}
-		if states, err := r.Store.AlertStates(ctx, id); err == nil {
-			for _, a := range states {
-				if a.Status == metrics.StatusOpen {
-					open++
-				}
+		if !a.loaded {
+			states, err := r.Store.AlertStates(ctx, a.id)
+			if err != nil {
+				continue
+			}
+			a.states = states
+		}
+		for _, st := range a.states {
+			if st.Status == metrics.StatusOpen {
+				open++
 			}
 		}
 	}
@@ -204,142 +229,365 @@ func (r *Runner) now() time.Time {
 	return time.Now()
 }
 
-// runAHU brings one air handler up to slot. A panic in its computation is
-// recovered and reported for this air handler alone.
-func (r *Runner) runAHU(ctx context.Context, id string, slot time.Time) (ar AHUReport) {
-	ar.AHU = id
-	defer func() {
-		if p := recover(); p != nil {
-			ar.Err = fmt.Errorf("panic: %v\n%s", p, debug.Stack())
-		}
-	}()
-	a, ok := r.Cfg.AirHandler(id)
-	if !ok {
-		ar.Err = fmt.Errorf("no air handler %q in the configuration", id)
-		return ar
+// ahuRun is one air handler's part in a run.
+type ahuRun struct {
+	id      string
+	unit    *metrics.Unit
+	cp      time.Time
+	has     bool
+	from    time.Time // first hour to compute
+	newFrom time.Time // hours from here on are new: alert rules run on them
+	total   int       // hours to compute
+	states  map[string]metrics.Alert
+	loaded  bool // states read from the store
+	rep     AHUReport
+}
+
+func (a *ahuRun) fail(err error) {
+	if a.rep.Err == nil {
+		a.rep.Err = err
 	}
-	unit := r.Cfg.Unit(a)
-	cp, has, err := r.Store.Checkpoint(ctx, id)
-	if err != nil {
-		r.storeError(err)
-		ar.Err = fmt.Errorf("read checkpoint: %w", err)
-		return ar
+}
+
+// chunkHours is how many hours are committed at once.
+func (r *Runner) chunkHours() int {
+	if r.Chunk <= 0 {
+		return 24
+	}
+	return r.Chunk
+}
+
+// plan reads every air handler's checkpoint and alert states (at once when
+// the store can) and works out the hours it needs. An air handler whose
+// state cannot be read fails; one with nothing to do is done.
+func (r *Runner) plan(ctx context.Context, ahus []string, slot time.Time) []*ahuRun {
+	runs := make([]*ahuRun, len(ahus))
+	var pre map[string]store.AHUState
+	var preErr error
+	if sl, ok := r.Store.(store.StateLoader); ok && len(ahus) > 0 {
+		if pre, preErr = sl.LoadStates(ctx, ahus); preErr != nil {
+			r.storeError(preErr)
+		}
 	}
 	end := slot.Add(time.Hour) // exclusive
 	earliest := end.Add(-r.Cfg.Schedule.Backfill)
-	from := earliest
-	newFrom := earliest // hours from here on are new: alert rules run on them
-	if has {
-		newFrom = cp.Add(time.Hour)
-		from = newFrom
-		if lb := end.Add(-r.Cfg.Schedule.Lookback); lb.Before(from) {
-			from = lb
+	for i, id := range ahus {
+		a := &ahuRun{id: id}
+		a.rep.AHU = id
+		runs[i] = a
+		if err := ctx.Err(); err != nil {
+			a.fail(err)
+			continue
 		}
-		if from.Before(earliest) {
-			from = earliest
+		ac, ok := r.Cfg.AirHandler(id)
+		if !ok {
+			a.fail(fmt.Errorf("no air handler %q in the configuration", id))
+			continue
 		}
-		if newFrom.Before(earliest) {
-			// Further behind than the backfill horizon: the gap is left
-			// unevaluated (and logged); alerts restart from here.
-			r.Log.Warn().Str("ahu", id).Time("checkpoint", cp).Time("resume", earliest).Msg("behind the backfill horizon; older hours skipped")
-			newFrom = earliest
+		a.unit = r.Cfg.Unit(ac)
+		if preErr != nil {
+			a.fail(fmt.Errorf("read checkpoint: %w", preErr))
+			continue
+		}
+		if pre != nil {
+			st := pre[id]
+			a.cp, a.has, a.states, a.loaded = st.Checkpoint, st.HasCheckpoint, st.Alerts, true
+			if a.states == nil {
+				a.states = map[string]metrics.Alert{}
+			}
+		} else {
+			cp, has, err := r.Store.Checkpoint(ctx, id)
+			if err != nil {
+				r.storeError(err)
+				a.fail(fmt.Errorf("read checkpoint: %w", err))
+				continue
+			}
+			a.cp, a.has = cp, has
+		}
+		a.from, a.newFrom = earliest, earliest
+		if a.has {
+			a.newFrom = a.cp.Add(time.Hour)
+			a.from = a.newFrom
+			if lb := end.Add(-r.Cfg.Schedule.Lookback); lb.Before(a.from) {
+				a.from = lb
+			}
+			if a.from.Before(earliest) {
+				a.from = earliest
+			}
+			if a.newFrom.Before(earliest) {
+				// Further behind than the backfill horizon: the gap is left
+				// unevaluated (and logged); alerts restart from here.
+				r.Log.Warn().Str("ahu", id).Time("checkpoint", a.cp).Time("resume", earliest).Msg("behind the backfill horizon; older hours skipped")
+				a.newFrom = earliest
+			}
+		}
+		a.rep.From, a.rep.To, a.rep.Checkpoint = a.from, end, a.cp
+		if !a.from.Before(end) {
+			r.obs().SetLag(id, 0)
+			continue
+		}
+		a.total = int(end.Sub(a.from) / time.Hour)
+		if !a.loaded {
+			states, err := r.Store.AlertStates(ctx, id)
+			if err != nil {
+				r.storeError(err)
+				a.fail(fmt.Errorf("read alert states: %w", err))
+				continue
+			}
+			a.states, a.loaded = states, true
+		}
+		if a.total > r.chunkHours() {
+			r.Log.Info().Str("ahu", id).Time("from", a.from).Int("hours", a.total).Msg("catching up")
 		}
 	}
-	ar.From, ar.To, ar.Checkpoint = from, end, cp
-	if !from.Before(end) {
-		r.obs().SetLag(id, 0)
-		return ar
+	return runs
+}
+
+// DefaultReadBatch is Runner.ReadBatch's default: air-handler hours per
+// read of the source.
+const DefaultReadBatch = 300
+
+// groups gathers the air handlers with work to do that start at the same
+// hour, in their order, into groups of at most ReadBatch air-handler hours
+// per chunk.
+func (r *Runner) groups(runs []*ahuRun, slot time.Time) [][]*ahuRun {
+	limit := r.ReadBatch
+	if limit <= 0 {
+		limit = DefaultReadBatch
 	}
-	states, err := r.Store.AlertStates(ctx, id)
-	if err != nil {
-		r.storeError(err)
-		ar.Err = fmt.Errorf("read alert states: %w", err)
-		return ar
+	per := map[time.Time]int{} // open group of each start hour
+	var out [][]*ahuRun
+	for _, a := range runs {
+		if a.rep.Err != nil || a.total == 0 {
+			continue
+		}
+		hours := min(a.total, r.chunkHours())
+		if g, ok := per[a.from]; ok && (len(out[g])+1)*hours <= limit {
+			out[g] = append(out[g], a)
+			continue
+		}
+		per[a.from] = len(out)
+		out = append(out, []*ahuRun{a})
 	}
-	rules, params := metrics.Rules(), r.Cfg.RuleParams()
-	chunk := r.Chunk
-	if chunk <= 0 {
-		chunk = 24
-	}
-	total := int(end.Sub(from) / time.Hour)
-	if total > chunk {
-		r.Log.Info().Str("ahu", id).Time("from", from).Int("hours", total).Msg("catching up")
-	}
-	for cs := from; cs.Before(end); cs = cs.Add(time.Duration(chunk) * time.Hour) {
-		ce := cs.Add(time.Duration(chunk) * time.Hour)
+	return out
+}
+
+// runGroup brings the air handlers of g, which start at the same hour, up
+// to slot, a chunk at a time.
+func (r *Runner) runGroup(ctx context.Context, g []*ahuRun, slot time.Time) {
+	end := slot.Add(time.Hour)
+	chunk := time.Duration(r.chunkHours()) * time.Hour
+	for cs := g[0].from; cs.Before(end); cs = cs.Add(chunk) {
+		ce := cs.Add(chunk)
 		if ce.After(end) {
 			ce = end
 		}
-		var recs []metrics.Record
-		var trs []metrics.Transition
-		err := r.Source.Hours(ctx, []string{id}, cs, ce, func(h *metrics.Hour) error {
-			if h.AHU != id || h.Start.Before(cs) || !h.Start.Before(ce) {
-				return nil
+		live := g[:0:0]
+		for _, a := range g {
+			if a.rep.Err == nil {
+				live = append(live, a)
 			}
-			rec := metrics.Compute(unit, h)
-			recs = append(recs, rec)
-			if !rec.HourStart.Before(newFrom) {
-				var tr []metrics.Transition
-				states, tr = metrics.Evaluate(rules, params, states, &rec)
-				trs = append(trs, tr...)
+		}
+		if len(live) == 0 {
+			break
+		}
+		if err := ctx.Err(); err != nil {
+			for _, a := range live {
+				a.fail(err)
 			}
-			return nil
-		})
-		if err != nil {
+			break
+		}
+		r.runChunk(ctx, live, cs, ce)
+		for _, a := range live {
+			if a.rep.Err == nil && a.total > r.chunkHours() {
+				r.Log.Info().Str("ahu", a.id).Time("through", a.cp).Int("done", int(ce.Sub(a.from)/time.Hour)).Int("of", a.total).Msg("backfill progress")
+			}
+		}
+	}
+	for _, a := range g {
+		if a.rep.Err == nil {
+			r.obs().SetLag(a.id, slot.Sub(a.cp).Hours())
+		}
+	}
+}
+
+// chunkResult is what one chunk computed for one air handler.
+type chunkResult struct {
+	recs   []metrics.Record
+	trs    []metrics.Transition
+	states map[string]metrics.Alert
+}
+
+// runChunk computes and commits the hours [cs, ce) of the air handlers g.
+// A failed read (or a panic) of a group runs its air handlers again one by
+// one, so that it is charged to the one at fault.
+func (r *Runner) runChunk(ctx context.Context, g []*ahuRun, cs, ce time.Time) {
+	res, own, err := r.compute(ctx, g, cs, ce)
+	if err != nil {
+		if len(g) > 1 && ctx.Err() == nil {
+			// One by one, so that only the air handler at fault fails (a
+			// store whose every error counts as an outage, such as the
+			// embedded file, too); two outages in a row mean the store is
+			// down, and the rest fail without asking it again.
+			down := 0
+			for k, a := range g {
+				if down >= 2 {
+					for _, b := range g[k:] {
+						b.fail(err)
+					}
+					break
+				}
+				r.runChunk(ctx, []*ahuRun{a}, cs, ce)
+				if a.rep.Err != nil && r.isOutage(a.rep.Err) {
+					down, err = down+1, a.rep.Err
+				} else {
+					down = 0
+				}
+			}
+			return
+		}
+		if !own {
 			r.storeError(err)
-			ar.Err = fmt.Errorf("read hours %s..%s: %w", cs.Format(time.RFC3339), ce.Format(time.RFC3339), err)
-			return ar
 		}
-		if len(recs) == 0 {
-			ar.Err = fmt.Errorf("the source gave no hours for %s..%s", cs.Format(time.RFC3339), ce.Format(time.RFC3339))
-			return ar
+		for _, a := range g {
+			a.fail(err)
 		}
-		through := recs[len(recs)-1].HourStart
-		if has && through.Before(cp) {
-			through = cp // re-computing old hours never moves the checkpoint back
+		return
+	}
+	var items []store.CommitItem
+	var ok []*ahuRun
+	var oks []chunkResult
+	for i, a := range g {
+		c := res[i]
+		if len(c.recs) == 0 {
+			a.fail(fmt.Errorf("the source gave no hours for %s..%s", cs.Format(time.RFC3339), ce.Format(time.RFC3339)))
+			continue
 		}
-		t0 := time.Now()
-		up := store.AlertUpdate{States: states, Transitions: trs}
+		through := c.recs[len(c.recs)-1].HourStart
+		if a.has && through.Before(a.cp) {
+			through = a.cp // re-computing old hours never moves the checkpoint back
+		}
+		up := store.AlertUpdate{States: c.states, Transitions: c.trs}
 		if w := r.Cfg.Webhook; w != nil && w.MaxAge > 0 {
 			// A catch-up computes transitions of days ago: the sender
 			// would drop them, one by one, as older than max_age.
 			up.QueueFrom = r.now().Add(-w.MaxAge)
-			for _, t := range trs {
-				if t.At.Before(up.QueueFrom) {
-					ar.NotQueued++
-				}
-			}
 		}
-		err = r.Store.Commit(ctx, id, recs, up, through)
+		items = append(items, store.CommitItem{AHU: a.id, Records: c.recs, Alerts: up, Through: through})
+		ok = append(ok, a)
+		oks = append(oks, c)
+	}
+	if len(items) == 0 {
+		return
+	}
+	errs := r.commit(ctx, items, cs, ce)
+	delivered := false
+	for i, a := range ok {
+		if errs[i] != nil {
+			a.fail(errs[i])
+			continue
+		}
+		c, it := oks[i], items[i]
+		a.cp, a.has, a.states = it.Through, true, c.states
+		a.rep.Checkpoint = a.cp
+		a.rep.Hours += len(c.recs)
+		r.obs().HoursComputed(a.id, len(c.recs))
+		for _, t := range c.trs {
+			if !it.Alerts.QueueFrom.IsZero() && t.At.Before(it.Alerts.QueueFrom) {
+				a.rep.NotQueued++
+			}
+			switch t.To {
+			case metrics.StatusOpen:
+				a.rep.Opened++
+			case metrics.StatusClosed:
+				a.rep.Closed++
+			}
+			r.Log.Info().Str("ahu", a.id).Str("alert", t.Alert.Kind).Str("status", string(t.To)).Str("reason", t.Alert.Reason).Msg("alert")
+		}
+		delivered = delivered || len(c.trs) > 0
+	}
+	if delivered && r.Delivered != nil {
+		r.Delivered()
+	}
+}
+
+// isOutage reports whether err is the store's rather than one air handler's.
+func (r *Runner) isOutage(err error) bool { return r.StoreDown == nil || r.StoreDown(err) }
+
+// compute reads the hours [cs, ce) of g in one call of the source and
+// computes them, evaluating the alert rules on the new ones. own reports
+// an error of the computation (a panic) rather than of the source.
+func (r *Runner) compute(ctx context.Context, g []*ahuRun, cs, ce time.Time) (res []chunkResult, own bool, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			err, own = fmt.Errorf("panic: %v\n%s", p, debug.Stack()), true
+		}
+	}()
+	rules, params := metrics.Rules(), r.Cfg.RuleParams()
+	res = make([]chunkResult, len(g))
+	idx := make(map[string]int, len(g))
+	ids := make([]string, len(g))
+	for i, a := range g {
+		idx[a.id], ids[i] = i, a.id
+		res[i].states = a.states
+	}
+	err = r.Source.Hours(ctx, ids, cs, ce, func(h *metrics.Hour) error {
+		i, ok := idx[h.AHU]
+		if !ok || h.Start.Before(cs) || !h.Start.Before(ce) {
+			return nil
+		}
+		a, c := g[i], &res[i]
+		rec := metrics.Compute(a.unit, h)
+		c.recs = append(c.recs, rec)
+		if !rec.HourStart.Before(a.newFrom) {
+			var tr []metrics.Transition
+			c.states, tr = metrics.Evaluate(rules, params, c.states, &rec)
+			c.trs = append(c.trs, tr...)
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, false, fmt.Errorf("read hours %s..%s: %w", cs.Format(time.RFC3339), ce.Format(time.RFC3339), err)
+	}
+	return res, false, nil
+}
+
+// commit writes items, in one batch when the store can, and returns each
+// item's error. A batch that fails for a reason of its own (not an outage)
+// is written again item by item.
+func (r *Runner) commit(ctx context.Context, items []store.CommitItem, cs, ce time.Time) []error {
+	errs := make([]error, len(items))
+	wrap := func(err error) error {
+		return fmt.Errorf("write hours %s..%s: %w", cs.Format(time.RFC3339), ce.Format(time.RFC3339), err)
+	}
+	if bc, ok := r.Store.(store.BatchCommitter); ok && len(items) > 1 {
+		t0 := time.Now()
+		err := bc.CommitBatch(ctx, items)
+		r.obs().ObserveWrite(time.Since(t0), err)
+		if err == nil {
+			r.obs().SetStoreUp(true, "")
+			return errs
+		}
+		if r.isOutage(err) || ctx.Err() != nil {
+			r.storeError(err)
+			for i := range errs {
+				errs[i] = wrap(err)
+			}
+			return errs
+		}
+	}
+	for i, it := range items {
+		t0 := time.Now()
+		err := r.Store.Commit(ctx, it.AHU, it.Records, it.Alerts, it.Through)
 		r.obs().ObserveWrite(time.Since(t0), err)
 		if err != nil {
 			r.storeError(err)
-			ar.Err = fmt.Errorf("write hours %s..%s: %w", cs.Format(time.RFC3339), ce.Format(time.RFC3339), err)
-			return ar
+			errs[i] = wrap(err)
+			continue
 		}
 		r.obs().SetStoreUp(true, "")
-		cp, has = through, true
-		ar.Checkpoint = cp
-		ar.Hours += len(recs)
-		r.obs().HoursComputed(id, len(recs))
-		for _, t := range trs {
-			switch t.To {
-			case metrics.StatusOpen:
-				ar.Opened++
-			case metrics.StatusClosed:
-				ar.Closed++
-			}
-			r.Log.Info().Str("ahu", id).Str("alert", t.Alert.Kind).Str("status", string(t.To)).Str("reason", t.Alert.Reason).Msg("alert")
-		}
-		if len(trs) > 0 && r.Delivered != nil {
-			r.Delivered()
-		}
-		if total > chunk {
-			r.Log.Info().Str("ahu", id).Time("through", through).Int("done", int(ce.Sub(from)/time.Hour)).Int("of", total).Msg("backfill progress")
-		}
 	}
-	r.obs().SetLag(id, slot.Sub(cp).Hours())
-	return ar
+	return errs
 }
 
 // ErrNothingOwned reports a shard that owns no air handler.

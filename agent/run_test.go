@@ -82,12 +82,23 @@ type spanSource struct {
 	panic string // an air handler whose hours make the source panic
 	spans [][2]time.Time
 	late  float64 // added to the supply temperature: a late correction of the data
+	// failFor fails every read whose air handlers include it.
+	failFor string
+	calls   int // reads asked for
+	widest  int // most air handlers in one read
 }
 
 func (s *spanSource) Hours(ctx context.Context, ahus []string, from, to time.Time, fn func(*metrics.Hour) error) error {
 	s.mu.Lock()
 	s.spans = append(s.spans, [2]time.Time{from, to})
 	err, late := s.err, s.late
+	s.calls++
+	s.widest = max(s.widest, len(ahus))
+	for _, a := range ahus {
+		if a == s.failFor && s.failFor != "" {
+			err = errors.New("point \"SAT\" of " + a + " matches two series")
+		}
+	}
 	s.mu.Unlock()
 	if err != nil {
 		return err
@@ -224,6 +235,41 @@ func TestRunner_OneBrokenAirHandler(t *testing.T) {
 	assert.Len(t, store.recs["AHU-X"], 48)
 	_, ok := store.cp["AHU-Y"]
 	assert.False(t, ok)
+}
+
+// TestRunner_GroupReadFailsOneByOne: the air handlers that resume at the
+// same hour are read together; when that read fails, they are read again
+// one by one, so only the air handler at fault fails, even with no way to
+// tell an outage from its own error (StoreDown nil). A store that is down
+// is asked one by one twice, not once per air handler.
+func TestRunner_GroupReadFailsOneByOne(t *testing.T) {
+	cfg := runnerConfig(t)
+	b := cfg.AirHandlers[0]
+	for _, id := range []string{"AHU-A", "AHU-B", "AHU-C", "AHU-D"} {
+		b.ID = id
+		cfg.AirHandlers = append(cfg.AirHandlers, b)
+	}
+	now := time.Date(2026, 7, 14, 10, 7, 0, 0, time.UTC)
+	store, src := newMemResults(), &spanSource{failFor: "AHU-B"}
+	r := &Runner{Cfg: cfg, Source: src, Store: store, Clock: func() time.Time { return now }, Log: zerolog.Nop()}
+	rep, err := r.RunOnce(context.Background())
+	require.NoError(t, err)
+	assert.Equal(t, 6, src.widest, "the six air handlers start at the same hour: one read")
+	failed := rep.Failed()
+	require.Len(t, failed, 1)
+	assert.Equal(t, "AHU-B", failed[0].AHU)
+	assert.Contains(t, failed[0].Err.Error(), "matches two series")
+	for _, id := range []string{"AHU-X", "AHU-Y", "AHU-A", "AHU-C", "AHU-D"} {
+		assert.Len(t, store.recs[id], 48, id)
+	}
+
+	// The store down: the group's read, then two air handlers alone.
+	store, src = newMemResults(), &spanSource{err: errors.New("connection refused")}
+	r = &Runner{Cfg: cfg, Source: src, Store: store, Clock: func() time.Time { return now }, Log: zerolog.Nop()}
+	rep, err = r.RunOnce(context.Background())
+	require.Error(t, err)
+	assert.Len(t, rep.Failed(), 6)
+	assert.Equal(t, 3, src.calls, "one read of the group and two alone")
 }
 
 func TestSlot(t *testing.T) {

@@ -186,6 +186,14 @@ type podSpec struct {
 		FSGroupChangePolicy string         `yaml:"fsGroupChangePolicy"`
 		SeccompProfile      seccompProfile `yaml:"seccompProfile"`
 	} `yaml:"securityContext"`
+	TopologySpreadConstraints []struct {
+		MaxSkew           int    `yaml:"maxSkew"`
+		TopologyKey       string `yaml:"topologyKey"`
+		WhenUnsatisfiable string `yaml:"whenUnsatisfiable"`
+		LabelSelector     struct {
+			MatchLabels map[string]string `yaml:"matchLabels"`
+		} `yaml:"labelSelector"`
+	} `yaml:"topologySpreadConstraints"`
 	Containers []container `yaml:"containers"`
 	Volumes    []volume    `yaml:"volumes"`
 }
@@ -664,6 +672,16 @@ func TestDeploy_KubernetesProbes(t *testing.T) {
 	}
 	require.Len(t, k.svc.Spec.Ports, 1)
 	assert.Equal(t, listenPort, k.port(t, k.svc.Spec.Ports[0].TargetPort), "the Service's targetPort")
+
+	// The replicas spread over nodes (one per node where there are
+	// enough), counting the StatefulSet's own pods; a soft rule, so that a
+	// small cluster still runs every shard.
+	spread := k.sts.Spec.Template.Spec.TopologySpreadConstraints
+	require.Len(t, spread, 1, "topologySpreadConstraints: the shards on different nodes")
+	assert.Equal(t, "kubernetes.io/hostname", spread[0].TopologyKey)
+	assert.Equal(t, 1, spread[0].MaxSkew)
+	assert.Equal(t, "ScheduleAnyway", spread[0].WhenUnsatisfiable, "never leave a shard unscheduled")
+	assert.Equal(t, k.sts.Spec.Selector.MatchLabels, spread[0].LabelSelector.MatchLabels, "it counts the StatefulSet's pods")
 }
 
 // TestDeploy_KubernetesSecurity: non-root, read-only root, no capabilities,

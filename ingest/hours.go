@@ -16,6 +16,23 @@ type SeriesReader interface {
 	ReadSeries(ctx context.Context, ref metrics.PointRef, kind psychro.Kind, from, to time.Time, fn func(Sample) error) error
 }
 
+// PointRead is one point of a batch read: where it lives and what it
+// measures.
+type PointRead struct {
+	Ref  metrics.PointRef
+	Kind psychro.Kind
+}
+
+// BatchReader reads many points, of many air handlers, in one request: fn
+// receives each sample of points[i] as fn(i, s), in SI, with from <= t <
+// to, in time order per point (calls for different points may
+// interleave). A store that implements it beside SeriesReader lets
+// StoreHours read a chunk of all its air handlers at once. An error fails
+// the whole read: it names no point that a caller could skip.
+type BatchReader interface {
+	ReadBatch(ctx context.Context, points []PointRead, from, to time.Time, fn func(i int, s Sample) error) error
+}
+
 // UnitPoints is what alignment needs to know about an air handler.
 type UnitPoints struct {
 	Points map[metrics.Role]metrics.PointRef
@@ -24,6 +41,9 @@ type UnitPoints struct {
 
 // StoreHours reads air handlers' points from a store a chunk at a time and
 // aligns them into hours, so memory stays flat however long the period.
+// When the Reader is also a BatchReader, each chunk of all the air
+// handlers asked for is one read (their hours are emitted after it, air
+// handler by air handler); otherwise each point is read on its own.
 type StoreHours struct {
 	Reader SeriesReader
 	Units  map[string]UnitPoints
@@ -51,6 +71,9 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 		chunk = 24 * time.Hour
 	}
 	from = from.UTC().Truncate(time.Hour)
+	if br, ok := s.Reader.(BatchReader); ok {
+		return s.hoursBatch(ctx, br, ahus, from, to, chunk, fn)
+	}
 	missing := map[string]bool{}
 	for _, ahu := range ahus {
 		u, ok := s.Units[ahu]
@@ -135,6 +158,94 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 					until = until.Add(time.Hour)
 				}
 			}
+			if err := a.Emit(until, fn); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}
+
+// hoursBatch is Hours over a BatchReader: one read per chunk for all of
+// ahus. Missing points (IsMissing) cannot be told apart in a batch; a
+// BatchReader reports a point without data by passing no samples.
+func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []string, from, to time.Time, chunk time.Duration, fn func(*metrics.Hour) error) error {
+	type owner struct {
+		unit int
+		role metrics.Role
+	}
+	var (
+		aligners = make([]*Aligner, len(ahus))
+		leads    = make([]time.Duration, len(ahus))
+		points   []PointRead
+		owners   []owner
+		maxLead  time.Duration
+	)
+	for k, ahu := range ahus {
+		u, ok := s.Units[ahu]
+		if !ok {
+			return fmt.Errorf("read %s: no points configured", ahu)
+		}
+		stale := make(map[metrics.Role]time.Duration, len(u.Points))
+		roles := make([]string, 0, len(u.Points))
+		for r := range u.Points {
+			stale[r] = staleOf(u, r)
+			roles = append(roles, string(r))
+			leads[k] = max(leads[k], stale[r])
+		}
+		maxLead = max(maxLead, leads[k])
+		a, err := NewAligner(ahu, from, s.Step, stale)
+		if err != nil {
+			return err
+		}
+		aligners[k] = a
+		sort.Strings(roles)
+		for _, r := range roles {
+			spec, _ := metrics.LookupRole(r)
+			points = append(points, PointRead{Ref: u.Points[metrics.Role(r)], Kind: spec.Kind})
+			owners = append(owners, owner{k, metrics.Role(r)})
+		}
+	}
+	what := fmt.Sprintf("%d air handlers", len(ahus))
+	if len(ahus) == 1 {
+		what = ahus[0]
+	}
+	for cs := from; cs.Before(to); cs = cs.Add(chunk) {
+		ce := cs.Add(chunk)
+		if ce.After(to) {
+			ce = to
+		}
+		// The first chunk reads back one stale limit so the value logged
+		// before the period can hold into it: each air handler its own.
+		rs, first := cs, cs.Equal(from)
+		if first {
+			rs = cs.Add(-maxLead)
+		}
+		n := 0
+		err := br.ReadBatch(ctx, points, rs, ce, func(i int, smp Sample) error {
+			o := owners[i]
+			if first && smp.Time.Before(cs.Add(-leads[o.unit])) {
+				return nil
+			}
+			n++
+			aligners[o.unit].Push(o.role, smp)
+			return nil
+		})
+		s.Read += n
+		if s.OnRead != nil && n > 0 {
+			s.OnRead(n)
+		}
+		if err != nil {
+			return fmt.Errorf("read %s: %w", what, err)
+		}
+		until := ce
+		if !ce.Before(to) {
+			until = to.Truncate(time.Hour)
+			if until.Before(to) {
+				until = until.Add(time.Hour)
+			}
+		}
+		for _, a := range aligners {
 			if err := a.Emit(until, fn); err != nil {
 				return err
 			}

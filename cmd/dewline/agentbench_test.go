@@ -1,10 +1,16 @@
 package main
 
 import (
+	"bufio"
+	"bytes"
 	"context"
+	"encoding/csv"
 	"encoding/json"
 	"fmt"
+	"io"
 	"math"
+	"net/http"
+	neturl "net/url"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -29,29 +35,36 @@ import (
 
 // The agent benchmarks run agent.Runner over trend points in the InfluxDB
 // server of DEWLINE_INFLUX_URL, with the same store wiring as "dewline run"
-// (results to InfluxDB, checkpoints and alert states in a local state file).
+// (results, checkpoints and alert states in InfluxDB, the webhook queue in
+// a local state file), each beside the store's bulk read of the same
+// samples in the same run (x_bulk: the run's time over the faster of one
+// InfluxQL and one Flux query that return every sample the run needs).
 // Source, store and the per-hour callback are timed, so each run is split
 // into:
 //
-//	query    InfluxDB reads: request, server, streaming and decoding the
-//	         annotated CSV (ReadSeries, less the time its callback took)
+//	query    trend reads: request, server, streaming and decoding
+//	         (less the time their sample callbacks took)
+//	state    checkpoint and alert-state reads
 //	align    putting samples on the grid and cutting hours (ingest.StoreHours)
 //	compute  metrics.Compute and the alert rules (the runner's hour callback)
 //	write    commits: the InfluxDB write, then the state file's transaction
-//	other    the rest: checkpoints, alert states, logging
+//	other    the rest: logging, bookkeeping
 //
-// and report the agent's own share, (total - query - write) / total. The
-// goal is below 20 %. Peak heap in use (sampled every 5 ms) is reported too,
-// for backfills of 10 and 30 days, to show it does not grow with the length.
+// and report the agent's own share, (total - query - state - write) /
+// total. The goal is below 20 %. Peak heap in use (sampled every 5 ms) is
+// reported too, for backfills of 10 and 30 days, to show it does not grow
+// with the length.
 //
 // The trend data, one-minute readings of six points per air handler, an
 // invented portfolio of DX units with electric reheat, is written once into
-// measurement bench_trend; a later run against the same server reuses it.
+// measurement bench_trend (about half a minute); a later run against the
+// same server reuses it.
 
 const (
 	benchMeas     = "bench_trend"
-	benchBackfill = 10  // air handlers with 30 days of data
-	benchPortfol  = 100 // air handlers with the last 3 hours
+	benchBackfill = 10   // air handlers with 30 days of data
+	benchPortfol  = 1000 // air handlers with the last 4 hours
+	benchShards   = 3    // replicas of the shard benchmark
 )
 
 var (
@@ -76,7 +89,7 @@ store:
   kind: influxdb
   influxdb: {url: %q, bucket: %q, timeout: 60s}
 prices: {currency: USD, electricity_per_kwh: 0.12}
-schedule: {backfill: 720h, lookback: 1h}
+schedule: {backfill: 720h, lookback: 3h}
 air_handlers:
 `, url, bucket)
 	for i := 0; i < n; i++ {
@@ -160,7 +173,7 @@ func writeBenchData(url, db string) error {
 		return err
 	}
 	for k := 0; k < benchPortfol; k++ {
-		from := benchDataEnd.Add(-3 * time.Hour)
+		from := benchDataEnd.Add(-4 * time.Hour)
 		if k < benchBackfill {
 			from = benchDataStart
 		}
@@ -193,6 +206,27 @@ func (t *timedReader) ReadSeries(ctx context.Context, ref metrics.PointRef, kind
 	err := t.r.ReadSeries(ctx, ref, kind, from, to, func(s ingest.Sample) error {
 		c := time.Now()
 		err := fn(s)
+		push += time.Since(c)
+		t.samples++
+		return err
+	})
+	t.query += time.Since(start) - push
+	t.push += push
+	t.reqs++
+	return err
+}
+
+// ReadBatch times a batch read (the InfluxDB backend reads one).
+func (t *timedReader) ReadBatch(ctx context.Context, points []ingest.PointRead, from, to time.Time, fn func(int, ingest.Sample) error) error {
+	br, ok := t.r.(ingest.BatchReader)
+	if !ok {
+		return fmt.Errorf("%T reads no batches", t.r)
+	}
+	start := time.Now()
+	var push time.Duration
+	err := br.ReadBatch(ctx, points, from, to, func(i int, s ingest.Sample) error {
+		c := time.Now()
+		err := fn(i, s)
 		push += time.Since(c)
 		t.samples++
 		return err
@@ -243,6 +277,20 @@ func (s *timedStore) AlertStates(ctx context.Context, ahu string) (map[string]me
 	return s.ResultStore.AlertStates(ctx, ahu)
 }
 
+func (s *timedStore) LoadStates(ctx context.Context, ahus []string) (map[string]store.AHUState, error) {
+	start := time.Now()
+	defer func() { s.read += time.Since(start) }()
+	return s.ResultStore.(store.StateLoader).LoadStates(ctx, ahus)
+}
+
+func (s *timedStore) CommitBatch(ctx context.Context, items []store.CommitItem) error {
+	start := time.Now()
+	err := s.ResultStore.(store.BatchCommitter).CommitBatch(ctx, items)
+	s.write += time.Since(start)
+	s.commits++
+	return err
+}
+
 func (s *timedStore) Commit(ctx context.Context, ahu string, recs []metrics.Record, up store.AlertUpdate, through time.Time) error {
 	start := time.Now()
 	err := s.ResultStore.Commit(ctx, ahu, recs, up, through)
@@ -275,115 +323,258 @@ func heapPeak() (stop func() uint64) {
 	return func() uint64 { close(done); wg.Wait(); return peak }
 }
 
-// benchRun is one set-up of the runner; run builds a fresh state file
-// (and presets checkpoints when given) for every iteration.
-type benchRun struct {
-	cfg     *config.Config
-	ahus    []string
-	preset  time.Time // checkpoint of every air handler before the run; zero for none
-	wantHrs int
+// benchIter is what runs of the runner took, split as above (sums).
+type benchIter struct {
+	took, query, state, push, src, compute, write time.Duration
+	samples, reqs, commits, hours, runs           int
+	peak                                          uint64
 }
 
-func (br benchRun) run(b *testing.B) {
-	ctx := context.Background()
-	st, err := openStore(ctx, br.cfg, false, zerolog.Nop())
+func (a *benchIter) add(x benchIter) {
+	a.took += x.took
+	a.query += x.query
+	a.state += x.state
+	a.push += x.push
+	a.src += x.src
+	a.compute += x.compute
+	a.write += x.write
+	a.samples += x.samples
+	a.reqs += x.reqs
+	a.commits += x.commits
+	a.hours += x.hours
+	a.runs += x.runs
+	a.peak = max(a.peak, x.peak)
+}
+
+// share is the agent's own share of the time in percent: everything but
+// the store's round trips (trend queries, checkpoint and alert-state
+// reads, writes).
+func (a benchIter) share() float64 {
+	return 100 * (a.took - a.query - a.state - a.write).Seconds() / a.took.Seconds()
+}
+
+// report adds the split of a's runs, per run, to b's metrics and log.
+func (a benchIter) report(b *testing.B) {
+	n := float64(a.runs)
+	sec := func(d time.Duration) float64 { return d.Seconds() / n }
+	align := a.src - a.query - a.compute
+	other := a.took - a.src - a.write - a.state
+	b.ReportMetric(sec(a.took), "run_s/op")
+	b.ReportMetric(sec(a.query), "query_s/op")
+	b.ReportMetric(sec(a.state), "state_read_s/op")
+	b.ReportMetric(sec(align), "align_s/op")
+	b.ReportMetric(sec(a.compute), "compute_s/op")
+	b.ReportMetric(sec(a.write), "write_s/op")
+	b.ReportMetric(a.share(), "agent_%")
+	b.ReportMetric(float64(a.hours)/a.took.Seconds(), "hours/s")
+	b.ReportMetric(float64(a.peak)/(1<<20), "peak_heap_MiB")
+	b.Logf("%d runs: per run %d hours, %d samples in %d reads, %d commits; %.2fs: query %.2fs, state %.2fs, align %.2fs (%.2fs in sample callbacks), compute %.2fs, write %.2fs, other %.3fs; agent %.1f %%; peak heap %.1f MiB",
+		a.runs, a.hours/a.runs, a.samples/a.runs, a.reqs/a.runs, a.commits/a.runs, sec(a.took), sec(a.query), sec(a.state), sec(align),
+		sec(a.push), sec(a.compute), sec(a.write), sec(other), a.share(), float64(a.peak)/(1<<20))
+}
+
+// benchAgent is the wiring of "dewline run" on InfluxDB, opened once.
+type benchAgent struct {
+	cfg   *config.Config
+	st    *stores
+	units map[string]ingest.UnitPoints
+	dir   string
+	seq   int
+}
+
+func newBenchAgent(b *testing.B, cfg *config.Config) *benchAgent {
+	st, err := openStore(context.Background(), cfg, false, zerolog.Nop())
 	if err != nil {
 		b.Fatal(err)
 	}
-	defer st.Close()
+	b.Cleanup(st.Close)
 	units := map[string]ingest.UnitPoints{}
-	for _, id := range br.ahus {
-		a, _ := br.cfg.AirHandler(id)
-		units[id] = ingest.UnitPoints{Points: a.PointMap(), Stale: br.cfg.StaleLimits(a)}
+	for i := range cfg.AirHandlers {
+		a := &cfg.AirHandlers[i]
+		units[a.ID] = ingest.UnitPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
 	}
-	dir := b.TempDir()
-	var total, query, stateRead, push, srcTotal, compute, write time.Duration
-	var samples, reqs, commits, hours int
-	var peak uint64
-	b.ReportAllocs()
-	b.ResetTimer()
-	for i := 0; i < b.N; i++ {
-		b.StopTimer()
-		statePath := filepath.Join(dir, fmt.Sprintf("state-%d.db", i))
-		// Checkpoints live in InfluxDB: a site id of its own gives every
-		// iteration a fresh start.
-		site := fmt.Sprintf("bench-%d-%d", time.Now().UnixNano(), i)
-		if !br.preset.IsZero() {
-			var pts []influx.Point
-			for _, id := range br.ahus {
-				pts = append(pts, influx.Point{Measurement: influx.MeasurementCheckpoint, Tags: map[string]string{"site": site, "ahu": id},
-					Strings: map[string]string{"hour": br.preset.UTC().Format(time.RFC3339)}, Time: influx.StateTime})
-			}
-			if err := st.Store.(*influx.Backend).Client().WritePoints(ctx, pts); err != nil {
-				b.Fatal(err)
-			}
-		}
-		tr := &timedReader{r: st}
-		src := &timedSource{src: &ingest.StoreHours{Reader: tr, Units: units, Step: br.cfg.Grid.Step, IsMissing: st.IsMissing}}
-		payload := func(t metrics.Transition) (json.RawMessage, error) {
-			return webhook.AlertPayload(t, br.cfg.Prices.Currency)
-		}
-		queue := func(ctx context.Context) (store.EventQueue, error) {
-			return embedded.OpenQueue(ctx, statePath, payload)
-		}
-		state, err := influx.NewBackend(st.Store.(*influx.Backend).Client(), influx.BackendOptions{Site: site, Queue: queue}).Agent(ctx)
-		if err != nil {
-			b.Fatal(err)
-		}
-		store := &timedStore{ResultStore: state}
-		runner := &agent.Runner{Cfg: br.cfg, Source: src, Store: store, Log: zerolog.Nop(), AHUs: br.ahus,
-			Clock: func() time.Time { return benchAsOf }}
-		runtime.GC()
-		stopHeap := heapPeak()
-		b.StartTimer()
-		start := time.Now()
-		rep, err := runner.RunOnce(ctx)
-		took := time.Since(start)
-		b.StopTimer()
-		peak = max(peak, stopHeap())
-		if err != nil {
-			b.Fatal(err)
-		}
-		if f := rep.Failed(); len(f) > 0 {
-			b.Fatalf("%s: %v", f[0].AHU, f[0].Err)
-		}
-		if rep.Hours != br.wantHrs {
-			b.Fatalf("%d hours computed, want %d", rep.Hours, br.wantHrs)
-		}
-		state.Close()
-		total += took
-		query += tr.query
-		stateRead += store.read
-		push += tr.push
-		srcTotal += src.total
-		compute += src.compute
-		write += store.write
-		samples += tr.samples
-		reqs += tr.reqs
-		commits += store.commits
-		hours += rep.Hours
-		b.StartTimer()
+	return &benchAgent{cfg: cfg, st: st, units: units, dir: b.TempDir()}
+}
+
+func (ba *benchAgent) client() *influx.Client { return ba.st.Store.(*influx.Backend).Client() }
+
+// site returns a site id of its own, so that the checkpoints, which live
+// in InfluxDB, start afresh; with a non-zero cp every air handler's
+// checkpoint is preset to it.
+func (ba *benchAgent) site(b *testing.B, cp time.Time) string {
+	ba.seq++
+	site := fmt.Sprintf("bench-%d-%d", time.Now().UnixNano(), ba.seq)
+	if cp.IsZero() {
+		return site
 	}
-	n := float64(b.N)
-	sec := func(d time.Duration) float64 { return d.Seconds() / n }
-	align := srcTotal - query - compute
-	other := total - srcTotal - write - stateRead
-	b.ReportMetric(sec(query), "query_s/op")
-	b.ReportMetric(sec(stateRead), "state_read_s/op")
-	b.ReportMetric(sec(align), "align_s/op")
-	b.ReportMetric(sec(compute), "compute_s/op")
-	b.ReportMetric(sec(write), "write_s/op")
-	b.ReportMetric(sec(other), "other_s/op")
-	// The agent's own share: everything but the store's round trips (trend
-	// queries, checkpoint and alert-state reads, writes).
-	agentShare := 100 * (total - query - stateRead - write).Seconds() / total.Seconds()
-	b.ReportMetric(agentShare, "agent_%")
-	b.ReportMetric(float64(hours)/total.Seconds(), "hours/s")
-	b.ReportMetric(float64(samples)/n, "samples/op")
-	b.ReportMetric(float64(peak)/(1<<20), "peak_heap_MiB")
-	b.Logf("N=%d: %d hours, %d samples in %d queries, %d commits; per run %.2fs: query %.2fs, align %.2fs (%.2fs in sample callbacks), compute %.2fs, write %.2fs, other %.3fs; agent %.1f %%; peak heap %.1f MiB",
-		b.N, hours/b.N, samples/b.N, reqs/b.N, commits/b.N, sec(total), sec(query), sec(align), sec(push), sec(compute), sec(write), sec(other),
-		agentShare, float64(peak)/(1<<20))
+	pts := make([]influx.Point, 0, len(ba.cfg.AirHandlers))
+	for _, a := range ba.cfg.AirHandlers {
+		pts = append(pts, influx.Point{Measurement: influx.MeasurementCheckpoint, Tags: map[string]string{"site": site, "ahu": a.ID},
+			Strings: map[string]string{"hour": cp.UTC().Format(time.RFC3339)}, Time: influx.StateTime})
+	}
+	if err := ba.client().WritePoints(context.Background(), pts); err != nil {
+		b.Fatal(err)
+	}
+	return site
+}
+
+// run runs the runner once over ahus with the results of site, and fails
+// b unless it computed wantHrs hours.
+func (ba *benchAgent) run(b *testing.B, site string, ahus []string, wantHrs int) benchIter {
+	ctx := context.Background()
+	ba.seq++
+	statePath := filepath.Join(ba.dir, fmt.Sprintf("state-%d.db", ba.seq))
+	tr := &timedReader{r: ba.st.Store}
+	src := &timedSource{src: &ingest.StoreHours{Reader: tr, Units: ba.units, Step: ba.cfg.Grid.Step, IsMissing: ba.st.IsMissing}}
+	payload := func(t metrics.Transition) (json.RawMessage, error) {
+		return webhook.AlertPayload(t, ba.cfg.Prices.Currency)
+	}
+	queue := func(ctx context.Context) (store.EventQueue, error) {
+		return embedded.OpenQueue(ctx, statePath, payload)
+	}
+	state, err := influx.NewBackend(ba.client(), influx.BackendOptions{Site: site, Queue: queue}).Agent(ctx)
+	if err != nil {
+		b.Fatal(err)
+	}
+	defer state.Close()
+	ts := &timedStore{ResultStore: state}
+	runner := &agent.Runner{Cfg: ba.cfg, Source: src, Store: ts, Log: zerolog.Nop(), AHUs: ahus,
+		Clock: func() time.Time { return benchAsOf }}
+	runtime.GC()
+	stopHeap := heapPeak()
+	start := time.Now()
+	rep, err := runner.RunOnce(ctx)
+	took := time.Since(start)
+	peak := stopHeap()
+	if err != nil {
+		b.Fatal(err)
+	}
+	if f := rep.Failed(); len(f) > 0 {
+		b.Fatalf("%s: %v", f[0].AHU, f[0].Err)
+	}
+	if rep.Hours != wantHrs {
+		b.Fatalf("%d hours computed, want %d", rep.Hours, wantHrs)
+	}
+	return benchIter{took: took, query: tr.query, state: ts.read, push: tr.push, src: src.total, compute: src.compute, write: ts.write,
+		samples: tr.samples, reqs: tr.reqs, commits: ts.commits, hours: rep.Hours, runs: 1, peak: peak}
+}
+
+// The reference: the store's bulk read of every sample a run needs, in
+// one query, counted but not kept. Both query languages InfluxDB 1.8
+// answers are timed; the faster is the reference.
+
+// bulkInfluxQL reads the six fields of the air handlers ahus (all of the
+// measurement when nil) in [from, to) with one InfluxQL query, answered as
+// CSV, and returns the number of values.
+func bulkInfluxQL(ctx context.Context, url, db string, ahus []string, from, to time.Time) (int, error) {
+	fields := make([]string, len(benchRoles))
+	for i, r := range benchRoles {
+		fields[i] = `"` + r[1] + `"`
+	}
+	q := fmt.Sprintf(`SELECT %s FROM %q WHERE time >= '%s' AND time < '%s'`, strings.Join(fields, ","), benchMeas,
+		from.UTC().Format(time.RFC3339Nano), to.UTC().Format(time.RFC3339Nano))
+	if ahus != nil {
+		q += ` AND "ahu" =~ /^(?:` + strings.Join(ahus, "|") + `)$/`
+	}
+	q += ` GROUP BY "ahu"`
+	form := neturl.Values{"db": {db}, "q": {q}, "epoch": {"ns"}}
+	req, err := http.NewRequestWithContext(ctx, http.MethodPost, url+"/query", strings.NewReader(form.Encode()))
+	if err != nil {
+		return 0, err
+	}
+	req.Header.Set("Content-Type", "application/x-www-form-urlencoded")
+	req.Header.Set("Accept", "application/csv")
+	return countCSV(req, func(rec []string) int {
+		// name,tags,time,field...: a header row has "time" there.
+		if len(rec) < 4 || rec[2] == "time" {
+			return 0
+		}
+		n := 0
+		for _, v := range rec[3:] {
+			if v != "" {
+				n++
+			}
+		}
+		return n
+	})
+}
+
+// bulkFlux is bulkInfluxQL in Flux, answered as annotated CSV (one value
+// per row).
+func bulkFlux(ctx context.Context, url, db string, ahus []string, from, to time.Time) (int, error) {
+	flux := fmt.Sprintf("from(bucket: %q)\n  |> range(start: %s, stop: %s)\n  |> filter(fn: (r) => r._measurement == %q)\n  |> filter(fn: (r) => r._time < %s)\n",
+		db+"/autogen", from.UTC().Format(time.RFC3339Nano), to.UTC().Format(time.RFC3339Nano), benchMeas, to.UTC().Format(time.RFC3339Nano))
+	if ahus != nil {
+		flux += "  |> filter(fn: (r) => r.ahu =~ /^(?:" + strings.Join(ahus, "|") + ")$/)\n"
+	}
+	body, err := json.Marshal(map[string]any{"query": flux, "type": "flux"})
+	if err != nil {
+		return 0, err
+	}
+	req, err := http.NewRequestWithContext(ctx, http.MethodPost, url+"/api/v2/query", bytes.NewReader(body))
+	if err != nil {
+		return 0, err
+	}
+	req.Header.Set("Content-Type", "application/json")
+	req.Header.Set("Accept", "application/csv")
+	return countCSV(req, func(rec []string) int {
+		// Annotation rows start with "#", header rows have "result" where
+		// data rows have the result's name (empty: its #default).
+		if len(rec) < 3 || rec[0] != "" || rec[1] == "result" {
+			return 0
+		}
+		return 1
+	})
+}
+
+// countCSV sends req and sums count over the CSV rows of the answer.
+func countCSV(req *http.Request, count func(rec []string) int) (int, error) {
+	resp, err := http.DefaultClient.Do(req)
+	if err != nil {
+		return 0, err
+	}
+	defer resp.Body.Close()
+	if resp.StatusCode != http.StatusOK {
+		msg, _ := io.ReadAll(io.LimitReader(resp.Body, 500))
+		return 0, fmt.Errorf("bulk read: %s: %s", resp.Status, msg)
+	}
+	r := csv.NewReader(bufio.NewReaderSize(resp.Body, 1<<16))
+	r.FieldsPerRecord = -1
+	r.ReuseRecord = true
+	n := 0
+	for {
+		rec, err := r.Read()
+		if err == io.EOF {
+			return n, nil
+		}
+		if err != nil {
+			return n, err
+		}
+		n += count(rec)
+	}
+}
+
+// bulkRef times both bulk reads of ahus' samples in [from, to), checks
+// that they return the same number of values, at least want, and returns
+// their times.
+func bulkRef(b *testing.B, url, db string, ahus []string, from, to time.Time, want int) (influxQL, flux time.Duration) {
+	ctx := context.Background()
+	t0 := time.Now()
+	nq, err := bulkInfluxQL(ctx, url, db, ahus, from, to)
+	if err != nil {
+		b.Fatal(err)
+	}
+	influxQL = time.Since(t0)
+	t0 = time.Now()
+	nf, err := bulkFlux(ctx, url, db, ahus, from, to)
+	if err != nil {
+		b.Fatal(err)
+	}
+	flux = time.Since(t0)
+	if nq != nf || nq < want {
+		b.Fatalf("bulk reads returned %d (InfluxQL) and %d (Flux) values, want the same and at least %d", nq, nf, want)
+	}
+	return influxQL, flux
 }
 
 func agentBenchConfig(b *testing.B, url, db string, n int) *config.Config {
@@ -394,33 +585,106 @@ func agentBenchConfig(b *testing.B, url, db string, n int) *config.Config {
 	return cfg
 }
 
-// BenchmarkAgentRunOnce is one scheduled run of a portfolio: 100 air
-// handlers, one new hour each (the checkpoint is an hour behind and the
-// lookback is one hour).
-func BenchmarkAgentRunOnce(b *testing.B) {
+// reportRef adds the references and the ratio of run to the faster one.
+func reportRef(b *testing.B, run benchIter, influxQL, flux time.Duration) {
+	n := float64(run.runs)
+	ref := min(influxQL, flux)
+	b.ReportMetric(influxQL.Seconds()/n, "bulk_influxql_s/op")
+	b.ReportMetric(flux.Seconds()/n, "bulk_flux_s/op")
+	b.ReportMetric(run.took.Seconds()/ref.Seconds(), "x_bulk")
+	b.Logf("run %.2fs per run beside the bulk read %.2fs (InfluxQL) / %.2fs (Flux): %.2fx the faster",
+		run.took.Seconds()/n, influxQL.Seconds()/n, flux.Seconds()/n, run.took.Seconds()/ref.Seconds())
+}
+
+// BenchmarkAgentHourly is one scheduled run of a portfolio: 1,000 air
+// handlers, their checkpoints an hour behind, the last 3 hours re-computed
+// (lookback), beside the bulk read of those hours' samples (and the stale
+// limit before them, which the run reads too). Then the same run split
+// over 3 replicas (--shard i/3), one after the other: shard_max_% is the
+// slowest replica's time over the single replica's, from the same
+// iteration, and shard_sum_% all three replicas' together.
+func BenchmarkAgentHourly(b *testing.B) {
 	url, db := benchEnv(b)
 	cfg := agentBenchConfig(b, url, db, benchPortfol)
+	ba := newBenchAgent(b, cfg)
 	ahus := make([]string, benchPortfol)
 	for i := range ahus {
 		ahus[i] = benchAHU(i)
 	}
 	slot := agent.Slot(benchAsOf)
-	benchRun{cfg: cfg, ahus: ahus, preset: slot.Add(-time.Hour), wantHrs: benchPortfol}.run(b)
+	end := slot.Add(time.Hour)
+	from := end.Add(-cfg.Schedule.Lookback - 15*time.Minute) // the stale limit of the points
+	var run, shardMax benchIter
+	var influxQL, flux time.Duration
+	var shardWorst float64
+	var shardSum time.Duration
+	for b.Loop() {
+		q, f := bulkRef(b, url, db, nil, from, end, benchPortfol*len(benchRoles)*int(end.Sub(from)/time.Minute))
+		influxQL += q
+		flux += f
+		site := ba.site(b, slot.Add(-time.Hour))
+		run.add(ba.run(b, site, ahus, benchPortfol*3))
+		one := run.took / time.Duration(run.runs)
+
+		site = ba.site(b, slot.Add(-time.Hour))
+		total, worst := 0, benchIter{}
+		for i := 0; i < benchShards; i++ {
+			owned := agent.Shard{Index: i, Count: benchShards}.Owned(cfg)
+			it := ba.run(b, site, owned, len(owned)*3)
+			total += len(owned)
+			shardSum += it.took
+			b.Logf("replica %d/%d: %d air handlers in %.2fs (query %.2fs, state %.2fs, write %.2fs), %.0f %% of one replica's %.2fs",
+				i, benchShards, len(owned), it.took.Seconds(), it.query.Seconds(), it.state.Seconds(), it.write.Seconds(),
+				100*it.took.Seconds()/one.Seconds(), one.Seconds())
+			if it.took > worst.took {
+				worst = it
+			}
+		}
+		if total != benchPortfol {
+			b.Fatalf("the shards own %d air handlers together, want %d", total, benchPortfol)
+		}
+		shardMax.add(worst)
+		shardWorst = max(shardWorst, 100*worst.took.Seconds()/one.Seconds())
+	}
+	run.report(b)
+	reportRef(b, run, influxQL, flux)
+	n := float64(run.runs)
+	b.ReportMetric(shardMax.took.Seconds()/n, "shard_max_s/op")
+	b.ReportMetric(100*shardMax.took.Seconds()/run.took.Seconds(), "shard_max_%")
+	// All replicas' time over one replica's: 100 % when sharding costs
+	// nothing beyond the work itself.
+	b.ReportMetric(100*shardSum.Seconds()/run.took.Seconds(), "shard_sum_%")
+	b.Logf("slowest of %d replicas: %.2fs per run, %.0f %% of one replica's run (worst iteration %.0f %%)",
+		benchShards, shardMax.took.Seconds()/n, 100*shardMax.took.Seconds()/run.took.Seconds(), shardWorst)
 }
 
 // BenchmarkAgentBackfill is a fresh agent catching up 10 air handlers over
-// 10 and 30 days: the time should grow with the days and the peak heap not.
+// 10 and 30 days, beside the bulk read of the same samples: the time
+// should grow with the days and the peak heap not.
 func BenchmarkAgentBackfill(b *testing.B) {
 	url, db := benchEnv(b)
 	ahus := make([]string, benchBackfill)
 	for i := range ahus {
 		ahus[i] = benchAHU(i)
 	}
+	end := agent.Slot(benchAsOf).Add(time.Hour)
 	for _, days := range []int{10, 30} {
 		b.Run(fmt.Sprintf("days=%d", days), func(b *testing.B) {
 			cfg := agentBenchConfig(b, url, db, benchBackfill)
 			cfg.Schedule.Backfill = time.Duration(days) * 24 * time.Hour
-			benchRun{cfg: cfg, ahus: ahus, wantHrs: benchBackfill * days * 24}.run(b)
+			ba := newBenchAgent(b, cfg)
+			from := end.Add(-cfg.Schedule.Backfill)
+			var run benchIter
+			var influxQL, flux time.Duration
+			b.ReportAllocs()
+			for b.Loop() {
+				q, f := bulkRef(b, url, db, ahus, from, end, benchBackfill*len(benchRoles)*int(end.Sub(from)/time.Minute))
+				influxQL += q
+				flux += f
+				run.add(ba.run(b, ba.site(b, time.Time{}), ahus, benchBackfill*days*24))
+			}
+			run.report(b)
+			reportRef(b, run, influxQL, flux)
 		})
 	}
 }

@@ -162,7 +162,9 @@ func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]
 		log.Error().Str("ahu", id).Str("problems", ce.Error()).Msg("air handler left out: its configuration is broken")
 		tel.SetConfigProblem(id, "configuration: "+ce.Error())
 	}
-	source := &ingest.StoreHours{Reader: st, Units: units, Step: cfg.Grid.Step, IsMissing: st.IsMissing,
+	// The backend itself, not its wrapper: StoreHours finds a batch reader
+	// (ingest.BatchReader) by type assertion.
+	source := &ingest.StoreHours{Reader: st.Store, Units: units, Step: cfg.Grid.Step, IsMissing: st.IsMissing,
 		OnRead: tel.PointsRead,
 		OnMissing: func(ahu string, role metrics.Role, point string) {
 			log.Warn().Str("ahu", ahu).Str("role", string(role)).Str("point", point).Msg("point has no data in the store")

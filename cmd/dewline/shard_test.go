@@ -1,12 +1,18 @@
 package main
 
 import (
+	"fmt"
+	"path/filepath"
+	"regexp"
+	"strconv"
 	"testing"
+	"time"
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // TestParseShard_Forms: --shard takes "i/n" and a StatefulSet pod name with
@@ -87,4 +93,69 @@ func TestParseShard_Command(t *testing.T) {
 	code, out, errOut := runCLI(t, "--log-level", "warn", "run", "--config", cfg, "--shard", "dewline-0/1", "--dry-run", "--as-of", "2026-07-15T12:07")
 	require.Equal(t, 0, code, errOut)
 	assert.Contains(t, out, "dry run: nothing written")
+}
+
+// TestShard_ThreeReplicasWriteEveryHourOnce runs three replicas
+// (--shard 0/3, 1/3, 2/3) of one site against the real InfluxDB server. Their
+// dry runs together print every hour of every air handler exactly once
+// (each dewline_hourly line is one write), and their real runs store those
+// hours: each air handler is taken by one replica, and InfluxDB holds one
+// point per air handler and hour.
+func TestShard_ThreeReplicasWriteEveryHourOnce(t *testing.T) {
+	url, _ := testkit.InfluxDB(t)
+	db := freshDB(t, url, "dewline_shard3")
+	var ahus []string
+	for i := 1; i <= 12; i++ {
+		ahus = append(ahus, fmt.Sprintf("AHU-%d", i))
+	}
+	dir := t.TempDir()
+	cfg := site{store: influxStore(url, db, "10s"), meas: "shard_trend", schedule: "{backfill: 6h, lookback: 3h}", ahus: ahus}.write(t, dir, "site.yaml")
+	from := time.Date(2026, 7, 14, 5, 0, 0, 0, time.UTC)
+	data := filepath.Join(dir, "trends.csv")
+	writeTrends(t, data, ahus, from, 10*time.Hour)
+	r := runDewline(t, runBound, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, r.code, r.stderr)
+	// 09:30 in Chicago (CDT) is 14:30 UTC: the last complete hour starts at
+	// 13:00 UTC, and the 6 hours of backfill start at 08:00 UTC.
+	const asOf = "2026-07-14T09:30"
+	first, end := time.Date(2026, 7, 14, 8, 0, 0, 0, time.UTC), time.Date(2026, 7, 14, 14, 0, 0, 0, time.UTC)
+	const hours = 6
+
+	hourly := regexp.MustCompile(`(?m)^dewline_hourly,ahu=(\S+?),\S* .* (\d+)$`)
+	written := map[string]int{} // "ahu hour" -> lines
+	for i := 0; i < 3; i++ {
+		r := runDewline(t, runBound, "--log-level", "warn", "run", "--config", cfg, "--dry-run", "--as-of", asOf, "--shard", fmt.Sprintf("%d/3", i))
+		require.Equal(t, 0, r.code, r.stderr)
+		for _, m := range hourly.FindAllStringSubmatch(r.stdout, -1) {
+			ns, err := strconv.ParseInt(m[2], 10, 64)
+			require.NoError(t, err)
+			written[m[1]+" "+time.Unix(0, ns).UTC().Format(time.RFC3339)]++
+		}
+	}
+	assert.Len(t, written, len(ahus)*hours, "every air handler's every hour, once")
+	for _, id := range ahus {
+		for h := first; h.Before(end); h = h.Add(time.Hour) {
+			assert.Equal(t, 1, written[id+" "+h.Format(time.RFC3339)], "%s %s is written by exactly one replica", id, h.Format(time.RFC3339))
+		}
+	}
+
+	taken := map[string]int{}
+	for i := 0; i < 3; i++ {
+		r := runDewline(t, runBound, "--log-level", "warn", "run", "--config", cfg, "--once", "--as-of", asOf, "--shard", fmt.Sprintf("%d/3", i))
+		require.Equal(t, 0, r.code, r.stderr)
+		rep := onceReport(t, r.stdout)
+		assert.NotEmpty(t, rep, "replica %d owns some of 12 air handlers", i)
+		for id, o := range rep {
+			taken[id]++
+			assert.Equal(t, hours, o.hours, id)
+		}
+	}
+	stored := hoursPerAHU(t, url, db, first, end)
+	for _, id := range ahus {
+		assert.Equal(t, 1, taken[id], "%s is taken by exactly one replica", id)
+		require.Len(t, stored[id], hours, id)
+		for ms, n := range stored[id] {
+			assert.Equal(t, 1, n, "%s at %s: one point", id, time.UnixMilli(ms).UTC().Format(time.RFC3339))
+		}
+	}
 }

@@ -34,6 +34,10 @@ type Client struct {
 	secrets  *strings.Replacer
 
 	closeOnce sync.Once
+
+	batchQL int // the query language of ReadBatch (batchAuto: by the server's version)
+	verMu   sync.Mutex
+	version string // the server's, from /ping; "" until known
 }
 
 // New checks opt, fills in defaults and returns a client. It does not

@@ -46,7 +46,11 @@ type agentStore struct {
 	queue store.EventQueue
 }
 
-var _ store.AgentStore = (*agentStore)(nil)
+var (
+	_ store.AgentStore     = (*agentStore)(nil)
+	_ store.StateLoader    = (*agentStore)(nil)
+	_ store.BatchCommitter = (*agentStore)(nil)
+)
 
 // SiteTag is the value of the site tag of every point dewline writes for
 // a site (results, alert transitions, checkpoints, alert rule states): its
@@ -91,32 +95,127 @@ func (rs *agentStore) AlertStates(ctx context.Context, ahu string) (map[string]m
 	return store.DecodeStates(ahu, raw)
 }
 
+// LoadStates reads the checkpoints and alert rule states of ahus in one
+// query.
+func (rs *agentStore) LoadStates(ctx context.Context, ahus []string) (map[string]store.AHUState, error) {
+	if len(ahus) == 0 {
+		return map[string]store.AHUState{}, nil
+	}
+	want := make(map[string]bool, len(ahus))
+	for _, a := range ahus {
+		want[a] = true
+	}
+	out := map[string]store.AHUState{}
+	raw := map[string]map[string]json.RawMessage{}
+	var b strings.Builder
+	fmt.Fprintf(&b, "from(bucket: %s)\n  |> range(start: %s, stop: %s)\n", fluxString(rs.c.opt.Bucket),
+		fluxTime(StateTime), fluxTime(StateTime.Add(time.Second)))
+	// The air handlers as a set of tag values (one regular expression, as
+	// ReadBatch selects them): a shard reads its own states only.
+	fmt.Fprintf(&b, "  |> filter(fn: (r) => (r._measurement == %s and r._field == \"hour\" or r._measurement == %s and r._field == \"state\") and %s == %s and %s)\n",
+		fluxString(MeasurementCheckpoint), fluxString(MeasurementAlertState), fluxColumn("site"), fluxString(rs.siteTag()), fluxOneOf("ahu", slices.Compact(slices.Sorted(maps.Keys(want)))))
+	b.WriteString("  |> last()\n")
+	err := rs.c.run(ctx, b.String(), func() { clear(out); clear(raw) }, func(f *fluxCSV) (bool, error) {
+		ahu := f.get("ahu")
+		if !want[ahu] {
+			return false, nil
+		}
+		v := f.get(colValue)
+		switch f.get(colMeasurement) {
+		case MeasurementCheckpoint:
+			t, err := time.Parse(time.RFC3339, v)
+			if err != nil {
+				return false, fmt.Errorf("checkpoint of %s: %q is not a time", ahu, v)
+			}
+			st := out[ahu]
+			st.Checkpoint, st.HasCheckpoint = t.UTC(), true
+			out[ahu] = st
+		case MeasurementAlertState:
+			if v == "" {
+				return false, nil
+			}
+			if raw[ahu] == nil {
+				raw[ahu] = map[string]json.RawMessage{}
+			}
+			raw[ahu][f.get("kind")] = json.RawMessage(v)
+		}
+		return false, nil
+	})
+	if err != nil {
+		return nil, fmt.Errorf("read checkpoints and alert states: %w", err)
+	}
+	for ahu, r := range raw {
+		states, err := store.DecodeStates(ahu, r)
+		if err != nil {
+			return nil, err
+		}
+		st := out[ahu]
+		st.Alerts = states
+		out[ahu] = st
+	}
+	return out, nil
+}
+
 // Commit writes the hours and alerts; the results are written to InfluxDB
 // first, confirmed, and only then are the alerts and their events queued
 // in the local file.
 func (rs *agentStore) Commit(ctx context.Context, ahu string, recs []metrics.Record, up store.AlertUpdate, through time.Time) error {
-	states, err := store.EncodeStates(up.States)
-	if err != nil {
-		return err
+	return rs.CommitBatch(ctx, []store.CommitItem{{AHU: ahu, Records: recs, Alerts: up, Through: through}})
+}
+
+// CommitBatch writes every item's hours, alerts and rule states, then
+// every checkpoint, in requests of Options.BatchSize points; once InfluxDB
+// has them all, each item's alerts and events are queued in the local
+// file (an item with neither transitions nor open alerts has nothing to
+// queue).
+func (rs *agentStore) CommitBatch(ctx context.Context, items []store.CommitItem) error {
+	var pts, cps []Point
+	for _, it := range items {
+		states, err := store.EncodeStates(it.Alerts.States)
+		if err != nil {
+			return err
+		}
+		pts = append(pts, HourlyPoints(rs.site, it.Records)...)
+		pts = append(pts, AlertPoints(rs.site, it.Alerts.Transitions)...)
+		pts = append(pts, OpenAlertPoints(rs.site, slices.Collect(maps.Values(it.Alerts.States)))...)
+		// Every rule's state is written, empty when inactive, so a closed
+		// alert's old state is replaced; the checkpoints come last.
+		for _, rule := range metrics.Rules() {
+			pts = append(pts, Point{Measurement: MeasurementAlertState,
+				Tags:    map[string]string{"site": rs.siteTag(), "ahu": it.AHU, "kind": rule.Kind},
+				Strings: map[string]string{"state": string(states[rule.Kind])}, Time: StateTime})
+		}
+		cps = append(cps, Point{Measurement: MeasurementCheckpoint, Tags: map[string]string{"site": rs.siteTag(), "ahu": it.AHU},
+			Strings: map[string]string{"hour": it.Through.UTC().Format(time.RFC3339)}, Time: StateTime})
 	}
-	pts := HourlyPoints(rs.site, recs)
-	pts = append(pts, AlertPoints(rs.site, up.Transitions)...)
-	pts = append(pts, OpenAlertPoints(rs.site, slices.Collect(maps.Values(up.States)))...)
-	// Every rule's state is written, empty when inactive, so a closed
-	// alert's old state is replaced; the checkpoint comes last.
-	for _, rule := range metrics.Rules() {
-		pts = append(pts, Point{Measurement: MeasurementAlertState,
-			Tags:    map[string]string{"site": rs.siteTag(), "ahu": ahu, "kind": rule.Kind},
-			Strings: map[string]string{"state": string(states[rule.Kind])}, Time: StateTime})
-	}
-	pts = append(pts, Point{Measurement: MeasurementCheckpoint, Tags: map[string]string{"site": rs.siteTag(), "ahu": ahu},
-		Strings: map[string]string{"hour": through.UTC().Format(time.RFC3339)}, Time: StateTime})
-	if err := rs.c.WritePoints(ctx, pts); err != nil {
+	if err := rs.c.WritePoints(ctx, append(pts, cps...)); err != nil {
 		return fmt.Errorf("write results to InfluxDB: %w", err)
 	}
 	// The local file keeps only the webhook queue (and the alerts its
 	// events refer to).
-	return rs.queue.Queue(ctx, ahu, up)
+	for _, it := range items {
+		if !queues(it.Alerts) {
+			continue
+		}
+		if err := rs.queue.Queue(ctx, it.AHU, it.Alerts); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// queues reports whether up has anything for the local queue: a
+// transition, or an alert that is not merely pending.
+func queues(up store.AlertUpdate) bool {
+	if len(up.Transitions) > 0 {
+		return true
+	}
+	for _, a := range up.States {
+		if a.Status != metrics.StatusPending {
+			return true
+		}
+	}
+	return false
 }
 
 func (rs *agentStore) PendingEvents(ctx context.Context, limit int) ([]store.Event, error) {
@@ -242,7 +341,31 @@ type DryRun struct {
 	Site  string // the site id the points are tagged with
 }
 
-var _ store.ResultStore = (*DryRun)(nil)
+var (
+	_ store.ResultStore = (*DryRun)(nil)
+	_ store.StateLoader = (*DryRun)(nil)
+)
+
+// LoadStates reads the inner store's checkpoints and alert states, at once
+// when it can.
+func (d *DryRun) LoadStates(ctx context.Context, ahus []string) (map[string]store.AHUState, error) {
+	if sl, ok := d.Inner.(store.StateLoader); ok {
+		return sl.LoadStates(ctx, ahus)
+	}
+	out := make(map[string]store.AHUState, len(ahus))
+	for _, ahu := range ahus {
+		cp, has, err := d.Inner.Checkpoint(ctx, ahu)
+		if err != nil {
+			return nil, err
+		}
+		alerts, err := d.Inner.AlertStates(ctx, ahu)
+		if err != nil {
+			return nil, err
+		}
+		out[ahu] = store.AHUState{Checkpoint: cp, HasCheckpoint: has, Alerts: alerts}
+	}
+	return out, nil
+}
 
 func (d *DryRun) Checkpoint(ctx context.Context, ahu string) (time.Time, bool, error) {
 	return d.Inner.Checkpoint(ctx, ahu)

@@ -90,6 +90,41 @@ type ResultStore interface {
 	AlertStates(ctx context.Context, ahu string) (map[string]metrics.Alert, error)
 }
 
+// StateLoader is an optional capability of a ResultStore: the checkpoints
+// and alert states of many air handlers in one read, so that a run over a
+// portfolio does not ask for them one air handler at a time. The agent
+// finds it by type assertion and otherwise reads them one by one.
+type StateLoader interface {
+	// LoadStates returns the state of each of ahus that has one; an air
+	// handler missing from the map has neither checkpoint nor alert states.
+	LoadStates(ctx context.Context, ahus []string) (map[string]AHUState, error)
+}
+
+// AHUState is an air handler's place and alert rule states.
+type AHUState struct {
+	Checkpoint    time.Time // meaningful when HasCheckpoint
+	HasCheckpoint bool
+	Alerts        map[string]metrics.Alert // pending and open alerts, by kind
+}
+
+// BatchCommitter is an optional capability of a ResultStore: Commit for
+// many air handlers in as few writes as the store allows. Every item's
+// checkpoint is written after every item's results, so a failure part way
+// never moves a checkpoint past an unwritten hour; items are otherwise as
+// Commit takes them.
+type BatchCommitter interface {
+	CommitBatch(ctx context.Context, items []CommitItem) error
+}
+
+// CommitItem is one air handler's share of a CommitBatch: Commit's
+// arguments.
+type CommitItem struct {
+	AHU     string
+	Records []metrics.Record
+	Alerts  AlertUpdate
+	Through time.Time
+}
+
 // AlertUpdate is what a run changed in an air handler's alerts.
 type AlertUpdate struct {
 	States      map[string]metrics.Alert // pending and open alerts after the run, by kind
