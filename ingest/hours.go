@@ -238,7 +238,10 @@ func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []stri
 		if err != nil {
 			return fmt.Errorf("read %s: %w", what, err)
 		}
-		until := ce
+		// As in Hours: an hour is emitted once the samples FlatLookahead
+		// after it are pushed, so a sensor stuck across the chunk's end is
+		// seen to go on.
+		until := ce.Add(-FlatLookahead).Truncate(time.Hour)
 		if !ce.Before(to) {
 			until = to.Truncate(time.Hour)
 			if until.Before(to) {

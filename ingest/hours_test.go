@@ -3,6 +3,7 @@ package ingest
 import (
 	"context"
 	"errors"
+	"fmt"
 	"math"
 	"testing"
 	"time"
@@ -106,11 +107,32 @@ func sameValues(a, b map[metrics.Role][]float64) bool {
 	return true
 }
 
+// memBatchReader is memReader that also reads many points at once, so
+// StoreHours takes its batch path.
+type memBatchReader struct{ *memReader }
+
+func (m memBatchReader) ReadBatch(ctx context.Context, points []PointRead, from, to time.Time, fn func(i int, s Sample) error) error {
+	for i, p := range points {
+		err := m.ReadSeries(ctx, p.Ref, p.Kind, from, to, func(s Sample) error { return fn(i, s) })
+		if err != nil && !errors.Is(err, errNoSeries) {
+			return err
+		}
+	}
+	return nil
+}
+
 // TestStoreHours_FlatAcrossMidnight: an RH logged every 15 minutes that
 // sticks from 21:00 to 04:00 spans two daily chunks. Each hour of the run
 // must report it as the CSV path (Align, all samples at once) does: the
-// hours before midnight see the run go on in the next day's samples.
+// hours before midnight see the run go on in the next day's samples. Both
+// the point-by-point and the batch read paths are held to it.
 func TestStoreHours_FlatAcrossMidnight(t *testing.T) {
+	for _, batch := range []bool{false, true} {
+		t.Run(fmt.Sprintf("batch=%v", batch), func(t *testing.T) { testFlatAcrossMidnight(t, batch) })
+	}
+}
+
+func testFlatAcrossMidnight(t *testing.T, batch bool) {
 	day0 := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
 	var rh []Sample
 	for i := 0; i < 2*24*4; i++ {
@@ -125,6 +147,9 @@ func TestStoreHours_FlatAcrossMidnight(t *testing.T) {
 	u := UnitPoints{Points: map[metrics.Role]metrics.PointRef{metrics.RoleEnteringRH: {Point: "MA RH", Unit: "%"}}}
 	sh := &StoreHours{Reader: r, Units: map[string]UnitPoints{"A": u}, Step: time.Minute,
 		IsMissing: func(err error) bool { return errors.Is(err, errNoSeries) }}
+	if batch {
+		sh.Reader = memBatchReader{r}
+	}
 	var store []*metrics.Hour
 	require.NoError(t, sh.Hours(context.Background(), []string{"A"}, day0, day0.Add(48*time.Hour), func(h *metrics.Hour) error {
 		store = append(store, h)
