@@ -272,6 +272,7 @@ func (r *Runner) runAHU(ctx context.Context, id string, slot time.Time) (ar AHUR
 		}
 		var recs []metrics.Record
 		var trs []metrics.Transition
+		updates := map[string]metrics.Transition{} // the latest while-open update of each alert
 		err := r.Source.Hours(ctx, []string{id}, cs, ce, func(h *metrics.Hour) error {
 			if h.AHU != id || h.Start.Before(cs) || !h.Start.Before(ce) {
 				return nil
@@ -282,6 +283,11 @@ func (r *Runner) runAHU(ctx context.Context, id string, slot time.Time) (ar AHUR
 				var tr []metrics.Transition
 				states, tr = metrics.Evaluate(rules, params, states, &rec)
 				trs = append(trs, tr...)
+				if w := r.Cfg.Webhook; w != nil {
+					for _, u := range metrics.UpdatesDue(states, w.UpdateEvery) {
+						updates[u.Alert.ID] = u
+					}
+				}
 			}
 			return nil
 		})
@@ -299,7 +305,7 @@ func (r *Runner) runAHU(ctx context.Context, id string, slot time.Time) (ar AHUR
 			through = cp // re-computing old hours never moves the checkpoint back
 		}
 		t0 := time.Now()
-		up := store.AlertUpdate{States: states, Transitions: trs}
+		up := store.AlertUpdate{States: states, Transitions: trs, Updates: latestUpdates(updates, states)}
 		if w := r.Cfg.Webhook; w != nil && w.MaxAge > 0 {
 			// A catch-up computes transitions of days ago: the sender
 			// would drop them, one by one, as older than max_age.
@@ -329,7 +335,7 @@ func (r *Runner) runAHU(ctx context.Context, id string, slot time.Time) (ar AHUR
 			case metrics.StatusClosed:
 				ar.Closed++
 			}
-			r.Log.Info().Str("ahu", id).Str("alert", t.Alert.Kind).Str("status", string(t.To)).Str("reason", t.Alert.Reason).Msg("alert")
+			r.Log.Info().Str("ahu", id).Str("alert", t.Alert.Kind).Str("status", string(t.To)).Str("reason", t.Alert.Told()).Msg("alert")
 		}
 		if len(trs) > 0 && r.Delivered != nil {
 			r.Delivered()
@@ -340,6 +346,21 @@ func (r *Runner) runAHU(ctx context.Context, id string, slot time.Time) (ar AHUR
 	}
 	r.obs().SetLag(id, slot.Sub(cp).Hours())
 	return ar
+}
+
+// latestUpdates are the while-open updates to queue after a chunk: the
+// latest of each alert still open at its end (a catch-up of many hours
+// posts an alert's figures once, not once an hour; one that closed posts
+// its close), in kind order.
+func latestUpdates(updates map[string]metrics.Transition, states map[string]metrics.Alert) []metrics.Transition {
+	var out []metrics.Transition
+	for _, a := range states {
+		if u, ok := updates[a.ID]; ok && a.Status == metrics.StatusOpen {
+			out = append(out, u)
+		}
+	}
+	sort.Slice(out, func(i, j int) bool { return out[i].Alert.Kind < out[j].Alert.Kind })
+	return out
 }
 
 // ErrNothingOwned reports a shard that owns no air handler.

@@ -118,6 +118,10 @@ type Webhook struct {
 	SecretEnv string        `yaml:"secret_env"` // environment variable with the HMAC-SHA256 signing secret
 	Timeout   time.Duration `yaml:"timeout"`    // per request; default 10s
 	MaxAge    time.Duration `yaml:"max_age"`    // undelivered events older than this are dropped and counted; default 24h
+	// UpdateEvery is the cadence of an open alert's while-open updates
+	// (its running totals), counted from the hour it opened; whole hours,
+	// default 1h.
+	UpdateEvery time.Duration `yaml:"update_every"`
 }
 
 // Sensors gives the accuracy of the site's sensors as 95 % half-widths of
@@ -423,6 +427,9 @@ func (c *Config) applyDefaults() {
 		}
 		if c.Webhook.MaxAge == 0 {
 			c.Webhook.MaxAge = 24 * time.Hour
+		}
+		if c.Webhook.UpdateEvery == 0 {
+			c.Webhook.UpdateEvery = time.Hour
 		}
 	}
 	if c.Site.ID == "" {
