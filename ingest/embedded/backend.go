@@ -43,6 +43,11 @@ func (b *Backend) ReadSeries(ctx context.Context, ref metrics.PointRef, _ psychr
 }
 
 // IsMissing reports a series that was never imported.
+// SampleSpan implements store.SampleSpanner.
+func (b *Backend) SampleSpan(ctx context.Context, ref metrics.PointRef) (time.Time, time.Time, bool, error) {
+	return b.s.SampleSpan(ctx, ref)
+}
+
 func (b *Backend) IsMissing(err error) bool { return errors.Is(err, ErrUnknownSeries) }
 
 // WriteSamples stores samples (SI) under the series name, with the unit
@@ -293,3 +298,5 @@ func (e results) Alerts(ctx context.Context, q dashboards.AlertQuery) ([]dashboa
 	}
 	return out, nil
 }
+
+var _ store.SampleSpanner = (*Backend)(nil)

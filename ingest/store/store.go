@@ -199,6 +199,15 @@ type PointChecker interface {
 	CheckPoint(ctx context.Context, ref metrics.PointRef, from, to time.Time) error
 }
 
+// SampleSpanner is what a store may also offer: the span of a point's
+// stored samples, for a command whose period defaults to what the store
+// holds ("dewline analyze" without --from/--to).
+type SampleSpanner interface {
+	// SampleSpan returns the times of ref's first and last stored sample;
+	// ok is false when it has none (or is not stored at all).
+	SampleSpan(ctx context.Context, ref metrics.PointRef) (first, last time.Time, ok bool, err error)
+}
+
 // UntaggedAdopter is what a store shared by several sites may also offer
 // (InfluxDB): results written before they carried the site tag are read by
 // no site until the site that wrote them adopts them.
