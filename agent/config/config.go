@@ -68,8 +68,10 @@ type InfluxConfig struct {
 	Org       string        `yaml:"org"`        // 2.x; empty for 1.8
 	Bucket    string        `yaml:"bucket"`     // 2.x bucket, or "db/rp" for 1.8
 	TokenEnv  string        `yaml:"token_env"`  // environment variable holding the token ("user:pass" for 1.8)
-	TokenFile string        `yaml:"token_file"` // or a file holding it
+	TokenFile string        `yaml:"token_file"` // or a file holding it, relative to the config file
 	Timeout   time.Duration `yaml:"timeout"`    // per request
+
+	baseDir string // the configuration file's folder, for a relative token_file
 }
 
 // Grid sets the time grid trend points are aligned onto.
@@ -232,7 +234,7 @@ func Load(path string) (*Config, error) {
 	if err != nil {
 		return nil, err
 	}
-	cfg.baseDir = filepath.Dir(path)
+	cfg.setBase(filepath.Dir(path))
 	return cfg, nil
 }
 
@@ -266,7 +268,7 @@ func LoadPartial(path string) (*Config, map[string]*ConfigError, error) {
 		return nil, nil, err
 	}
 	if len(ce.Problems) == 0 {
-		cfg.baseDir = filepath.Dir(path)
+		cfg.setBase(filepath.Dir(path))
 		return cfg, nil, nil
 	}
 	// Which air handler does each problem belong to? By the line ranges of
@@ -312,7 +314,7 @@ func LoadPartial(path string) (*Config, map[string]*ConfigError, error) {
 		return nil, nil, ce
 	}
 	cfg.AirHandlers = keep
-	cfg.baseDir = filepath.Dir(path)
+	cfg.setBase(filepath.Dir(path))
 	return cfg, out, nil
 }
 
@@ -449,6 +451,24 @@ func (c *Config) applyDefaults() {
 	}
 }
 
+// setBase records the configuration file's folder, against which the
+// store path, the state path and the token file are resolved.
+func (c *Config) setBase(dir string) {
+	c.baseDir = dir
+	if c.Store.InfluxDB != nil {
+		c.Store.InfluxDB.baseDir = dir
+	}
+}
+
+// TokenFilePath returns store.influxdb.token_file resolved against the
+// configuration file's folder, as the store path is; empty when none.
+func (ic *InfluxConfig) TokenFilePath() string {
+	if ic.TokenFile == "" || filepath.IsAbs(ic.TokenFile) || ic.baseDir == "" {
+		return ic.TokenFile
+	}
+	return filepath.Join(ic.baseDir, ic.TokenFile)
+}
+
 // StorePath returns the embedded store's file, resolved against the
 // configuration file's folder.
 func (c *Config) StorePath() string {
@@ -499,7 +519,7 @@ func (ic *InfluxConfig) Token() (string, error) {
 		}
 		return strings.TrimSpace(v), nil
 	case ic.TokenFile != "":
-		b, err := os.ReadFile(ic.TokenFile)
+		b, err := os.ReadFile(ic.TokenFilePath())
 		if err != nil {
 			return "", fmt.Errorf("store.influxdb.token_file: %w", err)
 		}

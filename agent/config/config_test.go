@@ -4,6 +4,7 @@ import (
 	"errors"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 
@@ -136,6 +137,30 @@ func TestInfluxConfig_Token(t *testing.T) {
 	tok, err = (&InfluxConfig{TokenFile: f}).Token()
 	require.NoError(t, err)
 	assert.Equal(t, "filetoken", tok)
+}
+
+// TestInfluxConfig_TokenFileBesideConfig: a relative token_file is found
+// beside the configuration file, as the store path is, whatever folder
+// the command runs in.
+func TestInfluxConfig_TokenFileBesideConfig(t *testing.T) {
+	b, err := os.ReadFile(filepath.Join("..", "..", "testdata", "config", "influx.good.yaml"))
+	require.NoError(t, err)
+	dir := t.TempDir()
+	y := regexp.MustCompile(`(?m)^(\s*)token_env: .*$`).ReplaceAllString(string(b), "${1}token_file: secrets/influx.token")
+	require.Contains(t, y, "token_file: secrets/influx.token")
+	require.NoError(t, os.MkdirAll(filepath.Join(dir, "secrets"), 0o700))
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "secrets", "influx.token"), []byte("beside-the-config\n"), 0o600))
+	p := filepath.Join(dir, "site.yaml")
+	require.NoError(t, os.WriteFile(p, []byte(y), 0o600))
+
+	// The test runs in the package's folder, not the configuration's.
+	cfg, err := Load(p)
+	require.NoError(t, err)
+	assert.Equal(t, filepath.Join(dir, "secrets", "influx.token"), cfg.Store.InfluxDB.TokenFilePath())
+	tok, err := cfg.Store.InfluxDB.Token()
+	require.NoError(t, err)
+	assert.Equal(t, "beside-the-config", tok)
+	require.NoError(t, cfg.CheckSecrets())
 }
 
 func TestAirHandler_FanHeatRiseK(t *testing.T) {
