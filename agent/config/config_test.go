@@ -7,6 +7,7 @@ import (
 	"regexp"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
@@ -191,4 +192,32 @@ func TestLoadConfigPartial(t *testing.T) {
 	_, broken, err = LoadPartial("../../testdata/config/minimal.good.yaml")
 	require.NoError(t, err)
 	assert.Empty(t, broken)
+}
+
+// TestWebhook_UpdateEvery: an open alert's updates come every hour unless
+// webhook.update_every says otherwise, in whole hours.
+func TestWebhook_UpdateEvery(t *testing.T) {
+	b, err := os.ReadFile(filepath.Join("..", "..", "testdata", "config", "minimal.good.yaml"))
+	require.NoError(t, err)
+	for _, tt := range []struct {
+		name, yaml string
+		want       time.Duration
+		wantErr    string
+	}{
+		{"default", `webhook: {url: "https://alerts.example.org/x"}`, time.Hour, ""},
+		{"six hours", `webhook: {url: "https://alerts.example.org/x", update_every: 6h}`, 6 * time.Hour, ""},
+		{"not whole hours", `webhook: {url: "https://alerts.example.org/x", update_every: 90m}`, 0, "webhook.update_every"},
+	} {
+		t.Run(tt.name, func(t *testing.T) {
+			cfg, err := Parse(strings.NewReader(string(b)+"\n"+tt.yaml+"\n"), "site.yaml")
+			if tt.wantErr != "" {
+				require.Error(t, err)
+				assert.Contains(t, err.Error(), tt.wantErr)
+				assert.Contains(t, err.Error(), "whole number of hours")
+				return
+			}
+			require.NoError(t, err)
+			assert.Equal(t, tt.want, cfg.Webhook.UpdateEvery)
+		})
+	}
 }
