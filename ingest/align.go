@@ -92,6 +92,10 @@ type roleStream struct {
 	pw      float64 // vapour pressure of cur, Pa; NaN until a temperature was seen
 	pending bool    // cur awaits the temperature of its instant
 
+	// the unit the values look logged in (nil: not judged)
+	look   *unitLook
+	hourly []unitTally // the last unitLookHours hours' tallies, this hour's last
+
 	// the run of identical samples the stream is in
 	runVal   float64
 	runFirst time.Time
@@ -160,6 +164,31 @@ func NewAligner(ahu string, from time.Time, step time.Duration, roles map[metric
 	return a, nil
 }
 
+// unitLookHours is how many hours (this one and those before it) the
+// aligner judges a role's unit over: a day, so that a series logged every
+// 15 minutes has the samples the rule asks for, and one cold or idle hour
+// alone does not read as a wrong unit.
+const unitLookHours = 24
+
+// LookAtUnits has the aligner judge, hour by hour, whether a role's values
+// look logged in another unit than its configured one (units: the
+// configured unit name by role; the samples pushed are SI, converted from
+// it): RoleQuality.OtherUnit names that unit when, over the hour and the
+// day before it, the rule of "dewline check" holds and the hour itself
+// does not fit its configured unit. Call it before the first Emit.
+func (a *Aligner) LookAtUnits(units map[metrics.Role]string) {
+	for _, r := range a.roles {
+		if name, ok := units[r.role]; ok && name != "" {
+			if u, err := psychro.LookupUnit(r.spec.Kind, name); err == nil {
+				r.look = newUnitLook(r.spec, u.Name)
+				if r.look.conf < 0 {
+					r.look = nil
+				}
+			}
+		}
+	}
+}
+
 // Next returns the start of the next hour Emit will produce.
 func (a *Aligner) Next() time.Time { return a.next }
 
@@ -223,6 +252,10 @@ func (a *Aligner) hour() *metrics.Hour {
 		var q metrics.RoleQuality
 		present, k := 0, 0
 		var firstIn time.Time // first sample inside the hour
+		var tally unitTally
+		if r.look != nil {
+			tally = r.look.tally()
+		}
 		consume := func(s Sample) {
 			if !s.Time.Before(hs) && s.Time.Before(he) {
 				q.Samples++
@@ -231,8 +264,13 @@ func (a *Aligner) hour() *metrics.Hour {
 				}
 				if math.IsNaN(s.Value) || math.IsInf(s.Value, 0) {
 					q.NotFinite++
-				} else if !r.spec.Plausible(s.Value) {
-					q.OutOfRange++
+				} else {
+					if !r.spec.Plausible(s.Value) {
+						q.OutOfRange++
+					}
+					if r.look != nil {
+						r.look.add(&tally, r.look.units[r.look.conf].FromSI(s.Value))
+					}
 				}
 			}
 			finite := !math.IsNaN(s.Value) && !math.IsInf(s.Value, 0)
@@ -277,10 +315,41 @@ func (a *Aligner) hour() *metrics.Hour {
 		r.queue = append(r.queue[:0], r.queue[k:]...)
 		q.Coverage = float64(present) / float64(a.n)
 		q.Flat, q.FlatFor = r.flat(q.Samples, firstIn)
+		if r.look != nil {
+			q.OtherUnit = r.otherUnit(tally)
+		}
 		h.Values[r.role] = vals
 		h.Quality[r.role] = q
 	}
 	return h
+}
+
+// otherUnit keeps the hour's tally with the day's before it and names the
+// unit the values look logged in when, over them, the rule holds and the
+// hour's own values do not fit the configured unit either.
+func (r *roleStream) otherUnit(hour unitTally) string {
+	if len(r.hourly) == unitLookHours {
+		copy(r.hourly, r.hourly[1:])
+		r.hourly = r.hourly[:unitLookHours-1]
+	}
+	r.hourly = append(r.hourly, hour)
+	if hour.n == 0 {
+		return ""
+	}
+	if conf := float64(hour.typ[r.look.conf]) / float64(hour.n); conf > unitLookMaxConf {
+		return ""
+	}
+	day := r.look.tally()
+	for _, t := range r.hourly {
+		day.n += t.n
+		for i, c := range t.typ {
+			day.typ[i] += c
+		}
+	}
+	if u, _, _, ok := r.look.other(day); ok {
+		return u.Name
+	}
+	return ""
 }
 
 // moisture returns the RH at a step whose temperature is tC, from the

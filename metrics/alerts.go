@@ -220,6 +220,8 @@ func checkImplausible(r *Record, p RuleParams) (bool, float64, float64, string) 
 			why = append(why, fmt.Sprintf("the air-side coil load (%.1f kWh) over the metered cooling input (%.1f kWh) is outside 1.5-7: suspect the airflow, the entering humidity sensor or the meter", r.CoilTotalKWh, r.CoolingInputKWh))
 		case f == FlagLeavingSensorOut:
 			why = append(why, "the coil leaving humidity sensor read nothing for part of the hour; the assumed coil model took over")
+		case strings.HasPrefix(f, FlagWrongUnit):
+			why = append(why, strings.TrimPrefix(f, FlagWrongUnit)+"'s values look logged in another unit than configured (dewline check --store names it): check the point's unit")
 		case strings.HasPrefix(f, FlagOutOfRange):
 			why = append(why, strings.TrimPrefix(f, FlagOutOfRange)+" logged values outside its physical range")
 		}
