@@ -76,3 +76,34 @@ func TestAligner_LooksAtUnits(t *testing.T) {
 		})
 	}
 }
+
+// BenchmarkAligner_LookAtUnits: aligning a day of one-minute supply
+// temperatures with the unit judged, beside the same without (the
+// reference, in the same run).
+func BenchmarkAligner_LookAtUnits(b *testing.B) {
+	t0 := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
+	for _, look := range []bool{false, true} {
+		name := "reference"
+		if look {
+			name = "look_at_units"
+		}
+		b.Run(name, func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				a, err := NewAligner("AHU-1", t0, time.Minute, map[metrics.Role]time.Duration{metrics.RoleSupplyTemp: 0})
+				if err != nil {
+					b.Fatal(err)
+				}
+				if look {
+					a.LookAtUnits(map[metrics.Role]string{metrics.RoleSupplyTemp: "F"})
+				}
+				for m := 0; m < 24*60; m++ {
+					a.Push(metrics.RoleSupplyTemp, Sample{Time: t0.Add(time.Duration(m) * time.Minute), Value: 14 + float64(m%7)/10})
+				}
+				if err := a.Emit(t0.Add(24*time.Hour), func(*metrics.Hour) error { return nil }); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
