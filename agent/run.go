@@ -413,9 +413,10 @@ func (r *Runner) runGroup(ctx context.Context, g []*ahuRun, slot time.Time) {
 
 // chunkResult is what one chunk computed for one air handler.
 type chunkResult struct {
-	recs   []metrics.Record
-	trs    []metrics.Transition
-	states map[string]metrics.Alert
+	recs    []metrics.Record
+	trs     []metrics.Transition
+	states  map[string]metrics.Alert
+	updates map[string]metrics.Transition // the latest while-open update of each alert
 }
 
 // runChunk computes and commits the hours [cs, ce) of the air handlers g.
@@ -467,7 +468,7 @@ func (r *Runner) runChunk(ctx context.Context, g []*ahuRun, cs, ce time.Time) {
 		if a.has && through.Before(a.cp) {
 			through = a.cp // re-computing old hours never moves the checkpoint back
 		}
-		up := store.AlertUpdate{States: c.states, Transitions: c.trs}
+		up := store.AlertUpdate{States: c.states, Transitions: c.trs, Updates: latestUpdates(c.updates, c.states)}
 		if w := r.Cfg.Webhook; w != nil && w.MaxAge > 0 {
 			// A catch-up computes transitions of days ago: the sender
 			// would drop them, one by one, as older than max_age.
@@ -502,7 +503,7 @@ func (r *Runner) runChunk(ctx context.Context, g []*ahuRun, cs, ce time.Time) {
 			case metrics.StatusClosed:
 				a.rep.Closed++
 			}
-			r.Log.Info().Str("ahu", a.id).Str("alert", t.Alert.Kind).Str("status", string(t.To)).Str("reason", t.Alert.Reason).Msg("alert")
+			r.Log.Info().Str("ahu", a.id).Str("alert", t.Alert.Kind).Str("status", string(t.To)).Str("reason", t.Alert.Told()).Msg("alert")
 		}
 		delivered = delivered || len(c.trs) > 0
 	}
@@ -543,6 +544,14 @@ func (r *Runner) compute(ctx context.Context, g []*ahuRun, cs, ce time.Time) (re
 			var tr []metrics.Transition
 			c.states, tr = metrics.Evaluate(rules, params, c.states, &rec)
 			c.trs = append(c.trs, tr...)
+			if w := r.Cfg.Webhook; w != nil {
+				for _, u := range metrics.UpdatesDue(c.states, w.UpdateEvery) {
+					if c.updates == nil {
+						c.updates = map[string]metrics.Transition{}
+					}
+					c.updates[u.Alert.ID] = u
+				}
+			}
 		}
 		return nil
 	})
@@ -588,6 +597,21 @@ func (r *Runner) commit(ctx context.Context, items []store.CommitItem, cs, ce ti
 		r.obs().SetStoreUp(true, "")
 	}
 	return errs
+}
+
+// latestUpdates are the while-open updates to queue after a chunk: the
+// latest of each alert still open at its end (a catch-up of many hours
+// posts an alert's figures once, not once an hour; one that closed posts
+// its close), in kind order.
+func latestUpdates(updates map[string]metrics.Transition, states map[string]metrics.Alert) []metrics.Transition {
+	var out []metrics.Transition
+	for _, a := range states {
+		if u, ok := updates[a.ID]; ok && a.Status == metrics.StatusOpen {
+			out = append(out, u)
+		}
+	}
+	sort.Slice(out, func(i, j int) bool { return out[i].Alert.Kind < out[j].Alert.Kind })
+	return out
 }
 
 // ErrNothingOwned reports a shard that owns no air handler.

@@ -41,8 +41,8 @@ func WriteSummaries(w io.Writer, cfg *config.Config, ahus []string, sums map[str
 		for _, a := range s.Alerts {
 			if a.Status == metrics.StatusOpen {
 				open++
-				notes = append(notes, fmt.Sprintf("  %s %s (%s, since %s): %s", s.AHU, a.Kind, a.Severity,
-					a.Start.In(cfg.Location).Format("2006-01-02 15:04"), a.Reason))
+				notes = append(notes, fmt.Sprintf("  %s %s (%s, since %s): %s", s.AHU, metrics.AlertLabel(a.Kind), a.Severity,
+					a.Start.In(cfg.Location).Format("2006-01-02 15:04"), a.Told()))
 			}
 		}
 		fmt.Fprintf(tw, "%s\t%d\t%.0f%%\t%.0f\t%.0f\t%.0f\t%.2f\t%.2f\t%s\t%d\t\n",

@@ -17,6 +17,7 @@ import (
 
 	"github.com/rs/zerolog"
 
+	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/psychro"
 )
 
@@ -577,11 +578,6 @@ var funcs = template.FuncMap{
 }
 
 // AlertLabel is how pages and the report name an alert kind: words in
-// sentence case ("reheat_not_needed" reads "Reheat not needed").
-func AlertLabel(kind string) string {
-	s := strings.ReplaceAll(kind, "_", " ")
-	if s == "" {
-		return s
-	}
-	return strings.ToUpper(s[:1]) + s[1:]
-}
+// sentence case ("reheat_not_needed" reads "Reheat not needed"), as
+// metrics.AlertLabel says everywhere.
+func AlertLabel(kind string) string { return metrics.AlertLabel(kind) }

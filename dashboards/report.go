@@ -29,7 +29,10 @@ type ReportOptions struct {
 	Trended map[string][]string
 	// Notes are more assumptions to state, e.g. how the site's pressure was set.
 	Notes []Assumption
-	// MaxAlerts is how many alerts each air handler lists, most money first (0: 5).
+	// MaxAlerts is how many alerts each air handler lists, most money
+	// first (0: 3). Each tells two hours' reasons (metrics.Alert.Told), so
+	// three keep an air handler's second sheet on one printed page; the
+	// table of alert kinds above them counts every alert.
 	MaxAlerts int
 	// TopFindings is how many air handlers get a sentence in the summary (0: 5).
 	TopFindings int
@@ -139,7 +142,7 @@ func BuildReport(ctx context.Context, site *Site, res Results, p Period, opt Rep
 		opt.Generated = time.Now()
 	}
 	if opt.MaxAlerts <= 0 {
-		opt.MaxAlerts = 5
+		opt.MaxAlerts = 3
 	}
 	if opt.TopFindings <= 0 {
 		opt.TopFindings = 5

@@ -105,6 +105,10 @@ type roleStream struct {
 	memoT   float64 // the last temperature moisture converted, and its p_ws
 	memoPws float64
 
+	// the unit the values look logged in (nil: not judged)
+	look   *unitLook
+	hourly []unitTally // the last unitLookHours hours' tallies, this hour's last
+
 	// the run of identical samples the stream is in
 	runVal   float64
 	runFirst int64
@@ -172,6 +176,31 @@ func NewAligner(ahu string, from time.Time, step time.Duration, roles map[metric
 		}
 	}
 	return a, nil
+}
+
+// unitLookHours is how many hours (this one and those before it) the
+// aligner judges a role's unit over: a day, so that a series logged every
+// 15 minutes has the samples the rule asks for, and one cold or idle hour
+// alone does not read as a wrong unit.
+const unitLookHours = 24
+
+// LookAtUnits has the aligner judge, hour by hour, whether a role's values
+// look logged in another unit than its configured one (units: the
+// configured unit name by role; the samples pushed are SI, converted from
+// it): RoleQuality.OtherUnit names that unit when, over the hour and the
+// day before it, the rule of "dewline check" holds and the hour itself
+// does not fit its configured unit. Call it before the first Emit.
+func (a *Aligner) LookAtUnits(units map[metrics.Role]string) {
+	for _, r := range a.roles {
+		if name, ok := units[r.role]; ok && name != "" {
+			if u, err := psychro.LookupUnit(r.spec.Kind, name); err == nil {
+				r.look = newUnitLook(r.spec, u.Name)
+				if r.look.conf < 0 {
+					r.look = nil
+				}
+			}
+		}
+	}
 }
 
 // Next returns the start of the next hour Emit will produce.
@@ -256,6 +285,9 @@ func (a *Aligner) hour() *metrics.Hour {
 			temps = slab[r.temp*a.n : (r.temp+1)*a.n]
 		}
 		c := consumer{r: r, hs: hs, he: he}
+		if r.look != nil {
+			c.tally = r.look.tally()
+		}
 		present, k := 0, 0
 		for i := 0; i < a.n; i++ {
 			mid := hs + int64(i)*step + step/2
@@ -287,6 +319,9 @@ func (a *Aligner) hour() *metrics.Hour {
 		q := c.q
 		q.Coverage = float64(present) / float64(a.n)
 		q.Flat, q.FlatFor = r.flat(q.Samples, c.firstIn, c.hasFirst)
+		if r.look != nil {
+			q.OtherUnit = r.otherUnit(c.tally)
+		}
 		h.Values[r.role] = vals
 		h.Quality[r.role] = q
 	}
@@ -300,6 +335,7 @@ type consumer struct {
 	q        metrics.RoleQuality
 	firstIn  int64 // first sample inside the hour
 	hasFirst bool
+	tally    unitTally // the hour's values by the unit they look logged in
 }
 
 func (c *consumer) consume(s tsample) {
@@ -313,8 +349,13 @@ func (c *consumer) consume(s tsample) {
 		}
 		if !finite {
 			c.q.NotFinite++
-		} else if !plausible {
-			c.q.OutOfRange++
+		} else {
+			if !plausible {
+				c.q.OutOfRange++
+			}
+			if r.look != nil {
+				r.look.add(&c.tally, r.look.units[r.look.conf].FromSI(s.v))
+			}
 		}
 	}
 	r.cur, r.good, r.has = s, plausible, true
@@ -328,6 +369,34 @@ func (c *consumer) consume(s tsample) {
 	default:
 		r.runVal, r.runFirst, r.runLast, r.runN = s.v, s.ns, s.ns, 1
 	}
+}
+
+// otherUnit keeps the hour's tally with the day's before it and names the
+// unit the values look logged in when, over them, the rule holds and the
+// hour's own values do not fit the configured unit either.
+func (r *roleStream) otherUnit(hour unitTally) string {
+	if len(r.hourly) == unitLookHours {
+		copy(r.hourly, r.hourly[1:])
+		r.hourly = r.hourly[:unitLookHours-1]
+	}
+	r.hourly = append(r.hourly, hour)
+	if hour.n == 0 {
+		return ""
+	}
+	if conf := float64(hour.typ[r.look.conf]) / float64(hour.n); conf > unitLookMaxConf {
+		return ""
+	}
+	day := r.look.tally()
+	for _, t := range r.hourly {
+		day.n += t.n
+		for i, c := range t.typ {
+			day.typ[i] += c
+		}
+	}
+	if u, _, _, ok := r.look.other(day); ok {
+		return u.Name
+	}
+	return ""
 }
 
 // moisture returns the RH at a step whose temperature is tC, from the

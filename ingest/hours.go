@@ -88,6 +88,14 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 		if err != nil {
 			return err
 		}
+		// The store holds SI converted from the configured units: the
+		// aligner judges, as "dewline check --store" does, whether the
+		// values look logged in another unit.
+		units := make(map[metrics.Role]string, len(u.Points))
+		for r, ref := range u.Points {
+			units[r] = ref.Unit
+		}
+		a.LookAtUnits(units)
 		roles := make([]string, 0, len(u.Points))
 		for r := range u.Points {
 			roles = append(roles, string(r))

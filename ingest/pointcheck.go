@@ -9,7 +9,6 @@ import (
 	"time"
 
 	"github.com/dewline/dewline/metrics"
-	"github.com/dewline/dewline/psychro"
 )
 
 // PointCheck accumulates what one series holds, for "dewline check":
@@ -24,12 +23,15 @@ type PointCheck struct {
 	prev       time.Time
 	intervals  map[int64]int // seconds between samples -> count
 	OutOfRange int
-	typical    map[string]int // unit name -> values typical under that unit
+	look       *unitLook // under which unit the values look typical
+	tally      unitTally
 }
 
 // NewPointCheck starts the check of the series name, used as ts.
 func NewPointCheck(name string, ts []PointTarget) *PointCheck {
-	return &PointCheck{Name: name, Targets: ts, intervals: map[int64]int{}, typical: map[string]int{}}
+	spec, _ := metrics.LookupRole(string(ts[0].Role))
+	look := newUnitLook(spec, ts[0].Unit.Name)
+	return &PointCheck{Name: name, Targets: ts, intervals: map[int64]int{}, look: look, tally: look.tally()}
 }
 
 // Add counts one raw value (in the unit the series is logged in).
@@ -52,12 +54,7 @@ func (p *PointCheck) Add(t time.Time, raw float64) {
 	if v := t0.Unit.ToSI(raw); math.IsNaN(v) || math.IsInf(v, 0) || !spec.Plausible(v) {
 		p.OutOfRange++
 	}
-	for _, name := range psychro.UnitNames(t0.Kind) {
-		u, _ := psychro.LookupUnit(t0.Kind, name)
-		if spec.Typical(u.ToSI(raw)) {
-			p.typical[u.Name]++
-		}
-	}
+	p.look.add(&p.tally, raw)
 }
 
 // Interval is the typical (most frequent) spacing of the samples.
@@ -71,23 +68,15 @@ func (p *PointCheck) Interval() time.Duration {
 	return time.Duration(best) * time.Second
 }
 
-// UnitNote says when the values look logged in another unit than the configured one.
+// UnitNote says when the values look logged in another unit than the
+// configured one (the rule of unitLook, which the analysis applies hour by
+// hour too).
 func (p *PointCheck) UnitNote() string {
-	if p.N < 10 {
+	best, bestShare, conf, ok := p.look.other(p.tally)
+	if !ok {
 		return ""
 	}
-	t0 := p.Targets[0]
-	conf := float64(p.typical[t0.Unit.Name]) / float64(p.N)
-	best, bestShare := "", conf
-	for name, c := range p.typical {
-		if share := float64(c) / float64(p.N); share > bestShare+0.3 {
-			best, bestShare = name, share
-		}
-	}
-	if best == "" || conf > 0.5 {
-		return ""
-	}
-	return fmt.Sprintf("values look like %s, not %s (%.0f %% typical as %s, %.0f %% as %s)", best, t0.Ref.Unit, 100*bestShare, best, 100*conf, t0.Ref.Unit)
+	return fmt.Sprintf("values look like %s, not %s (%.0f %% typical as %s, %.0f %% as %s)", best.Name, p.Targets[0].Ref.Unit, 100*bestShare, best.Name, 100*conf, p.Targets[0].Ref.Unit)
 }
 
 // WritePointChecks writes the checks as a table, a row per air handler

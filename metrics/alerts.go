@@ -220,6 +220,8 @@ func checkImplausible(r *Record, p RuleParams) (bool, float64, float64, string) 
 			why = append(why, fmt.Sprintf("the air-side coil load (%.1f kWh) over the metered cooling input (%.1f kWh) is outside 1.5-7: suspect the airflow, the entering humidity sensor or the meter", r.CoilTotalKWh, r.CoolingInputKWh))
 		case f == FlagLeavingSensorOut:
 			why = append(why, "the coil leaving humidity sensor read nothing for part of the hour; the assumed coil model took over")
+		case strings.HasPrefix(f, FlagWrongUnit):
+			why = append(why, strings.TrimPrefix(f, FlagWrongUnit)+"'s values look logged in another unit than configured (dewline check --store names it): check the point's unit")
 		case strings.HasPrefix(f, FlagOutOfRange):
 			why = append(why, strings.TrimPrefix(f, FlagOutOfRange)+" logged values outside its physical range")
 		}
@@ -253,8 +255,69 @@ type Alert struct {
 	Misses    int       // consecutive hours it did not
 	EnergyKWh float64   // at stake over the hours the condition held
 	Money     float64
-	Reason    string // the latest reason
+	Reason    string // the latest hour's reason (the last hour the condition held)
+	// OpenReason is the reason of the hour it opened; empty while pending
+	// (and in states kept before it was recorded).
+	OpenReason string `json:",omitempty"`
 }
+
+// Told is the alert's reason as every output tells it (the store, the
+// API, the pages, the report, the analysis summary and the webhook): the
+// opening hour's reason and the latest hour's, labelled,
+//
+//	opened: <the opening hour's reason>; latest hour: <the latest hour's reason>
+//
+// or "opened: <reason>" alone while the opening hour is the latest. An
+// alert without an opening reason (pending, or kept before it was
+// recorded) tells its latest reason unlabelled.
+func (a Alert) Told() string {
+	switch {
+	case a.OpenReason == "":
+		return a.Reason
+	case !a.Opened.IsZero() && !a.LastSeen.Add(time.Hour).After(a.Opened):
+		return "opened: " + a.OpenReason
+	}
+	return "opened: " + a.OpenReason + "; latest hour: " + a.Reason
+}
+
+// AlertLabel is how people read an alert kind: words in sentence case
+// ("reheat_not_needed" reads "Reheat not needed"). Pages, the report, the
+// analysis summary and the webhook's label use it.
+func AlertLabel(kind string) string {
+	s := strings.ReplaceAll(kind, "_", " ")
+	if s == "" {
+		return s
+	}
+	return strings.ToUpper(s[:1]) + s[1:]
+}
+
+// UpdatesDue are the while-open updates due after an hour was evaluated:
+// one for each open alert whose time open (from the end of the hour it
+// opened to the end of the hour evaluated last) is a whole positive
+// multiple of every, carrying the alert's running totals as a Transition
+// from open to open at the end of that hour. every under an hour gives
+// none. The result is sorted by kind.
+func UpdatesDue(states map[string]Alert, every time.Duration) []Transition {
+	if every < time.Hour {
+		return nil
+	}
+	var out []Transition
+	for _, a := range states {
+		if a.Status != StatusOpen || a.Opened.IsZero() {
+			continue
+		}
+		at := a.LastSeen.Add(time.Hour)
+		if d := at.Sub(a.Opened); d > 0 && d%every == 0 {
+			out = append(out, Transition{From: StatusOpen, To: StatusOpen, Alert: a, At: at})
+		}
+	}
+	sort.Slice(out, func(i, j int) bool { return out[i].Alert.Kind < out[j].Alert.Kind })
+	return out
+}
+
+// IsUpdate reports whether t is a while-open update (open to open) rather
+// than an alert opening or closing.
+func (t Transition) IsUpdate() bool { return t.From == StatusOpen && t.To == StatusOpen }
 
 // Transition is an alert that changed status in an hour.
 type Transition struct {
@@ -294,6 +357,7 @@ func Evaluate(rules []Rule, p RuleParams, prev map[string]Alert, r *Record) (map
 			if a.Status == StatusPending && a.Hits >= rule.Persist {
 				a.Status = StatusOpen
 				a.Opened = end
+				a.OpenReason = reason
 				out = append(out, Transition{From: StatusPending, To: StatusOpen, Alert: a, At: end})
 			}
 			next[rule.Kind] = a

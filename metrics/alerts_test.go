@@ -157,3 +157,52 @@ func TestRules_AvoidableClaimedOnce(t *testing.T) {
 	assert.InDelta(t, 3.9, money, 1e-9, "the hour's avoidable cost, once")
 	assert.LessOrEqual(t, kwh, r.ReheatAvoidKWh+r.CoolingAvoidKWh)
 }
+
+// TestAlert_ToldAndUpdates: an open alert tells the opening hour's reason
+// and the latest hour's, labelled, and is due a while-open update at every
+// whole multiple of the cadence after the hour it opened, carrying its
+// running totals.
+func TestAlert_ToldAndUpdates(t *testing.T) {
+	rules, p := metrics.Rules(), metrics.DefaultRuleParams
+	state := map[string]metrics.Alert{}
+	// 12, 10, then 7, 9, 11 kWh not needed: opens after hour 1 (10 kWh).
+	hours := []metrics.Record{dryReheatHour(0, 12), dryReheatHour(1, 10), dryReheatHour(2, 7), dryReheatHour(3, 9), dryReheatHour(4, 11)}
+	var told []string
+	var due [][]metrics.Transition
+	for i := range hours {
+		state, _ = metrics.Evaluate(rules, p, state, &hours[i])
+		told = append(told, state[metrics.AlertReheatNotNeeded].Told())
+		due = append(due, metrics.UpdatesDue(state, time.Hour))
+	}
+	assert.NotContains(t, told[0], "opened:", "pending: the latest reason alone")
+	assert.Regexp(t, `^opened: .*10\.0 kWh of it was not needed[^;]*$`, told[1], "the opening hour is the latest: no second part")
+	assert.Regexp(t, `^opened: .*10\.0 kWh of it was not needed.*; latest hour: .*11\.0 kWh of it was not needed`, told[4])
+
+	assert.Empty(t, due[0], "pending")
+	assert.Empty(t, due[1], "it opened this hour: the open event says it")
+	for i := 2; i < len(hours); i++ {
+		require.Len(t, due[i], 1, "hour %d", i)
+		u := due[i][0]
+		assert.True(t, u.IsUpdate())
+		assert.Equal(t, day0.Add(time.Duration(i+1)*time.Hour), u.At, "as of the end of the hour evaluated")
+		// The running total is the sum of the hours so far, written by hand.
+		assert.InDelta(t, []float64{0, 0, 29, 38, 49}[i], u.Alert.EnergyKWh, 1e-9, "hour %d", i)
+	}
+	// Every 2 h: the updates fall 2 h and 4 h after the opening hour ends.
+	state = map[string]metrics.Alert{}
+	var every2 []time.Time
+	for i := range hours {
+		state, _ = metrics.Evaluate(rules, p, state, &hours[i])
+		for _, u := range metrics.UpdatesDue(state, 2*time.Hour) {
+			every2 = append(every2, u.At)
+		}
+	}
+	assert.Equal(t, []time.Time{day0.Add(4 * time.Hour)}, every2)
+	assert.Empty(t, metrics.UpdatesDue(state, 0), "a cadence under an hour gives none")
+}
+
+func TestAlertLabel(t *testing.T) {
+	assert.Equal(t, "Reheat not needed", metrics.AlertLabel(metrics.AlertReheatNotNeeded))
+	assert.Equal(t, "Sensor implausible", metrics.AlertLabel(metrics.AlertSensorImplausible))
+	assert.Equal(t, "", metrics.AlertLabel(""))
+}

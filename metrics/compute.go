@@ -17,6 +17,7 @@ const (
 	FlagLowCoverage        = "low_coverage"
 	FlagOutOfRange         = "out_of_range:" // + role
 	FlagFlat               = "flat:"         // + role: identical readings all hour
+	FlagWrongUnit          = "wrong_unit:"   // + role: the values look logged in another unit than configured (RoleQuality.OtherUnit)
 	FlagMoistureAdded      = "coil_adds_moisture"
 	FlagSupersaturated     = "entering_above_saturation"
 	FlagReheatWithoutCoil  = "supply_warmer_without_reheat"
@@ -283,6 +284,9 @@ func Compute(u *Unit, hr *Hour) Record {
 		q := hr.Quality[Role(r)]
 		if q.OutOfRange > 0 || q.NotFinite > 0 {
 			flags = append(flags, FlagOutOfRange+r)
+		}
+		if q.OtherUnit != "" {
+			flags = append(flags, FlagWrongUnit+r)
 		}
 		if flatRoles[Role(r)] && q.OutOfRange == 0 &&
 			(q.Flat || q.Samples >= 10 && isFlat(hr.Values[Role(r)]) || slowFlatRoles[Role(r)] && q.FlatFor >= FlatSpan) {

@@ -29,6 +29,10 @@ type RoleQuality struct {
 	// they do not depend on the logging interval.
 	Flat    bool
 	FlatFor time.Duration
+	// OtherUnit names the unit the role's values look logged in when it is
+	// not the configured one (dewline check's rule, over the hour and the
+	// day before it); empty when they look right or were not judged.
+	OtherUnit string
 }
 
 // Steps returns the number of grid steps in the hour.

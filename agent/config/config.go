@@ -68,8 +68,10 @@ type InfluxConfig struct {
 	Org       string        `yaml:"org"`        // 2.x; empty for 1.8
 	Bucket    string        `yaml:"bucket"`     // 2.x bucket, or "db/rp" for 1.8
 	TokenEnv  string        `yaml:"token_env"`  // environment variable holding the token ("user:pass" for 1.8)
-	TokenFile string        `yaml:"token_file"` // or a file holding it
+	TokenFile string        `yaml:"token_file"` // or a file holding it, relative to the config file
 	Timeout   time.Duration `yaml:"timeout"`    // per request
+
+	baseDir string // the configuration file's folder, for a relative token_file
 }
 
 // Grid sets the time grid trend points are aligned onto.
@@ -118,6 +120,10 @@ type Webhook struct {
 	SecretEnv string        `yaml:"secret_env"` // environment variable with the HMAC-SHA256 signing secret
 	Timeout   time.Duration `yaml:"timeout"`    // per request; default 10s
 	MaxAge    time.Duration `yaml:"max_age"`    // undelivered events older than this are dropped and counted; default 24h
+	// UpdateEvery is the cadence of an open alert's while-open updates
+	// (its running totals), counted from the hour it opened; whole hours,
+	// default 1h.
+	UpdateEvery time.Duration `yaml:"update_every"`
 }
 
 // Sensors gives the accuracy of the site's sensors as 95 % half-widths of
@@ -248,7 +254,7 @@ func Load(path string) (*Config, error) {
 	if err != nil {
 		return nil, err
 	}
-	cfg.baseDir = filepath.Dir(path)
+	cfg.setBase(filepath.Dir(path))
 	return cfg, nil
 }
 
@@ -282,7 +288,7 @@ func LoadPartial(path string) (*Config, map[string]*ConfigError, error) {
 		return nil, nil, err
 	}
 	if len(ce.Problems) == 0 {
-		cfg.baseDir = filepath.Dir(path)
+		cfg.setBase(filepath.Dir(path))
 		return cfg, nil, nil
 	}
 	// Which air handler does each problem belong to? By the line ranges of
@@ -328,7 +334,7 @@ func LoadPartial(path string) (*Config, map[string]*ConfigError, error) {
 		return nil, nil, ce
 	}
 	cfg.AirHandlers = keep
-	cfg.baseDir = filepath.Dir(path)
+	cfg.setBase(filepath.Dir(path))
 	return cfg, out, nil
 }
 
@@ -444,6 +450,9 @@ func (c *Config) applyDefaults() {
 		if c.Webhook.MaxAge == 0 {
 			c.Webhook.MaxAge = 24 * time.Hour
 		}
+		if c.Webhook.UpdateEvery == 0 {
+			c.Webhook.UpdateEvery = time.Hour
+		}
 	}
 	if c.Site.ID == "" {
 		c.Site.ID = c.Site.Name
@@ -460,6 +469,24 @@ func (c *Config) applyDefaults() {
 			a.Cooling.EERPerKelvin = -0.1
 		}
 	}
+}
+
+// setBase records the configuration file's folder, against which the
+// store path, the state path and the token file are resolved.
+func (c *Config) setBase(dir string) {
+	c.baseDir = dir
+	if c.Store.InfluxDB != nil {
+		c.Store.InfluxDB.baseDir = dir
+	}
+}
+
+// TokenFilePath returns store.influxdb.token_file resolved against the
+// configuration file's folder, as the store path is; empty when none.
+func (ic *InfluxConfig) TokenFilePath() string {
+	if ic.TokenFile == "" || filepath.IsAbs(ic.TokenFile) || ic.baseDir == "" {
+		return ic.TokenFile
+	}
+	return filepath.Join(ic.baseDir, ic.TokenFile)
 }
 
 // StorePath returns the embedded store's file, resolved against the
@@ -512,7 +539,7 @@ func (ic *InfluxConfig) Token() (string, error) {
 		}
 		return strings.TrimSpace(v), nil
 	case ic.TokenFile != "":
-		b, err := os.ReadFile(ic.TokenFile)
+		b, err := os.ReadFile(ic.TokenFilePath())
 		if err != nil {
 			return "", fmt.Errorf("store.influxdb.token_file: %w", err)
 		}

@@ -4,8 +4,10 @@ import (
 	"errors"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
@@ -141,6 +143,30 @@ func TestInfluxConfig_Token(t *testing.T) {
 	assert.Equal(t, "filetoken", tok)
 }
 
+// TestInfluxConfig_TokenFileBesideConfig: a relative token_file is found
+// beside the configuration file, as the store path is, whatever folder
+// the command runs in.
+func TestInfluxConfig_TokenFileBesideConfig(t *testing.T) {
+	b, err := os.ReadFile(filepath.Join("..", "..", "testdata", "config", "influx.good.yaml"))
+	require.NoError(t, err)
+	dir := t.TempDir()
+	y := regexp.MustCompile(`(?m)^(\s*)token_env: .*$`).ReplaceAllString(string(b), "${1}token_file: secrets/influx.token")
+	require.Contains(t, y, "token_file: secrets/influx.token")
+	require.NoError(t, os.MkdirAll(filepath.Join(dir, "secrets"), 0o700))
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "secrets", "influx.token"), []byte("beside-the-config\n"), 0o600))
+	p := filepath.Join(dir, "site.yaml")
+	require.NoError(t, os.WriteFile(p, []byte(y), 0o600))
+
+	// The test runs in the package's folder, not the configuration's.
+	cfg, err := Load(p)
+	require.NoError(t, err)
+	assert.Equal(t, filepath.Join(dir, "secrets", "influx.token"), cfg.Store.InfluxDB.TokenFilePath())
+	tok, err := cfg.Store.InfluxDB.Token()
+	require.NoError(t, err)
+	assert.Equal(t, "beside-the-config", tok)
+	require.NoError(t, cfg.CheckSecrets())
+}
+
 func TestAirHandler_FanHeatRiseK(t *testing.T) {
 	for in, want := range map[string]float64{"0.6K": 0.6, "0.6C": 0.6, "1F": 1 / 1.8, "": 0} {
 		a := AirHandler{Fan: Fan{HeatRise: in}}
@@ -215,5 +241,33 @@ func TestConfig_FanCyclingAndAssumptions(t *testing.T) {
 		_, err := Parse(strings.NewReader(with(c.old, c.new)), "c.yaml")
 		require.Error(t, err, c.new)
 		assert.Contains(t, err.Error(), c.want)
+	}
+}
+
+// TestWebhook_UpdateEvery: an open alert's updates come every hour unless
+// webhook.update_every says otherwise, in whole hours.
+func TestWebhook_UpdateEvery(t *testing.T) {
+	b, err := os.ReadFile(filepath.Join("..", "..", "testdata", "config", "minimal.good.yaml"))
+	require.NoError(t, err)
+	for _, tt := range []struct {
+		name, yaml string
+		want       time.Duration
+		wantErr    string
+	}{
+		{"default", `webhook: {url: "https://alerts.example.org/x"}`, time.Hour, ""},
+		{"six hours", `webhook: {url: "https://alerts.example.org/x", update_every: 6h}`, 6 * time.Hour, ""},
+		{"not whole hours", `webhook: {url: "https://alerts.example.org/x", update_every: 90m}`, 0, "webhook.update_every"},
+	} {
+		t.Run(tt.name, func(t *testing.T) {
+			cfg, err := Parse(strings.NewReader(string(b)+"\n"+tt.yaml+"\n"), "site.yaml")
+			if tt.wantErr != "" {
+				require.Error(t, err)
+				assert.Contains(t, err.Error(), tt.wantErr)
+				assert.Contains(t, err.Error(), "whole number of hours")
+				return
+			}
+			require.NoError(t, err)
+			assert.Equal(t, tt.want, cfg.Webhook.UpdateEvery)
+		})
 	}
 }

@@ -585,6 +585,10 @@ func (c *Config) validateSchedule(v *validator) {
 		if w.Timeout < 0 || w.MaxAge < 0 {
 			v.bad(wp, "negative durations", "")
 		}
+		if w.UpdateEvery < 0 || w.UpdateEvery%time.Hour != 0 {
+			v.bad(at(wp, "update_every"), fmt.Sprintf("%s is not a whole number of hours", w.UpdateEvery),
+				"give the cadence of an open alert's updates in whole hours, e.g. 1h (the default) or 6h")
+		}
 	}
 }
 

@@ -439,53 +439,70 @@ func sleepCtx(ctx context.Context, d time.Duration) error {
 const (
 	TransitionOpen   = store.TransitionOpen
 	TransitionClosed = store.TransitionClosed
+	TransitionUpdate = store.TransitionUpdate
 )
 
 // alertBody is the JSON body of a webhook delivery.
 type alertBody struct {
-	ID         string  `json:"id"`
-	AHU        string  `json:"ahu"`
-	Kind       string  `json:"kind"`
-	Severity   string  `json:"severity"`
-	Transition string  `json:"transition"`
-	Start      string  `json:"start"`
-	End        *string `json:"end"` // null while open
-	At         string  `json:"at"`
-	EnergyKWh  float64 `json:"energy_kwh"`
-	Money      float64 `json:"money"`
-	Currency   string  `json:"currency"`
-	Reason     string  `json:"reason"`
+	ID           string  `json:"id"`
+	AHU          string  `json:"ahu"`
+	Kind         string  `json:"kind"`
+	Label        string  `json:"label"`
+	Severity     string  `json:"severity"`
+	Transition   string  `json:"transition"`
+	Start        string  `json:"start"`
+	End          *string `json:"end"` // null while open
+	At           string  `json:"at"`
+	Hours        float64 `json:"hours"`
+	EnergyKWh    float64 `json:"energy_kwh"`
+	Money        float64 `json:"money"`
+	Currency     string  `json:"currency"`
+	Reason       string  `json:"reason"`
+	OpenedReason string  `json:"opened_reason"`
+	LatestReason string  `json:"latest_reason"`
 }
 
-// AlertPayload returns the webhook body of an alert that opened or closed:
+// AlertPayload returns the webhook body of an alert that opened, closed or
+// is still open (a while-open update, metrics.UpdatesDue):
 //
-//	{"id", "ahu", "kind", "severity", "transition": "open"|"closed",
-//	 "start", "end" (null while open), "at", "energy_kwh", "money",
-//	 "currency", "reason"}
+//	{"id", "ahu", "kind", "label", "severity",
+//	 "transition": "open"|"update"|"closed",
+//	 "start", "end" (null while open), "at", "hours",
+//	 "energy_kwh", "money", "currency",
+//	 "reason", "opened_reason", "latest_reason"}
 //
-// with times in RFC 3339, UTC. A transition to another status is an error.
+// with times in RFC 3339, UTC. "at" is the end of the hour the figures are
+// as of; "hours", "energy_kwh" and "money" are the running totals from
+// "start" to "end" (closed) or "at" (open, update), so an update carries
+// them grown. "reason" is the alert's reason as every output tells it
+// (metrics.Alert.Told). A transition to another status is an error.
 func AlertPayload(t metrics.Transition, currency string) (json.RawMessage, error) {
 	a := t.Alert
 	b := alertBody{
-		ID: a.ID, AHU: a.AHU, Kind: a.Kind, Severity: string(a.Severity),
+		ID: a.ID, AHU: a.AHU, Kind: a.Kind, Label: metrics.AlertLabel(a.Kind), Severity: string(a.Severity),
 		Start:     rfc3339(a.Start),
 		At:        rfc3339(t.At),
-		EnergyKWh: a.EnergyKWh, Money: a.Money, Currency: currency, Reason: a.Reason,
+		EnergyKWh: a.EnergyKWh, Money: a.Money, Currency: currency,
+		Reason: a.Told(), OpenedReason: a.OpenReason, LatestReason: a.Reason,
 	}
-	switch t.To {
-	case metrics.StatusOpen:
+	until := t.At
+	switch {
+	case t.IsUpdate():
+		b.Transition = TransitionUpdate
+	case t.To == metrics.StatusOpen:
 		b.Transition = TransitionOpen
-	case metrics.StatusClosed:
+	case t.To == metrics.StatusClosed:
 		b.Transition = TransitionClosed
 		end := a.End
 		if end.IsZero() {
 			end = t.At
 		}
 		s := rfc3339(end)
-		b.End = &s
+		b.End, until = &s, end
 	default:
 		return nil, fmt.Errorf("alert payload %s: transition to %q is not delivered", a.ID, t.To)
 	}
+	b.Hours = until.Sub(a.Start).Hours()
 	for _, f := range []struct {
 		name string
 		v    float64

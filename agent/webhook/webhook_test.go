@@ -598,15 +598,20 @@ func TestNewWebhookSender(t *testing.T) {
 
 func TestAlertPayload(t *testing.T) {
 	start := time.Date(2025, 7, 14, 10, 0, 0, 0, time.UTC)
+	const opening, latest = "reheat added 6.0 kWh while the entering air was already dry", "reheat added 9.0 kWh while the entering air was already dry"
 	alert := metrics.Alert{
 		ID: "ahu-1/reheat_not_needed/20250714T10Z", AHU: "ahu-1", Kind: metrics.AlertReheatNotNeeded,
 		Severity: metrics.SeverityWarning, Start: start, EnergyKWh: 12.5, Money: 1.75,
-		Reason: "reheat added 12.5 kWh while the entering air was already dry",
+		Reason: opening,
 	}
-	closed := alert
-	closed.Status, closed.End = metrics.StatusClosed, start.Add(4*time.Hour)
+	// It held 10:00 and 11:00 and opened at 12:00.
 	opened := alert
-	opened.Status = metrics.StatusOpen
+	opened.Status, opened.Opened, opened.OpenReason, opened.LastSeen = metrics.StatusOpen, start.Add(2*time.Hour), opening, start.Add(time.Hour)
+	// Three hours later it is still open, its totals grown.
+	still := opened
+	still.LastSeen, still.EnergyKWh, still.Money, still.Reason = start.Add(4*time.Hour), 40.5, 5.67, latest
+	closed := still
+	closed.Status, closed.End, closed.LastSeen = metrics.StatusClosed, start.Add(5*time.Hour), start.Add(6*time.Hour)
 	// A time in another zone is written in UTC.
 	ny, err := time.LoadLocation("America/New_York")
 	require.NoError(t, err)
@@ -620,16 +625,32 @@ func TestAlertPayload(t *testing.T) {
 		{
 			name: "open",
 			tr:   metrics.Transition{From: metrics.StatusPending, To: metrics.StatusOpen, Alert: opened, At: start.Add(2 * time.Hour).In(ny)},
-			want: `{"id":"ahu-1/reheat_not_needed/20250714T10Z","ahu":"ahu-1","kind":"reheat_not_needed","severity":"warning",
-				"transition":"open","start":"2025-07-14T10:00:00Z","end":null,"at":"2025-07-14T12:00:00Z",
-				"energy_kwh":12.5,"money":1.75,"currency":"EUR","reason":"reheat added 12.5 kWh while the entering air was already dry"}`,
+			want: `{"id":"ahu-1/reheat_not_needed/20250714T10Z","ahu":"ahu-1","kind":"reheat_not_needed","label":"Reheat not needed","severity":"warning",
+				"transition":"open","start":"2025-07-14T10:00:00Z","end":null,"at":"2025-07-14T12:00:00Z","hours":2,
+				"energy_kwh":12.5,"money":1.75,"currency":"EUR",
+				"reason":"opened: reheat added 6.0 kWh while the entering air was already dry",
+				"opened_reason":"reheat added 6.0 kWh while the entering air was already dry",
+				"latest_reason":"reheat added 6.0 kWh while the entering air was already dry"}`,
+		},
+		{
+			name: "update",
+			tr:   metrics.Transition{From: metrics.StatusOpen, To: metrics.StatusOpen, Alert: still, At: start.Add(5 * time.Hour)},
+			want: `{"id":"ahu-1/reheat_not_needed/20250714T10Z","ahu":"ahu-1","kind":"reheat_not_needed","label":"Reheat not needed","severity":"warning",
+				"transition":"update","start":"2025-07-14T10:00:00Z","end":null,"at":"2025-07-14T15:00:00Z","hours":5,
+				"energy_kwh":40.5,"money":5.67,"currency":"EUR",
+				"reason":"opened: reheat added 6.0 kWh while the entering air was already dry; latest hour: reheat added 9.0 kWh while the entering air was already dry",
+				"opened_reason":"reheat added 6.0 kWh while the entering air was already dry",
+				"latest_reason":"reheat added 9.0 kWh while the entering air was already dry"}`,
 		},
 		{
 			name: "closed",
-			tr:   metrics.Transition{From: metrics.StatusOpen, To: metrics.StatusClosed, Alert: closed, At: start.Add(6 * time.Hour)},
-			want: `{"id":"ahu-1/reheat_not_needed/20250714T10Z","ahu":"ahu-1","kind":"reheat_not_needed","severity":"warning",
-				"transition":"closed","start":"2025-07-14T10:00:00Z","end":"2025-07-14T14:00:00Z","at":"2025-07-14T16:00:00Z",
-				"energy_kwh":12.5,"money":1.75,"currency":"EUR","reason":"reheat added 12.5 kWh while the entering air was already dry"}`,
+			tr:   metrics.Transition{From: metrics.StatusOpen, To: metrics.StatusClosed, Alert: closed, At: start.Add(7 * time.Hour)},
+			want: `{"id":"ahu-1/reheat_not_needed/20250714T10Z","ahu":"ahu-1","kind":"reheat_not_needed","label":"Reheat not needed","severity":"warning",
+				"transition":"closed","start":"2025-07-14T10:00:00Z","end":"2025-07-14T15:00:00Z","at":"2025-07-14T17:00:00Z","hours":5,
+				"energy_kwh":40.5,"money":5.67,"currency":"EUR",
+				"reason":"opened: reheat added 6.0 kWh while the entering air was already dry; latest hour: reheat added 9.0 kWh while the entering air was already dry",
+				"opened_reason":"reheat added 6.0 kWh while the entering air was already dry",
+				"latest_reason":"reheat added 9.0 kWh while the entering air was already dry"}`,
 		},
 		{
 			name:    "pending is not delivered",

@@ -16,6 +16,7 @@ import (
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
 	"github.com/dewline/dewline/ingest/outfile"
+	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
 )
 
@@ -28,8 +29,8 @@ func (s *stringList) Set(v string) error { *s = append(*s, v); return nil }
 func runAnalyze(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("analyze", flag.ContinueOnError)
 	cfgPath := fs.String("config", "", "configuration file (required)")
-	fromS := fs.String("from", "", "start of the period: a day (2026-07-01) or a time (2026-07-01T06:00 site time, or RFC 3339); required with the store, default with --input: the exports' first data")
-	toS := fs.String("to", "", "end of the period: the last day, included (2026-07-31), or a time, excluded; required with the store, default with --input: the exports' last data")
+	fromS := fs.String("from", "", "start of the period: a day (2026-07-01) or a time (2026-07-01T06:00 site time, or RFC 3339); default: the first stored sample of the configured points (with --input: the exports' first data)")
+	toS := fs.String("to", "", "end of the period: the last day, included (2026-07-31), or a time, excluded; default: through the hour of the last stored sample (with --input: the exports' last data)")
 	out := fs.String("out", "", "write the hourly records to this .csv or .json file")
 	noStore := fs.Bool("no-store", false, "do not write results to the configured store")
 	var inputs, units stringList
@@ -54,9 +55,6 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		if to, _, err = parseTo("--to", *toS, cfg.Location); err != nil {
 			return err
 		}
-	}
-	if len(inputs) == 0 && (from.IsZero() || to.IsZero()) {
-		return usagef("--from and --to are required when reading from the store, e.g. --from 2026-07-01 --to 2026-07-31 (%s)", periodRule)
 	}
 	if !from.IsZero() && !to.IsZero() && !to.After(from) {
 		return usagef("--to must be after --from")
@@ -106,6 +104,25 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 			return usagef("--ahu %q: no such air handler in %s", id, *cfgPath)
 		}
 		unitPoints[id] = ingest.UnitPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
+	}
+	if len(inputs) == 0 && (from.IsZero() || to.IsZero()) {
+		// The period the store holds: from the first stored sample of the
+		// points analysed through the hour of the last.
+		first, last, err := storedSpan(ctx, st, ahus, unitPoints)
+		if err != nil {
+			return err
+		}
+		if from.IsZero() {
+			from = first
+		}
+		if to.IsZero() {
+			to = last
+		}
+		if !to.After(from) {
+			return usagef("--to must be after --from (the store holds samples %s .. %s)",
+				first.In(cfg.Location).Format("2006-01-02 15:04"), last.In(cfg.Location).Format("2006-01-02 15:04"))
+		}
+		log.Info().Time("from", from).Time("to", to).Msg("period: the stored span of the points analysed")
 	}
 	var src agent.HourSource
 	var files *csvfile.Files
@@ -231,4 +248,41 @@ func reportInputs(log zerolog.Logger, files *csvfile.Files, rh *ingest.RecordHou
 	if u := rh.Unmatched.Summary(unmatchedExamples); u != "" {
 		log.Info().Str("unmatched", u).Msg("series not mapped to any air handler")
 	}
+}
+
+// storedSpan is the span of the stored samples of the air handlers'
+// points: from the hour of the first sample to the end of the hour of the
+// last, the period "analyze" reads from the store without --from/--to.
+func storedSpan(ctx context.Context, st *stores, ahus []string, points map[string]ingest.UnitPoints) (from, to time.Time, err error) {
+	sp, ok := st.Store.(store.SampleSpanner)
+	if !ok {
+		return time.Time{}, time.Time{}, usagef("give --from and --to: %s cannot tell the span of its samples", st.Describe())
+	}
+	seen := map[string]bool{}
+	for _, id := range ahus {
+		for _, ref := range points[id].Points {
+			if seen[ref.Name()] {
+				continue
+			}
+			seen[ref.Name()] = true
+			first, last, ok, err := sp.SampleSpan(ctx, ref)
+			if err != nil {
+				return time.Time{}, time.Time{}, fmt.Errorf("the stored span of %s: %w", ref.Name(), err)
+			}
+			if !ok {
+				continue
+			}
+			if from.IsZero() || first.Before(from) {
+				from = first
+			}
+			if last.After(to) {
+				to = last
+			}
+		}
+	}
+	if from.IsZero() {
+		return time.Time{}, time.Time{}, fmt.Errorf("%s holds no samples of the points configured for %s: load exports with \"dewline import\", or give --from and --to",
+			st.Describe(), strings.Join(ahus, ", "))
+	}
+	return from.UTC().Truncate(time.Hour), to.UTC().Truncate(time.Hour).Add(time.Hour), nil
 }

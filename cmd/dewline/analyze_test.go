@@ -93,9 +93,19 @@ func TestAnalyze_ExportAndStoreAgree(t *testing.T) {
 	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-15", "--out", fromStore)
 	require.Equal(t, 0, code, errOut)
 
+	// Without --from/--to the store's span is the period: the hours from
+	// the first stored sample through the last, as the export gives them.
+	spanned := filepath.Join(dir, "span.csv")
+	code, _, errOut = runCLI(t, "--log-level", "info", "analyze", "--config", cfg, "--out", spanned)
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, errOut, "stored span")
+
 	h1, r1 := readHourly(t, direct)
 	h2, r2 := readHourly(t, fromStore)
+	h3, r3 := readHourly(t, spanned)
 	assert.Equal(t, h1, h2)
+	assert.Equal(t, h1, h3)
+	assert.Equal(t, r1, r3, "the stored span gives the export's hours, 2026-07-14 00:00Z to 2026-07-15 23:00Z")
 	for _, name := range metrics.FieldNames() {
 		assert.Contains(t, h1, name)
 	}
@@ -137,7 +147,7 @@ func TestAnalyze_BadInput(t *testing.T) {
 		want string
 	}{
 		{"no config", []string{"analyze", "--input", data}, 2, "--config is required"},
-		{"store needs a period", []string{"analyze", "--config", cfg}, 2, "--from and --to are required"},
+		{"empty store", []string{"analyze", "--config", cfg}, 1, "holds no samples of the points configured for AHU-7"},
 		{"bad time", []string{"analyze", "--config", cfg, "--from", "July", "--to", "2026-07-15"}, 2, "is not a time"},
 		{"bad out", []string{"analyze", "--config", cfg, "--input", data, "--out", "x.xlsx"}, 2, ".csv or .json"},
 		{"unknown unit", []string{"analyze", "--config", cfg, "--input", data, "--ahu", "AHU-9"}, 2, `"AHU-9": no such air handler`},

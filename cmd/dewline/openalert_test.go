@@ -2,6 +2,8 @@ package main
 
 import (
 	"math"
+	"regexp"
+	"strings"
 	"testing"
 	"time"
 
@@ -38,9 +40,10 @@ func TestInflux_OpenAlertFiguresGrowHourly(t *testing.T) {
 			// The first night's alert opens at 20:00 site time (01:00 UTC on
 			// the 15th); step through it and into the next day.
 			for cut := start.Add(22 * time.Hour); cut.Before(start.Add(40 * time.Hour)); cut = cut.Add(time.Hour) {
-				code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", c.cfg, "--input", data,
+				code, out, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", c.cfg, "--input", data,
 					"--from", start.Format(time.RFC3339), "--to", cut.Format(time.RFC3339))
 				require.Equal(t, 0, code, errOut)
+				summaryTold := regexp.MustCompile(`(?m)^  AHU-7 Reheat not needed \(warning, since [0-9: -]+\): opened: .+; latest hour: .+$`)
 				if res == nil { // the embedded file exists after the first analysis
 					cfg, err := loadConfig(c.cfg)
 					require.NoError(t, err)
@@ -77,6 +80,14 @@ func TestInflux_OpenAlertFiguresGrowHourly(t *testing.T) {
 					require.Positive(t, hours, "%s through %s: no stored hour held the condition", a.ID, cut)
 					assert.InDelta(t, kwh, a.EnergyKWh, 1e-6*math.Max(1, kwh), "%s (%s) through %s: energy vs %d stored hours", a.ID, a.State, cut, hours)
 					assert.InDelta(t, money, a.Money, 1e-6*math.Max(1, money), "%s (%s) through %s: money vs %d stored hours", a.ID, a.State, cut, hours)
+					// The reason tells the opening hour's and the latest
+					// hour's, labelled, as the analysis summary does.
+					if a.State == string(metrics.StatusOpen) && cut.Sub(a.Start) > 3*time.Hour {
+						assert.Regexp(t, `^opened: .*not needed.*; latest hour: .*not needed`, a.Reason, "%s through %s", a.ID, cut)
+						assert.Regexp(t, summaryTold, out, "the summary through %s", cut)
+						assert.Contains(t, out, "opened: "+strings.SplitN(strings.TrimPrefix(a.Reason, "opened: "), "; latest hour: ", 2)[0],
+							"the summary tells the same opening reason through %s", cut)
+					}
 					if a.State == string(metrics.StatusOpen) {
 						openChecked++
 						if prev, ok := last[a.ID]; ok && a.EnergyKWh > prev {

@@ -43,6 +43,11 @@ func (b *Backend) ReadSeries(ctx context.Context, ref metrics.PointRef, _ psychr
 }
 
 // IsMissing reports a series that was never imported.
+// SampleSpan implements store.SampleSpanner.
+func (b *Backend) SampleSpan(ctx context.Context, ref metrics.PointRef) (time.Time, time.Time, bool, error) {
+	return b.s.SampleSpan(ctx, ref)
+}
+
 func (b *Backend) IsMissing(err error) bool { return errors.Is(err, ErrUnknownSeries) }
 
 // WriteSamples stores samples (SI) under the series name, with the unit
@@ -91,7 +96,7 @@ func (b *Backend) PutResults(ctx context.Context, recs []metrics.Record, tr []me
 // openRow is an open alert's row with its running totals.
 func openRow(a metrics.Alert) AlertRow {
 	return AlertRow{ID: a.ID, AHU: a.AHU, Kind: a.Kind, Severity: string(a.Severity),
-		State: string(a.Status), Start: a.Start, EnergyKWh: a.EnergyKWh, Cost: a.Money, Reason: a.Reason}
+		State: string(a.Status), Start: a.Start, EnergyKWh: a.EnergyKWh, Cost: a.Money, Reason: a.Told()}
 }
 
 // Results is the dashboard's read side of the file.
@@ -212,6 +217,18 @@ func addAlerts(c *Commit, up store.AlertUpdate, payload store.PayloadFunc) error
 		}
 		c.Events = append(c.Events, ev)
 	}
+	// While-open updates: an event each, after the transitions (the
+	// sender delivers in queue order); the alert's row comes from States.
+	for _, t := range up.Updates {
+		if !t.IsUpdate() || t.At.Before(up.QueueFrom) {
+			continue
+		}
+		body, err := payload(t)
+		if err != nil {
+			return err
+		}
+		c.Events = append(c.Events, AlertEvent{AlertID: t.Alert.ID, Transition: store.EventName(t), At: t.At, Payload: body})
+	}
 	// Pending alerts are kept in the alerts table too, for dashboards.
 	kinds := make([]string, 0, len(up.States))
 	for k := range up.States {
@@ -233,12 +250,12 @@ func addAlerts(c *Commit, up store.AlertUpdate, payload store.PayloadFunc) error
 func alertRecords(t metrics.Transition, payload store.PayloadFunc) (AlertRow, AlertEvent, error) {
 	a := t.Alert
 	row := AlertRow{ID: a.ID, AHU: a.AHU, Kind: a.Kind, Severity: string(a.Severity),
-		State: string(t.To), Start: a.Start, End: a.End, EnergyKWh: a.EnergyKWh, Cost: a.Money, Reason: a.Reason}
+		State: string(t.To), Start: a.Start, End: a.End, EnergyKWh: a.EnergyKWh, Cost: a.Money, Reason: a.Told()}
 	body, err := payload(t)
 	if err != nil {
 		return row, AlertEvent{}, err
 	}
-	return row, AlertEvent{AlertID: a.ID, Transition: store.TransitionName(t.To), At: t.At, Payload: body}, nil
+	return row, AlertEvent{AlertID: a.ID, Transition: store.EventName(t), At: t.At, Payload: body}, nil
 }
 
 func hourRow(r *metrics.Record) HourRow {
@@ -281,3 +298,5 @@ func (e results) Alerts(ctx context.Context, q dashboards.AlertQuery) ([]dashboa
 	}
 	return out, nil
 }
+
+var _ store.SampleSpanner = (*Backend)(nil)

@@ -226,6 +226,21 @@ func (s *Store) ReadSeries(ctx context.Context, ref metrics.PointRef, from, to t
 	return readDone(rows, err, "read series "+quote(name))
 }
 
+// SampleSpan returns the times of the first and the last stored sample of
+// ref's series; ok is false when it has none or was never imported.
+func (s *Store) SampleSpan(ctx context.Context, ref metrics.PointRef) (first, last time.Time, ok bool, err error) {
+	var lo, hi sql.NullInt64
+	err = s.db.QueryRowContext(ctx, `SELECT min(x.ts_ms), max(x.ts_ms) FROM series s JOIN samples x ON x.series_id = s.id
+		WHERE s.name = ?`, ref.Name()).Scan(&lo, &hi)
+	if err != nil {
+		return time.Time{}, time.Time{}, false, fmt.Errorf("span of series %s: %w", quote(ref.Name()), err)
+	}
+	if !lo.Valid || !hi.Valid {
+		return time.Time{}, time.Time{}, false, nil
+	}
+	return fromMs(lo.Int64), fromMs(hi.Int64), true, nil
+}
+
 // unknownSeries is the error for a series that is not in the store.
 func unknownSeries(name string) error {
 	return fmt.Errorf("series %s: %w in the embedded store; load it with \"dewline import\"", quote(name), ErrUnknownSeries)

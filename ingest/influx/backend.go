@@ -48,6 +48,16 @@ func (b *Backend) ReadSeries(ctx context.Context, ref metrics.PointRef, kind psy
 }
 
 // IsMissing reports a point that matches nothing in the bucket.
+// SampleSpan implements store.SampleSpanner: the first and last sample of
+// the point's series, looking back to the Unix epoch.
+func (b *Backend) SampleSpan(ctx context.Context, ref metrics.PointRef) (time.Time, time.Time, bool, error) {
+	loc, err := locate(ref)
+	if err != nil {
+		return time.Time{}, time.Time{}, false, err
+	}
+	return b.c.Span(ctx, loc.measurement, loc.field, loc.tags, time.Now())
+}
+
 func (b *Backend) IsMissing(err error) bool { return errors.Is(err, ErrNoSuchPoint) }
 
 // WriteSamples writes samples where ReadSeries finds them (Client.WriteSamples).
@@ -117,3 +127,5 @@ func (b *Backend) Close() error {
 	b.c.Close()
 	return nil
 }
+
+var _ store.SampleSpanner = (*Backend)(nil)

@@ -254,10 +254,15 @@ func HourlyPoints(site string, recs []metrics.Record) []Point {
 }
 
 // AlertPoints are site's alert transitions as dewline_alert points, tagged
-// site (SiteTag), ahu, kind, severity and status.
+// site (SiteTag), ahu, kind, severity and status. While-open updates are
+// not transitions and write no point (the open transition point carries
+// the running totals, OpenAlertPoints).
 func AlertPoints(site string, tr []metrics.Transition) []Point {
 	pts := make([]Point, 0, len(tr))
 	for _, t := range tr {
+		if t.IsUpdate() {
+			continue
+		}
 		a := t.Alert
 		pts = append(pts, Point{Measurement: MeasurementAlert,
 			Tags:    map[string]string{"site": SiteTag(site), "ahu": a.AHU, "kind": a.Kind, "severity": string(a.Severity), "status": string(t.To)},
@@ -308,7 +313,7 @@ func alertStrings(a metrics.Alert) map[string]string {
 	if !a.End.IsZero() {
 		end = a.End.UTC().Format(time.RFC3339)
 	}
-	return map[string]string{"id": a.ID, "reason": a.Reason, "start": a.Start.UTC().Format(time.RFC3339), "end": end}
+	return map[string]string{"id": a.ID, "reason": a.Told(), "start": a.Start.UTC().Format(time.RFC3339), "end": end}
 }
 
 // LineProtocol is p as the client writes it: InfluxDB line protocol, with

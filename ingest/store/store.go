@@ -134,13 +134,18 @@ type AlertUpdate struct {
 	// sender's webhook.max_age, which would only drop them. Zero queues
 	// every transition.
 	QueueFrom time.Time
+	// Updates are the run's while-open updates (metrics.UpdatesDue): each
+	// is queued for the webhook as an event of its own (EventName), unless
+	// before QueueFrom. They change no alert: States carry the totals.
+	Updates []metrics.Transition
 }
 
 // Event is an alert transition waiting to be delivered to the webhook.
 type Event struct {
 	Seq     int64 // the store's sequence number, increasing
 	AlertID string
-	// Transition is "open" or "closed".
+	// Transition is the event's name (EventName): "open", "closed" or
+	// "update/<hour>".
 	Transition string
 	At         time.Time
 	Payload    json.RawMessage // the JSON body to deliver
@@ -178,11 +183,19 @@ type PayloadFunc func(t metrics.Transition) (json.RawMessage, error)
 const (
 	TransitionOpen   = "open"
 	TransitionClosed = "closed"
+	TransitionUpdate = "update"
 )
 
-// TransitionName is the event name of a transition to s.
-func TransitionName(s metrics.Status) string {
-	if s == metrics.StatusOpen {
+// EventName is the name an event of t is kept and delivered under: "open",
+// "closed", or for a while-open update "update/" and the end of the hour
+// it is as of (20261021T14Z, UTC). With the alert's id it is the event's
+// key: one event per alert and name, so re-analysing an hour queues no
+// second event.
+func EventName(t metrics.Transition) string {
+	switch {
+	case t.IsUpdate():
+		return TransitionUpdate + "/" + t.At.UTC().Format("20060102T15Z")
+	case t.To == metrics.StatusOpen:
 		return TransitionOpen
 	}
 	return TransitionClosed
@@ -219,6 +232,15 @@ func EncodeStates(states map[string]metrics.Alert) (map[string]json.RawMessage, 
 // stores that cannot tell them apart when read.
 type PointChecker interface {
 	CheckPoint(ctx context.Context, ref metrics.PointRef, from, to time.Time) error
+}
+
+// SampleSpanner is what a store may also offer: the span of a point's
+// stored samples, for a command whose period defaults to what the store
+// holds ("dewline analyze" without --from/--to).
+type SampleSpanner interface {
+	// SampleSpan returns the times of ref's first and last stored sample;
+	// ok is false when it has none (or is not stored at all).
+	SampleSpan(ctx context.Context, ref metrics.PointRef) (first, last time.Time, ok bool, err error)
 }
 
 // UntaggedAdopter is what a store shared by several sites may also offer
