@@ -10,6 +10,7 @@ import (
 
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
+	"github.com/dewline/dewline/ingest/importer"
 )
 
 func runCheck(ctx context.Context, e *env, args []string) error {
@@ -95,7 +96,7 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 				fmt.Fprintf(e.stdout, "  rejected: %s\n", ex.String())
 			}
 		}
-		printRowUnits(e.stdout, rowUnits)
+		importer.WriteRowUnits(e.stdout, rowUnits)
 		if u := unmatched.Summary(unmatchedExamples); u != "" {
 			fmt.Fprintf(e.stdout, "%s; map them under air_handlers[].points if they are needed\n", u)
 		}
