@@ -111,4 +111,3 @@ func listenFree(addr string) error {
 	}
 	return ln.Close()
 }
-
