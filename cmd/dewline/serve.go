@@ -8,11 +8,8 @@ import (
 	"time"
 
 	"github.com/dewline/dewline/agent/config"
-	"github.com/dewline/dewline/dashboards"
-
 	"github.com/dewline/dewline/agent/server"
-
-	"github.com/dewline/dewline/agent/telemetry"
+	"github.com/dewline/dewline/dashboards"
 )
 
 // siteFor is the dashboard's view of the configuration.
@@ -118,16 +115,6 @@ func portfolioFor(ctx context.Context, cfgs []*config.Config, paths []string, e 
 	return pf, pings, closeAll, nil
 }
 
-// storeProbeEvery is how often serve checks that its store still answers.
-const storeProbeEvery = 5 * time.Second
-
-func errText(err error) string {
-	if err == nil {
-		return ""
-	}
-	return err.Error()
-}
-
 // serveDashboard serves the dashboard with the agent's HTTP server (health,
 // readiness, metrics, security headers, token) until ctx ends.
 func serveDashboard(ctx context.Context, e *env, cfg *config.Config, st *stores, addr string) error {
@@ -145,59 +132,6 @@ func servePages(ctx context.Context, e *env, cfg *config.Config, pages http.Hand
 	if err != nil {
 		return err
 	}
-	tel := telemetry.NewTelemetry()
-	// /readyz follows the store: checked now and every storeProbeEvery.
-	probe := func() error {
-		pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
-		defer cancel()
-		for _, ping := range pings {
-			if err := ping(pctx); err != nil {
-				return err
-			}
-		}
-		return nil
-	}
-	up := true
-	report := func(err error) {
-		tel.SetStoreUp(err == nil, errText(err))
-		switch {
-		case err != nil && up:
-			e.log.Warn().Err(err).Msg("the store does not answer; /readyz says so until it does")
-		case err == nil && !up:
-			e.log.Info().Msg("the store answers again")
-		}
-		up = err == nil
-	}
-	report(probe())
-	probed := make(chan struct{})
-	loopCtx, stopProbe := context.WithCancel(ctx)
-	go func() {
-		defer close(probed)
-		tick := time.NewTicker(storeProbeEvery)
-		defer tick.Stop()
-		for {
-			select {
-			case <-loopCtx.Done():
-				return
-			case <-tick.C:
-				report(probe())
-			}
-		}
-	}()
-	defer func() { stopProbe(); <-probed }()
-	log := e.log // the server adds its component
-	srv, err := server.NewServer(server.ServerOptions{Listen: addr, BearerToken: token, Telemetry: tel, Pages: pages, Log: log})
-	if err != nil {
-		return err
-	}
-	if err := srv.Start(); err != nil {
-		return err
-	}
-	url := "http://" + srv.Addr() + "/"
-	log.Info().Str("url", url).Msg("dashboard listening")
-	fmt.Fprintf(e.stdout, "dashboard: %s (Ctrl-C to stop)\n", url)
-	<-ctx.Done()
-	sctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
-	defer cancel()
-	return srv.Shutdown(sctx)
+	return server.ServePages(ctx, server.PagesOptions{Listen: addr, BearerToken: token, Pages: pages, Pings: pings,
+		Log: e.log, Out: e.stdout})
 }
