@@ -6,12 +6,10 @@ import (
 	"flag"
 	"fmt"
 	"os"
-	"strings"
 	"time"
 
 	"github.com/dewline/dewline/ingest/csvfile"
 	"github.com/dewline/dewline/ingest/draft"
-	"github.com/dewline/dewline/ingest/influx"
 )
 
 // runDraft proposes a configuration from CSV exports or an InfluxDB bucket.
@@ -37,7 +35,7 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 		fmt.Fprintln(fs.Output(), "usage: dewline draft [flags] trends.csv ...\n       dewline draft [flags] --influx-url URL --bucket B")
 		fs.PrintDefaults()
 	}
-	if err := parseFlagsFiles(fs, args, e); err != nil {
+	if err := parseFlagsFiles(fs, args, e.stdout); err != nil {
 		return err
 	}
 	inputs = append(inputs, fs.Args()...)
@@ -58,15 +56,6 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 		if *bucket == "" {
 			return usagef("--influx-url needs --bucket")
 		}
-		token := ""
-		if *tokenEnv != "" {
-			token = strings.TrimSpace(os.Getenv(*tokenEnv))
-		}
-		c, err := influx.New(influx.Options{URL: *influxURL, Org: *org, Bucket: *bucket, Token: token})
-		if err != nil {
-			return err
-		}
-		defer c.Close()
 		to := time.Now()
 		if *toS != "" {
 			t, err := time.Parse(time.RFC3339, *toS)
@@ -75,14 +64,11 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 			}
 			to = t
 		}
-		points, err = draft.ReadInflux(ctx, c, to.Add(-*since), to, 500)
+		var err error
+		points, err = draft.ReadBucket(ctx, draft.Bucket{URL: *influxURL, Bucket: *bucket, Org: *org, TokenEnv: *tokenEnv,
+			From: to.Add(-*since), To: to}, &s)
 		if err != nil {
 			return err
-		}
-		s.Sources = []string{fmt.Sprintf("InfluxDB %s, bucket %s, %s to %s", *influxURL, *bucket, to.Add(-*since).UTC().Format(time.RFC3339), to.UTC().Format(time.RFC3339))}
-		s.InfluxURL, s.InfluxBucket, s.InfluxOrg = *influxURL, *bucket, *org
-		if token != "" {
-			s.InfluxTokenEnv = *tokenEnv
 		}
 	} else {
 		opt := csvfile.Options{Location: loc, Year: *year, Settings: csvfile.Settings{DecimalComma: "--decimal-comma",
@@ -141,55 +127,8 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 	if *out != "" {
 		sw = e.stdout
 	}
-	complete := 0
-	for _, a := range prop.AirHandlers {
-		low := 0
-		for _, m := range a.Mappings {
-			if m.Conf == draft.Low {
-				low++
-			}
-		}
-		state := "complete"
-		if !a.Complete() {
-			state = "incomplete, commented out"
-		} else {
-			complete++
-		}
-		fmt.Fprintf(sw, "%-10s %2d roles mapped, %d to check (LOW), %s\n", a.ID, len(a.Mappings), low, state)
-		for _, m := range a.Missing {
-			fmt.Fprintf(sw, "           missing %s: look for %s\n", m.Role, m.LookFor)
-		}
-	}
-	fmt.Fprintf(sw, "%d point(s) read, %d left unassigned (listed at the end of the file)\n", len(points), len(prop.Unassigned))
-	if *out != "" {
-		fmt.Fprintf(sw, "next: review the ASSUMED and LOW lines of %s, then dewline check --config %s\n", *out, *out)
-	}
-	if complete == 0 {
-		return errors.New("no air handler has every required role; complete one in the draft (see missing above)")
-	}
-	return nil
+	return prop.WriteSummary(sw, len(points), *out)
 }
-
-// parseFlagsFiles parses flags that may be followed by file names.
-func parseFlagsFiles(fs *flag.FlagSet, args []string, e *env) error {
-	usage := fs.Usage
-	fs.SetOutput(nopWriter{})
-	fs.Usage = func() {}
-	err := fs.Parse(args)
-	if errors.Is(err, flag.ErrHelp) {
-		fs.SetOutput(e.stdout)
-		usage()
-		return err
-	}
-	if err != nil {
-		return usagef("%v (run \"dewline %s -h\" for the flags)", err, fs.Name())
-	}
-	return nil
-}
-
-type nopWriter struct{}
-
-func (nopWriter) Write(p []byte) (int, error) { return len(p), nil }
 
 func triFlag(name, v string) (csvfile.Tri, error) {
 	switch v {

@@ -156,6 +156,18 @@ func parseWithConfig(fs *flag.FlagSet, args []string, w io.Writer) (*config.Conf
 // parseFlags parses a command's flags. Mistakes come back as a one-line
 // usage error; -h prints the flags to w and returns flag.ErrHelp.
 func parseFlags(fs *flag.FlagSet, args []string, w io.Writer) error {
+	if err := parseFlagsFiles(fs, args, w); err != nil {
+		return err
+	}
+	if fs.NArg() > 0 {
+		return usagef("unexpected argument %q (run \"dewline %s -h\" for the flags)", fs.Arg(0), fs.Name())
+	}
+	return nil
+}
+
+// parseFlagsFiles parses flags that may be followed by file names
+// (parseFlags without the check for arguments left over).
+func parseFlagsFiles(fs *flag.FlagSet, args []string, w io.Writer) error {
 	usage := fs.Usage
 	fs.SetOutput(io.Discard)
 	fs.Usage = func() {}
@@ -167,9 +179,6 @@ func parseFlags(fs *flag.FlagSet, args []string, w io.Writer) error {
 	}
 	if err != nil {
 		return usagef("%v (run \"dewline %s -h\" for the flags)", err, fs.Name())
-	}
-	if fs.NArg() > 0 {
-		return usagef("unexpected argument %q (run \"dewline %s -h\" for the flags)", fs.Arg(0), fs.Name())
 	}
 	return nil
 }
