@@ -5,7 +5,6 @@ import (
 	"errors"
 	"flag"
 	"fmt"
-	"os"
 	"time"
 
 	"github.com/dewline/dewline/ingest/csvfile"
@@ -101,25 +100,8 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 		return errors.New("no numeric series found; check the exports or the bucket and --since")
 	}
 	prop := draft.Propose(points, draft.Options{DefaultID: *id})
-	w := e.stdout
-	var f *os.File
-	if *out != "" {
-		var err error
-		if f, err = os.Create(*out); err != nil {
-			return fmt.Errorf("create %s: %w", *out, err)
-		}
-		w = f
-	}
-	if err := prop.Write(w, s); err != nil {
-		if f != nil {
-			_ = f.Close()
-		}
-		return fmt.Errorf("write the draft: %w", err)
-	}
-	if f != nil {
-		if err := f.Close(); err != nil {
-			return fmt.Errorf("write %s: %w", *out, err)
-		}
+	if err := prop.WriteFile(*out, e.stdout, s); err != nil {
+		return err
 	}
 	// The summary goes to standard error when the configuration goes to
 	// standard output.
