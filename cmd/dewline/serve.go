@@ -13,19 +13,7 @@ import (
 )
 
 // siteFor is the dashboard's view of the configuration.
-func siteFor(cfg *config.Config) *dashboards.Site {
-	s := &dashboards.Site{ID: cfg.Site.ID, Name: cfg.Site.Name, Zone: cfg.Location, IP: cfg.Site.Units == "ip",
-		Currency: cfg.Prices.Currency, PressurePa: cfg.PressurePa}
-	for i := range cfg.AirHandlers {
-		a := &cfg.AirHandlers[i]
-		name := a.Name
-		if name == "" {
-			name = a.ID
-		}
-		s.Units = append(s.Units, dashboards.Unit{ID: a.ID, Name: name, Spec: cfg.Unit(a)})
-	}
-	return s
-}
+func siteFor(cfg *config.Config) *dashboards.Site { return server.SiteOf(cfg) }
 
 // dashboardFor builds the dashboard over the configured store.
 func dashboardFor(cfg *config.Config, st *stores, e *env) (*dashboards.Handler, error) {
@@ -81,38 +69,14 @@ func runServe(ctx context.Context, e *env, args []string) error {
 // portfolioFor opens every site's store read-only and builds the
 // portfolio view over them; closeAll closes the stores.
 func portfolioFor(ctx context.Context, cfgs []*config.Config, paths []string, e *env) (*dashboards.Portfolio, []func(context.Context) error, func(), error) {
-	var opened []*stores
-	closeAll := func() {
-		for _, st := range opened {
-			st.Close()
-		}
-	}
-	var sites []dashboards.PortfolioSite
-	var pings []func(context.Context) error
-	seen := map[string]string{}
-	for i, cfg := range cfgs {
-		if prev, ok := seen[cfg.Site.ID]; ok {
-			closeAll()
-			return nil, nil, nil, fmt.Errorf("%s and %s are both site %q: give each site its own site.id", prev, paths[i], cfg.Site.ID)
-		}
-		seen[cfg.Site.ID] = paths[i]
+	open := func(cfg *config.Config) (server.OpenedSite, error) {
 		st, err := openStore(ctx, cfg, true, e.log)
 		if err != nil {
-			closeAll()
-			return nil, nil, nil, fmt.Errorf("site %s (%s): %w", cfg.Site.ID, paths[i], err)
+			return server.OpenedSite{}, err
 		}
-		opened = append(opened, st)
-		site := siteFor(cfg)
-		site.ID = siteLabel(cfg.Site.ID)
-		sites = append(sites, dashboards.PortfolioSite{Site: site, Results: st.results(time.Now)})
-		pings = append(pings, st.Ping)
+		return server.OpenedSite{Results: st.results(time.Now), Ping: st.Ping, Close: st.Close}, nil
 	}
-	pf, err := dashboards.NewPortfolio(dashboards.PortfolioOptions{Sites: sites, Log: e.log.With().Str("component", "dashboard").Logger()})
-	if err != nil {
-		closeAll()
-		return nil, nil, nil, err
-	}
-	return pf, pings, closeAll, nil
+	return server.PortfolioOf(cfgs, paths, open, siteLabel, e.log)
 }
 
 // serveDashboard serves the dashboard with the agent's HTTP server (health,
