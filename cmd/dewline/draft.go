@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"time"
 
-	"github.com/dewline/dewline/ingest/csvfile"
 	"github.com/dewline/dewline/ingest/draft"
 )
 
@@ -70,30 +69,17 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 			return err
 		}
 	} else {
-		opt := csvfile.Options{Location: loc, Year: *year, Settings: csvfile.Settings{DecimalComma: "--decimal-comma",
-			DayFirst: "--day-first", Location: "--timezone"}}
-		var err error
-		if opt.DayFirst, err = triFlag("day-first", *dayFirst); err != nil {
-			return err
-		}
-		if opt.DecimalComma, err = triFlag("decimal-comma", *decimalComma); err != nil {
-			return err
-		}
 		var rd draft.Read
-		points, rd, err = draft.ReadCSV(inputs, opt)
-		if errors.Is(err, csvfile.ErrNeedLocation) {
-			var fe *csvfile.FileError
-			name := "an export"
-			if errors.As(err, &fe) {
-				name = fe.File
-			}
-			return usagef("%s has local times without a UTC offset: pass --timezone with the site's IANA zone (e.g. America/Chicago), or --timezone UTC if the export is in UTC", name)
+		var err error
+		points, rd, err = draft.ReadExports(draft.Exports{Paths: inputs, Location: loc, Year: *year, DayFirst: *dayFirst,
+			DecimalComma: *decimalComma}, &s)
+		var ie *draft.InputError
+		if errors.As(err, &ie) {
+			return usagef("%s", err)
 		}
 		if err != nil {
 			return err
 		}
-		s.Sources = inputs
-		s.DayFirst, s.DecimalComma = orFlag(*dayFirst, rd.DayFirst), orFlag(*decimalComma, rd.DecimalComma)
 		e.log.Info().Int("files", len(inputs)).Int("values", rd.Rows).Int("rejected", rd.Rejected).Int("points", len(points)).Msg("exports read")
 	}
 	if len(points) == 0 {
@@ -110,23 +96,4 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 		sw = e.stdout
 	}
 	return prop.WriteSummary(sw, len(points), *out)
-}
-
-func triFlag(name, v string) (csvfile.Tri, error) {
-	switch v {
-	case "":
-		return csvfile.Auto, nil
-	case "yes":
-		return csvfile.Yes, nil
-	case "no":
-		return csvfile.No, nil
-	}
-	return csvfile.Auto, usagef("--%s %q: use yes or no", name, v)
-}
-
-func orFlag(flagValue, detected string) string {
-	if flagValue != "" {
-		return flagValue
-	}
-	return detected
 }
