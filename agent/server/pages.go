@@ -9,6 +9,7 @@ import (
 
 	"github.com/rs/zerolog"
 
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/agent/telemetry"
 )
 
@@ -18,9 +19,11 @@ const StoreProbeEvery = 5 * time.Second
 
 // PagesOptions configures ServePages.
 type PagesOptions struct {
-	Listen      string
-	BearerToken string       // as ServerOptions.BearerToken
-	Pages       http.Handler // one site's dashboard or a portfolio
+	Listen string
+	// TokenEnv names the environment variable holding the bearer token
+	// (http.token_env; ServerOptions.BearerToken).
+	TokenEnv string
+	Pages    http.Handler // one site's dashboard or a portfolio
 	// Pings ask the stores behind the pages whether they answer; /readyz
 	// follows them.
 	Pings []func(context.Context) error
@@ -33,6 +36,10 @@ type PagesOptions struct {
 // readiness, metrics, security headers, token) until ctx ends, probing the
 // stores now and every StoreProbeEvery.
 func ServePages(ctx context.Context, o PagesOptions) error {
+	token, err := config.SecretFromEnv("http.token_env", o.TokenEnv)
+	if err != nil {
+		return err
+	}
 	tel := telemetry.NewTelemetry()
 	probe := func() error {
 		pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
@@ -76,7 +83,7 @@ func ServePages(ctx context.Context, o PagesOptions) error {
 		}
 	}()
 	defer func() { stopProbe(); <-probed }()
-	srv, err := NewServer(ServerOptions{Listen: o.Listen, BearerToken: o.BearerToken, Telemetry: tel, Pages: o.Pages, Log: o.Log})
+	srv, err := NewServer(ServerOptions{Listen: o.Listen, BearerToken: token, Telemetry: tel, Pages: o.Pages, Log: o.Log})
 	if err != nil {
 		return err
 	}

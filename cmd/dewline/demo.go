@@ -6,7 +6,6 @@ import (
 	"flag"
 	"fmt"
 	"io"
-	"net"
 	"path/filepath"
 	"syscall"
 	"time"
@@ -31,19 +30,15 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 		return err
 	}
 	if err := demo.DirFree(*dir, *force); err != nil {
-		var fe *demo.FolderInUseError
-		if errors.As(err, &fe) {
-			return usagef("%s", err)
-		}
-		return err
+		return demoUsage(err)
 	}
 	if *days < demo.MinDays || *days > demo.MaxDays {
 		return usagef("--days %d: choose %d to %d", *days, demo.MinDays, demo.MaxDays)
 	}
 	if !*noServe {
 		// A busy port is found before minutes of work, not after.
-		if err := listenFree(*listen); err != nil {
-			return err
+		if err := demo.ListenFree(*listen); err != nil {
+			return demoUsage(err)
 		}
 	}
 	if err := demo.MarkDir(*dir); err != nil {
@@ -85,12 +80,7 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	st, err := openStore(ctx, cfg, true, e.log)
-	if err != nil {
-		return err
-	}
-	defer st.Close()
-	if err := serveDashboard(ctx, e, cfg, st, *listen); err != nil {
+	if err := serveDashboard(ctx, e, cfg, *listen); err != nil {
 		if errors.Is(err, syscall.EADDRINUSE) {
 			return fmt.Errorf("%w; the report is written: choose another address with --listen (e.g. 127.0.0.1:9471), or pass --no-serve", err)
 		}
@@ -99,15 +89,12 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 	return nil
 }
 
-// listenFree checks that the dashboard can listen on addr, and says how to
-// go on when it cannot.
-func listenFree(addr string) error {
-	ln, err := net.Listen("tcp", addr)
-	if err != nil {
-		if errors.Is(err, syscall.EADDRINUSE) {
-			return usagef("--listen %s is in use (an earlier demo or dewline serve?): stop it, choose another address with --listen (e.g. 127.0.0.1:9471), or pass --no-serve to stop after the report", addr)
-		}
-		return usagef("--listen %s: %v", addr, err)
+// demoUsage reports a folder or an address the demo cannot use as a usage
+// mistake.
+func demoUsage(err error) error {
+	var se *demo.SetupError
+	if errors.As(err, &se) {
+		return usagef("%s", err)
 	}
-	return ln.Close()
+	return err
 }

@@ -5,7 +5,6 @@ import (
 	"errors"
 	"flag"
 	"fmt"
-	"io"
 	"slices"
 
 	"github.com/dewline/dewline/agent/config"
@@ -63,7 +62,12 @@ func runImport(ctx context.Context, e *env, args []string) error {
 	}
 	defer st.Close()
 
-	var all []importer.Stats
+	var all []importer.Stats // printed on the way out, whatever happened
+	defer func() {
+		for _, s := range all {
+			s.Write(e.stdout)
+		}
+	}()
 	var empty []error // files that stored nothing: the others are still imported
 	for _, path := range files {
 		prog := newProgress("importing "+path, e.log)
@@ -76,16 +80,8 @@ func runImport(ctx context.Context, e *env, args []string) error {
 			continue
 		}
 		if err != nil {
-			printImport(e.stdout, all)
 			return err
 		}
 	}
-	printImport(e.stdout, all)
 	return errors.Join(empty...)
-}
-
-func printImport(w io.Writer, all []importer.Stats) {
-	for _, s := range all {
-		s.Write(w)
-	}
 }

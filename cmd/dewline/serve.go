@@ -4,6 +4,7 @@ import (
 	"context"
 	"flag"
 	"fmt"
+	"io"
 	"net/http"
 	"time"
 
@@ -31,32 +32,16 @@ func runServe(ctx context.Context, e *env, args []string) error {
 		fmt.Fprintln(fs.Output(), "Serves the dashboard over the results in the configured store, read-only; given several sites, the portfolio.")
 		fs.PrintDefaults()
 	}
-	if err := parseFlags(fs, args, e.stdout); err != nil {
-		return err
-	}
-	paths, err := configPaths(cfgPaths)
+	paths, cfgs, err := parseConfigs(fs, args, e.stdout, &cfgPaths)
 	if err != nil {
 		return err
-	}
-	var cfgs []*config.Config
-	for _, p := range paths {
-		cfg, err := config.Load(p)
-		if err != nil {
-			return err
-		}
-		cfgs = append(cfgs, cfg)
 	}
 	addr := cfgs[0].HTTP.Listen
 	if *listen != "" {
 		addr = *listen
 	}
 	if len(cfgs) == 1 {
-		st, err := openStore(ctx, cfgs[0], true, e.log)
-		if err != nil {
-			return err
-		}
-		defer st.Close()
-		return serveDashboard(ctx, e, cfgs[0], st, addr)
+		return serveDashboard(ctx, e, cfgs[0], addr)
 	}
 	pf, pings, closeAll, err := portfolioFor(ctx, cfgs, paths, e)
 	if err != nil {
@@ -64,6 +49,27 @@ func runServe(ctx context.Context, e *env, args []string) error {
 	}
 	defer closeAll()
 	return servePages(ctx, e, cfgs[0], pf, pings, addr)
+}
+
+// parseConfigs parses a command's flags and loads every configuration its
+// --config flags (given) name, files or folders of them.
+func parseConfigs(fs *flag.FlagSet, args []string, w io.Writer, given *stringList) ([]string, []*config.Config, error) {
+	if err := parseFlags(fs, args, w); err != nil {
+		return nil, nil, err
+	}
+	paths, err := configPaths(*given)
+	if err != nil {
+		return nil, nil, err
+	}
+	cfgs := make([]*config.Config, 0, len(paths))
+	for _, p := range paths {
+		cfg, err := config.Load(p)
+		if err != nil {
+			return nil, nil, err
+		}
+		cfgs = append(cfgs, cfg)
+	}
+	return paths, cfgs, nil
 }
 
 // portfolioFor opens every site's store read-only and builds the
@@ -79,9 +85,15 @@ func portfolioFor(ctx context.Context, cfgs []*config.Config, paths []string, e 
 	return server.PortfolioOf(cfgs, paths, open, siteLabel, e.log)
 }
 
-// serveDashboard serves the dashboard with the agent's HTTP server (health,
-// readiness, metrics, security headers, token) until ctx ends.
-func serveDashboard(ctx context.Context, e *env, cfg *config.Config, st *stores, addr string) error {
+// serveDashboard opens the site's store read-only and serves its dashboard
+// with the agent's HTTP server (health, readiness, metrics, security
+// headers, token) until ctx ends.
+func serveDashboard(ctx context.Context, e *env, cfg *config.Config, addr string) error {
+	st, err := openStore(ctx, cfg, true, e.log)
+	if err != nil {
+		return err
+	}
+	defer st.Close()
 	pages, err := dashboardFor(cfg, st, e)
 	if err != nil {
 		return err
@@ -92,10 +104,6 @@ func serveDashboard(ctx context.Context, e *env, cfg *config.Config, st *stores,
 // servePages serves pages (one site's dashboard or a portfolio) until ctx
 // ends; cfg gives the token, pings the stores to ask.
 func servePages(ctx context.Context, e *env, cfg *config.Config, pages http.Handler, pings []func(context.Context) error, addr string) error {
-	token, err := config.SecretFromEnv("http.token_env", cfg.HTTP.TokenEnv)
-	if err != nil {
-		return err
-	}
-	return server.ServePages(ctx, server.PagesOptions{Listen: addr, BearerToken: token, Pages: pages, Pings: pings,
+	return server.ServePages(ctx, server.PagesOptions{Listen: addr, TokenEnv: cfg.HTTP.TokenEnv, Pages: pages, Pings: pings,
 		Log: e.log, Out: e.stdout})
 }

@@ -4,9 +4,11 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"net"
 	"os"
 	"path/filepath"
 	"strings"
+	"syscall"
 	"time"
 
 	"github.com/dewline/dewline/ingest/outfile"
@@ -16,14 +18,28 @@ import (
 // again without being forced.
 const marker = ".dewline-demo"
 
-// FolderInUseError is a folder holding files the demo did not write.
-type FolderInUseError struct{ msg string }
+// SetupError is a folder or an address the demo cannot use as given: the
+// fix is the user's (another folder, another address, --force, --no-serve).
+type SetupError struct{ msg string }
 
-func (e *FolderInUseError) Error() string { return e.msg }
+func (e *SetupError) Error() string { return e.msg }
+
+// ListenFree checks that the dashboard can listen on addr, and says how to
+// go on when it cannot.
+func ListenFree(addr string) error {
+	ln, err := net.Listen("tcp", addr)
+	if err != nil {
+		if errors.Is(err, syscall.EADDRINUSE) {
+			return &SetupError{fmt.Sprintf("--listen %s is in use (an earlier demo or dewline serve?): stop it, choose another address with --listen (e.g. 127.0.0.1:9471), or pass --no-serve to stop after the report", addr)}
+		}
+		return &SetupError{fmt.Sprintf("--listen %s: %v", addr, err)}
+	}
+	return ln.Close()
+}
 
 // DirFree refuses a folder that holds anything but an earlier demo's files
 // (a real site's configuration, store or exports would be replaced), unless
-// force. A refusal is a *FolderInUseError naming the fix.
+// force. A refusal is a *SetupError naming the fix.
 func DirFree(dir string, force bool) error {
 	entries, err := os.ReadDir(dir)
 	switch {
@@ -40,7 +56,7 @@ func DirFree(dir string, force bool) error {
 			if len(entries) > 3 {
 				more = fmt.Sprintf(" and %d more", len(entries)-3)
 			}
-			return &FolderInUseError{fmt.Sprintf("--dir %s already holds files the demo did not write (%s%s): the demo would replace a configuration, store or exports of that name; choose an empty or new folder, or add --force",
+			return &SetupError{fmt.Sprintf("--dir %s already holds files the demo did not write (%s%s): the demo would replace a configuration, store or exports of that name; choose an empty or new folder, or add --force",
 				dir, strings.Join(names, ", "), more)}
 		}
 	}
