@@ -54,31 +54,19 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 		if *bucket == "" {
 			return usagef("--influx-url needs --bucket")
 		}
-		to := time.Now()
-		if *toS != "" {
-			t, err := time.Parse(time.RFC3339, *toS)
-			if err != nil {
-				return usagef("--to %q: use RFC 3339, e.g. 2026-07-01T00:00:00Z", *toS)
-			}
-			to = t
-		}
 		var err error
 		points, err = draft.ReadBucket(ctx, draft.Bucket{URL: *influxURL, Bucket: *bucket, Org: *org, TokenEnv: *tokenEnv,
-			From: to.Add(-*since), To: to}, &s)
+			Since: *since, To: *toS}, &s)
 		if err != nil {
-			return err
+			return draftUsage(err)
 		}
 	} else {
 		var rd draft.Read
 		var err error
 		points, rd, err = draft.ReadExports(draft.Exports{Paths: inputs, Location: loc, Year: *year, DayFirst: *dayFirst,
 			DecimalComma: *decimalComma}, &s)
-		var ie *draft.InputError
-		if errors.As(err, &ie) {
-			return usagef("%s", err)
-		}
 		if err != nil {
-			return err
+			return draftUsage(err)
 		}
 		e.log.Info().Int("files", len(inputs)).Int("values", rd.Rows).Int("rejected", rd.Rejected).Int("points", len(points)).Msg("exports read")
 	}
@@ -96,4 +84,14 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 		sw = e.stdout
 	}
 	return prop.WriteSummary(sw, len(points), *out)
+}
+
+// draftUsage reports a choice the draft cannot use as given as a usage
+// mistake.
+func draftUsage(err error) error {
+	var ie *draft.InputError
+	if errors.As(err, &ie) {
+		return usagef("%s", err)
+	}
+	return err
 }
