@@ -15,6 +15,7 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/metrics/compare"
+	"github.com/dewline/dewline/metrics/compare/comparetest"
 )
 
 // The comparison's figures are tested in metrics/compare; these tests
@@ -26,27 +27,18 @@ var (
 )
 
 const (
-	dpDry   = 10.5 // bin [10, 11) °C
-	dpHumid = 16.5 // bin [16, 17)
-	dpWet   = 20.5 // bin [20, 21)
+	dpDry   = comparetest.DewPointDryC   // bin [10, 11) °C
+	dpHumid = comparetest.DewPointHumidC // bin [16, 17)
+	dpWet   = comparetest.DewPointWetC   // bin [20, 21)
 )
 
-// cmpHours appends n consecutive hours of unit ahu from *at, each fully
-// covered, with entering dew point dpC and the fields of set(i).
+// cmpHours appends n consecutive hours of unit ahu from *at
+// (comparetest.Hours).
 func cmpHours(m *memResults, ahu string, at *time.Time, n int, dpC float64, set func(i int) map[string]float64) {
-	for i := 0; i < n; i++ {
-		f := map[string]float64{"coverage": 1, "entering_dewpoint_c": dpC}
-		for k, v := range set(i) {
-			f[k] = v
-		}
-		m.recs = append(m.recs, rec(ahu, *at, f))
-		*at = at.Add(time.Hour)
-	}
+	m.recs = comparetest.Hours(m.recs, ahu, at, n, dpC, set)
 }
 
-func reheatOnly(v float64) func(int) map[string]float64 {
-	return func(int) map[string]float64 { return map[string]float64{"reheat_kwh": v} }
-}
+var reheatOnly = comparetest.ReheatOnly
 
 func cmpSite(units ...string) *compare.Input {
 	in := &compare.Input{Site: "Test site", Currency: "USD", Zone: time.UTC, Before: cmpBefore, After: cmpAfter}

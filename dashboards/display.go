@@ -21,59 +21,32 @@ func DisplayFor(name string, def bool) Display {
 }
 
 // Name is "ip" or "si".
-func (d Display) Name() string {
-	if d.IP {
-		return "ip"
-	}
-	return "si"
-}
+func (d Display) Name() string { return either(d.IP, "ip", "si") }
 
 // Temp converts a temperature from °C.
-func (d Display) Temp(c float64) float64 {
-	if d.IP {
-		return psychro.CToF(c)
-	}
-	return c
-}
+func (d Display) Temp(c float64) float64 { return either(d.IP, psychro.CToF(c), c) }
 
 // TempUnit is "°F" or "°C".
-func (d Display) TempUnit() string {
-	if d.IP {
-		return "°F"
-	}
-	return "°C"
-}
+func (d Display) TempUnit() string { return either(d.IP, "°F", "°C") }
 
 // Delta converts a temperature difference from K.
-func (d Display) Delta(k float64) float64 {
-	if d.IP {
-		return k * 1.8
-	}
-	return k
-}
+func (d Display) Delta(k float64) float64 { return either(d.IP, k*1.8, k) }
 
 // DeltaUnit is "°F" or "K".
-func (d Display) DeltaUnit() string {
-	if d.IP {
-		return "°F"
-	}
-	return "K"
-}
+func (d Display) DeltaUnit() string { return either(d.IP, "°F", "K") }
 
 // Water converts a mass of water from kg.
-func (d Display) Water(kg float64) float64 {
-	if d.IP {
-		return psychro.KgToLb(kg)
-	}
-	return kg
-}
+func (d Display) Water(kg float64) float64 { return either(d.IP, psychro.KgToLb(kg), kg) }
 
 // WaterUnit is "lb" or "kg".
-func (d Display) WaterUnit() string {
-	if d.IP {
-		return "lb"
+func (d Display) WaterUnit() string { return either(d.IP, "lb", "kg") }
+
+// either is ip's value in IP units and si's in SI.
+func either[T any](ip bool, ipValue, siValue T) T {
+	if ip {
+		return ipValue
 	}
-	return "kg"
+	return siValue
 }
 
 // Num is a number that encodes NaN and ±Inf as JSON null (metrics.Num).

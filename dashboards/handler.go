@@ -221,6 +221,18 @@ func (h *Handler) unitRequest(r *http.Request) (Unit, request, error) {
 	return u, req, err
 }
 
+// answerJSON writes what an API call built, as JSON with status 200, or
+// returns the error of building it: answerJSON(w)(BuildOverview(...)).
+func answerJSON(w http.ResponseWriter) func(v any, err error) error {
+	return func(v any, err error) error {
+		if err != nil {
+			return err
+		}
+		writeJSON(w, http.StatusOK, v)
+		return nil
+	}
+}
+
 func writeJSON(w http.ResponseWriter, status int, v any) {
 	var buf bytes.Buffer
 	enc := json.NewEncoder(&buf)
@@ -295,12 +307,7 @@ func (h *Handler) apiOverview(w http.ResponseWriter, r *http.Request) error {
 	if err != nil {
 		return err
 	}
-	ov, err := BuildOverview(r.Context(), h.opt.Site, h.opt.Results, req.Period)
-	if err != nil {
-		return err
-	}
-	writeJSON(w, http.StatusOK, ov)
-	return nil
+	return answerJSON(w)(BuildOverview(r.Context(), h.opt.Site, h.opt.Results, req.Period))
 }
 
 func (h *Handler) apiHours(w http.ResponseWriter, r *http.Request) error {
@@ -308,12 +315,7 @@ func (h *Handler) apiHours(w http.ResponseWriter, r *http.Request) error {
 	if err != nil {
 		return err
 	}
-	uh, err := BuildUnitHours(r.Context(), u, h.opt.Results, req.Period, req.display)
-	if err != nil {
-		return err
-	}
-	writeJSON(w, http.StatusOK, uh)
-	return nil
+	return answerJSON(w)(BuildUnitHours(r.Context(), u, h.opt.Results, req.Period, req.display))
 }
 
 func (h *Handler) apiStates(w http.ResponseWriter, r *http.Request) error {

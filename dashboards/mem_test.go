@@ -3,11 +3,11 @@ package dashboards
 import (
 	"context"
 	"errors"
-	"math"
 	"sort"
 	"time"
 
 	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/metrics/compare/comparetest"
 )
 
 // memResults holds records and alerts in memory: the Results contract
@@ -69,16 +69,5 @@ func (m *memResults) Span(context.Context) (time.Time, time.Time, bool, error) {
 
 var errStoreDown = errors.New("dial tcp 127.0.0.1:8086: connect: connection refused")
 
-// rec is a record with every field NaN but those given.
-func rec(ahu string, hour time.Time, set map[string]float64) metrics.Record {
-	r := metrics.Record{AHU: ahu, HourStart: hour}
-	for _, p := range r.FieldPtrs() {
-		*p = math.NaN()
-	}
-	for k, v := range set {
-		if !r.SetField(k, v) {
-			panic("unknown field " + k)
-		}
-	}
-	return r
-}
+// rec is an hourly record with the fields in set (comparetest.Record).
+var rec = comparetest.Record

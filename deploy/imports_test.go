@@ -85,11 +85,11 @@ func TestImports_Rules(t *testing.T) {
 		}
 	})
 
-	t.Run("dashboards and the runner use no store implementation", func(t *testing.T) {
+	t.Run("dashboards, the runner and the importer use no store implementation", func(t *testing.T) {
 		impls := []string{module + "/ingest/embedded", module + "/ingest/influx", "modernc.org/sqlite"}
 		for path, p := range pkgs {
 			runner := under(path, "agent")
-			if !runner && !under(path, "dashboards") {
+			if !runner && !under(path, "dashboards") && !under(path, "ingest/importer") {
 				continue
 			}
 			for _, impl := range impls {

@@ -7,7 +7,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"github.com/dewline/dewline/agent/config"
 	"log"
 	"net"
 	"net/http"
@@ -17,6 +16,8 @@ import (
 
 	"github.com/rs/zerolog"
 
+	"github.com/dewline/dewline/agent/config"
+	"github.com/dewline/dewline/agent/internal/wait"
 	"github.com/dewline/dewline/agent/telemetry"
 )
 
@@ -178,7 +179,7 @@ func NewServer(opt ServerOptions) (*Server, error) {
 			opt.Listen, ErrWeakToken, n, MinTokenLength)
 	}
 	s := &Server{opt: opt, log: opt.Log.With().Str("component", "http").Logger(),
-		fails: &authFailures{byIP: map[string]*failCount{}}, sleep: sleepCtx}
+		fails: &authFailures{byIP: map[string]*failCount{}}, sleep: wait.Sleep}
 	if opt.BearerToken != "" {
 		s.tokenH = sha256.Sum256([]byte(opt.BearerToken))
 	}
@@ -197,18 +198,6 @@ func NewServer(opt ServerOptions) (*Server, error) {
 // isLoopback reports whether host names only loopback interfaces
 // (config.IsLoopback).
 func isLoopback(host string) bool { return config.IsLoopback(host) }
-
-// sleepCtx waits for d or until ctx ends.
-func sleepCtx(ctx context.Context, d time.Duration) error {
-	t := time.NewTimer(d)
-	defer t.Stop()
-	select {
-	case <-ctx.Done():
-		return ctx.Err()
-	case <-t.C:
-		return nil
-	}
-}
 
 // Start listens and serves in the background. It returns at once, with the
 // error when the address cannot be bound.

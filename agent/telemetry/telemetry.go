@@ -3,7 +3,6 @@ package telemetry
 import (
 	"net/http"
 	"runtime"
-	"runtime/debug"
 	"sort"
 	"sync"
 	"time"
@@ -148,25 +147,6 @@ func NewTelemetry() *Telemetry {
 
 	t.handler = promhttp.HandlerFor(t.reg, promhttp.HandlerOpts{Registry: t.reg})
 	return t
-}
-
-// buildVersion returns the main module's version and VCS revision as the
-// go tool stamped them, or "unknown".
-func buildVersion() (version, revision string) {
-	version, revision = "unknown", "unknown"
-	bi, ok := debug.ReadBuildInfo()
-	if !ok {
-		return version, revision
-	}
-	if bi.Main.Version != "" {
-		version = bi.Main.Version
-	}
-	for _, s := range bi.Settings {
-		if s.Key == "vcs.revision" && s.Value != "" {
-			revision = s.Value
-		}
-	}
-	return version, revision
 }
 
 // Registry returns the registry the metrics live on, for a caller that

@@ -21,10 +21,10 @@ import (
 
 	"github.com/rs/zerolog"
 
+	"github.com/dewline/dewline/agent/internal/wait"
+	"github.com/dewline/dewline/agent/telemetry"
 	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
-
-	"github.com/dewline/dewline/agent/telemetry"
 )
 
 // Headers of a webhook delivery.
@@ -179,7 +179,7 @@ func NewWebhookSender(opt WebhookOptions) (*WebhookSender, error) {
 		log:      opt.Log.With().Str("component", "webhook").Str("endpoint", endpoint).Logger(),
 		kick:     make(chan struct{}, 1),
 		posted:   map[int64]bool{},
-		wait:     sleepCtx,
+		wait:     wait.Sleep,
 	}, nil
 }
 
@@ -421,18 +421,6 @@ func headerSafe(s string) string {
 		}
 		return r
 	}, s)
-}
-
-// sleepCtx waits for d or until ctx ends.
-func sleepCtx(ctx context.Context, d time.Duration) error {
-	t := time.NewTimer(d)
-	defer t.Stop()
-	select {
-	case <-ctx.Done():
-		return ctx.Err()
-	case <-t.C:
-		return nil
-	}
 }
 
 // Event transitions.

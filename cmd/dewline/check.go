@@ -2,14 +2,12 @@ package main
 
 import (
 	"context"
-	"errors"
 	"flag"
 	"fmt"
-	"io"
 	"time"
 
 	"github.com/dewline/dewline/ingest"
-	"github.com/dewline/dewline/ingest/csvfile"
+	"github.com/dewline/dewline/ingest/importer"
 )
 
 func runCheck(ctx context.Context, e *env, args []string) error {
@@ -44,60 +42,13 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 	if len(inputs) == 0 && !*useStore {
 		return nil
 	}
-	units := map[string]ingest.UnitPoints{}
-	for i := range cfg.AirHandlers {
-		a := &cfg.AirHandlers[i]
-		units[a.ID] = ingest.UnitPoints{Points: a.PointMap()}
-	}
-	ix, err := ingest.NewPointIndex(units)
+	checks, err := importer.NewChecks(cfg)
 	if err != nil {
 		return err
 	}
-	checks := map[string]*ingest.PointCheck{}
-	for name, ts := range ix {
-		checks[name] = ingest.NewPointCheck(name, ts)
-	}
 	if len(inputs) > 0 {
-		files, err := csvfile.OpenFiles(inputs, cfg.CSVOptions())
-		if err != nil {
+		if err := checks.ReadExports(e.stdout, inputs, cfg); err != nil {
 			return err
-		}
-		defer files.Close()
-		var unmatched ingest.Unmatched
-		rowUnits := ingest.NewRowUnits(ix)
-		for {
-			rec, err := files.Next()
-			if errors.Is(err, io.EOF) {
-				break
-			}
-			if err != nil {
-				return err
-			}
-			pc, ok := checks[rec.Series]
-			if !ok {
-				unmatched.Add(rec.Series)
-				continue
-			}
-			ru, ok, err := rowUnits.Check(rec)
-			if err != nil {
-				return err
-			}
-			if !ok {
-				continue // counted in rowUnits
-			}
-			t0 := pc.Targets[0]
-			pc.Add(rec.Time, t0.Unit.FromSI(ru.ToSI(t0, rec.Value)))
-		}
-		for _, r := range files.Readers() {
-			s := r.Stats()
-			fmt.Fprintf(e.stdout, "%s: %s layout, %d rows, %d values, %d rejected\n", r.Name(), r.Layout(), s.Rows, s.Records, s.RejectedTotal())
-			for _, ex := range s.Examples {
-				fmt.Fprintf(e.stdout, "  rejected: %s\n", ex.String())
-			}
-		}
-		printRowUnits(e.stdout, rowUnits)
-		if u := unmatched.Summary(unmatchedExamples); u != "" {
-			fmt.Fprintf(e.stdout, "%s; map them under air_handlers[].points if they are needed\n", u)
 		}
 	} else {
 		to := time.Now()
@@ -118,18 +69,11 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 		}
 		defer st.Close()
 		fmt.Fprintf(e.stdout, "store window %s .. %s\n", from.In(cfg.Location).Format(time.RFC3339), to.In(cfg.Location).Format(time.RFC3339))
-		for _, pc := range checks {
-			t0 := pc.Targets[0]
-			err := st.ReadSeries(ctx, t0.Ref, t0.Kind, from, to, func(s ingest.Sample) error {
-				pc.Add(s.Time, t0.Unit.FromSI(s.Value)) // the store holds SI
-				return nil
-			})
-			if err != nil && !st.IsMissing(err) {
-				return fmt.Errorf("read %s: %w", pc.Name, err)
-			}
+		if err := checks.ReadStore(ctx, st, from, to); err != nil {
+			return err
 		}
 	}
-	n, err := ingest.WritePointChecks(e.stdout, cfg.Location, checks)
+	n, err := ingest.WritePointChecks(e.stdout, cfg.Location, checks.Points)
 	if err != nil {
 		return err
 	}

@@ -6,15 +6,11 @@ import (
 	"flag"
 	"fmt"
 	"io"
-	"net"
-	"os"
 	"path/filepath"
-	"strings"
 	"syscall"
 	"time"
 
 	"github.com/dewline/dewline/deploy/demo"
-	"github.com/dewline/dewline/ingest/outfile"
 )
 
 func runDemo(ctx context.Context, e *env, args []string) error {
@@ -33,19 +29,19 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 	if err := parseFlags(fs, args, e.stdout); err != nil {
 		return err
 	}
-	if err := demoDirFree(*dir, *force); err != nil {
-		return err
+	if err := demo.DirFree(*dir, *force); err != nil {
+		return demoUsage(err)
 	}
 	if *days < demo.MinDays || *days > demo.MaxDays {
 		return usagef("--days %d: choose %d to %d", *days, demo.MinDays, demo.MaxDays)
 	}
 	if !*noServe {
 		// A busy port is found before minutes of work, not after.
-		if err := listenFree(*listen); err != nil {
-			return err
+		if err := demo.ListenFree(*listen); err != nil {
+			return demoUsage(err)
 		}
 	}
-	if err := markDemoDir(*dir); err != nil {
+	if err := demo.MarkDir(*dir); err != nil {
 		return err
 	}
 	w := e.stdout
@@ -55,19 +51,9 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	zone, _ := time.LoadLocation(sc.Zone)
-	fmt.Fprintf(w, "  %s, %d air handlers, %s to %s (%s), %d trend rows in %d exports (%.1f s)\n", sc.Site, len(sc.Units),
-		sc.From.In(zone).Format("2 Jan"), sc.To.In(zone).Add(-time.Hour).Format("2 Jan 2006"), sc.Zone, sc.Rows, len(sc.Exports),
-		time.Since(start).Seconds())
-	for _, u := range sc.Units {
-		fmt.Fprintf(w, "    %-6s %-34s %s\n", u.ID, u.Name, u.Behaviour)
-	}
-	// A fresh store: the demo always shows the same results.
-	store := filepath.Join(filepath.Dir(sc.ConfigPath), demo.StoreFile)
-	for _, suffix := range []string{"", "-wal", "-shm"} {
-		if err := os.Remove(store + suffix); err != nil && !errors.Is(err, os.ErrNotExist) {
-			return fmt.Errorf("remove the previous demo store: %w", err)
-		}
+	sc.Describe(w, time.Since(start))
+	if err := sc.RemoveStore(); err != nil {
+		return err
 	}
 	quiet := &env{stdout: io.Discard, stderr: e.stderr, log: e.log}
 	t0 := time.Now()
@@ -86,17 +72,7 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 	if err := runReport(ctx, quiet, append(period, "-o", report)); err != nil {
 		return fmt.Errorf("report: %w", err)
 	}
-	abs, _ := filepath.Abs(report)
-	fmt.Fprintf(w, "report: %s\n", abs)
-	// Where to go next: the configuration is the best start for a site of
-	// one's own, and the exports show what it reads.
-	cfgAbs, _ := filepath.Abs(sc.ConfigPath)
-	fmt.Fprintf(w, "configuration: %s\n  (commented; copy it to start your own site, then run dewline check --config on the copy)\n", cfgAbs)
-	names := make([]string, 0, len(sc.Exports))
-	for _, x := range sc.Exports {
-		names = append(names, filepath.Base(x))
-	}
-	fmt.Fprintf(w, "exports: %s: %s\n", filepath.Dir(cfgAbs), strings.Join(names, ", "))
+	sc.DescribeFiles(w, report)
 	if *noServe {
 		return nil
 	}
@@ -104,12 +80,7 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	st, err := openStore(ctx, cfg, true, e.log)
-	if err != nil {
-		return err
-	}
-	defer st.Close()
-	if err := serveDashboard(ctx, e, cfg, st, *listen); err != nil {
+	if err := serveDashboard(ctx, e, cfg, *listen); err != nil {
 		if errors.Is(err, syscall.EADDRINUSE) {
 			return fmt.Errorf("%w; the report is written: choose another address with --listen (e.g. 127.0.0.1:9471), or pass --no-serve", err)
 		}
@@ -118,53 +89,12 @@ func runDemo(ctx context.Context, e *env, args []string) error {
 	return nil
 }
 
-// listenFree checks that the dashboard can listen on addr, and says how to
-// go on when it cannot.
-func listenFree(addr string) error {
-	ln, err := net.Listen("tcp", addr)
-	if err != nil {
-		if errors.Is(err, syscall.EADDRINUSE) {
-			return usagef("--listen %s is in use (an earlier demo or dewline serve?): stop it, choose another address with --listen (e.g. 127.0.0.1:9471), or pass --no-serve to stop after the report", addr)
-		}
-		return usagef("--listen %s: %v", addr, err)
+// demoUsage reports a folder or an address the demo cannot use as a usage
+// mistake.
+func demoUsage(err error) error {
+	var se *demo.SetupError
+	if errors.As(err, &se) {
+		return usagef("%s", err)
 	}
-	return ln.Close()
-}
-
-// demoMarker marks a folder the demo wrote; the demo writes into such a
-// folder again without --force.
-const demoMarker = ".dewline-demo"
-
-// demoDirFree refuses a --dir that holds anything but an earlier demo's
-// files (a real site's configuration, store or exports would be replaced),
-// unless force.
-func demoDirFree(dir string, force bool) error {
-	entries, err := os.ReadDir(dir)
-	switch {
-	case errors.Is(err, os.ErrNotExist):
-	case err != nil:
-		return fmt.Errorf("--dir %s: %w", dir, err)
-	case len(entries) > 0 && !force:
-		if _, err := os.Stat(filepath.Join(dir, demoMarker)); err != nil {
-			var names []string
-			for _, e := range entries[:min(3, len(entries))] {
-				names = append(names, e.Name())
-			}
-			more := ""
-			if len(entries) > 3 {
-				more = fmt.Sprintf(" and %d more", len(entries)-3)
-			}
-			return usagef("--dir %s already holds files the demo did not write (%s%s): the demo would replace a configuration, store or exports of that name; choose an empty or new folder, or add --force",
-				dir, strings.Join(names, ", "), more)
-		}
-	}
-	return nil
-}
-
-// markDemoDir creates dir and marks it as the demo's.
-func markDemoDir(dir string) error {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return fmt.Errorf("--dir %s: %w", dir, err)
-	}
-	return outfile.WriteBytes(filepath.Join(dir, demoMarker), []byte("written by dewline demo: \"dewline demo --dir\" may write here again\n"))
+	return err
 }

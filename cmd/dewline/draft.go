@@ -5,13 +5,9 @@ import (
 	"errors"
 	"flag"
 	"fmt"
-	"os"
-	"strings"
 	"time"
 
-	"github.com/dewline/dewline/ingest/csvfile"
 	"github.com/dewline/dewline/ingest/draft"
-	"github.com/dewline/dewline/ingest/influx"
 )
 
 // runDraft proposes a configuration from CSV exports or an InfluxDB bucket.
@@ -37,7 +33,7 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 		fmt.Fprintln(fs.Output(), "usage: dewline draft [flags] trends.csv ...\n       dewline draft [flags] --influx-url URL --bucket B")
 		fs.PrintDefaults()
 	}
-	if err := parseFlagsFiles(fs, args, e); err != nil {
+	if err := parseFlagsFiles(fs, args, e.stdout); err != nil {
 		return err
 	}
 	inputs = append(inputs, fs.Args()...)
@@ -58,82 +54,28 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 		if *bucket == "" {
 			return usagef("--influx-url needs --bucket")
 		}
-		token := ""
-		if *tokenEnv != "" {
-			token = strings.TrimSpace(os.Getenv(*tokenEnv))
-		}
-		c, err := influx.New(influx.Options{URL: *influxURL, Org: *org, Bucket: *bucket, Token: token})
+		var err error
+		points, err = draft.ReadBucket(ctx, draft.Bucket{URL: *influxURL, Bucket: *bucket, Org: *org, TokenEnv: *tokenEnv,
+			Since: *since, To: *toS}, &s)
 		if err != nil {
-			return err
-		}
-		defer c.Close()
-		to := time.Now()
-		if *toS != "" {
-			t, err := time.Parse(time.RFC3339, *toS)
-			if err != nil {
-				return usagef("--to %q: use RFC 3339, e.g. 2026-07-01T00:00:00Z", *toS)
-			}
-			to = t
-		}
-		points, err = draft.ReadInflux(ctx, c, to.Add(-*since), to, 500)
-		if err != nil {
-			return err
-		}
-		s.Sources = []string{fmt.Sprintf("InfluxDB %s, bucket %s, %s to %s", *influxURL, *bucket, to.Add(-*since).UTC().Format(time.RFC3339), to.UTC().Format(time.RFC3339))}
-		s.InfluxURL, s.InfluxBucket, s.InfluxOrg = *influxURL, *bucket, *org
-		if token != "" {
-			s.InfluxTokenEnv = *tokenEnv
+			return draftUsage(err)
 		}
 	} else {
-		opt := csvfile.Options{Location: loc, Year: *year, Settings: csvfile.Settings{DecimalComma: "--decimal-comma",
-			DayFirst: "--day-first", Location: "--timezone"}}
-		var err error
-		if opt.DayFirst, err = triFlag("day-first", *dayFirst); err != nil {
-			return err
-		}
-		if opt.DecimalComma, err = triFlag("decimal-comma", *decimalComma); err != nil {
-			return err
-		}
 		var rd draft.Read
-		points, rd, err = draft.ReadCSV(inputs, opt)
-		if errors.Is(err, csvfile.ErrNeedLocation) {
-			var fe *csvfile.FileError
-			name := "an export"
-			if errors.As(err, &fe) {
-				name = fe.File
-			}
-			return usagef("%s has local times without a UTC offset: pass --timezone with the site's IANA zone (e.g. America/Chicago), or --timezone UTC if the export is in UTC", name)
-		}
+		var err error
+		points, rd, err = draft.ReadExports(draft.Exports{Paths: inputs, Location: loc, Year: *year, DayFirst: *dayFirst,
+			DecimalComma: *decimalComma}, &s)
 		if err != nil {
-			return err
+			return draftUsage(err)
 		}
-		s.Sources = inputs
-		s.DayFirst, s.DecimalComma = orFlag(*dayFirst, rd.DayFirst), orFlag(*decimalComma, rd.DecimalComma)
 		e.log.Info().Int("files", len(inputs)).Int("values", rd.Rows).Int("rejected", rd.Rejected).Int("points", len(points)).Msg("exports read")
 	}
 	if len(points) == 0 {
 		return errors.New("no numeric series found; check the exports or the bucket and --since")
 	}
 	prop := draft.Propose(points, draft.Options{DefaultID: *id})
-	w := e.stdout
-	var f *os.File
-	if *out != "" {
-		var err error
-		if f, err = os.Create(*out); err != nil {
-			return fmt.Errorf("create %s: %w", *out, err)
-		}
-		w = f
-	}
-	if err := prop.Write(w, s); err != nil {
-		if f != nil {
-			_ = f.Close()
-		}
-		return fmt.Errorf("write the draft: %w", err)
-	}
-	if f != nil {
-		if err := f.Close(); err != nil {
-			return fmt.Errorf("write %s: %w", *out, err)
-		}
+	if err := prop.WriteFile(*out, e.stdout, s); err != nil {
+		return err
 	}
 	// The summary goes to standard error when the configuration goes to
 	// standard output.
@@ -141,71 +83,15 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 	if *out != "" {
 		sw = e.stdout
 	}
-	complete := 0
-	for _, a := range prop.AirHandlers {
-		low := 0
-		for _, m := range a.Mappings {
-			if m.Conf == draft.Low {
-				low++
-			}
-		}
-		state := "complete"
-		if !a.Complete() {
-			state = "incomplete, commented out"
-		} else {
-			complete++
-		}
-		fmt.Fprintf(sw, "%-10s %2d roles mapped, %d to check (LOW), %s\n", a.ID, len(a.Mappings), low, state)
-		for _, m := range a.Missing {
-			fmt.Fprintf(sw, "           missing %s: look for %s\n", m.Role, m.LookFor)
-		}
-	}
-	fmt.Fprintf(sw, "%d point(s) read, %d left unassigned (listed at the end of the file)\n", len(points), len(prop.Unassigned))
-	if *out != "" {
-		fmt.Fprintf(sw, "next: review the ASSUMED and LOW lines of %s, then dewline check --config %s\n", *out, *out)
-	}
-	if complete == 0 {
-		return errors.New("no air handler has every required role; complete one in the draft (see missing above)")
-	}
-	return nil
+	return prop.WriteSummary(sw, len(points), *out)
 }
 
-// parseFlagsFiles parses flags that may be followed by file names.
-func parseFlagsFiles(fs *flag.FlagSet, args []string, e *env) error {
-	usage := fs.Usage
-	fs.SetOutput(nopWriter{})
-	fs.Usage = func() {}
-	err := fs.Parse(args)
-	if errors.Is(err, flag.ErrHelp) {
-		fs.SetOutput(e.stdout)
-		usage()
-		return err
+// draftUsage reports a choice the draft cannot use as given as a usage
+// mistake.
+func draftUsage(err error) error {
+	var ie *draft.InputError
+	if errors.As(err, &ie) {
+		return usagef("%s", err)
 	}
-	if err != nil {
-		return usagef("%v (run \"dewline %s -h\" for the flags)", err, fs.Name())
-	}
-	return nil
-}
-
-type nopWriter struct{}
-
-func (nopWriter) Write(p []byte) (int, error) { return len(p), nil }
-
-func triFlag(name, v string) (csvfile.Tri, error) {
-	switch v {
-	case "":
-		return csvfile.Auto, nil
-	case "yes":
-		return csvfile.Yes, nil
-	case "no":
-		return csvfile.No, nil
-	}
-	return csvfile.Auto, usagef("--%s %q: use yes or no", name, v)
-}
-
-func orFlag(flagValue, detected string) string {
-	if flagValue != "" {
-		return flagValue
-	}
-	return detected
+	return err
 }

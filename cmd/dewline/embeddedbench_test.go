@@ -7,6 +7,8 @@ import (
 	"testing"
 	"time"
 
+	"github.com/dewline/dewline/ingest/importer"
+
 	"github.com/rs/zerolog"
 
 	"github.com/dewline/dewline/agent"
@@ -75,12 +77,13 @@ func BenchmarkEmbeddedYear(b *testing.B) {
 			removeStore(b)
 			st := open(b)
 			b.StartTimer()
-			s, err := importFile(ctx, zerolog.Nop(), cfg, cfgPath, st, ix, csvPath, 1<<40)
+			s, err := importer.File(ctx, csvPath, importer.Options{Config: cfg, ConfigPath: cfgPath, Store: st.Store, Index: ix,
+				MaxBytes: 1 << 40, Log: zerolog.Nop()})
 			if err != nil {
 				b.Fatal(err)
 			}
-			if s.written != 10*benchMinutes {
-				b.Fatalf("%d values written", s.written)
+			if s.Written != 10*benchMinutes {
+				b.Fatalf("%d values written", s.Written)
 			}
 			b.StopTimer()
 			st.Close()

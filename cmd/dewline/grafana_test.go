@@ -73,11 +73,7 @@ func TestGrafana_QueriesMatchAPI(t *testing.T) {
 	require.Equal(t, 0, code, errOut)
 
 	// dewline's own API.
-	cfg, err := loadConfig(sc.ConfigPath)
-	require.NoError(t, err)
-	st, err := openStore(t.Context(), cfg, true, zerolog.Nop())
-	require.NoError(t, err)
-	t.Cleanup(st.Close)
+	cfg, st := openTestStore(t, sc.ConfigPath)
 	h, err := dashboardFor(cfg, st, &env{stdout: io.Discard, stderr: io.Discard, log: zerolog.Nop()})
 	require.NoError(t, err)
 	api := func(path string, v any) {

@@ -12,8 +12,6 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/dashboards"
-
-	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // The dashboard reads the same figures back from InfluxDB as from the
@@ -21,22 +19,14 @@ import (
 // real InfluxDB test server), and the overview, one unit's hours and the
 // alerts are compared.
 func TestInflux_DashboardMatchesEmbedded(t *testing.T) {
-	base, _ := testkit.InfluxDB(t)
-	db := freshDB(t, base, "dash")
-	dir := t.TempDir()
-	embCfg, data := writeScenario(t, dir)
-	fluxCfg := influxConfig(t, dir, base, db)
+	embCfg, fluxCfg, data := scenarioInBothStores(t, "dash")
 	for _, cfg := range []string{embCfg, fluxCfg} {
 		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data)
 		require.Equal(t, 0, code, errOut)
 	}
 
 	open := func(path string) (*dashboards.Site, dashboards.Results, *stores) {
-		cfg, err := loadConfig(path)
-		require.NoError(t, err)
-		st, err := openStore(t.Context(), cfg, true, zerolog.Nop())
-		require.NoError(t, err)
-		t.Cleanup(st.Close)
+		cfg, st := openTestStore(t, path)
 		return siteFor(cfg), st.results(time.Now), st
 	}
 	site, emb, _ := open(embCfg)

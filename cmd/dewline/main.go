@@ -10,15 +10,13 @@ import (
 	"io"
 	"os"
 	"os/signal"
-	"runtime"
-	"runtime/debug"
 	"sort"
 	"syscall"
 
-	"github.com/mattn/go-isatty"
 	"github.com/rs/zerolog"
 
 	"github.com/dewline/dewline/agent/config"
+	"github.com/dewline/dewline/agent/telemetry"
 )
 
 // command is one subcommand of dewline.
@@ -99,10 +97,10 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		return 2
 	}
 	if *version {
-		fmt.Fprintln(stdout, versionLine())
+		fmt.Fprintln(stdout, telemetry.ReadBuild().Line())
 		return 0
 	}
-	log, err := newLogger(stderr, *logLevel, *logFormat)
+	log, err := telemetry.NewLogger(stderr, *logLevel, *logFormat)
 	if err != nil {
 		fmt.Fprintln(stderr, "dewline:", err)
 		return 2
@@ -156,6 +154,18 @@ func parseWithConfig(fs *flag.FlagSet, args []string, w io.Writer) (*config.Conf
 // parseFlags parses a command's flags. Mistakes come back as a one-line
 // usage error; -h prints the flags to w and returns flag.ErrHelp.
 func parseFlags(fs *flag.FlagSet, args []string, w io.Writer) error {
+	if err := parseFlagsFiles(fs, args, w); err != nil {
+		return err
+	}
+	if fs.NArg() > 0 {
+		return usagef("unexpected argument %q (run \"dewline %s -h\" for the flags)", fs.Arg(0), fs.Name())
+	}
+	return nil
+}
+
+// parseFlagsFiles parses flags that may be followed by file names
+// (parseFlags without the check for arguments left over).
+func parseFlagsFiles(fs *flag.FlagSet, args []string, w io.Writer) error {
 	usage := fs.Usage
 	fs.SetOutput(io.Discard)
 	fs.Usage = func() {}
@@ -168,33 +178,7 @@ func parseFlags(fs *flag.FlagSet, args []string, w io.Writer) error {
 	if err != nil {
 		return usagef("%v (run \"dewline %s -h\" for the flags)", err, fs.Name())
 	}
-	if fs.NArg() > 0 {
-		return usagef("unexpected argument %q (run \"dewline %s -h\" for the flags)", fs.Arg(0), fs.Name())
-	}
 	return nil
-}
-
-func newLogger(w io.Writer, level, format string) (zerolog.Logger, error) {
-	lvl, err := zerolog.ParseLevel(level)
-	if err != nil || level == "" {
-		return zerolog.Logger{}, fmt.Errorf("--log-level %q: use debug, info, warn or error", level)
-	}
-	f, ok := w.(*os.File)
-	tty := ok && isatty.IsTerminal(f.Fd())
-	if format == "auto" {
-		format = "json"
-		if tty {
-			format = "console"
-		}
-	}
-	switch format {
-	case "json":
-		return zerolog.New(w).Level(lvl).With().Timestamp().Logger(), nil
-	case "console":
-		// Colour codes only on a terminal: a file or a pipe gets plain text.
-		return zerolog.New(zerolog.ConsoleWriter{Out: w, NoColor: !tty}).Level(lvl).With().Timestamp().Logger(), nil
-	}
-	return zerolog.Logger{}, fmt.Errorf("--log-format %q: use json, console or auto", format)
 }
 
 func printUsage(w io.Writer) {
@@ -212,29 +196,4 @@ func printUsage(w io.Writer) {
 	}
 	fmt.Fprintln(w, "\nRun \"dewline COMMAND -h\" for a command's flags. Exit status: 0 done, 1 an error, 2 a usage mistake;")
 	fmt.Fprintf(w, "\"dewline check\" exits %d when it ran but points need a look.\n", exitNeedsLook)
-}
-
-// versionLine is the module version and the commit this binary was built
-// from, as the Go toolchain recorded them (go build in a checkout records
-// the commit; go run and go test may not).
-func versionLine() string {
-	version, commit, modified := "unknown", "unknown", ""
-	goVersion := runtime.Version()
-	if bi, ok := debug.ReadBuildInfo(); ok {
-		if bi.Main.Version != "" {
-			version = bi.Main.Version
-		}
-		goVersion = bi.GoVersion
-		for _, s := range bi.Settings {
-			switch s.Key {
-			case "vcs.revision":
-				commit = s.Value
-			case "vcs.modified":
-				if s.Value == "true" {
-					modified = ", with local changes"
-				}
-			}
-		}
-	}
-	return fmt.Sprintf("dewline %s (commit %s%s, %s)", version, commit, modified, goVersion)
 }

@@ -7,12 +7,10 @@ import (
 	"testing"
 	"time"
 
-	"github.com/rs/zerolog"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/dashboards"
-	"github.com/dewline/dewline/deploy/testkit"
 	"github.com/dewline/dewline/metrics"
 )
 
@@ -25,11 +23,7 @@ import (
 // alert's condition held (avoidable reheat of at least 1 kWh in an hour
 // with no humidity need, the rule as documented in the README).
 func TestInflux_OpenAlertFiguresGrowHourly(t *testing.T) {
-	base, _ := testkit.InfluxDB(t)
-	db := freshDB(t, base, "openalert")
-	dir := t.TempDir()
-	embCfg, data := writeScenario(t, dir)
-	fluxCfg := influxConfig(t, dir, base, db)
+	embCfg, fluxCfg, data := scenarioInBothStores(t, "openalert")
 
 	for _, c := range []struct{ name, cfg string }{{"embedded", embCfg}, {"influxdb", fluxCfg}} {
 		t.Run(c.name, func(t *testing.T) {
@@ -45,11 +39,7 @@ func TestInflux_OpenAlertFiguresGrowHourly(t *testing.T) {
 				require.Equal(t, 0, code, errOut)
 				summaryTold := regexp.MustCompile(`(?m)^  AHU-7 Reheat not needed \(warning, since [0-9: -]+\): opened: .+; latest hour: .+$`)
 				if res == nil { // the embedded file exists after the first analysis
-					cfg, err := loadConfig(c.cfg)
-					require.NoError(t, err)
-					st, err := openStore(t.Context(), cfg, true, zerolog.Nop())
-					require.NoError(t, err)
-					t.Cleanup(st.Close)
+					_, st := openTestStore(t, c.cfg)
 					res = st.results(time.Now)
 				}
 

@@ -4,31 +4,17 @@ import (
 	"context"
 	"flag"
 	"fmt"
+	"io"
 	"net/http"
 	"time"
 
 	"github.com/dewline/dewline/agent/config"
-	"github.com/dewline/dewline/dashboards"
-
 	"github.com/dewline/dewline/agent/server"
-
-	"github.com/dewline/dewline/agent/telemetry"
+	"github.com/dewline/dewline/dashboards"
 )
 
 // siteFor is the dashboard's view of the configuration.
-func siteFor(cfg *config.Config) *dashboards.Site {
-	s := &dashboards.Site{ID: cfg.Site.ID, Name: cfg.Site.Name, Zone: cfg.Location, IP: cfg.Site.Units == "ip",
-		Currency: cfg.Prices.Currency, PressurePa: cfg.PressurePa}
-	for i := range cfg.AirHandlers {
-		a := &cfg.AirHandlers[i]
-		name := a.Name
-		if name == "" {
-			name = a.ID
-		}
-		s.Units = append(s.Units, dashboards.Unit{ID: a.ID, Name: name, Spec: cfg.Unit(a)})
-	}
-	return s
-}
+func siteFor(cfg *config.Config) *dashboards.Site { return server.SiteOf(cfg) }
 
 // dashboardFor builds the dashboard over the configured store.
 func dashboardFor(cfg *config.Config, st *stores, e *env) (*dashboards.Handler, error) {
@@ -46,32 +32,16 @@ func runServe(ctx context.Context, e *env, args []string) error {
 		fmt.Fprintln(fs.Output(), "Serves the dashboard over the results in the configured store, read-only; given several sites, the portfolio.")
 		fs.PrintDefaults()
 	}
-	if err := parseFlags(fs, args, e.stdout); err != nil {
-		return err
-	}
-	paths, err := configPaths(cfgPaths)
+	paths, cfgs, err := parseConfigs(fs, args, e.stdout, &cfgPaths)
 	if err != nil {
 		return err
-	}
-	var cfgs []*config.Config
-	for _, p := range paths {
-		cfg, err := config.Load(p)
-		if err != nil {
-			return err
-		}
-		cfgs = append(cfgs, cfg)
 	}
 	addr := cfgs[0].HTTP.Listen
 	if *listen != "" {
 		addr = *listen
 	}
 	if len(cfgs) == 1 {
-		st, err := openStore(ctx, cfgs[0], true, e.log)
-		if err != nil {
-			return err
-		}
-		defer st.Close()
-		return serveDashboard(ctx, e, cfgs[0], st, addr)
+		return serveDashboard(ctx, e, cfgs[0], addr)
 	}
 	pf, pings, closeAll, err := portfolioFor(ctx, cfgs, paths, e)
 	if err != nil {
@@ -81,56 +51,49 @@ func runServe(ctx context.Context, e *env, args []string) error {
 	return servePages(ctx, e, cfgs[0], pf, pings, addr)
 }
 
+// parseConfigs parses a command's flags and loads every configuration its
+// --config flags (given) name, files or folders of them.
+func parseConfigs(fs *flag.FlagSet, args []string, w io.Writer, given *stringList) ([]string, []*config.Config, error) {
+	if err := parseFlags(fs, args, w); err != nil {
+		return nil, nil, err
+	}
+	paths, err := configPaths(*given)
+	if err != nil {
+		return nil, nil, err
+	}
+	cfgs := make([]*config.Config, 0, len(paths))
+	for _, p := range paths {
+		cfg, err := config.Load(p)
+		if err != nil {
+			return nil, nil, err
+		}
+		cfgs = append(cfgs, cfg)
+	}
+	return paths, cfgs, nil
+}
+
 // portfolioFor opens every site's store read-only and builds the
 // portfolio view over them; closeAll closes the stores.
 func portfolioFor(ctx context.Context, cfgs []*config.Config, paths []string, e *env) (*dashboards.Portfolio, []func(context.Context) error, func(), error) {
-	var opened []*stores
-	closeAll := func() {
-		for _, st := range opened {
-			st.Close()
-		}
-	}
-	var sites []dashboards.PortfolioSite
-	var pings []func(context.Context) error
-	seen := map[string]string{}
-	for i, cfg := range cfgs {
-		if prev, ok := seen[cfg.Site.ID]; ok {
-			closeAll()
-			return nil, nil, nil, fmt.Errorf("%s and %s are both site %q: give each site its own site.id", prev, paths[i], cfg.Site.ID)
-		}
-		seen[cfg.Site.ID] = paths[i]
+	open := func(cfg *config.Config) (server.OpenedSite, error) {
 		st, err := openStore(ctx, cfg, true, e.log)
 		if err != nil {
-			closeAll()
-			return nil, nil, nil, fmt.Errorf("site %s (%s): %w", cfg.Site.ID, paths[i], err)
+			return server.OpenedSite{}, err
 		}
-		opened = append(opened, st)
-		site := siteFor(cfg)
-		site.ID = siteLabel(cfg.Site.ID)
-		sites = append(sites, dashboards.PortfolioSite{Site: site, Results: st.results(time.Now)})
-		pings = append(pings, st.Ping)
+		return server.OpenedSite{Results: st.results(time.Now), Ping: st.Ping, Close: st.Close}, nil
 	}
-	pf, err := dashboards.NewPortfolio(dashboards.PortfolioOptions{Sites: sites, Log: e.log.With().Str("component", "dashboard").Logger()})
+	return server.PortfolioOf(cfgs, paths, open, siteLabel, e.log)
+}
+
+// serveDashboard opens the site's store read-only and serves its dashboard
+// with the agent's HTTP server (health, readiness, metrics, security
+// headers, token) until ctx ends.
+func serveDashboard(ctx context.Context, e *env, cfg *config.Config, addr string) error {
+	st, err := openStore(ctx, cfg, true, e.log)
 	if err != nil {
-		closeAll()
-		return nil, nil, nil, err
+		return err
 	}
-	return pf, pings, closeAll, nil
-}
-
-// storeProbeEvery is how often serve checks that its store still answers.
-const storeProbeEvery = 5 * time.Second
-
-func errText(err error) string {
-	if err == nil {
-		return ""
-	}
-	return err.Error()
-}
-
-// serveDashboard serves the dashboard with the agent's HTTP server (health,
-// readiness, metrics, security headers, token) until ctx ends.
-func serveDashboard(ctx context.Context, e *env, cfg *config.Config, st *stores, addr string) error {
+	defer st.Close()
 	pages, err := dashboardFor(cfg, st, e)
 	if err != nil {
 		return err
@@ -141,63 +104,6 @@ func serveDashboard(ctx context.Context, e *env, cfg *config.Config, st *stores,
 // servePages serves pages (one site's dashboard or a portfolio) until ctx
 // ends; cfg gives the token, pings the stores to ask.
 func servePages(ctx context.Context, e *env, cfg *config.Config, pages http.Handler, pings []func(context.Context) error, addr string) error {
-	token, err := config.SecretFromEnv("http.token_env", cfg.HTTP.TokenEnv)
-	if err != nil {
-		return err
-	}
-	tel := telemetry.NewTelemetry()
-	// /readyz follows the store: checked now and every storeProbeEvery.
-	probe := func() error {
-		pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
-		defer cancel()
-		for _, ping := range pings {
-			if err := ping(pctx); err != nil {
-				return err
-			}
-		}
-		return nil
-	}
-	up := true
-	report := func(err error) {
-		tel.SetStoreUp(err == nil, errText(err))
-		switch {
-		case err != nil && up:
-			e.log.Warn().Err(err).Msg("the store does not answer; /readyz says so until it does")
-		case err == nil && !up:
-			e.log.Info().Msg("the store answers again")
-		}
-		up = err == nil
-	}
-	report(probe())
-	probed := make(chan struct{})
-	loopCtx, stopProbe := context.WithCancel(ctx)
-	go func() {
-		defer close(probed)
-		tick := time.NewTicker(storeProbeEvery)
-		defer tick.Stop()
-		for {
-			select {
-			case <-loopCtx.Done():
-				return
-			case <-tick.C:
-				report(probe())
-			}
-		}
-	}()
-	defer func() { stopProbe(); <-probed }()
-	log := e.log // the server adds its component
-	srv, err := server.NewServer(server.ServerOptions{Listen: addr, BearerToken: token, Telemetry: tel, Pages: pages, Log: log})
-	if err != nil {
-		return err
-	}
-	if err := srv.Start(); err != nil {
-		return err
-	}
-	url := "http://" + srv.Addr() + "/"
-	log.Info().Str("url", url).Msg("dashboard listening")
-	fmt.Fprintf(e.stdout, "dashboard: %s (Ctrl-C to stop)\n", url)
-	<-ctx.Done()
-	sctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
-	defer cancel()
-	return srv.Shutdown(sctx)
+	return server.ServePages(ctx, server.PagesOptions{Listen: addr, TokenEnv: cfg.HTTP.TokenEnv, Pages: pages, Pings: pings,
+		Log: e.log, Out: e.stdout})
 }

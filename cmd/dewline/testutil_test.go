@@ -25,6 +25,9 @@ import (
 	"testing"
 	"time"
 
+	"github.com/dewline/dewline/agent/config"
+	"github.com/dewline/dewline/deploy/testkit"
+	"github.com/rs/zerolog"
 	"github.com/stretchr/testify/require"
 )
 
@@ -883,4 +886,28 @@ func influxConfig(t *testing.T, dir, base, db string) string {
 	path := filepath.Join(dir, "influx.yaml")
 	require.NoError(t, os.WriteFile(path, []byte(text), 0o600))
 	return path
+}
+
+// scenarioInBothStores writes the two-day scenario's export and two
+// configurations for it: one of the embedded store, one of a fresh database
+// (named from prefix) on the real InfluxDB test server.
+func scenarioInBothStores(t *testing.T, prefix string) (embCfg, fluxCfg, data string) {
+	t.Helper()
+	base, _ := testkit.InfluxDB(t)
+	db := freshDB(t, base, prefix)
+	dir := t.TempDir()
+	embCfg, data = writeScenario(t, dir)
+	return embCfg, influxConfig(t, dir, base, db), data
+}
+
+// openTestStore loads the configuration at path and opens its store
+// read-only for the rest of the test.
+func openTestStore(t *testing.T, path string) (*config.Config, *stores) {
+	t.Helper()
+	cfg, err := loadConfig(path)
+	require.NoError(t, err)
+	st, err := openStore(t.Context(), cfg, true, zerolog.Nop())
+	require.NoError(t, err)
+	t.Cleanup(st.Close)
+	return cfg, st
 }

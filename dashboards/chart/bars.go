@@ -78,25 +78,11 @@ func StackedBars(w io.Writer, f Frame, times []time.Time, step time.Duration, st
 	}
 	var s svgBuf
 	s.b = make([]byte, 0, 4096+n*len(stacks)*20)
-	label := f.Title
-	if label != "" {
-		label += ". "
-	}
-	label += "Stacked bars"
-	if l := names(nm); l != "" {
-		label += " of " + l
-	}
+	span := ""
 	if n > 0 {
-		label += ", " + spanLabel(t0, t1, c.f.zone())
+		span = spanLabel(t0, t1, c.f.zone())
 	}
-	c.head(&s, "stacked", label)
-	if !hasData {
-		noData(&s, c.box)
-	}
-	clip := clipRect(&s, c.box)
-	s.str(`<g class="dlc-data"`)
-	s.attr("clip-path", "url(#"+clip+")")
-	s.str(`>`)
+	c.openData(&s, f.Title, "stacked", "Stacked bars", nm, span, hasData)
 	// Bar edges in user units; a bar is adjacent to the previous one when
 	// it starts where that one ends.
 	x0 := make([]float64, n)

@@ -270,6 +270,31 @@ func newXYChart(f Frame, t0, t1 time.Time, lo, hi float64, zero bool, items []le
 func (c *xyChart) xt(t time.Time) float64 { return c.x.at(t.Sub(c.t0).Seconds()) }
 
 // head writes the root, title, legend, grid and axes.
+// openData writes the chart's head with its accessible label (the title,
+// what it draws, the series named, the span), the no-data notice when
+// nothing is drawn, and opens the clipped group of the data.
+func (c *xyChart) openData(s *svgBuf, title, kind, what string, nm []string, span string, hasData bool) {
+	label := title
+	if label != "" {
+		label += ". "
+	}
+	label += what
+	if l := names(nm); l != "" {
+		label += " of " + l
+	}
+	if span != "" {
+		label += ", " + span
+	}
+	c.head(s, kind, label)
+	if !hasData {
+		noData(s, c.box)
+	}
+	clip := clipRect(s, c.box)
+	s.str(`<g class="dlc-data"`)
+	s.attr("clip-path", "url(#"+clip+")")
+	s.str(`>`)
+}
+
 func (c *xyChart) head(s *svgBuf, kind, label string) {
 	openSVG(s, kind, c.w, c.h, c.f.Title, label)
 	if c.f.Title != "" {

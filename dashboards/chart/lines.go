@@ -79,25 +79,11 @@ func Lines(w io.Writer, f Frame, times []time.Time, lines []Series, bands []Band
 	}
 	var s svgBuf
 	s.b = make([]byte, 0, 4096+n*(len(lines)+2*len(bands))*9)
-	label := f.Title
-	if label != "" {
-		label += ". "
-	}
-	label += "Lines"
-	if l := names(nm); l != "" {
-		label += " of " + l
-	}
+	span := ""
 	if n > 0 {
-		label += ", " + spanLabel(times[0], times[n-1], c.f.zone())
+		span = spanLabel(times[0], times[n-1], c.f.zone())
 	}
-	c.head(&s, "lines", label)
-	if !hasData {
-		noData(&s, c.box)
-	}
-	clip := clipRect(&s, c.box)
-	s.str(`<g class="dlc-data"`)
-	s.attr("clip-path", "url(#"+clip+")")
-	s.str(`>`)
+	c.openData(&s, f.Title, "lines", "Lines", nm, span, hasData)
 	xs := make([]float64, n)
 	for i, t := range times {
 		xs[i] = c.xt(t)

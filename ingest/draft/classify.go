@@ -180,45 +180,39 @@ func decide(f feature) verdict {
 	return v
 }
 
+// airRoleNote is the role of a quantity of air at a location, or why it
+// has none (or how it was read).
+type airRoleNote struct {
+	role metrics.Role
+	note string
+}
+
+// airRoles are the roles by "location/quantity".
+var airRoles = map[string]airRoleNote{
+	"entering/temperature": {metrics.RoleEnteringTemp, ""},
+	"entering/humidity":    {metrics.RoleEnteringRH, ""},
+	"entering/dew point":   {metrics.RoleEnteringDewPoint, ""},
+	"leaving/temperature":  {metrics.RoleLeavingTemp, ""},
+	"leaving/humidity":     {metrics.RoleLeavingRH, ""},
+	"leaving/dew point":    {metrics.RoleLeavingDewPoint, ""},
+	"supply/temperature":   {metrics.RoleSupplyTemp, ""},
+	"supply/dew point":     {metrics.RoleLeavingDewPoint, "supply dew point taken as the coil's leaving dew point (reheat adds no moisture)"},
+	"supply/humidity":      {"", "supply RH: no role (after reheat its RH differs from the coil's; map a coil leaving RH or a supply dew point)"},
+	"return/temperature":   {metrics.RoleReturnTemp, ""},
+	"return/humidity":      {metrics.RoleReturnRH, ""},
+	"return/dew point":     {metrics.RoleReturnDewPoint, ""},
+	"outdoor/temperature":  {metrics.RoleOutdoorTemp, ""},
+	"outdoor/humidity":     {metrics.RoleOutdoorRH, ""},
+	"outdoor/dew point":    {"", "outdoor dew point: no role (outdoor humidity is read as RH)"},
+	"space/temperature":    {metrics.RoleSpaceTemp, ""},
+	"space/humidity":       {metrics.RoleSpaceRH, ""},
+	"space/dew point":      {"", "space dew point: no role (space humidity is read as RH)"},
+}
+
 // airRole is the role of a quantity of air at a location.
 func airRole(loc string, q feature) (metrics.Role, string) {
-	switch loc + "/" + quantityName(q) {
-	case "entering/temperature":
-		return metrics.RoleEnteringTemp, ""
-	case "entering/humidity":
-		return metrics.RoleEnteringRH, ""
-	case "entering/dew point":
-		return metrics.RoleEnteringDewPoint, ""
-	case "leaving/temperature":
-		return metrics.RoleLeavingTemp, ""
-	case "leaving/humidity":
-		return metrics.RoleLeavingRH, ""
-	case "leaving/dew point":
-		return metrics.RoleLeavingDewPoint, ""
-	case "supply/temperature":
-		return metrics.RoleSupplyTemp, ""
-	case "supply/dew point":
-		return metrics.RoleLeavingDewPoint, "supply dew point taken as the coil's leaving dew point (reheat adds no moisture)"
-	case "supply/humidity":
-		return "", "supply RH: no role (after reheat its RH differs from the coil's; map a coil leaving RH or a supply dew point)"
-	case "return/temperature":
-		return metrics.RoleReturnTemp, ""
-	case "return/humidity":
-		return metrics.RoleReturnRH, ""
-	case "return/dew point":
-		return metrics.RoleReturnDewPoint, ""
-	case "outdoor/temperature":
-		return metrics.RoleOutdoorTemp, ""
-	case "outdoor/humidity":
-		return metrics.RoleOutdoorRH, ""
-	case "outdoor/dew point":
-		return "", "outdoor dew point: no role (outdoor humidity is read as RH)"
-	case "space/temperature":
-		return metrics.RoleSpaceTemp, ""
-	case "space/humidity":
-		return metrics.RoleSpaceRH, ""
-	case "space/dew point":
-		return "", "space dew point: no role (space humidity is read as RH)"
+	if r, ok := airRoles[loc+"/"+quantityName(q)]; ok {
+		return r.role, r.note
 	}
 	return "", fmt.Sprintf("%s %s: no role", loc, quantityName(q))
 }

@@ -2,6 +2,8 @@ package draft
 
 import (
 	"context"
+	"fmt"
+	"os"
 	"sort"
 	"strings"
 	"time"
@@ -107,4 +109,49 @@ func influxName(s influx.SeriesSample) string {
 	st := readTags(s.Tags)
 	parts = append(parts, st.names...)
 	return strings.Join(parts, " ")
+}
+
+// Bucket is an InfluxDB bucket to read the points from.
+type Bucket struct {
+	URL, Bucket, Org string
+	// TokenEnv names the environment variable holding the token ("user:pass"
+	// for 1.8); empty or unset: no authentication.
+	TokenEnv string
+	// To ends the window (RFC 3339; empty: now); Since is its length.
+	To    string
+	Since time.Duration
+}
+
+// ReadBucket connects to the bucket and reads its points (ReadInflux, the
+// last 500 values of each series), and fills in the site's sources and
+// store to match.
+func ReadBucket(ctx context.Context, b Bucket, site *Site) ([]Point, error) {
+	to := time.Now()
+	if b.To != "" {
+		t, err := time.Parse(time.RFC3339, b.To)
+		if err != nil {
+			return nil, &InputError{fmt.Sprintf("--to %q: use RFC 3339, e.g. 2026-07-01T00:00:00Z", b.To)}
+		}
+		to = t
+	}
+	from := to.Add(-b.Since)
+	token := ""
+	if b.TokenEnv != "" {
+		token = strings.TrimSpace(os.Getenv(b.TokenEnv))
+	}
+	c, err := influx.New(influx.Options{URL: b.URL, Org: b.Org, Bucket: b.Bucket, Token: token})
+	if err != nil {
+		return nil, err
+	}
+	defer c.Close()
+	points, err := ReadInflux(ctx, c, from, to, 500)
+	if err != nil {
+		return nil, err
+	}
+	site.Sources = []string{fmt.Sprintf("InfluxDB %s, bucket %s, %s to %s", b.URL, b.Bucket, from.UTC().Format(time.RFC3339), to.UTC().Format(time.RFC3339))}
+	site.InfluxURL, site.InfluxBucket, site.InfluxOrg = b.URL, b.Bucket, b.Org
+	if token != "" {
+		site.InfluxTokenEnv = b.TokenEnv
+	}
+	return points, nil
 }

@@ -3,6 +3,7 @@ package draft
 import (
 	"fmt"
 	"io"
+	"os"
 	"sort"
 	"strings"
 	"unicode"
@@ -297,4 +298,27 @@ func orDefault(s, d string) string {
 		return d
 	}
 	return s
+}
+
+// WriteFile writes the configuration (Write) to the file at path, or to w
+// when path is empty.
+func (p *Proposal) WriteFile(path string, w io.Writer, site Site) error {
+	if path == "" {
+		if err := p.Write(w, site); err != nil {
+			return fmt.Errorf("write the draft: %w", err)
+		}
+		return nil
+	}
+	f, err := os.Create(path)
+	if err != nil {
+		return fmt.Errorf("create %s: %w", path, err)
+	}
+	if err := p.Write(f, site); err != nil {
+		_ = f.Close()
+		return fmt.Errorf("write the draft: %w", err)
+	}
+	if err := f.Close(); err != nil {
+		return fmt.Errorf("write %s: %w", path, err)
+	}
+	return nil
 }

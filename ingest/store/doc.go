@@ -11,5 +11,7 @@
 // on the kind of store.
 //
 // The package holds no implementation: it imports no backend, does no I/O
-// and never logs, so the runner and the dashboards can depend on it.
+// of its own and never logs, so the runner and the dashboards can depend on
+// it. Adopt, "dewline adopt", works through the UntaggedAdopter interface
+// and prints to the writer it is handed.
 package store

@@ -11,6 +11,7 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/metrics/compare/comparetest"
 )
 
 // The records below are made by hand so that every expected figure follows
@@ -28,19 +29,8 @@ func window(from, to time.Time) Window {
 // memResults holds records made by hand.
 type memResults struct{ recs []metrics.Record }
 
-// rec is an hour of ahu with the named fields set and every other NaN.
-func rec(ahu string, hour time.Time, set map[string]float64) metrics.Record {
-	r := metrics.Record{AHU: ahu, HourStart: hour}
-	for _, p := range r.FieldPtrs() {
-		*p = math.NaN()
-	}
-	for k, v := range set {
-		if !r.SetField(k, v) {
-			panic("unknown field " + k)
-		}
-	}
-	return r
-}
+// rec is an hourly record with the fields in set (comparetest.Record).
+var rec = comparetest.Record
 
 // cmpSite is the input of a comparison of units.
 type cmpInput struct{ in Input }
@@ -75,29 +65,20 @@ func run(site *cmpInput, m *memResults, before, after Window, opt Options) (*Com
 
 // Entering dew points in the middle of 1 K bins.
 const (
-	dpDry   = 10.5 // bin [10, 11) °C
-	dpMid   = 12.5 // bin [12, 13)
-	dpHumid = 16.5 // bin [16, 17)
-	dpWet   = 20.5 // bin [20, 21)
-	dpCool  = 5.5  // bin [5, 6)
+	dpDry   = comparetest.DewPointDryC   // bin [10, 11) °C
+	dpMid   = 12.5                       // bin [12, 13)
+	dpHumid = comparetest.DewPointHumidC // bin [16, 17)
+	dpWet   = comparetest.DewPointWetC   // bin [20, 21)
+	dpCool  = 5.5                        // bin [5, 6)
 )
 
-// cmpHours appends n consecutive hours of unit ahu from *at, each fully
-// covered, with entering dew point dpC and the fields of set(i).
+// cmpHours appends n consecutive hours of unit ahu from *at
+// (comparetest.Hours).
 func cmpHours(m *memResults, ahu string, at *time.Time, n int, dpC float64, set func(i int) map[string]float64) {
-	for i := 0; i < n; i++ {
-		f := map[string]float64{"coverage": 1, "entering_dewpoint_c": dpC}
-		for k, v := range set(i) {
-			f[k] = v
-		}
-		m.recs = append(m.recs, rec(ahu, *at, f))
-		*at = at.Add(time.Hour)
-	}
+	m.recs = comparetest.Hours(m.recs, ahu, at, n, dpC, set)
 }
 
-func reheatOnly(v float64) func(int) map[string]float64 {
-	return func(int) map[string]float64 { return map[string]float64{"reheat_kwh": v} }
-}
+var reheatOnly = comparetest.ReheatOnly
 
 // alternating gives reheat lo, hi, lo, hi, ...: a bin mean of (lo+hi)/2
 // with a known spread.

@@ -1,0 +1,103 @@
+package importer
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"time"
+
+	"github.com/dewline/dewline/agent/config"
+	"github.com/dewline/dewline/ingest"
+	"github.com/dewline/dewline/ingest/csvfile"
+	"github.com/dewline/dewline/ingest/store"
+)
+
+// Checks are the configured points, each with what "dewline check" saw of
+// it, by series name.
+type Checks struct {
+	Index  ingest.PointIndex
+	Points map[string]*ingest.PointCheck
+}
+
+// NewChecks indexes the configured points for inspection.
+func NewChecks(cfg *config.Config) (*Checks, error) {
+	units := map[string]ingest.UnitPoints{}
+	for i := range cfg.AirHandlers {
+		a := &cfg.AirHandlers[i]
+		units[a.ID] = ingest.UnitPoints{Points: a.PointMap()}
+	}
+	ix, err := ingest.NewPointIndex(units)
+	if err != nil {
+		return nil, err
+	}
+	c := &Checks{Index: ix, Points: map[string]*ingest.PointCheck{}}
+	for name, ts := range ix {
+		c.Points[name] = ingest.NewPointCheck(name, ts)
+	}
+	return c, nil
+}
+
+// ReadExports reads the exports (nothing is written) into the checks, in
+// the configured unit of each point, and prints what was read of each
+// file, the rows refused and the series no point maps.
+func (c *Checks) ReadExports(w io.Writer, inputs []string, cfg *config.Config) error {
+	files, err := csvfile.OpenFiles(inputs, cfg.CSVOptions())
+	if err != nil {
+		return err
+	}
+	defer files.Close()
+	var unmatched ingest.Unmatched
+	rowUnits := ingest.NewRowUnits(c.Index)
+	for {
+		rec, err := files.Next()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			return err
+		}
+		pc, ok := c.Points[rec.Series]
+		if !ok {
+			unmatched.Add(rec.Series)
+			continue
+		}
+		ru, ok, err := rowUnits.Check(rec)
+		if err != nil {
+			return err
+		}
+		if !ok {
+			continue // counted in rowUnits
+		}
+		t0 := pc.Targets[0]
+		pc.Add(rec.Time, t0.Unit.FromSI(ru.ToSI(t0, rec.Value)))
+	}
+	for _, r := range files.Readers() {
+		s := r.Stats()
+		fmt.Fprintf(w, "%s: %s layout, %d rows, %d values, %d rejected\n", r.Name(), r.Layout(), s.Rows, s.Records, s.RejectedTotal())
+		for _, ex := range s.Examples {
+			fmt.Fprintf(w, "  rejected: %s\n", ex.String())
+		}
+	}
+	WriteRowUnits(w, rowUnits)
+	if u := unmatched.Summary(UnmatchedExamples); u != "" {
+		fmt.Fprintf(w, "%s; map them under air_handlers[].points if they are needed\n", u)
+	}
+	return nil
+}
+
+// ReadStore reads what the store holds for each point in [from, to) into
+// the checks; a point without data is no error.
+func (c *Checks) ReadStore(ctx context.Context, st store.SeriesReader, from, to time.Time) error {
+	for _, pc := range c.Points {
+		t0 := pc.Targets[0]
+		err := st.ReadSeries(ctx, t0.Ref, t0.Kind, from, to, func(s ingest.Sample) error {
+			pc.Add(s.Time, t0.Unit.FromSI(s.Value)) // the store holds SI
+			return nil
+		})
+		if err != nil && !st.IsMissing(err) {
+			return fmt.Errorf("read %s: %w", pc.Name, err)
+		}
+	}
+	return nil
+}
