@@ -13,6 +13,7 @@ import (
 	"github.com/rs/zerolog"
 
 	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/telemetry"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
 	"github.com/dewline/dewline/ingest/outfile"
@@ -141,10 +142,10 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		src = storeSrc
 	}
 
-	prog := newProgress("analysing", log)
+	prog := telemetry.NewProgress("analysing", log)
 	an := &agent.Analyzer{Cfg: cfg, Source: src}
 	if !from.IsZero() && !to.IsZero() {
-		an.Progress = prog.update
+		an.Progress = prog.Update
 	}
 	// Results are written in batches of a day per air handler, so a store
 	// write is a few calls, not thousands.

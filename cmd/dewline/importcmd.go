@@ -8,6 +8,7 @@ import (
 	"slices"
 
 	"github.com/dewline/dewline/agent/config"
+	"github.com/dewline/dewline/agent/telemetry"
 	"github.com/dewline/dewline/ingest/importer"
 )
 
@@ -70,9 +71,9 @@ func runImport(ctx context.Context, e *env, args []string) error {
 	}()
 	var empty []error // files that stored nothing: the others are still imported
 	for _, path := range files {
-		prog := newProgress("importing "+path, e.log)
+		prog := telemetry.NewProgress("importing "+path, e.log)
 		s, err := importer.File(ctx, path, importer.Options{Config: cfg, ConfigPath: *cfgPath, Store: st.Store, Index: ix,
-			MaxBytes: *maxMiB << 20, Log: e.log, Progress: prog.update})
+			MaxBytes: *maxMiB << 20, Log: e.log, Progress: prog.Update})
 		all = append(all, s)
 		var ne *importer.NothingWrittenError
 		if errors.As(err, &ne) {

@@ -2,10 +2,7 @@ package main
 
 import (
 	"fmt"
-	"os"
 	"time"
-
-	"github.com/rs/zerolog"
 )
 
 // parseTime reads a period bound: RFC 3339 with an offset, or a local date
@@ -65,47 +62,4 @@ func parseTo(flagName, s string, loc *time.Location) (t time.Time, date bool, er
 		return time.Time{}, false, usagef("%s: %v", flagName, err)
 	}
 	return t, false, nil
-}
-
-// progress shows long work: a line that redraws itself on a terminal, a
-// log line every tenth otherwise.
-type progress struct {
-	what string
-	tty  bool
-	log  zerolog.Logger
-	last int
-	w    *os.File
-}
-
-func newProgress(what string, log zerolog.Logger) *progress {
-	st, err := os.Stderr.Stat()
-	tty := err == nil && st.Mode()&os.ModeCharDevice != 0
-	return &progress{what: what, tty: tty, log: log, last: -1, w: os.Stderr}
-}
-
-func (p *progress) update(done, total int) {
-	if total <= 0 {
-		return
-	}
-	pct := done * 100 / total
-	if p.tty {
-		if pct != p.last || done == total {
-			width := 30
-			fill := done * width / total
-			bar := make([]byte, width)
-			for i := range bar {
-				bar[i] = '.'
-				if i < fill {
-					bar[i] = '#'
-				}
-			}
-			fmt.Fprintf(p.w, "\r%s [%s] %3d%% %d/%d", p.what, bar, pct, done, total)
-			if done == total {
-				fmt.Fprintln(p.w)
-			}
-		}
-	} else if pct/10 != p.last/10 || done == total {
-		p.log.Info().Int("done", done).Int("total", total).Int("percent", pct).Msg(p.what)
-	}
-	p.last = pct
 }

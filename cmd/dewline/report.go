@@ -14,6 +14,7 @@ import (
 	"github.com/rs/zerolog"
 
 	"github.com/dewline/dewline/agent/config"
+	"github.com/dewline/dewline/agent/telemetry"
 	"github.com/dewline/dewline/dashboards"
 	"github.com/dewline/dewline/dashboards/pdf"
 	"github.com/dewline/dewline/ingest/outfile"
@@ -181,7 +182,7 @@ func buildSiteReport(ctx context.Context, e *env, cfgPath string, rf reportFlags
 	display := dashboards.DisplayFor(rf.units, site.IP)
 	log = e.log.With().Str("from", from.UTC().Format(time.RFC3339)).Str("to", to.UTC().Format(time.RFC3339)).Logger()
 	log.Info().Int("ahus", len(site.Units)).Str("units", display.Name()).Msg("report: reading results")
-	prog := newProgress("report", log)
+	prog := telemetry.NewProgress("report", log)
 	opt := dashboards.ReportOptions{
 		Display:   display,
 		Generated: time.Now(),
@@ -189,7 +190,7 @@ func buildSiteReport(ctx context.Context, e *env, cfgPath string, rf reportFlags
 		Source:    st.Describe(),
 		Trended:   cfg.TrendedRoles(),
 		Notes:     reportNotes(cfg),
-		Progress:  prog.update,
+		Progress:  prog.Update,
 	}
 	rep, err = dashboards.BuildReport(ctx, site, res, period, opt)
 	if err != nil {
