@@ -71,7 +71,7 @@ func runScenario(t *testing.T, seed string) []scenarioHour {
 		}
 		h.rec.Coverage = 1
 		for _, name := range []string{"dry_air_kg", "entering_temp_c", "entering_dewpoint_c", "leaving_dewpoint_c",
-			"reheat_kwh", "cooling_input_kwh", "water_removed_kg", "cost"} {
+			"outdoor_temp_c", "outdoor_dewpoint_c", "reheat_kwh", "cooling_input_kwh", "water_removed_kg", "cost"} {
 			require.True(t, h.rec.SetField(name, num(name)))
 		}
 		for q := 0; q < nY; q++ {
