@@ -121,13 +121,13 @@ type HourFit struct {
 	Occupied bool      `json:"occupied"`
 	// DewPointC and TempC are the model's drivers (Model.Drivers: outdoor
 	// or entering air); the entering air's as stored beside them.
-	DewPointC         Num `json:"driver_dewpoint_c"`
-	TempC             Num `json:"driver_temp_c"`
-	EnteringDewPointC Num `json:"entering_dewpoint_c"`
-	EnteringTempC     Num `json:"entering_temp_c"`
-	DryAirKg  Num       `json:"dry_air_kg"`
-	Measured  [nY]Num   `json:"measured"`  // reheat_kwh, cooling_input_kwh, water_removed_kg, cost
-	Predicted [nY]Num   `json:"predicted"` // the same order
+	DewPointC         Num     `json:"driver_dewpoint_c"`
+	TempC             Num     `json:"driver_temp_c"`
+	EnteringDewPointC Num     `json:"entering_dewpoint_c"`
+	EnteringTempC     Num     `json:"entering_temp_c"`
+	DryAirKg          Num     `json:"dry_air_kg"`
+	Measured          [nY]Num `json:"measured"`  // reheat_kwh, cooling_input_kwh, water_removed_kg, cost
+	Predicted         [nY]Num `json:"predicted"` // the same order
 }
 
 // Model is the baseline-model result of one unit.

@@ -107,12 +107,12 @@ type Comparison struct {
 	MinHours int    `json:"min_hours_per_bin"`
 	// Method states the headline method (the baseline model), BinMethod
 	// the check.
-	Method    string           `json:"method"`
-	BinMethod string           `json:"bin_method"`
-	Normalise string           `json:"normalised_to,omitempty"` // before, after or period, when asked
+	Method    string `json:"method"`
+	BinMethod string `json:"bin_method"`
+	Normalise string `json:"normalised_to,omitempty"` // before, after or period, when asked
 	// NormalPeriod is the period normalised to, for "period".
-	NormalPeriod *Window `json:"normalised_period,omitempty"`
-	Units     []UnitComparison `json:"units"`
+	NormalPeriod *Window          `json:"normalised_period,omitempty"`
+	Units        []UnitComparison `json:"units"`
 	// Total sums the units: the models' savings, and the bin check of the
 	// units that could be compared (a unit without common bins is left
 	// out of it and named in Warnings).

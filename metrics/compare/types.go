@@ -40,9 +40,9 @@ type Input struct {
 	Before, After Window
 	// Normal is the period to normalise to when Options.NormaliseTo is
 	// "period"; it may overlap the others.
-	Normal Window
-	Units  []Unit // in configuration order
-	Options       Options
+	Normal  Window
+	Units   []Unit // in configuration order
+	Options Options
 }
 
 // Num is a number that encodes NaN and ±Inf as JSON null (metrics.Num).
