@@ -187,6 +187,7 @@ type compareView struct {
 	MinHours                      int
 	WaterUnit, TempUnit           string
 	Normalise                     string
+	Drivers                       []cmpDrivers
 	Cards                         []cmpCard
 	Units                         []cmpUnit
 	Fits                          []cmpFit
@@ -203,6 +204,9 @@ type compareView struct {
 }
 
 type cmpCard struct{ ID, Label, Value, Note string }
+
+// cmpDrivers says which drivers a unit's baseline used, and why.
+type cmpDrivers struct{ ID, Name, Drivers, Why string }
 
 // cmpUnit is one row of the headline table: one unit (or the site) and
 // one quantity.
@@ -304,7 +308,7 @@ func newCompareView(c *compare.Comparison, d Display, zone *time.Location) (*com
 	v := &compareView{Site: c.Site, Before: c.Before.Label, After: c.After.Label, Currency: c.Currency,
 		BeforeSpan: spanText(c.Before), AfterSpan: spanText(c.After),
 		Method: c.Method, BinMethod: c.BinMethod, MinHours: c.MinHours, WaterUnit: d.WaterUnit(), TempUnit: d.TempUnit(),
-		BinWidth: fmtFixed(d.Delta(float64(c.BinK)), 1) + " " + d.DeltaUnit(), Normalise: c.Normalise,
+		BinWidth: fmtFixed(d.Delta(float64(c.BinK)), 1) + " " + d.DeltaUnit(), Normalise: NormalisedWords(c),
 		Warnings: c.Warnings, Uncertainty: compareUncertainty, Caution: CompareCaution}
 	if d.IP {
 		v.BinWidth += " = " + fmtFixed(float64(c.BinK), 1) + " K"
@@ -343,6 +347,7 @@ func newCompareView(c *compare.Comparison, d Display, zone *time.Location) (*com
 	for i := range c.Units {
 		u := &c.Units[i]
 		if u.Model != nil {
+			v.Drivers = append(v.Drivers, cmpDrivers{ID: u.ID, Name: u.Name, Drivers: u.Model.Drivers, Why: u.Model.DriversWhy})
 			addSavings(u.ID, u.Name, "", u.Model.Savings)
 			for k, q := range cmpQuantities {
 				if k >= len(u.Model.Savings) {
@@ -365,7 +370,7 @@ func newCompareView(c *compare.Comparison, d Display, zone *time.Location) (*com
 			for _, e := range u.Model.Extrapolation {
 				rng := "–"
 				switch e.Driver {
-				case "entering_dewpoint_c", "entering_temp_c":
+				case "entering_dewpoint_c", "entering_temp_c", "outdoor_dewpoint_c", "outdoor_temp_c":
 					rng = fmtFixed(d.Temp(float64(e.Min)), 1) + " to " + fmtFixed(d.Temp(float64(e.Max)), 1) + " " + d.TempUnit()
 				case "dry_air_kg":
 					rng = fmtQty(float64(e.Min)) + " to " + fmtQty(float64(e.Max)) + " kg of dry air per hour"
@@ -409,9 +414,26 @@ func newCompareView(c *compare.Comparison, d Display, zone *time.Location) (*com
 	return v, nil
 }
 
+// NormalisedWords names the conditions the savings were normalised to,
+// for the outputs: "the before period's (1 Jun – 14 Jun 2026)", or "" when
+// none were asked.
+func NormalisedWords(c *compare.Comparison) string {
+	switch {
+	case c.Normalise == "before":
+		return "the before period's (" + c.Before.Label + ")"
+	case c.Normalise == "after":
+		return "the after period's (" + c.After.Label + ")"
+	case c.Normalise == "period" && c.NormalPeriod != nil:
+		return "the period " + c.NormalPeriod.Label + "'s"
+	}
+	return c.Normalise
+}
+
 var driverLabel = map[string]string{
 	"entering_dewpoint_c": "entering dew point",
 	"entering_temp_c":     "entering temperature",
+	"outdoor_dewpoint_c":  "outdoor dew point",
+	"outdoor_temp_c":      "outdoor temperature",
 	"dry_air_kg":          "airflow (dry air)",
 	"hour_of_week":        "hour of the week not seen before",
 }

@@ -14,9 +14,11 @@ import (
 // ModelMethod states the headline method in plain words, for the outputs.
 const ModelMethod = "Baseline model in the manner of ASHRAE Guideline 14 and IPMVP Option B (retrofit isolation): " +
 	"per air handler and quantity, the before period's hourly values are fitted by ordinary least squares to " +
-	"the hour's airflow times a change-point (piecewise-linear) function of the entering humidity ratio (from the entering " +
-	"dew point) and the entering temperature, with separate terms for occupied and unoccupied hours of the week " +
+	"the hour's airflow times a change-point (piecewise-linear) function of the drivers' humidity ratio (from their dew point) " +
+	"and dry bulb, with separate terms for occupied and unoccupied hours of the week " +
 	"(the time-of-week-and-temperature form of Mathieu et al. 2011, reduced to two occupancy modes). " +
+	"The drivers are the outdoor dry bulb and dew point when the outdoor roles are mapped (the weather, which the change cannot alter), " +
+	"else the entering air's (each unit's drivers are named). " +
 	"Projected onto each after hour's drivers, the model gives what the unit would have used without the change; " +
 	"avoided energy = projection − measured, over every usable after hour."
 
