@@ -2,6 +2,9 @@ package dashboards
 
 import (
 	"bytes"
+	"crypto/sha256"
+	_ "embed"
+	"encoding/base64"
 	"fmt"
 	"html/template"
 	"io"
@@ -38,7 +41,7 @@ const CompareCaution = "These figures are estimates from trend data. A sequence 
 var compareUncertainty = []string{
 	"Guideline 14 ± (68 % and 90 %): ΔE = t × 1.26 × CV(RMSE) × E_baseline × sqrt((n/n′)(1 + 2/n′)/m), with n the before hours fitted, m the after hours, and n′ = n(1 − ρ)/(1 + ρ) the effective number of hours for the lag-1 autocorrelation ρ of the model's hourly residuals (ASHRAE Guideline 14-2014, Annex B; the factor 1.26 and the form are recalled from the guideline). Divided by the avoided energy it is the fractional savings uncertainty; the guideline asks for less than 50 % at 68 % confidence.",
 	"Regression ± (90 %): the least-squares prediction interval of the after period's sum, t × sqrt(n/n′ × Σ σ² (m + s′(X′X)⁻¹s)) per occupancy mode, which counts every parameter of the model. The guideline's formula stands in for it with 2m/n, exact for a two-parameter model only; an hourly model has tens of parameters, and its interval is then wider. The finding uses the larger of the two at 90 %: a change inside it is reported as no significant change.",
-	"Neither covers sensor calibration bias, which is the same before and after and cancels in the avoided energy to first order; nor a change of the drivers caused by the measure itself (for example a wetter return air after a reheat lockout), which the model reads as weather.",
+	"Neither covers sensor calibration bias, which is the same before and after and cancels in the avoided energy to first order. With the entering air as the drivers (no outdoor trends), neither covers a change of the drivers caused by the measure itself either (for example a wetter return air after a reheat lockout), which such a model reads as weather; the outdoor drivers are free of it.",
 	"Bin check ± (95 %): measurement, from the hourly half-widths normalised like the values; sampling, 1.96 × the standard error of the bin means (consecutive hours are not independent, so it understates).",
 }
 
@@ -201,6 +204,8 @@ type compareView struct {
 	Warnings                      []string
 	Uncertainty                   []string
 	Caution                       string
+	CSS                           template.CSS
+	StyleHash                     string
 }
 
 type cmpCard struct{ ID, Label, Value, Note string }
@@ -274,6 +279,20 @@ var compareTemplate = sync.OnceValues(func() (*template.Template, error) {
 	return template.New("compare.html").ParseFS(assets, "templates/compare.html")
 })
 
+// compareCSS is the page's stylesheet, inlined, with the hash its own
+// Content-Security-Policy allows it by (CSP Level 2 hash source: base64 of
+// the SHA-256 of the style element's text). The policy allows nothing
+// else: no script, no outside resource, no style attribute, whatever a
+// mail client or an archive does with the file.
+//
+//go:embed templates/compare.css
+var compareCSS string
+
+func compareStyleHash() string {
+	sum := sha256.Sum256([]byte(compareCSS))
+	return "sha256-" + base64.StdEncoding.EncodeToString(sum[:])
+}
+
 // RenderCompare writes comparison c as one self-contained HTML page:
 // inline CSS and SVG, no script and no outside resource, so it can be
 // mailed or archived as one file. zone labels the time axes (nil: UTC).
@@ -286,6 +305,7 @@ func RenderCompare(w io.Writer, c *compare.Comparison, d Display, zone *time.Loc
 	if err != nil {
 		return err
 	}
+	v.CSS, v.StyleHash = template.CSS(compareCSS), compareStyleHash()
 	var buf bytes.Buffer
 	if err := t.ExecuteTemplate(&buf, "compare.html", v); err != nil {
 		return fmt.Errorf("render the comparison: %w", err)
