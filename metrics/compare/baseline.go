@@ -206,7 +206,7 @@ const outdoorShare = 0.9
 
 // chooseDrivers picks the unit's drivers and keeps the rows that have
 // them: outdoor when outdoorShare of the hours of every period given
-// carry them, else entering. It returns the choice, a sentence saying why
+// (that has any) carry them, else entering. It returns the choice, a sentence saying why
 // and the rows left out per period for the lack of the chosen drivers.
 func chooseDrivers(periods [][]hourRow) (string, string, []int) {
 	drivers := DriversOutdoor
@@ -217,7 +217,7 @@ func chooseDrivers(periods [][]hourRow) (string, string, []int) {
 				n++
 			}
 		}
-		if len(rows) == 0 || float64(n) < outdoorShare*float64(len(rows)) {
+		if len(rows) > 0 && float64(n) < outdoorShare*float64(len(rows)) {
 			drivers = DriversEntering
 			break
 		}
