@@ -2,6 +2,9 @@ package dashboards
 
 import (
 	"bytes"
+	"crypto/sha256"
+	_ "embed"
+	"encoding/base64"
 	"fmt"
 	"html/template"
 	"io"
@@ -38,7 +41,7 @@ const CompareCaution = "These figures are estimates from trend data. A sequence 
 var compareUncertainty = []string{
 	"Guideline 14 ± (68 % and 90 %): ΔE = t × 1.26 × CV(RMSE) × E_baseline × sqrt((n/n′)(1 + 2/n′)/m), with n the before hours fitted, m the after hours, and n′ = n(1 − ρ)/(1 + ρ) the effective number of hours for the lag-1 autocorrelation ρ of the model's hourly residuals (ASHRAE Guideline 14-2014, Annex B; the factor 1.26 and the form are recalled from the guideline). Divided by the avoided energy it is the fractional savings uncertainty; the guideline asks for less than 50 % at 68 % confidence.",
 	"Regression ± (90 %): the least-squares prediction interval of the after period's sum, t × sqrt(n/n′ × Σ σ² (m + s′(X′X)⁻¹s)) per occupancy mode, which counts every parameter of the model. The guideline's formula stands in for it with 2m/n, exact for a two-parameter model only; an hourly model has tens of parameters, and its interval is then wider. The finding uses the larger of the two at 90 %: a change inside it is reported as no significant change.",
-	"Neither covers sensor calibration bias, which is the same before and after and cancels in the avoided energy to first order; nor a change of the drivers caused by the measure itself (for example a wetter return air after a reheat lockout), which the model reads as weather.",
+	"Neither covers sensor calibration bias, which is the same before and after and cancels in the avoided energy to first order. With the entering air as the drivers (no outdoor trends), neither covers a change of the drivers caused by the measure itself either (for example a wetter return air after a reheat lockout), which such a model reads as weather; the outdoor drivers are free of it.",
 	"Bin check ± (95 %): measurement, from the hourly half-widths normalised like the values; sampling, 1.96 × the standard error of the bin means (consecutive hours are not independent, so it understates).",
 }
 
@@ -187,6 +190,7 @@ type compareView struct {
 	MinHours                      int
 	WaterUnit, TempUnit           string
 	Normalise                     string
+	Drivers                       []cmpDrivers
 	Cards                         []cmpCard
 	Units                         []cmpUnit
 	Fits                          []cmpFit
@@ -200,9 +204,14 @@ type compareView struct {
 	Warnings                      []string
 	Uncertainty                   []string
 	Caution                       string
+	CSS                           template.CSS
+	StyleHash                     string
 }
 
 type cmpCard struct{ ID, Label, Value, Note string }
+
+// cmpDrivers says which drivers a unit's baseline used, and why.
+type cmpDrivers struct{ ID, Name, Drivers, Why string }
 
 // cmpUnit is one row of the headline table: one unit (or the site) and
 // one quantity.
@@ -270,6 +279,20 @@ var compareTemplate = sync.OnceValues(func() (*template.Template, error) {
 	return template.New("compare.html").ParseFS(assets, "templates/compare.html")
 })
 
+// compareCSS is the page's stylesheet, inlined, with the hash its own
+// Content-Security-Policy allows it by (CSP Level 2 hash source: base64 of
+// the SHA-256 of the style element's text). The policy allows nothing
+// else: no script, no outside resource, no style attribute, whatever a
+// mail client or an archive does with the file.
+//
+//go:embed templates/compare.css
+var compareCSS string
+
+func compareStyleHash() string {
+	sum := sha256.Sum256([]byte(compareCSS))
+	return "sha256-" + base64.StdEncoding.EncodeToString(sum[:])
+}
+
 // RenderCompare writes comparison c as one self-contained HTML page:
 // inline CSS and SVG, no script and no outside resource, so it can be
 // mailed or archived as one file. zone labels the time axes (nil: UTC).
@@ -282,6 +305,7 @@ func RenderCompare(w io.Writer, c *compare.Comparison, d Display, zone *time.Loc
 	if err != nil {
 		return err
 	}
+	v.CSS, v.StyleHash = template.CSS(compareCSS), compareStyleHash()
 	var buf bytes.Buffer
 	if err := t.ExecuteTemplate(&buf, "compare.html", v); err != nil {
 		return fmt.Errorf("render the comparison: %w", err)
@@ -304,7 +328,7 @@ func newCompareView(c *compare.Comparison, d Display, zone *time.Location) (*com
 	v := &compareView{Site: c.Site, Before: c.Before.Label, After: c.After.Label, Currency: c.Currency,
 		BeforeSpan: spanText(c.Before), AfterSpan: spanText(c.After),
 		Method: c.Method, BinMethod: c.BinMethod, MinHours: c.MinHours, WaterUnit: d.WaterUnit(), TempUnit: d.TempUnit(),
-		BinWidth: fmtFixed(d.Delta(float64(c.BinK)), 1) + " " + d.DeltaUnit(), Normalise: c.Normalise,
+		BinWidth: fmtFixed(d.Delta(float64(c.BinK)), 1) + " " + d.DeltaUnit(), Normalise: NormalisedWords(c),
 		Warnings: c.Warnings, Uncertainty: compareUncertainty, Caution: CompareCaution}
 	if d.IP {
 		v.BinWidth += " = " + fmtFixed(float64(c.BinK), 1) + " K"
@@ -343,6 +367,7 @@ func newCompareView(c *compare.Comparison, d Display, zone *time.Location) (*com
 	for i := range c.Units {
 		u := &c.Units[i]
 		if u.Model != nil {
+			v.Drivers = append(v.Drivers, cmpDrivers{ID: u.ID, Name: u.Name, Drivers: u.Model.Drivers, Why: u.Model.DriversWhy})
 			addSavings(u.ID, u.Name, "", u.Model.Savings)
 			for k, q := range cmpQuantities {
 				if k >= len(u.Model.Savings) {
@@ -365,7 +390,7 @@ func newCompareView(c *compare.Comparison, d Display, zone *time.Location) (*com
 			for _, e := range u.Model.Extrapolation {
 				rng := "–"
 				switch e.Driver {
-				case "entering_dewpoint_c", "entering_temp_c":
+				case "entering_dewpoint_c", "entering_temp_c", "outdoor_dewpoint_c", "outdoor_temp_c":
 					rng = fmtFixed(d.Temp(float64(e.Min)), 1) + " to " + fmtFixed(d.Temp(float64(e.Max)), 1) + " " + d.TempUnit()
 				case "dry_air_kg":
 					rng = fmtQty(float64(e.Min)) + " to " + fmtQty(float64(e.Max)) + " kg of dry air per hour"
@@ -409,9 +434,26 @@ func newCompareView(c *compare.Comparison, d Display, zone *time.Location) (*com
 	return v, nil
 }
 
+// NormalisedWords names the conditions the savings were normalised to,
+// for the outputs: "the before period's (1 Jun – 14 Jun 2026)", or "" when
+// none were asked.
+func NormalisedWords(c *compare.Comparison) string {
+	switch {
+	case c.Normalise == "before":
+		return "the before period's (" + c.Before.Label + ")"
+	case c.Normalise == "after":
+		return "the after period's (" + c.After.Label + ")"
+	case c.Normalise == "period" && c.NormalPeriod != nil:
+		return "the period " + c.NormalPeriod.Label + "'s"
+	}
+	return c.Normalise
+}
+
 var driverLabel = map[string]string{
 	"entering_dewpoint_c": "entering dew point",
 	"entering_temp_c":     "entering temperature",
+	"outdoor_dewpoint_c":  "outdoor dew point",
+	"outdoor_temp_c":      "outdoor temperature",
 	"dry_air_kg":          "airflow (dry air)",
 	"hour_of_week":        "hour of the week not seen before",
 }

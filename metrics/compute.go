@@ -199,6 +199,7 @@ func Compute(u *Unit, hr *Hour) Record {
 			rec.LeavingDewPointC = td
 		}
 	}
+	rec.OutdoorTempC, rec.OutdoorDewPointC = outdoorMeans(c.tOut, c.oaRH, u.PressurePa)
 	if needSteps > 0 {
 		rec.RequiredLeavingC = sumReq / float64(needSteps)
 	}

@@ -69,6 +69,14 @@ type Record struct {
 	OvercoolingK      float64 // mean over coil-on steps of (needed coil temperature - actual), when positive
 	HumidityNeedHours float64 // time the entering air was wetter than the target allowed
 
+	// Outdoor air over the hour, from the outdoor roles when mapped (NaN
+	// when not): the mean dry bulb over the steps that read it, and the dew
+	// point of the mean humidity ratio over the steps that read both
+	// temperature and RH. They are the weather, independent of the unit's
+	// sequence, and the drivers of a before/after baseline.
+	OutdoorTempC     float64
+	OutdoorDewPointC float64
+
 	// Too little dehumidification: water the target needed removed and the
 	// coil left in the air, the time the coil left air wetter than the
 	// target (by more than 2 % of W), and the cooling and reheat (at the same
@@ -134,6 +142,8 @@ func (r *Record) Fields() []Field {
 		{"supply_temp_c", r.SupplyTempC},
 		{"overcooling_k", r.OvercoolingK},
 		{"humidity_need_h", r.HumidityNeedHours},
+		{"outdoor_temp_c", r.OutdoorTempC},
+		{"outdoor_dewpoint_c", r.OutdoorDewPointC},
 		{"humidity_shortfall_kg", r.ShortfallKg},
 		{"humidity_shortfall_h", r.ShortfallHours},
 		{"shortfall_cooling_kwh", r.ShortfallCoolKWh},
@@ -197,7 +207,7 @@ func (r *Record) fieldPtrs() map[string]*float64 {
 		"shr": &r.SHR, "water_per_kwh_l": &r.WaterPerKWhL, "shc_h": &r.SHCHours, "shc_unneeded_h": &r.SHCUnneededH,
 		"entering_temp_c": &r.EnteringTempC, "entering_dewpoint_c": &r.EnteringDewPointC, "leaving_temp_c": &r.LeavingTempC, "leaving_dewpoint_c": &r.LeavingDewPointC,
 		"required_leaving_temp_c": &r.RequiredLeavingC, "supply_temp_c": &r.SupplyTempC, "overcooling_k": &r.OvercoolingK,
-		"humidity_need_h": &r.HumidityNeedHours, "humidity_shortfall_kg": &r.ShortfallKg, "humidity_shortfall_h": &r.ShortfallHours,
+		"humidity_need_h": &r.HumidityNeedHours, "outdoor_temp_c": &r.OutdoorTempC, "outdoor_dewpoint_c": &r.OutdoorDewPointC, "humidity_shortfall_kg": &r.ShortfallKg, "humidity_shortfall_h": &r.ShortfallHours,
 		"shortfall_cooling_kwh": &r.ShortfallCoolKWh, "shortfall_reheat_kwh": &r.ShortfallReheatKWh, "cost": &r.Cost, "cost_avoidable": &r.CostAvoidable, "co2_kg": &r.CO2Kg,
 		"co2_avoidable_kg": &r.CO2AvoidableKg, "water_removed_kg_u95": &r.WaterRemovedKgU95, "coil_total_kwh_u95": &r.CoilTotalKWhU95,
 		"reheat_kwh_u95": &r.ReheatKWhU95, "reheat_avoidable_kwh_u95": &r.ReheatAvoidKWhU95,

@@ -7,6 +7,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -30,10 +31,10 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	asJSON := fs.Bool("json", false, "print the comparison as JSON (SI units) instead of the table")
 	unitsS := fs.String("units", "", "units of the table and the HTML: si or ip (default: the site's)")
 	minHours := fs.Int("min-hours", compare.DefaultMinHours, "hours a dew-point bin of the bin check needs in each period to be used")
-	normalise := fs.String("normalise-to", "", "also report the savings normalised to the conditions of the before or the after period")
+	normalise := fs.String("normalise-to", "", "also report the savings normalised to the conditions of the before or the after period, or of a period FROM..TO of stored results")
 	fs.Usage = func() {
 		w := fs.Output()
-		fmt.Fprintln(w, "usage: dewline compare --config FILE --before FROM..TO --after FROM..TO [-o compare.html] [--json] [--units si|ip] [--normalise-to before|after] [--min-hours N]")
+		fmt.Fprintln(w, "usage: dewline compare --config FILE --before FROM..TO --after FROM..TO [-o compare.html] [--json] [--units si|ip] [--normalise-to before|after|FROM..TO] [--min-hours N]")
 		fmt.Fprintln(w, "Measures what a change of a dehumidification sequence saved: a baseline model of the before period's hours")
 		fmt.Fprintln(w, "(ASHRAE Guideline 14 / IPMVP Option B style) projected onto the after period, minus what was measured,")
 		fmt.Fprintln(w, "with its fit statistics and uncertainty; the bin method on the entering dew point as a check.")
@@ -51,8 +52,8 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 		return usagef("--after is required: give the period after the change, e.g. --after 2026-07-01..2026-07-14")
 	case *unitsS != "" && *unitsS != "si" && *unitsS != "ip":
 		return usagef("--units %q: use si or ip", *unitsS)
-	case *normalise != "" && *normalise != "before" && *normalise != "after":
-		return usagef("--normalise-to %q: use before or after", *normalise)
+	case *normalise != "" && *normalise != "before" && *normalise != "after" && !strings.Contains(*normalise, ".."):
+		return usagef("--normalise-to %q: use before, after, or a period FROM..TO such as 2025-07-01..2025-07-31", *normalise)
 	case *minHours < 2:
 		return usagef("--min-hours %d: use 2 or more (a bin needs two hours in each period to show its spread)", *minHours)
 	}
@@ -79,6 +80,15 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	if before.From.Before(after.To) && after.From.Before(before.To) {
 		return usagef("--before %s and --after %s overlap: choose periods that share no hour", *beforeS, *afterS)
 	}
+	opt := compare.Options{MinHours: *minHours, NormaliseTo: *normalise}
+	var normal *dashboards.Period
+	if strings.Contains(*normalise, "..") {
+		p, err := parsePeriodFlag("--normalise-to", *normalise, cfg.Location)
+		if err != nil {
+			return err
+		}
+		normal, opt.NormaliseTo = &p, "period"
+	}
 
 	st, err := openStore(ctx, cfg, true, e.log)
 	if err != nil {
@@ -87,7 +97,7 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 	defer st.Close()
 	site := siteFor(cfg)
 	display := dashboards.DisplayFor(*unitsS, site.IP)
-	c, err := compareStored(ctx, site, st.results(time.Now), before, after, compare.Options{MinHours: *minHours, NormaliseTo: *normalise})
+	c, err := compareStored(ctx, site, st.results(time.Now), before, after, normal, opt)
 	if err != nil {
 		return err
 	}
@@ -122,11 +132,17 @@ func runCompare(ctx context.Context, e *env, args []string) error {
 }
 
 // compareStored reads each period's stored hours of the compared units
-// once and compares them.
-func compareStored(ctx context.Context, site *dashboards.Site, res dashboards.Results, before, after dashboards.Period, opt compare.Options) (*compare.Comparison, error) {
+// once and compares them; normal, when not nil, is a third period whose
+// conditions the savings are normalised to (opt.NormaliseTo "period").
+func compareStored(ctx context.Context, site *dashboards.Site, res dashboards.Results, before, after dashboards.Period, normal *dashboards.Period, opt compare.Options) (*compare.Comparison, error) {
 	in := compare.Input{Site: site.Name, Currency: site.Currency, Zone: site.Zone,
 		Before: compare.Window{From: before.From, To: before.To, Label: before.Label},
 		After:  compare.Window{From: after.From, To: after.To, Label: after.Label}, Options: opt}
+	windows := []compare.Window{in.Before, in.After}
+	if normal != nil {
+		in.Normal = compare.Window{From: normal.From, To: normal.To, Label: normal.Label}
+		windows = append(windows, in.Normal)
+	}
 	for _, u := range site.Units {
 		in.Units = append(in.Units, compare.Unit{ID: u.ID, Name: u.Name, Spec: u.Spec})
 	}
@@ -138,13 +154,18 @@ func compareStored(ctx context.Context, site *dashboards.Site, res dashboards.Re
 	if units := a.Units(); len(units) == 1 {
 		ahu = units[0].ID
 	}
-	for k, w := range []compare.Window{in.Before, in.After} {
+	for k, w := range windows {
+		n := 0
 		err := res.Hours(ctx, ahu, w.From, w.To, func(r *metrics.Record) error {
 			a.Add(compare.Side(k), r)
+			n++
 			return nil
 		})
 		if err != nil {
-			return nil, fmt.Errorf("read the %s period's hours: %w", [2]string{"before", "after"}[k], err)
+			return nil, fmt.Errorf("read the %s period's hours: %w", [3]string{"before", "after", "--normalise-to"}[k], err)
+		}
+		if k == 2 && n == 0 {
+			return nil, fmt.Errorf("--normalise-to %s: %w: no results are stored for it; run dewline analyze (or the agent) over it first, or choose a period with stored results", w.Label, compare.ErrNoHours)
 		}
 	}
 	return a.Result()
@@ -188,6 +209,22 @@ func printComparison(w io.Writer, c *compare.Comparison, d dashboards.Display) {
 		fmt.Fprintln(tw, strings.Join(r, "\t"))
 	}
 	_ = tw.Flush()
+	fmt.Fprintln(w, "\ndrivers of the baseline:")
+	for _, u := range c.Units {
+		if u.Model != nil {
+			fmt.Fprintf(w, "  %s: %s (%s)\n", u.ID, u.Model.Drivers, u.Model.DriversWhy)
+		}
+	}
+	if n := dashboards.NormalisedWords(c); n != "" {
+		fmt.Fprintf(w, "normalised to %s conditions, reheat:", n)
+		for _, u := range c.Units {
+			if r := u.Model.Reheat(); r != nil && r.Normalised != nil {
+				n := r.Normalised
+				fmt.Fprintf(w, " %s %+.1f %% ± %.1f %% (%d h);", u.ID, float64(n.AvoidedPct), 100*float64(n.U90)/math.Abs(float64(n.Baseline)), n.Hours)
+			}
+		}
+		fmt.Fprintln(w)
+	}
 	if len(c.Warnings) > 0 {
 		fmt.Fprintln(w, "\nwarnings:")
 		for _, s := range c.Warnings {

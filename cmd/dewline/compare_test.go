@@ -210,7 +210,7 @@ func TestCompare_BadFlags(t *testing.T) {
 		{"overlap", []string{"--config", cfg, "--before", "2026-07-14..2026-07-16", "--after", "2026-07-16..2026-07-17"}, 2, "--before 2026-07-14..2026-07-16 and --after 2026-07-16..2026-07-17 overlap"},
 		{"units", append([]string{"--config", cfg, "--units", "metric"}, ok...), 2, `--units "metric": use si or ip`},
 		{"min hours", append([]string{"--config", cfg, "--min-hours", "1"}, ok...), 2, "--min-hours 1: use 2 or more"},
-		{"normalise", append([]string{"--config", cfg, "--normalise-to", "summer"}, ok...), 2, `--normalise-to "summer": use before or after`},
+		{"normalise", append([]string{"--config", cfg, "--normalise-to", "summer"}, ok...), 2, `--normalise-to "summer": use before, after, or a period FROM..TO`},
 		{"output folder", append([]string{"--config", cfg, "-o", filepath.Join(dir, "nope", "c.html")}, ok...), 2, "-o " + filepath.Join(dir, "nope", "c.html")},
 		{"unknown flag", append([]string{"--config", cfg, "--bins", "2"}, ok...), 2, "-bins"},
 		{"no store yet", append([]string{"--config", cfg}, ok...), 1, "embedded store"},
@@ -297,4 +297,174 @@ func TestInflux_CompareMatchesEmbedded(t *testing.T) {
 	}
 	assert.InDelta(t, 50, num(se[0].AvoidedPct), 0.5, "the scenario halves the reheat of every humid after hour")
 	assert.InDelta(t, num(e.Units[0].Bins.Reheat.ChangePct), num(f.Units[0].Bins.Reheat.ChangePct), 1e-4)
+}
+
+// outdoorConfig is analyzeConfig with the outdoor roles mapped.
+const outdoorConfig = analyzeConfig + `      outdoor_temp:  {column: OAT, unit: F}
+      outdoor_rh:    {column: OARH, unit: "%"}
+`
+
+// writeOutdoorSequence writes six days of our own scenario with the
+// outdoor air logged (configuration outdoorConfig):
+//
+//   - 2026-07-14 and 15 (before): humid from 08:00 to 20:00 local, the
+//     coil leaving at 50 °F and the reheat bringing the supply to 62 °F;
+//   - 2026-07-16 and 17 (after): humid from 04:00 to 22:00, reheat to
+//     56 °F only (half the reheat of a humid hour);
+//   - 2026-07-18 and 19 (a third period, the after sequence): humid all
+//     day;
+//   - other hours are dry: the coil leaves at 62 °F, no reheat.
+//
+// Outdoor air is 86 °F at 60 % RH in humid hours and at 30 % in dry
+// ones; entering air 76 °F at 60 % and 38 % (as writeSequenceChange).
+func writeOutdoorSequence(t *testing.T, dir string) (cfg, data string) {
+	t.Helper()
+	cfg = filepath.Join(dir, "site.yaml")
+	require.NoError(t, os.WriteFile(cfg, []byte(outdoorConfig), 0o600))
+	var b strings.Builder
+	b.WriteString("Time,MAT,MARH,LAT,SAT,CFM,OAT,OARH\n")
+	start := time.Date(2026, 7, 13, 22, 0, 0, 0, time.UTC) // wall clock, site time
+	end := time.Date(2026, 7, 20, 2, 0, 0, 0, time.UTC)
+	for ts := start; ts.Before(end); ts = ts.Add(time.Minute) {
+		h := ts.Hour()
+		humid, sat := h >= 8 && h < 20, 62.0
+		switch {
+		case ts.Day() >= 18:
+			humid, sat = true, 56
+		case ts.Day() >= 16:
+			humid, sat = h >= 4 && h < 22, 56
+		}
+		rh, lat, oarh := 38.0, 62.0, 30.0
+		if humid {
+			rh, lat, oarh = 60, 50, 60
+		} else {
+			sat = 62
+		}
+		j := float64(ts.Minute() % 2) // no sensor reads exactly the same all hour
+		fmt.Fprintf(&b, "%s,%.2f,%.1f,%.2f,%.2f,8000,%.2f,%.1f\n", ts.Format("2006-01-02 15:04:05"),
+			76+0.02*j, rh+0.1*j, lat+0.02*j, sat+0.02*j, 86+0.02*j, oarh+0.1*j)
+	}
+	data = filepath.Join(dir, "export.csv")
+	require.NoError(t, os.WriteFile(data, []byte(b.String()), 0o600))
+	return cfg, data
+}
+
+// outdoorResult is what the outdoor tests read of compare --json.
+type outdoorResult struct {
+	Normalise    string `json:"normalised_to"`
+	NormalPeriod struct {
+		Label string `json:"label"`
+	} `json:"normalised_period"`
+	Units []struct {
+		Model struct {
+			Drivers string `json:"drivers"`
+			Savings []struct {
+				Quantity   string  `json:"quantity"`
+				AvoidedPct float64 `json:"avoided_pct"`
+				Normalised struct {
+					To         string  `json:"to"`
+					Hours      int     `json:"hours"`
+					Baseline   float64 `json:"baseline"`
+					AvoidedPct float64 `json:"avoided_pct"`
+				} `json:"normalised"`
+			} `json:"savings"`
+			Hours []struct {
+				Period     string   `json:"period"`
+				DewPointC  *float64 `json:"driver_dewpoint_c"`
+				TempC      *float64 `json:"driver_temp_c"`
+				EnteringDP *float64 `json:"entering_dewpoint_c"`
+			} `json:"hours"`
+		} `json:"baseline_model"`
+	} `json:"units"`
+}
+
+// checkOutdoorResult holds a comparison of writeOutdoorSequence to what
+// the scenario gives by construction, and the hours' outdoor dew points to
+// npm psychrolib's dew points of the logged outdoor states.
+func checkOutdoorResult(t *testing.T, store string, c outdoorResult) {
+	t.Helper()
+	require.Len(t, c.Units, 1, store)
+	md := c.Units[0].Model
+	assert.Equal(t, "outdoor", md.Drivers, store)
+	assert.Equal(t, "period", c.Normalise, store)
+	assert.Equal(t, "18 Jul 2026 – 19 Jul 2026", c.NormalPeriod.Label, store)
+	require.NotEmpty(t, md.Savings, store)
+	r := md.Savings[0]
+	assert.InDelta(t, 50, r.AvoidedPct, 0.5, "%s: every humid after hour has half the reheat", store)
+	// Normalised to the third period's 48 humid hours: the baseline model
+	// gives 48 R (R by the sensible rule of thumb, 1.08 × 8000 CFM × 12 °F
+	// = 30.4 kWh, common practice, no source; 3 %), the after model half.
+	assert.Equal(t, "period", r.Normalised.To, store)
+	assert.Equal(t, 48, r.Normalised.Hours, store)
+	assert.InEpsilon(t, 48*30.4, r.Normalised.Baseline, 0.03, store)
+	assert.InDelta(t, 50, r.Normalised.AvoidedPct, 0.5, store)
+	// The drivers are the outdoor dew points: psychrolib's at 30 °C (86 °F)
+	// and 60 % or 30 % RH, within 0.05 K (the logged 0.1 % RH jitter).
+	ref := testkit.PsychrolibStates(t, "SI", [][3]float64{{30, 0.6005, 101325}, {30, 0.3005, 101325}})
+	require.NotEmpty(t, md.Hours, store)
+	for _, h := range md.Hours {
+		require.NotNil(t, h.DewPointC, store)
+		require.NotNil(t, h.EnteringDP, store)
+		near := math.Min(math.Abs(*h.DewPointC-ref[0][1]), math.Abs(*h.DewPointC-ref[1][1]))
+		assert.Less(t, near, 0.05, "%s: outdoor dew point %.3f °C, psychrolib %.3f or %.3f", store, *h.DewPointC, ref[0][1], ref[1][1])
+		assert.InDelta(t, 30, *h.TempC, 0.02, store)
+		assert.Greater(t, math.Abs(*h.DewPointC-*h.EnteringDP), 1.0, "%s: the entering dew point is another", store)
+	}
+}
+
+// TestCompare_OutdoorDriversAndThirdPeriod: with the outdoor roles mapped
+// the baseline's drivers are the outdoor conditions, which the hourly
+// records carry through the embedded store; --normalise-to FROM..TO
+// normalises to a third period of stored results.
+func TestCompare_OutdoorDriversAndThirdPeriod(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeOutdoorSequence(t, dir)
+	code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data, "--from", "2026-07-14", "--to", "2026-07-19")
+	require.Equal(t, 0, code, errOut)
+	args := []string{"--log-level", "warn", "compare", "--config", cfg, "--before", "2026-07-14..2026-07-15", "--after", "2026-07-16..2026-07-17",
+		"--normalise-to", "2026-07-18..2026-07-19"}
+	code, out, errOut := runCLI(t, append(args, "--json", "--units", "si")...)
+	require.Equal(t, 0, code, errOut)
+	var c outdoorResult
+	require.NoError(t, json.Unmarshal([]byte(out), &c), out)
+	checkOutdoorResult(t, "embedded", c)
+
+	code, out, errOut = runCLI(t, args...)
+	require.Equal(t, 0, code, errOut)
+	assert.Contains(t, out, "AHU-7: outdoor (outdoor dry bulb and dew point")
+	assert.Regexp(t, `normalised to the period 18 Jul 2026 – 19 Jul 2026's conditions, reheat: AHU-7 \+(49|50|51)\.\d % ± `, out)
+
+	// A third period with nothing stored says so.
+	code, _, errOut = runCLI(t, "--log-level", "warn", "compare", "--config", cfg, "--before", "2026-07-14..2026-07-15", "--after", "2026-07-16..2026-07-17",
+		"--normalise-to", "2026-09-01..2026-09-02")
+	assert.Equal(t, 1, code)
+	assert.Contains(t, errOut, "--normalise-to 1 Sep 2026 – 2 Sep 2026: no hours to compare: no results are stored for it")
+	code, _, errOut = runCLI(t, "--log-level", "warn", "compare", "--config", cfg, "--before", "2026-07-14..2026-07-15", "--after", "2026-07-16..2026-07-17",
+		"--normalise-to", "2026-07-19..2026-07-18")
+	assert.Equal(t, 2, code)
+	assert.Contains(t, errOut, "--normalise-to \"2026-07-19..2026-07-18\": the end is not after the start")
+}
+
+// TestInflux_CompareOutdoorDrivers: the outdoor conditions go to InfluxDB
+// as fields of dewline_hourly and come back: the comparison of the real
+// server's results equals the embedded store's by construction and to
+// psychrolib.
+func TestInflux_CompareOutdoorDrivers(t *testing.T) {
+	base, _ := testkit.InfluxDB(t)
+	db := freshDB(t, base, "compareoutdoor")
+	dir := t.TempDir()
+	_, data := writeOutdoorSequence(t, dir)
+	text := strings.Replace(outdoorConfig, "store: {kind: embedded, path: test.db}",
+		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", base, db+"/autogen"), 1)
+	require.NotEqual(t, outdoorConfig, text)
+	cfg := filepath.Join(dir, "influx.yaml")
+	require.NoError(t, os.WriteFile(cfg, []byte(text), 0o600))
+	code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data, "--from", "2026-07-14", "--to", "2026-07-19")
+	require.Equal(t, 0, code, errOut)
+	code, out, errOut := runCLI(t, "--log-level", "warn", "compare", "--config", cfg, "--before", "2026-07-14..2026-07-15", "--after", "2026-07-16..2026-07-17",
+		"--normalise-to", "2026-07-18..2026-07-19", "--json", "--units", "si")
+	require.Equal(t, 0, code, errOut)
+	var c outdoorResult
+	require.NoError(t, json.Unmarshal([]byte(out), &c), out)
+	checkOutdoorResult(t, "InfluxDB", c)
 }

@@ -14,9 +14,11 @@ import (
 // ModelMethod states the headline method in plain words, for the outputs.
 const ModelMethod = "Baseline model in the manner of ASHRAE Guideline 14 and IPMVP Option B (retrofit isolation): " +
 	"per air handler and quantity, the before period's hourly values are fitted by ordinary least squares to " +
-	"the hour's airflow times a change-point (piecewise-linear) function of the entering humidity ratio (from the entering " +
-	"dew point) and the entering temperature, with separate terms for occupied and unoccupied hours of the week " +
+	"the hour's airflow times a change-point (piecewise-linear) function of the drivers' humidity ratio (from their dew point) " +
+	"and dry bulb, with separate terms for occupied and unoccupied hours of the week " +
 	"(the time-of-week-and-temperature form of Mathieu et al. 2011, reduced to two occupancy modes). " +
+	"The drivers are the outdoor dry bulb and dew point when the outdoor roles are mapped (the weather, which the change cannot alter), " +
+	"else the entering air's (each unit's drivers are named). " +
 	"Projected onto each after hour's drivers, the model gives what the unit would have used without the change; " +
 	"avoided energy = projection − measured, over every usable after hour."
 
@@ -77,7 +79,8 @@ type Savings struct {
 // Normalised savings: the baseline model and a model of the after period
 // (same form) both projected onto the hours of the chosen period.
 type Normalised struct {
-	To         string   `json:"to"` // before or after
+	To         string   `json:"to"`               // before, after or period
+	Period     *Window  `json:"period,omitempty"` // the period, for "period"
 	Hours      int      `json:"hours"`
 	Baseline   Num      `json:"baseline"`
 	Reporting  Num      `json:"reporting"`
@@ -115,19 +118,26 @@ type Humidity struct {
 // HourFit is one usable hour with its drivers, measured values and the
 // baseline model's prediction.
 type HourFit struct {
-	Hour      time.Time `json:"hour"`
-	Period    string    `json:"period"` // before or after
-	Occupied  bool      `json:"occupied"`
-	DewPointC Num       `json:"entering_dewpoint_c"`
-	TempC     Num       `json:"entering_temp_c"`
-	DryAirKg  Num       `json:"dry_air_kg"`
-	Measured  [nY]Num   `json:"measured"`  // reheat_kwh, cooling_input_kwh, water_removed_kg, cost
-	Predicted [nY]Num   `json:"predicted"` // the same order
+	Hour     time.Time `json:"hour"`
+	Period   string    `json:"period"` // before or after
+	Occupied bool      `json:"occupied"`
+	// DewPointC and TempC are the model's drivers (Model.Drivers: outdoor
+	// or entering air); the entering air's as stored beside them.
+	DewPointC         Num     `json:"driver_dewpoint_c"`
+	TempC             Num     `json:"driver_temp_c"`
+	EnteringDewPointC Num     `json:"entering_dewpoint_c"`
+	EnteringTempC     Num     `json:"entering_temp_c"`
+	DryAirKg          Num     `json:"dry_air_kg"`
+	Measured          [nY]Num `json:"measured"`  // reheat_kwh, cooling_input_kwh, water_removed_kg, cost
+	Predicted         [nY]Num `json:"predicted"` // the same order
 }
 
 // Model is the baseline-model result of one unit.
 type Model struct {
-	Usable [2]int `json:"usable_hours"` // before, after
+	// Drivers: DriversOutdoor or DriversEntering; DriversWhy says why.
+	Drivers    string `json:"drivers"`
+	DriversWhy string `json:"drivers_why"`
+	Usable     [2]int `json:"usable_hours"` // before, after
 	// Suspect counts the hours left out because a sensor behind them
 	// read flat or out of range, or the coil appeared to add moisture
 	// (the engine's data-quality flags): a stuck sensor is not a saving.
@@ -161,24 +171,87 @@ func suspect(r *metrics.Record) bool {
 	return false
 }
 
-// rowOf returns the model row of r, false when the hour cannot be used.
+// rowOf returns the model row of r, false when the hour cannot be used:
+// too little coverage, no airflow, or neither set of drivers.
 func rowOf(r *metrics.Record, minCov, pressurePa float64, zone *time.Location) (hourRow, bool) {
-	if !(r.Coverage >= minCov) || !finite(r.EnteringDewPointC) || !finite(r.EnteringTempC) || !finite(r.DryAirKg) {
+	if !(r.Coverage >= minCov) || !finite(r.DryAirKg) {
 		return hourRow{}, false
 	}
-	w, err := psychro.HumRatioFromDewPoint(r.EnteringDewPointC, pressurePa)
-	if err != nil {
-		return hourRow{}, false
+	set := func(dpC, tC float64) driverSet {
+		if !finite(dpC) || !finite(tC) {
+			return driverSet{dpC: math.NaN(), wGkg: math.NaN(), tC: math.NaN()}
+		}
+		w, err := psychro.HumRatioFromDewPoint(dpC, pressurePa)
+		if err != nil {
+			return driverSet{dpC: math.NaN(), wGkg: math.NaN(), tC: math.NaN()}
+		}
+		return driverSet{dpC: dpC, wGkg: 1000 * w, tC: tC, ok: true}
 	}
 	lt := r.HourStart.In(zone)
 	row := hourRow{t: r.HourStart, how: int(lt.Weekday())*24 + lt.Hour(),
-		dpC: r.EnteringDewPointC, wGkg: 1000 * w, tC: r.EnteringTempC, m: r.DryAirKg / 1000, supplyDPC: r.LeavingDewPointC,
+		m: r.DryAirKg / 1000, supplyDPC: r.LeavingDewPointC,
+		in: set(r.EnteringDewPointC, r.EnteringTempC), out: set(r.OutdoorDewPointC, r.OutdoorTempC),
 		y: [nY]float64{r.ReheatKWh, r.CoolingInputKWh, r.WaterRemovedKg, r.Cost}}
+	if !row.in.ok && !row.out.ok {
+		return hourRow{}, false
+	}
 	return row, true
 }
 
-// buildModel fits the baseline on before and projects it onto after.
-func buildModel(before, after []hourRow, normaliseTo string, suspectHours [2]int) (*Model, []string) {
+// outdoorShare is the share of each period's usable hours that must carry
+// the outdoor drivers for the model to use them (common practice, no
+// source: a weather station that missed a tenth of the hours still
+// describes the periods; the hours it missed are left out and counted).
+const outdoorShare = 0.9
+
+// chooseDrivers picks the unit's drivers and keeps the rows that have
+// them: outdoor when outdoorShare of the hours of every period given
+// (that has any) carry them, else entering. It returns the choice, a sentence saying why
+// and the rows left out per period for the lack of the chosen drivers.
+func chooseDrivers(periods [][]hourRow) (string, string, []int) {
+	drivers := DriversOutdoor
+	for _, rows := range periods {
+		n := 0
+		for i := range rows {
+			if rows[i].out.ok {
+				n++
+			}
+		}
+		if len(rows) > 0 && float64(n) < outdoorShare*float64(len(rows)) {
+			drivers = DriversEntering
+			break
+		}
+	}
+	why := "outdoor dry bulb and dew point: the weather, which the change cannot alter"
+	if drivers == DriversEntering {
+		why = fmt.Sprintf("entering air (the outdoor temperature and RH are not mapped, or read fewer than %.0f %% of the hours): a change that alters the supply humidity alters the entering air too, and the baseline then reads part of the change as weather", 100*outdoorShare)
+	}
+	dropped := make([]int, len(periods))
+	for k, rows := range periods {
+		kept := make([]hourRow, 0, len(rows))
+		for i := range rows {
+			if rows[i].useDrivers(drivers) {
+				kept = append(kept, rows[i])
+			} else {
+				dropped[k]++
+			}
+		}
+		periods[k] = kept
+	}
+	return drivers, why, dropped
+}
+
+// normSpec asks for savings normalised to a period's conditions: To is
+// "before", "after" or "period" (a third period, Window).
+type normSpec struct {
+	To     string
+	Window Window
+}
+
+// buildModel fits the baseline on the before rows and projects it onto
+// the after rows; periods[2] holds the hours of a third period to
+// normalise to (norm.To "period").
+func buildModel(periods [3][]hourRow, norm normSpec, suspectHours [2]int) (*Model, []string) {
 	var warns []string
 	for s, n := range suspectHours {
 		if n > 0 {
@@ -186,12 +259,31 @@ func buildModel(before, after []hourRow, normaliseTo string, suspectHours [2]int
 				n, [2]string{"before", "after"}[s]))
 		}
 	}
+	use := [][]hourRow{periods[0], periods[1]}
+	if norm.To == "period" {
+		use = append(use, periods[2])
+	}
+	drivers, why, dropped := chooseDrivers(use)
+	before, after := use[0], use[1]
+	var normal []hourRow
+	if norm.To == "period" {
+		normal = use[2]
+	}
+	for k, n := range dropped {
+		if n > 0 {
+			warns = append(warns, fmt.Sprintf("%d of the %s period's hours lack the outdoor temperature or dew point and are left out of the baseline model",
+				n, [3]string{"before", "after", "normalisation"}[k]))
+		}
+	}
 	sortRows(before)
 	sortRows(after)
-	md := &Model{Usable: [2]int{len(before), len(after)}, Suspect: suspectHours, HumRatioKnots: []Num{}, TempKnots: []Num{},
+	md := &Model{Drivers: drivers, DriversWhy: why, Usable: [2]int{len(before), len(after)}, Suspect: suspectHours, HumRatioKnots: []Num{}, TempKnots: []Num{},
 		Savings: []Savings{}, Extrapolation: []Extrapolation{}, Hours: []HourFit{}}
 	if len(before) == 0 || len(after) == 0 {
-		return md, append(warns, "no usable hour (entering dew point and temperature, airflow, enough coverage) in one of the periods: no baseline model")
+		return md, append(warns, "no usable hour (drivers, airflow, enough coverage) in one of the periods: no baseline model")
+	}
+	if drivers == DriversEntering {
+		warns = append(warns, "the baseline's drivers are the entering air, not the weather: map outdoor_temp and outdoor_rh for a baseline the change cannot bias")
 	}
 	f := fitModel(before)
 	for _, k := range f.dpKnots {
@@ -211,6 +303,11 @@ func buildModel(before, after []hourRow, normaliseTo string, suspectHours [2]int
 			r := &rows[i]
 			h := HourFit{Hour: r.t, Period: [2]string{"before", "after"}[s], Occupied: f.isOccupied(r),
 				DewPointC: Num(r.dpC), TempC: Num(r.tC), DryAirKg: Num(r.m * 1000)}
+			if drivers == DriversOutdoor {
+				h.EnteringDewPointC, h.EnteringTempC = Num(r.in.dpC), Num(r.in.tC)
+			} else {
+				h.EnteringDewPointC, h.EnteringTempC = h.DewPointC, h.TempC
+			}
 			for q := 0; q < nY; q++ {
 				h.Measured[q] = Num(r.y[q])
 				h.Predicted[q] = Num(math.NaN())
@@ -223,12 +320,13 @@ func buildModel(before, after []hourRow, normaliseTo string, suspectHours [2]int
 	}
 
 	var post *modelForm
-	var normal []hourRow
-	switch normaliseTo {
+	switch norm.To {
 	case "before":
 		post, normal = fitModel(after), before
 	case "after":
 		post, normal = fitModel(after), after
+	case "period":
+		post = fitModel(after)
 	}
 	for q := 0; q < nY; q++ {
 		s := Savings{Quantity: yNames[q], Fit: f.stats[q]}
@@ -273,7 +371,7 @@ func buildModel(before, after []hourRow, normaliseTo string, suspectHours [2]int
 		s.RegU90 = Num(predictionU(s.Fit, modes, 0.90))
 		s.Finding = finding(&s)
 		if post != nil && post.ok[q] {
-			s.Normalised = normalised(f, post, normal, q, normaliseTo)
+			s.Normalised = normalised(f, post, normal, q, norm)
 		}
 		md.Savings = append(md.Savings, s)
 		if !s.Fit.MeetsG14 {
@@ -289,8 +387,8 @@ func buildModel(before, after []hourRow, normaliseTo string, suspectHours [2]int
 		value    func(*hourRow) float64
 		min, max float64
 	}{
-		{"entering_dewpoint_c", f.dpMin, f.dpMax, func(r *hourRow) float64 { return r.dpC }, 0, 0},
-		{"entering_temp_c", f.tMin, f.tMax, func(r *hourRow) float64 { return r.tC }, 0, 0},
+		{drivers + "_dewpoint_c", f.dpMin, f.dpMax, func(r *hourRow) float64 { return r.dpC }, 0, 0},
+		{drivers + "_temp_c", f.tMin, f.tMax, func(r *hourRow) float64 { return r.tC }, 0, 0},
 		{"dry_air_kg", f.mMin * 1000, f.mMax * 1000, func(r *hourRow) float64 { return r.m * 1000 }, 0, 0},
 	} {
 		out := 0
@@ -325,6 +423,8 @@ var quantityWords = [nY]string{"reheat", "cooling input", "water removed", "cost
 var driverWords = map[string]string{
 	"entering_dewpoint_c": "an entering dew point",
 	"entering_temp_c":     "an entering temperature",
+	"outdoor_dewpoint_c":  "an outdoor dew point",
+	"outdoor_temp_c":      "an outdoor temperature",
 	"dry_air_kg":          "an airflow",
 }
 
@@ -369,20 +469,32 @@ func finding(s *Savings) string {
 	}
 }
 
-// normalised projects the baseline f and the after model post onto rows.
-func normalised(f, post *modelForm, rows []hourRow, q int, to string) *Normalised {
+// normalised projects the baseline f and the after model post onto rows
+// (the hours of the period norm names). Normalised to the after period,
+// only hours with a measured value count, as in the avoided figure; to
+// another period, every hour with drivers and airflow.
+func normalised(f, post *modelForm, rows []hourRow, q int, norm normSpec) *Normalised {
 	buf := make([]float64, f.cols())
 	var b, r float64
 	n := 0
 	for i := range rows {
-		if !finite(rows[i].y[q]) && to == "after" {
+		if !finite(rows[i].y[q]) && norm.To == "after" {
 			continue
 		}
 		b += f.predict(q, &rows[i], buf)
 		r += post.predict(q, &rows[i], buf)
 		n++
 	}
-	out := &Normalised{To: to, Hours: n, Baseline: Num(b), Reporting: Num(r), Avoided: Num(b - r), AvoidedPct: pct(b-r, b), Fit: post.stats[q]}
+	out := &Normalised{To: norm.To, Hours: n, Baseline: Num(b), Reporting: Num(r), Avoided: Num(b - r), AvoidedPct: pct(b-r, b), Fit: post.stats[q]}
+	if norm.To == "period" {
+		w := norm.Window
+		out.Period = &w
+	}
+	if n == 0 {
+		nan := Num(math.NaN())
+		out.Baseline, out.Reporting, out.Avoided, out.AvoidedPct, out.U90 = nan, nan, nan, nan, nan
+		return out
+	}
 	out.U90 = Num(math.Hypot(savingsU(f.stats[q], n, b, 0.90), savingsU(post.stats[q], n, r, 0.90)))
 	return out
 }

@@ -93,7 +93,7 @@ type Options struct {
 	MinCoverage float64
 	Units       []string // compare only these units (default: every configured unit)
 	// NormaliseTo also reports the savings normalised to the drivers of
-	// "before" or "after" (default: none).
+	// "before", "after" or "period" (Input.Normal; default: none).
 	NormaliseTo string
 }
 
@@ -107,10 +107,12 @@ type Comparison struct {
 	MinHours int    `json:"min_hours_per_bin"`
 	// Method states the headline method (the baseline model), BinMethod
 	// the check.
-	Method    string           `json:"method"`
-	BinMethod string           `json:"bin_method"`
-	Normalise string           `json:"normalised_to,omitempty"` // before or after, when asked
-	Units     []UnitComparison `json:"units"`
+	Method    string `json:"method"`
+	BinMethod string `json:"bin_method"`
+	Normalise string `json:"normalised_to,omitempty"` // before, after or period, when asked
+	// NormalPeriod is the period normalised to, for "period".
+	NormalPeriod *Window          `json:"normalised_period,omitempty"`
+	Units        []UnitComparison `json:"units"`
 	// Total sums the units: the models' savings, and the bin check of the
 	// units that could be compared (a unit without common bins is left
 	// out of it and named in Warnings).
@@ -289,7 +291,7 @@ type Analysis struct {
 	sides    [][2]side
 	minCov   []float64
 	raw      [2]Sums
-	rows     [][2][]hourRow
+	rows     [][3][]hourRow
 	suspect  [][2]int
 	pressure []float64
 }
@@ -310,8 +312,10 @@ func New(in Input) (*Analysis, error) {
 		return nil, fmt.Errorf("compare: minimum hours per bin %d: use 2 or more (a bin needs two hours to show its spread)", opt.MinHours)
 	case opt.MinCoverage < 0 || opt.MinCoverage > 1 || math.IsNaN(opt.MinCoverage):
 		return nil, fmt.Errorf("compare: minimum coverage %g: use a share between 0 and 1", opt.MinCoverage)
-	case opt.NormaliseTo != "" && opt.NormaliseTo != "before" && opt.NormaliseTo != "after":
-		return nil, fmt.Errorf("compare: normalise to %q: use before or after", opt.NormaliseTo)
+	case opt.NormaliseTo != "" && opt.NormaliseTo != "before" && opt.NormaliseTo != "after" && opt.NormaliseTo != "period":
+		return nil, fmt.Errorf("compare: normalise to %q: use before, after or period", opt.NormaliseTo)
+	case opt.NormaliseTo == "period" && !in.Normal.To.After(in.Normal.From):
+		return nil, fmt.Errorf("compare: the period to normalise to %s is empty or ends before it starts: give its start first", in.Normal.Label)
 	}
 	if in.Zone == nil {
 		in.Zone = time.UTC
@@ -341,7 +345,7 @@ func New(in Input) (*Analysis, error) {
 		}
 	}
 	a := &Analysis{in: in, units: units, index: map[string]int{}, sides: make([][2]side, len(units)),
-		minCov: make([]float64, len(units)), raw: [2]Sums{NewSums(), NewSums()}, rows: make([][2][]hourRow, len(units)), suspect: make([][2]int, len(units))}
+		minCov: make([]float64, len(units)), raw: [2]Sums{NewSums(), NewSums()}, rows: make([][3][]hourRow, len(units)), suspect: make([][2]int, len(units))}
 	for i, u := range units {
 		a.index[u.ID] = i
 		a.sides[i] = [2]side{newSide(), newSide()}
@@ -368,7 +372,17 @@ func (a *Analysis) Units() []Unit { return a.units }
 func (a *Analysis) Add(s Side, r *metrics.Record) {
 	w := a.window(s)
 	i, ok := a.index[r.AHU]
-	if !ok || s > After || r.HourStart.Before(w.From) || !r.HourStart.Before(w.To) {
+	if !ok || s > Normal || r.HourStart.Before(w.From) || !r.HourStart.Before(w.To) {
+		return
+	}
+	if s == Normal {
+		// Only the drivers of a period normalised to count.
+		if a.in.Options.NormaliseTo != "period" || suspect(r) {
+			return
+		}
+		if row, ok := rowOf(r, a.minCov[i], a.pressure[i], a.in.Zone); ok {
+			a.rows[i][s] = append(a.rows[i][s], row)
+		}
 		return
 	}
 	a.sides[i][s].add(r, a.in.Options.BinK, a.minCov[i])
@@ -381,8 +395,11 @@ func (a *Analysis) Add(s Side, r *metrics.Record) {
 }
 
 func (a *Analysis) window(s Side) Window {
-	if s == After {
+	switch s {
+	case After:
 		return a.in.After
+	case Normal:
+		return a.in.Normal
 	}
 	return a.in.Before
 }
@@ -394,6 +411,11 @@ func (a *Analysis) Result() (*Comparison, error) {
 	c := &Comparison{Site: in.Site, Currency: in.Currency, Before: before, After: after,
 		BinK: Num(opt.BinK), MinHours: opt.MinHours, Method: ModelMethod, BinMethod: BinMethod,
 		Normalise: opt.NormaliseTo, Warnings: []string{}}
+	norm := normSpec{To: opt.NormaliseTo}
+	if opt.NormaliseTo == "period" {
+		w := in.Normal
+		c.NormalPeriod, norm.Window = &w, w
+	}
 
 	// A period without any usable hour cannot be compared at all.
 	for k, p := range []Window{before, after} {
@@ -429,7 +451,7 @@ func (a *Analysis) Result() (*Comparison, error) {
 			binWarns = append(binWarns, u.Name+" ("+u.ID+"): bin check: "+w)
 		}
 		tot.add(&bc)
-		uc := unitResult(u, bc, a.rows[i], a.suspect[i], opt.NormaliseTo)
+		uc := unitResult(u, bc, a.rows[i], a.suspect[i], norm)
 		for _, w := range uc.Warnings {
 			c.Warnings = append(c.Warnings, u.Name+" ("+u.ID+"): "+w)
 		}

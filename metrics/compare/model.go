@@ -20,11 +20,11 @@ import (
 //     such mean (hours of the week the before period did not see are
 //     judged by their own airflow);
 //   - m is the dry-air mass moved in the hour (t), the airflow driver;
-//   - seg_j(W_in) are the pieces of the entering humidity ratio (from the
-//     entering dew point, ASHRAE Fundamentals 2017 ch. 1 eqs. 22 and 20,
-//     package psychro) between change points at the before period's
-//     sextiles, and seg_k(T_in) those
-//     of the entering temperature between its terciles: the piecewise-
+//   - seg_j(W) are the pieces of the drivers' humidity ratio (outdoor or
+//     entering, from the dew point, ASHRAE Fundamentals 2017 ch. 1 eqs. 22
+//     and 20, package psychro) between change points at the before
+//     period's sextiles, and seg_k(T) those of the drivers' dry bulb
+//     between its terciles: the piecewise-
 //     linear (change-point) basis of the time-of-week-and-temperature
 //     model (Mathieu, Price, Kiliccote and Piette, IEEE Trans. Smart Grid
 //     2011), whose time-of-week terms are reduced here to the two
@@ -35,9 +35,14 @@ import (
 //     (m (W_in − W_coil) above the coil's saturation), which the
 //     piecewise-linear basis then follows.
 //
-// Outdoor temperature is not a driver: the hourly record does not carry
-// it; the entering temperature (mixed or return air) carries its effect on
-// the coil.
+// The drivers are the outdoor dry bulb and dew point when the unit's
+// outdoor roles are mapped (outdoorShare of the hours of each period carry
+// them), else the entering air's. Outdoor air is the weather whatever the
+// unit does; entering air is not: a change that dries or wets the supply
+// changes the return air and so the entering air, and a baseline on the
+// entering state then reads part of the change as weather (a lockout that
+// leaves the supply wetter raises the entering humidity, and a baseline
+// in it overstates the water the unit would have removed).
 //
 // Projected onto an after hour's drivers, the model gives what the unit
 // would have used without the change; avoided energy = Σ projection −
@@ -65,9 +70,36 @@ type hourRow struct {
 	t          time.Time
 	how        int // hour of the week, local, 0 = Sunday 00:00
 	dpC, tC, m float64
-	wGkg       float64 // entering humidity ratio, g/kg, from the dew point
+	wGkg       float64 // the drivers' humidity ratio, g/kg, from dpC
 	supplyDPC  float64
 	y          [nY]float64
+	// Both sets of drivers as stored; dpC, tC and wGkg hold the set the
+	// unit's model uses (useDrivers).
+	in, out driverSet
+}
+
+// driverSet is one set of weather drivers of an hour: dew point,
+// humidity ratio (g/kg) and dry bulb; ok when all three are known.
+type driverSet struct {
+	dpC, wGkg, tC float64
+	ok            bool
+}
+
+// The sets of drivers a model can use.
+const (
+	DriversOutdoor  = "outdoor"  // outdoor dry bulb and dew point
+	DriversEntering = "entering" // entering (mixed or return) air: the fallback
+)
+
+// useDrivers sets the row's model drivers to set d (DriversOutdoor or
+// DriversEntering); it reports false when the hour lacks them.
+func (r *hourRow) useDrivers(d string) bool {
+	s := r.in
+	if d == DriversOutdoor {
+		s = r.out
+	}
+	r.dpC, r.wGkg, r.tC = s.dpC, s.wGkg, s.tC
+	return s.ok
 }
 
 // modelForm is a fitted baseline: its change points, occupancy and

@@ -121,7 +121,7 @@ func TestModel_Extrapolation(t *testing.T) {
 func TestModel_Options(t *testing.T) {
 	_, err := run(cmpSite("AHU-1"), &memResults{}, cmpBefore, cmpAfter, Options{NormaliseTo: "summer"})
 	require.Error(t, err)
-	assert.Contains(t, err.Error(), `normalise to "summer": use before or after`)
+	assert.Contains(t, err.Error(), `normalise to "summer": use before, after or period`)
 }
 
 // Hours whose sensors read flat (a stuck RH sensor) are left out of the
@@ -148,4 +148,119 @@ func TestModel_SuspectHoursLeftOut(t *testing.T) {
 	assert.InDelta(t, 0, float64(u.Model.Reheat().AvoidedPct), 1e-6, "the stuck hours do not read as a saving")
 	assert.Equal(t, FindingNoChange, u.Finding)
 	assert.True(t, hasWarning(u.Warnings, "84 of the after period's hours are left out of the baseline model"), u.Warnings)
+}
+
+// withOutdoor gives the records of m from..to an outdoor dew point and
+// temperature on every hour where keep(i) holds (i counts the hours).
+func withOutdoor(m *memResults, from, to time.Time, keep func(i int) bool) {
+	i := 0
+	for k := range m.recs {
+		r := &m.recs[k]
+		if r.HourStart.Before(from) || !r.HourStart.Before(to) {
+			continue
+		}
+		if keep(i) {
+			r.OutdoorDewPointC, r.OutdoorTempC = r.EnteringDewPointC+3, 30+math.Cos(float64(i)/9)
+		}
+		i++
+	}
+}
+
+// The drivers are the outdoor conditions when the hourly records carry
+// them (90 % of each period's hours or more; the hours without are left
+// out and counted), else the entering air's, said in a warning.
+func TestModel_Drivers(t *testing.T) {
+	every := func(int) bool { return true }
+	tests := []struct {
+		name                   string
+		before, after          func(i int) bool // hours with outdoor conditions; nil: none
+		want                   string
+		wantUsable             [2]int
+		wantWarning, wantNoWrn string
+	}{
+		{"no outdoor roles", nil, nil, DriversEntering, [2]int{336, 336}, "map outdoor_temp and outdoor_rh", "lack the outdoor"},
+		{"outdoor throughout", every, every, DriversOutdoor, [2]int{336, 336}, "", "the baseline's drivers are the entering air"},
+		{"outdoor missing one after hour in 20", every, func(i int) bool { return i%20 != 0 }, DriversOutdoor, [2]int{336, 319},
+			"17 of the after period's hours lack the outdoor temperature or dew point", "the baseline's drivers are the entering air"},
+		{"outdoor on half the before hours", func(i int) bool { return i%2 == 0 }, every, DriversEntering, [2]int{336, 336}, "map outdoor_temp and outdoor_rh", "lack the outdoor"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			m := &memResults{}
+			linearHours(m, "AHU-1", cmpBefore, 1, sineDP, constDP(11))
+			linearHours(m, "AHU-1", cmpAfter, 0.6, sineDP, constDP(11))
+			if tc.before != nil {
+				withOutdoor(m, cmpBefore.From, cmpBefore.To, tc.before)
+				withOutdoor(m, cmpAfter.From, cmpAfter.To, tc.after)
+			}
+			c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
+			require.NoError(t, err)
+			md := c.Units[0].Model
+			assert.Equal(t, tc.want, md.Drivers)
+			assert.NotEmpty(t, md.DriversWhy)
+			assert.Equal(t, tc.wantUsable, md.Usable)
+			assert.Equal(t, tc.want+"_dewpoint_c", md.Extrapolation[0].Driver)
+			assert.InDelta(t, 40, float64(md.Reheat().AvoidedPct), 1e-6, "every hour at 0.6 of the model, whatever the drivers")
+			if tc.wantWarning != "" {
+				assert.True(t, hasWarning(c.Units[0].Warnings, tc.wantWarning), c.Units[0].Warnings)
+			}
+			assert.False(t, hasWarning(c.Units[0].Warnings, tc.wantNoWrn), c.Units[0].Warnings)
+			if tc.want == DriversOutdoor {
+				h := md.Hours[1]
+				assert.InDelta(t, sineDP(1)+3, float64(h.DewPointC), 1e-12, "the hour's driver is its outdoor dew point")
+				assert.InDelta(t, sineDP(1), float64(h.EnteringDewPointC), 1e-12, "the entering dew point beside it")
+			}
+		})
+	}
+}
+
+// Normalised to a third period: both models projected onto its hours.
+// The after model is 0.6 of the baseline everywhere, so 40 % again, over
+// the third period's 7 days of hours (with drivers drier than either
+// period's, so the projection is not the before period's over again).
+func TestModel_NormaliseToPeriod(t *testing.T) {
+	third := window(time.Date(2026, 8, 1, 0, 0, 0, 0, time.UTC), time.Date(2026, 8, 8, 0, 0, 0, 0, time.UTC))
+	m := &memResults{}
+	linearHours(m, "AHU-1", cmpBefore, 1, sineDP, constDP(11))
+	linearHours(m, "AHU-1", cmpAfter, 0.6, sineDP, constDP(11))
+	// The third period's figures do not count, only its drivers and
+	// airflow: its reheat is set to NaN (not measured).
+	linearHours(m, "AHU-1", third, 5, func(i int) float64 { return 9 + math.Sin(float64(i)/11) }, constDP(11))
+	in := cmpSite("AHU-1").in
+	in.Before, in.After, in.Normal, in.Options = cmpBefore, cmpAfter, third, Options{NormaliseTo: "period"}
+	a, err := New(in)
+	require.NoError(t, err)
+	for i := range m.recs {
+		r := m.recs[i]
+		for _, s := range []Side{Before, After, Normal} {
+			if s == Normal {
+				r.ReheatKWh = math.NaN()
+			}
+			a.Add(s, &r)
+		}
+	}
+	c, err := a.Result()
+	require.NoError(t, err)
+	require.NotNil(t, c.NormalPeriod)
+	assert.Equal(t, third, *c.NormalPeriod)
+	assert.Equal(t, "period", c.Normalise)
+	r := c.Units[0].Model.Reheat()
+	assert.InDelta(t, 40, float64(r.AvoidedPct), 1e-6, "the after period: only before and after hours count")
+	n := r.Normalised
+	require.NotNil(t, n)
+	assert.Equal(t, "period", n.To)
+	require.NotNil(t, n.Period)
+	assert.Equal(t, third.Label, n.Period.Label)
+	assert.Equal(t, 7*24, n.Hours)
+	assert.InDelta(t, 40, float64(n.AvoidedPct), 1e-6)
+	// The baseline over the third period: 1.5 kWh per tonne of its air.
+	var tons float64
+	for i := 0; i < 7*24; i++ {
+		tons += 10 + 2*math.Sin(float64(i)/5)
+	}
+	assert.InDelta(t, 1.5*tons, float64(n.Baseline), 1e-6*1.5*tons)
+
+	in.Normal = Window{}
+	_, err = New(in)
+	require.Error(t, err, "a third period is needed")
 }

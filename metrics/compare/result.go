@@ -33,9 +33,9 @@ func (t *SiteTotal) Reheat() *Savings {
 }
 
 // unitResult builds one unit's result from its bin check and its hours.
-func unitResult(u Unit, bc BinCheck, rows [2][]hourRow, suspectHours [2]int, normaliseTo string) UnitComparison {
+func unitResult(u Unit, bc BinCheck, rows [3][]hourRow, suspectHours [2]int, norm normSpec) UnitComparison {
 	uc := UnitComparison{ID: u.ID, Name: u.Name, Bins: bc, Warnings: []string{}}
-	md, warns := buildModel(rows[0], rows[1], normaliseTo, suspectHours)
+	md, warns := buildModel(rows, norm, suspectHours)
 	uc.Model = md
 	uc.Warnings = append(uc.Warnings, warns...)
 	uc.Humidity = humidityOf(u.Spec, rows[0], rows[1])

@@ -16,6 +16,7 @@ type Side int
 const (
 	Before Side = iota // the period before the change (the baseline period)
 	After              // the period after the change (the reporting period)
+	Normal             // a third period whose conditions the savings are normalised to (Options.NormaliseTo "period")
 )
 
 // Window is a period [From, To) with the label the outputs show.
@@ -37,8 +38,11 @@ type Input struct {
 	// Zone is the site's time zone: hours of the week are local.
 	Zone          *time.Location
 	Before, After Window
-	Units         []Unit // in configuration order
-	Options       Options
+	// Normal is the period to normalise to when Options.NormaliseTo is
+	// "period"; it may overlap the others.
+	Normal  Window
+	Units   []Unit // in configuration order
+	Options Options
 }
 
 // Num is a number that encodes NaN and ±Inf as JSON null (metrics.Num).

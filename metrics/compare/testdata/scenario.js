@@ -31,7 +31,9 @@
 // multiplicative error (phi 0.7, sd 3 %) per unit common to the airflow
 // and every energy, as a drifting airflow reading would give; an AR(1)
 // error (phi 0.6, sd 2 %) of each energy of its own, as the temperature
-// differences behind it would give; and +-0.2 K on the dew points.
+// differences behind it would give; and +-0.2 K on the dew points. The
+// outdoor dry bulb and dew point (the weather station's hourly means) are
+// logged with +-0.2 K and +-0.3 K.
 'use strict';
 const fs = require('fs');
 const path = require('path');
@@ -44,6 +46,14 @@ const P = 101325, RH_LV = 0.95, PRICE = 0.15, TARGET_DP = 12;
 let seed = Number(process.argv[3] || 16061500);
 const rand = () => { seed = (seed * 1664525 + 1013904223) % 4294967296; return seed / 4294967296; };
 const gauss = () => { let s = 0; for (let i = 0; i < 12; i++) s += rand(); return s - 6; };
+// The outdoor sensors' noise has a stream of its own, so that adding them
+// left every other draw as it was.
+let seedOut = (Number(process.argv[3] || 16061500) * 7 + 12345) % 4294967296;
+const gaussOut = () => {
+  let s = 0;
+  for (let i = 0; i < 12; i++) { seedOut = (seedOut * 1664525 + 1013904223) % 4294967296; s += seedOut / 4294967296; }
+  return s - 6;
+};
 
 const start = Date.UTC(2026, 5, 1, 0, 0, 0); // Monday 2026-06-01
 const change = Date.UTC(2026, 5, 15, 0, 0, 0);
@@ -112,7 +122,7 @@ function run(u, lockout, from) {
   return out;
 }
 
-const rows = ['ahu,hour,occupied,dry_air_kg,entering_temp_c,entering_dewpoint_c,leaving_dewpoint_c,reheat_kwh,cooling_input_kwh,water_removed_kg,cost,' +
+const rows = ['ahu,hour,occupied,dry_air_kg,entering_temp_c,entering_dewpoint_c,leaving_dewpoint_c,outdoor_temp_c,outdoor_dewpoint_c,reheat_kwh,cooling_input_kwh,water_removed_kg,cost,' +
   'true_reheat_kwh,true_cooling_input_kwh,true_water_removed_kg,true_cost,cf_reheat_kwh,cf_cooling_input_kwh,cf_water_removed_kg,cf_cost,always_reheat_kwh'];
 for (const u of units) {
   const actual = run(u, u.fixed, change), cf = run(u, false, change), always = run(u, u.fixed, start);
@@ -125,6 +135,7 @@ for (const u of units) {
     const f = (x) => x.toPrecision(10);
     const reheat = a.reheat * k * (1 + own[0]), cool = a.cool * k * (1 + own[1]), water = a.water * k * (1 + own[2]);
     rows.push([u.id, a.hour, a.occ ? 1 : 0, f(a.m * k), f(a.tIn + 0.1 * gauss()), f(a.tdIn + 0.2 * gauss()), f(a.tdLv + 0.2 * gauss()),
+      f(weather[h].t + 0.2 * gaussOut()), f(weather[h].td + 0.3 * gaussOut()),
       f(reheat), f(cool), f(water), f(PRICE * (cool + reheat)),
       f(a.reheat), f(a.cool), f(a.water), f(a.cost), f(c.reheat), f(c.cool), f(c.water), f(c.cost), f(always[h].reheat)].join(','));
   }
