@@ -96,10 +96,30 @@ func dmax(a, b dv) dv {
 	return a
 }
 
-// pwsD is the saturation pressure of a dual temperature.
-func pwsD(t dv) (dv, bool) {
-	p, d, err := psychro.SatVapPressureSlope(t.v)
-	if err != nil {
+// satMemo remembers the saturation pressure and slope one call site of the
+// step evaluated last: a trend logged on change of value, or a slow
+// sensor, holds the same reading for many steps, and the exponential and
+// logarithm cost more than the rest of the step's arithmetic.
+type satMemo struct {
+	t, p, d float64
+	ok, set bool
+}
+
+// at returns p_ws and dp_ws/dt at t, and false out of range, exactly as
+// psychro.SatVapPressureSlope would.
+func (m *satMemo) at(t float64) (p, d float64, ok bool) {
+	if !m.set || t != m.t {
+		p, d, err := psychro.SatVapPressureSlope(t)
+		m.t, m.p, m.d, m.ok, m.set = t, p, d, err == nil, true
+	}
+	return m.p, m.d, m.ok
+}
+
+// pwsD is the saturation pressure of a dual temperature, through the call
+// site's memo.
+func pwsD(t dv, m *satMemo) (dv, bool) {
+	p, d, ok := m.at(t.v)
+	if !ok {
 		return dv{}, false
 	}
 	r := dv{v: p}
