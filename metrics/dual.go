@@ -141,7 +141,14 @@ func pwFromW(w dv, p float64) dv {
 
 // hD is moist-air enthalpy, eq. 32, in kJ/kg.
 func hD(t, w dv) dv {
-	return t.scale(psychro.CpDryAir).add(w.mul(t.scale(psychro.CpVapour).addc(psychro.HgZero)))
+	// t.scale(CpDryAir).add(w.mul(t.scale(CpVapour).addc(HgZero))) in one
+	// pass, each element's operations in the same order (the same bits).
+	s := t.v*psychro.CpVapour + psychro.HgZero
+	r := dv{v: t.v*psychro.CpDryAir + w.v*s}
+	for i := range r.g {
+		r.g[i] = t.g[i]*psychro.CpDryAir + (w.g[i]*s + w.v*(t.g[i]*psychro.CpVapour))
+	}
+	return r
 }
 
 // cpD is the moist specific heat 1.006 + 1.86 W.

@@ -114,6 +114,26 @@ func (e *engine) wFromHum(form int, t, hum dv, m *satMemo) (w dv, supersat, ok b
 	return dv{}, false, false
 }
 
+// wFromRH is wFromHum(humRH, cst(t), cst(rh), m).v without the gradient
+// arithmetic on zeros: the same operations on the values, so the same bits.
+func (e *engine) wFromRH(t, rh float64, m *satMemo) (float64, bool) {
+	if rh < 0 {
+		return 0, false
+	}
+	if rh > 1 {
+		rh = 1
+	}
+	pws, _, ok := m.at(t)
+	if !ok {
+		return 0, false
+	}
+	pw := pws * rh
+	if pw >= e.p {
+		return 0, false
+	}
+	return pw * psychro.MolarMassRatio / (e.p - pw), true
+}
+
 // mixMinDeltaK is the smallest outdoor-to-return temperature difference
 // from which the outdoor-air share is taken from the three temperatures:
 // with ±0.3 K sensors, 3 K gives the share to within about 0.15 (common
@@ -493,11 +513,11 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 		wReq = cst(wSpace).sub(gain)
 		o.gainAssumed = true
 		if e.spaceHum != humNone && e.hasSpaceT && !math.IsNaN(x.spaceT) && !math.IsNaN(x.spaceHum) {
-			if ws, _, ok := e.wFromHum(e.spaceHum, cst(x.spaceT), cst(x.spaceHum), &e.memoSpace); ok {
+			if ws, ok := e.wFromRH(x.spaceT, x.spaceHum, &e.memoSpace); ok {
 				// the observed gain, none when the space reads no wetter
 				wReq = cst(wSpace)
-				if ws.v > wOut.v {
-					wReq = cst(wSpace - ws.v).add(wOut)
+				if ws > wOut.v {
+					wReq = cst(wSpace - ws).add(wOut)
 				}
 				o.gainAssumed = false
 			}
