@@ -131,12 +131,27 @@ func pwsD(t dv, m *satMemo) (dv, bool) {
 
 // wFromPw is W = 0.621945 p_w / (p - p_w) (ASHRAE ch. 1 eq. 20).
 func wFromPw(pw dv, p float64) dv {
-	return pw.scale(psychro.MolarMassRatio).div(cst(p).sub(pw))
+	// pw.scale(MolarMassRatio).div(cst(p).sub(pw)) in one pass, each
+	// element's operations in the same order (the same bits).
+	a, b := pw.v*psychro.MolarMassRatio, p-pw.v
+	r := dv{v: a / b}
+	inv := 1 / (b * b)
+	for i := range r.g {
+		r.g[i] = (pw.g[i]*psychro.MolarMassRatio*b - a*(0-pw.g[i])) * inv
+	}
+	return r
 }
 
 // pwFromW inverts wFromPw.
 func pwFromW(w dv, p float64) dv {
-	return w.scale(p).div(w.addc(psychro.MolarMassRatio))
+	// w.scale(p).div(w.addc(MolarMassRatio)) in one pass, as wFromPw.
+	a, b := w.v*p, w.v+psychro.MolarMassRatio
+	r := dv{v: a / b}
+	inv := 1 / (b * b)
+	for i := range r.g {
+		r.g[i] = (w.g[i]*p*b - a*w.g[i]) * inv
+	}
+	return r
 }
 
 // hD is moist-air enthalpy, eq. 32, in kJ/kg.
