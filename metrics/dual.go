@@ -168,3 +168,39 @@ func hD(t, w dv) dv {
 
 // cpD is the moist specific heat 1.006 + 1.86 W.
 func cpD(w dv) dv { return w.scale(psychro.CpVapour).addc(psychro.CpDryAir) }
+
+// The bypass-factor model's three forms, each in one pass with each
+// element's operations in the order of the dual-number expression named
+// (the same bits), with no temporaries.
+
+// unbypass is a.sub(b.mul(bf)).div(cst(1).sub(bf)): (a - BF b) / (1 - BF).
+func unbypass(a, b, bf dv) dv {
+	n := a.v - b.v*bf.v
+	den := 1 - bf.v
+	r := dv{v: n / den}
+	inv := 1 / (den * den)
+	for i := range r.g {
+		r.g[i] = ((a.g[i]-(b.g[i]*bf.v+b.v*bf.g[i]))*den - n*(0-bf.g[i])) * inv
+	}
+	return r
+}
+
+// bypass is a.mul(cst(1).sub(bf)).add(b.mul(bf)): (1 - BF) a + BF b.
+func bypass(a, b, bf dv) dv {
+	om := 1 - bf.v
+	r := dv{v: a.v*om + b.v*bf.v}
+	for i := range r.g {
+		r.g[i] = (a.g[i]*om + a.v*(0-bf.g[i])) + (b.g[i]*bf.v + b.v*bf.g[i])
+	}
+	return r
+}
+
+// rebypass is a.sub(b).mul(bf).add(b): BF (a - b) + b.
+func rebypass(a, b, bf dv) dv {
+	d := a.v - b.v
+	r := dv{v: d*bf.v + b.v}
+	for i := range r.g {
+		r.g[i] = ((a.g[i]-b.g[i])*bf.v + d*bf.g[i]) + b.g[i]
+	}
+	return r
+}

@@ -206,7 +206,7 @@ func (e *engine) leavingW(tIn, t, wIn dv, m *satMemo) dv {
 		return wIn
 	}
 	bf := e.bfD
-	adp := t.sub(tIn.mul(bf)).div(cst(1).sub(bf))
+	adp := unbypass(t, tIn, bf)
 	pws, ok := pwsD(adp, m)
 	if !ok || pws.v >= e.p {
 		return wIn
@@ -215,7 +215,7 @@ func (e *engine) leavingW(tIn, t, wIn dv, m *satMemo) dv {
 	if ws.v >= wIn.v {
 		return wIn
 	}
-	return wIn.sub(ws).mul(bf).add(ws)
+	return rebypass(wIn, ws, bf)
 }
 
 // leavingWAt is the leaving humidity ratio of air at t and relative
@@ -272,12 +272,12 @@ func bypassFactor(rh, p float64) float64 {
 func (e *engine) tRequired(w, tIn, wIn dv, rh float64, measured bool) dv {
 	if !measured {
 		bf := e.bfD
-		ws := w.sub(wIn.mul(bf)).div(cst(1).sub(bf))
+		ws := unbypass(w, wIn, bf)
 		if ws.v <= 0 {
 			return cst(math.Inf(-1))
 		}
 		adp := e.dewPointD(ws)
-		return adp.mul(cst(1).sub(bf)).add(tIn.mul(bf))
+		return bypass(adp, tIn, bf)
 	}
 	// A fixed target gives the same temperature every step: cache it with
 	// its slope, and carry w's gradient (the assumed space gain) through.
