@@ -41,7 +41,8 @@ const SupplyBelowCoilK = 3.0
 // Compute turns one aligned hour into a record. It never fails: missing or
 // implausible data lower the coverage and raise flags.
 func Compute(u *Unit, hr *Hour) Record {
-	e := newEngine(u, hr)
+	var e engine // on the stack: one hour's engine is not kept
+	e.init(u, hr)
 	n := hr.Steps()
 	dtH := hr.Step.Hours()
 	rec := Record{HourStart: hr.Start.UTC(), AHU: hr.AHU}
@@ -387,8 +388,8 @@ func isFlat(v []float64) bool {
 	return seen > len(v)/2
 }
 
-func newEngine(u *Unit, hr *Hour) *engine {
-	e := &engine{u: u, p: u.PressurePa}
+func (e *engine) init(u *Unit, hr *Hour) {
+	*e = engine{u: u, p: u.PressurePa}
 	switch {
 	case hr.Has(RoleEnteringRH):
 		e.humIn = humRH
@@ -443,7 +444,6 @@ func newEngine(u *Unit, hr *Hour) *engine {
 			e.wTarget = psychro.MolarMassRatio * pw / (e.p - pw)
 		}
 	}
-	return e
 }
 
 // cols holds the hour's value slices by role, looked up once per hour

@@ -74,12 +74,15 @@ type engine struct {
 	hourShare              float64 // outdoor-air share of the hour's steps where the temperatures tell it; NaN when none
 	reqT, reqSlope         float64 // cached T_required and dT/dW at reqW
 	reqOK                  bool
+	// p_ws memos, one per call site (see satMemo)
+	memoIn, memoLv, memoLvT, memoSpace, memoRet, memoOut, memoLvAt, memoADP, memoADPNeed satMemo
+	memoDP, memoDry                                                                      dpMemo
 }
 
 // wFromHum returns W from a dual temperature and a dual humidity reading of
 // the given form; supersat reports a dew point above the dry bulb (taken
 // as saturation).
-func (e *engine) wFromHum(form int, t, hum dv) (w dv, supersat, ok bool) {
+func (e *engine) wFromHum(form int, t, hum dv, m *satMemo) (w dv, supersat, ok bool) {
 	switch form {
 	case humRH:
 		if hum.v < 0 {
@@ -88,7 +91,7 @@ func (e *engine) wFromHum(form int, t, hum dv) (w dv, supersat, ok bool) {
 		if hum.v > 1 {
 			hum = cst(1)
 		}
-		pws, ok := pwsD(t)
+		pws, ok := pwsD(t, m)
 		if !ok {
 			return dv{}, false, false
 		}
@@ -102,13 +105,33 @@ func (e *engine) wFromHum(form int, t, hum dv) (w dv, supersat, ok bool) {
 			supersat = true
 			hum = t
 		}
-		pw, ok := pwsD(hum)
+		pw, ok := pwsD(hum, m)
 		if !ok || pw.v >= e.p {
 			return dv{}, supersat, false
 		}
 		return wFromPw(pw, e.p), supersat, true
 	}
 	return dv{}, false, false
+}
+
+// wFromRH is wFromHum(humRH, cst(t), cst(rh), m).v without the gradient
+// arithmetic on zeros: the same operations on the values, so the same bits.
+func (e *engine) wFromRH(t, rh float64, m *satMemo) (float64, bool) {
+	if rh < 0 {
+		return 0, false
+	}
+	if rh > 1 {
+		rh = 1
+	}
+	pws, _, ok := m.at(t)
+	if !ok {
+		return 0, false
+	}
+	pw := pws * rh
+	if pw >= e.p {
+		return 0, false
+	}
+	return pw * psychro.MolarMassRatio / (e.p - pw), true
 }
 
 // mixMinDeltaK is the smallest outdoor-to-return temperature difference
@@ -129,11 +152,11 @@ func (e *engine) mixedW(x *stepIn, tIn dv) (dv, bool) {
 	if math.IsNaN(x.tRet) || math.IsNaN(x.retHum) || math.IsNaN(x.tOut) || math.IsNaN(x.oaRH) {
 		return dv{}, false
 	}
-	wRa, _, ok := e.wFromHum(e.retHum, cst(x.tRet), seed(x.retHum, sensHumIn))
+	wRa, _, ok := e.wFromHum(e.retHum, cst(x.tRet), seed(x.retHum, sensHumIn), &e.memoRet)
 	if !ok {
 		return dv{}, false
 	}
-	wOa, _, ok := e.wFromHum(humRH, cst(x.tOut), cst(x.oaRH))
+	wOa, _, ok := e.wFromHum(humRH, cst(x.tOut), cst(x.oaRH), &e.memoOut)
 	if !ok {
 		return dv{}, false
 	}
@@ -178,13 +201,13 @@ func (e *engine) mixedW(x *stepIn, tIn dv) (dv, bool) {
 // entering dew point: a dry coil). The rule is continuous: condensation
 // starts where the apparatus dew point reaches the entering dew point,
 // with no step. BF comes from the assumed leaving RH (see bypassFactor).
-func (e *engine) leavingW(tIn, t, wIn dv) dv {
+func (e *engine) leavingW(tIn, t, wIn dv, m *satMemo) dv {
 	if t.v >= tIn.v {
 		return wIn
 	}
 	bf := e.bfD
-	adp := t.sub(tIn.mul(bf)).div(cst(1).sub(bf))
-	pws, ok := pwsD(adp)
+	adp := unbypass(t, tIn, bf)
+	pws, ok := pwsD(adp, m)
 	if !ok || pws.v >= e.p {
 		return wIn
 	}
@@ -192,14 +215,14 @@ func (e *engine) leavingW(tIn, t, wIn dv) dv {
 	if ws.v >= wIn.v {
 		return wIn
 	}
-	return wIn.sub(ws).mul(bf).add(ws)
+	return rebypass(wIn, ws, bf)
 }
 
 // leavingWAt is the leaving humidity ratio of air at t and relative
 // humidity rh, never wetter than the entering air: the rule with a
 // measured leaving RH.
 func (e *engine) leavingWAt(t, wIn dv, rh float64) dv {
-	pws, ok := pwsD(t)
+	pws, ok := pwsD(t, &e.memoLvAt)
 	if !ok {
 		return wIn
 	}
@@ -249,12 +272,12 @@ func bypassFactor(rh, p float64) float64 {
 func (e *engine) tRequired(w, tIn, wIn dv, rh float64, measured bool) dv {
 	if !measured {
 		bf := e.bfD
-		ws := w.sub(wIn.mul(bf)).div(cst(1).sub(bf))
+		ws := unbypass(w, wIn, bf)
 		if ws.v <= 0 {
 			return cst(math.Inf(-1))
 		}
 		adp := e.dewPointD(ws)
-		return adp.mul(cst(1).sub(bf)).add(tIn.mul(bf))
+		return bypass(adp, tIn, bf)
 	}
 	// A fixed target gives the same temperature every step: cache it with
 	// its slope, and carry w's gradient (the assumed space gain) through.
@@ -280,16 +303,47 @@ func pwToW(pw dv, p float64) dv { return wFromPw(pw, p) }
 // dewPointD is the dew point of a dual humidity ratio.
 func (e *engine) dewPointD(w dv) dv {
 	pw := pwFromW(w, e.p)
-	t, err := psychro.DewPointFromVapPressure(pw.v)
-	if err != nil {
+	t, d, ok := e.memoDP.at(pw.v)
+	if !ok {
 		return cst(math.Inf(-1))
 	}
-	_, d, _ := psychro.SatVapPressureSlope(t)
 	r := dv{v: t}
 	for i := range r.g {
 		r.g[i] = pw.g[i] / d
 	}
 	return r
+}
+
+// dpMemo remembers the last dew point one call site evaluated, with the
+// slope dp_ws/dt there (see satMemo).
+type dpMemo struct {
+	key, t, d float64
+	ok, set   bool
+}
+
+// at returns the dew point of vapour pressure pw and dp_ws/dt at it, false
+// out of range, as psychro.DewPointFromVapPressure and
+// psychro.SatVapPressureSlope would.
+func (m *dpMemo) at(pw float64) (t, d float64, ok bool) {
+	if !m.set || pw != m.key {
+		t, err := psychro.DewPointFromVapPressure(pw)
+		var d float64
+		if err == nil {
+			_, d, _ = psychro.SatVapPressureSlope(t)
+		}
+		m.key, m.t, m.d, m.ok, m.set = pw, t, d, err == nil, true
+	}
+	return m.t, m.d, m.ok
+}
+
+// fromW returns the dew point of humidity ratio w at pressure p, false
+// where psychro.DewPointFromHumRatio fails.
+func (m *dpMemo) fromW(w, p float64) (float64, bool) {
+	if !m.set || w != m.key {
+		t, err := psychro.DewPointFromHumRatio(w, p)
+		m.key, m.t, m.ok, m.set = w, t, err == nil, true
+	}
+	return m.t, m.ok
 }
 
 // condensateD is the enthalpy of water leaving the coil at t, kJ/kg.
@@ -313,7 +367,7 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	if e.mix {
 		wIn, ok = e.mixedW(x, tIn)
 	} else {
-		wIn, supersat, ok = e.wFromHum(e.humIn, tIn, seed(x.humIn, sensHumIn))
+		wIn, supersat, ok = e.wFromHum(e.humIn, tIn, seed(x.humIn, sensHumIn), &e.memoIn)
 	}
 	if !ok {
 		return o, false
@@ -351,12 +405,12 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	o.rhLv = u.LeavingRH
 	dry := false
 	if e.lvHum != humNone && !math.IsNaN(x.lvHum) {
-		if td, err := psychro.DewPointFromHumRatio(wIn.v, e.p); err == nil && x.tLv > td+e.dryMarginK {
+		if td, ok := e.memoDry.fromW(wIn.v, e.p); ok && x.tLv > td+e.dryMarginK {
 			dry = true
 		}
 	}
 	if e.lvHum != humNone && !math.IsNaN(x.lvHum) {
-		if w, _, ok := e.wFromHum(e.lvHum, tLv, seed(x.lvHum, sensLvHum)); ok {
+		if w, _, ok := e.wFromHum(e.lvHum, tLv, seed(x.lvHum, sensLvHum), &e.memoLv); ok {
 			// A leaving sensor that reads wetter than the entering air beyond
 			// its accuracy while the coil cools is a sensor finding, not a
 			// negative latent load; with the coil off it is water the wet
@@ -375,7 +429,11 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 				measured = true
 				wOut = w
 				if w.v < wIn.v {
-					if pws, err := psychro.SatVapPressure(x.tLv); err == nil && pws > 0 {
+					mt := &e.memoLvT
+					if e.lvHum == humRH {
+						mt = &e.memoLv // the sensor's own dry bulb, just evaluated
+					}
+					if pws, _, ok := mt.at(x.tLv); ok && pws > 0 {
 						o.rhLv = math.Max(0.5, math.Min(1, pwFromW(w, e.p).v/pws))
 					}
 				}
@@ -383,7 +441,7 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 		}
 	}
 	if !measured {
-		wOut = e.leavingW(tCoil, tLv, wIn)
+		wOut = e.leavingW(tCoil, tLv, wIn, &e.memoADP)
 	}
 	o.measuredOut = measured
 	o.wOut = wOut.v
@@ -455,11 +513,11 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 		wReq = cst(wSpace).sub(gain)
 		o.gainAssumed = true
 		if e.spaceHum != humNone && e.hasSpaceT && !math.IsNaN(x.spaceT) && !math.IsNaN(x.spaceHum) {
-			if ws, _, ok := e.wFromHum(e.spaceHum, cst(x.spaceT), cst(x.spaceHum)); ok {
+			if ws, ok := e.wFromRH(x.spaceT, x.spaceHum, &e.memoSpace); ok {
 				// the observed gain, none when the space reads no wetter
 				wReq = cst(wSpace)
-				if ws.v > wOut.v {
-					wReq = cst(wSpace - ws.v).add(wOut)
+				if ws > wOut.v {
+					wReq = cst(wSpace - ws).add(wOut)
 				}
 				o.gainAssumed = false
 			}
@@ -494,7 +552,7 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 		if measured {
 			wc = e.leavingWAt(tc, wIn, o.rhLv)
 		} else {
-			wc = e.leavingW(tCoil, tc, wIn)
+			wc = e.leavingW(tCoil, tc, wIn, &e.memoADPNeed)
 		}
 		mw := m.v * (wIn.v - wc.v)
 		o.coilNeeded = math.Max(0, m.v*(hIn.v-h(tc.v, wc.v))-mw*condensate(tc.v))
