@@ -2,6 +2,7 @@ package dashboards
 
 import (
 	"context"
+	"fmt"
 	"time"
 
 	"github.com/dewline/dewline/metrics"
@@ -25,6 +26,27 @@ type Site struct {
 // Assumption is one stated basis of the figures.
 type Assumption struct {
 	Topic, Text string
+}
+
+// SetupNotes state how the configuration set what a report's figures rest
+// on: the pressure source (pressure, else altitude, as configured) and the
+// time grid (step).
+func SetupNotes(pressure, altitude string, step time.Duration) []Assumption {
+	var notes []Assumption
+	switch {
+	case pressure != "":
+		notes = append(notes, Assumption{Topic: "Pressure source", Text: "Configured barometric pressure " + pressure + "."})
+	case altitude != "":
+		notes = append(notes, Assumption{Topic: "Pressure source", Text: "Standard atmosphere at the configured altitude of " + altitude + " (ASHRAE Handbook — Fundamentals 2017, ch. 1, eq. 3)."})
+	}
+	if step > 0 {
+		grid := step.String()
+		if step%time.Minute == 0 {
+			grid = fmt.Sprintf("%d min", step/time.Minute)
+		}
+		notes = append(notes, Assumption{Topic: "Time grid", Text: "Readings aligned on a " + grid + " grid; a logged value holds until the next one, at most its point's stale limit."})
+	}
+	return notes
 }
 
 // Unit is one air handler as configured.

@@ -252,38 +252,21 @@ func reportInputs(log zerolog.Logger, files *csvfile.Files, rh *ingest.RecordHou
 }
 
 // storedSpan is the span of the stored samples of the air handlers'
-// points: from the hour of the first sample to the end of the hour of the
-// last, the period "analyze" reads from the store without --from/--to.
+// points, in whole hours: analyze's period when none is given.
 func storedSpan(ctx context.Context, st *stores, ahus []string, points map[string]ingest.UnitPoints) (from, to time.Time, err error) {
 	sp, ok := st.Store.(store.SampleSpanner)
 	if !ok {
 		return time.Time{}, time.Time{}, usagef("give --from and --to: %s cannot tell the span of its samples", st.Describe())
 	}
-	seen := map[string]bool{}
+	var refs []metrics.PointRef
 	for _, id := range ahus {
 		for _, ref := range points[id].Points {
-			if seen[ref.Name()] {
-				continue
-			}
-			seen[ref.Name()] = true
-			first, last, ok, err := sp.SampleSpan(ctx, ref)
-			if err != nil {
-				return time.Time{}, time.Time{}, fmt.Errorf("the stored span of %s: %w", ref.Name(), err)
-			}
-			if !ok {
-				continue
-			}
-			if from.IsZero() || first.Before(from) {
-				from = first
-			}
-			if last.After(to) {
-				to = last
-			}
+			refs = append(refs, ref)
 		}
 	}
-	if from.IsZero() {
-		return time.Time{}, time.Time{}, fmt.Errorf("%s holds no samples of the points configured for %s: load exports with \"dewline import\", or give --from and --to",
-			st.Describe(), strings.Join(ahus, ", "))
+	from, to, ok, err = store.Span(ctx, sp, refs)
+	if err == nil && !ok {
+		err = fmt.Errorf("%s holds no samples of the points configured for %s: load exports with \"dewline import\", or give --from and --to", st.Describe(), strings.Join(ahus, ", "))
 	}
-	return from.UTC().Truncate(time.Hour), to.UTC().Truncate(time.Hour).Add(time.Hour), nil
+	return from, to, err
 }

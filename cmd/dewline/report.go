@@ -13,7 +13,6 @@ import (
 
 	"github.com/rs/zerolog"
 
-	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/agent/telemetry"
 	"github.com/dewline/dewline/dashboards"
 	"github.com/dewline/dewline/dashboards/pdf"
@@ -189,7 +188,7 @@ func buildSiteReport(ctx context.Context, e *env, cfgPath string, rf reportFlags
 		Paper:     rf.paper,
 		Source:    st.Describe(),
 		Trended:   cfg.TrendedRoles(),
-		Notes:     reportNotes(cfg),
+		Notes:     dashboards.SetupNotes(cfg.Site.Pressure, cfg.Site.Altitude, cfg.Grid.Step),
 		Progress:  prog.Update,
 	}
 	rep, err = dashboards.BuildReport(ctx, site, res, period, opt)
@@ -235,30 +234,6 @@ func reportCoverage(ctx context.Context, res dashboards.Results, hours, units in
 func localMidnight(t time.Time) time.Time {
 	y, m, d := t.Date()
 	return time.Date(y, m, d, 0, 0, 0, 0, t.Location())
-}
-
-// reportNotes states how the configuration set what the report's figures rest on.
-func reportNotes(cfg *config.Config) []dashboards.Assumption {
-	var notes []dashboards.Assumption
-	switch {
-	case cfg.Site.Pressure != "":
-		notes = append(notes, dashboards.Assumption{Topic: "Pressure source", Text: "Configured barometric pressure " + cfg.Site.Pressure + "."})
-	case cfg.Site.Altitude != "":
-		notes = append(notes, dashboards.Assumption{Topic: "Pressure source", Text: "Standard atmosphere at the configured altitude of " + cfg.Site.Altitude + " (ASHRAE Handbook — Fundamentals 2017, ch. 1, eq. 3)."})
-	}
-	step := cfg.Grid.Step
-	if step > 0 {
-		notes = append(notes, dashboards.Assumption{Topic: "Time grid", Text: "Readings aligned on a " + fmtStep(step) + " grid; a logged value holds until the next one, at most its point's stale limit."})
-	}
-	return notes
-}
-
-// fmtStep writes a grid step as "1 min" or "30 s".
-func fmtStep(d time.Duration) string {
-	if d%time.Minute == 0 {
-		return fmt.Sprintf("%d min", d/time.Minute)
-	}
-	return d.String()
 }
 
 // fileSafe matches what a site id may not put in a file name.
