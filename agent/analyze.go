@@ -134,13 +134,13 @@ func (an *Analyzer) Run(ctx context.Context, from, to time.Time, ahus []string, 
 			ahus = append(ahus, a.ID)
 		}
 	}
-	units := map[string]*metrics.Unit{}
+	units := map[string]*metrics.AirHandler{}
 	for _, id := range ahus {
 		a, ok := an.Cfg.AirHandler(id)
 		if !ok {
 			return nil, nil, fmt.Errorf("analyse: no air handler %q in the configuration", id)
 		}
-		units[id] = an.Cfg.Unit(a)
+		units[id] = an.Cfg.Spec(a)
 	}
 	if an.Alerts == nil {
 		an.Alerts = map[string]map[string]metrics.Alert{}
@@ -161,7 +161,7 @@ func (an *Analyzer) Run(ctx context.Context, from, to time.Time, ahus []string, 
 	type job struct {
 		seq int
 		h   *metrics.Hour
-		u   *metrics.Unit
+		u   *metrics.AirHandler
 	}
 	type result struct {
 		seq int
@@ -268,7 +268,7 @@ var errStopped = errors.New("analysis stopped")
 
 // safeCompute runs the engine and turns a panic (a bug, or data the engine
 // did not foresee) into an error for that hour alone.
-func safeCompute(u *metrics.Unit, h *metrics.Hour) (rec metrics.Record, err error) {
+func safeCompute(u *metrics.AirHandler, h *metrics.Hour) (rec metrics.Record, err error) {
 	defer func() {
 		if p := recover(); p != nil {
 			err = fmt.Errorf("computation failed: %v", p)

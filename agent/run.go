@@ -232,7 +232,7 @@ func (r *Runner) now() time.Time {
 // ahuRun is one air handler's part in a run.
 type ahuRun struct {
 	id      string
-	unit    *metrics.Unit
+	unit    *metrics.AirHandler
 	cp      time.Time
 	has     bool
 	from    time.Time // first hour to compute
@@ -284,7 +284,7 @@ func (r *Runner) plan(ctx context.Context, ahus []string, slot time.Time) []*ahu
 			a.fail(fmt.Errorf("no air handler %q in the configuration", id))
 			continue
 		}
-		a.unit = r.Cfg.Unit(ac)
+		a.unit = r.Cfg.Spec(ac)
 		if preErr != nil {
 			a.fail(fmt.Errorf("read checkpoint: %w", preErr))
 			continue

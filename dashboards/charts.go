@@ -50,13 +50,13 @@ func shareBar(share float64) template.HTML {
 	return template.HTML(fmt.Sprintf(`<svg class="share" viewBox="0 0 100 8" width="100" height="8" aria-hidden="true"><rect x="0" y="0" width="100" height="8" fill="#e8ecef"/><rect x="0" y="0" width="%g" height="8" fill="%s"/></svg>`, w, colorAvoidable))
 }
 
-// UnitCharts are the charts of one unit's page.
-type UnitCharts struct {
+// AirHandlerCharts are the charts of one unit's page.
+type AirHandlerCharts struct {
 	Energy, Temps, Water, EER template.HTML
 }
 
-func unitCharts(uh *UnitHours, d Display, zone *time.Location) (UnitCharts, error) {
-	var c UnitCharts
+func airHandlerCharts(uh *AirHandlerHours, d Display, zone *time.Location) (AirHandlerCharts, error) {
+	var c AirHandlerCharts
 	frame := func(title, ylabel string) chart.Frame {
 		return chart.Frame{Title: title, YLabel: ylabel, Width: 960, Height: 260, Zone: zone}
 	}
@@ -108,7 +108,7 @@ func unitCharts(uh *UnitHours, d Display, zone *time.Location) (UnitCharts, erro
 }
 
 // psyChartSVG draws a unit's hours on a psychrometric chart at its pressure.
-func psyChartSVG(u Unit, st []HourStates, pressurePa float64, d Display, lines string) (template.HTML, error) {
+func psyChartSVG(u AirHandler, st []HourStates, pressurePa float64, d Display, lines string) (template.HTML, error) {
 	pc := chart.PsyChart{PressurePa: pressurePa, IP: d.IP, Lines: lines, Title: u.Name + " (" + u.ID + "): entering → coil leaving → supply"}
 	tMin, tMax, wMax := 5.0, 40.0, 0.0
 	for _, s := range st {

@@ -154,8 +154,8 @@ func uPct(s *compare.Savings) string {
 func CompareTable(c *compare.Comparison, d Display) (header []string, rows [][]string) {
 	header = []string{"air handler", "reheat baseline kWh", "measured kWh", "avoided kWh", "avoided", "± 90 %", "finding",
 		"fit CV(RMSE) / NMBE / R²", "supply dew point " + d.TempUnit() + " before → after", "bin check"}
-	for i := range c.Units {
-		u := &c.Units[i]
+	for i := range c.AirHandlers {
+		u := &c.AirHandlers[i]
 		r := u.Model.Reheat()
 		if r == nil || r.Finding == compare.FindingNoModel {
 			rows = append(rows, []string{u.ID, "–", "–", "–", "–", "–", compare.FindingNoModel, "–", "–", fmtChangePct(-u.Bins.Reheat.ChangePct)})
@@ -172,7 +172,7 @@ func CompareTable(c *compare.Comparison, d Display) (header []string, rows [][]s
 		rows = append(rows, []string{u.ID, fmtQty(float64(r.Baseline)), fmtQty(float64(r.Measured)), fmtSigned(float64(r.Avoided)),
 			fmtChangePct(r.AvoidedPct), uPct(r), u.Finding, fit, dp, "saves " + fmtChangePct(-u.Bins.Reheat.ChangePct)})
 	}
-	if len(c.Units) > 1 {
+	if len(c.AirHandlers) > 1 {
 		r := c.Total.Reheat()
 		rows = append(rows, []string{"site", fmtQty(float64(r.Baseline)), fmtQty(float64(r.Measured)), fmtSigned(float64(r.Avoided)),
 			fmtChangePct(r.AvoidedPct), uPct(r), r.Finding, "–", "–", "saves " + fmtChangePct(-c.Total.Bins.Reheat.ChangePct)})
@@ -192,7 +192,7 @@ type compareView struct {
 	Normalise                     string
 	Drivers                       []cmpDrivers
 	Cards                         []cmpCard
-	Units                         []cmpUnit
+	AirHandlers                   []cmpAirHandler
 	Fits                          []cmpFit
 	Extrap                        []cmpExtrap
 	Humidity                      []cmpHumidity
@@ -213,9 +213,9 @@ type cmpCard struct{ ID, Label, Value, Note string }
 // cmpDrivers says which drivers a unit's baseline used, and why.
 type cmpDrivers struct{ ID, Name, Drivers, Why string }
 
-// cmpUnit is one row of the headline table: one unit (or the site) and
+// cmpAirHandler is one row of the headline table: one unit (or the site) and
 // one quantity.
-type cmpUnit struct {
+type cmpAirHandler struct {
 	ID, Name, Class, Quantity, Unit        string
 	First                                  bool // first quantity of its unit
 	Span                                   int
@@ -352,7 +352,7 @@ func newCompareView(c *compare.Comparison, d Display, zone *time.Location) (*com
 				break
 			}
 			s := &ss[k]
-			row := cmpUnit{ID: id, Name: name, Class: class, Quantity: q.label, Unit: amountUnit(q.key, d, c.Currency), First: k == 0, Span: len(ss),
+			row := cmpAirHandler{ID: id, Name: name, Class: class, Quantity: q.label, Unit: amountUnit(q.key, d, c.Currency), First: k == 0, Span: len(ss),
 				Baseline: amount(q.key, float64(s.Baseline), d), Measured: amount(q.key, float64(s.Measured), d),
 				Avoided: amount(q.key, float64(s.Avoided), d), Pct: fmtChangePct(s.AvoidedPct),
 				U68: amount(q.key, math.Max(float64(s.U68), float64(s.RegU68)), d), U90: amount(q.key, float64(s.U90), d),
@@ -361,11 +361,11 @@ func newCompareView(c *compare.Comparison, d Display, zone *time.Location) (*com
 			if s.Avoided > 0 && strings.Trim(row.Avoided, "0.,") != "" {
 				row.Avoided = "+" + row.Avoided
 			}
-			v.Units = append(v.Units, row)
+			v.AirHandlers = append(v.AirHandlers, row)
 		}
 	}
-	for i := range c.Units {
-		u := &c.Units[i]
+	for i := range c.AirHandlers {
+		u := &c.AirHandlers[i]
 		if u.Model != nil {
 			v.Drivers = append(v.Drivers, cmpDrivers{ID: u.ID, Name: u.Name, Drivers: u.Model.Drivers, Why: u.Model.DriversWhy})
 			addSavings(u.ID, u.Name, "", u.Model.Savings)
@@ -407,14 +407,14 @@ func newCompareView(c *compare.Comparison, d Display, zone *time.Location) (*com
 			Before: fmtFixed(d.Temp(float64(h.MeanBefore)), 1), After: fmtFixed(d.Temp(float64(h.MeanAfter)), 1),
 			AboveBefore: fmtFrac(float64(h.AboveBefore)), AboveAfter: fmtFrac(float64(h.AboveAfter)), Held: h.Held, Broken: h.Held == "not held"})
 	}
-	if len(c.Units) > 1 {
+	if len(c.AirHandlers) > 1 {
 		addSavings("", "Site", "total", c.Total.Savings)
 	}
-	for i := range c.Units {
-		v.Rows = append(v.Rows, newCmpRow(&c.Units[i].Bins, d, ""))
-		v.Raw = append(v.Raw, newCmpRawRow(&c.Units[i].Bins, d, ""))
+	for i := range c.AirHandlers {
+		v.Rows = append(v.Rows, newCmpRow(&c.AirHandlers[i].Bins, d, ""))
+		v.Raw = append(v.Raw, newCmpRawRow(&c.AirHandlers[i].Bins, d, ""))
 	}
-	if len(c.Units) > 1 {
+	if len(c.AirHandlers) > 1 {
 		v.Rows = append(v.Rows, newCmpRow(&c.Total.Bins, d, "total"))
 		v.Raw = append(v.Raw, newCmpRawRow(&c.Total.Bins, d, "total"))
 	}
@@ -423,8 +423,8 @@ func newCompareView(c *compare.Comparison, d Display, zone *time.Location) (*com
 		return nil, err
 	}
 	v.Bars = bars
-	for i := range c.Units {
-		u := &c.Units[i]
+	for i := range c.AirHandlers {
+		u := &c.AirHandlers[i]
 		svg, err := fitChartSVG(u, zone)
 		if err != nil {
 			return nil, err
@@ -503,10 +503,10 @@ func newCmpRawRow(u *compare.BinCheck, d Display, class string) cmpRawRow {
 // avoidedBarsSVG ranks the units by the reheat the baseline model says
 // they avoided (kWh).
 func avoidedBarsSVG(c *compare.Comparison) (template.HTML, error) {
-	labels := make([]string, 0, len(c.Units))
-	values := make([]float64, 0, len(c.Units))
-	for i := range c.Units {
-		u := &c.Units[i]
+	labels := make([]string, 0, len(c.AirHandlers))
+	values := make([]float64, 0, len(c.AirHandlers))
+	for i := range c.AirHandlers {
+		u := &c.AirHandlers[i]
 		label := u.Name
 		if u.Name != u.ID {
 			label += " (" + u.ID + ")"
@@ -531,7 +531,7 @@ func avoidedBarsSVG(c *compare.Comparison) (template.HTML, error) {
 // fit, in the after period the projection whose difference is the
 // avoided energy. A missing hour, and the time between the periods, are
 // gaps.
-func fitChartSVG(u *compare.UnitComparison, zone *time.Location) (template.HTML, error) {
+func fitChartSVG(u *compare.AirHandlerComparison, zone *time.Location) (template.HTML, error) {
 	title := u.Name
 	if u.Name != u.ID {
 		title += " (" + u.ID + ")"

@@ -43,7 +43,7 @@ var reheatOnly = comparetest.ReheatOnly
 func cmpSite(units ...string) *compare.Input {
 	in := &compare.Input{Site: "Test site", Currency: "USD", Zone: time.UTC, Before: cmpBefore, After: cmpAfter}
 	for _, u := range units {
-		in.Units = append(in.Units, compare.Unit{ID: u, Name: u})
+		in.AirHandlers = append(in.AirHandlers, compare.AirHandler{ID: u, Name: u})
 	}
 	return in
 }

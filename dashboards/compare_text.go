@@ -29,14 +29,14 @@ func WriteCompareText(w io.Writer, c *compare.Comparison, d Display) {
 	}
 	_ = tw.Flush()
 	fmt.Fprintln(w, "\ndrivers of the baseline:")
-	for _, u := range c.Units {
+	for _, u := range c.AirHandlers {
 		if u.Model != nil {
 			fmt.Fprintf(w, "  %s: %s (%s)\n", u.ID, u.Model.Drivers, u.Model.DriversWhy)
 		}
 	}
 	if n := NormalisedWords(c); n != "" {
 		fmt.Fprintf(w, "normalised to %s conditions, reheat:", n)
-		for _, u := range c.Units {
+		for _, u := range c.AirHandlers {
 			if r := u.Model.Reheat(); r != nil && r.Normalised != nil {
 				n := r.Normalised
 				fmt.Fprintf(w, " %s %+.1f %% ± %.1f %% (%d h);", u.ID, float64(n.AvoidedPct), 100*float64(n.U90)/math.Abs(float64(n.Baseline)), n.Hours)

@@ -69,8 +69,8 @@ func TestFormat(t *testing.T) {
 // Two units over two days, sums worked by hand.
 func fixture() (*Site, *memResults) {
 	site := &Site{Name: "Test site", Zone: chicago, IP: true, Currency: "USD", PressurePa: 101325,
-		Units: []Unit{{ID: "AHU-1", Name: "North wing", Spec: &metrics.Unit{Reheat: metrics.ReheatElectric}},
-			{ID: "AHU-2", Name: `<script>alert("x")</script>`, Spec: &metrics.Unit{Reheat: metrics.ReheatHotWater}}}}
+		AirHandlers: []AirHandler{{ID: "AHU-1", Name: "North wing", Spec: &metrics.AirHandler{Reheat: metrics.ReheatElectric}},
+			{ID: "AHU-2", Name: `<script>alert("x")</script>`, Spec: &metrics.AirHandler{Reheat: metrics.ReheatHotWater}}}}
 	day1 := time.Date(2026, 7, 6, 0, 0, 0, 0, chicago)
 	m := &memResults{}
 	for h := 0; h < 48; h++ {
@@ -100,24 +100,24 @@ func TestBuildOverview_RanksAndSums(t *testing.T) {
 	require.NoError(t, err)
 	ov, err := BuildOverview(t.Context(), site, m, p)
 	require.NoError(t, err)
-	require.Len(t, ov.Units, 2)
+	require.Len(t, ov.AirHandlers, 2)
 	// AHU-2: 24 h × 1.25 = 30 USD; AHU-1: 48 h × 0.5 = 24 USD.
-	assert.Equal(t, "AHU-2", ov.Units[0].ID)
-	assert.InDelta(t, 30, float64(ov.Units[0].Totals.CostAvoidable), 1e-9)
-	assert.InDelta(t, 24, float64(ov.Units[1].Totals.CostAvoidable), 1e-9)
-	assert.Equal(t, []Num{0, 30}, ov.Units[0].Daily)
-	assert.Equal(t, []Num{12, 12}, ov.Units[1].Daily)
-	assert.Equal(t, 1, ov.Units[0].OpenAlerts)
-	assert.InDelta(t, 0.5, float64(ov.Units[0].Totals.Coverage), 1e-12)
+	assert.Equal(t, "AHU-2", ov.AirHandlers[0].ID)
+	assert.InDelta(t, 30, float64(ov.AirHandlers[0].Totals.CostAvoidable), 1e-9)
+	assert.InDelta(t, 24, float64(ov.AirHandlers[1].Totals.CostAvoidable), 1e-9)
+	assert.Equal(t, []Num{0, 30}, ov.AirHandlers[0].Daily)
+	assert.Equal(t, []Num{12, 12}, ov.AirHandlers[1].Daily)
+	assert.Equal(t, 1, ov.AirHandlers[0].OpenAlerts)
+	assert.InDelta(t, 0.5, float64(ov.AirHandlers[0].Totals.Coverage), 1e-12)
 	// AHU-1: 48 × 5 = 240 kg ± 48 × 0.5 = 24 kg (linear: fully correlated).
-	assert.InDelta(t, 240, float64(ov.Units[1].Totals.WaterKg), 1e-9)
-	assert.InDelta(t, 24, float64(ov.Units[1].Totals.WaterKgU95), 1e-9)
+	assert.InDelta(t, 240, float64(ov.AirHandlers[1].Totals.WaterKg), 1e-9)
+	assert.InDelta(t, 24, float64(ov.AirHandlers[1].Totals.WaterKgU95), 1e-9)
 	// Effective EER of the sums, AHU-1: (30 − 10) / (8 + 10) kW/kW × 3.412 Btu/Wh per W/W.
-	assert.InDelta(t, 20.0/18*3.412142, float64(ov.Units[1].Totals.EffectiveEER), 1e-5)
+	assert.InDelta(t, 20.0/18*3.412142, float64(ov.AirHandlers[1].Totals.EffectiveEER), 1e-5)
 	// Site: 54 USD; reheat 48 × 12 = 576 kWh, avoidable 48 × 5 = 240.
 	assert.InDelta(t, 54, float64(ov.Total.CostAvoidable), 1e-9)
 	assert.InDelta(t, 240.0/576, float64(ov.Total.AvoidableShare), 1e-12)
-	assert.True(t, math.IsNaN(float64(ov.Units[0].Totals.WaterKg)), "no hour had water: unknown, not zero")
+	assert.True(t, math.IsNaN(float64(ov.AirHandlers[0].Totals.WaterKg)), "no hour had water: unknown, not zero")
 }
 
 func newTestHandler(t *testing.T, site *Site, m Results) http.Handler {

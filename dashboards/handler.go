@@ -90,7 +90,7 @@ func New(opt Options) (*Handler, error) {
 		http.ServeFileFS(w, r, assets, "static/favicon.svg")
 	})))
 	mux.HandleFunc("GET /{$}", h.page(h.overviewPage))
-	mux.HandleFunc("GET /units/{id}", h.page(h.unitPage))
+	mux.HandleFunc("GET /units/{id}", h.page(h.airHandlerPage))
 	mux.HandleFunc("GET /units/{id}/chart", h.page(h.chartPage))
 	mux.HandleFunc("GET /alerts", h.page(h.alertsPage))
 	mux.HandleFunc("GET /api/v1/site", h.api(h.apiSite))
@@ -202,18 +202,18 @@ func (e errNotFound) Error() string {
 	return fmt.Sprintf("no air handler %q in the configuration", e.id)
 }
 
-func (h *Handler) unit(r *http.Request) (Unit, error) {
+func (h *Handler) airHandler(r *http.Request) (AirHandler, error) {
 	id := r.PathValue("id")
-	u, ok := h.opt.Site.Unit(id)
+	u, ok := h.opt.Site.AirHandler(id)
 	if !ok {
-		return Unit{}, errNotFound{id}
+		return AirHandler{}, errNotFound{id}
 	}
 	return u, nil
 }
 
-// unitRequest is the unit named in the path and the query's period and units.
-func (h *Handler) unitRequest(r *http.Request) (Unit, request, error) {
-	u, err := h.unit(r)
+// airHandlerRequest is the unit named in the path and the query's period and units.
+func (h *Handler) airHandlerRequest(r *http.Request) (AirHandler, request, error) {
+	u, err := h.airHandler(r)
 	if err != nil {
 		return u, request{}, err
 	}
@@ -263,19 +263,19 @@ func (h *Handler) render(w http.ResponseWriter, name string, data any) {
 
 // SiteInfo is /api/v1/site.
 type SiteInfo struct {
-	ID         string     `json:"id,omitempty"` // site.id
-	Name       string     `json:"name"`
-	Zone       string     `json:"timezone"`
-	Units      string     `json:"units"` // the site's display units
-	Currency   string     `json:"currency"`
-	PressurePa Num        `json:"pressure_pa"`
-	AHUs       []UnitInfo `json:"air_handlers"`
-	First      *time.Time `json:"first_hour,omitempty"`
-	Last       *time.Time `json:"last_hour,omitempty"`
+	ID         string           `json:"id,omitempty"` // site.id
+	Name       string           `json:"name"`
+	Zone       string           `json:"timezone"`
+	Units      string           `json:"units"` // the site's display units
+	Currency   string           `json:"currency"`
+	PressurePa Num              `json:"pressure_pa"`
+	AHUs       []AirHandlerInfo `json:"air_handlers"`
+	First      *time.Time       `json:"first_hour,omitempty"`
+	Last       *time.Time       `json:"last_hour,omitempty"`
 }
 
-// UnitInfo is one air handler in SiteInfo.
-type UnitInfo struct {
+// AirHandlerInfo is one air handler in SiteInfo.
+type AirHandlerInfo struct {
 	ID     string `json:"id"`
 	Name   string `json:"name"`
 	Reheat string `json:"reheat"`
@@ -284,8 +284,8 @@ type UnitInfo struct {
 func (h *Handler) apiSite(w http.ResponseWriter, r *http.Request) error {
 	s := h.opt.Site
 	info := SiteInfo{ID: s.ID, Name: s.Name, Zone: s.Zone.String(), Units: Display{IP: s.IP}.Name(), Currency: s.Currency, PressurePa: Num(s.PressurePa)}
-	for _, u := range s.Units {
-		ui := UnitInfo{ID: u.ID, Name: u.Name}
+	for _, u := range s.AirHandlers {
+		ui := AirHandlerInfo{ID: u.ID, Name: u.Name}
 		if u.Spec != nil {
 			ui.Reheat = reheatName(u.Spec.Reheat)
 		}
@@ -311,19 +311,19 @@ func (h *Handler) apiOverview(w http.ResponseWriter, r *http.Request) error {
 }
 
 func (h *Handler) apiHours(w http.ResponseWriter, r *http.Request) error {
-	u, req, err := h.unitRequest(r)
+	u, req, err := h.airHandlerRequest(r)
 	if err != nil {
 		return err
 	}
-	return answerJSON(w)(BuildUnitHours(r.Context(), u, h.opt.Results, req.Period, req.display))
+	return answerJSON(w)(BuildAirHandlerHours(r.Context(), u, h.opt.Results, req.Period, req.display))
 }
 
 func (h *Handler) apiStates(w http.ResponseWriter, r *http.Request) error {
-	u, req, err := h.unitRequest(r)
+	u, req, err := h.airHandlerRequest(r)
 	if err != nil {
 		return err
 	}
-	st, err := UnitStates(r.Context(), u, h.opt.Results, req.Period, h.pressure(u))
+	st, err := AirHandlerStates(r.Context(), u, h.opt.Results, req.Period, h.pressure(u))
 	if err != nil {
 		return err
 	}
@@ -331,7 +331,7 @@ func (h *Handler) apiStates(w http.ResponseWriter, r *http.Request) error {
 	return nil
 }
 
-func (h *Handler) pressure(u Unit) float64 {
+func (h *Handler) pressure(u AirHandler) float64 {
 	if u.Spec != nil && u.Spec.PressurePa > 0 {
 		return u.Spec.PressurePa
 	}
@@ -350,7 +350,7 @@ func (h *Handler) alertQuery(req request) (AlertQuery, error) {
 		return q, errBadRequest{fmt.Sprintf("state %q: use pending, open or closed", q.State)}
 	}
 	if q.AHU != "" {
-		if _, ok := h.opt.Site.Unit(q.AHU); !ok {
+		if _, ok := h.opt.Site.AirHandler(q.AHU); !ok {
 			return q, errNotFound{q.AHU}
 		}
 	}
@@ -379,16 +379,16 @@ func (h *Handler) apiAlerts(w http.ResponseWriter, r *http.Request) error {
 	}
 	type out struct {
 		Alert
-		EnergyKWh Num    `json:"energy_kwh"`
-		Money     Num    `json:"money"`
-		Hours     Num    `json:"duration_h"`
-		Unit      string `json:"unit_name"`
+		EnergyKWh      Num    `json:"energy_kwh"`
+		Money          Num    `json:"money"`
+		Hours          Num    `json:"duration_h"`
+		AirHandlerName string `json:"unit_name"`
 	}
 	now := req.asOf
 	list := make([]out, 0, len(alerts))
 	for _, a := range alerts {
-		u, _ := h.opt.Site.Unit(a.AHU)
-		list = append(list, out{Alert: a, EnergyKWh: Num(a.EnergyKWh), Money: Num(a.Money), Hours: Num(a.Duration(now).Hours()), Unit: u.Name})
+		u, _ := h.opt.Site.AirHandler(a.AHU)
+		list = append(list, out{Alert: a, EnergyKWh: Num(a.EnergyKWh), Money: Num(a.Money), Hours: Num(a.Duration(now).Hours()), AirHandlerName: u.Name})
 	}
 	writeJSON(w, http.StatusOK, map[string]any{"site_id": h.opt.Site.ID, "period": req.Period, "currency": h.opt.Site.Currency, "alerts": list})
 	return nil
@@ -454,9 +454,9 @@ func (h *Handler) overviewPage(w http.ResponseWriter, r *http.Request) error {
 	if err != nil {
 		return err
 	}
-	sparks := make(map[string]template.HTML, len(ov.Units))
-	bars := make(map[string]template.HTML, len(ov.Units))
-	for _, u := range ov.Units {
+	sparks := make(map[string]template.HTML, len(ov.AirHandlers))
+	bars := make(map[string]template.HTML, len(ov.AirHandlers))
+	for _, u := range ov.AirHandlers {
 		sparks[u.ID] = sparkSVG(u.Daily)
 		bars[u.ID] = shareBar(u.Share)
 	}
@@ -464,12 +464,12 @@ func (h *Handler) overviewPage(w http.ResponseWriter, r *http.Request) error {
 	return nil
 }
 
-func (h *Handler) unitPage(w http.ResponseWriter, r *http.Request) error {
-	u, req, err := h.unitRequest(r)
+func (h *Handler) airHandlerPage(w http.ResponseWriter, r *http.Request) error {
+	u, req, err := h.airHandlerRequest(r)
 	if err != nil {
 		return err
 	}
-	uh, err := BuildUnitHours(r.Context(), u, h.opt.Results, req.Period, req.display)
+	uh, err := BuildAirHandlerHours(r.Context(), u, h.opt.Results, req.Period, req.display)
 	if err != nil {
 		return err
 	}
@@ -478,7 +478,7 @@ func (h *Handler) unitPage(w http.ResponseWriter, r *http.Request) error {
 		return err
 	}
 	slices.Reverse(alerts) // newest first
-	charts, err := unitCharts(uh, req.display, h.opt.Site.Zone)
+	charts, err := airHandlerCharts(uh, req.display, h.opt.Site.Zone)
 	if err != nil {
 		return err
 	}
@@ -488,7 +488,7 @@ func (h *Handler) unitPage(w http.ResponseWriter, r *http.Request) error {
 }
 
 func (h *Handler) chartPage(w http.ResponseWriter, r *http.Request) error {
-	u, req, err := h.unitRequest(r)
+	u, req, err := h.airHandlerRequest(r)
 	if err != nil {
 		return err
 	}
@@ -499,7 +499,7 @@ func (h *Handler) chartPage(w http.ResponseWriter, r *http.Request) error {
 	if lines != "enthalpy" && lines != "wetbulb" {
 		return errBadRequest{fmt.Sprintf("lines %q: use enthalpy or wetbulb", lines)}
 	}
-	st, err := UnitStates(r.Context(), u, h.opt.Results, req.Period, h.pressure(u))
+	st, err := AirHandlerStates(r.Context(), u, h.opt.Results, req.Period, h.pressure(u))
 	if err != nil {
 		return err
 	}
@@ -549,16 +549,16 @@ func pressureText(pa float64, d Display) string {
 // AlertRow is an alert as a table shows it.
 type AlertRow struct {
 	Alert
-	UnitName string
-	Duration string
-	Ongoing  bool
+	AirHandlerName string
+	Duration       string
+	Ongoing        bool
 }
 
 func alertRows(alerts []Alert, s *Site, now time.Time) []AlertRow {
 	out := make([]AlertRow, 0, len(alerts))
 	for _, a := range alerts {
-		u, _ := s.Unit(a.AHU)
-		out = append(out, AlertRow{Alert: a, UnitName: u.Name, Duration: fmtDuration(a.Duration(now)), Ongoing: a.End.IsZero()})
+		u, _ := s.AirHandler(a.AHU)
+		out = append(out, AlertRow{Alert: a, AirHandlerName: u.Name, Duration: fmtDuration(a.Duration(now)), Ongoing: a.End.IsZero()})
 	}
 	return out
 }
@@ -575,7 +575,7 @@ var funcs = template.FuncMap{
 	"temp":       func(d Display, c float64) string { return fmtFixed(d.Temp(c), 1) },
 	"water":      func(d Display, kg Num) string { return fmtQty(d.Water(float64(kg))) },
 	"sub":        func(a, b Num) Num { return a - b },
-	"unitPath":   unitPath,
+	"unitPath":   airHandlerPath,
 	"chartPath":  func(id string) string { return "/units/" + url.PathEscape(id) + "/chart" },
 }
 

@@ -108,19 +108,19 @@ func (p *Portfolio) api(fn func(http.ResponseWriter, *http.Request) error) http.
 
 // SiteTotal is one site on the portfolio overview.
 type SiteTotal struct {
-	ID         string `json:"id"`
-	Name       string `json:"name"`
-	Currency   string `json:"currency"`
-	Period     Period `json:"period"`
-	Total      Totals `json:"total"`
-	Units      int    `json:"air_handlers"`
-	OpenAlerts int    `json:"open_alerts"`
-	Path       string `json:"path"` // the site's pages
+	ID          string `json:"id"`
+	Name        string `json:"name"`
+	Currency    string `json:"currency"`
+	Period      Period `json:"period"`
+	Total       Totals `json:"total"`
+	AirHandlers int    `json:"air_handlers"`
+	OpenAlerts  int    `json:"open_alerts"`
+	Path        string `json:"path"` // the site's pages
 }
 
-// PortfolioUnit is one air handler on the portfolio overview.
-type PortfolioUnit struct {
-	UnitRow
+// PortfolioAirHandler is one air handler on the portfolio overview.
+type PortfolioAirHandler struct {
+	AirHandlerRow
 	SiteID   string `json:"site_id"`
 	SiteName string `json:"site_name"`
 	Currency string `json:"currency"`
@@ -129,8 +129,8 @@ type PortfolioUnit struct {
 
 // PortfolioOverview is the overview of every site.
 type PortfolioOverview struct {
-	Sites []SiteTotal     `json:"sites"`
-	Units []PortfolioUnit `json:"units"` // every air handler, most avoidable cost first; rank across all
+	Sites       []SiteTotal           `json:"sites"`
+	AirHandlers []PortfolioAirHandler `json:"units"` // every air handler, most avoidable cost first; rank across all
 }
 
 // BuildPortfolio sums each site's overview for the request's period (in
@@ -152,11 +152,11 @@ func (p *Portfolio) BuildPortfolio(r *http.Request) (*PortfolioOverview, request
 			return nil, req, fmt.Errorf("site %s: %w", h.opt.Site.ID, err)
 		}
 		st := SiteTotal{ID: h.opt.Site.ID, Name: h.opt.Site.Name, Currency: ov.Currency, Period: ov.Period, Total: ov.Total,
-			Units: len(ov.Units), Path: h.opt.Base + "/"}
-		for _, u := range ov.Units {
+			AirHandlers: len(ov.AirHandlers), Path: h.opt.Base + "/"}
+		for _, u := range ov.AirHandlers {
 			st.OpenAlerts += u.OpenAlerts
-			out.Units = append(out.Units, PortfolioUnit{UnitRow: u, SiteID: st.ID, SiteName: st.Name, Currency: ov.Currency,
-				Path: h.opt.Base + unitPath(u.ID)})
+			out.AirHandlers = append(out.AirHandlers, PortfolioAirHandler{AirHandlerRow: u, SiteID: st.ID, SiteName: st.Name, Currency: ov.Currency,
+				Path: h.opt.Base + airHandlerPath(u.ID)})
 		}
 		out.Sites = append(out.Sites, st)
 	}
@@ -166,11 +166,11 @@ func (p *Portfolio) BuildPortfolio(r *http.Request) (*PortfolioOverview, request
 		}
 		return -1 // no figure: last
 	}
-	slices.SortStableFunc(out.Units, func(a, b PortfolioUnit) int {
+	slices.SortStableFunc(out.AirHandlers, func(a, b PortfolioAirHandler) int {
 		return cmp.Compare(key(b.Totals.CostAvoidable), key(a.Totals.CostAvoidable))
 	})
-	for i := range out.Units {
-		out.Units[i].Rank = i + 1
+	for i := range out.AirHandlers {
+		out.AirHandlers[i].Rank = i + 1
 	}
 	return &out, first, nil
 }
@@ -232,7 +232,7 @@ func (p *Portfolio) alerts(r *http.Request) ([]PortfolioAlert, request, error) {
 		}
 		for _, a := range alertRows(alerts, h.opt.Site, req.asOf) {
 			out = append(out, PortfolioAlert{AlertRow: a, SiteID: h.opt.Site.ID, SiteName: h.opt.Site.Name,
-				Currency: h.opt.Site.Currency, Path: h.opt.Base + unitPath(a.AHU)})
+				Currency: h.opt.Site.Currency, Path: h.opt.Base + airHandlerPath(a.AHU)})
 		}
 	}
 	if !found {
@@ -263,15 +263,15 @@ func (p *Portfolio) apiAlerts(w http.ResponseWriter, r *http.Request) error {
 	}
 	type out struct {
 		Alert
-		SiteID    string `json:"site_id"`
-		EnergyKWh Num    `json:"energy_kwh"`
-		Money     Num    `json:"money"`
-		Currency  string `json:"currency"`
-		Unit      string `json:"unit_name"`
+		SiteID         string `json:"site_id"`
+		EnergyKWh      Num    `json:"energy_kwh"`
+		Money          Num    `json:"money"`
+		Currency       string `json:"currency"`
+		AirHandlerName string `json:"unit_name"`
 	}
 	list := make([]out, 0, len(alerts))
 	for _, a := range alerts {
-		list = append(list, out{Alert: a.Alert, SiteID: a.SiteID, EnergyKWh: Num(a.EnergyKWh), Money: Num(a.Money), Currency: a.Currency, Unit: a.UnitName})
+		list = append(list, out{Alert: a.Alert, SiteID: a.SiteID, EnergyKWh: Num(a.EnergyKWh), Money: Num(a.Money), Currency: a.Currency, AirHandlerName: a.AirHandlerName})
 	}
 	writeJSON(w, http.StatusOK, map[string]any{"alerts": list})
 	return nil
@@ -289,5 +289,5 @@ func (p *Portfolio) render(w http.ResponseWriter, name string, data any) {
 	_, _ = w.Write(buf.Bytes())
 }
 
-// unitPath is the path of a unit's page within its site's pages.
-func unitPath(id string) string { return "/units/" + url.PathEscape(id) }
+// airHandlerPath is the path of a unit's page within its site's pages.
+func airHandlerPath(id string) string { return "/units/" + url.PathEscape(id) }

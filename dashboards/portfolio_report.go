@@ -22,15 +22,15 @@ type PortfolioReportSite struct {
 
 type prSite struct {
 	ID, Name, Href, Period, Currency   string
-	Units                              int
+	AirHandlers                        int
 	CostAvoidable, AnnualCostAvoidable string
 	RawCostAvoidable                   string
 }
 
 type prFinding struct {
-	Rank                                  int
-	SiteID, Site, Href, Unit, UnitID      string
-	CostAvoidable, Currency, Finding, Raw string
+	Rank                                         int
+	SiteID, Site, Href, AirHandler, AirHandlerID string
+	CostAvoidable, Currency, Finding, Raw        string
 }
 
 type prView struct {
@@ -62,11 +62,11 @@ func WritePortfolioReport(w io.Writer, sites []PortfolioReportSite, generated ti
 		r := s.Report
 		t := r.Overview.Total
 		v.Sites = append(v.Sites, prSite{ID: r.Site.ID, Name: r.Site.Name, Href: s.Href, Period: r.Period.Label, Currency: r.Site.Currency,
-			Units: len(r.Units), CostAvoidable: fmtMoney(float64(t.CostAvoidable)), AnnualCostAvoidable: fmtMoney(r.Annual.CostAvoidable),
+			AirHandlers: len(r.AirHandlers), CostAvoidable: fmtMoney(float64(t.CostAvoidable)), AnnualCostAvoidable: fmtMoney(r.Annual.CostAvoidable),
 			RawCostAvoidable: raw(float64(t.CostAvoidable))})
-		for _, ur := range r.Units {
+		for _, ur := range r.AirHandlers {
 			c := float64(ur.Row.Totals.CostAvoidable)
-			all = append(all, finding{f: prFinding{SiteID: r.Site.ID, Site: r.Site.Name, Href: s.Href, Unit: ur.Unit.Name, UnitID: ur.Unit.ID,
+			all = append(all, finding{f: prFinding{SiteID: r.Site.ID, Site: r.Site.Name, Href: s.Href, AirHandler: ur.AirHandler.Name, AirHandlerID: ur.AirHandler.ID,
 				CostAvoidable: fmtMoney(c), Currency: r.Site.Currency, Finding: ur.Finding, Raw: raw(c)}, cost: c})
 		}
 	}

@@ -67,31 +67,31 @@ func (e *Energy) add(o Energy) {
 // Measure is a candidate measure with the savings estimated from the
 // period's hours.
 type Measure struct {
-	Key    string
-	Title  string
-	Short  string  // column heading
-	Action string  // what would be done
-	Basis  string  // how the figure is computed from the hours
-	Energy         // over the period
-	Annual float64 // Cost × the annualising factor
-	ByUnit map[string]Energy
-	Hours  float64 // hours that contribute (for the reheat enable logic: time without humidity need)
+	Key          string
+	Title        string
+	Short        string  // column heading
+	Action       string  // what would be done
+	Basis        string  // how the figure is computed from the hours
+	Energy               // over the period
+	Annual       float64 // Cost × the annualising factor
+	ByAirHandler map[string]Energy
+	Hours        float64 // hours that contribute (for the reheat enable logic: time without humidity need)
 }
 
-// UnitReport is one air handler's part of the report.
-type UnitReport struct {
-	Unit    Unit
-	Row     UnitRow // its overview row: rank and totals
-	Hours   *UnitHours
-	Charts  UnitCharts
-	Psy     template.HTML
-	States  int             // hours on the psychrometric chart
-	Alerts  []Alert         // overlapping the period, most money first
-	Flags   map[string]int  // hours per data-quality flag
-	CostU95 float64         // 95 % half-width of the avoidable cost's reheat part
-	Finding string          // the summary sentence
-	clock   [24]float64     // time without humidity need per local hour of day
-	days    map[string]bool // local days with such time
+// AirHandlerReport is one air handler's part of the report.
+type AirHandlerReport struct {
+	AirHandler AirHandler
+	Row        AirHandlerRow // its overview row: rank and totals
+	Hours      *AirHandlerHours
+	Charts     AirHandlerCharts
+	Psy        template.HTML
+	States     int             // hours on the psychrometric chart
+	Alerts     []Alert         // overlapping the period, most money first
+	Flags      map[string]int  // hours per data-quality flag
+	CostU95    float64         // 95 % half-width of the avoidable cost's reheat part
+	Finding    string          // the summary sentence
+	clock      [24]float64     // time without humidity need per local hour of day
+	days       map[string]bool // local days with such time
 }
 
 // Annual is the annualised estimate: the period's figures × Factor.
@@ -105,15 +105,15 @@ type Annual struct {
 
 // Report is everything the report states, computed from one period's hours.
 type Report struct {
-	Site      *Site
-	Period    Period
-	Display   Display
-	Generated time.Time
-	Overview  *Overview
-	Units     []UnitReport // in rank order, most avoidable cost first
-	Annual    Annual
-	Measures  []Measure
-	opt       ReportOptions
+	Site        *Site
+	Period      Period
+	Display     Display
+	Generated   time.Time
+	Overview    *Overview
+	AirHandlers []AirHandlerReport // in rank order, most avoidable cost first
+	Annual      Annual
+	Measures    []Measure
+	opt         ReportOptions
 }
 
 // WriteReport writes the self-contained HTML report of site over p.
@@ -153,34 +153,34 @@ func BuildReport(ctx context.Context, site *Site, res Results, p Period, opt Rep
 	}
 	r := &Report{Site: site, Period: p, Display: opt.Display, Generated: opt.Generated, Overview: ov, opt: opt}
 	index := map[string]int{}
-	for i, row := range ov.Units {
-		u, _ := site.Unit(row.ID)
-		r.Units = append(r.Units, UnitReport{Unit: u, Row: row, Flags: map[string]int{}, days: map[string]bool{}})
+	for i, row := range ov.AirHandlers {
+		u, _ := site.AirHandler(row.ID)
+		r.AirHandlers = append(r.AirHandlers, AirHandlerReport{AirHandler: u, Row: row, Flags: map[string]int{}, days: map[string]bool{}})
 		index[row.ID] = i
 	}
 	r.Measures = []Measure{
-		{Key: MeasureTargetControl, ByUnit: map[string]Energy{}},
-		{Key: MeasureCoilReset, ByUnit: map[string]Energy{}},
-		{Key: MeasureReheatEnable, ByUnit: map[string]Energy{}},
-		{Key: MeasureRecoveredHeat, ByUnit: map[string]Energy{}},
+		{Key: MeasureTargetControl, ByAirHandler: map[string]Energy{}},
+		{Key: MeasureCoilReset, ByAirHandler: map[string]Energy{}},
+		{Key: MeasureReheatEnable, ByAirHandler: map[string]Energy{}},
+		{Key: MeasureRecoveredHeat, ByAirHandler: map[string]Energy{}},
 	}
 	err = res.Hours(ctx, "", p.From, p.To, func(rec *metrics.Record) error {
 		i, ok := index[rec.AHU]
 		if !ok {
 			return nil
 		}
-		r.addHour(&r.Units[i], rec)
+		r.addHour(&r.AirHandlers[i], rec)
 		return nil
 	})
 	if err != nil {
 		return nil, err
 	}
-	for i := range r.Units {
-		if err := r.unitDetail(ctx, res, &r.Units[i]); err != nil {
+	for i := range r.AirHandlers {
+		if err := r.airHandlerDetail(ctx, res, &r.AirHandlers[i]); err != nil {
 			return nil, err
 		}
 		if opt.Progress != nil {
-			opt.Progress(i+1, len(r.Units))
+			opt.Progress(i+1, len(r.AirHandlers))
 		}
 	}
 	r.annualise()
@@ -200,7 +200,7 @@ func clamp01(v float64) float64 { return math.Max(0, math.Min(1, nz(v))) }
 
 // reheatPrice returns the price and CO2 factor of one kWh of purchased
 // reheat input of unit u, and whether it is fuel.
-func reheatPrice(u Unit) (price, co2 float64, fuel bool) {
+func reheatPrice(u AirHandler) (price, co2 float64, fuel bool) {
 	if u.Spec == nil {
 		return 0, 0, false
 	}
@@ -215,7 +215,7 @@ func reheatPrice(u Unit) (price, co2 float64, fuel bool) {
 }
 
 // priced turns electricity and reheat input into an Energy for unit u.
-func priced(u Unit, elecKWh, reheatInKWh float64) Energy {
+func priced(u AirHandler, elecKWh, reheatInKWh float64) Energy {
 	var e Energy
 	price, co2, fuel := reheatPrice(u)
 	if fuel {
@@ -242,8 +242,8 @@ func priced(u Unit, elecKWh, reheatInKWh float64) Energy {
 // proportion of its avoidable and needed reheat; its simultaneous heating
 // and cooling in the proportion of the time the humidity target did not
 // need (shc_unneeded_h / shc_h).
-func (r *Report) addHour(ur *UnitReport, rec *metrics.Record) {
-	u := ur.Unit
+func (r *Report) addHour(ur *AirHandlerReport, rec *metrics.Record) {
+	u := ur.AirHandler
 	for _, f := range rec.Flags {
 		ur.Flags[f]++
 	}
@@ -303,32 +303,32 @@ func (r *Report) addHour(ur *UnitReport, rec *metrics.Record) {
 func (r *Report) measureAdd(i int, id string, e Energy) {
 	m := &r.Measures[i]
 	m.add(e)
-	x := m.ByUnit[id]
+	x := m.ByAirHandler[id]
 	x.add(e)
-	m.ByUnit[id] = x
+	m.ByAirHandler[id] = x
 }
 
-// unitDetail reads one unit's hours as columns, its states and alerts,
+// airHandlerDetail reads one unit's hours as columns, its states and alerts,
 // and draws its charts.
-func (r *Report) unitDetail(ctx context.Context, res Results, ur *UnitReport) error {
-	uh, err := BuildUnitHours(ctx, ur.Unit, res, r.Period, r.Display)
+func (r *Report) airHandlerDetail(ctx context.Context, res Results, ur *AirHandlerReport) error {
+	uh, err := BuildAirHandlerHours(ctx, ur.AirHandler, res, r.Period, r.Display)
 	if err != nil {
 		return err
 	}
 	ur.Hours = uh
-	if ur.Charts, err = unitCharts(uh, r.Display, r.Site.Zone); err != nil {
-		return fmt.Errorf("report: charts of %s: %w", ur.Unit.ID, err)
+	if ur.Charts, err = airHandlerCharts(uh, r.Display, r.Site.Zone); err != nil {
+		return fmt.Errorf("report: charts of %s: %w", ur.AirHandler.ID, err)
 	}
-	pa := r.pressure(ur.Unit)
-	st, err := UnitStates(ctx, ur.Unit, res, r.Period, pa)
+	pa := r.pressure(ur.AirHandler)
+	st, err := AirHandlerStates(ctx, ur.AirHandler, res, r.Period, pa)
 	if err != nil {
 		return err
 	}
 	ur.States = len(st)
-	if ur.Psy, err = psyChartSVG(ur.Unit, st, pa, r.Display, "enthalpy"); err != nil {
-		return fmt.Errorf("report: psychrometric chart of %s: %w", ur.Unit.ID, err)
+	if ur.Psy, err = psyChartSVG(ur.AirHandler, st, pa, r.Display, "enthalpy"); err != nil {
+		return fmt.Errorf("report: psychrometric chart of %s: %w", ur.AirHandler.ID, err)
 	}
-	alerts, err := res.Alerts(ctx, AlertQuery{AHU: ur.Unit.ID, From: r.Period.From, To: r.Period.To})
+	alerts, err := res.Alerts(ctx, AlertQuery{AHU: ur.AirHandler.ID, From: r.Period.From, To: r.Period.To})
 	if err != nil {
 		return err
 	}
@@ -338,7 +338,7 @@ func (r *Report) unitDetail(ctx context.Context, res Results, ur *UnitReport) er
 	return nil
 }
 
-func (r *Report) pressure(u Unit) float64 {
+func (r *Report) pressure(u AirHandler) float64 {
 	if u.Spec != nil && u.Spec.PressurePa > 0 {
 		return u.Spec.PressurePa
 	}
@@ -366,7 +366,7 @@ func (r *Report) annualise() {
 		a.Factor = 365 / a.Days
 	}
 	var u95 float64
-	for _, ur := range r.Units {
+	for _, ur := range r.AirHandlers {
 		u95 += ur.CostU95
 	}
 	a.Cost = nz(float64(t.Cost)) * a.Factor
@@ -412,7 +412,7 @@ func (r *Report) describeMeasures() {
 func (r *Report) clockText() string {
 	var clock [24]float64
 	days := map[string]bool{}
-	for _, ur := range r.Units {
+	for _, ur := range r.AirHandlers {
 		for h, v := range ur.clock {
 			clock[h] += v
 		}
@@ -475,11 +475,11 @@ func hourRanges(v [24]float64) string {
 }
 
 // finding is the plain-language sentence about one air handler.
-func (r *Report) finding(ur *UnitReport) string {
+func (r *Report) finding(ur *AirHandlerReport) string {
 	t := ur.Row.Totals
-	name := ur.Unit.Name
-	if name != ur.Unit.ID {
-		name += " (" + ur.Unit.ID + ")"
+	name := ur.AirHandler.Name
+	if name != ur.AirHandler.ID {
+		name += " (" + ur.AirHandler.ID + ")"
 	}
 	cur := r.Site.Currency
 	if t.Hours == 0 {
@@ -487,7 +487,7 @@ func (r *Report) finding(ur *UnitReport) string {
 	}
 	reheat, avoid := nz(float64(t.ReheatKWh)), nz(float64(t.ReheatAvoid))
 	cool, cost := nz(float64(t.CoolingAvoid)), nz(float64(t.CostAvoidable))
-	recovered := ur.Unit.Spec != nil && ur.Unit.Spec.Reheat == metrics.ReheatRecovered
+	recovered := ur.AirHandler.Spec != nil && ur.AirHandler.Spec.Reheat == metrics.ReheatRecovered
 	var b strings.Builder
 	switch {
 	case reheat > 0 && avoid > 0:

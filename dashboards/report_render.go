@@ -69,10 +69,10 @@ type rvMeasure struct {
 	Key, Title, Short, Action, Basis       string
 	Elec, Fuel, Cost, CostRaw, Annual, CO2 string
 	AnnualRaw                              string
-	Units                                  []rvMeasureUnit
+	AirHandlers                            []rvMeasureAirHandler
 }
 
-type rvMeasureUnit struct{ ID, Name, Cost, Raw string }
+type rvMeasureAirHandler struct{ ID, Name, Cost, Raw string }
 
 type rvAlert struct {
 	Kind, Severity, State, Start, Duration, Energy, Money, Reason string
@@ -85,12 +85,12 @@ type rvAlertKind struct {
 	Money         string
 }
 
-type rvUnit struct {
+type rvAirHandler struct {
 	Anchor, ID, Name, Rank  string
 	Kinds                   string // cooling, reheat, target in words
 	Finding                 string
 	Totals, TotalsR         []rvRow // two columns
-	Charts                  UnitCharts
+	Charts                  AirHandlerCharts
 	Psy                     template.HTML
 	States                  int
 	PsyNote                 string
@@ -110,7 +110,7 @@ type rvUnc struct {
 	Water, Coil, Reheat, Avoid, AvoidRel, Cu string
 }
 
-type rvAssumUnit struct {
+type rvAssumAirHandler struct {
 	ID, Name                                       string
 	Cooling, Reheat, Airflow, Fan, Leaving, Target string
 }
@@ -120,18 +120,18 @@ type reportView struct {
 	Title, Site, Period, From, To, Generated string
 	Zone, Units, UnitsLong, Source, Currency string
 	Paper                                    string
-	NUnits                                   int
+	NAirHandlers                             int
 	Cards                                    []rvCard
 	Findings                                 []rvFinding
 	Ranked                                   []rvRank
 	Days, Factor, HoursShare                 string
 	Annual                                   []rvRow
 	Measures                                 []rvMeasure
-	Units2                                   []rvUnit
+	AirHandlers                              []rvAirHandler
 	Prices                                   []rvRow
 	Sensors                                  []rvRow
 	General                                  []Assumption
-	AssumUnits                               []rvAssumUnit
+	AssumAirHandlers                         []rvAssumAirHandler
 	Coverage                                 []rvCoverage
 	PeriodHours                              string
 	Unc                                      []rvUnc
@@ -178,21 +178,21 @@ func (r *Report) view() (*reportView, error) {
 	t := r.Overview.Total
 	cur := r.Site.Currency
 	v := &reportView{
-		CSS:       template.CSS(string(css) + "\n@page { size: " + size + "; }\n"),
-		Title:     "Dehumidification and reheat energy report",
-		Site:      r.Site.Name,
-		Period:    r.Period.Label,
-		From:      r.Period.DateFrom,
-		To:        r.Period.DateTo,
-		Generated: r.Generated.In(r.Site.Zone).Format("2 January 2006, 15:04 MST"),
-		Zone:      r.Site.Zone.String(),
-		Units:     strings.ToUpper(d.Name()),
-		UnitsLong: map[bool]string{false: "SI: °C, K, kg; energy in kWh", true: "IP: °F, lb; energy in kWh"}[d.IP],
-		Source:    r.opt.Source,
-		Currency:  cur,
-		Paper:     paper,
-		NUnits:    len(r.Units),
-		TempUnit:  d.TempUnit(), WaterUnit: d.WaterUnit(), DeltaUnit: d.DeltaUnit(),
+		CSS:          template.CSS(string(css) + "\n@page { size: " + size + "; }\n"),
+		Title:        "Dehumidification and reheat energy report",
+		Site:         r.Site.Name,
+		Period:       r.Period.Label,
+		From:         r.Period.DateFrom,
+		To:           r.Period.DateTo,
+		Generated:    r.Generated.In(r.Site.Zone).Format("2 January 2006, 15:04 MST"),
+		Zone:         r.Site.Zone.String(),
+		Units:        strings.ToUpper(d.Name()),
+		UnitsLong:    map[bool]string{false: "SI: °C, K, kg; energy in kWh", true: "IP: °F, lb; energy in kWh"}[d.IP],
+		Source:       r.opt.Source,
+		Currency:     cur,
+		Paper:        paper,
+		NAirHandlers: len(r.AirHandlers),
+		TempUnit:     d.TempUnit(), WaterUnit: d.WaterUnit(), DeltaUnit: d.DeltaUnit(),
 	}
 	money := func(x float64) string { return fmtMoney(x) + " " + cur }
 	v.Cards = []rvCard{
@@ -208,26 +208,26 @@ func (r *Report) view() (*reportView, error) {
 	if v.Site == "" {
 		v.Site = "(site name not configured)"
 	}
-	for i, ur := range r.Units {
+	for i, ur := range r.AirHandlers {
 		row := ur.Row
 		if i < r.opt.TopFindings && nz(float64(row.Totals.CostAvoidable)) > 0 {
 			v.Findings = append(v.Findings, rvFinding{Rank: row.Rank, ID: row.ID, Name: row.Name, Sentence: ur.Finding, Cost: money(float64(row.Totals.CostAvoidable))})
 		}
 		rt := row.Totals
-		v.Ranked = append(v.Ranked, rvRank{Rank: row.Rank, ID: row.ID, Name: row.Name, Reheat: reheatWords(ur.Unit),
+		v.Ranked = append(v.Ranked, rvRank{Rank: row.Rank, ID: row.ID, Name: row.Name, Reheat: reheatWords(ur.AirHandler),
 			Cost: fmtMoney(float64(rt.CostAvoidable)), CostRaw: raw(float64(rt.CostAvoidable)),
 			ReheatAvoid: fmtQty(float64(rt.ReheatAvoid)), CoolAvoid: fmtQty(float64(rt.CoolingAvoid)),
 			Reheat2: fmtQty(float64(rt.ReheatKWh)), Share: fmtPct(float64(rt.AvoidableShare)),
 			CO2Avoid: co2Text(float64(rt.CO2AvoidKg)), Annual: fmtFixed(nz(float64(rt.CostAvoidable))*r.Annual.Factor, 0),
 			AnnualRaw: raw(nz(float64(rt.CostAvoidable)) * r.Annual.Factor)})
-		v.Units2 = append(v.Units2, r.unitView(ur))
+		v.AirHandlers = append(v.AirHandlers, r.airHandlerView(ur))
 	}
 
 	a := r.Annual
 	v.Days = strconv.FormatFloat(math.Round(a.Days*100)/100, 'f', -1, 64)
 	v.Factor = fmtFixed(a.Factor, 2)
 	v.WholeDays = midnight(r.Period.From).Equal(r.Period.From) && midnight(r.Period.To).Equal(r.Period.To)
-	if n := float64(len(r.Units)) * r.Period.Hours(); n > 0 {
+	if n := float64(len(r.AirHandlers)) * r.Period.Hours(); n > 0 {
 		v.HoursShare = fmtPct(float64(t.Hours) / n)
 		v.PartCovered = v.HoursShare != "100 %"
 	}
@@ -245,18 +245,18 @@ func (r *Report) view() (*reportView, error) {
 		if m.FuelKWh > 0 {
 			v.HasFuel = true
 		}
-		for _, ur := range r.Units {
-			if e, ok := m.ByUnit[ur.Unit.ID]; ok {
-				mv.Units = append(mv.Units, rvMeasureUnit{ID: ur.Unit.ID, Name: ur.Unit.Name, Cost: fmtMoney(e.Cost), Raw: raw(e.Cost)})
+		for _, ur := range r.AirHandlers {
+			if e, ok := m.ByAirHandler[ur.AirHandler.ID]; ok {
+				mv.AirHandlers = append(mv.AirHandlers, rvMeasureAirHandler{ID: ur.AirHandler.ID, Name: ur.AirHandler.Name, Cost: fmtMoney(e.Cost), Raw: raw(e.Cost)})
 			} else {
-				mv.Units = append(mv.Units, rvMeasureUnit{ID: ur.Unit.ID, Name: ur.Unit.Name, Cost: "n/a"})
+				mv.AirHandlers = append(mv.AirHandlers, rvMeasureAirHandler{ID: ur.AirHandler.ID, Name: ur.AirHandler.Name, Cost: "n/a"})
 			}
 		}
 		v.Measures = append(v.Measures, mv)
 	}
 	r.assumptionsView(v)
 	v.PeriodHours = fmtFixed(r.Period.Hours(), 0)
-	for _, ur := range r.Units {
+	for _, ur := range r.AirHandlers {
 		rt := ur.Row.Totals
 		var flags []string
 		keys := make([]string, 0, len(ur.Flags))
@@ -276,14 +276,14 @@ func (r *Report) view() (*reportView, error) {
 		if fl == "" {
 			fl = "none"
 		}
-		v.Coverage = append(v.Coverage, rvCoverage{ID: ur.Unit.ID, Name: ur.Unit.Name, Hours: strconv.Itoa(rt.Hours),
+		v.Coverage = append(v.Coverage, rvCoverage{ID: ur.AirHandler.ID, Name: ur.AirHandler.Name, Hours: strconv.Itoa(rt.Hours),
 			Expected: fmtPct(float64(rt.Hours) / r.Period.Hours()), Coverage: fmtPct(float64(rt.Coverage)),
 			Flagged: strconv.Itoa(rt.FlaggedHours), Flags: fl})
 		rel := "–"
 		if av := nz(float64(rt.ReheatAvoid)); av > 0 {
 			rel = fmtPct(nz(float64(rt.ReheatAvoidU95)) / av)
 		}
-		v.Unc = append(v.Unc, rvUnc{ID: ur.Unit.ID, Name: ur.Unit.Name,
+		v.Unc = append(v.Unc, rvUnc{ID: ur.AirHandler.ID, Name: ur.AirHandler.Name,
 			Water: qtyPM(d.Water(float64(rt.WaterKg)), d.Water(float64(rt.WaterKgU95))),
 			Coil:  qtyPM(float64(rt.CoilKWh), float64(rt.CoilKWhU95)), Reheat: qtyPM(float64(rt.ReheatKWh), float64(rt.ReheatKWhU95)),
 			Avoid: qtyPM(float64(rt.ReheatAvoid), float64(rt.ReheatAvoidU95)), AvoidRel: rel, Cu: fmtMoney(ur.CostU95)})
@@ -301,7 +301,7 @@ func co2Text(kg float64) string {
 	return fmtQty(kg) + " kg"
 }
 
-func reheatWords(u Unit) string {
+func reheatWords(u AirHandler) string {
 	if u.Spec == nil {
 		return ""
 	}
@@ -316,21 +316,21 @@ func reheatWords(u Unit) string {
 	return "no reheat"
 }
 
-func (r *Report) unitView(ur UnitReport) rvUnit {
+func (r *Report) airHandlerView(ur AirHandlerReport) rvAirHandler {
 	d := r.Display
 	t := ur.Row.Totals
 	cur := r.Site.Currency
-	uv := rvUnit{Anchor: "unit-" + strconv.Itoa(ur.Row.Rank), ID: ur.Unit.ID, Name: ur.Unit.Name, Rank: strconv.Itoa(ur.Row.Rank),
+	uv := rvAirHandler{Anchor: "unit-" + strconv.Itoa(ur.Row.Rank), ID: ur.AirHandler.ID, Name: ur.AirHandler.Name, Rank: strconv.Itoa(ur.Row.Rank),
 		Finding: ur.Finding, Charts: ur.Charts, Psy: ur.Psy, States: ur.States, NoHours: t.Hours == 0}
-	if sp := ur.Unit.Spec; sp != nil {
-		uv.Kinds = coolingWords(sp) + "; " + reheatWords(ur.Unit) + "; " + r.targetWords(sp)
+	if sp := ur.AirHandler.Spec; sp != nil {
+		uv.Kinds = coolingWords(sp) + "; " + reheatWords(ur.AirHandler) + "; " + r.targetWords(sp)
 	}
 	row := func(label, value, note, field string, x float64) rvRow {
 		return rvRow{Label: label, Value: value, Note: note, Field: field, Raw: raw(x)}
 	}
 	inputNote := "purchased"
-	if ur.Unit.Spec != nil {
-		switch ur.Unit.Spec.Reheat {
+	if ur.AirHandler.Spec != nil {
+		switch ur.AirHandler.Spec.Reheat {
 		case metrics.ReheatHotWater:
 			inputNote = "boiler fuel"
 		case metrics.ReheatElectric:
@@ -353,7 +353,7 @@ func (r *Report) unitView(ur UnitReport) rvUnit {
 		row("CO2", co2Text(float64(t.CO2Kg)), "avoidable "+co2Text(float64(t.CO2AvoidKg)), "co2_avoidable_kg", float64(t.CO2AvoidKg)),
 	}
 	uv.Totals, uv.TotalsR = uv.Totals[:6], uv.Totals[6:]
-	uv.PsyNote = fmt.Sprintf("%d hours drawn, each from the air entering the coil to the coil leaving state to the supply, at %s kPa; the humidity target is marked. Hour means: the spread within an hour is not shown.", ur.States, fmtFixed(r.pressure(ur.Unit)/1000, 2))
+	uv.PsyNote = fmt.Sprintf("%d hours drawn, each from the air entering the coil to the coil leaving state to the supply, at %s kPa; the humidity target is marked. Hour means: the spread within an hour is not shown.", ur.States, fmtFixed(r.pressure(ur.AirHandler)/1000, 2))
 	kinds := map[string]*rvAlertKind{}
 	var order []string
 	hours := map[string]float64{}
@@ -410,7 +410,7 @@ func (r *Report) inPeriod(a Alert) time.Duration {
 	return end.Sub(start)
 }
 
-func coolingWords(sp *metrics.Unit) string {
+func coolingWords(sp *metrics.AirHandler) string {
 	switch sp.Cooling {
 	case metrics.CoolingDX:
 		return "direct-expansion cooling"
@@ -420,7 +420,7 @@ func coolingWords(sp *metrics.Unit) string {
 	return "cooling"
 }
 
-func (r *Report) targetWords(sp *metrics.Unit) string {
+func (r *Report) targetWords(sp *metrics.AirHandler) string {
 	d := r.Display
 	t := sp.Target
 	switch t.Kind {
@@ -444,14 +444,14 @@ func (r *Report) targetWords(sp *metrics.Unit) string {
 func (r *Report) assumptionsView(v *reportView) {
 	d := r.Display
 	cur := r.Site.Currency
-	var spec *metrics.Unit
-	for _, u := range r.Site.Units {
+	var spec *metrics.AirHandler
+	for _, u := range r.Site.AirHandlers {
 		if u.Spec != nil {
 			spec = u.Spec
 			break
 		}
 	}
-	v.General = append(v.General, Assumption{"Pressure", fmt.Sprintf("Barometric pressure %s kPa in every moist-air property.", fmtFixed(r.pressure(Unit{})/1000, 2))})
+	v.General = append(v.General, Assumption{"Pressure", fmt.Sprintf("Barometric pressure %s kPa in every moist-air property.", fmtFixed(r.pressure(AirHandler{})/1000, 2))})
 	v.General = append(v.General, Assumption{"Time", "Hours are stored in UTC and shown in the site's time zone, " + r.Site.Zone.String() + "; a day is a local day."})
 	v.General = append(v.General, r.Site.Basis...)
 	v.General = append(v.General, r.opt.Notes...)
@@ -470,17 +470,17 @@ func (r *Report) assumptionsView(v *reportView) {
 			{Label: "Power meters", Value: "± " + fmtFixed(ac.PowerFrac*100, 1) + " % of reading", Note: "not in the half-widths"},
 		}
 	}
-	for _, ur := range r.Units {
-		sp := ur.Unit.Spec
+	for _, ur := range r.AirHandlers {
+		sp := ur.AirHandler.Spec
 		if sp == nil {
 			continue
 		}
 		has := map[string]bool{}
 		known := r.opt.Trended != nil
-		for _, role := range r.opt.Trended[ur.Unit.ID] {
+		for _, role := range r.opt.Trended[ur.AirHandler.ID] {
 			has[role] = true
 		}
-		au := rvAssumUnit{ID: ur.Unit.ID, Name: ur.Unit.Name}
+		au := rvAssumAirHandler{ID: ur.AirHandler.ID, Name: ur.AirHandler.Name}
 		switch {
 		case has[string(metrics.RoleCoolingPower)]:
 			au.Cooling = "Cooling input metered (cooling_kw)."
@@ -541,6 +541,6 @@ func (r *Report) assumptionsView(v *reportView) {
 			}
 		}
 		au.Target = strings.TrimPrefix(r.targetWords(sp), "target: ")
-		v.AssumUnits = append(v.AssumUnits, au)
+		v.AssumAirHandlers = append(v.AssumAirHandlers, au)
 	}
 }

@@ -34,18 +34,18 @@ var repPrices = metrics.Prices{ElectricityPerKWh: 0.10, FuelPerKWh: 0.05, Electr
 var repT0 = time.Date(2026, 7, 1, 5, 0, 0, 0, time.UTC)
 
 func repSite(names map[string]string) *Site {
-	unit := func(id string, reheat metrics.ReheatKind, eff float64) Unit {
+	unit := func(id string, reheat metrics.ReheatKind, eff float64) AirHandler {
 		name := id
 		if n, ok := names[id]; ok {
 			name = n
 		}
-		return Unit{ID: id, Name: name, Spec: &metrics.Unit{ID: id, Cooling: metrics.CoolingDX, RatedCOP: 3, RatedOutdoorC: 35,
+		return AirHandler{ID: id, Name: name, Spec: &metrics.AirHandler{ID: id, Cooling: metrics.CoolingDX, RatedCOP: 3, RatedOutdoorC: 35,
 			Reheat: reheat, BoilerEff: eff, Basis: metrics.BasisStandard, Fan: metrics.FanNone, LeavingRH: 0.95,
 			Target:   metrics.Target{Kind: metrics.TargetSupplyDewPoint, DewPointC: 11},
 			Prices:   repPrices,
 			Accuracy: metrics.DefaultAccuracy, PressurePa: 101325}}
 	}
-	return &Site{Name: "Harbour Test Annex", Zone: chicago, Currency: "USD", PressurePa: 101325, Units: []Unit{
+	return &Site{Name: "Harbour Test Annex", Zone: chicago, Currency: "USD", PressurePa: 101325, AirHandlers: []AirHandler{
 		unit("AHU-A", metrics.ReheatElectric, 0),
 		unit("AHU-B", metrics.ReheatHotWater, 0.8),
 		unit("AHU-C", metrics.ReheatRecovered, 0),
@@ -181,7 +181,7 @@ func value(t *testing.T, doc *html.Node, id, field string) float64 {
 	return v
 }
 
-func TestReport_RanksUnitsByAvoidableCost(t *testing.T) {
+func TestReport_RanksAirHandlersByAvoidableCost(t *testing.T) {
 	page := renderReport(t, repSite(nil), repResults(), repPeriod(t), ReportOptions{})
 	doc := parseHTML(t, page)
 	// Avoidable cost per unit (hand sums above): AHU-B 2.875, AHU-A
@@ -429,9 +429,9 @@ func TestReport_EscapesConfiguredText(t *testing.T) {
 	assert.Contains(t, text(byID(doc, "site-name")), "Annex <b onmouseover=alert(3)>")
 }
 
-func TestReport_UnitWithoutHours(t *testing.T) {
+func TestReport_AirHandlerWithoutHours(t *testing.T) {
 	site := repSite(nil)
-	site.Units = append(site.Units, Unit{ID: "AHU-D", Name: "AHU-D"})
+	site.AirHandlers = append(site.AirHandlers, AirHandler{ID: "AHU-D", Name: "AHU-D"})
 	page := renderReport(t, site, repResults(), repPeriod(t), ReportOptions{})
 	assert.Contains(t, page, "AHU-D has no results in this period.")
 	assert.Contains(t, page, "No hourly results for this air handler in the period.")
@@ -456,11 +456,11 @@ func TestReport_StoreError(t *testing.T) {
 // nightly alert each: the size a month's report reaches.
 func sizeFixture() (*Site, *memResults, Period) {
 	site := repSite(nil)
-	site.Units = nil
+	site.AirHandlers = nil
 	m := &memResults{}
 	for k := range 5 {
 		id := fmt.Sprintf("AHU-%d", k+1)
-		site.Units = append(site.Units, Unit{ID: id, Name: "Air handler " + id, Spec: repSite(nil).Units[0].Spec})
+		site.AirHandlers = append(site.AirHandlers, AirHandler{ID: id, Name: "Air handler " + id, Spec: repSite(nil).AirHandlers[0].Spec})
 		for h := range 30 * 24 {
 			x := float64(h)
 			hour := repT0.Add(time.Duration(h) * time.Hour)

@@ -16,8 +16,8 @@ type Site struct {
 	IP       bool           // the site's display units (a page may switch)
 	Currency string
 	// PressurePa is the site's barometric pressure, for the chart.
-	PressurePa float64
-	Units      []Unit // in configuration order
+	PressurePa  float64
+	AirHandlers []AirHandler // in configuration order
 	// Basis records assumptions the report states, in plain words, by
 	// topic (e.g. "airflow", "prices"). Optional.
 	Basis []Assumption
@@ -49,20 +49,20 @@ func SetupNotes(pressure, altitude string, step time.Duration) []Assumption {
 	return notes
 }
 
-// Unit is one air handler as configured.
-type Unit struct {
+// AirHandler is one air handler as configured.
+type AirHandler struct {
 	ID, Name string
-	Spec     *metrics.Unit // cooling and reheat kinds, target, prices, pressure
+	Spec     *metrics.AirHandler // cooling and reheat kinds, target, prices, pressure
 }
 
-// Unit returns the configured unit with id.
-func (s *Site) Unit(id string) (Unit, bool) {
-	for _, u := range s.Units {
+// AirHandler returns the configured unit with id.
+func (s *Site) AirHandler(id string) (AirHandler, bool) {
+	for _, u := range s.AirHandlers {
 		if u.ID == id {
 			return u, true
 		}
 	}
-	return Unit{}, false
+	return AirHandler{}, false
 }
 
 // Results is where the pages read what the engine computed. The embedded

@@ -23,9 +23,9 @@ type HourStates struct {
 	Avoidable Num       `json:"reheat_avoidable_kwh"`
 }
 
-// UnitStates reads one unit's hourly states for the psychrometric chart.
+// AirHandlerStates reads one unit's hourly states for the psychrometric chart.
 // Hours without a complete set of states are left out.
-func UnitStates(ctx context.Context, u Unit, res Results, p Period, pressurePa float64) ([]HourStates, error) {
+func AirHandlerStates(ctx context.Context, u AirHandler, res Results, p Period, pressurePa float64) ([]HourStates, error) {
 	var out []HourStates
 	err := res.Hours(ctx, u.ID, p.From, p.To, func(r *metrics.Record) error {
 		wIn, err1 := psychro.HumRatioFromDewPoint(r.EnteringDewPointC, pressurePa)

@@ -140,8 +140,8 @@ func (t *Totals) finish() {
 	t.AvoidableShare = ratio(t.ReheatAvoid, t.ReheatKWh)
 }
 
-// UnitRow is one air handler on the overview.
-type UnitRow struct {
+// AirHandlerRow is one air handler on the overview.
+type AirHandlerRow struct {
 	ID         string  `json:"id"`
 	Name       string  `json:"name"`
 	Reheat     string  `json:"reheat"` // electric, hot_water or recovered
@@ -154,13 +154,13 @@ type UnitRow struct {
 
 // Overview is the site over a period, units ranked by avoidable cost.
 type Overview struct {
-	SiteID   string    `json:"site_id,omitempty"` // site.id
-	Site     string    `json:"site"`
-	Currency string    `json:"currency"`
-	Period   Period    `json:"period"`
-	Units    []UnitRow `json:"units"`
-	Total    Totals    `json:"total"`
-	Days     []string  `json:"days"` // YYYY-MM-DD of each daily value
+	SiteID      string          `json:"site_id,omitempty"` // site.id
+	Site        string          `json:"site"`
+	Currency    string          `json:"currency"`
+	Period      Period          `json:"period"`
+	AirHandlers []AirHandlerRow `json:"units"`
+	Total       Totals          `json:"total"`
+	Days        []string        `json:"days"` // YYYY-MM-DD of each daily value
 }
 
 // BuildOverview reads the period's hours of every configured unit once
@@ -173,15 +173,15 @@ func BuildOverview(ctx context.Context, site *Site, res Results, p Period) (*Ove
 		ov.Days = append(ov.Days, d.Format(dateLayout))
 	}
 	index := map[string]int{}
-	for i, u := range site.Units {
-		row := UnitRow{ID: u.ID, Name: u.Name, Totals: NewTotals(), Daily: make([]Num, len(dayStarts))}
+	for i, u := range site.AirHandlers {
+		row := AirHandlerRow{ID: u.ID, Name: u.Name, Totals: NewTotals(), Daily: make([]Num, len(dayStarts))}
 		if u.Spec != nil {
 			row.Reheat = reheatName(u.Spec.Reheat)
 		}
 		for d := range row.Daily {
 			row.Daily[d] = Num(math.NaN())
 		}
-		ov.Units = append(ov.Units, row)
+		ov.AirHandlers = append(ov.AirHandlers, row)
 		index[u.ID] = i
 	}
 	dayOf := func(t time.Time) int {
@@ -195,7 +195,7 @@ func BuildOverview(ctx context.Context, site *Site, res Results, p Period) (*Ove
 			if !ok {
 				return nil // results of a unit no longer configured
 			}
-			row := &ov.Units[i]
+			row := &ov.AirHandlers[i]
 			row.Totals.AddDay(d)
 			ov.Total.AddDay(d)
 			if k := dayOf(d.Day); k >= 0 {
@@ -213,7 +213,7 @@ func BuildOverview(ctx context.Context, site *Site, res Results, p Period) (*Ove
 			if !ok {
 				return nil
 			}
-			row := &ov.Units[i]
+			row := &ov.AirHandlers[i]
 			row.Totals.Add(r)
 			ov.Total.Add(r)
 			if k := dayOf(r.HourStart); k >= 0 {
@@ -231,24 +231,24 @@ func BuildOverview(ctx context.Context, site *Site, res Results, p Period) (*Ove
 	}
 	for _, a := range alerts {
 		if i, ok := index[a.AHU]; ok {
-			ov.Units[i].OpenAlerts++
+			ov.AirHandlers[i].OpenAlerts++
 		}
 	}
 	ov.Total.finish()
 	maxCost := 0.0
-	for i := range ov.Units {
-		ov.Units[i].Totals.finish()
-		if c := float64(ov.Units[i].Totals.CostAvoidable); c > maxCost {
+	for i := range ov.AirHandlers {
+		ov.AirHandlers[i].Totals.finish()
+		if c := float64(ov.AirHandlers[i].Totals.CostAvoidable); c > maxCost {
 			maxCost = c
 		}
 	}
-	sort.SliceStable(ov.Units, func(a, b int) bool {
-		return nanLow(ov.Units[a].Totals.CostAvoidable) > nanLow(ov.Units[b].Totals.CostAvoidable)
+	sort.SliceStable(ov.AirHandlers, func(a, b int) bool {
+		return nanLow(ov.AirHandlers[a].Totals.CostAvoidable) > nanLow(ov.AirHandlers[b].Totals.CostAvoidable)
 	})
-	for i := range ov.Units {
-		ov.Units[i].Rank = i + 1
-		if c := float64(ov.Units[i].Totals.CostAvoidable); maxCost > 0 && c > 0 {
-			ov.Units[i].Share = c / maxCost
+	for i := range ov.AirHandlers {
+		ov.AirHandlers[i].Rank = i + 1
+		if c := float64(ov.AirHandlers[i].Totals.CostAvoidable); maxCost > 0 && c > 0 {
+			ov.AirHandlers[i].Share = c / maxCost
 		}
 	}
 	return ov, nil
@@ -273,8 +273,8 @@ func reheatName(k metrics.ReheatKind) string {
 	return ""
 }
 
-// UnitHours is one air handler's hours over a period, as columns.
-type UnitHours struct {
+// AirHandlerHours is one air handler's hours over a period, as columns.
+type AirHandlerHours struct {
 	ID     string      `json:"id"`
 	Name   string      `json:"name"`
 	Period Period      `json:"period"`
@@ -302,9 +302,9 @@ type UnitHours struct {
 	Flags    []string `json:"flags"` // space-separated flags per hour
 }
 
-// BuildUnitHours reads one unit's hours.
-func BuildUnitHours(ctx context.Context, u Unit, res Results, p Period, d Display) (*UnitHours, error) {
-	uh := &UnitHours{ID: u.ID, Name: u.Name, Period: p, Units: d.Name(), Totals: NewTotals()}
+// BuildAirHandlerHours reads one unit's hours.
+func BuildAirHandlerHours(ctx context.Context, u AirHandler, res Results, p Period, d Display) (*AirHandlerHours, error) {
+	uh := &AirHandlerHours{ID: u.ID, Name: u.Name, Period: p, Units: d.Name(), Totals: NewTotals()}
 	temp := func(c float64) Num { return Num(d.Temp(c)) }
 	err := res.Hours(ctx, u.ID, p.From, p.To, func(r *metrics.Record) error {
 		uh.Totals.Add(r)

@@ -515,13 +515,13 @@ func TestDeploy_KubernetesConfig(t *testing.T) {
 	host, _, err := net.SplitHostPort(cfg.HTTP.Listen)
 	require.NoError(t, err)
 	assert.Contains(t, []string{"", "0.0.0.0", "::"}, host, "http.listen %s: the kubelet probes the pod's IP", cfg.HTTP.Listen)
-	tel := telemetry.NewTelemetry()
-	_, err = server.NewServer(server.ServerOptions{Listen: cfg.HTTP.Listen, Telemetry: tel, Log: zerolog.Nop()})
+	tel := telemetry.New()
+	_, err = server.New(server.Options{Listen: cfg.HTTP.Listen, Telemetry: tel, Log: zerolog.Nop()})
 	require.ErrorIs(t, err, server.ErrInsecureListen, "without the token the agent refuses this address")
 	require.NotEmpty(t, cfg.HTTP.TokenEnv, "http.token_env")
 	token, err := config.SecretFromEnv("http.token_env", cfg.HTTP.TokenEnv)
 	require.NoError(t, err)
-	_, err = server.NewServer(server.ServerOptions{Listen: cfg.HTTP.Listen, BearerToken: token, Telemetry: tel, Log: zerolog.Nop()})
+	_, err = server.New(server.Options{Listen: cfg.HTTP.Listen, BearerToken: token, Telemetry: tel, Log: zerolog.Nop()})
 	require.NoError(t, err, "with the token from the Secret the agent takes http.listen %s", cfg.HTTP.Listen)
 }
 
@@ -753,8 +753,8 @@ func TestDeploy_KubernetesSecurity(t *testing.T) {
 // port with the given bearer token and returns its base URL.
 func startServer(t *testing.T, token string) string {
 	t.Helper()
-	srv, err := server.NewServer(server.ServerOptions{Listen: "127.0.0.1:0", BearerToken: token,
-		Telemetry: telemetry.NewTelemetry(), Log: zerolog.Nop()})
+	srv, err := server.New(server.Options{Listen: "127.0.0.1:0", BearerToken: token,
+		Telemetry: telemetry.New(), Log: zerolog.Nop()})
 	require.NoError(t, err)
 	require.NoError(t, srv.Start())
 	t.Cleanup(func() {

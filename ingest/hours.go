@@ -33,8 +33,8 @@ type BatchReader interface {
 	ReadBatch(ctx context.Context, points []PointRead, from, to time.Time, fn func(i int, s Sample) error) error
 }
 
-// UnitPoints is what alignment needs to know about an air handler.
-type UnitPoints struct {
+// AirHandlerPoints is what alignment needs to know about an air handler.
+type AirHandlerPoints struct {
 	Points map[metrics.Role]metrics.PointRef
 	Stale  map[metrics.Role]time.Duration
 }
@@ -45,10 +45,10 @@ type UnitPoints struct {
 // handlers asked for is one read (their hours are emitted after it, air
 // handler by air handler); otherwise each point is read on its own.
 type StoreHours struct {
-	Reader SeriesReader
-	Units  map[string]UnitPoints
-	Step   time.Duration
-	Chunk  time.Duration // default one day
+	Reader      SeriesReader
+	AirHandlers map[string]AirHandlerPoints
+	Step        time.Duration
+	Chunk       time.Duration // default one day
 	// IsMissing reports errors that mean "this point has no data in the
 	// store" rather than a store failure; such points are skipped and
 	// listed in Missing, and their roles have zero coverage.
@@ -76,7 +76,7 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 	}
 	missing := map[string]bool{}
 	for _, ahu := range ahus {
-		u, ok := s.Units[ahu]
+		u, ok := s.AirHandlers[ahu]
 		if !ok {
 			return fmt.Errorf("read %s: no points configured", ahu)
 		}
@@ -190,7 +190,7 @@ func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []stri
 		maxLead  time.Duration
 	)
 	for k, ahu := range ahus {
-		u, ok := s.Units[ahu]
+		u, ok := s.AirHandlers[ahu]
 		if !ok {
 			return fmt.Errorf("read %s: no points configured", ahu)
 		}
@@ -265,7 +265,7 @@ func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []stri
 	return nil
 }
 
-func staleOf(u UnitPoints, r metrics.Role) time.Duration {
+func staleOf(u AirHandlerPoints, r metrics.Role) time.Duration {
 	if d, ok := u.Stale[r]; ok && d > 0 {
 		return d
 	}

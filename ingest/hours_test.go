@@ -47,10 +47,10 @@ func TestStoreHours_ChunksMatchOneRead(t *testing.T) {
 		temp = append(temp, Sample{t0.Add(time.Duration(i) * time.Minute), 15 + float64(i%40)/4})
 	}
 	r := &memReader{series: map[string][]Sample{"SAT": temp}}
-	u := UnitPoints{Points: map[metrics.Role]metrics.PointRef{metrics.RoleSupplyTemp: {Point: "SAT", Unit: "C"},
+	u := AirHandlerPoints{Points: map[metrics.Role]metrics.PointRef{metrics.RoleSupplyTemp: {Point: "SAT", Unit: "C"},
 		metrics.RoleEnteringTemp: {Point: "MAT", Unit: "C"}}}
 	collect := func(chunk time.Duration) ([]*metrics.Hour, *StoreHours) {
-		sh := &StoreHours{Reader: r, Units: map[string]UnitPoints{"A": u}, Step: time.Minute, Chunk: chunk,
+		sh := &StoreHours{Reader: r, AirHandlers: map[string]AirHandlerPoints{"A": u}, Step: time.Minute, Chunk: chunk,
 			IsMissing: func(err error) bool { return errors.Is(err, errNoSeries) }}
 		var out []*metrics.Hour
 		require.NoError(t, sh.Hours(context.Background(), []string{"A"}, t0, t0.Add(72*time.Hour), func(h *metrics.Hour) error {
@@ -76,7 +76,7 @@ func TestStoreHours_ChunksMatchOneRead(t *testing.T) {
 func TestStoreHours_StoreFailure(t *testing.T) {
 	boom := errors.New("connection refused")
 	r := readerFunc(func() error { return boom })
-	sh := &StoreHours{Reader: r, Units: map[string]UnitPoints{"A": {Points: map[metrics.Role]metrics.PointRef{metrics.RoleSupplyTemp: {Point: "SAT"}}}}, Step: time.Minute}
+	sh := &StoreHours{Reader: r, AirHandlers: map[string]AirHandlerPoints{"A": {Points: map[metrics.Role]metrics.PointRef{metrics.RoleSupplyTemp: {Point: "SAT"}}}}, Step: time.Minute}
 	err := sh.Hours(context.Background(), []string{"A"}, t0, t0.Add(time.Hour), func(*metrics.Hour) error { return nil })
 	assert.ErrorIs(t, err, boom)
 	assert.ErrorContains(t, err, "read A supply_temp")
@@ -144,8 +144,8 @@ func testFlatAcrossMidnight(t *testing.T, batch bool) {
 		rh = append(rh, Sample{ts, v})
 	}
 	r := &memReader{series: map[string][]Sample{"MA RH": rh}}
-	u := UnitPoints{Points: map[metrics.Role]metrics.PointRef{metrics.RoleEnteringRH: {Point: "MA RH", Unit: "%"}}}
-	sh := &StoreHours{Reader: r, Units: map[string]UnitPoints{"A": u}, Step: time.Minute,
+	u := AirHandlerPoints{Points: map[metrics.Role]metrics.PointRef{metrics.RoleEnteringRH: {Point: "MA RH", Unit: "%"}}}
+	sh := &StoreHours{Reader: r, AirHandlers: map[string]AirHandlerPoints{"A": u}, Step: time.Minute,
 		IsMissing: func(err error) bool { return errors.Is(err, errNoSeries) }}
 	if batch {
 		sh.Reader = memBatchReader{r}

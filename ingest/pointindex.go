@@ -23,7 +23,7 @@ type PointTarget struct {
 type PointIndex map[string][]PointTarget
 
 // NewPointIndex indexes the points of the given air handlers.
-func NewPointIndex(units map[string]UnitPoints) (PointIndex, error) {
+func NewPointIndex(units map[string]AirHandlerPoints) (PointIndex, error) {
 	ix := PointIndex{}
 	ahus := make([]string, 0, len(units))
 	for a := range units {

@@ -26,9 +26,9 @@ type RecordSource interface {
 // whose first stated unit for a series differs from the configured one is
 // refused, not guessed.
 type RecordHours struct {
-	Src   RecordSource
-	Units map[string]UnitPoints
-	Step  time.Duration
+	Src         RecordSource
+	AirHandlers map[string]AirHandlerPoints
+	Step        time.Duration
 	// Records counts the records used; Unmatched counts records whose
 	// series no air handler maps.
 	Records   int
@@ -42,11 +42,11 @@ type RecordHours struct {
 // first record; a zero to ends after the hour of the last.
 func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.Time, fn func(*metrics.Hour) error) error {
 	for _, ahu := range ahus {
-		if _, ok := rh.Units[ahu]; !ok {
+		if _, ok := rh.AirHandlers[ahu]; !ok {
 			return fmt.Errorf("read %s: no points configured", ahu)
 		}
 	}
-	byName, err := NewPointIndex(pick(rh.Units, ahus))
+	byName, err := NewPointIndex(pick(rh.AirHandlers, ahus))
 	if err != nil {
 		return err
 	}
@@ -54,7 +54,7 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 	rh.RowUnits = NewRowUnits(byName)
 	lead := time.Duration(0)
 	for _, ahu := range ahus {
-		u := rh.Units[ahu]
+		u := rh.AirHandlers[ahu]
 		for r := range u.Points {
 			lead = max(lead, staleOf(u, r))
 		}
@@ -66,7 +66,7 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 			from = first.UTC().Truncate(time.Hour)
 		}
 		for _, ahu := range ahus {
-			u := rh.Units[ahu]
+			u := rh.AirHandlers[ahu]
 			stale := make(map[metrics.Role]time.Duration, len(u.Points))
 			for r := range u.Points {
 				stale[r] = staleOf(u, r)
@@ -353,8 +353,8 @@ func readBatches(ctx context.Context, src RecordSource, fn func([]Record) error)
 
 // pick returns the units of the named air handlers; unknown names are left
 // for the caller's own check.
-func pick(units map[string]UnitPoints, ahus []string) map[string]UnitPoints {
-	out := make(map[string]UnitPoints, len(ahus))
+func pick(units map[string]AirHandlerPoints, ahus []string) map[string]AirHandlerPoints {
+	out := make(map[string]AirHandlerPoints, len(ahus))
 	for _, a := range ahus {
 		if u, ok := units[a]; ok {
 			out[a] = u

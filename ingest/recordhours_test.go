@@ -36,14 +36,14 @@ func TestRecordHours(t *testing.T) {
 			Record{Series: "Lobby lights", Time: ts, Value: 1, File: "a.csv", Line: m + 2},
 		)
 	}
-	units := map[string]UnitPoints{
+	units := map[string]AirHandlerPoints{
 		"AHU-1": {Points: map[metrics.Role]metrics.PointRef{
 			metrics.RoleSupplyTemp:  {Column: "AHU1 SAT", Unit: "F"},
 			metrics.RoleOutdoorTemp: {Column: "OA Temp", Unit: "F"},
 		}},
 		"AHU-2": {Points: map[metrics.Role]metrics.PointRef{metrics.RoleOutdoorTemp: {Column: "OA Temp", Unit: "F"}}},
 	}
-	rh := &RecordHours{Src: &sliceSource{recs: recs}, Units: units, Step: time.Minute}
+	rh := &RecordHours{Src: &sliceSource{recs: recs}, AirHandlers: units, Step: time.Minute}
 	var got []*metrics.Hour
 	require.NoError(t, rh.Hours(context.Background(), []string{"AHU-1", "AHU-2"}, time.Time{}, time.Time{}, func(h *metrics.Hour) error {
 		got = append(got, h)
@@ -63,7 +63,7 @@ func TestRecordHours(t *testing.T) {
 
 func TestRecordHours_UnitConflict(t *testing.T) {
 	src := &sliceSource{recs: []Record{{Series: "SAT", Unit: "degC", Time: t0, Value: 15, File: "x.csv", Line: 3}}}
-	rh := &RecordHours{Src: src, Step: time.Minute, Units: map[string]UnitPoints{
+	rh := &RecordHours{Src: src, Step: time.Minute, AirHandlers: map[string]AirHandlerPoints{
 		"A": {Points: map[metrics.Role]metrics.PointRef{metrics.RoleSupplyTemp: {Column: "SAT", Unit: "F"}}}}}
 	err := rh.Hours(context.Background(), []string{"A"}, time.Time{}, time.Time{}, func(*metrics.Hour) error { return nil })
 	require.Error(t, err)
@@ -97,7 +97,7 @@ func TestRecordHours_RowUnits(t *testing.T) {
 				recs = append(recs, Record{Series: "SAT", Unit: u, Time: t0.Add(time.Duration(i) * time.Minute),
 					Value: tt.values[i], File: "x.csv", Line: i + 2})
 			}
-			rh := &RecordHours{Src: &sliceSource{recs: recs}, Step: time.Minute, Units: map[string]UnitPoints{
+			rh := &RecordHours{Src: &sliceSource{recs: recs}, Step: time.Minute, AirHandlers: map[string]AirHandlerPoints{
 				"A": {Points: map[metrics.Role]metrics.PointRef{metrics.RoleSupplyTemp: {Column: "SAT", Unit: "F"}}}}}
 			var got []*metrics.Hour
 			err := rh.Hours(context.Background(), []string{"A"}, time.Time{}, time.Time{}, func(h *metrics.Hour) error {

@@ -37,7 +37,7 @@ func steadyHour(extra map[metrics.Role]func(int) float64) *metrics.Hour {
 // the avoidable reheat of a space target.
 func TestCompute_AssumptionsInTheBand(t *testing.T) {
 	t.Run("assumed leaving RH", func(t *testing.T) {
-		u := testUnit()
+		u := testAirHandler()
 		u.Accuracy, u.LeavingRHU = exactSensors, 0.05
 		rec := metrics.Compute(u, steadyHour(nil))
 		at := func(rh float64) float64 {
@@ -65,7 +65,7 @@ func TestCompute_AssumptionsInTheBand(t *testing.T) {
 			delete(h.Quality, metrics.RoleEnteringRH)
 			return h
 		}
-		u := testUnit()
+		u := testAirHandler()
 		u.Accuracy, u.MinOutdoor = exactSensors, 0.3
 		rec := metrics.Compute(u, hour())
 		require.Equal(t, 1.0, rec.Coverage)
@@ -79,11 +79,11 @@ func TestCompute_AssumptionsInTheBand(t *testing.T) {
 		assert.InEpsilon(t, spread, rec.WaterRemovedKgU95, 0.25)
 	})
 	t.Run("space moisture gain", func(t *testing.T) {
-		u := testUnit()
+		u := testAirHandler()
 		u.Accuracy = exactSensors
 		u.Target = metrics.Target{Kind: metrics.TargetSpaceRH, RH: 0.55, SpaceTempC: 23}
 		u.SpaceGain = metrics.DefaultSpaceGain
-		hot := func(v *metrics.Unit) metrics.Record {
+		hot := func(v *metrics.AirHandler) metrics.Record {
 			return metrics.Compute(v, steadyHour(map[metrics.Role]func(int) float64{metrics.RoleLeavingTemp: constant(9.5)}))
 		}
 		rec := hot(u)
@@ -111,7 +111,7 @@ func TestCompute_AssumptionsInTheBand(t *testing.T) {
 // same with and without the fan (the bypass-factor coil would condense a
 // little more from the warmer air).
 func TestCompute_BlowThroughFan(t *testing.T) {
-	u := testUnit()
+	u := testAirHandler()
 	u.Fan = metrics.FanNone
 	lv := func(extra map[metrics.Role]func(int) float64) *metrics.Hour {
 		if extra == nil {
@@ -151,7 +151,7 @@ func TestCompute_BlowThroughFan(t *testing.T) {
 // Cd = 0.25 (the standard's default, memory): at half load a unit draws
 // load / (COP × 0.875).
 func TestCompute_PartLoadCycling(t *testing.T) {
-	u := testUnit()
+	u := testAirHandler()
 	full := metrics.Compute(u, steadyHour(nil))
 	cop := full.CoilTotalKWh / full.CoolingInputKWh
 	u.RatedCapacityKW, u.DegradationCd = 2*full.CoilTotalKWh, metrics.DefaultDegradationCd
@@ -173,7 +173,7 @@ func TestCompute_PartLoadCycling(t *testing.T) {
 // scale with it and still add up; a meter that disagrees beyond the
 // combined uncertainty is flagged and not mixed in.
 func TestCompute_ReheatMeterReconciled(t *testing.T) {
-	u := testUnit()
+	u := testAirHandler()
 	air := metrics.Compute(u, steadyHour(nil))
 	a, ua := air.ReheatKWh, air.ReheatKWhU95
 	require.Greater(t, a, 5.0)

@@ -10,7 +10,7 @@ import (
 // BenchmarkCompute: one air handler-hour of one-minute data with space
 // sensors (so the required coil temperature changes every step).
 func BenchmarkCompute(b *testing.B) {
-	u := testUnit()
+	u := testAirHandler()
 	u.Target = metrics.Target{Kind: metrics.TargetSpaceDewPoint, DewPointC: 12.8}
 	h := newHour(day0, map[metrics.Role]func(int) float64{
 		metrics.RoleEnteringTemp: func(i int) float64 { return 25 + math.Sin(float64(i)/9) },

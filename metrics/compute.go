@@ -40,7 +40,7 @@ const SupplyBelowCoilK = 3.0
 
 // Compute turns one aligned hour into a record. It never fails: missing or
 // implausible data lower the coverage and raise flags.
-func Compute(u *Unit, hr *Hour) Record {
+func Compute(u *AirHandler, hr *Hour) Record {
 	var e engine // on the stack: one hour's engine is not kept
 	e.init(u, hr)
 	n := hr.Steps()
@@ -388,7 +388,7 @@ func isFlat(v []float64) bool {
 	return seen > len(v)/2
 }
 
-func (e *engine) init(u *Unit, hr *Hour) {
+func (e *engine) init(u *AirHandler, hr *Hour) {
 	*e = engine{u: u, p: u.PressurePa}
 	switch {
 	case hr.Has(RoleEnteringRH):

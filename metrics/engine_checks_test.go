@@ -21,7 +21,7 @@ func constant(v float64) func(int) float64 { return func(int) float64 { return v
 // The airflow is standard air at the rules' 0.075 lb/ft³.
 func TestCompute_RulesOfThumb(t *testing.T) {
 	const cfm = 8000.0
-	u := testUnit()
+	u := testAirHandler()
 	u.Reheat, u.Fan = metrics.ReheatNone, metrics.FanNone
 	// Standard-air basis at 1.204 kg/m³; feed the flow that gives the
 	// rules' mass flow of 0.075 lb/ft³ x CFM.
@@ -55,7 +55,7 @@ func TestCompute_RulesOfThumb(t *testing.T) {
 // The leaving state is given by a leaving RH sensor reading 100 %, and the
 // airflow is actual volume at the entering state.
 func TestCompute_HandbookExample(t *testing.T) {
-	u := testUnit()
+	u := testAirHandler()
 	u.Basis, u.FlowAt = metrics.BasisActual, metrics.RoleEnteringTemp
 	u.Reheat, u.Fan = metrics.ReheatNone, metrics.FanNone
 	h := newHour(day0, map[metrics.Role]func(int) float64{
@@ -77,7 +77,7 @@ func TestCompute_ReheatSources(t *testing.T) {
 		metrics.RoleLeavingTemp: constant(11), metrics.RoleLeavingRH: constant(0.95),
 		metrics.RoleSupplyTemp: constant(17.5), metrics.RoleSupplyFlow: constant(3),
 	})
-	base := testUnit()
+	base := testAirHandler()
 	base.Prices = metrics.Prices{ElectricityPerKWh: 0.20, FuelPerKWh: 0.05, ElectricityCO2KgPerKWh: 0.5, FuelCO2KgPerKWh: 0.2}
 	elec := metrics.Compute(base, h)
 	require.Greater(t, elec.ReheatKWh, 10.0)
@@ -110,7 +110,7 @@ func TestCompute_ReheatSources(t *testing.T) {
 // TestCompute_NeededAndAvoidable exercises the three cases of the needed
 // coil temperature T_c = min(t_in, t_sup, T_required).
 func TestCompute_NeededAndAvoidable(t *testing.T) {
-	u := testUnit()
+	u := testAirHandler()
 	u.Fan, u.FanRiseK = metrics.FanNone, 0
 	// A leaving sensor reads 90 % (the unit assumes 95 %): the required
 	// temperature follows from the measured leaving RH (the bypass-factor
@@ -158,7 +158,7 @@ func TestCompute_NeededAndAvoidable(t *testing.T) {
 
 // TestCompute_Flags covers the data-quality findings.
 func TestCompute_Flags(t *testing.T) {
-	u := testUnit()
+	u := testAirHandler()
 	base := map[metrics.Role]func(int) float64{
 		metrics.RoleEnteringTemp: func(i int) float64 { return 24 + float64(i%7)/10 },
 		metrics.RoleEnteringRH:   func(i int) float64 { return 0.55 + float64(i%5)/100 },
@@ -273,7 +273,7 @@ func TestCompute_CoolingInput(t *testing.T) {
 		metrics.RoleEnteringTemp: constant(26), metrics.RoleEnteringRH: constant(0.6),
 		metrics.RoleLeavingTemp: constant(12), metrics.RoleSupplyTemp: constant(12.5), metrics.RoleSupplyFlow: constant(3),
 	}
-	u := testUnit()
+	u := testAirHandler()
 	model := metrics.Compute(u, newHour(day0, vals))
 	// No outdoor temperature: the rated EER of 11.
 	assert.InEpsilon(t, model.CoilTotalKWh/psychro.EERToCOP(11), model.CoolingInputKWh, 1e-9)
@@ -298,7 +298,7 @@ func TestCompute_CoolingInput(t *testing.T) {
 // accuracy as its 95 % half-width, and recomputes the hour. The two must
 // agree within 15 %.
 func TestCompute_UncertaintyMonteCarlo(t *testing.T) {
-	u := testUnit()
+	u := testAirHandler()
 	r := rand.New(rand.NewPCG(7, 11))
 	vals := map[metrics.Role]func(int) float64{
 		metrics.RoleEnteringTemp: func(i int) float64 { return 25 + math.Sin(float64(i)/9) },
@@ -340,7 +340,7 @@ func TestCompute_UncertaintyMonteCarlo(t *testing.T) {
 
 // TestCompute_StepFromAlignment: the engine reads a 5-minute grid as well.
 func TestCompute_StepSize(t *testing.T) {
-	u := testUnit()
+	u := testAirHandler()
 	mk := func(step time.Duration) metrics.Record {
 		n := int(time.Hour / step)
 		h := &metrics.Hour{AHU: "AHU-T", Start: day0, Step: step, Values: map[metrics.Role][]float64{}, Quality: map[metrics.Role]metrics.RoleQuality{}}
@@ -365,7 +365,7 @@ func TestCompute_StepSize(t *testing.T) {
 // into water (physics; the handbook's coil process, ASHRAE Fundamentals
 // ch. 1).
 func TestCompute_DryCoilWithLeavingSensor(t *testing.T) {
-	u := testUnit()
+	u := testAirHandler()
 	p := u.PressurePa
 	wIn, err := psychro.HumRatioFromRH(22, 0.40, p)
 	require.NoError(t, err)
@@ -394,7 +394,7 @@ func TestCompute_DryCoilWithLeavingSensor(t *testing.T) {
 // coil; a rule that jumps to the assumed RH below the dew point would move
 // the water by about 5 % of W_in in 0.02 K).
 func TestCompute_LeavingRuleContinuous(t *testing.T) {
-	u := testUnit()
+	u := testAirHandler()
 	td, err := psychro.DewPointFromHumRatio(mustW(t, 24, 0.5, u.PressurePa), u.PressurePa)
 	require.NoError(t, err)
 	water := func(tLv float64) float64 {
@@ -431,7 +431,7 @@ func mustW(t *testing.T, tC, rh, p float64) float64 {
 // steps where outdoor and return read within 3 K of each other, the share
 // of the hour's other steps.
 func TestCompute_MixedEnteringAir(t *testing.T) {
-	u := testUnit()
+	u := testAirHandler()
 	u.MinOutdoor = 0.15
 	p := u.PressurePa
 	wRa, wOa := mustW(t, 24, 0.5, p), mustW(t, 32, 0.6, p)
@@ -480,7 +480,7 @@ func TestCompute_MixedEnteringAir(t *testing.T) {
 // (by hand), the hour says the gain was assumed, and less of the reheat is
 // avoidable than with no gain at all.
 func TestCompute_SpaceGain(t *testing.T) {
-	u := testUnit()
+	u := testAirHandler()
 	u.Target = metrics.Target{Kind: metrics.TargetSpaceDewPoint, DewPointC: 13}
 	u.SpaceGain = metrics.DefaultSpaceGain
 	vals := map[metrics.Role]func(int) float64{

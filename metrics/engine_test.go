@@ -19,10 +19,10 @@ import (
 
 var day0 = time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
 
-// testUnit is a DX air handler with electric reheat, a draw-through fan of
+// testAirHandler is a DX air handler with electric reheat, a draw-through fan of
 // 0.5 K, standard-air flow and a 12 °C supply dew-point target.
-func testUnit() *metrics.Unit {
-	return &metrics.Unit{
+func testAirHandler() *metrics.AirHandler {
+	return &metrics.AirHandler{
 		ID: "AHU-T", PressurePa: psychro.StandardPressurePa,
 		Cooling: metrics.CoolingDX, RatedCOP: psychro.EERToCOP(11), RatedOutdoorC: 35, COPPerK: -0.03,
 		Reheat: metrics.ReheatElectric, Basis: metrics.BasisStandard,
@@ -95,7 +95,7 @@ func TestCompute_SyntheticGroundTruth(t *testing.T) {
 	require.Len(t, steps, 24*60)
 	require.Len(t, truth, 24)
 
-	u := testUnit()
+	u := testAirHandler()
 	within := func(want, got, rel float64, what string, hr int) {
 		t.Helper()
 		if math.Abs(want) < 1e-9 {

@@ -64,7 +64,7 @@ func TestCompute_OutdoorMeans(t *testing.T) {
 			for r, f := range tc.roles {
 				roles[r] = f
 			}
-			rec := metrics.Compute(testUnit(), newHour(day0, roles))
+			rec := metrics.Compute(testAirHandler(), newHour(day0, roles))
 			if math.IsNaN(tc.wantT) {
 				assert.True(t, math.IsNaN(rec.OutdoorTempC), "outdoor temperature %v", rec.OutdoorTempC)
 			} else {

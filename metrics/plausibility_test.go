@@ -19,7 +19,7 @@ import (
 // within SupplyBelowCoilK) is not flagged. 15 °F = (15 - 32) / 1.8 °C by
 // the definition of the Fahrenheit scale.
 func TestCompute_SupplyBelowCoil(t *testing.T) {
-	u := testUnit()
+	u := testAirHandler()
 	hour := func(start time.Time, supplyC float64) *metrics.Hour {
 		return newHour(start, map[metrics.Role]func(int) float64{
 			metrics.RoleEnteringTemp: func(i int) float64 { return 24 + float64(i%7)/10 },

@@ -96,8 +96,8 @@ type Thresholds struct {
 // about the combined accuracy of two temperature sensors).
 var DefaultThresholds = Thresholds{CoilDeadbandK: 0.5, ReheatDeadbandK: 0.5, MinCoverage: 0.9}
 
-// Unit is everything the engine needs to know about one air handler.
-type Unit struct {
+// AirHandler is everything the engine needs to know about one air handler.
+type AirHandler struct {
 	ID         string
 	PressurePa float64
 
@@ -169,7 +169,7 @@ const DefaultDegradationCd = 0.25
 // load draws load / (COP × PLF), the extra being the losses of each start
 // (refrigerant redistribution, the coil cooling down again). 1 without a
 // rated capacity.
-func (u *Unit) partLoadFactor(loadKW float64) float64 {
+func (u *AirHandler) partLoadFactor(loadKW float64) float64 {
 	if u.RatedCapacityKW <= 0 || loadKW <= 0 {
 		return 1
 	}
@@ -179,14 +179,14 @@ func (u *Unit) partLoadFactor(loadKW float64) float64 {
 
 // modelledCoolIn is the DX model's electric input for a coil load, kW:
 // load / (COP(t_out) × PLF).
-func (u *Unit) modelledCoolIn(loadKW, tOutC float64) float64 {
+func (u *AirHandler) modelledCoolIn(loadKW, tOutC float64) float64 {
 	return loadKW / (u.copAt(tOutC) * u.partLoadFactor(loadKW))
 }
 
 // copAt returns the DX model's COP at outdoor temperature tOutC (NaN: the
 // rated COP). The correction is linear and held between 40 % and 160 % of
 // the rated COP, a guard against extrapolating a nameplate too far.
-func (u *Unit) copAt(tOutC float64) float64 {
+func (u *AirHandler) copAt(tOutC float64) float64 {
 	if math.IsNaN(tOutC) {
 		return u.RatedCOP
 	}

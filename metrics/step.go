@@ -58,7 +58,7 @@ type stepOut struct {
 
 // engine evaluates steps for one unit, caching the target's required temperature.
 type engine struct {
-	u                      *Unit
+	u                      *AirHandler
 	p                      float64
 	humIn, lvHum, spaceHum int
 	mix                    bool // entering state mixed from return and outdoor air

@@ -18,8 +18,8 @@ import (
 	"github.com/dewline/dewline/psychro"
 )
 
-// ConfigVersion is the configuration schema this binary reads.
-const ConfigVersion = 1
+// Version is the configuration schema this binary reads.
+const Version = 1
 
 // Config is a dewline configuration file.
 type Config struct {
@@ -278,7 +278,7 @@ func parse(r io.Reader, name string) (*Config, error) {
 // left out and returned with their problems (keyed by id, or by position
 // when the id itself is the problem), so an agent keeps running the
 // others. Problems outside the air handlers still fail it.
-func LoadPartial(path string) (*Config, map[string]*ConfigError, error) {
+func LoadPartial(path string) (*Config, map[string]*Error, error) {
 	b, err := os.ReadFile(path)
 	if err != nil {
 		return nil, nil, fmt.Errorf("read config: %w", err)
@@ -294,8 +294,8 @@ func LoadPartial(path string) (*Config, map[string]*ConfigError, error) {
 	// Which air handler does each problem belong to? By the line ranges of
 	// the air_handlers items.
 	items := ahuLineRanges(root)
-	broken := map[int]*ConfigError{}
-	global := &ConfigError{File: ce.File}
+	broken := map[int]*Error{}
+	global := &Error{File: ce.File}
 	for _, p := range ce.Problems {
 		i := -1
 		for k, r := range items {
@@ -308,14 +308,14 @@ func LoadPartial(path string) (*Config, map[string]*ConfigError, error) {
 			continue
 		}
 		if broken[i] == nil {
-			broken[i] = &ConfigError{File: ce.File}
+			broken[i] = &Error{File: ce.File}
 		}
 		broken[i].Problems = append(broken[i].Problems, p)
 	}
 	if len(global.Problems) > 0 {
 		return nil, nil, ce
 	}
-	out := map[string]*ConfigError{}
+	out := map[string]*Error{}
 	var keep []AirHandler
 	ids := map[string]int{}
 	for i, a := range cfg.AirHandlers {
@@ -373,12 +373,12 @@ func ahuLineRanges(root *yaml.Node) [][2]int {
 
 // parseAll decodes and validates, returning the configuration, every
 // problem found and the YAML tree; err is set only when nothing could be read.
-func parseAll(r io.Reader, name string) (*Config, *ConfigError, *yaml.Node, error) {
+func parseAll(r io.Reader, name string) (*Config, *Error, *yaml.Node, error) {
 	data, err := io.ReadAll(r)
 	if err != nil {
 		return nil, nil, nil, fmt.Errorf("read config %s: %w", name, err)
 	}
-	ce := &ConfigError{File: name}
+	ce := &Error{File: name}
 	var root yaml.Node
 	if err := yaml.Unmarshal(data, &root); err != nil {
 		ce.add(yamlLine(err.Error()), "", strings.TrimPrefix(err.Error(), "yaml: "), "fix the YAML syntax (indentation uses spaces; quote values that contain ':' or '#')")
@@ -398,7 +398,7 @@ func parseAll(r io.Reader, name string) (*Config, *ConfigError, *yaml.Node, erro
 	cfg.applyDefaults()
 	// A misspelt key is reported once: not again as the key it meant
 	// being missing.
-	vce := &ConfigError{File: name}
+	vce := &Error{File: name}
 	cfg.validate(vce, &root)
 	for _, p := range vce.Problems {
 		if !underAny(p.Path, meant) {

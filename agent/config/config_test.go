@@ -104,7 +104,7 @@ func TestLoadConfig_Bad(t *testing.T) {
 		t.Run(tt.file, func(t *testing.T) {
 			_, err := Load(filepath.Join("../../testdata/config", tt.file))
 			require.Error(t, err)
-			var ce *ConfigError
+			var ce *Error
 			require.True(t, errors.As(err, &ce))
 			for _, w := range tt.want {
 				assert.Contains(t, err.Error(), w)
@@ -209,10 +209,10 @@ func TestConfig_FanCyclingAndAssumptions(t *testing.T) {
 		require.NotEqual(t, string(base), s, old)
 		return s
 	}
-	unit := func(t *testing.T, yaml string) *metrics.Unit {
+	unit := func(t *testing.T, yaml string) *metrics.AirHandler {
 		cfg, err := Parse(strings.NewReader(yaml), "c.yaml")
 		require.NoError(t, err)
-		return cfg.Unit(&cfg.AirHandlers[0])
+		return cfg.Spec(&cfg.AirHandlers[0])
 	}
 	u := unit(t, string(base))
 	assert.Equal(t, metrics.DefaultLeavingRHU, u.LeavingRHU)

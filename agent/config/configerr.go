@@ -22,13 +22,13 @@ type Problem struct {
 	Fix  string // what to do
 }
 
-// ConfigError lists every problem found in a configuration file.
-type ConfigError struct {
+// Error lists every problem found in a configuration file.
+type Error struct {
 	File     string
 	Problems []Problem
 }
 
-func (e *ConfigError) Error() string {
+func (e *Error) Error() string {
 	var b strings.Builder
 	fmt.Fprintf(&b, "%s: %d problem", e.File, len(e.Problems))
 	if len(e.Problems) != 1 {
@@ -52,7 +52,7 @@ func (e *ConfigError) Error() string {
 	return b.String()
 }
 
-func (e *ConfigError) add(line int, path, msg, fix string) {
+func (e *Error) add(line int, path, msg, fix string) {
 	e.Problems = append(e.Problems, Problem{Line: line, Path: path, Msg: msg, Fix: fix})
 }
 
@@ -76,7 +76,7 @@ func yamlLine(msg string) int {
 // of the wrong type names its key. It returns the key paths that a
 // misspelt key probably meant and that the file therefore lacks, so that
 // the caller does not report them missing as well.
-func (e *ConfigError) addDecodeErrors(err error, root *yaml.Node) (meant []string) {
+func (e *Error) addDecodeErrors(err error, root *yaml.Node) (meant []string) {
 	var te *yaml.TypeError
 	if !errors.As(err, &te) {
 		e.add(yamlLine(err.Error()), "", strings.TrimPrefix(err.Error(), "yaml: "), "fix the YAML")

@@ -24,7 +24,7 @@ func FuzzParseConfig(f *testing.F) {
 	f.Fuzz(func(t *testing.T, data []byte) {
 		cfg, err := Parse(bytes.NewReader(data), "fuzz.yaml")
 		if err != nil {
-			var ce *ConfigError
+			var ce *Error
 			if !errors.As(err, &ce) {
 				t.Fatalf("not a ConfigError: %T %v", err, err)
 			}
@@ -37,7 +37,7 @@ func FuzzParseConfig(f *testing.F) {
 			t.Fatalf("accepted an incomplete configuration: %+v", cfg)
 		}
 		for i := range cfg.AirHandlers {
-			_ = cfg.Unit(&cfg.AirHandlers[i]) // must not panic on anything accepted
+			_ = cfg.Spec(&cfg.AirHandlers[i]) // must not panic on anything accepted
 		}
 	})
 }

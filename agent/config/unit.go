@@ -7,14 +7,14 @@ import (
 	"github.com/dewline/dewline/psychro"
 )
 
-// Unit returns the engine's description of air handler a. The
+// Spec returns the engine's description of air handler a. The
 // configuration must have passed validation (Parse does that).
-func (c *Config) Unit(a *AirHandler) *metrics.Unit {
+func (c *Config) Spec(a *AirHandler) *metrics.AirHandler {
 	q := func(s string, k psychro.Kind) float64 {
 		v, _, _ := psychro.ParseQuantity(s, k, "")
 		return v
 	}
-	u := &metrics.Unit{
+	u := &metrics.AirHandler{
 		ID:         a.ID,
 		PressurePa: c.PressurePa,
 		LeavingRH:  a.LeavingRHFrac,

@@ -9,12 +9,12 @@ import (
 	"github.com/dewline/dewline/metrics"
 )
 
-func TestConfig_Unit(t *testing.T) {
+func TestConfig_Spec(t *testing.T) {
 	cfg, err := Load("../../deploy/examples/dewline.yaml")
 	require.NoError(t, err)
 	a1, ok := cfg.AirHandler("AHU-1")
 	require.True(t, ok)
-	u := cfg.Unit(a1)
+	u := cfg.Spec(a1)
 	assert.Equal(t, metrics.CoolingDX, u.Cooling)
 	assert.InEpsilon(t, 11.2/3.412142, u.RatedCOP, 1e-5, "EER 11.2 Btu/Wh as a COP")
 	assert.InDelta(t, 35, u.RatedOutdoorC, 1e-9, "95 °F rating point")
@@ -29,7 +29,7 @@ func TestConfig_Unit(t *testing.T) {
 	assert.Equal(t, metrics.DefaultAccuracy, u.Accuracy)
 
 	a2, _ := cfg.AirHandler("AHU-2")
-	u2 := cfg.Unit(a2)
+	u2 := cfg.Spec(a2)
 	assert.Equal(t, metrics.CoolingChilledWater, u2.Cooling)
 	assert.InDelta(t, 0.85/3.516853, u2.PlantKWPerKW, 1e-6)
 	assert.Equal(t, metrics.ReheatHotWater, u2.Reheat)

@@ -19,7 +19,7 @@ import (
 
 // validator collects problems with their lines.
 type validator struct {
-	ce   *ConfigError
+	ce   *Error
 	root *yaml.Node
 }
 
@@ -95,10 +95,10 @@ func (v *validator) temperatureIn(path []any, s string, loC, hiC float64, fix st
 	return x, true
 }
 
-func (c *Config) validate(ce *ConfigError, root *yaml.Node) {
+func (c *Config) validate(ce *Error, root *yaml.Node) {
 	v := &validator{ce: ce, root: root}
-	if c.Version != ConfigVersion {
-		v.bad([]any{"version"}, fmt.Sprintf("version %d is not supported", c.Version), fmt.Sprintf("set version: %d", ConfigVersion))
+	if c.Version != Version {
+		v.bad([]any{"version"}, fmt.Sprintf("version %d is not supported", c.Version), fmt.Sprintf("set version: %d", Version))
 	}
 	c.validateSite(v)
 	c.validateStore(v)

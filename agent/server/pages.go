@@ -40,7 +40,7 @@ func ServePages(ctx context.Context, o PagesOptions) error {
 	if err != nil {
 		return err
 	}
-	tel := telemetry.NewTelemetry()
+	tel := telemetry.New()
 	probe := func() error {
 		pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
 		defer cancel()
@@ -83,7 +83,7 @@ func ServePages(ctx context.Context, o PagesOptions) error {
 		}
 	}()
 	defer func() { stopProbe(); <-probed }()
-	srv, err := NewServer(ServerOptions{Listen: o.Listen, BearerToken: token, Telemetry: tel, Pages: o.Pages, Log: o.Log})
+	srv, err := New(Options{Listen: o.Listen, BearerToken: token, Telemetry: tel, Pages: o.Pages, Log: o.Log})
 	if err != nil {
 		return err
 	}

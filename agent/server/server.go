@@ -33,8 +33,8 @@ const MinTokenLength = config.MinTokenLength
 // loopback with a token shorter than MinTokenLength.
 var ErrWeakToken = errors.New("the bearer token is too short")
 
-// ServerOptions configures the agent's HTTP endpoint.
-type ServerOptions struct {
+// Options configures the agent's HTTP endpoint.
+type Options struct {
 	// Listen is host:port; port 0 picks a free port (see Server.Addr).
 	Listen string
 	// BearerToken, when set, is required by every route but /healthz and
@@ -62,7 +62,7 @@ type ServerOptions struct {
 // referrer, a same-origin Content-Security-Policy) and, unless the page sets
 // its own, Cache-Control: no-store.
 type Server struct {
-	opt     ServerOptions
+	opt     Options
 	log     zerolog.Logger
 	srv     *http.Server
 	tokenH  [sha256.Size]byte // hash of the token, compared in constant time
@@ -162,8 +162,8 @@ const (
 const contentSecurityPolicy = "default-src 'self'; script-src 'self'; style-src 'self'; img-src 'self' data:; " +
 	"object-src 'none'; base-uri 'none'; form-action 'self'; frame-ancestors 'none'"
 
-// NewServer checks the options and builds the server; Start listens.
-func NewServer(opt ServerOptions) (*Server, error) {
+// New checks the options and builds the server; Start listens.
+func New(opt Options) (*Server, error) {
 	if opt.Telemetry == nil {
 		return nil, errors.New("http server: telemetry is required")
 	}

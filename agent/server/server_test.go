@@ -26,12 +26,12 @@ import (
 
 // startServer starts a server on a free loopback port and stops it when the
 // test ends.
-func startServer(t *testing.T, opt ServerOptions) (*Server, string) {
+func startServer(t *testing.T, opt Options) (*Server, string) {
 	t.Helper()
 	if opt.Listen == "" {
 		opt.Listen = "127.0.0.1:0"
 	}
-	s, err := NewServer(opt)
+	s, err := New(opt)
 	require.NoError(t, err)
 	require.NoError(t, s.Start())
 	t.Cleanup(func() {
@@ -59,9 +59,9 @@ func get(t *testing.T, method, url, auth string) (*http.Response, string) {
 }
 
 func TestServer_Routes(t *testing.T) {
-	tel := telemetry.NewTelemetry()
+	tel := telemetry.New()
 	pages := http.HandlerFunc(func(w http.ResponseWriter, _ *http.Request) { _, _ = io.WriteString(w, "dashboard") })
-	_, base := startServer(t, ServerOptions{Telemetry: tel, Pages: pages, Log: zerolog.Nop()})
+	_, base := startServer(t, Options{Telemetry: tel, Pages: pages, Log: zerolog.Nop()})
 
 	resp, body := get(t, http.MethodGet, base+"/healthz", "")
 	assert.Equal(t, http.StatusOK, resp.StatusCode)
@@ -118,17 +118,17 @@ func TestServer_Routes(t *testing.T) {
 }
 
 func TestServer_NoPages(t *testing.T) {
-	_, base := startServer(t, ServerOptions{Telemetry: telemetry.NewTelemetry(), Log: zerolog.Nop()})
+	_, base := startServer(t, Options{Telemetry: telemetry.New(), Log: zerolog.Nop()})
 	resp, _ := get(t, http.MethodGet, base+"/", "")
 	assert.Equal(t, http.StatusNotFound, resp.StatusCode)
 }
 
 func TestServer_Auth(t *testing.T) {
 	const token = "s3cret-token-for-tests"
-	tel := telemetry.NewTelemetry()
+	tel := telemetry.New()
 	tel.SetStoreUp(true, "")
 	pages := http.HandlerFunc(func(w http.ResponseWriter, _ *http.Request) { _, _ = io.WriteString(w, "dashboard") })
-	_, base := startServer(t, ServerOptions{Telemetry: tel, BearerToken: token, Pages: pages, Log: zerolog.Nop()})
+	_, base := startServer(t, Options{Telemetry: tel, BearerToken: token, Pages: pages, Log: zerolog.Nop()})
 
 	tests := []struct {
 		name      string
@@ -196,7 +196,7 @@ func TestServer_Listen(t *testing.T) {
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
 			// Only built, never started: tests listen on loopback only.
-			_, err := NewServer(ServerOptions{Listen: tt.listen, BearerToken: tt.token, Telemetry: telemetry.NewTelemetry(), Log: zerolog.Nop()})
+			_, err := New(Options{Listen: tt.listen, BearerToken: tt.token, Telemetry: telemetry.New(), Log: zerolog.Nop()})
 			if tt.ok {
 				assert.NoError(t, err)
 				return
@@ -216,14 +216,14 @@ func TestServer_Listen(t *testing.T) {
 	bad := []struct{ name, listen string }{{"no port", "127.0.0.1"}, {"empty", ""}}
 	for _, tt := range bad {
 		t.Run(tt.name, func(t *testing.T) {
-			_, err := NewServer(ServerOptions{Listen: tt.listen, Telemetry: telemetry.NewTelemetry(), Log: zerolog.Nop()})
+			_, err := New(Options{Listen: tt.listen, Telemetry: telemetry.New(), Log: zerolog.Nop()})
 			require.Error(t, err)
 			assert.Contains(t, err.Error(), "http.listen")
 		})
 	}
 
 	t.Run("no telemetry", func(t *testing.T) {
-		_, err := NewServer(ServerOptions{Listen: "127.0.0.1:0", Log: zerolog.Nop()})
+		_, err := New(Options{Listen: "127.0.0.1:0", Log: zerolog.Nop()})
 		assert.Error(t, err)
 	})
 }
@@ -232,7 +232,7 @@ func TestServer_StartBindError(t *testing.T) {
 	taken, err := net.Listen("tcp", "127.0.0.1:0")
 	require.NoError(t, err)
 	defer taken.Close()
-	s, err := NewServer(ServerOptions{Listen: taken.Addr().String(), Telemetry: telemetry.NewTelemetry(), Log: zerolog.Nop()})
+	s, err := New(Options{Listen: taken.Addr().String(), Telemetry: telemetry.New(), Log: zerolog.Nop()})
 	require.NoError(t, err)
 	err = s.Start()
 	require.Error(t, err)
@@ -249,7 +249,7 @@ func TestServer_SecurityHeaders(t *testing.T) {
 		}
 		_, _ = io.WriteString(w, "page")
 	})
-	_, base := startServer(t, ServerOptions{Telemetry: telemetry.NewTelemetry(), BearerToken: token, Pages: pages, Log: zerolog.Nop()})
+	_, base := startServer(t, Options{Telemetry: telemetry.New(), BearerToken: token, Pages: pages, Log: zerolog.Nop()})
 
 	tests := []struct {
 		name  string
@@ -288,7 +288,7 @@ func TestServer_TokenNeverLogged(t *testing.T) {
 	const token = "tok-7f3a9c-never-log-me"
 	var logs testkit.SyncBuffer
 	lg := zerolog.New(&logs).Level(zerolog.DebugLevel)
-	_, base := startServer(t, ServerOptions{Telemetry: telemetry.NewTelemetry(), BearerToken: token, Log: lg})
+	_, base := startServer(t, Options{Telemetry: telemetry.New(), BearerToken: token, Log: lg})
 
 	get(t, http.MethodGet, base+"/metrics", "Bearer "+token)
 	get(t, http.MethodGet, base+"/metrics", "Bearer "+token+"-wrong")
@@ -305,7 +305,7 @@ func TestServer_TokenNeverLogged(t *testing.T) {
 }
 
 func TestServer_Shutdown(t *testing.T) {
-	s, err := NewServer(ServerOptions{Listen: "127.0.0.1:0", Telemetry: telemetry.NewTelemetry(), Log: zerolog.Nop()})
+	s, err := New(Options{Listen: "127.0.0.1:0", Telemetry: telemetry.New(), Log: zerolog.Nop()})
 	require.NoError(t, err)
 	require.NoError(t, s.Start())
 	assert.Error(t, s.Start(), "second start")
@@ -330,7 +330,7 @@ func TestServer_Shutdown(t *testing.T) {
 func TestServer_WrongTokensSlowDown(t *testing.T) {
 	const token = "s3cret-token-for-tests"
 	pages := http.HandlerFunc(func(w http.ResponseWriter, _ *http.Request) { _, _ = io.WriteString(w, "dashboard") })
-	srv, err := NewServer(ServerOptions{Listen: "127.0.0.1:0", Telemetry: telemetry.NewTelemetry(), BearerToken: token, Pages: pages, Log: zerolog.Nop()})
+	srv, err := New(Options{Listen: "127.0.0.1:0", Telemetry: telemetry.New(), BearerToken: token, Pages: pages, Log: zerolog.Nop()})
 	require.NoError(t, err)
 	var mu sync.Mutex
 	var waits []time.Duration

@@ -20,7 +20,7 @@ func SiteOf(cfg *config.Config) *dashboards.Site {
 		if name == "" {
 			name = a.ID
 		}
-		s.Units = append(s.Units, dashboards.Unit{ID: a.ID, Name: name, Spec: cfg.Unit(a)})
+		s.AirHandlers = append(s.AirHandlers, dashboards.AirHandler{ID: a.ID, Name: name, Spec: cfg.Spec(a)})
 	}
 	return s
 }

@@ -84,10 +84,10 @@ var (
 	writeBuckets = []float64{0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10, 30}
 )
 
-// NewTelemetry returns telemetry with every metric registered on its own
+// New returns telemetry with every metric registered on its own
 // registry. The store counts as not yet checked (and the agent as not
 // ready) until SetStoreUp is called.
-func NewTelemetry() *Telemetry {
+func New() *Telemetry {
 	t := &Telemetry{reg: prometheus.NewRegistry(), problems: map[string]string{}}
 	counter := func(name, help string) prometheus.Counter {
 		c := prometheus.NewCounter(prometheus.CounterOpts{Name: name, Help: help})

@@ -12,7 +12,7 @@ import (
 )
 
 func TestTelemetry_Metrics(t *testing.T) {
-	tel := NewTelemetry()
+	tel := New()
 	tel.RunStarted()
 	tel.RunFinished(2*time.Second, nil)
 	tel.RunStarted()
@@ -83,7 +83,7 @@ func TestTelemetry_Metrics(t *testing.T) {
 func TestTelemetry_OwnRegistry(t *testing.T) {
 	// Two agents in one process (tests, or a future multi-site binary) must
 	// not share or collide on a global registry.
-	a, b := NewTelemetry(), NewTelemetry()
+	a, b := New(), New()
 	a.RunSkipped()
 	got, ok := telemetrytest.Sample(telemetrytest.Scrape(t, b.Handler()), "dewline_runs_skipped_total")
 	require.True(t, ok)
@@ -177,7 +177,7 @@ func TestTelemetry_Ready(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			tel := NewTelemetry()
+			tel := New()
 			tt.do(tel)
 			ok, reasons := tel.Ready()
 			assert.Equal(t, tt.ready, ok)
@@ -197,7 +197,7 @@ func TestTelemetry_Ready(t *testing.T) {
 }
 
 func TestTelemetry_ProblemGauge(t *testing.T) {
-	tel := NewTelemetry()
+	tel := New()
 	tel.SetConfigProblem("ahu-2", "x")
 	v, ok := telemetrytest.Sample(telemetrytest.Scrape(t, tel.Handler()), "dewline_ahu_problem", "ahu", "ahu-2")
 	require.True(t, ok)
@@ -209,7 +209,7 @@ func TestTelemetry_ProblemGauge(t *testing.T) {
 }
 
 func TestTelemetry_RunInProgress(t *testing.T) {
-	tel := NewTelemetry()
+	tel := New()
 	tel.RunStarted()
 	v, _ := telemetrytest.Sample(telemetrytest.Scrape(t, tel.Handler()), "dewline_run_in_progress")
 	assert.Equal(t, 1.0, v)

@@ -29,12 +29,12 @@ import (
 
 // Headers of a webhook delivery.
 const (
-	// WebhookEventHeader carries "<alert id>/<transition>", the same for
+	// EventHeader carries "<alert id>/<transition>", the same for
 	// every attempt of one event: a receiver drops a repeat by it.
-	WebhookEventHeader = "X-Dewline-Event"
-	// WebhookSignatureHeader carries "sha256=<hex HMAC-SHA256 of the body>"
+	EventHeader = "X-Dewline-Event"
+	// SignatureHeader carries "sha256=<hex HMAC-SHA256 of the body>"
 	// keyed with the webhook secret, when one is set.
-	WebhookSignatureHeader = "X-Dewline-Signature"
+	SignatureHeader = "X-Dewline-Signature"
 )
 
 // Defaults of WebhookOptions.
@@ -54,8 +54,8 @@ const (
 	webhookFailLogEvery = 10 * time.Minute // error logs of a receiver that stays down
 )
 
-// WebhookOptions configures the delivery of alert events.
-type WebhookOptions struct {
+// Options configures the delivery of alert events.
+type Options struct {
 	URL string // http or https; it may hold a secret, so only its scheme and host are logged
 	// Secret, when set, signs each body (WebhookSignatureHeader). It never
 	// reaches logs or errors.
@@ -73,7 +73,7 @@ type WebhookOptions struct {
 	Poll        time.Duration // how often the store is looked at without a Kick; default 30s
 }
 
-// WebhookSender delivers alert events from an EventStore to a webhook by
+// Sender delivers alert events from an EventStore to a webhook by
 // HTTP POST. The store is the queue: events survive a restart, and MaxAge
 // bounds how long one waits.
 //
@@ -97,8 +97,8 @@ type WebhookOptions struct {
 // it delivered fails, only the mark is retried. Across a crash exactly
 // between a 2xx and the mark, the event is posted again on restart; its
 // WebhookEventHeader is the same, so the receiver can tell.
-type WebhookSender struct {
-	opt      WebhookOptions
+type Sender struct {
+	opt      Options
 	endpoint string // scheme://host, safe to log
 	client   *http.Client
 	log      zerolog.Logger
@@ -114,9 +114,9 @@ type WebhookSender struct {
 	wait func(ctx context.Context, d time.Duration) error
 }
 
-// NewWebhookSender checks the options, fills in defaults and returns a
+// New checks the options, fills in defaults and returns a
 // sender; Run delivers.
-func NewWebhookSender(opt WebhookOptions) (*WebhookSender, error) {
+func New(opt Options) (*Sender, error) {
 	u, err := url.Parse(opt.URL)
 	var problems []string
 	switch {
@@ -172,7 +172,7 @@ func NewWebhookSender(opt WebhookOptions) (*WebhookSender, error) {
 		client = &http.Client{CheckRedirect: func(*http.Request, []*http.Request) error { return http.ErrUseLastResponse }}
 	}
 	endpoint := u.Scheme + "://" + u.Host
-	return &WebhookSender{
+	return &Sender{
 		opt:      opt,
 		endpoint: endpoint,
 		client:   client,
@@ -185,7 +185,7 @@ func NewWebhookSender(opt WebhookOptions) (*WebhookSender, error) {
 
 // Kick wakes Run to look at the store now; the run loop calls it after
 // committing alerts. It never blocks.
-func (w *WebhookSender) Kick() {
+func (w *Sender) Kick() {
 	select {
 	case w.kick <- struct{}{}:
 	default:
@@ -195,7 +195,7 @@ func (w *WebhookSender) Kick() {
 // Run delivers pending events, then waits for a Kick or Poll, until ctx
 // ends; it returns nil then. Store and delivery errors are logged and
 // retried, never returned. Call Run from one goroutine only.
-func (w *WebhookSender) Run(ctx context.Context) error {
+func (w *Sender) Run(ctx context.Context) error {
 	timer := time.NewTimer(0)
 	defer timer.Stop()
 	for {
@@ -221,7 +221,7 @@ const (
 
 // pass delivers what is pending, in Seq order, until the store has no more
 // or an event must wait for a later pass.
-func (w *WebhookSender) pass(ctx context.Context) {
+func (w *Sender) pass(ctx context.Context) {
 	if w.opt.Clock().Before(w.notBefore) {
 		return
 	}
@@ -279,7 +279,7 @@ func (w *WebhookSender) pass(ctx context.Context) {
 }
 
 // deliver tries to post one event, retrying as WebhookSender says.
-func (w *WebhookSender) deliver(ctx context.Context, ev store.Event) outcome {
+func (w *Sender) deliver(ctx context.Context, ev store.Event) outcome {
 	lg := w.log.With().Int64("seq", ev.Seq).Str("alert_id", ev.AlertID).Str("transition", ev.Transition).Logger()
 	if !json.Valid(ev.Payload) {
 		w.opt.Telemetry.WebhookDropped()
@@ -346,7 +346,7 @@ func (w *WebhookSender) deliver(ctx context.Context, ev store.Event) outcome {
 // post makes one attempt. It returns the status, the wait a Retry-After
 // header asks for, the start of the answer (for a refusal) and a network
 // error stripped of the URL.
-func (w *WebhookSender) post(ctx context.Context, ev store.Event) (status int, retryAfter time.Duration, body string, err error) {
+func (w *Sender) post(ctx context.Context, ev store.Event) (status int, retryAfter time.Duration, body string, err error) {
 	ctx, cancel := context.WithTimeout(ctx, w.opt.Timeout)
 	defer cancel()
 	req, err := http.NewRequestWithContext(ctx, http.MethodPost, w.opt.URL, bytes.NewReader(ev.Payload))
@@ -355,9 +355,9 @@ func (w *WebhookSender) post(ctx context.Context, ev store.Event) (status int, r
 	}
 	req.Header.Set("Content-Type", "application/json")
 	req.Header.Set("User-Agent", "dewline")
-	req.Header.Set(WebhookEventHeader, headerSafe(ev.AlertID+"/"+ev.Transition))
+	req.Header.Set(EventHeader, headerSafe(ev.AlertID+"/"+ev.Transition))
 	if w.opt.Secret != "" {
-		req.Header.Set(WebhookSignatureHeader, signature(w.opt.Secret, ev.Payload))
+		req.Header.Set(SignatureHeader, signature(w.opt.Secret, ev.Payload))
 	}
 	resp, err := w.client.Do(req)
 	if err != nil {
@@ -376,7 +376,7 @@ func (w *WebhookSender) post(ctx context.Context, ev store.Event) (status int, r
 // backoff returns the wait after the attempt-th failure: Backoff doubled
 // per attempt, capped, with "equal jitter" (a random point in its upper
 // half) so that many agents do not retry in step.
-func (w *WebhookSender) backoff(attempt int) time.Duration {
+func (w *Sender) backoff(attempt int) time.Duration {
 	d := w.opt.Backoff
 	for i := 1; i < attempt && d < webhookMaxBackoff; i++ {
 		d *= 2

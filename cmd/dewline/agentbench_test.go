@@ -377,7 +377,7 @@ func (a benchIter) report(b *testing.B) {
 type benchAgent struct {
 	cfg   *config.Config
 	st    *stores
-	units map[string]ingest.UnitPoints
+	units map[string]ingest.AirHandlerPoints
 	dir   string
 	seq   int
 }
@@ -388,10 +388,10 @@ func newBenchAgent(b *testing.B, cfg *config.Config) *benchAgent {
 		b.Fatal(err)
 	}
 	b.Cleanup(st.Close)
-	units := map[string]ingest.UnitPoints{}
+	units := map[string]ingest.AirHandlerPoints{}
 	for i := range cfg.AirHandlers {
 		a := &cfg.AirHandlers[i]
-		units[a.ID] = ingest.UnitPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
+		units[a.ID] = ingest.AirHandlerPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
 	}
 	return &benchAgent{cfg: cfg, st: st, units: units, dir: b.TempDir()}
 }
@@ -425,7 +425,7 @@ func (ba *benchAgent) run(b *testing.B, site string, ahus []string, wantHrs int)
 	ba.seq++
 	statePath := filepath.Join(ba.dir, fmt.Sprintf("state-%d.db", ba.seq))
 	tr := &timedReader{r: ba.st.Store}
-	src := &timedSource{src: &ingest.StoreHours{Reader: tr, Units: ba.units, Step: ba.cfg.Grid.Step, IsMissing: ba.st.IsMissing}}
+	src := &timedSource{src: &ingest.StoreHours{Reader: tr, AirHandlers: ba.units, Step: ba.cfg.Grid.Step, IsMissing: ba.st.IsMissing}}
 	payload := func(t metrics.Transition) (json.RawMessage, error) {
 		return webhook.AlertPayload(t, ba.cfg.Prices.Currency)
 	}

@@ -98,13 +98,13 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		defer st.Close()
 	}
 
-	unitPoints := map[string]ingest.UnitPoints{}
+	unitPoints := map[string]ingest.AirHandlerPoints{}
 	for _, id := range ahus {
 		a, ok := cfg.AirHandler(id)
 		if !ok {
 			return usagef("--ahu %q: no such air handler in %s", id, *cfgPath)
 		}
-		unitPoints[id] = ingest.UnitPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
+		unitPoints[id] = ingest.AirHandlerPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
 	}
 	if len(inputs) == 0 && (from.IsZero() || to.IsZero()) {
 		// The period the store holds: from the first stored sample of the
@@ -135,10 +135,10 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 			return err
 		}
 		defer files.Close()
-		recSrc = &ingest.RecordHours{Src: files, Units: unitPoints, Step: cfg.Grid.Step}
+		recSrc = &ingest.RecordHours{Src: files, AirHandlers: unitPoints, Step: cfg.Grid.Step}
 		src = recSrc
 	} else {
-		storeSrc = &ingest.StoreHours{Reader: st, Units: unitPoints, Step: cfg.Grid.Step, IsMissing: st.IsMissing}
+		storeSrc = &ingest.StoreHours{Reader: st, AirHandlers: unitPoints, Step: cfg.Grid.Step, IsMissing: st.IsMissing}
 		src = storeSrc
 	}
 
@@ -253,7 +253,7 @@ func reportInputs(log zerolog.Logger, files *csvfile.Files, rh *ingest.RecordHou
 
 // storedSpan is the span of the stored samples of the air handlers'
 // points, in whole hours: analyze's period when none is given.
-func storedSpan(ctx context.Context, st *stores, ahus []string, points map[string]ingest.UnitPoints) (from, to time.Time, err error) {
+func storedSpan(ctx context.Context, st *stores, ahus []string, points map[string]ingest.AirHandlerPoints) (from, to time.Time, err error) {
 	sp, ok := st.Store.(store.SampleSpanner)
 	if !ok {
 		return time.Time{}, time.Time{}, usagef("give --from and --to: %s cannot tell the span of its samples", st.Describe())

@@ -148,7 +148,7 @@ func analyzeExport(b *testing.B, cfg *config.Config, path string) int {
 	}
 	defer files.Close()
 	src := &ingest.RecordHours{Src: files, Step: cfg.Grid.Step,
-		Units: map[string]ingest.UnitPoints{a.ID: {Points: a.PointMap(), Stale: cfg.StaleLimits(a)}}}
+		AirHandlers: map[string]ingest.AirHandlerPoints{a.ID: {Points: a.PointMap(), Stale: cfg.StaleLimits(a)}}}
 	an := &agent.Analyzer{Cfg: cfg, Source: src}
 	hours := 0
 	_, _, err = an.Run(context.Background(), time.Time{}, time.Time{}, nil, func(context.Context, *metrics.Record, []metrics.Transition) error {

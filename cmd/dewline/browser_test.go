@@ -54,7 +54,7 @@ func TestBrowser_Dashboard(t *testing.T) {
 
 	var site dashboards.SiteInfo
 	getJSON(t, base, "/api/v1/site", &site)
-	require.Len(t, site.AHUs, len(dashUnits))
+	require.Len(t, site.AHUs, len(dashAirHandlers))
 	require.NotNil(t, site.Last, "the analysis stored no hours")
 	// Sea level, standard atmosphere: the chart's published values hold there.
 	require.InDelta(t, 101325, float64(site.PressurePa), 0.5, "site pressure")
@@ -79,12 +79,12 @@ func TestBrowser_Dashboard(t *testing.T) {
 					shot := p.name == "week" || p.name == "month" && !ip
 					checkPage(t, b, base, "/?"+q, shot)
 					checkOverviewNumbers(t, b, base, q, ip, hourly)
-					for _, u := range dashUnits {
+					for _, u := range dashAirHandlers {
 						if u.id != "AHU-1" && p.name != "day" && p.name != "week" {
 							continue
 						}
 						checkPage(t, b, base, "/units/"+url.PathEscape(u.id)+"?"+q, shot && u.id == "AHU-1")
-						dashes += checkUnitNumbers(t, b, base, u.id, q, ip)
+						dashes += checkAirHandlerNumbers(t, b, base, u.id, q, ip)
 					}
 					checkPage(t, b, base, "/units/AHU-1/chart?"+q, shot)
 					checkPage(t, b, base, "/alerts?"+q, shot)
@@ -94,7 +94,7 @@ func TestBrowser_Dashboard(t *testing.T) {
 		// The unit with a dead airflow meter has no efficiency on the last day.
 		assert.Positive(t, dashes, "no missing value was shown as –: the scenario's gap did not reach the pages")
 		// The other units' charts, the chart with wet-bulb lines, a filter.
-		for _, u := range dashUnits[1:] {
+		for _, u := range dashAirHandlers[1:] {
 			checkPage(t, b, base, "/units/"+url.PathEscape(u.id)+"/chart?period=day&units=ip", false)
 		}
 		checkPage(t, b, base, "/units/AHU-1/chart?period=day&lines=wetbulb", true)
@@ -177,7 +177,7 @@ func checkOverviewNumbers(t *testing.T, b *browser, base, query string, ip bool,
 	t.Helper()
 	var api overviewAPI
 	getJSON(t, base, "/api/v1/overview?"+query, &api)
-	require.Len(t, api.Units, len(dashUnits))
+	require.Len(t, api.Units, len(dashAirHandlers))
 
 	water := func(kg dashboards.Num) float64 {
 		if ip {
@@ -259,8 +259,8 @@ func sumHourly(rows []map[string]string, ahu string, from, to time.Time) hourlyS
 	return s
 }
 
-// unitHoursAPI is the part of /api/v1/units/{id}/hours the test compares.
-type unitHoursAPI struct {
+// airHandlerHoursAPI is the part of /api/v1/units/{id}/hours the test compares.
+type airHandlerHoursAPI struct {
 	Units  string            `json:"units"`
 	Totals dashboards.Totals `json:"totals"`
 	Hours  []time.Time       `json:"hours"`
@@ -268,11 +268,11 @@ type unitHoursAPI struct {
 
 const unitCardsJS = `Object.fromEntries([...document.querySelectorAll('.cards [data-field]')].map(e => [e.dataset.field, e.textContent.trim()]))`
 
-// checkUnitNumbers compares the open unit page's cards with the API and
+// checkAirHandlerNumbers compares the open unit page's cards with the API and
 // returns how many missing values it showed.
-func checkUnitNumbers(t *testing.T, b *browser, base, id, query string, ip bool) int {
+func checkAirHandlerNumbers(t *testing.T, b *browser, base, id, query string, ip bool) int {
 	t.Helper()
-	var api unitHoursAPI
+	var api airHandlerHoursAPI
 	getJSON(t, base, "/api/v1/units/"+url.PathEscape(id)+"/hours?"+query, &api)
 	cards := eval[map[string]string](t, b, unitCardsJS)
 	tot := api.Totals

@@ -63,8 +63,8 @@ func mustZone(name string) *time.Location {
 	return z
 }
 
-// dashUnit is one air handler of the scenario.
-type dashUnit struct {
+// dashAirHandler is one air handler of the scenario.
+type dashAirHandler struct {
 	id, name, col string
 	// by day and by night: entering °C and RH %, coil leaving °C
 	dayT, dayRH, dayLAT       float64
@@ -73,7 +73,7 @@ type dashUnit struct {
 	deadFlowLastDay           bool
 }
 
-var dashUnits = []dashUnit{
+var dashAirHandlers = []dashAirHandler{
 	{id: "AHU-1", name: "Harbour hall outdoor-air unit", col: "A1", dayT: 29, dayRH: 76, dayLAT: 11.5, nightT: 22, nightRH: 45, nightLAT: 13,
 		satC: 18, flowLs: 2600},
 	{id: "AHU-2", name: xssName, col: "A2", dayT: 24.5, dayRH: 62, dayLAT: 11, nightT: 22.5, nightRH: 40, nightLAT: 12.5,
@@ -92,7 +92,7 @@ grid: {step: 5m}
 prices: {currency: USD, electricity_per_kwh: 0.14}
 air_handlers:
 `)
-	for _, u := range dashUnits {
+	for _, u := range dashAirHandlers {
 		fmt.Fprintf(&b, `  - id: %s
     name: %s
     cooling: {kind: dx, rated_eer: 10.5}
@@ -124,7 +124,7 @@ func writeDashTrends(t *testing.T, path string) {
 	lastDay := end.AddDate(0, 0, -1)
 	var b bytes.Buffer
 	b.WriteString("Time")
-	for _, u := range dashUnits {
+	for _, u := range dashAirHandlers {
 		fmt.Fprintf(&b, ",%[1]s_MAT,%[1]s_MARH,%[1]s_LAT,%[1]s_SAT,%[1]s_FLOW", u.col)
 	}
 	b.WriteString("\n")
@@ -133,7 +133,7 @@ func writeDashTrends(t *testing.T, path string) {
 		lh := ts.Hour()
 		day := lh >= 8 && lh < 20
 		x := float64(ts.Sub(first) / time.Minute)
-		for k, u := range dashUnits {
+		for k, u := range dashAirHandlers {
 			mat, rh, lat := u.nightT, u.nightRH, u.nightLAT
 			if day {
 				mat, rh, lat = u.dayT, u.dayRH, u.dayLAT

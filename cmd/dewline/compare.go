@@ -140,15 +140,15 @@ func compareStored(ctx context.Context, site *dashboards.Site, res dashboards.Re
 		in.Normal = compare.Window{From: normal.From, To: normal.To, Label: normal.Label}
 		windows = append(windows, in.Normal)
 	}
-	for _, u := range site.Units {
-		in.Units = append(in.Units, compare.Unit{ID: u.ID, Name: u.Name, Spec: u.Spec})
+	for _, u := range site.AirHandlers {
+		in.AirHandlers = append(in.AirHandlers, compare.AirHandler{ID: u.ID, Name: u.Name, Spec: u.Spec})
 	}
 	a, err := compare.New(in)
 	if err != nil {
 		return nil, err
 	}
 	ahu := ""
-	if units := a.Units(); len(units) == 1 {
+	if units := a.AirHandlers(); len(units) == 1 {
 		ahu = units[0].ID
 	}
 	for k, w := range windows {

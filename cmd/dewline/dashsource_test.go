@@ -59,9 +59,9 @@ func TestOverview_DaysAgreeWithHours(t *testing.T) {
 		require.NoError(t, err)
 		fromHours, err := dashboards.BuildOverview(t.Context(), site, hoursOnly{res}, p)
 		require.NoError(t, err)
-		require.Len(t, fromDays.Units, len(fromHours.Units))
-		for i := range fromDays.Units {
-			a, b := fromDays.Units[i], fromHours.Units[i]
+		require.Len(t, fromDays.AirHandlers, len(fromHours.AirHandlers))
+		for i := range fromDays.AirHandlers {
+			a, b := fromDays.AirHandlers[i], fromHours.AirHandlers[i]
 			assert.Equal(t, b.ID, a.ID)
 			assert.Equal(t, b.Totals.Hours, a.Totals.Hours)
 			assert.Equal(t, b.Totals.FlaggedHours, a.Totals.FlaggedHours)

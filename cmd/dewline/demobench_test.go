@@ -66,6 +66,6 @@ func BenchmarkDemo(b *testing.B) {
 				b.Fatal(err)
 			}
 		}
-		b.ReportMetric(float64(len(sc.Units)*int(sc.To.Sub(sc.From).Hours())), "hours")
+		b.ReportMetric(float64(len(sc.AirHandlers)*int(sc.To.Sub(sc.From).Hours())), "hours")
 	})
 }

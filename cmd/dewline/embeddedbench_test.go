@@ -39,7 +39,7 @@ func BenchmarkEmbeddedYear(b *testing.B) {
 		b.Fatal(err)
 	}
 	a := &cfg.AirHandlers[0]
-	units := map[string]ingest.UnitPoints{a.ID: {Points: a.PointMap(), Stale: cfg.StaleLimits(a)}}
+	units := map[string]ingest.AirHandlerPoints{a.ID: {Points: a.PointMap(), Stale: cfg.StaleLimits(a)}}
 	ix, err := ingest.NewPointIndex(units)
 	if err != nil {
 		b.Fatal(err)
@@ -117,7 +117,7 @@ func BenchmarkEmbeddedYear(b *testing.B) {
 	})
 	b.Run("analyze", func(b *testing.B) {
 		for b.Loop() {
-			src := &ingest.StoreHours{Reader: st, Units: units, Step: cfg.Grid.Step, IsMissing: st.IsMissing}
+			src := &ingest.StoreHours{Reader: st, AirHandlers: units, Step: cfg.Grid.Step, IsMissing: st.IsMissing}
 			an := &agent.Analyzer{Cfg: cfg, Source: src}
 			hours := 0
 			_, _, err := an.Run(ctx, from, to, nil, func(context.Context, *metrics.Record, []metrics.Transition) error {

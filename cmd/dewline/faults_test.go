@@ -218,7 +218,7 @@ type delivery struct{ key, body string }
 func (rc *webhookReceiver) ServeHTTP(w http.ResponseWriter, r *http.Request) {
 	body, _ := io.ReadAll(r.Body)
 	rc.mu.Lock()
-	rc.got = append(rc.got, delivery{r.Header.Get(webhook.WebhookEventHeader), string(body)})
+	rc.got = append(rc.got, delivery{r.Header.Get(webhook.EventHeader), string(body)})
 	n := len(rc.got)
 	rc.mu.Unlock()
 	if n == rc.hold {

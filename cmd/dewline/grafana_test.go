@@ -85,12 +85,12 @@ func TestGrafana_QueriesMatchAPI(t *testing.T) {
 	const period = "period=custom&from=2026-10-21&to=2026-10-30&units=si"
 	var ov dashboards.Overview
 	api("/api/v1/overview?"+period, &ov)
-	require.Len(t, ov.Units, len(cfg.AirHandlers))
+	require.Len(t, ov.AirHandlers, len(cfg.AirHandlers))
 	from, to := ov.Period.From, ov.Period.To
-	hours := map[string]*dashboards.UnitHours{}
+	hours := map[string]*dashboards.AirHandlerHours{}
 	var ids []string
-	for _, u := range ov.Units {
-		var uh dashboards.UnitHours
+	for _, u := range ov.AirHandlers {
+		var uh dashboards.AirHandlerHours
 		api("/api/v1/units/"+u.ID+"/hours?"+period, &uh)
 		require.NotEmpty(t, uh.Hours, u.ID)
 		hours[u.ID] = &uh
@@ -119,7 +119,7 @@ func TestGrafana_QueriesMatchAPI(t *testing.T) {
 			require.NoError(t, err)
 			units := []string{""}
 			switch name {
-			case grafana.Unit:
+			case grafana.AirHandler:
 				units = []string{"AHU-3", "AHU-4"} // the most avoidable cost; hot-water reheat
 			case grafana.Alerts:
 				units = []string{strings.Join(ids, "|")} // "All"
@@ -147,7 +147,7 @@ func TestGrafana_QueriesMatchAPI(t *testing.T) {
 					case "Air handlers by money at stake":
 						c.byAHU(ov, f == grafana.Flux)
 					case "Avoidable cost by air handler":
-						for _, u := range ov.Units {
+						for _, u := range ov.AirHandlers {
 							c.perAHU(u.ID, "cost_avoidable", float64(u.Totals.CostAvoidable))
 						}
 					case "Avoidable cost per day":
@@ -407,8 +407,8 @@ func (c *panelCheck) perAHU(ahu, name string, want float64) {
 
 func (c *panelCheck) byAHU(ov dashboards.Overview, ordered bool) {
 	c.t.Helper()
-	require.Len(c.t, c.rows, len(ov.Units), c.label)
-	for _, u := range ov.Units {
+	require.Len(c.t, c.rows, len(ov.AirHandlers), c.label)
+	for _, u := range ov.AirHandlers {
 		tt := u.Totals
 		for name, want := range map[string]dashboards.Num{
 			"cost_avoidable": tt.CostAvoidable, "cost": tt.Cost, "reheat_avoidable_kwh": tt.ReheatAvoid,
@@ -424,14 +424,14 @@ func (c *panelCheck) byAHU(ov dashboards.Overview, ordered bool) {
 	if !ordered {
 		sort.SliceStable(got, func(i, j int) bool { return num(got[i].v["cost_avoidable"]) > num(got[j].v["cost_avoidable"]) })
 	}
-	for i, u := range ov.Units {
+	for i, u := range ov.AirHandlers {
 		assert.Equal(c.t, u.ID, got[i].v["ahu"], "%s: rank %d", c.label, i+1)
 	}
 }
 
 // daily compares the sums per air handler and UTC day with the API's
 // hours summed the same way.
-func (c *panelCheck) daily(hours map[string]*dashboards.UnitHours) {
+func (c *panelCheck) daily(hours map[string]*dashboards.AirHandlerHours) {
 	c.t.Helper()
 	want := map[string]float64{}
 	for id, uh := range hours {
@@ -487,7 +487,7 @@ func (c *panelCheck) hourly(hs []time.Time, name string, want []dashboards.Num) 
 	require.Positive(c.t, n, "%s %s: the API has values", c.label, name)
 }
 
-func (c *panelCheck) flags(uh *dashboards.UnitHours) {
+func (c *panelCheck) flags(uh *dashboards.AirHandlerHours) {
 	c.t.Helper()
 	want := map[time.Time]string{}
 	for i, h := range uh.Hours {

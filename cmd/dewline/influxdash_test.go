@@ -46,20 +46,20 @@ func TestInflux_DashboardMatchesEmbedded(t *testing.T) {
 	require.NoError(t, err)
 	ovF, err := dashboards.BuildOverview(t.Context(), site, flux, p)
 	require.NoError(t, err)
-	require.Len(t, ovF.Units, len(ovE.Units))
-	for i := range ovE.Units {
-		a, b := ovE.Units[i].Totals, ovF.Units[i].Totals
+	require.Len(t, ovF.AirHandlers, len(ovE.AirHandlers))
+	for i := range ovE.AirHandlers {
+		a, b := ovE.AirHandlers[i].Totals, ovF.AirHandlers[i].Totals
 		require.Equal(t, 48, a.Hours)
 		assert.Equal(t, a.Hours, b.Hours)
 		assert.Equal(t, a.FlaggedHours, b.FlaggedHours)
-		assert.Equal(t, ovE.Units[i].OpenAlerts, ovF.Units[i].OpenAlerts)
-		assertSameTotals(t, a, b, ovE.Units[i].ID)
+		assert.Equal(t, ovE.AirHandlers[i].OpenAlerts, ovF.AirHandlers[i].OpenAlerts)
+		assertSameTotals(t, a, b, ovE.AirHandlers[i].ID)
 	}
 
-	u := site.Units[0]
-	hE, err := dashboards.BuildUnitHours(t.Context(), u, emb, p, dashboards.Display{IP: true})
+	u := site.AirHandlers[0]
+	hE, err := dashboards.BuildAirHandlerHours(t.Context(), u, emb, p, dashboards.Display{IP: true})
 	require.NoError(t, err)
-	hF, err := dashboards.BuildUnitHours(t.Context(), u, flux, p, dashboards.Display{IP: true})
+	hF, err := dashboards.BuildAirHandlerHours(t.Context(), u, flux, p, dashboards.Display{IP: true})
 	require.NoError(t, err)
 	require.Equal(t, hE.Hours, hF.Hours)
 	assert.Equal(t, hE.Flags, hF.Flags)

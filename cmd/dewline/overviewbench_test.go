@@ -21,8 +21,8 @@ import (
 // A portfolio of our own invention for the benchmark: 200 air handlers with
 // 30 days of hourly results each (144,000 records) in an embedded store.
 const (
-	portfolioUnits = 200
-	portfolioDays  = 30
+	portfolioAirHandlers = 200
+	portfolioDays        = 30
 	// maxPageBytes is the most the overview may weigh for a portfolio of
 	// this size: it has to stay quick to load over a slow site link.
 	maxPageBytes = 500 << 10
@@ -91,9 +91,9 @@ func portfolioStore(b *testing.B) (*embedded.Store, *dashboards.Site) {
 	b.Cleanup(func() { st.Close() })
 	site := &dashboards.Site{Name: "Benchmark portfolio", Zone: time.UTC, Currency: "USD", PressurePa: 101325}
 	from := portfolioEnd.AddDate(0, 0, -portfolioDays)
-	for k := range portfolioUnits {
+	for k := range portfolioAirHandlers {
 		id := fmt.Sprintf("AHU-%03d", k)
-		site.Units = append(site.Units, dashboards.Unit{ID: id, Name: fmt.Sprintf("Air handler %d, building %c", k%40, 'A'+k/40)})
+		site.AirHandlers = append(site.AirHandlers, dashboards.AirHandler{ID: id, Name: fmt.Sprintf("Air handler %d, building %c", k%40, 'A'+k/40)})
 		rows := make([]embedded.HourRow, 0, portfolioDays*24)
 		for h := from; h.Before(portfolioEnd); h = h.Add(time.Hour) {
 			r := portfolioRecord(k, h)
@@ -133,7 +133,7 @@ func BenchmarkOverview_Month(b *testing.B) {
 	require.NoError(b, err)
 	ctx := context.Background()
 	from := portfolioEnd.AddDate(0, 0, -portfolioDays)
-	const records = portfolioUnits * portfolioDays * 24
+	const records = portfolioAirHandlers * portfolioDays * 24
 
 	get := func(b *testing.B, path string) *httptest.ResponseRecorder {
 		rec := httptest.NewRecorder()
@@ -157,7 +157,7 @@ func BenchmarkOverview_Month(b *testing.B) {
 		report(b)
 		b.ReportMetric(float64(size), "bytes/page")
 		if size >= maxPageBytes {
-			b.Errorf("the overview of %d units weighs %d bytes, more than %d", portfolioUnits, size, maxPageBytes)
+			b.Errorf("the overview of %d units weighs %d bytes, more than %d", portfolioAirHandlers, size, maxPageBytes)
 		}
 	})
 	b.Run("api", func(b *testing.B) {
@@ -186,7 +186,7 @@ func BenchmarkOverview_Month(b *testing.B) {
 		b.ReportAllocs()
 		for b.Loop() {
 			n := 0
-			for _, u := range site.Units {
+			for _, u := range site.AirHandlers {
 				err := st.ReadRecords(ctx, u.ID, from, portfolioEnd, func(*metrics.Record) error { n++; return nil })
 				if err != nil {
 					b.Fatal(err)

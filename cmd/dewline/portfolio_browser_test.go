@@ -71,8 +71,8 @@ func TestPortfolio_Browser(t *testing.T) {
 	// The API says the same, with the site of each row.
 	var api dashboards.PortfolioOverview
 	getJSON(t, base, "/api/v1/portfolio?"+query, &api)
-	require.Len(t, api.Units, 2)
-	assert.Equal(t, first, api.Units[0].SiteID)
+	require.Len(t, api.AirHandlers, 2)
+	assert.Equal(t, first, api.AirHandlers[0].SiteID)
 	for _, s := range api.Sites {
 		assert.InEpsilon(t, want[s.ID], float64(s.Total.CostAvoidable), 1e-5, "%s: the API rounds to 6 significant digits", s.ID)
 	}

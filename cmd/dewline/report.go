@@ -180,7 +180,7 @@ func buildSiteReport(ctx context.Context, e *env, cfgPath string, rf reportFlags
 	}
 	display := dashboards.DisplayFor(rf.units, site.IP)
 	log = e.log.With().Str("from", from.UTC().Format(time.RFC3339)).Str("to", to.UTC().Format(time.RFC3339)).Logger()
-	log.Info().Int("ahus", len(site.Units)).Str("units", display.Name()).Msg("report: reading results")
+	log.Info().Int("ahus", len(site.AirHandlers)).Str("units", display.Name()).Msg("report: reading results")
 	prog := telemetry.NewProgress("report", log)
 	opt := dashboards.ReportOptions{
 		Display:   display,
@@ -197,7 +197,7 @@ func buildSiteReport(ctx context.Context, e *env, cfgPath string, rf reportFlags
 	}
 	// A period without results is not a clean bill of health: refuse it,
 	// as compare does, and warn when results cover only part of it.
-	if err := reportCoverage(ctx, res, rep.Overview.Total.Hours, len(site.Units), period, log); err != nil {
+	if err := reportCoverage(ctx, res, rep.Overview.Total.Hours, len(site.AirHandlers), period, log); err != nil {
 		if !rf.portfolio {
 			return nil, period, nil, log, fmt.Errorf("%s: %w", cfgPath, err)
 		}

@@ -62,7 +62,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	type site struct {
 		path   string
 		cfg    *config.Config
-		broken map[string]*config.ConfigError
+		broken map[string]*config.Error
 		owned  []string
 	}
 	var sites []site
@@ -126,7 +126,7 @@ type runFlags struct {
 
 // runSite runs one site's agent over its owned air handlers; prefix starts
 // each line of the --once summary (the site, when several run).
-func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]*config.ConfigError, owned []string, f runFlags, prefix string) error {
+func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]*config.Error, owned []string, f runFlags, prefix string) error {
 	once, dry, asOf, shardS, grace := &f.once, &f.dry, &f.asOf, &f.shard, &f.grace
 	// Each part names its component once: the HTTP server and the webhook
 	// sender add theirs to base, the run loop's is "agent".
@@ -143,12 +143,12 @@ func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]
 		return err
 	}
 	defer rs.Close()
-	units := map[string]ingest.UnitPoints{}
+	units := map[string]ingest.AirHandlerPoints{}
 	for _, id := range owned {
 		a, _ := cfg.AirHandler(id)
-		units[id] = ingest.UnitPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
+		units[id] = ingest.AirHandlerPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
 	}
-	tel := telemetry.NewTelemetry()
+	tel := telemetry.New()
 	// The store is up once it answers (the embedded file answers once open).
 	pctx, cancel := context.WithTimeout(ctx, 5*time.Second)
 	if err := st.Ping(pctx); err != nil {
@@ -164,7 +164,7 @@ func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]
 	}
 	// The backend itself, not its wrapper: StoreHours finds a batch reader
 	// (ingest.BatchReader) by type assertion.
-	source := &ingest.StoreHours{Reader: st.Store, Units: units, Step: cfg.Grid.Step, IsMissing: st.IsMissing,
+	source := &ingest.StoreHours{Reader: st.Store, AirHandlers: units, Step: cfg.Grid.Step, IsMissing: st.IsMissing,
 		OnRead: tel.PointsRead,
 		OnMissing: func(ahu string, role metrics.Role, point string) {
 			log.Warn().Str("ahu", ahu).Str("role", string(role)).Str("point", point).Msg("point has no data in the store")
@@ -222,7 +222,7 @@ func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]
 	if err != nil {
 		return err
 	}
-	srv, err := server.NewServer(server.ServerOptions{Listen: cfg.HTTP.Listen, BearerToken: token, Telemetry: tel, Pages: pages,
+	srv, err := server.New(server.Options{Listen: cfg.HTTP.Listen, BearerToken: token, Telemetry: tel, Pages: pages,
 		Log: base})
 	if err != nil {
 		return err
@@ -237,13 +237,13 @@ func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]
 		// check --store" does the same on demand.
 		agent.CheckPoints(ctx, pc, st.IsMissing, cfg, owned, tel.SetConfigProblem, log)
 	}
-	var sender *webhook.WebhookSender
+	var sender *webhook.Sender
 	if w := cfg.Webhook; w != nil {
 		secret, err := config.SecretFromEnv("webhook.secret_env", w.SecretEnv)
 		if err != nil {
 			return err
 		}
-		sender, err = webhook.NewWebhookSender(webhook.WebhookOptions{URL: w.URL, Secret: secret, Timeout: w.Timeout, MaxAge: w.MaxAge,
+		sender, err = webhook.New(webhook.Options{URL: w.URL, Secret: secret, Timeout: w.Timeout, MaxAge: w.MaxAge,
 			Store: rs, Telemetry: tel, Log: base})
 		if err != nil {
 			return err

@@ -30,8 +30,8 @@ func writeConfig(path string, g *generator, sc *Scenario) error {
 	p("# in the trend exports beside this file is synthetic, and so are the prices.\n")
 	p("#\n")
 	p("# Put in on purpose:\n")
-	p("#   %s's space RH sensor (%q) sticks from %s to %s;\n", sc.Stuck.Unit, sc.Stuck.Point, local(sc.Stuck.From), local(sc.Stuck.To))
-	p("#   %s's controller logs nothing from %s to %s;\n", sc.Gap.Unit, local(sc.Gap.From), local(sc.Gap.To))
+	p("#   %s's space RH sensor (%q) sticks from %s to %s;\n", sc.Stuck.AirHandler, sc.Stuck.Point, local(sc.Stuck.From), local(sc.Stuck.To))
+	p("#   %s's controller logs nothing from %s to %s;\n", sc.Gap.AirHandler, local(sc.Gap.From), local(sc.Gap.To))
 	if !sc.FallBack.IsZero() {
 		before, after := sc.FallBack.Add(-time.Second).In(g.loc), sc.FallBack.In(g.loc)
 		bz, _ := before.Zone()
@@ -62,8 +62,8 @@ func writeConfig(path string, g *generator, sc *Scenario) error {
 	p("alerts:\n  coil_min_leaving: 48F  # the coldest these coils reach\n\n")
 	p("exports:\n  day_first: \"no\"        # the rooftop unit's export writes dates month first (10/27/2026)\n\n")
 	p("air_handlers:\n")
-	for k := range g.units {
-		d := &g.units[k]
+	for k := range g.airHandlers {
+		d := &g.airHandlers[k]
 		c := d.cfg
 		p("  - id: %s\n", d.ID)
 		p("    name: %s\n", q(d.Name))

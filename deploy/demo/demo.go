@@ -43,8 +43,8 @@ type Options struct {
 	Start time.Time
 }
 
-// Unit is one air handler of the scenario.
-type Unit struct {
+// AirHandler is one air handler of the scenario.
+type AirHandler struct {
 	ID        string
 	Name      string
 	Behaviour string // one plain line: what its controls do
@@ -55,28 +55,28 @@ type Unit struct {
 
 // Artefact is a deliberate flaw in the logs.
 type Artefact struct {
-	Unit     string    // air handler id
-	Point    string    // series name in the export; empty when the whole controller is affected
-	Role     string    // the point's role in the configuration; empty with Point
-	From, To time.Time // UTC, [From, To)
-	What     string    // one plain line
+	AirHandler string    // air handler id
+	Point      string    // series name in the export; empty when the whole controller is affected
+	Role       string    // the point's role in the configuration; empty with Point
+	From, To   time.Time // UTC, [From, To)
+	What       string    // one plain line
 }
 
 // Scenario describes what Write produced.
 type Scenario struct {
-	Site       string
-	Zone       string
-	From, To   time.Time // UTC, whole hours: the analysed period, [From, To)
-	ConfigPath string    // the configuration written; its store is embedded, demo.db beside it
-	Exports    []string  // the trend exports written, full paths
-	Units      []Unit
-	Rows       int       // data rows written in all exports (headers not counted)
-	Bytes      int64     // size of the exports on disk
-	Stuck      Artefact  // the humidity sensor that reads one value
-	Gap        Artefact  // the controller that logged nothing
-	FallBack   time.Time // UTC instant the clocks go back inside the period; zero when they do not
-	Seed       int64     // the seed used (1 when Options.Seed was 0)
-	Days       int       // the length of the period in days
+	Site        string
+	Zone        string
+	From, To    time.Time // UTC, whole hours: the analysed period, [From, To)
+	ConfigPath  string    // the configuration written; its store is embedded, demo.db beside it
+	Exports     []string  // the trend exports written, full paths
+	AirHandlers []AirHandler
+	Rows        int       // data rows written in all exports (headers not counted)
+	Bytes       int64     // size of the exports on disk
+	Stuck       Artefact  // the humidity sensor that reads one value
+	Gap         Artefact  // the controller that logged nothing
+	FallBack    time.Time // UTC instant the clocks go back inside the period; zero when they do not
+	Seed        int64     // the seed used (1 when Options.Seed was 0)
+	Days        int       // the length of the period in days
 
 	truth [][]hourTruth // per unit, per hour of the period: what the equipment did
 }
@@ -143,10 +143,10 @@ func Write(dir string, opt Options) (*Scenario, error) {
 		loc: loc, pPa: pPa, from: sc.From, n: int(sc.To.Sub(sc.From) / time.Minute),
 		seed: uint64(opt.Seed),
 	}
-	g.units = units()
+	g.airHandlers = airHandlerDefs()
 	g.placeArtefacts(sc, opt.Days)
-	for i := range g.units {
-		sc.Units = append(sc.Units, g.units[i].Unit)
+	for i := range g.airHandlers {
+		sc.AirHandlers = append(sc.AirHandlers, g.airHandlers[i].AirHandler)
 	}
 	if err := g.run(dir, sc); err != nil {
 		return nil, err
@@ -195,14 +195,14 @@ func (g *generator) placeArtefacts(sc *Scenario, days int) {
 	gapFrom := time.Date(y, m, d+gapDay, 10, 20, 0, 0, g.loc)
 	gapTo := time.Date(y, m, d+gapDay, 16, 35, 0, 0, g.loc)
 	sc.Gap = Artefact{
-		Unit: "AHU-4", From: gapFrom.UTC(), To: gapTo.UTC(),
+		AirHandler: "AHU-4", From: gapFrom.UTC(), To: gapTo.UTC(),
 		What: "the laboratory controller is offline: no point of AHU-4 is logged",
 	}
 	stuckDay := days * 3 / 5
 	stuckFrom := time.Date(y, m, d+stuckDay, 14, 10, 0, 0, g.loc)
 	stuckTo := stuckFrom.Add(46*time.Hour + 50*time.Minute)
 	sc.Stuck = Artefact{
-		Unit: "RTU-5", Point: pointName(g.units, "RTU-5", "space_rh"), Role: "space_rh",
+		AirHandler: "RTU-5", Point: pointName(g.airHandlers, "RTU-5", "space_rh"), Role: "space_rh",
 		From: stuckFrom.UTC(), To: stuckTo.UTC(),
 		What: "the pharmacy space RH sensor sticks at one reading; the unit's controller believes it too",
 	}
@@ -212,7 +212,7 @@ func (g *generator) placeArtefacts(sc *Scenario, days int) {
 
 func minuteOf(from, t time.Time) int { return int(t.Sub(from) / time.Minute) }
 
-func pointName(us []unitDef, id, role string) string {
+func pointName(us []airHandlerDef, id, role string) string {
 	for _, u := range us {
 		if u.ID != id {
 			continue

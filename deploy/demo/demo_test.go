@@ -84,9 +84,9 @@ func TestScenario_Default(t *testing.T) {
 	// US daylight saving ends on the first Sunday of November, at 02:00
 	// CDT = 07:00 UTC (Energy Policy Act of 2005; Go's zone data agrees).
 	assert.Equal(t, time.Date(2026, 11, 1, 7, 0, 0, 0, time.UTC), sc.FallBack)
-	require.Len(t, sc.Units, 5)
+	require.Len(t, sc.AirHandlers, 5)
 	kinds := map[string]bool{}
-	for _, u := range sc.Units {
+	for _, u := range sc.AirHandlers {
 		kinds[u.Reheat] = true
 		assert.NotEmpty(t, u.Behaviour, u.ID)
 	}
@@ -108,7 +108,7 @@ func TestConfig_LoadsAndEveryPointHasData(t *testing.T) {
 	assert.Equal(t, filepath.Join(filepath.Dir(sc.ConfigPath), "demo.db"), cfg.StorePath())
 	assert.Greater(t, cfg.Prices.ElectricityPerKWh, 0.0)
 	assert.Greater(t, cfg.Prices.FuelPerKWh, 0.0)
-	require.Len(t, cfg.AirHandlers, len(sc.Units))
+	require.Len(t, cfg.AirHandlers, len(sc.AirHandlers))
 
 	recs, _ := readAll(t, sc, cfg)
 	count := map[string]int{}
@@ -117,7 +117,7 @@ func TestConfig_LoadsAndEveryPointHasData(t *testing.T) {
 	}
 	hours := int(sc.To.Sub(sc.From).Hours())
 	var roleSets []string
-	for i, u := range sc.Units {
+	for i, u := range sc.AirHandlers {
 		a := &cfg.AirHandlers[i]
 		require.Equal(t, u.ID, a.ID)
 		assert.Equal(t, u.Reheat, a.Reheat.Kind, u.ID)
@@ -136,7 +136,7 @@ func TestConfig_LoadsAndEveryPointHasData(t *testing.T) {
 	// The point sets differ between air handlers.
 	for i := range roleSets {
 		for j := i + 1; j < len(roleSets); j++ {
-			assert.NotEqual(t, roleSets[i], roleSets[j], "%s and %s map the same roles", sc.Units[i].ID, sc.Units[j].ID)
+			assert.NotEqual(t, roleSets[i], roleSets[j], "%s and %s map the same roles", sc.AirHandlers[i].ID, sc.AirHandlers[j].ID)
 		}
 	}
 }
@@ -234,16 +234,16 @@ func TestExports_Artefacts(t *testing.T) {
 
 	// Gap: no point of the offline unit in the window; its points are back
 	// within a heartbeat on both sides; the other controllers logged on.
-	var unitCfg *config.AirHandler
+	var ahuCfg *config.AirHandler
 	for i := range cfg.AirHandlers {
-		if cfg.AirHandlers[i].ID == sc.Gap.Unit {
-			unitCfg = &cfg.AirHandlers[i]
+		if cfg.AirHandlers[i].ID == sc.Gap.AirHandler {
+			ahuCfg = &cfg.AirHandlers[i]
 		}
 	}
-	require.NotNil(t, unitCfg)
+	require.NotNil(t, ahuCfg)
 	assert.GreaterOrEqual(t, sc.Gap.To.Sub(sc.Gap.From), 4*time.Hour, "several hours")
 	names := map[string]bool{}
-	for _, p := range unitCfg.Points {
+	for _, p := range ahuCfg.Points {
 		names[p.Name()] = true
 	}
 	lastBefore, firstAfter := map[string]time.Time{}, map[string]time.Time{}
@@ -288,7 +288,7 @@ func TestAnalysis_Behaviours(t *testing.T) {
 	an := analyse(t)
 	require.Empty(t, an.failed)
 	hours := int(sc.To.Sub(sc.From).Hours())
-	for _, u := range sc.Units {
+	for _, u := range sc.AirHandlers {
 		s := an.sums[u.ID]
 		require.NotNil(t, s, u.ID)
 		assert.Equal(t, hours, s.Hours, "%s: every hour of the period", u.ID)
@@ -378,22 +378,22 @@ func TestAnalysis_ArtefactAlerts(t *testing.T) {
 		}
 	}
 	require.Len(t, flat, 1, "one sensor_flat alert: %v", flat)
-	assert.Equal(t, sc.Stuck.Unit, flat[0].ahu)
+	assert.Equal(t, sc.Stuck.AirHandler, flat[0].ahu)
 	assert.Contains(t, flat[0].reason, sc.Stuck.Role)
 	// The first flat hour is the first whole hour after the sensor stuck.
 	assert.False(t, flat[0].start.Before(sc.Stuck.From), "flat from %s, stuck from %s", flat[0].start, sc.Stuck.From)
 	assert.True(t, flat[0].start.Before(sc.Stuck.From.Add(time.Hour)), "flat from %s, stuck from %s", flat[0].start, sc.Stuck.From)
 
 	require.Len(t, gap, 1, "one data_gap alert: %v", gap)
-	assert.Equal(t, sc.Gap.Unit, gap[0].ahu)
+	assert.Equal(t, sc.Gap.AirHandler, gap[0].ahu)
 	// The hour the controller went offline, once the last readings' 15
 	// minutes of hold ran out, is the first hour below half coverage.
 	assert.Equal(t, sc.Gap.From.Truncate(time.Hour), gap[0].start)
 
 	// Coverage is full everywhere else.
-	for _, u := range sc.Units {
+	for _, u := range sc.AirHandlers {
 		for _, r := range an.records[u.ID] {
-			if u.ID == sc.Gap.Unit && r.HourStart.Add(time.Hour).After(sc.Gap.From) && r.HourStart.Before(sc.Gap.To) {
+			if u.ID == sc.Gap.AirHandler && r.HourStart.Add(time.Hour).After(sc.Gap.From) && r.HourStart.Before(sc.Gap.To) {
 				continue
 			}
 			if r.Coverage < 0.98 {

@@ -29,17 +29,17 @@ type pointLog struct {
 
 // exportFile is one trend export being written.
 type exportFile struct {
-	name   string
-	path   string
-	f      *outfile.File // written aside, put in place by close
-	zw     *gzip.Writer
-	w      *bufio.Writer
-	buf    []byte
-	wide   bool
-	logs   []*pointLog
-	unit   *unitSim // nil for the weather station
-	rows   int
-	header string
+	name       string
+	path       string
+	f          *outfile.File // written aside, put in place by close
+	zw         *gzip.Writer
+	w          *bufio.Writer
+	buf        []byte
+	wide       bool
+	logs       []*pointLog
+	airHandler *airHandlerSim // nil for the weather station
+	rows       int
+	header     string
 }
 
 const flushAt = 64 << 10
@@ -148,9 +148,9 @@ func (g *generator) run(dir string, sc *Scenario) error {
 			return fmt.Errorf("%w: outdoor air: %v", errPhysics, err)
 		}
 	}
-	sims := make([]*unitSim, len(g.units))
-	for k := range g.units {
-		if sims[k], err = newUnitSim(g, k, g.pPa); err != nil {
+	sims := make([]*airHandlerSim, len(g.airHandlers))
+	for k := range g.airHandlers {
+		if sims[k], err = newAirHandlerSim(g, k, g.pPa); err != nil {
 			return err
 		}
 	}
@@ -160,7 +160,7 @@ func (g *generator) run(dir string, sc *Scenario) error {
 	jobs := make([]func() error, 0, len(files))
 	for k, s := range sims {
 		f := files[k]
-		jobs = append(jobs, func() error { return g.runUnit(dir, s, f, sc, wx, oa, clk) })
+		jobs = append(jobs, func() error { return g.runAirHandler(dir, s, f, sc, wx, oa, clk) })
 	}
 	ws := files[len(files)-1]
 	jobs = append(jobs, func() error { return g.runStation(dir, ws, &station, wx, clk) })
@@ -196,8 +196,8 @@ func (g *generator) run(dir string, sc *Scenario) error {
 	return nil
 }
 
-// runUnit simulates one air handler and writes its controller's export.
-func (g *generator) runUnit(dir string, s *unitSim, f *exportFile, sc *Scenario, wx *weather, oa []psychro.State, clk *clock) error {
+// runAirHandler simulates one air handler and writes its controller's export.
+func (g *generator) runAirHandler(dir string, s *airHandlerSim, f *exportFile, sc *Scenario, wx *weather, oa []psychro.State, clk *clock) error {
 	if err := f.open(dir); err != nil {
 		return err
 	}
@@ -207,8 +207,8 @@ func (g *generator) runUnit(dir string, s *unitSim, f *exportFile, sc *Scenario,
 		i := j - spinUp
 		mc.i, mc.wd, mc.h = i, clk.wd[j], clk.h[j]
 		mc.tOa, mc.wOa, mc.dpOa, mc.sun, mc.oa = wx.tC[j], wx.w[j], wx.dpC[j], wx.sun[j], oa[j]
-		mc.offline = i >= 0 && id == sc.Gap.Unit && i >= g.gapFrom && i < g.gapTo
-		stuck := i >= 0 && id == sc.Stuck.Unit && i >= g.stuckFrom && i < g.stuckTo
+		mc.offline = i >= 0 && id == sc.Gap.AirHandler && i >= g.gapFrom && i < g.gapTo
+		stuck := i >= 0 && id == sc.Stuck.AirHandler && i >= g.stuckFrom && i < g.stuckTo
 		if err := s.step(&mc, g.pPa, stuck); err != nil {
 			return fmt.Errorf("%s at %s: %w", id, clk.start.Add(time.Duration(j)*time.Minute).Format(time.RFC3339), err)
 		}
@@ -259,11 +259,11 @@ func (g *generator) runStation(dir string, f *exportFile, station *[2]float64, w
 }
 
 // exportFiles lays out one export per controller plus the weather station's.
-func (g *generator) exportFiles(sims []*unitSim, station *[2]float64) []*exportFile {
+func (g *generator) exportFiles(sims []*airHandlerSim, station *[2]float64) []*exportFile {
 	var files []*exportFile
-	for k := range g.units {
-		d := &g.units[k]
-		e := &exportFile{name: d.file, wide: d.wide, unit: sims[k]}
+	for k := range g.airHandlers {
+		d := &g.airHandlers[k]
+		e := &exportFile{name: d.file, wide: d.wide, airHandler: sims[k]}
 		for p := range d.points {
 			e.logs = append(e.logs, &pointLog{def: &d.points[p], val: &sims[k].read[d.points[p].sig]})
 		}

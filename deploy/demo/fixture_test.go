@@ -125,14 +125,14 @@ func runAnalysis(sc *demo.Scenario) (*analysis, error) {
 		return nil, err
 	}
 	defer files.Close()
-	units := map[string]ingest.UnitPoints{}
+	units := map[string]ingest.AirHandlerPoints{}
 	var ids []string
 	for i := range cfg.AirHandlers {
 		a := &cfg.AirHandlers[i]
 		ids = append(ids, a.ID)
-		units[a.ID] = ingest.UnitPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
+		units[a.ID] = ingest.AirHandlerPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
 	}
-	src := &ingest.RecordHours{Src: files, Units: units, Step: cfg.Grid.Step}
+	src := &ingest.RecordHours{Src: files, AirHandlers: units, Step: cfg.Grid.Step}
 	an := &agent.Analyzer{Cfg: cfg, Source: src}
 	out := &analysis{cfg: cfg, records: map[string][]metrics.Record{}}
 	put := func(_ context.Context, r *metrics.Record, tr []metrics.Transition) error {

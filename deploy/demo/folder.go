@@ -87,10 +87,10 @@ func (sc *Scenario) RemoveStore() error {
 // behaves, and how long it took to generate.
 func (sc *Scenario) Describe(w io.Writer, took time.Duration) {
 	zone, _ := time.LoadLocation(sc.Zone)
-	fmt.Fprintf(w, "  %s, %d air handlers, %s to %s (%s), %d trend rows in %d exports (%.1f s)\n", sc.Site, len(sc.Units),
+	fmt.Fprintf(w, "  %s, %d air handlers, %s to %s (%s), %d trend rows in %d exports (%.1f s)\n", sc.Site, len(sc.AirHandlers),
 		sc.From.In(zone).Format("2 Jan"), sc.To.In(zone).Add(-time.Hour).Format("2 Jan 2006"), sc.Zone, sc.Rows, len(sc.Exports),
 		took.Seconds())
-	for _, u := range sc.Units {
+	for _, u := range sc.AirHandlers {
 		fmt.Fprintf(w, "    %-6s %-34s %s\n", u.ID, u.Name, u.Behaviour)
 	}
 }

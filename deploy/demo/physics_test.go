@@ -18,7 +18,7 @@ import (
 // it gives (a boiler efficiency below 1).
 func TestPhysics_Invariants(t *testing.T) {
 	sc := scenario(t)
-	for k, u := range sc.Units {
+	for k, u := range sc.AirHandlers {
 		t.Run(u.ID, func(t *testing.T) {
 			tr := demo.Truth(sc, k)
 			require.Len(t, tr, int(sc.To.Sub(sc.From).Hours()))
@@ -64,7 +64,7 @@ func TestPhysics_Invariants(t *testing.T) {
 		}
 	}
 	assert.Positive(t, n)
-	for _, u := range sc.Units {
+	for _, u := range sc.AirHandlers {
 		for _, r := range an.records[u.ID] {
 			if r.ReheatKWh > 1 {
 				assert.GreaterOrEqual(t, r.SupplyTempC, r.LeavingTempC, "%s %s: supply below coil leaving with reheat on", u.ID, r.HourStart)
@@ -94,7 +94,7 @@ func TestPhysics_Invariants(t *testing.T) {
 func TestPhysics_EnergyBalance(t *testing.T) {
 	sc := scenario(t)
 	an := analyse(t)
-	for k, u := range sc.Units {
+	for k, u := range sc.AirHandlers {
 		t.Run(u.ID, func(t *testing.T) {
 			tr := demo.Truth(sc, k)
 			var coilT, coilA, waterT, waterA, waterU, reheatT, reheatA float64

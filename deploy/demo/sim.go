@@ -11,12 +11,12 @@ import (
 
 // generator holds one run of the scenario.
 type generator struct {
-	loc   *time.Location
-	pPa   float64
-	from  time.Time
-	n     int // minutes in the period
-	seed  uint64
-	units []unitDef
+	loc         *time.Location
+	pPa         float64
+	from        time.Time
+	n           int // minutes in the period
+	seed        uint64
+	airHandlers []airHandlerDef
 
 	gapFrom, gapTo     int // minutes of the period
 	stuckFrom, stuckTo int
@@ -30,12 +30,12 @@ const spinUp = 36 * 60
 const (
 	streamWeather = iota + 1
 	streamStation
-	streamUnit // + unit index
+	streamAirHandler // + unit index
 )
 
-// unitSim is the state of one air handler and its zone.
-type unitSim struct {
-	d   *unitDef
+// airHandlerSim is the state of one air handler and its zone.
+type airHandlerSim struct {
+	d   *airHandlerDef
 	rng *rand.Rand
 
 	tSp, wSp         float64 // zone dry bulb (°C) and humidity ratio (kg/kg)
@@ -55,9 +55,9 @@ type unitSim struct {
 	truth []hourTruth
 }
 
-func newUnitSim(g *generator, idx int, pPa float64) (*unitSim, error) {
-	d := &g.units[idx]
-	s := &unitSim{d: d, rng: g.rng(streamUnit + uint64(idx))}
+func newAirHandlerSim(g *generator, idx int, pPa float64) (*airHandlerSim, error) {
+	d := &g.airHandlers[idx]
+	s := &airHandlerSim{d: d, rng: g.rng(streamAirHandler + uint64(idx))}
 	s.tSp = d.spaceSetC
 	w, err := psychro.HumRatioFromDewPoint(12.5, pPa)
 	if err != nil {
@@ -112,10 +112,10 @@ func tempAtRH(w, rhFrac, pPa float64) (float64, error) {
 	return psychro.DewPointFromVapPressure(pw / rhFrac)
 }
 
-func (s *unitSim) noise(sd float64) float64 { return sd * s.rng.NormFloat64() }
+func (s *airHandlerSim) noise(sd float64) float64 { return sd * s.rng.NormFloat64() }
 
 // step advances the unit by one minute and sets its readings.
-func (s *unitSim) step(c *minuteCtx, pPa float64, stuck bool) error {
+func (s *airHandlerSim) step(c *minuteCtx, pPa float64, stuck bool) error {
 	d := s.d
 	const dt = 60.0
 	occ := d.hours.occupancy(c.wd, c.h)
@@ -410,7 +410,7 @@ func coilBypass(in psychro.State, leavingC, bf float64) (psychro.State, error) {
 
 // off is a minute with the fan stopped: the zone floats, the air in the
 // unit drifts toward the mechanical room's.
-func (s *unitSim) off(c *minuteCtx, qs, gain, dt, pPa float64) {
+func (s *airHandlerSim) off(c *minuteCtx, qs, gain, dt, pPa float64) {
 	d := s.d
 	s.qRh = 0
 	s.tSp += dt / d.capKJK * (qs + d.infil*cpa(c.wOa)*(c.tOa-s.tSp))

@@ -100,9 +100,9 @@ func (s schedule) occupied(wd time.Weekday, h float64) bool {
 	return off > on && h >= on && h < off
 }
 
-// unitDef is an air handler: equipment, zone, controls and points.
-type unitDef struct {
-	Unit
+// airHandlerDef is an air handler: equipment, zone, controls and points.
+type airHandlerDef struct {
+	AirHandler
 	ctrl   control
 	file   string
 	wide   bool // wide 5-minute export with month-first dates
@@ -156,8 +156,8 @@ type cfgFacts struct {
 	target        [2]string // key, value
 }
 
-// units returns the five air handlers.
-func units() []unitDef {
+// airHandlerDefs returns the five air handlers.
+func airHandlerDefs() []airHandlerDef {
 	weekdays := func(on, off float64) schedule {
 		var s schedule
 		for d := time.Monday; d <= time.Friday; d++ {
@@ -173,9 +173,9 @@ func units() []unitDef {
 	pharmacy[time.Saturday] = [2]float64{8, 20}
 	longHeader := [4]string{"Timestamp", "Point Name", "Value", "Units"}
 
-	return []unitDef{
+	return []airHandlerDef{
 		{
-			Unit: Unit{ID: "AHU-1", Name: "Clinic wing", Cooling: "dx", Reheat: "electric",
+			AirHandler: AirHandler{ID: "AHU-1", Name: "Clinic wing", Cooling: "dx", Reheat: "electric",
 				Behaviour: "good dew-point control: coil leaving temperature reset to what the zone dew-point target needs, electric reheat only to make up the supply temperature"},
 			ctrl: ctrlDewPointReset, file: "ahu-1-clinic-cov.csv", header: longHeader,
 			cfm: 12000, oaOcc: 0.25, fanRiseK: 1.6 / 1.8, hours: clinic,
@@ -198,7 +198,7 @@ func units() []unitDef {
 			},
 		},
 		{
-			Unit: Unit{ID: "AHU-2", Name: "Imaging suite", Cooling: "dx", Reheat: "electric",
+			AirHandler: AirHandler{ID: "AHU-2", Name: "Imaging suite", Cooling: "dx", Reheat: "electric",
 				Behaviour: "coil held at 50 °F and electric reheat to a fixed 60 °F supply, whatever the humidity"},
 			ctrl: ctrlColdCoil, file: "ahu-2-imaging-cov.csv", header: longHeader,
 			cfm: 10000, oaOcc: 0.2, fanRiseK: 1.0, hours: imaging,
@@ -219,7 +219,7 @@ func units() []unitDef {
 			},
 		},
 		{
-			Unit: Unit{ID: "AHU-3", Name: "Administration", Cooling: "dx", Reheat: "electric",
+			AirHandler: AirHandler{ID: "AHU-3", Name: "Administration", Cooling: "dx", Reheat: "electric",
 				Behaviour: "schedule fault: runs all night with the outdoor damper shut, cooling to 53 °F and reheating while the air is already dry"},
 			ctrl: ctrlScheduleFault, file: "ahu-3-admin-cov.csv", header: longHeader,
 			cfm: 8000, oaOcc: 0.2, oaUnocc: 0, fanRiseK: 1.2 / 1.8, hours: weekdays(7, 18), alwaysOn: true,
@@ -242,7 +242,7 @@ func units() []unitDef {
 			},
 		},
 		{
-			Unit: Unit{ID: "AHU-4", Name: "Laboratory (100 % outdoor air)", Cooling: "chilled_water", Reheat: "hot_water",
+			AirHandler: AirHandler{ID: "AHU-4", Name: "Laboratory (100 % outdoor air)", Cooling: "chilled_water", Reheat: "hot_water",
 				Behaviour: "100 % outdoor air: chilled-water coil reset on the outdoor dew point, hot-water reheat from a gas boiler, priced as fuel"},
 			ctrl: ctrlOutdoorReset, file: "ahu-4-lab-cov.csv.gz", gz: true, header: longHeader,
 			cfm: 14000, actual: true, oaOcc: 1, oaUnocc: 1, blowThrough: true, fanRiseK: 1.0, hours: weekdays(7, 19), alwaysOn: true,
@@ -265,7 +265,7 @@ func units() []unitDef {
 			},
 		},
 		{
-			Unit: Unit{ID: "RTU-5", Name: "Pharmacy and storage", Cooling: "dx", Reheat: "recovered",
+			AirHandler: AirHandler{ID: "RTU-5", Name: "Pharmacy and storage", Cooling: "dx", Reheat: "recovered",
 				Behaviour: "packaged unit with hot-gas (condenser heat) reheat in dehumidification mode: reheat from recovered heat, no purchased reheat energy"},
 			ctrl: ctrlHotGas, file: "rtu-5-pharmacy-5min.csv", wide: true,
 			cfm: 6000, oaOcc: 0.15, oaUnocc: 0.15, fanRiseK: 0.9 / 1.8, hours: pharmacy, alwaysOn: true,

@@ -24,13 +24,13 @@ func DatasourceUID(f Flavour) string { return "dewline-" + string(f) }
 
 // Dashboard names, used in uids and file names.
 const (
-	Overview = "overview"
-	Unit     = "unit"
-	Alerts   = "alerts"
+	Overview   = "overview"
+	AirHandler = "unit"
+	Alerts     = "alerts"
 )
 
 // Names lists the dashboards in file order.
-var Names = []string{Overview, Unit, Alerts}
+var Names = []string{Overview, AirHandler, Alerts}
 
 // UID is a dashboard's uid.
 func UID(name string, f Flavour) string { return "dewline-" + name + "-" + string(f) }
@@ -49,7 +49,7 @@ func Build(name string, f Flavour) (dashboard.Dashboard, error) {
 			SortBy([]cog.Builder[common.TableSortByFieldState]{common.NewTableSortByFieldStateBuilder().DisplayName("cost_avoidable").Desc(true)}).
 			OverrideByName(tagAHU, []dashboard.DynamicConfigValue{{Id: "links", Value: []map[string]any{{
 				"title": "Hours of ${__value.text}",
-				"url":   unitLink(f),
+				"url":   airHandlerLink(f),
 			}}}}).
 			Span(24).Height(9))
 		d.WithPanel(bargauge.NewPanelBuilder().Title("Avoidable cost by air handler").
@@ -64,10 +64,10 @@ func Build(name string, f Flavour) (dashboard.Dashboard, error) {
 			DrawStyle(common.GraphDrawStyleBars).FillOpacity(60).
 			Stacking(common.NewStackingConfigBuilder().Mode(common.StackingModeNormal)).
 			Span(12).Height(9))
-	case Unit:
+	case AirHandler:
 		d = dashboard.NewDashboardBuilder("dewline: one air handler's hours (" + lang + ")").
 			Description("One air handler hour by hour: energy, coil leaving against required temperature, water removed with its 95 % band, effective EER, data-quality flags.")
-		d.WithPanel(statPanel("Totals over the range", "Avoidable cost, avoidable reheat (kWh), reheat (kWh) and water removed (kg).", qs.qUnitTotals, f).Span(24).Height(5))
+		d.WithPanel(statPanel("Totals over the range", "Avoidable cost, avoidable reheat (kWh), reheat (kWh) and water removed (kg).", qs.qAirHandlerTotals, f).Span(24).Height(5))
 		d.WithPanel(seriesPanel("Energy per hour", "Cooling input, reheat the humidity target needed and reheat it did not need (kWh per hour).", qs.qEnergy, f).
 			Unit("kwatth").Stacking(common.NewStackingConfigBuilder().Mode(common.StackingModeNormal)).FillOpacity(40).Span(24).Height(9))
 		d.WithPanel(seriesPanel("Coil leaving against required", "Coil leaving temperature, the leaving temperature the humidity target required, supply temperature and entering dew point (°C).", qs.qTemps, f).
@@ -105,10 +105,10 @@ func Build(name string, f Flavour) (dashboard.Dashboard, error) {
 	return d.Build()
 }
 
-// unitLink opens the unit dashboard of the flavour on the air handler of
+// airHandlerLink opens the unit dashboard of the flavour on the air handler of
 // the clicked cell, keeping the time range and the data source.
-func unitLink(f Flavour) string {
-	u := "/d/" + UID(Unit, f) + "?var-" + tagAHU + "=${__value.raw}&var-ds=${ds}&${__url_time_range}"
+func airHandlerLink(f Flavour) string {
+	u := "/d/" + UID(AirHandler, f) + "?var-" + tagAHU + "=${__value.raw}&var-ds=${ds}&${__url_time_range}"
 	if f == Flux {
 		u += "&var-bucket=${bucket}"
 	}

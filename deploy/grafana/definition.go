@@ -137,7 +137,7 @@ var overviewFields = []string{"cost_avoidable", "cost", "reheat_avoidable_kwh", 
 
 // queries are the queries of every panel, built from scopeTags by newQueries.
 type queries struct {
-	qMoney, qByAHU, qAvoidByAHU, qDaily, qUnitTotals, qEnergy, qTemps, qEERCoverage, qWater, qFlags, qAlerts, qOpen q
+	qMoney, qByAHU, qAvoidByAHU, qDaily, qAirHandlerTotals, qEnergy, qTemps, qEERCoverage, qWater, qFlags, qAlerts, qOpen q
 }
 
 // Queries of every panel. Sums skip hours where a field has no value, as
@@ -172,7 +172,7 @@ func newQueries() *queries {
 		flux: fluxFrom(measHourly, false, "v.timeRangeStart") + fieldFilter("cost_avoidable") +
 			"  |> aggregateWindow(every: 1d, fn: sum, createEmpty: false, timeSrc: \"_start\")\n",
 	}
-	x.qUnitTotals = q{
+	x.qAirHandlerTotals = q{
 		influxQL: "SELECT " + sums("cost_avoidable", "reheat_avoidable_kwh", "reheat_kwh", "water_removed_kg") + " " + hourly + where(true, "$timeFilter"),
 		table:    true,
 		flux: fluxFrom(measHourly, true, "v.timeRangeStart") + fieldFilter("cost_avoidable", "reheat_avoidable_kwh", "reheat_kwh", "water_removed_kg") +

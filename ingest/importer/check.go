@@ -22,10 +22,10 @@ type Checks struct {
 
 // NewChecks indexes the configured points for inspection.
 func NewChecks(cfg *config.Config) (*Checks, error) {
-	units := map[string]ingest.UnitPoints{}
+	units := map[string]ingest.AirHandlerPoints{}
 	for i := range cfg.AirHandlers {
 		a := &cfg.AirHandlers[i]
-		units[a.ID] = ingest.UnitPoints{Points: a.PointMap()}
+		units[a.ID] = ingest.AirHandlerPoints{Points: a.PointMap()}
 	}
 	ix, err := ingest.NewPointIndex(units)
 	if err != nil {

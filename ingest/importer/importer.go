@@ -60,10 +60,10 @@ func (e *NothingWrittenError) Error() string { return e.msg }
 
 // Index builds the point index of the configured air handlers.
 func Index(cfg *config.Config) (ingest.PointIndex, error) {
-	units := map[string]ingest.UnitPoints{}
+	units := map[string]ingest.AirHandlerPoints{}
 	for i := range cfg.AirHandlers {
 		a := &cfg.AirHandlers[i]
-		units[a.ID] = ingest.UnitPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
+		units[a.ID] = ingest.AirHandlerPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
 	}
 	return ingest.NewPointIndex(units)
 }

@@ -500,7 +500,7 @@ func normalised(f, post *modelForm, rows []hourRow, q int, norm normSpec) *Norma
 }
 
 // humidityOf reports the supply dew point against the unit's target.
-func humidityOf(spec *metrics.Unit, before, after []hourRow) Humidity {
+func humidityOf(spec *metrics.AirHandler, before, after []hourRow) Humidity {
 	nan := Num(math.NaN())
 	h := Humidity{TargetDPC: nan, MeanBefore: nan, MeanAfter: nan, AboveBefore: nan, AboveAfter: nan, Held: "unknown"}
 	target := math.NaN()
@@ -570,7 +570,7 @@ func fmtPct1(v float64) string {
 
 // siteSavings adds the units' savings of quantity q; the units' models are
 // independent, so their half-widths add in quadrature.
-func siteSavings(units []UnitComparison, q int) Savings {
+func siteSavings(units []AirHandlerComparison, q int) Savings {
 	s := Savings{Quantity: yNames[q], Fit: FitStats{MeanY: Num(math.NaN()), CVRMSE: Num(math.NaN()), NMBE: Num(math.NaN()), R2: Num(math.NaN()), Rho: Num(math.NaN()), NEff: Num(math.NaN())}}
 	var b, m, u68, u90, r68, r90 float64
 	n := 0

@@ -91,7 +91,7 @@ type Options struct {
 	// Energies of partly covered hours are not scaled up, so they would
 	// pull a bin's mean down.
 	MinCoverage float64
-	Units       []string // compare only these units (default: every configured unit)
+	AirHandlers []string // compare only these units (default: every configured unit)
 	// NormaliseTo also reports the savings normalised to the drivers of
 	// "before", "after" or "period" (Input.Normal; default: none).
 	NormaliseTo string
@@ -111,8 +111,8 @@ type Comparison struct {
 	BinMethod string `json:"bin_method"`
 	Normalise string `json:"normalised_to,omitempty"` // before, after or period, when asked
 	// NormalPeriod is the period normalised to, for "period".
-	NormalPeriod *Window          `json:"normalised_period,omitempty"`
-	Units        []UnitComparison `json:"units"`
+	NormalPeriod *Window                `json:"normalised_period,omitempty"`
+	AirHandlers  []AirHandlerComparison `json:"units"`
 	// Total sums the units: the models' savings, and the bin check of the
 	// units that could be compared (a unit without common bins is left
 	// out of it and named in Warnings).
@@ -285,15 +285,15 @@ func (s *side) add(r *metrics.Record, binK, minCov float64) {
 // with New, give it every stored hour of each period with Add (in any
 // order), then call Result.
 type Analysis struct {
-	in       Input
-	units    []Unit
-	index    map[string]int
-	sides    [][2]side
-	minCov   []float64
-	raw      [2]Sums
-	rows     [][3][]hourRow
-	suspect  [][2]int
-	pressure []float64
+	in          Input
+	airHandlers []AirHandler
+	index       map[string]int
+	sides       [][2]side
+	minCov      []float64
+	raw         [2]Sums
+	rows        [][3][]hourRow
+	suspect     [][2]int
+	pressure    []float64
 }
 
 // New checks the input and returns an empty analysis.
@@ -333,18 +333,18 @@ func New(in Input) (*Analysis, error) {
 		return nil, fmt.Errorf("%w: before %s, after %s; choose periods that do not share any hour",
 			ErrPeriodsOverlap, before.Label, after.Label)
 	}
-	units := in.Units
-	if len(opt.Units) > 0 {
+	units := in.AirHandlers
+	if len(opt.AirHandlers) > 0 {
 		units = nil
-		for _, id := range opt.Units {
-			i := slices.IndexFunc(in.Units, func(u Unit) bool { return u.ID == id })
+		for _, id := range opt.AirHandlers {
+			i := slices.IndexFunc(in.AirHandlers, func(u AirHandler) bool { return u.ID == id })
 			if i < 0 {
 				return nil, fmt.Errorf("compare: no air handler %q in the configuration", id)
 			}
-			units = append(units, in.Units[i])
+			units = append(units, in.AirHandlers[i])
 		}
 	}
-	a := &Analysis{in: in, units: units, index: map[string]int{}, sides: make([][2]side, len(units)),
+	a := &Analysis{in: in, airHandlers: units, index: map[string]int{}, sides: make([][2]side, len(units)),
 		minCov: make([]float64, len(units)), raw: [2]Sums{NewSums(), NewSums()}, rows: make([][3][]hourRow, len(units)), suspect: make([][2]int, len(units))}
 	for i, u := range units {
 		a.index[u.ID] = i
@@ -364,8 +364,8 @@ func New(in Input) (*Analysis, error) {
 	return a, nil
 }
 
-// Units returns the units compared, in configuration order.
-func (a *Analysis) Units() []Unit { return a.units }
+// AirHandlers returns the units compared, in configuration order.
+func (a *Analysis) AirHandlers() []AirHandler { return a.airHandlers }
 
 // Add takes one stored hour of period s. Hours of other units, and hours
 // outside the period's window, are ignored. r is not kept.
@@ -442,25 +442,25 @@ func (a *Analysis) Result() (*Comparison, error) {
 		Bins: BinCheck{ID: "", Name: "Site", MinCoverage: Num(math.NaN()), RawBefore: siteRaw[0], RawAfter: siteRaw[1], Warnings: []string{}}}
 	tot := newTotalSum()
 	var binWarns []string
-	for i, u := range a.units {
-		bc := compareUnit(u, a.sides[i], opt, a.minCov[i])
-		if !bc.Compared && len(a.units) > 1 {
+	for i, u := range a.airHandlers {
+		bc := compareAirHandler(u, a.sides[i], opt, a.minCov[i])
+		if !bc.Compared && len(a.airHandlers) > 1 {
 			bc.Warnings = append(bc.Warnings, "left out of the site's normalised total")
 		}
 		for _, w := range bc.Warnings {
 			binWarns = append(binWarns, u.Name+" ("+u.ID+"): bin check: "+w)
 		}
 		tot.add(&bc)
-		uc := unitResult(u, bc, a.rows[i], a.suspect[i], norm)
+		uc := airHandlerResult(u, bc, a.rows[i], a.suspect[i], norm)
 		for _, w := range uc.Warnings {
 			c.Warnings = append(c.Warnings, u.Name+" ("+u.ID+"): "+w)
 		}
-		c.Units = append(c.Units, uc)
+		c.AirHandlers = append(c.AirHandlers, uc)
 	}
 	c.Warnings = append(c.Warnings, binWarns...)
 	tot.finish(&c.Total.Bins)
 	for q := 0; q < nY; q++ {
-		c.Total.Savings = append(c.Total.Savings, siteSavings(c.Units, q))
+		c.Total.Savings = append(c.Total.Savings, siteSavings(c.AirHandlers, q))
 	}
 	if !c.Total.Bins.Compared {
 		c.Warnings = append(c.Warnings, "bin check: no air handler has a dew-point bin with enough hours in both periods: there is nothing to normalise; choose longer periods, periods with more similar weather, or fewer hours per bin")
@@ -471,8 +471,8 @@ func (a *Analysis) Result() (*Comparison, error) {
 	return c, nil
 }
 
-// compareUnit normalises one unit.
-func compareUnit(u Unit, s [2]side, opt Options, minCov float64) BinCheck {
+// compareAirHandler normalises one unit.
+func compareAirHandler(u AirHandler, s [2]side, opt Options, minCov float64) BinCheck {
 	b, a := &s[0], &s[1]
 	b.raw.finish()
 	a.raw.finish()

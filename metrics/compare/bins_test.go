@@ -38,7 +38,7 @@ type cmpInput struct{ in Input }
 func cmpSite(units ...string) *cmpInput {
 	c := &cmpInput{in: Input{Site: "Test site", Currency: "USD", Zone: time.UTC}}
 	for _, u := range units {
-		c.in.Units = append(c.in.Units, Unit{ID: u, Name: u})
+		c.in.AirHandlers = append(c.in.AirHandlers, AirHandler{ID: u, Name: u})
 	}
 	return c
 }
@@ -134,8 +134,8 @@ func TestCompare_SameBehaviourDifferentWeather(t *testing.T) {
 	mixFixture(m, "AHU-1")
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err)
-	require.Len(t, c.Units, 1)
-	u := c.Units[0].Bins
+	require.Len(t, c.AirHandlers, 1)
+	u := c.AirHandlers[0].Bins
 	// Raw totals, by construction: 160 and 320 kWh.
 	assert.InDelta(t, 160, float64(u.RawBefore.ReheatKWh), 1e-9)
 	assert.InDelta(t, 320, float64(u.RawAfter.ReheatKWh), 1e-9)
@@ -168,7 +168,7 @@ func TestCompare_HalvedReheat(t *testing.T) {
 	halfFixture(m, "AHU-1")
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err)
-	u := c.Units[0].Bins
+	u := c.AirHandlers[0].Bins
 	assert.InDelta(t, 240, float64(u.RawBefore.ReheatKWh), 1e-9)
 	assert.InDelta(t, 140, float64(u.RawAfter.ReheatKWh), 1e-9)
 	assert.InDelta(t, 240, float64(u.Reheat.Before), 1e-9)
@@ -233,7 +233,7 @@ func TestCompare_MissingBins(t *testing.T) {
 
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err)
-	u := c.Units[0].Bins
+	u := c.AirHandlers[0].Bins
 	assert.Equal(t, 2, u.CommonBins)
 	assert.Equal(t, SideHours{Stored: 50, Usable: 50, InCommon: 40, Covered: 0.8}, u.HoursBefore)
 	assert.Equal(t, 50, u.HoursAfter.Stored)
@@ -268,8 +268,8 @@ func TestCompare_MissingBins(t *testing.T) {
 	// 1080; after 50 + 10×100 = 1050.
 	c, err = run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{MinHours: 2})
 	require.NoError(t, err)
-	assert.InDelta(t, 1080, float64(c.Units[0].Bins.Reheat.Before), 1e-9)
-	assert.InDelta(t, 1050, float64(c.Units[0].Bins.Reheat.After), 1e-9)
+	assert.InDelta(t, 1080, float64(c.AirHandlers[0].Bins.Reheat.Before), 1e-9)
+	assert.InDelta(t, 1050, float64(c.AirHandlers[0].Bins.Reheat.After), 1e-9)
 }
 
 // Effective EER is the ratio of the normalised sums:
@@ -304,14 +304,14 @@ func TestCompare_EERIsRatioOfSums(t *testing.T) {
 	cmpHours(m, "AHU-1", &at, 15, dpHumid, f(40, 0, 8, 0))
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err)
-	e := c.Units[0].Bins.EER
+	e := c.AirHandlers[0].Bins.EER
 	assert.InEpsilon(t, 3.412*550/180, float64(e.Before), 5e-4)
 	assert.InEpsilon(t, 3.412*580/150, float64(e.After), 5e-4)
 	assert.Greater(t, math.Abs(float64(e.Before)-11.09), 0.5, "not the mean of the hourly ratios")
 	assert.InEpsilon(t, 100*(580.0/150-550.0/180)/(550.0/180), float64(e.ChangePct), 5e-4)
 	// The raw totals' EER is of the raw sums: after coil 700, reheat 10,
 	// input 145 + 10: 3.412 × 690/155 = 15.19.
-	assert.InEpsilon(t, 3.412*690/155, float64(c.Units[0].Bins.RawAfter.EffectiveEER), 5e-4)
+	assert.InEpsilon(t, 3.412*690/155, float64(c.AirHandlers[0].Bins.RawAfter.EffectiveEER), 5e-4)
 }
 
 func TestCompare_NoCommonBins(t *testing.T) {
@@ -322,7 +322,7 @@ func TestCompare_NoCommonBins(t *testing.T) {
 	cmpHours(m, "AHU-1", &at, 20, dpWet, reheatOnly(5))
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err, "a comparison that cannot be normalised is reported, not refused")
-	u := c.Units[0].Bins
+	u := c.AirHandlers[0].Bins
 	assert.False(t, u.Compared)
 	assert.True(t, math.IsNaN(float64(u.Reheat.After)))
 	assert.InDelta(t, 0, float64(u.HoursBefore.Covered), 1e-12)
@@ -352,7 +352,7 @@ func TestCompare_Errors(t *testing.T) {
 	_, err = run(site, m, cmpBefore, cmpAfter, Options{MinHours: 1})
 	require.Error(t, err)
 	assert.Contains(t, err.Error(), "use 2 or more")
-	_, err = run(site, m, cmpBefore, cmpAfter, Options{Units: []string{"AHU-9"}})
+	_, err = run(site, m, cmpBefore, cmpAfter, Options{AirHandlers: []string{"AHU-9"}})
 	require.Error(t, err)
 	assert.Contains(t, err.Error(), `"AHU-9"`)
 
@@ -410,7 +410,7 @@ func TestCompare_PartlyCoveredWarns(t *testing.T) {
 	// Given in the other order, the periods are still compared as named.
 	c, err := run(cmpSite("AHU-1"), m, cmpAfter, cmpBefore, Options{})
 	require.NoError(t, err)
-	u := c.Units[0].Bins
+	u := c.AirHandlers[0].Bins
 	assert.InDelta(t, 20.0/22, float64(u.HoursBefore.Covered), 1e-12)
 	assert.InDelta(t, 0.4, float64(u.HoursAfter.Covered), 1e-12)
 	assert.True(t, hasWarning(u.Warnings, "only 40 % of the after period's usable hours fall in bins common to both periods"), u.Warnings)

@@ -35,7 +35,7 @@ func constDP(v float64) func(int) float64 {
 
 func modelSite(target float64) *cmpInput {
 	c := cmpSite("AHU-1")
-	c.in.Units[0].Spec = &metrics.Unit{Target: metrics.Target{Kind: metrics.TargetSupplyDewPoint, DewPointC: target}}
+	c.in.AirHandlers[0].Spec = &metrics.AirHandler{Target: metrics.Target{Kind: metrics.TargetSupplyDewPoint, DewPointC: target}}
 	return c
 }
 
@@ -54,7 +54,7 @@ func TestModel_SavingThatBrokeTheTarget(t *testing.T) {
 	})
 	c, err := run(modelSite(12), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err)
-	u := c.Units[0]
+	u := c.AirHandlers[0]
 	r := u.Model.Reheat()
 	assert.InDelta(t, 40, float64(r.AvoidedPct), 1e-6, "every hour at 0.6 of the model")
 	assert.Equal(t, FindingTargetLost, u.Finding)
@@ -76,22 +76,22 @@ func TestModel_FindingsAndSite(t *testing.T) {
 	linearHours(m, "AHU-2", cmpAfter, 1, sineDP, constDP(11))
 	c, err := run(cmpSite("AHU-1", "AHU-2"), m, cmpBefore, cmpAfter, Options{NormaliseTo: "before"})
 	require.NoError(t, err)
-	assert.Equal(t, FindingSaving, c.Units[0].Finding)
-	assert.Equal(t, FindingNoChange, c.Units[1].Finding)
-	assert.Equal(t, "unknown", c.Units[0].Humidity.Held, "no target configured")
+	assert.Equal(t, FindingSaving, c.AirHandlers[0].Finding)
+	assert.Equal(t, FindingNoChange, c.AirHandlers[1].Finding)
+	assert.Equal(t, "unknown", c.AirHandlers[0].Humidity.Held, "no target configured")
 	// Site: baseline = both units' projections; avoided = AHU-1's 40 %
 	// of its own, so 20 % of the site's.
 	s := c.Total.Reheat()
 	assert.InDelta(t, 20, float64(s.AvoidedPct), 1e-6)
 	// Normalised to the before period: the after model is 0.6 of the
 	// baseline everywhere, so 40 % again, over the before period's hours.
-	n := c.Units[0].Model.Reheat().Normalised
+	n := c.AirHandlers[0].Model.Reheat().Normalised
 	require.NotNil(t, n)
 	assert.Equal(t, "before", n.To)
 	assert.Equal(t, 14*24, n.Hours)
 	assert.InDelta(t, 40, float64(n.AvoidedPct), 1e-6)
 	// A perfect fit meets Guideline 14.
-	f := c.Units[0].Model.Reheat().Fit
+	f := c.AirHandlers[0].Model.Reheat().Fit
 	assert.True(t, f.MeetsG14)
 	assert.Equal(t, 14*24, f.N)
 }
@@ -109,7 +109,7 @@ func TestModel_Extrapolation(t *testing.T) {
 	}, constDP(11))
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err)
-	ex := c.Units[0].Model.Extrapolation
+	ex := c.AirHandlers[0].Model.Extrapolation
 	require.Len(t, ex, 3)
 	assert.Equal(t, "entering_dewpoint_c", ex[0].Driver)
 	assert.InDelta(t, 0.25, float64(ex[0].Share), 1e-12)
@@ -142,7 +142,7 @@ func TestModel_SuspectHoursLeftOut(t *testing.T) {
 	}
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err)
-	u := c.Units[0]
+	u := c.AirHandlers[0]
 	assert.Equal(t, [2]int{0, stuck}, u.Model.Suspect)
 	assert.Equal(t, 14*24-stuck, u.Model.Usable[1])
 	assert.InDelta(t, 0, float64(u.Model.Reheat().AvoidedPct), 1e-6, "the stuck hours do not read as a saving")
@@ -195,16 +195,16 @@ func TestModel_Drivers(t *testing.T) {
 			}
 			c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 			require.NoError(t, err)
-			md := c.Units[0].Model
+			md := c.AirHandlers[0].Model
 			assert.Equal(t, tc.want, md.Drivers)
 			assert.NotEmpty(t, md.DriversWhy)
 			assert.Equal(t, tc.wantUsable, md.Usable)
 			assert.Equal(t, tc.want+"_dewpoint_c", md.Extrapolation[0].Driver)
 			assert.InDelta(t, 40, float64(md.Reheat().AvoidedPct), 1e-6, "every hour at 0.6 of the model, whatever the drivers")
 			if tc.wantWarning != "" {
-				assert.True(t, hasWarning(c.Units[0].Warnings, tc.wantWarning), c.Units[0].Warnings)
+				assert.True(t, hasWarning(c.AirHandlers[0].Warnings, tc.wantWarning), c.AirHandlers[0].Warnings)
 			}
-			assert.False(t, hasWarning(c.Units[0].Warnings, tc.wantNoWrn), c.Units[0].Warnings)
+			assert.False(t, hasWarning(c.AirHandlers[0].Warnings, tc.wantNoWrn), c.AirHandlers[0].Warnings)
 			if tc.want == DriversOutdoor {
 				h := md.Hours[1]
 				assert.InDelta(t, sineDP(1)+3, float64(h.DewPointC), 1e-12, "the hour's driver is its outdoor dew point")
@@ -244,7 +244,7 @@ func TestModel_NormaliseToPeriod(t *testing.T) {
 	require.NotNil(t, c.NormalPeriod)
 	assert.Equal(t, third, *c.NormalPeriod)
 	assert.Equal(t, "period", c.Normalise)
-	r := c.Units[0].Model.Reheat()
+	r := c.AirHandlers[0].Model.Reheat()
 	assert.InDelta(t, 40, float64(r.AvoidedPct), 1e-6, "the after period: only before and after hours count")
 	n := r.Normalised
 	require.NotNil(t, n)

@@ -2,9 +2,9 @@ package compare
 
 import "fmt"
 
-// UnitComparison is one air handler before and after: the headline from
+// AirHandlerComparison is one air handler before and after: the headline from
 // the baseline model, the humidity side, and the bin method as a check.
-type UnitComparison struct {
+type AirHandlerComparison struct {
 	ID   string `json:"id"`
 	Name string `json:"name"`
 	// Finding is the reheat finding (FindingSaving, FindingIncrease,
@@ -32,9 +32,9 @@ func (t *SiteTotal) Reheat() *Savings {
 	return &t.Savings[yReheat]
 }
 
-// unitResult builds one unit's result from its bin check and its hours.
-func unitResult(u Unit, bc BinCheck, rows [3][]hourRow, suspectHours [2]int, norm normSpec) UnitComparison {
-	uc := UnitComparison{ID: u.ID, Name: u.Name, Bins: bc, Warnings: []string{}}
+// airHandlerResult builds one unit's result from its bin check and its hours.
+func airHandlerResult(u AirHandler, bc BinCheck, rows [3][]hourRow, suspectHours [2]int, norm normSpec) AirHandlerComparison {
+	uc := AirHandlerComparison{ID: u.ID, Name: u.Name, Bins: bc, Warnings: []string{}}
 	md, warns := buildModel(rows, norm, suspectHours)
 	uc.Model = md
 	uc.Warnings = append(uc.Warnings, warns...)

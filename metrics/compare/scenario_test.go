@@ -102,9 +102,9 @@ func analyseScenario(t *testing.T, seed string) scenarioResult {
 	hours := runScenario(t, seed)
 	before := Window{From: time.Date(2026, 6, 1, 0, 0, 0, 0, time.UTC), To: time.Date(2026, 6, 15, 0, 0, 0, 0, time.UTC), Label: "before"}
 	after := Window{From: before.To, To: time.Date(2026, 6, 29, 0, 0, 0, 0, time.UTC), Label: "after"}
-	spec := &metrics.Unit{Target: metrics.Target{Kind: metrics.TargetSupplyDewPoint, DewPointC: 12}}
+	spec := &metrics.AirHandler{Target: metrics.Target{Kind: metrics.TargetSupplyDewPoint, DewPointC: 12}}
 	in := Input{Site: "scenario", Zone: time.UTC, Before: before, After: after, Options: Options{NormaliseTo: "before"},
-		Units: []Unit{{ID: "AHU-1", Name: "AHU-1", Spec: spec}, {ID: "AHU-2", Name: "AHU-2", Spec: spec}, {ID: "AHU-3", Name: "AHU-3", Spec: spec}}}
+		AirHandlers: []AirHandler{{ID: "AHU-1", Name: "AHU-1", Spec: spec}, {ID: "AHU-2", Name: "AHU-2", Spec: spec}, {ID: "AHU-3", Name: "AHU-3", Spec: spec}}}
 	a, err := New(in)
 	require.NoError(t, err)
 	var run, cf [3][nY]float64
@@ -128,7 +128,7 @@ func analyseScenario(t *testing.T, seed string) scenarioResult {
 	}
 	c, err := a.Result()
 	require.NoError(t, err)
-	require.Len(t, c.Units, 3)
+	require.Len(t, c.AirHandlers, 3)
 	res := scenarioResult{c: c}
 	for i := range res.trueBefore {
 		res.trueBefore[i] = 100 * (cfB[i] - alwaysB[i]) / cfB[i]
@@ -138,7 +138,7 @@ func analyseScenario(t *testing.T, seed string) scenarioResult {
 			res.true[i][q] = 100 * (cf[i][q] - run[i][q]) / cf[i][q]
 		}
 	}
-	for i, u := range c.Units {
+	for i, u := range c.AirHandlers {
 		for q := 0; q < nY; q++ {
 			s := u.Model.Savings[q]
 			t.Logf("seed %q %s %-18s true saving %6.1f %%, estimate %6.1f %% ± %4.1f %% (90 %%; Guideline 14 formula ± %4.1f %%, at 68 %% ± %4.1f %%); CV(RMSE) %4.1f %% NMBE %5.2f %% R² %.3f ρ %.2f n′ %.0f; %s; bin method %6.1f %%",
@@ -165,15 +165,15 @@ func analyseScenario(t *testing.T, seed string) scenarioResult {
 // estimated against a true 5 %).
 var headline = []int{yReheat, yCooling, yWater, yCost}
 
-// TestScenario_LockoutAndUnchangedUnits: the reheat lockout of AHU-1
+// TestScenario_LockoutAndUnchangedAirHandlers: the reheat lockout of AHU-1
 // saves only in the hours whose entering air is drier than its 12 °C
 // supply dew-point target; AHU-2 and AHU-3 change nothing. Targets (the
 // task's own): the fixed unit's avoided energy within 5 percentage points
 // of the true change; unchanged units below 5 %.
-func TestScenario_LockoutAndUnchangedUnits(t *testing.T) {
+func TestScenario_LockoutAndUnchangedAirHandlers(t *testing.T) {
 	r := analyseScenario(t, "")
 	c := r.c
-	fixed := c.Units[0]
+	fixed := c.AirHandlers[0]
 	for _, q := range headline {
 		assert.InDelta(t, r.true[0][q], float64(fixed.Model.Savings[q].AvoidedPct), 5, "AHU-1 %s vs the counterfactual", yNames[q])
 		assert.True(t, fixed.Model.Savings[q].Fit.MeetsG14, "AHU-1 %s fit", yNames[q])
@@ -189,11 +189,11 @@ func TestScenario_LockoutAndUnchangedUnits(t *testing.T) {
 	n := fixed.Model.Reheat().Normalised
 	require.NotNil(t, n)
 	assert.InDelta(t, r.trueBefore[0], float64(n.AvoidedPct), 5, "AHU-1 reheat normalised to the before period")
-	for _, u := range c.Units {
+	for _, u := range c.AirHandlers {
 		assert.Equal(t, DriversOutdoor, u.Model.Drivers, u.ID)
 	}
 	for _, i := range []int{1, 2} {
-		u := c.Units[i]
+		u := c.AirHandlers[i]
 		for q := 0; q < nY; q++ {
 			assert.InDelta(t, 0, r.true[i][q], 1e-9, "%s really changed nothing", u.ID)
 		}
@@ -204,7 +204,7 @@ func TestScenario_LockoutAndUnchangedUnits(t *testing.T) {
 	// The site: the sum of the units.
 	site := c.Total.Reheat()
 	var b float64
-	for _, u := range c.Units {
+	for _, u := range c.AirHandlers {
 		b += float64(u.Model.Reheat().Baseline)
 	}
 	assert.InDelta(t, b, float64(site.Baseline), 1e-6)
@@ -227,11 +227,11 @@ func TestScenario_UncertaintyCovers(t *testing.T) {
 	for seed := 1; seed <= 10; seed++ {
 		r := analyseScenario(t, strconv.Itoa(seed))
 		for _, q := range headline {
-			assert.InDelta(t, r.true[0][q], float64(r.c.Units[0].Model.Savings[q].AvoidedPct), 5, "seed %d: AHU-1 %s", seed, yNames[q])
+			assert.InDelta(t, r.true[0][q], float64(r.c.AirHandlers[0].Model.Savings[q].AvoidedPct), 5, "seed %d: AHU-1 %s", seed, yNames[q])
 		}
-		assert.InDelta(t, r.trueBefore[0], float64(r.c.Units[0].Model.Reheat().Normalised.AvoidedPct), 5, "seed %d: AHU-1 reheat normalised", seed)
+		assert.InDelta(t, r.trueBefore[0], float64(r.c.AirHandlers[0].Model.Reheat().Normalised.AvoidedPct), 5, "seed %d: AHU-1 reheat normalised", seed)
 		for _, i := range []int{1, 2} {
-			u := r.c.Units[i]
+			u := r.c.AirHandlers[i]
 			for _, q := range headline {
 				s := u.Model.Savings[q]
 				checks++

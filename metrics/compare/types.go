@@ -26,10 +26,10 @@ type Window struct {
 	Label string    `json:"label"`
 }
 
-// Unit is one configured air handler.
-type Unit struct {
+// AirHandler is one configured air handler.
+type AirHandler struct {
 	ID, Name string
-	Spec     *metrics.Unit // target, thresholds; may be nil
+	Spec     *metrics.AirHandler // target, thresholds; may be nil
 }
 
 // Input is what a comparison needs besides the hours.
@@ -40,9 +40,9 @@ type Input struct {
 	Before, After Window
 	// Normal is the period to normalise to when Options.NormaliseTo is
 	// "period"; it may overlap the others.
-	Normal  Window
-	Units   []Unit // in configuration order
-	Options Options
+	Normal      Window
+	AirHandlers []AirHandler // in configuration order
+	Options     Options
 }
 
 // Num is a number that encodes NaN and ±Inf as JSON null (metrics.Num).
