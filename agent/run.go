@@ -232,7 +232,7 @@ func (r *Runner) now() time.Time {
 // ahuRun is one air handler's part in a run.
 type ahuRun struct {
 	id      string
-	unit    *metrics.AirHandler
+	spec    *metrics.AirHandler
 	cp      time.Time
 	has     bool
 	from    time.Time // first hour to compute
@@ -284,7 +284,7 @@ func (r *Runner) plan(ctx context.Context, ahus []string, slot time.Time) []*ahu
 			a.fail(fmt.Errorf("no air handler %q in the configuration", id))
 			continue
 		}
-		a.unit = r.Cfg.Spec(ac)
+		a.spec = r.Cfg.Spec(ac)
 		if preErr != nil {
 			a.fail(fmt.Errorf("read checkpoint: %w", preErr))
 			continue
@@ -538,7 +538,7 @@ func (r *Runner) compute(ctx context.Context, g []*ahuRun, cs, ce time.Time) (re
 			return nil
 		}
 		a, c := g[i], &res[i]
-		rec := metrics.Compute(a.unit, h)
+		rec := metrics.Compute(a.spec, h)
 		c.recs = append(c.recs, rec)
 		if !rec.HourStart.Before(a.newFrom) {
 			var tr []metrics.Transition

@@ -179,7 +179,7 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 // BatchReader reports a point without data by passing no samples.
 func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []string, from, to time.Time, chunk time.Duration, fn func(*metrics.Hour) error) error {
 	type owner struct {
-		unit int
+		ahu  int
 		role metrics.Role
 	}
 	var (
@@ -232,11 +232,11 @@ func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []stri
 		n := 0
 		err := br.ReadBatch(ctx, points, rs, ce, func(i int, smp Sample) error {
 			o := owners[i]
-			if first && smp.Time.Before(cs.Add(-leads[o.unit])) {
+			if first && smp.Time.Before(cs.Add(-leads[o.ahu])) {
 				return nil
 			}
 			n++
-			aligners[o.unit].Push(o.role, smp)
+			aligners[o.ahu].Push(o.role, smp)
 			return nil
 		})
 		s.Read += n
