@@ -1,9 +1,11 @@
 // Package agent is dewline's run loop: the Analyzer computes hours from an
 // HourSource; the Runner takes every owned air handler from its checkpoint
 // to the last complete hour (slots, backfill, lookback) and commits records,
-// alert states, events and the checkpoint to a store.ResultStore; Serve
-// runs it on the configured cron schedule, skipping a tick while a run is
-// in flight; Shard splits a portfolio between replicas.
+// alert states, events and the checkpoint to a store.ResultStore;
+// Runner.Serve runs it on the configured cron schedule (on an injectable
+// SchedulerClock), skipping a tick while a run is in flight; Shard splits a
+// portfolio between replicas. CheckPoints reports configured points the
+// store does not hold; WriteSummaries writes an analysis as a ranked table.
 //
 //	cron tick --> Runner.RunOnce(slot = last complete UTC hour)
 //	  per air handler: Checkpoint --> HourSource --> metrics.Compute

@@ -8,8 +8,10 @@
 //
 // Its subpackages are the adapters to outside data: csvfile (CSV trend
 // exports), store (the interfaces every store implements), embedded (the
-// default store, one SQLite file) and influx (InfluxDB, the only importer
-// of the InfluxDB client).
+// default store, one SQLite file), influx (InfluxDB, the only importer of
+// the InfluxDB client), draft (a configuration proposed from what a
+// building logs) and outfile (every output file written whole or not at
+// all).
 //
 // Units: values leave this package in SI (°C, Pa, m, m³/s, kW, kWh, kg,
 // humidity ratio kg/kg, RH and positions as fractions 0..1); the unit table

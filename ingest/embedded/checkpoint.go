@@ -24,7 +24,7 @@ func (s *Store) Checkpoint(ctx context.Context, ahu string) (hour time.Time, ok 
 
 // SetCheckpoint records hour as ahu's last completed hour, forwards or
 // backwards, whatever the hourly table holds: it is the operator's lever
-// (start a new unit at a chosen hour, rewind to recompute). The agent's
+// (start a new air handler at a chosen hour, rewind to recompute). The agent's
 // run loop moves it only through Commit (Backend.Agent), in the same
 // transaction as the hours it covers.
 func (s *Store) SetCheckpoint(ctx context.Context, ahu string, hour time.Time) error {
