@@ -180,7 +180,9 @@ if $full_run; then
 	setup_extras || fail "extra set-up"
 fi
 
-test_args=(-race -count=1 "$@")
+# go test's own 10-minute limit per package is too short for cmd/dewline
+# with -race on a loaded 2-core machine; a -timeout given here wins.
+test_args=(-race -count=1 -timeout 30m "$@")
 names_packages "$@" || test_args+=(./...)
 step "go test ${test_args[*]}"
 go test "${test_args[@]}" || fail "go test"
