@@ -37,53 +37,22 @@ func (c *Client) ReadBatch(ctx context.Context, points []Query, from, to time.Ti
 		}
 		return nil
 	}
+	rows := newTableRows(plan.locs, plan.toSI)
 	var (
-		last     = make([]time.Time, len(points))
-		series   = make([]string, len(points))
-		tags     = make([]string, len(points))
 		dispatch []int
 		key      []byte
 	)
-	err = c.run(ctx, plan.flux, func() { clear(series); clear(last) }, func(f *fluxCSV) (bool, error) {
+	err = c.run(ctx, plan.flux, rows.reset, func(f *fluxCSV) (bool, error) {
 		if f.newTable {
 			dispatch, key = plan.route(f, dispatch[:0], key)
-			id := f.result + "\x00" + f.table
-			for _, i := range dispatch {
-				switch series[i] {
-				case "":
-					series[i], tags[i] = id, f.tags()
-				case id:
-				default:
-					return false, fmt.Errorf("point %q matches more than one series, tagged %s and %s; add the tag that tells them apart to its tags: %w",
-						plan.locs[i].name, tags[i], f.tags(), ErrAmbiguousPoint)
-				}
+			if err := rows.claim(f, dispatch); err != nil {
+				return false, err
 			}
 		}
 		if len(dispatch) == 0 {
 			return false, nil
 		}
-		at, err := f.time()
-		if err != nil {
-			return false, err
-		}
-		if at.Before(from) || !at.Before(to) {
-			return false, nil
-		}
-		v, err := f.value()
-		if err != nil {
-			return false, fmt.Errorf("point %q at %s: %w", plan.locs[dispatch[0]].name, fluxTime(at), err)
-		}
-		for _, i := range dispatch {
-			if at.Before(last[i]) {
-				return false, fmt.Errorf("point %q: sample at %s came after one at %s; the server returned the series out of order",
-					plan.locs[i].name, fluxTime(at), fluxTime(last[i]))
-			}
-			last[i] = at
-			if err := fn(i, ingest.Sample{Time: at, Value: plan.toSI[i](v)}); err != nil {
-				return true, err
-			}
-		}
-		return true, nil
+		return rows.row(f, dispatch, from, to, fn)
 	})
 	if err != nil {
 		return fmt.Errorf("read %d points: %w", len(points), err)
@@ -123,20 +92,11 @@ func planBatch(bucket string, points []Query, from, to time.Time) (*batchPlan, e
 	seenVal := map[string]bool{}
 	seenField := map[string]bool{}
 	for i, q := range points {
-		u, err := unitFor(q.Ref, q.Kind)
+		loc, toSI, err := locatePoint(q)
 		if err != nil {
 			return nil, err
 		}
-		loc, err := locate(q.Ref)
-		if err != nil {
-			return nil, err
-		}
-		p.locs[i] = loc
-		if loc.own {
-			p.toSI[i] = u.ToSI
-		} else {
-			p.toSI[i] = func(v float64) float64 { return v }
-		}
+		p.locs[i], p.toSI[i] = loc, toSI
 		gk := loc.measurement + "\x00" + strings.Join(loc.keys, "\x00")
 		g := byKey[gk]
 		if g == nil {

@@ -57,53 +57,20 @@ func (c *Client) ReadPoints(ctx context.Context, points []Query, from, to time.T
 	if plan == nil {
 		return nil
 	}
-	var (
-		last     = make([]time.Time, len(points))
-		series   = make([]string, len(points)) // result table of each point, "" before its first
-		tags     = make([]string, len(points)) // tags of that table, for messages
-		dispatch []int
-	)
-	err = c.run(ctx, plan.flux, func() { clear(series); clear(last) }, func(f *fluxCSV) (bool, error) {
+	rows := newTableRows(plan.locs, plan.toSI)
+	var dispatch []int
+	err = c.run(ctx, plan.flux, rows.reset, func(f *fluxCSV) (bool, error) {
 		if f.newTable {
 			dispatch = plan.route(f, dispatch[:0])
 			if len(dispatch) == 0 {
 				return false, fmt.Errorf("the server returned a series (measurement %q, field %q) that matches none of the points asked for",
 					f.get(colMeasurement), f.get(colField))
 			}
-			id := f.result + "\x00" + f.table
-			for _, i := range dispatch {
-				switch series[i] {
-				case "":
-					series[i], tags[i] = id, f.tags()
-				case id:
-				default:
-					return false, fmt.Errorf("point %q matches more than one series, tagged %s and %s; add the tag that tells them apart to its tags: %w",
-						plan.locs[i].name, tags[i], f.tags(), ErrAmbiguousPoint)
-				}
+			if err := rows.claim(f, dispatch); err != nil {
+				return false, err
 			}
 		}
-		at, err := f.time()
-		if err != nil {
-			return false, err
-		}
-		if at.Before(from) || !at.Before(to) {
-			return false, nil
-		}
-		v, err := f.value()
-		if err != nil {
-			return false, fmt.Errorf("point %q at %s: %w", plan.locs[dispatch[0]].name, fluxTime(at), err)
-		}
-		for _, i := range dispatch {
-			if at.Before(last[i]) {
-				return false, fmt.Errorf("point %q: sample at %s came after one at %s; the server returned the series out of order",
-					plan.locs[i].name, fluxTime(at), fluxTime(last[i]))
-			}
-			last[i] = at
-			if err := fn(i, ingest.Sample{Time: at, Value: plan.toSI[i](v)}); err != nil {
-				return true, err
-			}
-		}
-		return true, nil
+		return rows.row(f, dispatch, from, to, fn)
 	})
 	if err != nil {
 		return fmt.Errorf("read %s: %w", plan.what(), err)
@@ -133,20 +100,11 @@ func planRead(bucket string, points []Query, from, to time.Time, every time.Dura
 	var preds []string
 	seen := map[string]bool{}
 	for i, q := range points {
-		u, err := unitFor(q.Ref, q.Kind)
+		loc, toSI, err := locatePoint(q)
 		if err != nil {
 			return nil, err
 		}
-		loc, err := locate(q.Ref)
-		if err != nil {
-			return nil, err
-		}
-		p.locs[i] = loc
-		if loc.own {
-			p.toSI[i] = u.ToSI
-		} else {
-			p.toSI[i] = func(v float64) float64 { return v }
-		}
+		p.locs[i], p.toSI[i] = loc, toSI
 		if pr := "(" + loc.predicate() + ")"; !seen[pr] {
 			seen[pr] = true
 			preds = append(preds, pr)
@@ -206,4 +164,86 @@ func (p *readPlan) what() string {
 		names[i] = strconv.Quote(l.name)
 	}
 	return fmt.Sprintf("%d points (%s)", len(p.locs), strings.Join(names, ", "))
+}
+
+// tableRows passes the rows of a Flux answer on to the points they belong
+// to. It keeps, for each point, the table its samples came in (a second
+// table means the point matches more than one series) and the time of its
+// last sample (samples must come in time order).
+type tableRows struct {
+	locs   []location
+	toSI   []func(float64) float64
+	last   []time.Time
+	series []string // result table of each point, "" before its first
+	tags   []string // tags of that table, for messages
+}
+
+func newTableRows(locs []location, toSI []func(float64) float64) *tableRows {
+	return &tableRows{locs: locs, toSI: toSI, last: make([]time.Time, len(locs)),
+		series: make([]string, len(locs)), tags: make([]string, len(locs))}
+}
+
+// reset forgets what an answer passed on, before the query is run again.
+func (t *tableRows) reset() { clear(t.series); clear(t.last) }
+
+// claim records that the points dispatch come in f's current table; a point
+// already seen in another table fails with ErrAmbiguousPoint.
+func (t *tableRows) claim(f *fluxCSV, dispatch []int) error {
+	id := f.result + "\x00" + f.table
+	for _, i := range dispatch {
+		switch t.series[i] {
+		case "":
+			t.series[i], t.tags[i] = id, f.tags()
+		case id:
+		default:
+			return fmt.Errorf("point %q matches more than one series, tagged %s and %s; add the tag that tells them apart to its tags: %w",
+				t.locs[i].name, t.tags[i], f.tags(), ErrAmbiguousPoint)
+		}
+	}
+	return nil
+}
+
+// row passes f's current row, in SI, to fn for each point of dispatch; a
+// row outside [from, to) is skipped. It reports whether fn was called.
+func (t *tableRows) row(f *fluxCSV, dispatch []int, from, to time.Time, fn func(i int, s ingest.Sample) error) (bool, error) {
+	at, err := f.time()
+	if err != nil {
+		return false, err
+	}
+	if at.Before(from) || !at.Before(to) {
+		return false, nil
+	}
+	v, err := f.value()
+	if err != nil {
+		return false, fmt.Errorf("point %q at %s: %w", t.locs[dispatch[0]].name, fluxTime(at), err)
+	}
+	for _, i := range dispatch {
+		if at.Before(t.last[i]) {
+			return false, fmt.Errorf("point %q: sample at %s came after one at %s; the server returned the series out of order",
+				t.locs[i].name, fluxTime(at), fluxTime(t.last[i]))
+		}
+		t.last[i] = at
+		if err := fn(i, ingest.Sample{Time: at, Value: t.toSI[i](v)}); err != nil {
+			return true, err
+		}
+	}
+	return true, nil
+}
+
+// locatePoint finds q's series and how its values become SI: a point with
+// its own measurement and field by its unit; one in dewline's sample
+// measurement is stored in SI already.
+func locatePoint(q Query) (location, func(float64) float64, error) {
+	u, err := unitFor(q.Ref, q.Kind)
+	if err != nil {
+		return location{}, nil, err
+	}
+	loc, err := locate(q.Ref)
+	if err != nil {
+		return location{}, nil, err
+	}
+	if !loc.own {
+		return loc, func(v float64) float64 { return v }, nil
+	}
+	return loc, u.ToSI, nil
 }
