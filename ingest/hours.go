@@ -154,19 +154,7 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 					return fmt.Errorf("read %s %s: %w", ahu, r, err)
 				}
 			}
-			// Hours that end inside the chunk are complete, but an hour is
-			// emitted only once the samples FlatLookahead after it are
-			// pushed (they are in the next chunk), so a sensor stuck across
-			// the chunk's end is seen to go on, as on the CSV path. A final
-			// partial hour is emitted at the end of the period.
-			until := ce.Add(-FlatLookahead).Truncate(time.Hour)
-			if !ce.Before(to) {
-				until = to.Truncate(time.Hour)
-				if until.Before(to) {
-					until = until.Add(time.Hour)
-				}
-			}
-			if err := a.Emit(until, fn); err != nil {
+			if err := a.Emit(emitUntil(ce, to), fn); err != nil {
 				return err
 			}
 		}
@@ -246,16 +234,7 @@ func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []stri
 		if err != nil {
 			return fmt.Errorf("read %s: %w", what, err)
 		}
-		// As in Hours: an hour is emitted once the samples FlatLookahead
-		// after it are pushed, so a sensor stuck across the chunk's end is
-		// seen to go on.
-		until := ce.Add(-FlatLookahead).Truncate(time.Hour)
-		if !ce.Before(to) {
-			until = to.Truncate(time.Hour)
-			if until.Before(to) {
-				until = until.Add(time.Hour)
-			}
-		}
+		until := emitUntil(ce, to)
 		for _, a := range aligners {
 			if err := a.Emit(until, fn); err != nil {
 				return err
@@ -263,6 +242,23 @@ func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []stri
 		}
 	}
 	return nil
+}
+
+// emitUntil is how far the hours may be emitted once a chunk ending at ce
+// of a period ending at to is read. Hours that end inside the chunk are
+// complete, but an hour is emitted only once the samples FlatLookahead
+// after it are pushed (they are in the next chunk), so a sensor stuck
+// across the chunk's end is seen to go on, as on the CSV path. A final
+// partial hour is emitted at the end of the period.
+func emitUntil(ce, to time.Time) time.Time {
+	if ce.Before(to) {
+		return ce.Add(-FlatLookahead).Truncate(time.Hour)
+	}
+	until := to.Truncate(time.Hour)
+	if until.Before(to) {
+		until = until.Add(time.Hour)
+	}
+	return until
 }
 
 func staleOf(u AirHandlerPoints, r metrics.Role) time.Duration {
