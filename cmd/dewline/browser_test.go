@@ -70,7 +70,7 @@ func TestBrowser_Dashboard(t *testing.T) {
 	// compared where it has any. Screenshots: the week in SI and IP, the
 	// month in SI.
 	t.Run("pages", func(t *testing.T) {
-		hourly := hourlyRows(t, hourlyCSV)
+		hourly := csvTable(t, hourlyCSV)
 		dashes := 0
 		for _, p := range periods {
 			for _, units := range []string{"si", "ip"} {

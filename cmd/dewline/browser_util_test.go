@@ -3,7 +3,6 @@ package main
 import (
 	"bytes"
 	"context"
-	"encoding/csv"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -167,26 +166,6 @@ func dashSite(t *testing.T, dir string) (cfg, hourly string) {
 	code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", export, "--out", hourly)
 	require.Equal(t, 0, code, errOut)
 	return cfg, hourly
-}
-
-// hourlyRows reads the analyse's hourly CSV: one map per row.
-func hourlyRows(t *testing.T, path string) []map[string]string {
-	t.Helper()
-	f, err := os.Open(path)
-	require.NoError(t, err)
-	defer f.Close()
-	all, err := csv.NewReader(f).ReadAll()
-	require.NoError(t, err)
-	require.NotEmpty(t, all)
-	var out []map[string]string
-	for _, r := range all[1:] {
-		m := map[string]string{}
-		for i, h := range all[0] {
-			m[h] = r[i]
-		}
-		out = append(out, m)
-	}
-	return out
 }
 
 // ---------------------------------------------------------------------------

@@ -1,7 +1,6 @@
 package main
 
 import (
-	"encoding/csv"
 	"fmt"
 	"math"
 	"os"
@@ -41,15 +40,11 @@ func fieldTruth(t *testing.T) string {
 // csvTable reads a CSV file with a header into rows keyed by column name.
 func csvTable(t *testing.T, path string) []map[string]string {
 	t.Helper()
-	f, err := os.Open(path)
-	require.NoError(t, err)
-	defer f.Close()
-	all, err := csv.NewReader(f).ReadAll()
-	require.NoError(t, err)
-	out := make([]map[string]string, 0, len(all)-1)
-	for _, r := range all[1:] {
+	header, rows := readHourly(t, path)
+	out := make([]map[string]string, 0, len(rows))
+	for _, r := range rows {
 		m := make(map[string]string, len(r))
-		for i, h := range all[0] {
+		for i, h := range header {
 			m[h] = r[i]
 		}
 		out = append(out, m)
