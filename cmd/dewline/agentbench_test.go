@@ -93,14 +93,7 @@ schedule: {backfill: 720h, lookback: 3h}
 air_handlers:
 `, url, bucket)
 	for i := 0; i < n; i++ {
-		fmt.Fprintf(&b, `  - id: %s
-    cooling: {kind: dx, rated_eer: 11}
-    reheat: {kind: electric}
-    airflow: {basis: standard}
-    fan: {position: draw_through, heat_rise: 0.5K}
-    target: {max_supply_dewpoint: 52F}
-    points:
-`, benchAHU(i))
+		fmt.Fprintf(&b, "  - id: %s\n%s%s", benchAHU(i), dxPlant+drawThroughFan, supplyTarget)
 		for _, r := range benchRoles {
 			fmt.Fprintf(&b, "      %s: {measurement: %s, field: %s, tags: {ahu: %s}, unit: %q}\n", r[0], benchMeas, r[1], benchAHU(i), r[2])
 		}

@@ -26,40 +26,53 @@ store: {kind: embedded, path: test.db}
 prices: {currency: USD, electricity_per_kwh: 0.12}
 air_handlers:
   - id: AHU-7
-    cooling: {kind: dx, rated_eer: 11}
-    reheat: {kind: electric}
-    airflow: {basis: standard}
-    fan: {position: none}
-    target: {max_supply_dewpoint: 52F}
-    points:
-      entering_temp: {column: MAT, unit: F}
-      entering_rh:   {column: MARH, unit: "%"}
-      leaving_temp:  {column: LAT, unit: F}
-      supply_temp:   {column: SAT, unit: F}
-      supply_flow:   {column: CFM, unit: CFM}
-`
+` + scenarioPlant + scenarioPoints
 
 func writeScenario(t *testing.T, dir string) (cfg, data string) {
 	t.Helper()
-	cfg = filepath.Join(dir, "site.yaml")
-	require.NoError(t, os.WriteFile(cfg, []byte(analyzeConfig), 0o600))
-	var b strings.Builder
-	b.WriteString("Time,MAT,MARH,LAT,SAT,CFM\n")
+	return writeCase(t, dir, analyzeConfig, scenarioExport(60, 55))
+}
+
+// scenarioExport is the two-day scenario's export (columns of
+// scenarioPoints) from 2026-07-14 00:00 site time: the entering air at
+// dayRHPct by day (08-20) and 38 % at night, the coil leaving at 52 °F by
+// day and at nightLeavingF at night.
+func scenarioExport(dayRHPct, nightLeavingF float64) string {
 	start := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
-	for m := 0; m < 48*60; m++ {
-		ts := start.Add(time.Duration(m) * time.Minute)
+	return minuteExport("Time,MAT,MARH,LAT,SAT,CFM", start, start.Add(48*time.Hour), func(ts time.Time) string {
+		m := int(ts.Sub(start) / time.Minute)
 		day := ts.Hour() >= 8 && ts.Hour() < 20
-		mat, rh, lat := 76.0+math.Sin(float64(m)/90), 60.0, 52.0
+		mat, rh, lat := 76.0+math.Sin(float64(m)/90), dayRHPct, 52.0
 		if !day {
-			rh, lat = 38, 55
+			rh, lat = 38, nightLeavingF
 		}
-		fmt.Fprintf(&b, "%s,%.2f,%.1f,%.2f,%.2f,%d\n", ts.Format("2006-01-02 15:04:05"), mat, rh, lat, 62.0, 8000)
+		return fmt.Sprintf(",%.2f,%.1f,%.2f,%.2f,%d", mat, rh, lat, 62.0, 8000)
+	})
+}
+
+// minuteExport is a wide export of one-minute readings over [from, to):
+// the header, then one line a minute, its time written without a zone
+// (site time) followed by row(ts), the values each after a comma.
+func minuteExport(header string, from, to time.Time, row func(ts time.Time) string) string {
+	var b strings.Builder
+	b.WriteString(header + "\n")
+	for ts := from; ts.Before(to); ts = ts.Add(time.Minute) {
+		b.WriteString(ts.Format("2006-01-02 15:04:05") + row(ts) + "\n")
 	}
-	data = filepath.Join(dir, "export.csv")
-	require.NoError(t, os.WriteFile(data, []byte(b.String()), 0o600))
+	return b.String()
+}
+
+// writeCase writes a configuration and an export into dir as site.yaml
+// and export.csv and returns their paths.
+func writeCase(t *testing.T, dir, cfgText, export string) (cfg, data string) {
+	t.Helper()
+	cfg, data = filepath.Join(dir, "site.yaml"), filepath.Join(dir, "export.csv")
+	require.NoError(t, os.WriteFile(cfg, []byte(cfgText), 0o600))
+	require.NoError(t, os.WriteFile(data, []byte(export), 0o600))
 	return cfg, data
 }
 
+// readHourly reads a CSV file with a header line: the header and the rows.
 func readHourly(t *testing.T, path string) (header []string, rows [][]string) {
 	t.Helper()
 	f, err := os.Open(path)
@@ -67,6 +80,7 @@ func readHourly(t *testing.T, path string) (header []string, rows [][]string) {
 	defer f.Close()
 	all, err := csv.NewReader(f).ReadAll()
 	require.NoError(t, err)
+	require.NotEmpty(t, all, "%s has no header line", path)
 	return all[0], all[1:]
 }
 

@@ -29,18 +29,9 @@ const benchConfig = `version: 1
 site: {timezone: UTC, altitude: 30m, units: ip}
 air_handlers:
   - id: AHU-B
-    cooling: {kind: dx, rated_eer: 11}
-    reheat: {kind: electric}
-    airflow: {basis: standard}
-    fan: {position: draw_through, heat_rise: 0.5K}
-    target: {max_space_dewpoint: 55F}
+` + dxPlant + drawThroughFan + `    target: {max_space_dewpoint: 55F}
     points:
-      entering_temp: {column: MAT, unit: F}
-      entering_rh: {column: MARH, unit: "%"}
-      leaving_temp: {column: LAT, unit: F}
-      supply_temp: {column: SAT, unit: F}
-      supply_flow: {column: CFM, unit: CFM}
-      reheat_kw: {column: RHKW, unit: kW}
+` + scenarioPoints + `      reheat_kw: {column: RHKW, unit: kW}
       outdoor_temp: {column: OAT, unit: F}
       outdoor_rh: {column: OARH, unit: "%"}
       space_temp: {column: RAT, unit: F}

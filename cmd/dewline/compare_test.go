@@ -33,13 +33,9 @@ import (
 // that every hour of the four days is fully covered.
 func writeSequenceChange(t *testing.T, dir string) (cfg, data string) {
 	t.Helper()
-	cfg = filepath.Join(dir, "site.yaml")
-	require.NoError(t, os.WriteFile(cfg, []byte(analyzeConfig), 0o600))
-	var b strings.Builder
-	b.WriteString("Time,MAT,MARH,LAT,SAT,CFM\n")
 	start := time.Date(2026, 7, 13, 22, 0, 0, 0, time.UTC) // wall clock, written without a zone: site time
 	end := time.Date(2026, 7, 18, 2, 0, 0, 0, time.UTC)
-	for ts := start; ts.Before(end); ts = ts.Add(time.Minute) {
+	return writeCase(t, dir, analyzeConfig, minuteExport("Time,MAT,MARH,LAT,SAT,CFM", start, end, func(ts time.Time) string {
 		after := ts.Day() >= 16
 		h := ts.Hour()
 		humid := h >= 8 && h < 20
@@ -58,11 +54,8 @@ func writeSequenceChange(t *testing.T, dir string) (cfg, data string) {
 		// engine flags one that does (and the comparison leaves such
 		// hours out): the readings alternate by 0.02 °F and 0.1 % RH.
 		j := float64(ts.Minute() % 2)
-		fmt.Fprintf(&b, "%s,%.2f,%.1f,%.2f,%.2f,8000\n", ts.Format("2006-01-02 15:04:05"), 76+0.02*j, rh+0.1*j, lat+0.02*j, sat+0.02*j)
-	}
-	data = filepath.Join(dir, "export.csv")
-	require.NoError(t, os.WriteFile(data, []byte(b.String()), 0o600))
-	return cfg, data
+		return fmt.Sprintf(",%.2f,%.1f,%.2f,%.2f,8000", 76+0.02*j, rh+0.1*j, lat+0.02*j, sat+0.02*j)
+	}))
 }
 
 // TestCompare_EndToEnd imports the scenario into the embedded store,
@@ -319,13 +312,9 @@ const outdoorConfig = analyzeConfig + `      outdoor_temp:  {column: OAT, unit: 
 // ones; entering air 76 °F at 60 % and 38 % (as writeSequenceChange).
 func writeOutdoorSequence(t *testing.T, dir string) (cfg, data string) {
 	t.Helper()
-	cfg = filepath.Join(dir, "site.yaml")
-	require.NoError(t, os.WriteFile(cfg, []byte(outdoorConfig), 0o600))
-	var b strings.Builder
-	b.WriteString("Time,MAT,MARH,LAT,SAT,CFM,OAT,OARH\n")
 	start := time.Date(2026, 7, 13, 22, 0, 0, 0, time.UTC) // wall clock, site time
 	end := time.Date(2026, 7, 20, 2, 0, 0, 0, time.UTC)
-	for ts := start; ts.Before(end); ts = ts.Add(time.Minute) {
+	return writeCase(t, dir, outdoorConfig, minuteExport("Time,MAT,MARH,LAT,SAT,CFM,OAT,OARH", start, end, func(ts time.Time) string {
 		h := ts.Hour()
 		humid, sat := h >= 8 && h < 20, 62.0
 		switch {
@@ -341,12 +330,9 @@ func writeOutdoorSequence(t *testing.T, dir string) (cfg, data string) {
 			sat = 62
 		}
 		j := float64(ts.Minute() % 2) // no sensor reads exactly the same all hour
-		fmt.Fprintf(&b, "%s,%.2f,%.1f,%.2f,%.2f,8000,%.2f,%.1f\n", ts.Format("2006-01-02 15:04:05"),
+		return fmt.Sprintf(",%.2f,%.1f,%.2f,%.2f,8000,%.2f,%.1f",
 			76+0.02*j, rh+0.1*j, lat+0.02*j, sat+0.02*j, 86+0.02*j, oarh+0.1*j)
-	}
-	data = filepath.Join(dir, "export.csv")
-	require.NoError(t, os.WriteFile(data, []byte(b.String()), 0o600))
-	return cfg, data
+	}))
 }
 
 // outdoorResult is what the outdoor tests read of compare --json.

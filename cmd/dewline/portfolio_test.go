@@ -46,20 +46,6 @@ func writePortfolioSite(t *testing.T, s portfolioSite, base, db string) (cfg, da
 	t.Helper()
 	dir := filepath.Join(t.TempDir(), s.id)
 	require.NoError(t, os.MkdirAll(dir, 0o700))
-	var b strings.Builder
-	b.WriteString("Time,MAT,MARH,LAT,SAT,CFM\n")
-	start := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
-	for m := 0; m < 48*60; m++ {
-		ts := start.Add(time.Duration(m) * time.Minute)
-		day := ts.Hour() >= 8 && ts.Hour() < 20
-		mat, rh, lat := 76.0+math.Sin(float64(m)/90), s.dayRHPct, 52.0
-		if !day {
-			rh, lat = 38, s.nightLeavingF
-		}
-		fmt.Fprintf(&b, "%s,%.2f,%.1f,%.2f,%.2f,%d\n", ts.Format("2006-01-02 15:04:05"), mat, rh, lat, 62.0, 8000)
-	}
-	data = filepath.Join(dir, "export.csv")
-	require.NoError(t, os.WriteFile(data, []byte(b.String()), 0o600))
 	text := strings.Replace(analyzeConfig, "site: {", "site: {id: "+s.id+", name: "+s.id+", ", 1)
 	if base == "" { // the embedded store, a file of the site's own
 		text = strings.Replace(text, "path: test.db", "path: "+s.id+".db", 1)
@@ -70,9 +56,7 @@ func writePortfolioSite(t *testing.T, s portfolioSite, base, db string) (cfg, da
 	for _, p := range []string{"MAT", "MARH", "LAT", "SAT", "CFM"} {
 		text = strings.Replace(text, "{column: "+p+",", fmt.Sprintf("{column: %s, measurement: %s_trend, field: %s,", p, s.id, strings.ToLower(p)), 1)
 	}
-	cfg = filepath.Join(dir, "site.yaml")
-	require.NoError(t, os.WriteFile(cfg, []byte(text), 0o600))
-	return cfg, data
+	return writeCase(t, dir, text, scenarioExport(s.dayRHPct, s.nightLeavingF))
 }
 
 // siteResults is what one site reads back from its store.

@@ -320,6 +320,35 @@ var faultRoles = []struct{ role, col, unit, field string }{
 	{"supply_flow", "CFM", "CFM", "cfm"},
 }
 
+// The tests' air handlers have one plant: a DX coil of EER 11 with
+// electric reheat, airflow at standard density. dxPlant is its YAML within
+// an air_handlers entry, before the fan.
+const dxPlant = `    cooling: {kind: dx, rated_eer: 11}
+    reheat: {kind: electric}
+    airflow: {basis: standard}
+`
+
+// drawThroughFan is the fan line of the benchmarks' air handlers.
+const drawThroughFan = "    fan: {position: draw_through, heat_rise: 0.5K}\n"
+
+// supplyTarget is a 52 °F supply dew point target, up to the points: line.
+const supplyTarget = `    target: {max_supply_dewpoint: 52F}
+    points:
+`
+
+// scenarioPlant is the scenarios' air handler up to its points: no fan
+// heat, a 52 °F supply dew point target.
+const scenarioPlant = dxPlant + "    fan: {position: none}\n" + supplyTarget
+
+// scenarioPoints are the points of the two-day scenario's export
+// (writeScenario), one column each.
+const scenarioPoints = `      entering_temp: {column: MAT, unit: F}
+      entering_rh:   {column: MARH, unit: "%"}
+      leaving_temp:  {column: LAT, unit: F}
+      supply_temp:   {column: SAT, unit: F}
+      supply_flow:   {column: CFM, unit: CFM}
+`
+
 // colPrefix is the export's column prefix of an air handler: "AHU-2" -> "AHU2".
 func colPrefix(id string) string { return strings.ReplaceAll(id, "-", "") }
 
@@ -348,14 +377,7 @@ func (s site) yaml() string {
 	b.WriteString(s.extra)
 	b.WriteString("air_handlers:\n")
 	for _, id := range s.ahus {
-		fmt.Fprintf(&b, `  - id: %s
-    cooling: {kind: dx, rated_eer: 11}
-    reheat: {kind: electric}
-    airflow: {basis: standard}
-    fan: {position: none}
-    target: {max_supply_dewpoint: 52F}
-    points:
-`, id)
+		fmt.Fprintf(&b, "  - id: %s\n%s", id, scenarioPlant)
 		for _, r := range faultRoles {
 			if p, ok := s.points[id+"/"+r.role]; ok {
 				fmt.Fprintf(&b, "      %s: %s\n", r.role, p)
