@@ -315,11 +315,7 @@ func TestCompare_EERIsRatioOfSums(t *testing.T) {
 }
 
 func TestCompare_NoCommonBins(t *testing.T) {
-	m := &memResults{}
-	at := cmpBefore.From
-	cmpHours(m, "AHU-1", &at, 20, dpDry, reheatOnly(1))
-	at = cmpAfter.From
-	cmpHours(m, "AHU-1", &at, 20, dpWet, reheatOnly(5))
+	m := &memResults{recs: comparetest.NoCommonBins("AHU-1", cmpBefore.From, cmpAfter.From)}
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err, "a comparison that cannot be normalised is reported, not refused")
 	u := c.AirHandlers[0].Bins
@@ -368,11 +364,7 @@ func TestCompare_Errors(t *testing.T) {
 }
 
 func TestCompare_JSON(t *testing.T) {
-	m := &memResults{}
-	at := cmpBefore.From
-	cmpHours(m, "AHU-1", &at, 20, dpDry, reheatOnly(1))
-	at = cmpAfter.From
-	cmpHours(m, "AHU-1", &at, 20, dpWet, reheatOnly(5))
+	m := &memResults{recs: comparetest.NoCommonBins("AHU-1", cmpBefore.From, cmpAfter.From)}
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
 	require.NoError(t, err)
 	b, err := json.Marshal(c)

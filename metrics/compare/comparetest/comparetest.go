@@ -49,6 +49,14 @@ func Hours(recs []metrics.Record, ahu string, at *time.Time, n int, dpC float64,
 	return recs
 }
 
+// NoCommonBins is 20 dry hours of air handler ahu from before, reheat 1 kWh
+// each, and 20 wet hours from after, reheat 5 kWh each: two periods that
+// share no dew-point bin.
+func NoCommonBins(ahu string, before, after time.Time) []metrics.Record {
+	recs := Hours(nil, ahu, &before, 20, DewPointDryC, ReheatOnly(1))
+	return Hours(recs, ahu, &after, 20, DewPointWetC, ReheatOnly(5))
+}
+
 // ReheatOnly sets reheat_kwh to v in every hour.
 func ReheatOnly(v float64) func(int) map[string]float64 {
 	return func(int) map[string]float64 { return map[string]float64{"reheat_kwh": v} }
