@@ -318,6 +318,17 @@ func loadKube(t *testing.T) *kube {
 	sort.Strings(want)
 	require.Equal(t, want, got, "kustomization.yaml resources must list exactly the manifests in %s/", kubeDir)
 
+	// The kinds this test checks: each one's API version and where its
+	// manifest is decoded.
+	kinds := map[string]struct {
+		apiVersion string
+		into       any
+	}{
+		"StatefulSet": {"apps/v1", &k.sts},
+		"Service":     {"v1", &k.svc},
+		"ConfigMap":   {"v1", &k.cm},
+		"Secret":      {"v1", &k.sec},
+	}
 	for _, f := range k.kust.Resources {
 		b, err := os.ReadFile(filepath.Join(kubeDir, f))
 		require.NoError(t, err)
@@ -337,25 +348,15 @@ func loadKube(t *testing.T) *kube {
 			require.NotContains(t, head.Metadata, "namespace", "%s: namespace-agnostic manifests name no namespace", f)
 			require.NotContains(t, k.files, head.Kind, "%s: a second %s", f, head.Kind)
 			k.files[head.Kind] = f
-			switch head.Kind {
-			case "StatefulSet":
-				require.Equal(t, "apps/v1", head.APIVersion, f)
-				decodeStrict(t, f, doc, &k.sts)
-			case "Service":
-				require.Equal(t, "v1", head.APIVersion, f)
-				decodeStrict(t, f, doc, &k.svc)
-			case "ConfigMap":
-				require.Equal(t, "v1", head.APIVersion, f)
-				decodeStrict(t, f, doc, &k.cm)
-			case "Secret":
-				require.Equal(t, "v1", head.APIVersion, f)
-				decodeStrict(t, f, doc, &k.sec)
-			default:
+			kind, ok := kinds[head.Kind]
+			if !ok {
 				t.Fatalf("%s: kind %s is not checked by this test; add checks for it", f, head.Kind)
 			}
+			require.Equal(t, kind.apiVersion, head.APIVersion, f)
+			decodeStrict(t, f, doc, kind.into)
 		}
 	}
-	for _, kind := range []string{"StatefulSet", "Service", "ConfigMap", "Secret"} {
+	for kind := range kinds {
 		require.Contains(t, k.files, kind, "no %s among the manifests", kind)
 	}
 	require.Len(t, k.sts.Spec.Template.Spec.Containers, 1, "the StatefulSet runs one container")
