@@ -95,6 +95,20 @@ func (v *validator) temperatureIn(path []any, s string, loC, hiC float64, fix st
 	return x, true
 }
 
+// quantityIn parses a quantity of kind (with its unit) and refuses it
+// outside lo..hi (SI), stating the range as rng in the configured form.
+func (v *validator) quantityIn(path []any, s string, kind psychro.Kind, lo, hi float64, rng, fix string) (float64, bool) {
+	x, ok := v.quantity(path, s, kind)
+	if !ok {
+		return 0, false
+	}
+	if x < lo || x > hi {
+		v.bad(path, fmt.Sprintf("%s is outside %s", s, rng), fix)
+		return 0, false
+	}
+	return x, true
+}
+
 func (c *Config) validate(ce *Error, root *yaml.Node) {
 	v := &validator{ce: ce, root: root}
 	if c.Version != Version {
@@ -418,34 +432,24 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 	// Space moisture gain.
 	a.SpaceGainKgKg = metrics.DefaultSpaceGain
 	if a.SpaceMoistureGain != "" {
-		if x, ok := v.quantity(at(p, "space_moisture_gain"), a.SpaceMoistureGain, psychro.KindHumRatio); ok {
-			if x < 0 || x > 0.005 {
-				v.bad(at(p, "space_moisture_gain"), fmt.Sprintf("%s is outside 0-5 g/kg", a.SpaceMoistureGain), "an office adds about 0.5-1.5 g/kg to its supply air")
-			} else {
-				a.SpaceGainKgKg = x
-			}
+		if x, ok := v.quantityIn(at(p, "space_moisture_gain"), a.SpaceMoistureGain, psychro.KindHumRatio, 0, 0.005, "0-5 g/kg",
+			"an office adds about 0.5-1.5 g/kg to its supply air"); ok {
+			a.SpaceGainKgKg = x
 		}
 	}
 
 	// Uncertainty of the assumed leaving RH.
 	a.LeavingRHUFrac = metrics.DefaultLeavingRHU
 	if a.LeavingRHUncertainty != "" {
-		if x, ok := v.quantity(at(p, "leaving_rh_uncertainty"), a.LeavingRHUncertainty, psychro.KindRH); ok {
-			if x < 0 || x > 0.3 {
-				v.bad(at(p, "leaving_rh_uncertainty"), fmt.Sprintf("%s is outside 0-30 %%", a.LeavingRHUncertainty), "give the 95 % half-width of leaving_rh, e.g. 5% (2% after a commissioning measurement)")
-			} else {
-				a.LeavingRHUFrac = x
-			}
+		if x, ok := v.quantityIn(at(p, "leaving_rh_uncertainty"), a.LeavingRHUncertainty, psychro.KindRH, 0, 0.3, "0-30 %",
+			"give the 95 % half-width of leaving_rh, e.g. 5% (2% after a commissioning measurement)"); ok {
+			a.LeavingRHUFrac = x
 		}
 	}
 
 	// Assumed leaving RH.
-	if x, ok := v.quantity(at(p, "leaving_rh"), a.LeavingRH, psychro.KindRH); ok {
-		if x < 0.5 || x > 1 {
-			v.bad(at(p, "leaving_rh"), fmt.Sprintf("%s is outside 50-100 %%", a.LeavingRH), "air leaving a wet coil is typically 90-95 %")
-		} else {
-			a.LeavingRHFrac = x
-		}
+	if x, ok := v.quantityIn(at(p, "leaving_rh"), a.LeavingRH, psychro.KindRH, 0.5, 1, "50-100 %", "air leaving a wet coil is typically 90-95 %"); ok {
+		a.LeavingRHFrac = x
 	}
 
 	// Humidity target: exactly one form.
@@ -464,9 +468,7 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 	}
 	if a.Target.MaxSpaceRH != "" {
 		forms++
-		if x, ok := v.quantity(at(tp, "max_space_rh"), a.Target.MaxSpaceRH, psychro.KindRH); ok && (x < 0.2 || x > 0.9) {
-			v.bad(at(tp, "max_space_rh"), fmt.Sprintf("%s is outside 20..90 %%", a.Target.MaxSpaceRH), "give the space humidity limit, e.g. 55%")
-		}
+		v.quantityIn(at(tp, "max_space_rh"), a.Target.MaxSpaceRH, psychro.KindRH, 0.2, 0.9, "20..90 %", "give the space humidity limit, e.g. 55%")
 		_, spaceT := a.Points[string(metrics.RoleSpaceTemp)]
 		if !spaceT && a.Target.SpaceTemp == "" {
 			v.bad(at(tp, "space_temp"), "max_space_rh needs the space temperature", "map space_temp or set target.space_temp (e.g. 74F)")
