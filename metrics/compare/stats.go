@@ -235,47 +235,45 @@ func regIncBeta(x, a, b float64) float64 {
 	return 1 - front*betaCF(1-x, b, a)/b
 }
 
+// lentzTiny stands in for a zero denominator in the modified Lentz method.
+const lentzTiny = 1e-300
+
 // betaCF evaluates the continued fraction of the incomplete beta function.
 func betaCF(x, a, b float64) float64 {
-	const tiny = 1e-300
 	c, d := 1.0, 1-(a+b)*x/(a+1)
-	if math.Abs(d) < tiny {
-		d = tiny
+	if math.Abs(d) < lentzTiny {
+		d = lentzTiny
 	}
 	d = 1 / d
 	f := d
 	for m := 1; m <= 300; m++ {
 		fm := float64(m)
 		// even step
-		num := fm * (b - fm) * x / ((a + 2*fm - 1) * (a + 2*fm))
-		d = 1 + num*d
-		if math.Abs(d) < tiny {
-			d = tiny
-		}
-		c = 1 + num/c
-		if math.Abs(c) < tiny {
-			c = tiny
-		}
-		d = 1 / d
-		f *= d * c
+		f *= lentzStep(fm*(b-fm)*x/((a+2*fm-1)*(a+2*fm)), &c, &d)
 		// odd step
-		num = -(a + fm) * (a + b + fm) * x / ((a + 2*fm) * (a + 2*fm + 1))
-		d = 1 + num*d
-		if math.Abs(d) < tiny {
-			d = tiny
-		}
-		c = 1 + num/c
-		if math.Abs(c) < tiny {
-			c = tiny
-		}
-		d = 1 / d
-		delta := d * c
+		delta := lentzStep(-(a+fm)*(a+b+fm)*x/((a+2*fm)*(a+2*fm+1)), &c, &d)
 		f *= delta
 		if math.Abs(delta-1) < 1e-15 {
 			break
 		}
 	}
 	return f
+}
+
+// lentzStep takes the next term, with numerator num, into the modified
+// Lentz evaluation of a continued fraction whose running ratios are c and
+// d; it returns the factor d·c by which the value changes.
+func lentzStep(num float64, c, d *float64) float64 {
+	*d = 1 + num**d
+	if math.Abs(*d) < lentzTiny {
+		*d = lentzTiny
+	}
+	*c = 1 + num / *c
+	if math.Abs(*c) < lentzTiny {
+		*c = lentzTiny
+	}
+	*d = 1 / *d
+	return *d * *c
 }
 
 // leastSquares solves min ‖X β − y‖ for the n×p matrix X (row-major) by
