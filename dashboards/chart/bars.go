@@ -103,10 +103,7 @@ func StackedBars(w io.Writer, f Frame, times []time.Time, step time.Duration, st
 		bars := barRuns{x0: x0, x1: x1, times: times, step: step, gap: gap, y: c.y.at}
 		bars.draw(p, pos[k], pos[k+1])
 		bars.draw(p, neg[k], neg[k+1])
-		p.end()
-		s.str(`"><title>`)
-		s.esc(sr.Name)
-		s.str(`</title></path>`)
+		p.endTitled(sr.Name)
 	}
 	s.str(`</g></svg>`)
 	return s.flush(w)

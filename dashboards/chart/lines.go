@@ -112,10 +112,7 @@ func Lines(w io.Writer, f Frame, times []time.Time, lines []Series, bands []Band
 			p.close()
 			i = j + 1
 		}
-		p.end()
-		s.str(`"><title>`)
-		s.esc(b.Name)
-		s.str(`</title></path>`)
+		p.endTitled(b.Name)
 	}
 	for k, sr := range lines {
 		s.str(`<path`)
@@ -141,10 +138,7 @@ func Lines(w io.Writer, f Frame, times []time.Time, lines []Series, bands []Band
 			}
 			i = j + 1
 		}
-		p.end()
-		s.str(`"><title>`)
-		s.esc(sr.Name)
-		s.str(`</title></path>`)
+		p.endTitled(sr.Name)
 	}
 	s.str(`</g></svg>`)
 	return s.flush(w)

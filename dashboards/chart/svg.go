@@ -316,3 +316,12 @@ func (p *pathData) close() {
 
 // end writes any pending segment.
 func (p *pathData) end() { p.flushPend() }
+
+// endTitled ends the path data and the <path> element, with title as its
+// tooltip.
+func (p *pathData) endTitled(title string) {
+	p.end()
+	p.s.str(`"><title>`)
+	p.s.esc(title)
+	p.s.str(`</title></path>`)
+}
