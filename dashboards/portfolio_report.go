@@ -11,7 +11,7 @@ import (
 	"time"
 )
 
-var portfolioReportTemplate = template.Must(template.New("").ParseFS(reportAssets, "templates/portfolio_report.html"))
+var portfolioReportTemplate = template.Must(template.New("").ParseFS(reportAssets, "templates/report_head.html", "templates/portfolio_report.html"))
 
 // PortfolioReportSite is one site's report in a portfolio report, and
 // where its own report file is (relative to the summary).
@@ -39,6 +39,9 @@ type prView struct {
 	Sites     []prSite
 	Findings  []prFinding
 }
+
+// PageTitle is the title of the summary's page (templates/report_head.html).
+func (prView) PageTitle() string { return "Portfolio · dehumidification and reheat energy" }
 
 // WritePortfolioReport writes the summary of several sites' reports as one
 // self-contained HTML file: each site's totals with a link to its own

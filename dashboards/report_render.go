@@ -21,14 +21,17 @@ import (
 // inline SVG, it has no script and refers to nothing outside itself, so it
 // can be mailed, archived and printed as it is.
 //
-//go:embed templates/report.html templates/report.css templates/portfolio_report.html
+//go:embed templates/report_head.html templates/report.html templates/report.css templates/portfolio_report.html
 var reportAssets embed.FS
 
 // --- the HTML ---
 
 // reportTemplate is parsed once; it uses no functions beyond the
 // template language's own, so every figure arrives formatted.
-var reportTemplate = template.Must(template.New("").ParseFS(reportAssets, "templates/report.html"))
+var reportTemplate = template.Must(template.New("").ParseFS(reportAssets, "templates/report_head.html", "templates/report.html"))
+
+// PageTitle is the title of the report's page (templates/report_head.html).
+func (v *reportView) PageTitle() string { return v.Title + " · " + v.Site + " · " + v.Period }
 
 // WriteHTML writes the report as one self-contained HTML file.
 func (r *Report) WriteHTML(w io.Writer) error {
