@@ -36,7 +36,14 @@ func VapPressureFromHumRatio(w, pPa float64) (float64, error) {
 // pPa (eq. 20 with p_w = p_ws(t)). It is an error when p_ws(t) reaches the total pressure
 // (boiling), where no saturated moist air exists.
 func SatHumRatio(tC, pPa float64) (float64, error) {
-	if err := checkTemp(inDryBulb, tC); err != nil {
+	return satHumRatio(inDryBulb, tC, pPa, "at or below the saturation pressure at this temperature (water boils)")
+}
+
+// satHumRatio is W_s (kg/kg) at temperature tC, the input named in, and
+// pressure pPa (eq. 20 with p_w = p_ws(t)); why is the pressure's range
+// when p_ws(t) reaches it.
+func satHumRatio(in string, tC, pPa float64, why string) (float64, error) {
+	if err := checkTemp(in, tC); err != nil {
 		return 0, err
 	}
 	if err := checkPressure(pPa); err != nil {
@@ -44,7 +51,7 @@ func SatHumRatio(tC, pPa float64) (float64, error) {
 	}
 	pws := satVapPressure(tC)
 	if pws >= pPa {
-		return 0, outOfRange(inPressure, pPa, "at or below the saturation pressure at this temperature (water boils)")
+		return 0, outOfRange(inPressure, pPa, why)
 	}
 	return MolarMassRatio * pws / (pPa - pws), nil
 }
@@ -85,22 +92,23 @@ func RHFromHumRatio(tC, w, pPa float64) (float64, error) {
 // HumRatioFromDewPoint returns W (kg/kg) of air whose dew point is tdC at
 // pressure pPa (eq. 20 with p_w = p_ws(t_d)).
 func HumRatioFromDewPoint(tdC, pPa float64) (float64, error) {
-	if err := checkTemp(inDewPoint, tdC); err != nil {
-		return 0, err
-	}
-	if err := checkPressure(pPa); err != nil {
-		return 0, err
-	}
-	pw := satVapPressure(tdC)
-	if pw >= pPa {
-		return 0, outOfRange(inPressure, pPa, "at or below the vapour pressure at this dew point")
-	}
-	return MolarMassRatio * pw / (pPa - pw), nil
+	return satHumRatio(inDewPoint, tdC, pPa, "at or below the vapour pressure at this dew point")
 }
 
 // DewPointFromHumRatio returns the dew point (°C) of air with humidity ratio
 // w at pressure pPa. W = 0 has no dew point and is an error.
 func DewPointFromHumRatio(w, pPa float64) (float64, error) {
+	pw, err := vapPressureWithDewPoint(w, pPa)
+	if err != nil {
+		return 0, err
+	}
+	return dewPoint(pw)
+}
+
+// vapPressureWithDewPoint is the vapour pressure (Pa) of air with humidity
+// ratio w at pressure pPa (eq. 20), refused where the dew point would lie
+// outside -100..200 °C, the range of the saturation pressure formula.
+func vapPressureWithDewPoint(w, pPa float64) (float64, error) {
 	pw, err := VapPressureFromHumRatio(w, pPa)
 	if err != nil {
 		return 0, err
@@ -111,7 +119,7 @@ func DewPointFromHumRatio(w, pPa float64) (float64, error) {
 	if pw > satPressureMax {
 		return 0, outOfRange(inHumRatio, w, "the dew point would be above 200 °C")
 	}
-	return dewPoint(pw)
+	return pw, nil
 }
 
 // HumRatioFromWetBulb returns W (kg/kg) from dry bulb tC, thermodynamic wet
@@ -235,15 +243,9 @@ func WetBulbFromHumRatio(tC, w, pPa float64) (float64, error) {
 	if err := checkTemp(inDryBulb, tC); err != nil {
 		return 0, err
 	}
-	pw, err := VapPressureFromHumRatio(w, pPa)
+	pw, err := vapPressureWithDewPoint(w, pPa)
 	if err != nil {
 		return 0, err
-	}
-	if pw < satPressureMin {
-		return 0, outOfRange(inHumRatio, w, "too dry: the dew point would be below -100 °C")
-	}
-	if pw > satPressureMax {
-		return 0, outOfRange(inHumRatio, w, "the dew point would be above 200 °C")
 	}
 	// The iteration needs only a bracket and a seed, not the dew point to
 	// 1e-9 K: one Newton step on ln p_ws from the Magnus estimate lands
