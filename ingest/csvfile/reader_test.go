@@ -106,8 +106,7 @@ var nan = math.NaN()
 func TestReader_FallBack(t *testing.T) {
 	ny := mustLoad(t, "America/New_York")
 	const file = "ridgeview-ahu1-fallback.csv"
-	r, err := openFixture(t, file, Options{Location: ny})
-	require.NoError(t, err)
+	r := mustFixture(t, file, Options{Location: ny})
 
 	d := r.Detected()
 	assert.Equal(t, LayoutWide, r.Layout())
@@ -158,8 +157,7 @@ func TestReader_FallBack(t *testing.T) {
 func TestReader_SpringForward(t *testing.T) {
 	berlin := mustLoad(t, "Europe/Berlin")
 	const file = "riedblick-ahu2-springforward.csv"
-	r, err := openFixture(t, file, Options{Location: berlin})
-	require.NoError(t, err)
+	r := mustFixture(t, file, Options{Location: berlin})
 
 	d := r.Detected()
 	assert.Equal(t, ';', d.Delimiter)
@@ -193,8 +191,7 @@ func TestReader_SpringForward(t *testing.T) {
 func TestReader_LongChangeOfValue(t *testing.T) {
 	ny := mustLoad(t, "America/New_York")
 	const file = "ridgeview-cov-long.csv"
-	r, err := openFixture(t, file, Options{Location: ny})
-	require.NoError(t, err)
+	r := mustFixture(t, file, Options{Location: ny})
 	assert.Equal(t, LayoutLong, r.Layout())
 	assert.False(t, r.Detected().DayFirst, "07/14/2026: 14 cannot be a month")
 
@@ -241,8 +238,7 @@ func TestReader_LongChangeOfValue(t *testing.T) {
 // needed and times come back in UTC.
 func TestReader_RFC3339(t *testing.T) {
 	const file = "ridgeview-rfc3339.csv"
-	r, err := openFixture(t, file, Options{})
-	require.NoError(t, err)
+	r := mustFixture(t, file, Options{})
 	assert.Equal(t, '|', r.Detected().Delimiter)
 	assert.False(t, r.Detected().LocalTime)
 
@@ -263,8 +259,7 @@ func TestReader_RFC3339(t *testing.T) {
 // then 194 days to July 14, plus 13 h).
 func TestReader_UnixMillis(t *testing.T) {
 	const file = "ridgeview-unix-ms.tsv"
-	r, err := openFixture(t, file, Options{})
-	require.NoError(t, err)
+	r := mustFixture(t, file, Options{})
 	assert.Equal(t, '\t', r.Detected().Delimiter)
 	assert.Equal(t, "Unix milliseconds", r.Detected().TimeFormat)
 
@@ -284,8 +279,7 @@ func TestReader_UnixMillis(t *testing.T) {
 func TestReader_BadRows(t *testing.T) {
 	ny := mustLoad(t, "America/New_York")
 	const file = "ridgeview-bad-rows.csv"
-	r, err := openFixture(t, file, Options{Location: ny})
-	require.NoError(t, err)
+	r := mustFixture(t, file, Options{Location: ny})
 
 	cols := []wantCol{{"AHU-1 Supply Air Temp", "°F"}, {"AHU-1 Return RH", "%"}}
 	want := expandWide(file, cols, []wideRow{ // 13:00 EDT = 17:00 UTC
