@@ -512,23 +512,28 @@ func (r *Report) assumptionsView(v *reportView) {
 		default:
 			au.Airflow = "Standard air: m = 1.204 kg/m³ × Q."
 		}
+		// fanHeat is the note on a fan's heat as the engine takes it: from
+		// the trended fan power, else the rated power (rated formats it in
+		// kW), else the assumed rise (rise formats it and its unit).
+		fanHeat := func(trended, rated, rise string) string {
+			switch {
+			case has[string(metrics.RoleFanPower)]:
+				return trended
+			case sp.FanRatedKW > 0:
+				return fmt.Sprintf(rated, fmtFixed(sp.FanRatedKW, 1))
+			default:
+				return fmt.Sprintf(rise, fmtFixed(d.Delta(sp.FanRiseK), 1), d.DeltaUnit())
+			}
+		}
 		switch sp.Fan {
 		case metrics.FanDrawThrough:
-			if has[string(metrics.RoleFanPower)] {
-				au.Fan = "Draw-through: heat from the trended fan power."
-			} else if sp.FanRatedKW > 0 {
-				au.Fan = fmt.Sprintf("Draw-through: heat from the rated fan power, %s kW, whenever air flows.", fmtFixed(sp.FanRatedKW, 1))
-			} else {
-				au.Fan = fmt.Sprintf("Draw-through: %s %s rise assumed.", fmtFixed(d.Delta(sp.FanRiseK), 1), d.DeltaUnit())
-			}
+			au.Fan = fanHeat("Draw-through: heat from the trended fan power.",
+				"Draw-through: heat from the rated fan power, %s kW, whenever air flows.",
+				"Draw-through: %s %s rise assumed.")
 		case metrics.FanBlowThrough:
-			if has[string(metrics.RoleFanPower)] {
-				au.Fan = "Blow-through, after the entering sensor: heat from the trended fan power added to the coil load."
-			} else if sp.FanRatedKW > 0 {
-				au.Fan = fmt.Sprintf("Blow-through, after the entering sensor: the rated fan power, %s kW, added to the coil load whenever air flows.", fmtFixed(sp.FanRatedKW, 1))
-			} else {
-				au.Fan = fmt.Sprintf("Blow-through, after the entering sensor: %s %s rise assumed, added to the coil load.", fmtFixed(d.Delta(sp.FanRiseK), 1), d.DeltaUnit())
-			}
+			au.Fan = fanHeat("Blow-through, after the entering sensor: heat from the trended fan power added to the coil load.",
+				"Blow-through, after the entering sensor: the rated fan power, %s kW, added to the coil load whenever air flows.",
+				"Blow-through, after the entering sensor: %s %s rise assumed, added to the coil load.")
 		case metrics.FanBlowThroughMeasured:
 			au.Fan = "Blow-through, ahead of the entering sensor: fan heat is in the measured coil load."
 		default:
