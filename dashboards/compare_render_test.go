@@ -26,20 +26,6 @@ var (
 	cmpAfter  = compare.Window{From: time.Date(2026, 7, 1, 0, 0, 0, 0, time.UTC), To: time.Date(2026, 7, 15, 0, 0, 0, 0, time.UTC), Label: "1 Jul 2026 – 14 Jul 2026"}
 )
 
-const (
-	dpDry   = comparetest.DewPointDryC   // bin [10, 11) °C
-	dpHumid = comparetest.DewPointHumidC // bin [16, 17)
-	dpWet   = comparetest.DewPointWetC   // bin [20, 21)
-)
-
-// cmpHours appends n consecutive hours of unit ahu from *at
-// (comparetest.Hours).
-func cmpHours(m *memResults, ahu string, at *time.Time, n int, dpC float64, set func(i int) map[string]float64) {
-	m.recs = comparetest.Hours(m.recs, ahu, at, n, dpC, set)
-}
-
-var reheatOnly = comparetest.ReheatOnly
-
 func cmpSite(units ...string) *compare.Input {
 	in := &compare.Input{Site: "Test site", Currency: "USD", Zone: time.UTC, Before: cmpBefore, After: cmpAfter}
 	for _, u := range units {
