@@ -194,19 +194,11 @@ type timedReader struct {
 }
 
 func (t *timedReader) ReadSeries(ctx context.Context, ref metrics.PointRef, kind psychro.Kind, from, to time.Time, fn func(ingest.Sample) error) error {
-	start := time.Now()
-	var push time.Duration
-	err := t.r.ReadSeries(ctx, ref, kind, from, to, func(s ingest.Sample) error {
-		c := time.Now()
-		err := fn(s)
-		push += time.Since(c)
-		t.samples++
-		return err
-	})
-	t.query += time.Since(start) - push
-	t.push += push
-	t.reqs++
-	return err
+	start, push0 := time.Now(), t.push
+	return t.done(start, push0, t.r.ReadSeries(ctx, ref, kind, from, to, func(s ingest.Sample) error {
+		defer t.pushed(time.Now())
+		return fn(s)
+	}))
 }
 
 // ReadBatch times a batch read (the InfluxDB backend reads one).
@@ -215,17 +207,23 @@ func (t *timedReader) ReadBatch(ctx context.Context, points []ingest.PointRead, 
 	if !ok {
 		return fmt.Errorf("%T reads no batches", t.r)
 	}
-	start := time.Now()
-	var push time.Duration
-	err := br.ReadBatch(ctx, points, from, to, func(i int, s ingest.Sample) error {
-		c := time.Now()
-		err := fn(i, s)
-		push += time.Since(c)
-		t.samples++
-		return err
-	})
-	t.query += time.Since(start) - push
-	t.push += push
+	start, push0 := time.Now(), t.push
+	return t.done(start, push0, br.ReadBatch(ctx, points, from, to, func(i int, s ingest.Sample) error {
+		defer t.pushed(time.Now())
+		return fn(i, s)
+	}))
+}
+
+// pushed counts one sample handed to the callback at c.
+func (t *timedReader) pushed(c time.Time) {
+	t.push += time.Since(c)
+	t.samples++
+}
+
+// done ends a read that began at start when push stood at push0: its time
+// less the callback's counts as the query's.
+func (t *timedReader) done(start time.Time, push0 time.Duration, err error) error {
+	t.query += time.Since(start) - (t.push - push0)
 	t.reqs++
 	return err
 }

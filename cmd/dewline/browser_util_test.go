@@ -18,6 +18,7 @@ import (
 	"time"
 
 	"github.com/chromedp/cdproto/log"
+	"github.com/chromedp/cdproto/network"
 	"github.com/chromedp/cdproto/page"
 	"github.com/chromedp/cdproto/runtime"
 	"github.com/chromedp/chromedp"
@@ -374,27 +375,33 @@ type shown struct {
 // it loaded.
 func (b *browser) open(t *testing.T, url, name string) shown {
 	t.Helper()
-	b.takeProblems()
-	ctx, cancel := context.WithTimeout(b.ctx, 20*time.Second)
-	defer cancel()
-	start := time.Now()
-	resp, err := chromedp.Run(ctx, chromedp.NavigateResponse(url))
-	require.NoError(t, err, "open %s", url)
-	b.timed(&b.loadTime, start)
+	resp := b.navigate(t, "open "+url, func(ctx context.Context) (*network.Response, error) {
+		return chromedp.Run(ctx, chromedp.NavigateResponse(url))
+	})
 	return b.loaded(t, url, resp.Status, name)
 }
 
 // click clicks the element with id and waits for the page it navigates to.
 func (b *browser) click(t *testing.T, id, name string) shown {
 	t.Helper()
+	resp := b.navigate(t, "click #"+id, func(ctx context.Context) (*network.Response, error) {
+		return chromedp.RunResponse(ctx, chromedp.Click(chromedp.ID(id)))
+	})
+	return b.loaded(t, resp.URL, resp.Status, name)
+}
+
+// navigate forgets the problems recorded so far, runs step, which loads a
+// page (what names it in a failure), and counts its time as loading time.
+func (b *browser) navigate(t *testing.T, what string, step func(context.Context) (*network.Response, error)) *network.Response {
+	t.Helper()
 	b.takeProblems()
 	ctx, cancel := context.WithTimeout(b.ctx, 20*time.Second)
 	defer cancel()
 	start := time.Now()
-	resp, err := chromedp.RunResponse(ctx, chromedp.Click(chromedp.ID(id)))
-	require.NoError(t, err, "click #%s", id)
+	resp, err := step(ctx)
+	require.NoError(t, err, what)
 	b.timed(&b.loadTime, start)
-	return b.loaded(t, resp.URL, resp.Status, name)
+	return resp
 }
 
 func (b *browser) timed(d *time.Duration, start time.Time) {

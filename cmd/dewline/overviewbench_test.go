@@ -148,26 +148,26 @@ func BenchmarkOverview_Month(b *testing.B) {
 		b.ReportMetric(float64(records)*float64(b.N)/b.Elapsed().Seconds(), "records/s")
 	}
 
-	b.Run("page", func(b *testing.B) {
+	// answerSize gets path b.N times and reports the answer's size as unit.
+	answerSize := func(b *testing.B, path, unit string) int {
 		b.ReportAllocs()
-		size := 0
+		n := 0
 		for b.Loop() {
-			size = get(b, "/?period=month").Body.Len()
+			n = get(b, path).Body.Len()
 		}
 		report(b)
-		b.ReportMetric(float64(size), "bytes/page")
+		b.ReportMetric(float64(n), unit)
+		return n
+	}
+
+	b.Run("page", func(b *testing.B) {
+		size := answerSize(b, "/?period=month", "bytes/page")
 		if size >= maxPageBytes {
 			b.Errorf("the overview of %d units weighs %d bytes, more than %d", portfolioAirHandlers, size, maxPageBytes)
 		}
 	})
 	b.Run("api", func(b *testing.B) {
-		b.ReportAllocs()
-		size := 0
-		for b.Loop() {
-			size = get(b, "/api/v1/overview?period=month").Body.Len()
-		}
-		report(b)
-		b.ReportMetric(float64(size), "bytes/answer")
+		answerSize(b, "/api/v1/overview?period=month", "bytes/answer")
 	})
 	b.Run("reference=ReadRecords", func(b *testing.B) {
 		b.ReportAllocs()
