@@ -23,6 +23,15 @@ func runCLI(t *testing.T, args ...string) (code int, stdout, stderr string) {
 	return code, o.String(), e.String()
 }
 
+// mustCLI is runCLI that fails the test unless the command exits 0; it
+// returns the standard output.
+func mustCLI(t *testing.T, args ...string) string {
+	t.Helper()
+	code, stdout, stderr := runCLI(t, args...)
+	require.Equal(t, 0, code, stderr)
+	return stdout
+}
+
 // TestAir_JSONAgreesWithPsychrolib runs "dewline air --json" and compares
 // every key with npm psychrolib 1.1.1 (an independent implementation of
 // ASHRAE Handbook - Fundamentals 2017 ch. 1) on the same state. Tolerances:

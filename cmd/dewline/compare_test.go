@@ -70,10 +70,8 @@ func writeSequenceChange(t *testing.T, dir string) (cfg, data string) {
 func TestCompare_EndToEnd(t *testing.T) {
 	dir := t.TempDir()
 	cfg, data := writeSequenceChange(t, dir)
-	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
-	require.Equal(t, 0, code, errOut)
-	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-17")
-	require.Equal(t, 0, code, errOut)
+	mustCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	mustCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-17")
 
 	// The table, and the HTML file.
 	page := filepath.Join(dir, "compare.html")
@@ -222,11 +220,7 @@ func TestCompare_BadFlags(t *testing.T) {
 // compares the two periods from each: the baseline model, its statistics
 // and the bin check come out the same from both stores.
 func TestInflux_CompareMatchesEmbedded(t *testing.T) {
-	base, _ := testkit.InfluxDB(t)
-	db := freshDB(t, base, "compare")
-	dir := t.TempDir()
-	embCfg, data := writeSequenceChange(t, dir)
-	fluxCfg := influxConfig(t, dir, base, db)
+	embCfg, fluxCfg, data := inBothStores(t, "compare", writeSequenceChange, analyzeConfig)
 	outs := map[string]string{}
 	for _, cfg := range []string{embCfg, fluxCfg} {
 		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data, "--from", "2026-07-14", "--to", "2026-07-17")
@@ -436,15 +430,7 @@ func TestCompare_OutdoorDriversAndThirdPeriod(t *testing.T) {
 // server's results equals the embedded store's by construction and to
 // psychrolib.
 func TestInflux_CompareOutdoorDrivers(t *testing.T) {
-	base, _ := testkit.InfluxDB(t)
-	db := freshDB(t, base, "compareoutdoor")
-	dir := t.TempDir()
-	_, data := writeOutdoorSequence(t, dir)
-	text := strings.Replace(outdoorConfig, "store: {kind: embedded, path: test.db}",
-		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", base, db+"/autogen"), 1)
-	require.NotEqual(t, outdoorConfig, text)
-	cfg := filepath.Join(dir, "influx.yaml")
-	require.NoError(t, os.WriteFile(cfg, []byte(text), 0o600))
+	_, cfg, data := inBothStores(t, "compareoutdoor", writeOutdoorSequence, outdoorConfig)
 	code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data, "--from", "2026-07-14", "--to", "2026-07-19")
 	require.Equal(t, 0, code, errOut)
 	code, out, errOut := runCLI(t, "--log-level", "warn", "compare", "--config", cfg, "--before", "2026-07-14..2026-07-15", "--after", "2026-07-16..2026-07-17",

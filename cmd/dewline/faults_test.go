@@ -67,16 +67,13 @@ func onceReport(t *testing.T, stdout string) map[string]ahuOutcome {
 func TestFault_DaylightSavingFallBack(t *testing.T) {
 	dir := t.TempDir()
 	cfg := site{schedule: "{backfill: 12h, lookback: 3h}", ahus: []string{"AHU-1"}}.write(t, dir, "site.yaml")
-	data := filepath.Join(dir, "trends.csv")
 	// 2026-10-31 17:00Z (12:00 CDT) to 2026-11-01 12:00Z (06:00 CST).
-	writeTrends(t, data, []string{"AHU-1"}, time.Date(2026, 10, 31, 17, 0, 0, 0, time.UTC), 19*time.Hour)
-	r := runDewline(t, runBound, "--log-level", "warn", "import", "--config", cfg, data)
-	require.Equal(t, 0, r.code, r.stderr)
+	importTrends(t, dir, cfg, []string{"AHU-1"}, time.Date(2026, 10, 31, 17, 0, 0, 0, time.UTC), 19*time.Hour)
 
 	// A bare 01:30 site time happens twice that night: it is refused, not
 	// guessed; with its offset, the first 01:30 (CDT, 06:30Z) has 05:00Z
 	// as the last complete hour.
-	r = runDewline(t, runBound, "--log-level", "warn", "run", "--config", cfg, "--dry-run", "--as-of", "2026-11-01T01:30")
+	r := runDewline(t, runBound, "--log-level", "warn", "run", "--config", cfg, "--dry-run", "--as-of", "2026-11-01T01:30")
 	require.Equal(t, 2, r.code)
 	assert.Contains(t, r.stderr, "happens twice")
 	r = runDewline(t, runBound, "--log-level", "warn", "run", "--config", cfg, "--dry-run", "--as-of", "2026-11-01T01:30:00-05:00")
@@ -256,12 +253,7 @@ func TestFault_KillWithWebhook(t *testing.T) {
 	}.write(t, dir, "site.yaml")
 	// A month of readings up to now: the long-running agent computes up
 	// to the last complete hour of the wall clock.
-	now := time.Now().UTC().Truncate(time.Minute)
-	from := now.Truncate(time.Hour).Add(-720 * time.Hour)
-	data := filepath.Join(dir, "trends.csv")
-	writeTrends(t, data, ahus, from, now.Sub(from))
-	r := runDewline(t, runBound, "--log-level", "warn", "import", "--config", cfg, data)
-	require.Equal(t, 0, r.code, r.stderr)
+	importUntilNow(t, dir, cfg, ahus, 720*time.Hour)
 
 	p := startDewline(t, "run", "--config", cfg)
 	select {
@@ -531,10 +523,7 @@ func TestFault_InfluxSlowOrFailing(t *testing.T) {
 	s.store = influxStore(url, db, "1s")
 	direct := s.write(t, dir, "direct.yaml") // the same state file, no proxy
 	from := time.Date(2026, 7, 14, 5, 0, 0, 0, time.UTC)
-	data := filepath.Join(dir, "trends.csv")
-	writeTrends(t, data, ahus, from, 48*time.Hour)
-	r := runDewline(t, runBound, "--log-level", "warn", "import", "--config", direct, data)
-	require.Equal(t, 0, r.code, r.stderr)
+	importTrends(t, dir, direct, ahus, from, 48*time.Hour)
 
 	const (
 		t0 = "2026-07-14T15:30" // slot 19:00Z
@@ -557,7 +546,7 @@ func TestFault_InfluxSlowOrFailing(t *testing.T) {
 		}
 	}
 
-	r = runVia(cfg, t0)
+	r := runVia(cfg, t0)
 	require.Equal(t, 0, r.code, r.stderr)
 	require.Equal(t, slot0, influxCheckpoints(t, url, db)["AHU-1"])
 	require.Positive(t, proxy.count("/api/v2/query"), "the agent reads through the proxy")
@@ -638,12 +627,7 @@ func TestFault_ReadinessFollowsTheStore(t *testing.T) {
 		extra:    "http: {listen: \"127.0.0.1:0\"}\n",
 		ahus:     ahus,
 	}.write(t, dir, "site.yaml")
-	now := time.Now().UTC().Truncate(time.Minute)
-	from := now.Truncate(time.Hour).Add(-6 * time.Hour)
-	data := filepath.Join(dir, "trends.csv")
-	writeTrends(t, data, ahus, from, now.Sub(from))
-	r := runDewline(t, runBound, "--log-level", "warn", "import", "--config", cfg, data)
-	require.Equal(t, 0, r.code, r.stderr)
+	importUntilNow(t, dir, cfg, ahus, 6*time.Hour)
 
 	p := startDewline(t, "run", "--config", cfg)
 	base := "http://" + p.httpAddr(t)
@@ -732,12 +716,7 @@ func TestFault_OneBrokenAirHandler(t *testing.T) {
 		"AHU-9/entering_temp": `{column: AHU9_MAT, unit: "F", measurement: annex_trend, field: mat}`,
 	}
 	cfg := s.write(t, dir, "site.yaml")
-	now := time.Now().UTC().Truncate(time.Minute)
-	from := now.Truncate(time.Hour).Add(-6 * time.Hour)
-	data := filepath.Join(dir, "trends.csv")
-	writeTrends(t, data, ahus, from, now.Sub(from))
-	r := runDewline(t, runBound, "--log-level", "warn", "import", "--config", imp, data)
-	require.Equal(t, 0, r.code, r.stderr)
+	now := importUntilNow(t, dir, imp, ahus, 6*time.Hour)
 
 	p := startDewline(t, "run", "--config", cfg)
 	base := "http://" + p.httpAddr(t)
@@ -827,13 +806,10 @@ func TestFault_Reshard(t *testing.T) {
 		cfgs[d] = s.write(t, d, "site.yaml")
 	}
 	from := time.Date(2026, 7, 14, 5, 0, 0, 0, time.UTC)
-	data := filepath.Join(one, "trends.csv")
-	writeTrends(t, data, ahus, from, 30*time.Hour)
-	r := runDewline(t, runBound, "--log-level", "warn", "import", "--config", cfgs[one], data)
-	require.Equal(t, 0, r.code, r.stderr)
+	importTrends(t, one, cfgs[one], ahus, from, 30*time.Hour)
 
 	// One replica: 24 h of backfill for every air handler.
-	r = runDewline(t, runBound, "--log-level", "warn", "run", "--config", cfgs[one], "--once", "--as-of", "2026-07-15T00:30")
+	r := runDewline(t, runBound, "--log-level", "warn", "run", "--config", cfgs[one], "--once", "--as-of", "2026-07-15T00:30")
 	require.Equal(t, 0, r.code, r.stderr)
 	first := onceReport(t, r.stdout)
 	require.Len(t, first, len(ahus))

@@ -180,10 +180,7 @@ func TestRun_OneComponentKey(t *testing.T) {
 	cfg := site{ahus: []string{"AHU-1"}, schedule: "{backfill: 2h}",
 		extra: "http: {listen: \"127.0.0.1:0\"}\nwebhook: {url: \"http://127.0.0.1:9/hook\"}\n"}.write(t, dir, "site.yaml")
 	now := time.Now().UTC().Truncate(time.Minute)
-	data := filepath.Join(dir, "trends.csv")
-	writeTrends(t, data, []string{"AHU-1"}, now.Truncate(time.Hour).Add(-3*time.Hour), 3*time.Hour)
-	r := runDewline(t, runBound, "--log-level", "warn", "import", "--config", cfg, data)
-	require.Equal(t, 0, r.code, r.stderr)
+	importTrends(t, dir, cfg, []string{"AHU-1"}, now.Truncate(time.Hour).Add(-3*time.Hour), 3*time.Hour)
 	p := startDewline(t, "--log-level", "debug", "run", "--config", cfg)
 	p.waitLog(t, runBound, "the http endpoint", msgIs("http endpoint listening"))
 	p.stop(t, 30*time.Second)

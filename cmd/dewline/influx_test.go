@@ -2,9 +2,7 @@ package main
 
 import (
 	"fmt"
-	"os"
 	"path/filepath"
-	"strings"
 	"testing"
 	"time"
 
@@ -24,13 +22,7 @@ func TestInflux_ImportAnalyzeMatchesExport(t *testing.T) {
 	meas := fmt.Sprintf("ahu7_%d", time.Now().UnixNano())
 	// The same point map, with an InfluxDB location for every point (in its
 	// own unit) beside the CSV column.
-	cfgText := strings.Replace(analyzeConfig, "store: {kind: embedded, path: test.db}",
-		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", url, db+"/autogen"), 1)
-	for _, p := range []string{"MAT", "MARH", "LAT", "SAT", "CFM"} {
-		cfgText = strings.Replace(cfgText, "{column: "+p+",", fmt.Sprintf("{column: %s, measurement: %s, field: %s,", p, meas, strings.ToLower(p)), 1)
-	}
-	cfg := filepath.Join(dir, "influx.yaml")
-	require.NoError(t, os.WriteFile(cfg, []byte(cfgText), 0o600))
+	cfg := influxConfig(t, dir, inMeasurement(analyzeConfig, meas), url, db, "")
 
 	code, out, errOut := runCLI(t, "--log-level", "warn", "check", "--config", cfg)
 	require.Equal(t, 0, code, errOut)

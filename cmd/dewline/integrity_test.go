@@ -219,13 +219,7 @@ func TestInflux_AlertEventsOnce(t *testing.T) {
 	dir := t.TempDir()
 	_, data := writeScenario(t, dir)
 	meas := "ahu7"
-	cfgText := strings.Replace(analyzeConfig, "store: {kind: embedded, path: test.db}",
-		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}\nschedule: {backfill: 96h}", url, db+"/autogen"), 1)
-	for _, p := range []string{"MAT", "MARH", "LAT", "SAT", "CFM"} {
-		cfgText = strings.Replace(cfgText, "{column: "+p+",", fmt.Sprintf("{column: %s, measurement: %s, field: %s,", p, meas, strings.ToLower(p)), 1)
-	}
-	cfg := filepath.Join(dir, "influx.yaml")
-	require.NoError(t, os.WriteFile(cfg, []byte(cfgText), 0o600))
+	cfg := influxConfig(t, dir, inMeasurement(analyzeConfig, meas), url, db, "\nschedule: {backfill: 96h}")
 	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
 	require.Equal(t, 0, code, errOut)
 
@@ -338,10 +332,8 @@ func TestServe_ReadOnlyFolderAndReadiness(t *testing.T) {
 	require.NoError(t, err)
 	t.Cleanup(func() { _ = os.Chmod(dir, 0o755); _ = os.RemoveAll(dir) })
 	cfg, data := writeScenario(t, dir)
-	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
-	require.Equal(t, 0, code, errOut)
-	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-15")
-	require.Equal(t, 0, code, errOut)
+	mustCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	mustCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-14", "--to", "2026-07-15")
 	db := filepath.Join(dir, "test.db")
 	for _, suffix := range []string{"-wal", "-shm"} {
 		_, err := os.Stat(db + suffix)
@@ -460,17 +452,12 @@ func TestImport_OnePass(t *testing.T) {
 	code, _, errOut = runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
 	require.Equal(t, 0, code, errOut)
 
-	db := openSQLite(t, filepath.Join(dir, "test.db"))
-	rows, err := db.Query("SELECT file, sha256 FROM imports ORDER BY id")
-	require.NoError(t, err)
-	defer rows.Close()
+	type imported struct{ file, sum string }
 	var sums []string
-	for rows.Next() {
-		var file, sum string
-		require.NoError(t, rows.Scan(&file, &sum))
-		sums = append(sums, sum)
+	for _, r := range sqliteRows(t, filepath.Join(dir, "test.db"), "SELECT file, sha256 FROM imports ORDER BY id",
+		func(r *imported) []any { return []any{&r.file, &r.sum} }) {
+		sums = append(sums, r.sum)
 	}
-	require.NoError(t, rows.Err())
 	assert.Equal(t, []string{want, want}, sums, "the pipe and the file hash alike")
 
 	code, _, errOut = run(&endless{}, "--log-level", "warn", "import", "--config", cfg, "--max-mib", "1", "/dev/stdin")

@@ -50,13 +50,9 @@ func writePortfolioSite(t *testing.T, s portfolioSite, base, db string) (cfg, da
 	if base == "" { // the embedded store, a file of the site's own
 		text = strings.Replace(text, "path: test.db", "path: "+s.id+".db", 1)
 	} else {
-		text = strings.Replace(text, "store: {kind: embedded, path: test.db}",
-			fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", base, db+"/autogen"), 1)
+		text = onInflux(text, base, db, "")
 	}
-	for _, p := range []string{"MAT", "MARH", "LAT", "SAT", "CFM"} {
-		text = strings.Replace(text, "{column: "+p+",", fmt.Sprintf("{column: %s, measurement: %s_trend, field: %s,", p, s.id, strings.ToLower(p)), 1)
-	}
-	return writeCase(t, dir, text, scenarioExport(s.dayRHPct, s.nightLeavingF))
+	return writeCase(t, dir, inMeasurement(text, s.id+"_trend"), scenarioExport(s.dayRHPct, s.nightLeavingF))
 }
 
 // siteResults is what one site reads back from its store.

@@ -2,7 +2,6 @@ package main
 
 import (
 	"fmt"
-	"path/filepath"
 	"regexp"
 	"strconv"
 	"testing"
@@ -111,10 +110,7 @@ func TestShard_ThreeReplicasWriteEveryHourOnce(t *testing.T) {
 	dir := t.TempDir()
 	cfg := site{store: influxStore(url, db, "10s"), meas: "shard_trend", schedule: "{backfill: 6h, lookback: 3h}", ahus: ahus}.write(t, dir, "site.yaml")
 	from := time.Date(2026, 7, 14, 5, 0, 0, 0, time.UTC)
-	data := filepath.Join(dir, "trends.csv")
-	writeTrends(t, data, ahus, from, 10*time.Hour)
-	r := runDewline(t, runBound, "--log-level", "warn", "import", "--config", cfg, data)
-	require.Equal(t, 0, r.code, r.stderr)
+	importTrends(t, dir, cfg, ahus, from, 10*time.Hour)
 	// 09:30 in Chicago (CDT) is 14:30 UTC: the last complete hour starts at
 	// 13:00 UTC, and the 6 hours of backfill start at 08:00 UTC.
 	const asOf = "2026-07-14T09:30"

@@ -446,6 +446,29 @@ func writeTrends(t *testing.T, path string, ahus []string, from time.Time, d tim
 	require.NoError(t, f.Close())
 }
 
+// importTrends writes the readings of ahus over [from, from+d) as
+// dir/trends.csv (writeTrends) and imports them with the dewline binary and
+// the configuration cfg; it returns the export's path.
+func importTrends(t *testing.T, dir, cfg string, ahus []string, from time.Time, d time.Duration) string {
+	t.Helper()
+	data := filepath.Join(dir, "trends.csv")
+	writeTrends(t, data, ahus, from, d)
+	r := runDewline(t, runBound, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, r.code, r.stderr)
+	return data
+}
+
+// importUntilNow is importTrends of the readings from span before the
+// current hour up to now, the current minute, which it returns: the data
+// an agent started now computes up to its last complete hour.
+func importUntilNow(t *testing.T, dir, cfg string, ahus []string, span time.Duration) (now time.Time) {
+	t.Helper()
+	now = time.Now().UTC().Truncate(time.Minute)
+	from := now.Truncate(time.Hour).Add(-span)
+	importTrends(t, dir, cfg, ahus, from, now.Sub(from))
+	return now
+}
+
 // ---------------------------------------------------------------------------
 // InfluxDB
 
@@ -772,16 +795,30 @@ func checkpoints(t *testing.T, path string) map[string]time.Time {
 	if _, err := os.Stat(path); errors.Is(err, os.ErrNotExist) {
 		return map[string]time.Time{}
 	}
+	type checkpoint struct {
+		ahu string
+		ms  int64
+	}
+	out := map[string]time.Time{}
+	for _, c := range sqliteRows(t, path, "SELECT ahu, last_hour_ms FROM checkpoints", func(c *checkpoint) []any { return []any{&c.ahu, &c.ms} }) {
+		out[c.ahu] = time.UnixMilli(c.ms).UTC()
+	}
+	return out
+}
+
+// sqliteRows runs query on the store file at path; cols gives the fields
+// of a row that its columns are scanned into, in order.
+func sqliteRows[T any](t *testing.T, path, query string, cols func(*T) []any) []T {
+	t.Helper()
 	db := openSQLite(t, path)
-	rows, err := db.Query("SELECT ahu, last_hour_ms FROM checkpoints")
+	rows, err := db.Query(query)
 	require.NoError(t, err)
 	defer rows.Close()
-	out := map[string]time.Time{}
+	var out []T
 	for rows.Next() {
-		var ahu string
-		var ms int64
-		require.NoError(t, rows.Scan(&ahu, &ms))
-		out[ahu] = time.UnixMilli(ms).UTC()
+		var r T
+		require.NoError(t, rows.Scan(cols(&r)...))
+		out = append(out, r)
 	}
 	require.NoError(t, rows.Err())
 	return out
@@ -797,18 +834,8 @@ type hourRecord struct {
 
 func storedHours(t *testing.T, path string) []hourRecord {
 	t.Helper()
-	db := openSQLite(t, path)
-	rows, err := db.Query("SELECT ahu, hour_ms, fields, flags FROM hourly ORDER BY ahu, hour_ms")
-	require.NoError(t, err)
-	defer rows.Close()
-	var out []hourRecord
-	for rows.Next() {
-		var r hourRecord
-		require.NoError(t, rows.Scan(&r.AHU, &r.HourMs, &r.Fields, &r.Flags))
-		out = append(out, r)
-	}
-	require.NoError(t, rows.Err())
-	return out
+	return sqliteRows(t, path, "SELECT ahu, hour_ms, fields, flags FROM hourly ORDER BY ahu, hour_ms",
+		func(r *hourRecord) []any { return []any{&r.AHU, &r.HourMs, &r.Fields, &r.Flags} })
 }
 
 // storedEvent is one row of the alert event queue.
@@ -823,18 +850,10 @@ type storedEvent struct {
 
 func storedEvents(t *testing.T, path string) []storedEvent {
 	t.Helper()
-	db := openSQLite(t, path)
-	rows, err := db.Query("SELECT seq, alert_id, transition, at_ms, payload, delivered_ms FROM alert_events ORDER BY seq")
-	require.NoError(t, err)
-	defer rows.Close()
-	var out []storedEvent
-	for rows.Next() {
-		var e storedEvent
-		require.NoError(t, rows.Scan(&e.Seq, &e.AlertID, &e.Transition, &e.AtMs, &e.Payload, &e.DeliveredMs))
-		out = append(out, e)
-	}
-	require.NoError(t, rows.Err())
-	return out
+	return sqliteRows(t, path, "SELECT seq, alert_id, transition, at_ms, payload, delivered_ms FROM alert_events ORDER BY seq",
+		func(e *storedEvent) []any {
+			return []any{&e.Seq, &e.AlertID, &e.Transition, &e.AtMs, &e.Payload, &e.DeliveredMs}
+		})
 }
 
 // httpGet returns the status and body of GET base+path.
@@ -898,13 +917,30 @@ func influxCheckpoints(t *testing.T, base, db string) map[string]time.Time {
 	return out
 }
 
-// influxConfig writes analyzeConfig with its store on the InfluxDB test
-// server (database db at base) into dir and returns the file's path.
-func influxConfig(t *testing.T, dir, base, db string) string {
+// onInflux is cfgText, analyzeConfig or a configuration made from it,
+// with its store on database db of the InfluxDB server at base; more
+// (YAML) follows the store block.
+func onInflux(cfgText, base, db, more string) string {
+	return strings.Replace(cfgText, "store: {kind: embedded, path: test.db}",
+		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", base, db+"/autogen")+more, 1)
+}
+
+// inMeasurement gives every point of cfgText (analyzeConfig or made from
+// it) an InfluxDB location beside its column: measurement meas, the field
+// named after the column in lower case.
+func inMeasurement(cfgText, meas string) string {
+	for _, p := range []string{"MAT", "MARH", "LAT", "SAT", "CFM"} {
+		cfgText = strings.Replace(cfgText, "{column: "+p+",", fmt.Sprintf("{column: %s, measurement: %s, field: %s,", p, meas, strings.ToLower(p)), 1)
+	}
+	return cfgText
+}
+
+// influxConfig writes cfgText with its store on the InfluxDB test server
+// (onInflux) into dir and returns the file's path.
+func influxConfig(t *testing.T, dir, cfgText, base, db, more string) string {
 	t.Helper()
-	text := strings.Replace(analyzeConfig, "store: {kind: embedded, path: test.db}",
-		fmt.Sprintf("store:\n  kind: influxdb\n  influxdb: {url: %q, bucket: %q, timeout: 20s}", base, db+"/autogen"), 1)
-	require.NotEqual(t, analyzeConfig, text, "analyzeConfig's store line")
+	text := onInflux(cfgText, base, db, more)
+	require.NotEqual(t, cfgText, text, "the configuration's store line")
 	path := filepath.Join(dir, "influx.yaml")
 	require.NoError(t, os.WriteFile(path, []byte(text), 0o600))
 	return path
@@ -915,11 +951,19 @@ func influxConfig(t *testing.T, dir, base, db string) string {
 // (named from prefix) on the real InfluxDB test server.
 func scenarioInBothStores(t *testing.T, prefix string) (embCfg, fluxCfg, data string) {
 	t.Helper()
+	return inBothStores(t, prefix, writeScenario, analyzeConfig)
+}
+
+// inBothStores writes a scenario's export and its configuration cfgText
+// (write) and a second configuration of it whose store is a fresh database
+// (named from prefix) on the real InfluxDB test server.
+func inBothStores(t *testing.T, prefix string, write func(t *testing.T, dir string) (cfg, data string), cfgText string) (embCfg, fluxCfg, data string) {
+	t.Helper()
 	base, _ := testkit.InfluxDB(t)
 	db := freshDB(t, base, prefix)
 	dir := t.TempDir()
-	embCfg, data = writeScenario(t, dir)
-	return embCfg, influxConfig(t, dir, base, db), data
+	embCfg, data = write(t, dir)
+	return embCfg, influxConfig(t, dir, cfgText, base, db, ""), data
 }
 
 // openTestStore loads the configuration at path and opens its store
