@@ -156,18 +156,26 @@ func (g *batchGroup) predicate(measurement string) string {
 // joined by "or" where a value has a character that a regular expression
 // literal cannot carry plainly.
 func fluxOneOf(key string, values []string) string {
-	col := fluxColumn(key)
+	return oneOf(fluxColumn(key), " == ", " or ", fluxString, values)
+}
+
+// oneOf is the condition that col holds one of values in a query language
+// whose equality operator is eq, whose disjunction is or and whose string
+// literals quote makes: an equality for one value, a regular expression
+// (fluxRegexOneOf; Flux and InfluxQL share its literal) for several, or
+// the equalities joined by or.
+func oneOf(col, eq, or string, quote func(string) string, values []string) string {
 	if len(values) == 1 {
-		return col + " == " + fluxString(values[0])
+		return col + eq + quote(values[0])
 	}
 	if re, ok := fluxRegexOneOf(values); ok {
 		return col + " =~ " + re
 	}
 	parts := make([]string, len(values))
 	for i, v := range values {
-		parts[i] = col + " == " + fluxString(v)
+		parts[i] = col + eq + quote(v)
 	}
-	return "(" + strings.Join(parts, " or ") + ")"
+	return "(" + strings.Join(parts, or) + ")"
 }
 
 // fluxRegexOneOf returns a Flux regular expression literal that matches

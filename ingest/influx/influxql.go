@@ -95,18 +95,7 @@ func influxQLIdent(s string) string {
 // InfluxQL's regular expression literal also has "\/" as its one escape
 // and passes any other backslash on), or equalities joined by OR.
 func influxQLOneOf(key string, values []string) string {
-	col := influxQLIdent(key) + "::tag"
-	if len(values) == 1 {
-		return col + " = " + influxQLString(values[0])
-	}
-	if re, ok := fluxRegexOneOf(values); ok {
-		return col + " =~ " + re
-	}
-	parts := make([]string, len(values))
-	for i, v := range values {
-		parts[i] = col + " = " + influxQLString(v)
-	}
-	return "(" + strings.Join(parts, " OR ") + ")"
+	return oneOf(influxQLIdent(key)+"::tag", " = ", " OR ", influxQLString, values)
 }
 
 // influxQLPlan is the statements of a batch read, one per group, in the
