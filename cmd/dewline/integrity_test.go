@@ -167,33 +167,14 @@ func TestAnalyze_AlertEventsOnce(t *testing.T) {
 	require.Equal(t, 0, code, errOut)
 	first := storedEvents(t, db)
 	require.NotEmpty(t, first, "the humid days raise alerts")
-	keys := map[string]int{}
-	for _, e := range first {
-		keys[e.AlertID+"/"+e.Transition]++
-	}
-	for k, n := range keys {
-		assert.Equal(t, 1, n, "webhook key %s", k)
-	}
+	eachEventOnce(t, first)
 
 	code, errOut = analyze()
 	require.Equal(t, 0, code, errOut)
 	assert.Len(t, storedEvents(t, db), len(first), "a second analysis of the same period records nothing new")
 
 	// Two analyses at once on one file.
-	var wg sync.WaitGroup
-	codes := make([]int, 2)
-	outs := make([]string, 2)
-	for i := range codes {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			codes[i], outs[i] = analyze()
-		}()
-	}
-	wg.Wait()
-	for i := range codes {
-		require.Equal(t, 0, codes[i], outs[i])
-	}
+	twiceAtOnce(t, analyze)
 	assert.Len(t, storedEvents(t, db), len(first), "concurrent analyses record nothing new")
 
 	// Delivered events stay delivered through another analysis.
@@ -206,6 +187,38 @@ func TestAnalyze_AlertEventsOnce(t *testing.T) {
 	require.Equal(t, 0, code, errOut)
 	for _, e := range storedEvents(t, db) {
 		assert.True(t, e.DeliveredMs.Valid, "event %d (%s %s) queued again", e.Seq, e.AlertID, e.Transition)
+	}
+}
+
+// twiceAtOnce runs cmd in two goroutines at once and requires both runs to
+// succeed; cmd returns the exit code and the standard error.
+func twiceAtOnce(t *testing.T, cmd func() (code int, stderr string)) {
+	t.Helper()
+	var wg sync.WaitGroup
+	codes, outs := make([]int, 2), make([]string, 2)
+	for i := range codes {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			codes[i], outs[i] = cmd()
+		}()
+	}
+	wg.Wait()
+	for i := range codes {
+		require.Equal(t, 0, codes[i], outs[i])
+	}
+}
+
+// eachEventOnce asserts that the webhook queue holds each alert transition
+// (its delivery key) once.
+func eachEventOnce(t *testing.T, events []storedEvent) {
+	t.Helper()
+	keys := map[string]int{}
+	for _, e := range events {
+		keys[e.AlertID+"/"+e.Transition]++
+	}
+	for k, n := range keys {
+		assert.Equal(t, 1, n, "webhook key %s queued %d times", k, n)
 	}
 }
 
@@ -227,29 +240,11 @@ func TestInflux_AlertEventsOnce(t *testing.T) {
 		code, _, errOut := runCLI(t, "--log-level", "warn", "run", "--config", cfg, "--once", "--as-of", "2026-07-16T06:00:00Z")
 		return code, errOut
 	}
-	var wg sync.WaitGroup
-	codes, outs := make([]int, 2), make([]string, 2)
-	for i := range codes {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			codes[i], outs[i] = runOnce()
-		}()
-	}
-	wg.Wait()
-	for i := range codes {
-		require.Equal(t, 0, codes[i], outs[i])
-	}
+	twiceAtOnce(t, runOnce)
 	state := filepath.Join(dir, "dewline-state.db")
 	events := storedEvents(t, state)
 	require.NotEmpty(t, events, "the humid days raise alerts")
-	keys := map[string]int{}
-	for _, e := range events {
-		keys[e.AlertID+"/"+e.Transition]++
-	}
-	for k, n := range keys {
-		assert.Equal(t, 1, n, "webhook key %s queued %d times", k, n)
-	}
+	eachEventOnce(t, events)
 	// An analysis of the same period into the same server adds no point.
 	count := func() int {
 		n := 0
