@@ -159,23 +159,14 @@ func BenchmarkStackedBars720(b *testing.B) { benchChart(b, "stacked") }
 func BenchmarkLines720(b *testing.B)       { benchChart(b, "lines") }
 func BenchmarkPsyChart720(b *testing.B)    { benchChart(b, "psy") }
 
-// The references on their own, for the record.
-func BenchmarkRefFprintfStacked720(b *testing.B) {
+// The references on their own, for the record: ref over the coordinates
+// of chart.
+func benchRef(b *testing.B, ref func(*testing.B, []float64), chart string) {
 	benchSetup(b)
-	refFprintf(b, benchCoords["stacked"])
+	ref(b, benchCoords[chart])
 }
 
-func BenchmarkRefAppendFloatStacked720(b *testing.B) {
-	benchSetup(b)
-	refAppendFloat(b, benchCoords["stacked"])
-}
-
-func BenchmarkRefFprintfPsy720(b *testing.B) {
-	benchSetup(b)
-	refFprintf(b, benchCoords["psy"])
-}
-
-func BenchmarkRefAppendFloatPsy720(b *testing.B) {
-	benchSetup(b)
-	refAppendFloat(b, benchCoords["psy"])
-}
+func BenchmarkRefFprintfStacked720(b *testing.B)     { benchRef(b, refFprintf, "stacked") }
+func BenchmarkRefAppendFloatStacked720(b *testing.B) { benchRef(b, refAppendFloat, "stacked") }
+func BenchmarkRefFprintfPsy720(b *testing.B)         { benchRef(b, refFprintf, "psy") }
+func BenchmarkRefAppendFloatPsy720(b *testing.B)     { benchRef(b, refAppendFloat, "psy") }
