@@ -71,11 +71,7 @@ func (p *Proposal) Write(w io.Writer, site Site) error {
 	default:
 		line("  altitude: 0m                   # ASSUMED: set the site's elevation (or pressure: 101.3kPa)")
 	}
-	if p.IP {
-		line("  units: ip                      # most temperatures are logged in °F")
-	} else {
-		line("  units: si")
-	}
+	line(ipOrSI(p.IP, "  units: ip                      # most temperatures are logged in °F", "  units: si"))
 	line("")
 	line("store:")
 	if site.InfluxURL != "" {
@@ -197,18 +193,12 @@ func (p *Proposal) writeAHU(b *strings.Builder, a *AirHandler, pre string) {
 		line("      position: none               # one sensor after the fan serves as leaving and supply")
 	} else {
 		line("      position: draw_through       # ASSUMED: the fan sits between coil and supply sensor")
-		if p.IP {
-			line("      heat_rise: 1F                # ASSUMED: the fan's temperature rise (typically 0.5-1.5F)")
-		} else {
-			line("      heat_rise: 0.6K              # ASSUMED: the fan's temperature rise (typically 0.3-0.8K)")
-		}
+		line(ipOrSI(p.IP, "      heat_rise: 1F                # ASSUMED: the fan's temperature rise (typically 0.5-1.5F)",
+			"      heat_rise: 0.6K              # ASSUMED: the fan's temperature rise (typically 0.3-0.8K)"))
 	}
 	line("    target:")
-	if p.IP {
-		line("      max_space_dewpoint: 55F      # ASSUMED: a common comfort limit (common practice, no source); set the owner's")
-	} else {
-		line("      max_space_dewpoint: 13C      # ASSUMED: a common comfort limit (common practice, no source); set the owner's")
-	}
+	line(ipOrSI(p.IP, "      max_space_dewpoint: 55F      # ASSUMED: a common comfort limit (common practice, no source); set the owner's",
+		"      max_space_dewpoint: 13C      # ASSUMED: a common comfort limit (common practice, no source); set the owner's"))
 	if a.Mixes() && a.Mapping(metrics.RoleOutdoorFlow) == nil {
 		line("    outdoor_air:                   # the entering air is return and outdoor air mixed (no mixed-air humidity sensor)")
 		line("      min_fraction: 20%%           # ASSUMED: the outdoor-air share at minimum position, used when outdoor and return temperatures are too close to tell it")
@@ -321,4 +311,12 @@ func (p *Proposal) WriteFile(path string, w io.Writer, site Site) error {
 		return fmt.Errorf("write %s: %w", path, err)
 	}
 	return nil
+}
+
+// ipOrSI is the draft's line for a site in IP units (ip true) or in SI.
+func ipOrSI(ip bool, ipLine, siLine string) string {
+	if ip {
+		return ipLine
+	}
+	return siLine
 }
