@@ -157,13 +157,12 @@ func TestAnalyze_AlertEventsOnce(t *testing.T) {
 	dir := t.TempDir()
 	cfg, data := writeScenario(t, dir)
 	db := filepath.Join(dir, "test.db")
-	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
-	require.Equal(t, 0, code, errOut)
+	mustCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
 	analyze := func() (int, string) {
 		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-13", "--to", "2026-07-15")
 		return code, errOut
 	}
-	code, errOut = analyze()
+	code, errOut := analyze()
 	require.Equal(t, 0, code, errOut)
 	first := storedEvents(t, db)
 	require.NotEmpty(t, first, "the humid days raise alerts")
@@ -285,15 +284,14 @@ func TestAnalyze_ResultsAndAlertsTogether(t *testing.T) {
 	dir := t.TempDir()
 	cfg, data := writeScenario(t, dir)
 	db := filepath.Join(dir, "test.db")
-	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
-	require.Equal(t, 0, code, errOut)
+	mustCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
 	rw, err := sql.Open("sqlite", "file:"+db+"?_busy_timeout=5000")
 	require.NoError(t, err)
 	_, err = rw.Exec(`CREATE TRIGGER refuse_alerts BEFORE INSERT ON alerts BEGIN SELECT RAISE(ABORT, 'alerts refused'); END`)
 	require.NoError(t, err)
 	require.NoError(t, rw.Close())
 
-	code, _, errOut = runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-13", "--to", "2026-07-15")
+	code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--from", "2026-07-13", "--to", "2026-07-15")
 	assert.Equal(t, 1, code)
 	assert.Contains(t, errOut, "alerts refused")
 	assert.Empty(t, storedHours(t, db), "no hours stored without their alerts")
