@@ -24,6 +24,7 @@ import (
 	"github.com/chromedp/chromedp"
 	"github.com/stretchr/testify/require"
 
+	"github.com/dewline/dewline/dashboards/pdf"
 	"github.com/dewline/dewline/deploy/testkit"
 )
 
@@ -276,24 +277,7 @@ func startBrowser(t *testing.T) *browser {
 	t.Helper()
 	exe := testkit.Chromium(t)
 	profile := t.TempDir()
-	opts := []chromedp.ExecAllocatorOption{
-		chromedp.ExecPath(exe),
-		chromedp.Headless,
-		chromedp.DisableGPU,
-		chromedp.NoFirstRun,
-		chromedp.NoDefaultBrowserCheck,
-		chromedp.Flag("disable-background-networking", true),
-		chromedp.Flag("disable-component-update", true),
-		chromedp.Flag("disable-sync", true),
-		chromedp.Flag("disable-quic", true),
-		chromedp.Flag("disable-extensions", true),
-		chromedp.Flag("disable-dev-shm-usage", true),
-		chromedp.UserDataDir(profile),
-		chromedp.WindowSize(1280, 900),
-	}
-	if os.Geteuid() == 0 {
-		opts = append(opts, chromedp.NoSandbox) // Chromium refuses to run as root with its sandbox
-	}
+	opts := append(pdf.HeadlessOptions(exe, profile), chromedp.WindowSize(1280, 900))
 	actx, cancelAlloc := chromedp.NewExecAllocator(context.Background(), opts...)
 	ctx, cancelTab := chromedp.NewContext(actx)
 	t.Cleanup(func() { cancelTab(); cancelAlloc() }) // cancelAlloc waits for the browser to exit

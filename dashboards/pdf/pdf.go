@@ -53,6 +53,33 @@ func findChromium() (string, error) {
 	return "", fmt.Errorf("no chromium, chromium-browser or google-chrome on the PATH")
 }
 
+// HeadlessOptions are the options dewline starts Chromium bin with
+// (headless, no GPU, no first-run or default-browser questions, the
+// profile in the folder profile, no background networking, component
+// updates, sync, QUIC or extensions, no /dev/shm, and no sandbox as root,
+// where Chromium refuses to start it). The browser tests of the dashboard
+// start theirs with the same options.
+func HeadlessOptions(bin, profile string) []chromedp.ExecAllocatorOption {
+	opts := []chromedp.ExecAllocatorOption{
+		chromedp.ExecPath(bin),
+		chromedp.Headless,
+		chromedp.DisableGPU,
+		chromedp.NoFirstRun,
+		chromedp.NoDefaultBrowserCheck,
+		chromedp.UserDataDir(profile),
+		chromedp.Flag("disable-background-networking", true),
+		chromedp.Flag("disable-component-update", true),
+		chromedp.Flag("disable-sync", true),
+		chromedp.Flag("disable-quic", true),
+		chromedp.Flag("disable-extensions", true),
+		chromedp.Flag("disable-dev-shm-usage", true),
+	}
+	if os.Geteuid() == 0 {
+		opts = append(opts, chromedp.NoSandbox)
+	}
+	return opts
+}
+
 // Print prints the HTML file htmlPath with headless Chromium and returns
 // the PDF. The browser gets a fresh profile in a
 // temporary folder, no background networking, no component updates, no
@@ -75,29 +102,13 @@ func Print(ctx context.Context, htmlPath, title string, log zerolog.Logger) ([]b
 	defer os.RemoveAll(profile)
 
 	var browserOut browserLog
-	opts := []chromedp.ExecAllocatorOption{
-		chromedp.ExecPath(bin),
-		chromedp.Headless,
-		chromedp.DisableGPU,
-		chromedp.NoFirstRun,
-		chromedp.NoDefaultBrowserCheck,
-		chromedp.UserDataDir(profile),
-		chromedp.Flag("disable-background-networking", true),
-		chromedp.Flag("disable-component-update", true),
-		chromedp.Flag("disable-sync", true),
-		chromedp.Flag("disable-quic", true),
-		chromedp.Flag("disable-extensions", true),
+	opts := append(HeadlessOptions(bin, profile),
 		chromedp.Flag("disable-default-apps", true),
-		chromedp.Flag("disable-dev-shm-usage", true),
 		chromedp.Flag("disable-breakpad", true),
 		chromedp.Flag("metrics-recording-only", true),
 		chromedp.Flag("password-store", "basic"),
 		chromedp.CombinedOutput(&browserOut),
-	}
-	if os.Geteuid() == 0 {
-		// Chromium refuses to start its sandbox as root.
-		opts = append(opts, chromedp.NoSandbox)
-	}
+	)
 	tctx, cancel := context.WithTimeout(ctx, pdfTimeout)
 	defer cancel()
 	actx, cancelAlloc := chromedp.NewExecAllocator(tctx, opts...)
