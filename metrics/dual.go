@@ -131,6 +131,17 @@ func (m *satMemo) at(t float64) (p, d float64, ok bool) {
 	return m.p, m.d, m.ok
 }
 
+// from fills m with the saturation pressure and slope at t that the dew
+// point memo dp evaluated last, when that dew point is t: the coil
+// temperature a humidity target requires comes from a dew point, and the
+// apparatus dew point of that temperature is most often that dew point
+// again, to the bit. The values are SatVapPressureSlope's at t either way.
+func (m *satMemo) from(t float64, dp *dpMemo) {
+	if dp.set && dp.ok && t == dp.t && (!m.set || t != m.t) {
+		m.t, m.p, m.d, m.ok, m.set = t, dp.p, dp.d, true, true
+	}
+}
+
 // pws sets r to the saturation pressure of a dual temperature, through
 // the call site's memo; false out of range (r is then unchanged).
 func (r *dv) pws(t *dv, m *satMemo) bool {

@@ -228,6 +228,7 @@ func (e *engine) leavingW(r, tIn, t, wIn *dv, m *satMemo) {
 	}
 	var ws dv
 	ws.unbypass(t, tIn, &e.bfD) // the apparatus dew point
+	m.from(ws.v, &e.memoDP)
 	if !ws.pws(&ws, m) || ws.v >= e.p {
 		*r = *wIn
 		return
@@ -344,8 +345,8 @@ func (e *engine) dewPointD(r, w *dv) {
 // dpMemo remembers the last dew point one call site evaluated, with the
 // slope dp_ws/dt there (see satMemo).
 type dpMemo struct {
-	key, t, d float64
-	ok, set   bool
+	key, t, p, d float64
+	ok, set      bool
 }
 
 // at returns the dew point of vapour pressure pw and dp_ws/dt at it, false
@@ -354,11 +355,12 @@ type dpMemo struct {
 func (m *dpMemo) at(pw float64) (t, d float64, ok bool) {
 	if !m.set || pw != m.key {
 		t, err := psychro.DewPointFromVapPressure(pw)
-		var d float64
+		var p, d float64
 		if err == nil {
-			_, d, _ = psychro.SatVapPressureSlope(t)
+			// a dew point is within psychro's range: p_ws there is too
+			p, d, err = psychro.SatVapPressureSlope(t)
 		}
-		m.key, m.t, m.d, m.ok, m.set = pw, t, d, err == nil, true
+		m.key, m.t, m.p, m.d, m.ok, m.set = pw, t, p, d, err == nil, true
 	}
 	return m.t, m.d, m.ok
 }
