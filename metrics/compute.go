@@ -199,7 +199,7 @@ func Compute(u *AirHandler, hr *Hour) Record {
 			rec.LeavingDewPointC = td
 		}
 	}
-	rec.OutdoorTempC, rec.OutdoorDewPointC = outdoorMeans(c.tOut, c.oaRH, u.PressurePa)
+	rec.OutdoorTempC, rec.OutdoorDewPointC = outdoorMeans(c.tOut, c.oaRH, u.PressurePa, &e.memoOut)
 	if needSteps > 0 {
 		rec.RequiredLeavingC = sumReq / float64(needSteps)
 	}
