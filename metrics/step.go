@@ -76,6 +76,8 @@ type engine struct {
 	reqOK                  bool
 	gainD                  dv      // the assumed space gain with its gradient on sensGain
 	rOverP                 float64 // R_da / p, of the actual-volume airflow
+	copT, cop              float64 // the DX model's COP at outdoor temperature copT (copAt)
+	copSet                 bool
 	// p_ws memos, one per call site (see satMemo)
 	memoIn, memoLv, memoLvT, memoSpace, memoSpaceT, memoRet, memoOut, memoLvAt, memoADP, memoADPNeed satMemo
 	memoDP, memoDry                                                                                  dpMemo
@@ -491,9 +493,8 @@ func (e *engine) step(x *stepIn, o *stepOut) bool {
 	o.mDa = m.v
 
 	// Cooling coil.
-	hIn, hOut := &s.hIn, &s.hOut
+	hIn := &s.hIn
 	hIn.hD(tCoil, wIn)
-	hOut.hD(tLv, wOut)
 	coilDT := tCoil.v - x.tLv
 	if !(coilDT > u.Thresholds.CoilDeadbandK) && sensorW > wIn.v && m.v > 0 {
 		o.reevaporated = m.v * (sensorW - wIn.v)
@@ -505,6 +506,8 @@ func (e *engine) step(x *stepIn, o *stepOut) bool {
 		// water = m (W_in - W_out), total = m (h_in - h_out) - water h_w(t_lv)
 		t.sub(wIn, wOut)
 		o.water.mul(m, t)
+		hOut := &s.hOut
+		hOut.hD(tLv, wOut)
 		t.sub(hIn, hOut)
 		gross := &s.gross
 		gross.mul(m, t)
@@ -661,8 +664,9 @@ func (e *engine) step(x *stepIn, o *stepOut) bool {
 	case u.Cooling == CoolingDX:
 		// The avoidable input is what the load beyond the needed one drew:
 		// at part load each kWh of coil load costs more input (PLF).
-		o.coolIn = u.modelledCoolIn(total, x.tOut)
-		o.coolAvoidIn = o.coolIn - u.modelledCoolIn(total-o.coilAvoid, x.tOut)
+		cop := e.copAt(x.tOut)
+		o.coolIn = u.modelledCoolIn(total, cop)
+		o.coolAvoidIn = o.coolIn - u.modelledCoolIn(total-o.coilAvoid, cop)
 	case u.Cooling == CoolingChilledWater:
 		o.coolIn, o.coolAvoidIn = total*u.PlantKWPerKW, o.coilAvoid*u.PlantKWPerKW
 	}
@@ -678,6 +682,15 @@ func (e *engine) step(x *stepIn, o *stepOut) bool {
 		o.reheatIn = o.reheat.v / u.BoilerEff
 	}
 	return true
+}
+
+// copAt is u.copAt(tOutC), remembered for the last outdoor temperature
+// (an outdoor sensor changes seldom from one step to the next).
+func (e *engine) copAt(tOutC float64) float64 {
+	if !e.copSet || math.Float64bits(tOutC) != math.Float64bits(e.copT) {
+		e.copT, e.cop, e.copSet = tOutC, e.u.copAt(tOutC), true
+	}
+	return e.cop
 }
 
 // fanKW is the supply fan's power: the fan_kw point when it reads, else
