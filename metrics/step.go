@@ -88,8 +88,8 @@ type engine struct {
 // stepScratch holds the step's intermediate dual numbers, so that they
 // are neither copied nor zeroed at each step (each is set before it is read).
 type stepScratch struct {
-	tIn, tLv, tSup, tCoil, hum, wIn, wLv, wOut, m, hIn, hOut, gross, mcp, dtFan dv
-	tSupEff, wReq, tReq, wc, needed, t                                          dv
+	tIn, tLv, tSup, tCoil, hum, wIn, wLv, wOut, m, hIn, mcp, dtFan dv
+	tSupEff, wReq, tReq, wc, needed, t                             dv
 }
 
 // wFromHum sets w to W from a dual temperature and a dual humidity reading
@@ -377,6 +377,35 @@ func (m *dpMemo) fromW(w, p float64) (float64, bool) {
 	return m.t, m.ok
 }
 
+// coilLoads sets water = m (W_in - W_out) and total = m (h_in - h_out) -
+// water h_w(t_lv), h_out the enthalpy at t_lv and W_out, and returns the
+// gross load m (h_in - h_out): m.mul(wIn.sub(wOut)) and
+// m.mul(hIn.sub(hD(tLv, wOut))).sub(water.mul(condensateD(tLv))) in one
+// pass, each element's operations in the same order (the same bits).
+func coilLoads(water, total, m, wIn, wOut, hIn, tLv *dv) (gross float64) {
+	mv, tv, wv := m.v, tLv.v, wOut.v
+	s := tv*psychro.CpVapour + psychro.HgZero
+	cw, cdv := psychro.CpLiquidWater, tv*psychro.CpLiquidWater
+	if !(tv >= 0) { // as condensateD
+		cw, cdv = psychro.CpIce, tv*psychro.CpIce+-psychro.HeatOfFusion
+	}
+	dwv := wIn.v - wv
+	dhv := hIn.v - (tv*psychro.CpDryAir + wv*s)
+	waterv := mv * dwv
+	for i := range water.g {
+		tg := tLv.g[i]
+		hOutG := tg*psychro.CpDryAir + (wOut.g[i]*s + wv*(tg*psychro.CpVapour))
+		waterG := m.g[i]*dwv + mv*(wIn.g[i]-wOut.g[i])
+		grossG := m.g[i]*dhv + mv*(hIn.g[i]-hOutG)
+		water.g[i] = waterG
+		total.g[i] = grossG - (waterG*cdv + waterv*(tg*cw))
+	}
+	gross = mv * dhv
+	water.v = waterv
+	total.v = gross - waterv*cdv
+	return gross
+}
+
 // condensateD sets r to the enthalpy of water leaving the coil at t, kJ/kg.
 func (r *dv) condensateD(t *dv) {
 	if t.v >= 0 {
@@ -502,19 +531,7 @@ func (e *engine) step(x *stepIn, o *stepOut) bool {
 	if coilDT > u.Thresholds.CoilDeadbandK && m.v > 0 {
 		o.coolOn = true
 		o.moistureAdded = o.wetterOut
-		t := &s.t
-		// water = m (W_in - W_out), total = m (h_in - h_out) - water h_w(t_lv)
-		t.sub(wIn, wOut)
-		o.water.mul(m, t)
-		hOut := &s.hOut
-		hOut.hD(tLv, wOut)
-		t.sub(hIn, hOut)
-		gross := &s.gross
-		gross.mul(m, t)
-		t.condensateD(tLv)
-		t.mul(&o.water, t)
-		o.total.sub(gross, t)
-		o.gross = gross.v
+		o.gross = coilLoads(&o.water, &o.total, m, wIn, wOut, hIn, tLv)
 		o.sens = m.v * cp(wIn.v) * coilDT
 		o.lat = o.total.v - o.sens
 	}
