@@ -94,18 +94,10 @@ func (r *dv) addc(a *dv, k float64) {
 	r.g = a.g
 }
 
-// dmin sets r to the smaller of a and b, dmax to the larger: a whole
-// operand; at a tie the first wins.
+// dmin sets r to the smaller of a and b, a whole operand; at a tie the
+// first wins.
 func (r *dv) dmin(a, b *dv) {
 	if b.v < a.v {
-		*r = *b
-	} else {
-		*r = *a
-	}
-}
-
-func (r *dv) dmax(a, b *dv) {
-	if b.v > a.v {
 		*r = *b
 	} else {
 		*r = *a

@@ -378,15 +378,15 @@ func (m *dpMemo) fromW(w, p float64) (float64, bool) {
 }
 
 // coilLoads sets water = m (W_in - W_out) and total = m (h_in - h_out) -
-// water h_w(t_lv), h_out the enthalpy at t_lv and W_out, and returns the
-// gross load m (h_in - h_out): m.mul(wIn.sub(wOut)) and
-// m.mul(hIn.sub(hD(tLv, wOut))).sub(water.mul(condensateD(tLv))) in one
-// pass, each element's operations in the same order (the same bits).
+// water h_w(t_lv), h_out the enthalpy at t_lv and W_out and h_w the
+// condensate's (condensate), and returns the gross load m (h_in - h_out):
+// m.mul(wIn.sub(wOut)) and m.mul(hIn.sub(hD(tLv, wOut))).sub(water.mul(h_w))
+// in one pass, each element's operations in the same order (the same bits).
 func coilLoads(water, total, m, wIn, wOut, hIn, tLv *dv) (gross float64) {
 	mv, tv, wv := m.v, tLv.v, wOut.v
 	s := tv*psychro.CpVapour + psychro.HgZero
 	cw, cdv := psychro.CpLiquidWater, tv*psychro.CpLiquidWater
-	if !(tv >= 0) { // as condensateD
+	if !(tv >= 0) { // as condensate
 		cw, cdv = psychro.CpIce, tv*psychro.CpIce+-psychro.HeatOfFusion
 	}
 	dwv := wIn.v - wv
@@ -404,16 +404,6 @@ func coilLoads(water, total, m, wIn, wOut, hIn, tLv *dv) (gross float64) {
 	water.v = waterv
 	total.v = gross - waterv*cdv
 	return gross
-}
-
-// condensateD sets r to the enthalpy of water leaving the coil at t, kJ/kg.
-func (r *dv) condensateD(t *dv) {
-	if t.v >= 0 {
-		r.scale(t, psychro.CpLiquidWater)
-		return
-	}
-	r.scale(t, psychro.CpIce)
-	r.v += -psychro.HeatOfFusion
 }
 
 // step evaluates one step into o, which it overwrites. It returns false
