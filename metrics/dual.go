@@ -129,7 +129,7 @@ func (m *satMemo) at(t float64) (p, d float64, ok bool) {
 // apparatus dew point of that temperature is most often that dew point
 // again, to the bit. The values are SatVapPressureSlope's at t either way.
 func (m *satMemo) from(t float64, dp *dpMemo) {
-	if dp.set && dp.ok && t == dp.t && (!m.set || t != m.t) {
+	if dp.slope && t == dp.t && (!m.set || t != m.t) {
 		m.t, m.p, m.d, m.ok, m.set = t, dp.p, dp.d, true, true
 	}
 }

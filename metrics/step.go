@@ -344,11 +344,11 @@ func (e *engine) dewPointD(r, w *dv) {
 	r.v = t
 }
 
-// dpMemo remembers the last dew point one call site evaluated, with the
-// slope dp_ws/dt there (see satMemo).
+// dpMemo remembers the last dew point one call site evaluated, with p_ws
+// and its slope dp_ws/dt there when at evaluated them (slope; see satMemo).
 type dpMemo struct {
-	key, t, p, d float64
-	ok, set      bool
+	key, t, p, d   float64
+	ok, set, slope bool
 }
 
 // at returns the dew point of vapour pressure pw and dp_ws/dt at it, false
@@ -358,11 +358,13 @@ func (m *dpMemo) at(pw float64) (t, d float64, ok bool) {
 	if !m.set || pw != m.key {
 		t, err := psychro.DewPointFromVapPressure(pw)
 		var p, d float64
+		slope := false
 		if err == nil {
-			// a dew point is within psychro's range: p_ws there is too
-			p, d, err = psychro.SatVapPressureSlope(t)
+			var errS error
+			p, d, errS = psychro.SatVapPressureSlope(t)
+			slope = errS == nil
 		}
-		m.key, m.t, m.p, m.d, m.ok, m.set = pw, t, p, d, err == nil, true
+		m.key, m.t, m.p, m.d, m.ok, m.set, m.slope = pw, t, p, d, err == nil, true, slope
 	}
 	return m.t, m.d, m.ok
 }
@@ -372,7 +374,7 @@ func (m *dpMemo) at(pw float64) (t, d float64, ok bool) {
 func (m *dpMemo) fromW(w, p float64) (float64, bool) {
 	if !m.set || w != m.key {
 		t, err := psychro.DewPointFromHumRatio(w, p)
-		m.key, m.t, m.ok, m.set = w, t, err == nil, true
+		m.key, m.t, m.ok, m.set, m.slope = w, t, err == nil, true, false
 	}
 	return m.t, m.ok
 }
