@@ -431,6 +431,7 @@ func (e *engine) init(u *AirHandler, hr *Hour) {
 	e.bfD = seed(e.bf, sensBF)
 	e.gainD = seed(u.SpaceGain, sensGain)
 	e.rOverP = psychro.RDryAir / e.p
+	e.scratch = newScratch()
 	// The assumed leaving RH's uncertainty as the bypass factor's: half
 	// the change of BF across the band (BF is far from linear near
 	// saturation, where it reaches 0).

@@ -86,10 +86,20 @@ type engine struct {
 }
 
 // stepScratch holds the step's intermediate dual numbers, so that they
-// are neither copied nor zeroed at each step (each is set before it is read).
+// are neither copied nor zeroed at each step (each is set before it is
+// read). The sensor readings (tIn ... humLv) are seeded once an hour by
+// newScratch and only their value changes from step to step: nothing
+// writes to them.
 type stepScratch struct {
-	tIn, tLv, tSup, tCoil, hum, wIn, wLv, wOut, m, hIn, mcp, dtFan dv
-	tSupEff, wReq, tReq, wc, needed, t                             dv
+	tIn, tLv, tSup, humIn, humLv              dv
+	tCoil, wIn, wLv, wOut, m, hIn, mcp, dtFan dv
+	tSupEff, wReq, tReq, wc, needed, t        dv
+}
+
+// newScratch seeds the sensor readings' gradients.
+func newScratch() stepScratch {
+	return stepScratch{tIn: seed(0, sensTIn), tLv: seed(0, sensTLv), tSup: seed(0, sensTSup),
+		humIn: seed(0, sensHumIn), humLv: seed(0, sensLvHum)}
 }
 
 // wFromHum sets w to W from a dual temperature and a dual humidity reading
@@ -420,14 +430,14 @@ func (e *engine) step(x *stepIn, o *stepOut) bool {
 	}
 	s := &e.scratch
 	tIn, tLv, tSup := &s.tIn, &s.tLv, &s.tSup
-	*tIn, *tLv, *tSup = seed(x.tIn, sensTIn), seed(x.tLv, sensTLv), seed(x.tSup, sensTSup)
+	tIn.v, tLv.v, tSup.v = x.tIn, x.tLv, x.tSup // seeded by newScratch
 	wIn := &s.wIn
 	var supersat, ok bool
 	if e.mix {
 		ok = e.mixedW(wIn, x, tIn)
 	} else {
-		s.hum = seed(x.humIn, sensHumIn)
-		supersat, ok = e.wFromHum(wIn, e.humIn, tIn, &s.hum, &e.memoIn)
+		s.humIn.v = x.humIn
+		supersat, ok = e.wFromHum(wIn, e.humIn, tIn, &s.humIn, &e.memoIn)
 	}
 	if !ok {
 		return false
@@ -472,8 +482,8 @@ func (e *engine) step(x *stepIn, o *stepOut) bool {
 	}
 	if e.lvHum != humNone && !math.IsNaN(x.lvHum) {
 		w := &s.wLv
-		s.hum = seed(x.lvHum, sensLvHum)
-		if _, ok := e.wFromHum(w, e.lvHum, tLv, &s.hum, &e.memoLv); ok {
+		s.humLv.v = x.lvHum
+		if _, ok := e.wFromHum(w, e.lvHum, tLv, &s.humLv, &e.memoLv); ok {
 			// A leaving sensor that reads wetter than the entering air beyond
 			// its accuracy while the coil cools is a sensor finding, not a
 			// negative latent load; with the coil off it is water the wet
