@@ -56,7 +56,7 @@ func Compute(u *AirHandler, hr *Hour) Record {
 		meterAll                                                                        float64
 		copCoil, copIn                                                                  float64
 	)
-	in := &stepIn{}
+	in, o := &stepIn{}, &e.out
 	lastOff := -1 << 30 // step index of the last step with the coil off
 	var sens [nSens][4]float64
 	c := e.columns(hr)
@@ -65,8 +65,7 @@ func Compute(u *AirHandler, hr *Hour) Record {
 	}
 	for i := 0; i < n; i++ {
 		c.fill(in, i)
-		o, ok := e.step(in)
-		if !ok {
+		if !e.step(in, o) {
 			lastOff = i
 			continue
 		}
@@ -200,7 +199,7 @@ func Compute(u *AirHandler, hr *Hour) Record {
 			rec.LeavingDewPointC = td
 		}
 	}
-	rec.OutdoorTempC, rec.OutdoorDewPointC = outdoorMeans(c.tOut, c.oaRH, u.PressurePa)
+	rec.OutdoorTempC, rec.OutdoorDewPointC = outdoorMeans(c.tOut, c.oaRH, u.PressurePa, &e.memoOut)
 	if needSteps > 0 {
 		rec.RequiredLeavingC = sumReq / float64(needSteps)
 	}
@@ -429,8 +428,10 @@ func (e *engine) init(u *AirHandler, hr *Hour) {
 	e.dryMarginK = 2 * math.Hypot(a.TempK, tdU)
 	e.hourShare = math.NaN()
 	e.bf = bypassFor(u.LeavingRH, e.p)
-	e.bfD = dv{v: e.bf}
-	e.bfD.g[sensBF] = 1
+	e.bfD = seed(e.bf, sensBF)
+	e.gainD = seed(u.SpaceGain, sensGain)
+	e.rOverP = psychro.RDryAir / e.p
+	e.scratch = newScratch()
 	// The assumed leaving RH's uncertainty as the bypass factor's: half
 	// the change of BF across the band (BF is far from linear near
 	// saturation, where it reaches 0).

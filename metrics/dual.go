@@ -22,6 +22,13 @@ const (
 // an uncertainty in dv arithmetic, so one pass yields the figure and its
 // first-order sensitivity to each sensor's bias, with no extra evaluation
 // of the psychrometric functions.
+//
+// The operations are methods on the result, r.op(a, b) setting r = a op b,
+// with operands by pointer: a dv is 72 bytes, and passing and returning it
+// by value copied it at every operation of the step, which cost more than
+// the arithmetic. r may be one of the operands. Each element's operations
+// stay those of the plain form named in each comment, in the same order,
+// so the results are the same bits.
 type dv struct {
 	v float64
 	g [nSens]float64
@@ -35,65 +42,66 @@ func seed(v float64, i int) dv {
 	return d
 }
 
-func (a dv) add(b dv) dv {
-	a.v += b.v
-	for i := range a.g {
-		a.g[i] += b.g[i]
-	}
-	return a
-}
+// set makes r the constant v.
+func (r *dv) set(v float64) { *r = dv{v: v} }
 
-func (a dv) sub(b dv) dv {
-	a.v -= b.v
-	for i := range a.g {
-		a.g[i] -= b.g[i]
-	}
-	return a
-}
-
-func (a dv) mul(b dv) dv {
-	r := dv{v: a.v * b.v}
+// add sets r = a + b.
+func (r *dv) add(a, b *dv) {
+	r.v = a.v + b.v
 	for i := range r.g {
-		r.g[i] = a.g[i]*b.v + a.v*b.g[i]
+		r.g[i] = a.g[i] + b.g[i]
 	}
-	return r
 }
 
-func (a dv) div(b dv) dv {
-	r := dv{v: a.v / b.v}
-	inv := 1 / (b.v * b.v)
+// sub sets r = a - b.
+func (r *dv) sub(a, b *dv) {
+	r.v = a.v - b.v
 	for i := range r.g {
-		r.g[i] = (a.g[i]*b.v - a.v*b.g[i]) * inv
+		r.g[i] = a.g[i] - b.g[i]
 	}
-	return r
 }
 
-func (a dv) scale(k float64) dv {
-	a.v *= k
-	for i := range a.g {
-		a.g[i] *= k
+// mul sets r = a b.
+func (r *dv) mul(a, b *dv) {
+	av, bv := a.v, b.v
+	for i := range r.g {
+		r.g[i] = a.g[i]*bv + av*b.g[i]
 	}
-	return a
+	r.v = av * bv
 }
 
-func (a dv) addc(k float64) dv {
-	a.v += k
-	return a
+// div sets r = a / b.
+func (r *dv) div(a, b *dv) {
+	av, bv := a.v, b.v
+	inv := 1 / (bv * bv)
+	for i := range r.g {
+		r.g[i] = (a.g[i]*bv - av*b.g[i]) * inv
+	}
+	r.v = av / bv
 }
 
-// dmin and dmax pick a whole operand; at a tie the first wins.
-func dmin(a, b dv) dv {
+// scale sets r = k a.
+func (r *dv) scale(a *dv, k float64) {
+	r.v = a.v * k
+	for i := range r.g {
+		r.g[i] = a.g[i] * k
+	}
+}
+
+// addc sets r = a + k.
+func (r *dv) addc(a *dv, k float64) {
+	r.v = a.v + k
+	r.g = a.g
+}
+
+// dmin sets r to the smaller of a and b, a whole operand; at a tie the
+// first wins.
+func (r *dv) dmin(a, b *dv) {
 	if b.v < a.v {
-		return b
+		*r = *b
+	} else {
+		*r = *a
 	}
-	return a
-}
-
-func dmax(a, b dv) dv {
-	if b.v > a.v {
-		return b
-	}
-	return a
 }
 
 // satMemo remembers the saturation pressure and slope one call site of the
@@ -115,92 +123,105 @@ func (m *satMemo) at(t float64) (p, d float64, ok bool) {
 	return m.p, m.d, m.ok
 }
 
-// pwsD is the saturation pressure of a dual temperature, through the call
-// site's memo.
-func pwsD(t dv, m *satMemo) (dv, bool) {
+// from fills m with the saturation pressure and slope at t that the dew
+// point memo dp evaluated last, when that dew point is t: the coil
+// temperature a humidity target requires comes from a dew point, and the
+// apparatus dew point of that temperature is most often that dew point
+// again, to the bit. The values are SatVapPressureSlope's at t either way.
+func (m *satMemo) from(t float64, dp *dpMemo) {
+	if dp.slope && t == dp.t && (!m.set || t != m.t) {
+		m.t, m.p, m.d, m.ok, m.set = t, dp.p, dp.d, true, true
+	}
+}
+
+// pws sets r to the saturation pressure of a dual temperature, through
+// the call site's memo; false out of range (r is then unchanged).
+func (r *dv) pws(t *dv, m *satMemo) bool {
 	p, d, ok := m.at(t.v)
 	if !ok {
-		return dv{}, false
+		return false
 	}
-	r := dv{v: p}
 	for i := range r.g {
 		r.g[i] = d * t.g[i]
 	}
-	return r, true
+	r.v = p
+	return true
 }
 
-// wFromPw is W = 0.621945 p_w / (p - p_w) (ASHRAE ch. 1 eq. 20).
-func wFromPw(pw dv, p float64) dv {
-	// pw.scale(MolarMassRatio).div(cst(p).sub(pw)) in one pass, each
-	// element's operations in the same order (the same bits).
+// wFromPw sets r = W = 0.621945 p_w / (p - p_w) (ASHRAE ch. 1 eq. 20):
+// pw.scale(MolarMassRatio).div(cst(p).sub(pw)) in one pass.
+func (r *dv) wFromPw(pw *dv, p float64) {
 	a, b := pw.v*psychro.MolarMassRatio, p-pw.v
-	r := dv{v: a / b}
 	inv := 1 / (b * b)
 	for i := range r.g {
-		r.g[i] = (pw.g[i]*psychro.MolarMassRatio*b - a*(0-pw.g[i])) * inv
+		g := pw.g[i]
+		r.g[i] = (g*psychro.MolarMassRatio*b - a*(0-g)) * inv
 	}
-	return r
+	r.v = a / b
 }
 
-// pwFromW inverts wFromPw.
-func pwFromW(w dv, p float64) dv {
-	// w.scale(p).div(w.addc(MolarMassRatio)) in one pass, as wFromPw.
+// pwFromW sets r to the vapour pressure of humidity ratio w, inverting
+// wFromPw: w.scale(p).div(w.addc(MolarMassRatio)) in one pass.
+func (r *dv) pwFromW(w *dv, p float64) {
 	a, b := w.v*p, w.v+psychro.MolarMassRatio
-	r := dv{v: a / b}
 	inv := 1 / (b * b)
 	for i := range r.g {
-		r.g[i] = (w.g[i]*p*b - a*w.g[i]) * inv
+		g := w.g[i]
+		r.g[i] = (g*p*b - a*g) * inv
 	}
-	return r
+	r.v = a / b
 }
 
-// hD is moist-air enthalpy, eq. 32, in kJ/kg.
-func hD(t, w dv) dv {
-	// t.scale(CpDryAir).add(w.mul(t.scale(CpVapour).addc(HgZero))) in one
-	// pass, each element's operations in the same order (the same bits).
-	s := t.v*psychro.CpVapour + psychro.HgZero
-	r := dv{v: t.v*psychro.CpDryAir + w.v*s}
+// hD sets r to moist-air enthalpy, eq. 32, in kJ/kg:
+// t.scale(CpDryAir).add(w.mul(t.scale(CpVapour).addc(HgZero))) in one pass.
+func (r *dv) hD(t, w *dv) {
+	tv, wv := t.v, w.v
+	s := tv*psychro.CpVapour + psychro.HgZero
 	for i := range r.g {
-		r.g[i] = t.g[i]*psychro.CpDryAir + (w.g[i]*s + w.v*(t.g[i]*psychro.CpVapour))
+		r.g[i] = t.g[i]*psychro.CpDryAir + (w.g[i]*s + wv*(t.g[i]*psychro.CpVapour))
 	}
-	return r
+	r.v = tv*psychro.CpDryAir + wv*s
 }
 
-// cpD is the moist specific heat 1.006 + 1.86 W.
-func cpD(w dv) dv { return w.scale(psychro.CpVapour).addc(psychro.CpDryAir) }
+// cpD sets r to the moist specific heat 1.006 + 1.86 W:
+// w.scale(CpVapour).addc(CpDryAir).
+func (r *dv) cpD(w *dv) {
+	r.scale(w, psychro.CpVapour)
+	r.v += psychro.CpDryAir
+}
 
 // The bypass-factor model's three forms, each in one pass with each
 // element's operations in the order of the dual-number expression named
 // (the same bits), with no temporaries.
 
-// unbypass is a.sub(b.mul(bf)).div(cst(1).sub(bf)): (a - BF b) / (1 - BF).
-func unbypass(a, b, bf dv) dv {
-	n := a.v - b.v*bf.v
-	den := 1 - bf.v
-	r := dv{v: n / den}
+// unbypass sets r = a.sub(b.mul(bf)).div(cst(1).sub(bf)): (a - BF b) / (1 - BF).
+func (r *dv) unbypass(a, b, bf *dv) {
+	av, bv, fv := a.v, b.v, bf.v
+	n := av - bv*fv
+	den := 1 - fv
 	inv := 1 / (den * den)
 	for i := range r.g {
-		r.g[i] = ((a.g[i]-(b.g[i]*bf.v+b.v*bf.g[i]))*den - n*(0-bf.g[i])) * inv
+		r.g[i] = ((a.g[i]-(b.g[i]*fv+bv*bf.g[i]))*den - n*(0-bf.g[i])) * inv
 	}
-	return r
+	r.v = n / den
 }
 
-// bypass is a.mul(cst(1).sub(bf)).add(b.mul(bf)): (1 - BF) a + BF b.
-func bypass(a, b, bf dv) dv {
-	om := 1 - bf.v
-	r := dv{v: a.v*om + b.v*bf.v}
+// bypass sets r = a.mul(cst(1).sub(bf)).add(b.mul(bf)): (1 - BF) a + BF b.
+func (r *dv) bypass(a, b, bf *dv) {
+	av, bv, fv := a.v, b.v, bf.v
+	om := 1 - fv
 	for i := range r.g {
-		r.g[i] = (a.g[i]*om + a.v*(0-bf.g[i])) + (b.g[i]*bf.v + b.v*bf.g[i])
+		r.g[i] = (a.g[i]*om + av*(0-bf.g[i])) + (b.g[i]*fv + bv*bf.g[i])
 	}
-	return r
+	r.v = av*om + bv*fv
 }
 
-// rebypass is a.sub(b).mul(bf).add(b): BF (a - b) + b.
-func rebypass(a, b, bf dv) dv {
-	d := a.v - b.v
-	r := dv{v: d*bf.v + b.v}
+// rebypass sets r = a.sub(b).mul(bf).add(b): BF (a - b) + b.
+func (r *dv) rebypass(a, b, bf *dv) {
+	bv, fv := b.v, bf.v
+	d := a.v - bv
 	for i := range r.g {
-		r.g[i] = ((a.g[i]-b.g[i])*bf.v + d*bf.g[i]) + b.g[i]
+		r.g[i] = ((a.g[i]-b.g[i])*fv + d*bf.g[i]) + b.g[i]
 	}
-	return r
+	r.v = d*fv + bv
 }

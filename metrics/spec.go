@@ -178,9 +178,9 @@ func (u *AirHandler) partLoadFactor(loadKW float64) float64 {
 }
 
 // modelledCoolIn is the DX model's electric input for a coil load, kW:
-// load / (COP(t_out) × PLF).
-func (u *AirHandler) modelledCoolIn(loadKW, tOutC float64) float64 {
-	return loadKW / (u.copAt(tOutC) * u.partLoadFactor(loadKW))
+// load / (COP(t_out) × PLF), cop being copAt(t_out).
+func (u *AirHandler) modelledCoolIn(loadKW, cop float64) float64 {
+	return loadKW / (cop * u.partLoadFactor(loadKW))
 }
 
 // copAt returns the DX model's COP at outdoor temperature tOutC (NaN: the

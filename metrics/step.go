@@ -74,45 +74,71 @@ type engine struct {
 	hourShare              float64 // outdoor-air share of the hour's steps where the temperatures tell it; NaN when none
 	reqT, reqSlope         float64 // cached T_required and dT/dW at reqW
 	reqOK                  bool
+	gainD                  dv      // the assumed space gain with its gradient on sensGain
+	rOverP                 float64 // R_da / p, of the actual-volume airflow
+	copT, cop              float64 // the DX model's COP at outdoor temperature copT (copAt)
+	copSet                 bool
 	// p_ws memos, one per call site (see satMemo)
-	memoIn, memoLv, memoLvT, memoSpace, memoRet, memoOut, memoLvAt, memoADP, memoADPNeed satMemo
-	memoDP, memoDry                                                                      dpMemo
+	memoIn, memoLv, memoLvT, memoSpace, memoSpaceT, memoRet, memoOut, memoLvAt, memoADP, memoADPNeed satMemo
+	memoDP, memoDry                                                                                  dpMemo
+	scratch                                                                                          stepScratch
+	out                                                                                              stepOut
 }
 
-// wFromHum returns W from a dual temperature and a dual humidity reading of
-// the given form; supersat reports a dew point above the dry bulb (taken
-// as saturation).
-func (e *engine) wFromHum(form int, t, hum dv, m *satMemo) (w dv, supersat, ok bool) {
+// stepScratch holds the step's intermediate dual numbers, so that they
+// are neither copied nor zeroed at each step (each is set before it is
+// read). The sensor readings (tIn ... humLv) are seeded once an hour by
+// newScratch and only their value changes from step to step: nothing
+// writes to them.
+type stepScratch struct {
+	tIn, tLv, tSup, humIn, humLv              dv
+	tCoil, wIn, wLv, wOut, m, hIn, mcp, dtFan dv
+	tSupEff, wReq, tReq, wc, needed, t        dv
+}
+
+// newScratch seeds the sensor readings' gradients.
+func newScratch() stepScratch {
+	return stepScratch{tIn: seed(0, sensTIn), tLv: seed(0, sensTLv), tSup: seed(0, sensTSup),
+		humIn: seed(0, sensHumIn), humLv: seed(0, sensLvHum)}
+}
+
+// wFromHum sets w to W from a dual temperature and a dual humidity reading
+// of the given form; supersat reports a dew point above the dry bulb
+// (taken as saturation). w may be changed when ok is false.
+func (e *engine) wFromHum(w *dv, form int, t, hum *dv, m *satMemo) (supersat, ok bool) {
 	switch form {
 	case humRH:
 		if hum.v < 0 {
-			return dv{}, false, false
+			return false, false
 		}
 		if hum.v > 1 {
-			hum = cst(1)
+			hum = &dvOne
 		}
-		pws, ok := pwsD(t, m)
-		if !ok {
-			return dv{}, false, false
+		if !w.pws(t, m) {
+			return false, false
 		}
-		pw := pws.mul(hum)
-		if pw.v >= e.p {
-			return dv{}, false, false
+		w.mul(w, hum)
+		if w.v >= e.p {
+			return false, false
 		}
-		return wFromPw(pw, e.p), false, true
+		w.wFromPw(w, e.p)
+		return false, true
 	case humDewPoint:
 		if hum.v > t.v+0.01 {
 			supersat = true
 			hum = t
 		}
-		pw, ok := pwsD(hum, m)
-		if !ok || pw.v >= e.p {
-			return dv{}, supersat, false
+		if !w.pws(hum, m) || w.v >= e.p {
+			return supersat, false
 		}
-		return wFromPw(pw, e.p), supersat, true
+		w.wFromPw(w, e.p)
+		return supersat, true
 	}
-	return dv{}, false, false
+	return false, false
 }
+
+// dvOne is the constant 1 (read only).
+var dvOne = cst(1)
 
 // wFromRH is wFromHum(humRH, cst(t), cst(rh), m).v without the gradient
 // arithmetic on zeros: the same operations on the values, so the same bits.
@@ -148,17 +174,18 @@ const mixMinDeltaK = 3
 // mean share of the hour's steps where the temperatures told it (a damper
 // moves slowly); else the configured minimum share. The return humidity carries the entering
 // humidity sensor's uncertainty, the mixed-air temperature the share's.
-func (e *engine) mixedW(x *stepIn, tIn dv) (dv, bool) {
+func (e *engine) mixedW(w *dv, x *stepIn, tIn *dv) bool {
 	if math.IsNaN(x.tRet) || math.IsNaN(x.retHum) || math.IsNaN(x.tOut) || math.IsNaN(x.oaRH) {
-		return dv{}, false
+		return false
 	}
-	wRa, _, ok := e.wFromHum(e.retHum, cst(x.tRet), seed(x.retHum, sensHumIn), &e.memoRet)
-	if !ok {
-		return dv{}, false
+	var wRa, wOa dv
+	tRet, retHum := cst(x.tRet), seed(x.retHum, sensHumIn)
+	if _, ok := e.wFromHum(&wRa, e.retHum, &tRet, &retHum, &e.memoRet); !ok {
+		return false
 	}
-	wOa, _, ok := e.wFromHum(humRH, cst(x.tOut), cst(x.oaRH), &e.memoOut)
-	if !ok {
-		return dv{}, false
+	tOut, oaRH := cst(x.tOut), cst(x.oaRH)
+	if _, ok := e.wFromHum(&wOa, humRH, &tOut, &oaRH, &e.memoOut); !ok {
+		return false
 	}
 	// The share's own 95 % half-width rides on the sensShare gradient
 	// (its accuracy is 1): from the return and outdoor sensors' bias
@@ -169,7 +196,8 @@ func (e *engine) mixedW(x *stepIn, tIn dv) (dv, bool) {
 	a := e.u.Accuracy
 	switch d := x.tOut - x.tRet; {
 	case math.Abs(d) >= mixMinDeltaK:
-		share = tIn.addc(-x.tRet).scale(1 / d)
+		share.addc(tIn, -x.tRet)
+		share.scale(&share, 1/d)
 		if share.v < 0 {
 			share = cst(0)
 		} else if share.v > 1 {
@@ -186,9 +214,11 @@ func (e *engine) mixedW(x *stepIn, tIn dv) (dv, bool) {
 		share = cst(e.u.MinOutdoor)
 		share.g[sensShare] = ShareMinU
 	default:
-		return dv{}, false
+		return false
 	}
-	return wOa.sub(wRa).mul(share).add(wRa), true
+	// wOa.sub(wRa).mul(share).add(wRa)
+	w.rebypass(&wOa, &wRa, &share)
+	return true
 }
 
 // leavingW is the coil leaving humidity ratio when no sensor measures it,
@@ -201,32 +231,40 @@ func (e *engine) mixedW(x *stepIn, tIn dv) (dv, bool) {
 // entering dew point: a dry coil). The rule is continuous: condensation
 // starts where the apparatus dew point reaches the entering dew point,
 // with no step. BF comes from the assumed leaving RH (see bypassFactor).
-func (e *engine) leavingW(tIn, t, wIn dv, m *satMemo) dv {
+//
+// r is set to the result; it must not be one of the operands.
+func (e *engine) leavingW(r, tIn, t, wIn *dv, m *satMemo) {
 	if t.v >= tIn.v {
-		return wIn
+		*r = *wIn
+		return
 	}
-	bf := e.bfD
-	adp := unbypass(t, tIn, bf)
-	pws, ok := pwsD(adp, m)
-	if !ok || pws.v >= e.p {
-		return wIn
+	var ws dv
+	ws.unbypass(t, tIn, &e.bfD) // the apparatus dew point
+	m.from(ws.v, &e.memoDP)
+	if !ws.pws(&ws, m) || ws.v >= e.p {
+		*r = *wIn
+		return
 	}
-	ws := wFromPw(pws, e.p)
+	ws.wFromPw(&ws, e.p)
 	if ws.v >= wIn.v {
-		return wIn
+		*r = *wIn
+		return
 	}
-	return rebypass(wIn, ws, bf)
+	r.rebypass(wIn, &ws, &e.bfD)
 }
 
 // leavingWAt is the leaving humidity ratio of air at t and relative
 // humidity rh, never wetter than the entering air: the rule with a
 // measured leaving RH.
-func (e *engine) leavingWAt(t, wIn dv, rh float64) dv {
-	pws, ok := pwsD(t, &e.memoLvAt)
-	if !ok {
-		return wIn
+// r must not be one of the operands.
+func (e *engine) leavingWAt(r, t, wIn *dv, rh float64) {
+	if !r.pws(t, &e.memoLvAt) {
+		*r = *wIn
+		return
 	}
-	return dmin(wIn, wFromPw(pws.scale(rh), e.p))
+	r.scale(r, rh)
+	r.wFromPw(r, e.p)
+	r.dmin(wIn, r)
 }
 
 // Rating point from which the bypass factor follows: the entering air of
@@ -269,56 +307,58 @@ func bypassFactor(rh, p float64) float64 {
 // sensor), air at rh: p_ws(T) = p_w(w) / RH. Otherwise the bypass-factor
 // model in closed form: W_s(ADP) = (w - BF W_in) / (1 - BF), T = ADP + BF
 // (t_in - ADP).
-func (e *engine) tRequired(w, tIn, wIn dv, rh float64, measured bool) dv {
+//
+// r is set to the result; it must not be one of the operands.
+func (e *engine) tRequired(r, w, tIn, wIn *dv, rh float64, measured bool) {
 	if !measured {
-		bf := e.bfD
-		ws := unbypass(w, wIn, bf)
-		if ws.v <= 0 {
-			return cst(math.Inf(-1))
+		r.unbypass(w, wIn, &e.bfD) // W_s(ADP)
+		if r.v <= 0 {
+			r.set(math.Inf(-1))
+			return
 		}
-		adp := e.dewPointD(ws)
-		return bypass(adp, tIn, bf)
+		e.dewPointD(r, r)
+		r.bypass(r, tIn, &e.bfD)
+		return
 	}
 	// A fixed target gives the same temperature every step: cache it with
 	// its slope, and carry w's gradient (the assumed space gain) through.
 	if !(e.reqOK && w.v == e.reqW && rh == e.reqRH) {
 		wv := dv{v: w.v}
 		wv.g[0] = 1
-		r := e.dewPointD(pwToW(pwFromW(wv, e.p).scale(1/rh), e.p))
-		e.reqW, e.reqRH, e.reqT, e.reqSlope, e.reqOK = w.v, rh, r.v, r.g[0], true
+		wv.pwFromW(&wv, e.p)
+		wv.scale(&wv, 1/rh)
+		wv.wFromPw(&wv, e.p)
+		e.dewPointD(&wv, &wv)
+		e.reqW, e.reqRH, e.reqT, e.reqSlope, e.reqOK = w.v, rh, wv.v, wv.g[0], true
 	}
-	r := dv{v: e.reqT}
+	r.set(e.reqT)
 	if !math.IsInf(r.v, 0) {
 		for i := range r.g {
 			r.g[i] = w.g[i] * e.reqSlope
 		}
 	}
-	return r
 }
 
-// pwToW is W from a vapour pressure (the same as wFromPw; named for the
-// direction it is read in).
-func pwToW(pw dv, p float64) dv { return wFromPw(pw, p) }
-
-// dewPointD is the dew point of a dual humidity ratio.
-func (e *engine) dewPointD(w dv) dv {
-	pw := pwFromW(w, e.p)
-	t, d, ok := e.memoDP.at(pw.v)
+// dewPointD sets r to the dew point of a dual humidity ratio w; -Inf
+// (constant) out of range.
+func (e *engine) dewPointD(r, w *dv) {
+	r.pwFromW(w, e.p)
+	t, d, ok := e.memoDP.at(r.v)
 	if !ok {
-		return cst(math.Inf(-1))
+		r.set(math.Inf(-1))
+		return
 	}
-	r := dv{v: t}
 	for i := range r.g {
-		r.g[i] = pw.g[i] / d
+		r.g[i] /= d
 	}
-	return r
+	r.v = t
 }
 
-// dpMemo remembers the last dew point one call site evaluated, with the
-// slope dp_ws/dt there (see satMemo).
+// dpMemo remembers the last dew point one call site evaluated, with p_ws
+// and its slope dp_ws/dt there when at evaluated them (slope; see satMemo).
 type dpMemo struct {
-	key, t, d float64
-	ok, set   bool
+	key, t, p, d   float64
+	ok, set, slope bool
 }
 
 // at returns the dew point of vapour pressure pw and dp_ws/dt at it, false
@@ -327,11 +367,14 @@ type dpMemo struct {
 func (m *dpMemo) at(pw float64) (t, d float64, ok bool) {
 	if !m.set || pw != m.key {
 		t, err := psychro.DewPointFromVapPressure(pw)
-		var d float64
+		var p, d float64
+		slope := false
 		if err == nil {
-			_, d, _ = psychro.SatVapPressureSlope(t)
+			var errS error
+			p, d, errS = psychro.SatVapPressureSlope(t)
+			slope = errS == nil
 		}
-		m.key, m.t, m.d, m.ok, m.set = pw, t, d, err == nil, true
+		m.key, m.t, m.p, m.d, m.ok, m.set, m.slope = pw, t, p, d, err == nil, true, slope
 	}
 	return m.t, m.d, m.ok
 }
@@ -341,36 +384,63 @@ func (m *dpMemo) at(pw float64) (t, d float64, ok bool) {
 func (m *dpMemo) fromW(w, p float64) (float64, bool) {
 	if !m.set || w != m.key {
 		t, err := psychro.DewPointFromHumRatio(w, p)
-		m.key, m.t, m.ok, m.set = w, t, err == nil, true
+		m.key, m.t, m.ok, m.set, m.slope = w, t, err == nil, true, false
 	}
 	return m.t, m.ok
 }
 
-// condensateD is the enthalpy of water leaving the coil at t, kJ/kg.
-func condensateD(t dv) dv {
-	if t.v >= 0 {
-		return t.scale(psychro.CpLiquidWater)
+// coilLoads sets water = m (W_in - W_out) and total = m (h_in - h_out) -
+// water h_w(t_lv), h_out the enthalpy at t_lv and W_out and h_w the
+// condensate's (condensate), and returns the gross load m (h_in - h_out):
+// m.mul(wIn.sub(wOut)) and m.mul(hIn.sub(hD(tLv, wOut))).sub(water.mul(h_w))
+// in one pass, each element's operations in the same order (the same bits).
+func coilLoads(water, total, m, wIn, wOut, hIn, tLv *dv) (gross float64) {
+	mv, tv, wv := m.v, tLv.v, wOut.v
+	s := tv*psychro.CpVapour + psychro.HgZero
+	cw, cdv := psychro.CpLiquidWater, tv*psychro.CpLiquidWater
+	if !(tv >= 0) { // as condensate
+		cw, cdv = psychro.CpIce, tv*psychro.CpIce+-psychro.HeatOfFusion
 	}
-	return t.scale(psychro.CpIce).addc(-psychro.HeatOfFusion)
+	dwv := wIn.v - wv
+	dhv := hIn.v - (tv*psychro.CpDryAir + wv*s)
+	waterv := mv * dwv
+	for i := range water.g {
+		tg := tLv.g[i]
+		hOutG := tg*psychro.CpDryAir + (wOut.g[i]*s + wv*(tg*psychro.CpVapour))
+		waterG := m.g[i]*dwv + mv*(wIn.g[i]-wOut.g[i])
+		grossG := m.g[i]*dhv + mv*(hIn.g[i]-hOutG)
+		water.g[i] = waterG
+		total.g[i] = grossG - (waterG*cdv + waterv*(tg*cw))
+	}
+	gross = mv * dhv
+	water.v = waterv
+	total.v = gross - waterv*cdv
+	return gross
 }
 
-// step evaluates one step. ok is false when a required reading is missing
-// or the readings describe no possible air state.
-func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
+// step evaluates one step into o, which it overwrites. It returns false
+// when a required reading is missing or the readings describe no possible
+// air state. The step's dual numbers live in o and in e's scratch (see dv):
+// nothing is copied or allocated per step.
+func (e *engine) step(x *stepIn, o *stepOut) bool {
 	u := e.u
+	*o = stepOut{}
 	if math.IsNaN(x.tIn) || (!e.mix && math.IsNaN(x.humIn)) || math.IsNaN(x.tLv) || math.IsNaN(x.tSup) || math.IsNaN(x.flow) {
-		return o, false
+		return false
 	}
-	tIn, tLv, tSup := seed(x.tIn, sensTIn), seed(x.tLv, sensTLv), seed(x.tSup, sensTSup)
-	var wIn dv
-	var supersat bool
+	s := &e.scratch
+	tIn, tLv, tSup := &s.tIn, &s.tLv, &s.tSup
+	tIn.v, tLv.v, tSup.v = x.tIn, x.tLv, x.tSup // seeded by newScratch
+	wIn := &s.wIn
+	var supersat, ok bool
 	if e.mix {
-		wIn, ok = e.mixedW(x, tIn)
+		ok = e.mixedW(wIn, x, tIn)
 	} else {
-		wIn, supersat, ok = e.wFromHum(e.humIn, tIn, seed(x.humIn, sensHumIn), &e.memoIn)
+		s.humIn.v = x.humIn
+		supersat, ok = e.wFromHum(wIn, e.humIn, tIn, &s.humIn, &e.memoIn)
 	}
 	if !ok {
-		return o, false
+		return false
 	}
 	o.wIn, o.enteringSupersat = wIn.v, supersat
 
@@ -384,11 +454,12 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 		rise := u.FanRiseK
 		if kw, ok := e.fanKW(x); ok {
 			rise = 0
-			if m := e.massFlow(x, tIn, tLv, tSup, wIn, wIn); m.v > 0 {
-				rise = kw / (m.v * cp(wIn.v))
+			if m := e.massFlowV(x, tIn, tLv, tSup, wIn, wIn); m > 0 {
+				rise = kw / (m * cp(wIn.v))
 			}
 		}
-		tCoil = tIn.addc(rise)
+		tCoil = &s.tCoil
+		tCoil.addc(tIn, rise)
 	}
 
 	// Leaving humidity. Physics first: a coil leaving clearly above the
@@ -399,7 +470,7 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	// (clipping only the wet side would turn noise into water) and the
 	// hour's water is clipped at zero instead. Without a sensor, the
 	// assumed-RH rule.
-	var wOut dv
+	wOut := &s.wOut
 	measured := false
 	sensorW := math.NaN()
 	o.rhLv = u.LeavingRH
@@ -410,7 +481,9 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 		}
 	}
 	if e.lvHum != humNone && !math.IsNaN(x.lvHum) {
-		if w, _, ok := e.wFromHum(e.lvHum, tLv, seed(x.lvHum, sensLvHum), &e.memoLv); ok {
+		w := &s.wLv
+		s.humLv.v = x.lvHum
+		if _, ok := e.wFromHum(w, e.lvHum, tLv, &s.humLv, &e.memoLv); ok {
 			// A leaving sensor that reads wetter than the entering air beyond
 			// its accuracy while the coil cools is a sensor finding, not a
 			// negative latent load; with the coil off it is water the wet
@@ -427,30 +500,32 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 			o.sensorW = w.v
 			if !dry {
 				measured = true
-				wOut = w
+				*wOut = *w
 				if w.v < wIn.v {
 					mt := &e.memoLvT
 					if e.lvHum == humRH {
 						mt = &e.memoLv // the sensor's own dry bulb, just evaluated
 					}
 					if pws, _, ok := mt.at(x.tLv); ok && pws > 0 {
-						o.rhLv = math.Max(0.5, math.Min(1, pwFromW(w, e.p).v/pws))
+						o.rhLv = math.Max(0.5, math.Min(1, pwFromWV(w.v, e.p)/pws))
 					}
 				}
 			}
 		}
 	}
 	if !measured {
-		wOut = e.leavingW(tCoil, tLv, wIn, &e.memoADP)
+		e.leavingW(wOut, tCoil, tLv, wIn, &e.memoADP)
 	}
 	o.measuredOut = measured
 	o.wOut = wOut.v
 
-	m := e.massFlow(x, tIn, tLv, tSup, wIn, wOut)
+	m := &s.m
+	e.massFlow(m, x, tIn, tLv, tSup, wIn, wOut)
 	o.mDa = m.v
 
 	// Cooling coil.
-	hIn, hOut := hD(tCoil, wIn), hD(tLv, wOut)
+	hIn := &s.hIn
+	hIn.hD(tCoil, wIn)
 	coilDT := tCoil.v - x.tLv
 	if !(coilDT > u.Thresholds.CoilDeadbandK) && sensorW > wIn.v && m.v > 0 {
 		o.reevaporated = m.v * (sensorW - wIn.v)
@@ -458,10 +533,7 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	if coilDT > u.Thresholds.CoilDeadbandK && m.v > 0 {
 		o.coolOn = true
 		o.moistureAdded = o.wetterOut
-		o.water = m.mul(wIn.sub(wOut))
-		gross := m.mul(hIn.sub(hOut))
-		o.total = gross.sub(o.water.mul(condensateD(tLv)))
-		o.gross = gross.v
+		o.gross = coilLoads(&o.water, &o.total, m, wIn, wOut, hIn, tLv)
 		o.sens = m.v * cp(wIn.v) * coilDT
 		o.lat = o.total.v - o.sens
 	}
@@ -470,31 +542,39 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	}
 
 	// Supply fan heat between coil and supply sensor.
-	dtFan := cst(0)
+	mcp := &s.mcp // m c_p(W_out)
+	mcp.cpD(wOut)
+	mcp.mul(m, mcp)
+	dtFan := &s.dtFan
+	dtFan.set(0)
 	if u.Fan == FanDrawThrough && m.v > 0 {
 		if kw, ok := e.fanKW(x); ok {
 			o.fanHeat = kw
-			dtFan = cst(kw).div(m.mul(cpD(wOut)))
+			k := cst(kw)
+			dtFan.div(&k, mcp)
 		} else {
-			dtFan = cst(u.FanRiseK)
+			dtFan.set(u.FanRiseK)
 			o.fanHeat = m.v * cp(wOut.v) * u.FanRiseK
 		}
 	}
 
 	// Reheat: the rise from coil leaving to supply that the fan does not explain.
-	tSupEff := tSup.sub(dtFan)
-	rise := tSupEff.sub(tLv)
+	tSupEff := &s.tSupEff
+	tSupEff.sub(tSup, dtFan)
+	rise := &s.t
+	rise.sub(tSupEff, tLv)
 	if rise.v > u.Thresholds.ReheatDeadbandK && m.v > 0 {
 		if u.Reheat == ReheatNone {
 			o.reheatWithoutCoil = true
 		} else {
 			o.reheatOn = true
-			o.reheat = m.mul(cpD(wOut)).mul(rise)
+			o.reheat.mul(mcp, rise)
 		}
 	}
 
 	// What the humidity target required.
-	wReq := cst(e.wTarget)
+	wReq := &s.wReq
+	wReq.set(e.wTarget)
 	if u.Target.Kind != TargetSupplyDewPoint {
 		wSpace := e.wTarget
 		if u.Target.Kind == TargetSpaceRH {
@@ -502,35 +582,36 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 			if e.hasSpaceT && !math.IsNaN(x.spaceT) {
 				ts = x.spaceT
 			}
-			wSpace = wAtRH(ts, u.Target.RH, e.p)
+			wSpace = e.wAtRHSpace(ts, u.Target.RH)
 		}
 		// The supply must be drier than the space limit by the moisture the
 		// space adds, seen as the space's W above the supply's when both
 		// are trended (space sensors are taken as exact), else the
 		// configured or default gain (an assumption the hour is flagged for).
-		gain := dv{v: u.SpaceGain}
-		gain.g[sensGain] = 1
-		wReq = cst(wSpace).sub(gain)
+		c := cst(wSpace)
+		wReq.sub(&c, &e.gainD)
 		o.gainAssumed = true
 		if e.spaceHum != humNone && e.hasSpaceT && !math.IsNaN(x.spaceT) && !math.IsNaN(x.spaceHum) {
 			if ws, ok := e.wFromRH(x.spaceT, x.spaceHum, &e.memoSpace); ok {
 				// the observed gain, none when the space reads no wetter
-				wReq = cst(wSpace)
+				wReq.set(wSpace)
 				if ws > wOut.v {
-					wReq = cst(wSpace - ws).add(wOut)
+					c := cst(wSpace - ws)
+					wReq.add(&c, wOut)
 				}
 				o.gainAssumed = false
 			}
 		}
 		if wReq.v < 1e-5 {
-			wReq = cst(1e-5)
+			wReq.set(1e-5)
 		}
 	}
 	o.wReq = wReq.v
-	tReq := cst(math.Inf(1))
+	tReq := &s.tReq
+	tReq.set(math.Inf(1))
 	if wIn.v > wReq.v {
 		o.humidityNeed = true
-		tReq = e.tRequired(wReq, tCoil, wIn, o.rhLv, measured)
+		e.tRequired(tReq, wReq, tCoil, wIn, o.rhLv, measured)
 	}
 	o.tReq = tReq.v
 	// Too little dehumidification: the coil left air wetter than the target
@@ -545,14 +626,22 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 			o.shortReheat = m.v * cp(wReq.v) * (x.tLv - tReq.v)
 		}
 	}
-	tc := dmin(tCoil, dmin(tSupEff, tReq))
+	// tc = dmin(tCoil, dmin(tSupEff, tReq)): the coldest, a whole operand
+	tc := tSupEff
+	if tReq.v < tSupEff.v {
+		tc = tReq
+	}
+	if !(tc.v < tCoil.v) {
+		tc = tCoil
+	}
 	o.tNeed = tc.v
 	wc := wIn
 	if tc.v < tCoil.v {
+		wc = &s.wc
 		if measured {
-			wc = e.leavingWAt(tc, wIn, o.rhLv)
+			e.leavingWAt(wc, tc, wIn, o.rhLv)
 		} else {
-			wc = e.leavingW(tCoil, tc, wIn, &e.memoADPNeed)
+			e.leavingW(wc, tCoil, tc, wIn, &e.memoADPNeed)
 		}
 		mw := m.v * (wIn.v - wc.v)
 		o.coilNeeded = math.Max(0, m.v*(hIn.v-h(tc.v, wc.v))-mw*condensate(tc.v))
@@ -560,9 +649,23 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	if o.reheatOn {
 		// Needed never exceeds what was delivered: a coil warmer than the
 		// target required left a shortfall, reported on its own.
-		needed := dmin(o.reheat, dmax(cst(0), m.mul(cpD(wc)).mul(tSupEff.sub(tc))))
+		// needed = min(reheat, max(0, m c_p(W_c) (t_supply,eff - t_c)))
+		needed, t := &s.needed, &s.t
+		needed.cpD(wc)
+		needed.mul(m, needed)
+		t.sub(tSupEff, tc)
+		needed.mul(needed, t)
+		if !(needed.v > 0) {
+			needed.set(0)
+		}
+		if !(needed.v < o.reheat.v) {
+			*needed = o.reheat
+		}
 		o.reheatNeeded = needed.v
-		o.reheatAvoid = dmax(cst(0), o.reheat.sub(needed))
+		o.reheatAvoid.sub(&o.reheat, needed)
+		if !(o.reheatAvoid.v > 0) {
+			o.reheatAvoid.set(0)
+		}
 	}
 	if o.coolOn {
 		o.coilAvoid = math.Max(0, o.total.v-o.coilNeeded)
@@ -580,8 +683,9 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	case u.Cooling == CoolingDX:
 		// The avoidable input is what the load beyond the needed one drew:
 		// at part load each kWh of coil load costs more input (PLF).
-		o.coolIn = u.modelledCoolIn(total, x.tOut)
-		o.coolAvoidIn = o.coolIn - u.modelledCoolIn(total-o.coilAvoid, x.tOut)
+		cop := e.copAt(x.tOut)
+		o.coolIn = u.modelledCoolIn(total, cop)
+		o.coolAvoidIn = o.coolIn - u.modelledCoolIn(total-o.coilAvoid, cop)
 	case u.Cooling == CoolingChilledWater:
 		o.coolIn, o.coolAvoidIn = total*u.PlantKWPerKW, o.coilAvoid*u.PlantKWPerKW
 	}
@@ -596,7 +700,16 @@ func (e *engine) step(x *stepIn) (o stepOut, ok bool) {
 	case ReheatHotWater:
 		o.reheatIn = o.reheat.v / u.BoilerEff
 	}
-	return o, true
+	return true
+}
+
+// copAt is u.copAt(tOutC), remembered for the last outdoor temperature
+// (an outdoor sensor changes seldom from one step to the next).
+func (e *engine) copAt(tOutC float64) float64 {
+	if !e.copSet || math.Float64bits(tOutC) != math.Float64bits(e.copT) {
+		e.copT, e.cop, e.copSet = tOutC, e.u.copAt(tOutC), true
+	}
+	return e.cop
 }
 
 // fanKW is the supply fan's power: the fan_kw point when it reads, else
@@ -611,24 +724,47 @@ func (e *engine) fanKW(x *stepIn) (float64, bool) {
 	return 0, false
 }
 
-// massFlow is the dry-air mass flow on the configured basis: standard air
-// is dry air at 1.204 kg/m³, so m_da = 1.204 Q; an actual volume is read
-// at the sensor's state, m_da = Q / v (eq. 26), with the leaving humidity
-// wOut at the supply or coil leaving sensor.
-func (e *engine) massFlow(x *stepIn, tIn, tLv, tSup, wIn, wOut dv) dv {
-	u := e.u
-	if u.Basis == BasisStandard {
-		return cst(psychro.StandardAirDensity * x.flow)
+// massFlow sets m to the dry-air mass flow on the configured basis:
+// standard air is dry air at 1.204 kg/m³, so m_da = 1.204 Q; an actual
+// volume is read at the sensor's state, m_da = Q / v (eq. 26), with the
+// leaving humidity wOut at the supply or coil leaving sensor.
+func (e *engine) massFlow(m *dv, x *stepIn, tIn, tLv, tSup, wIn, wOut *dv) {
+	if e.u.Basis == BasisStandard {
+		m.set(psychro.StandardAirDensity * x.flow)
+		return
 	}
-	t, w := tSup, wOut
-	switch u.FlowAt {
+	t, w := e.flowState(tIn, tLv, tSup, wIn, wOut)
+	// v = t.addc(ZeroCelsiusK).mul(w.scale(1.607858).addc(1)).scale(R/p),
+	// m = cst(Q).div(v), in one pass
+	a, b := t.v+psychro.ZeroCelsiusK, w.v*1.607858+1
+	v := a * b * e.rOverP
+	inv := 1 / (v * v)
+	for i := range m.g {
+		vg := (t.g[i]*b + a*(w.g[i]*1.607858)) * e.rOverP
+		m.g[i] = (0*v - x.flow*vg) * inv
+	}
+	m.v = x.flow / v
+}
+
+// massFlowV is massFlow's value alone.
+func (e *engine) massFlowV(x *stepIn, tIn, tLv, tSup, wIn, wOut *dv) float64 {
+	if e.u.Basis == BasisStandard {
+		return psychro.StandardAirDensity * x.flow
+	}
+	t, w := e.flowState(tIn, tLv, tSup, wIn, wOut)
+	return x.flow / ((t.v + psychro.ZeroCelsiusK) * (w.v*1.607858 + 1) * e.rOverP)
+}
+
+// flowState is the state at the airflow sensor: the supply (default), the
+// entering or the coil leaving air.
+func (e *engine) flowState(tIn, tLv, tSup, wIn, wOut *dv) (t, w *dv) {
+	switch e.u.FlowAt {
 	case RoleEnteringTemp:
-		t, w = tIn, wIn
+		return tIn, wIn
 	case RoleLeavingTemp:
-		t = tLv
+		return tLv, wOut
 	}
-	v := t.addc(psychro.ZeroCelsiusK).mul(w.scale(1.607858).addc(1)).scale(psychro.RDryAir / e.p)
-	return cst(x.flow).div(v)
+	return tSup, wOut
 }
 
 // h is moist-air enthalpy (eq. 32), kJ/kg.
@@ -637,7 +773,27 @@ func h(tC, w float64) float64 { return psychro.CpDryAir*tC + w*(psychro.HgZero+p
 func cp(w float64) float64 { return psychro.CpDryAir + psychro.CpVapour*w }
 
 // condensate is the enthalpy of water leaving the coil at tC, kJ/kg.
-func condensate(tC float64) float64 { return condensateD(cst(tC)).v }
+func condensate(tC float64) float64 {
+	if tC >= 0 {
+		return tC * psychro.CpLiquidWater
+	}
+	return tC*psychro.CpIce + -psychro.HeatOfFusion
+}
+
+// pwFromWV is the vapour pressure of humidity ratio w, pwFromW's value.
+func pwFromWV(w, p float64) float64 { return w * p / (w + psychro.MolarMassRatio) }
+
+// wAtRHSpace is wAtRH(tC, rh, e.p) through the space temperature's memo
+// (psychro.SatVapPressure and SatVapPressureSlope give the same p_ws and
+// fail alike).
+func (e *engine) wAtRHSpace(tC, rh float64) float64 {
+	pws, _, ok := e.memoSpaceT.at(tC)
+	if !ok {
+		return 0
+	}
+	pw := rh * pws
+	return psychro.MolarMassRatio * pw / (e.p - pw)
+}
 
 // wAtRH returns W of air at tC and relative humidity rh (0 when tC is out of range).
 func wAtRH(tC, rh, p float64) float64 {
