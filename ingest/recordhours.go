@@ -36,7 +36,13 @@ type RecordHours struct {
 	// RowUnits reads each record in the unit its row states and counts the
 	// rows converted or rejected for their unit (see RowUnits).
 	RowUnits *RowUnits
+
+	recycler hourRecycler
 }
+
+// Release implements agent.HourReleaser: h, an hour this source emitted,
+// is filled again by a later hour. Nothing may use h after the call.
+func (rh *RecordHours) Release(h *metrics.Hour) { rh.recycler.release(h) }
 
 // Hours implements agent.HourSource. A zero from starts at the hour of the
 // first record; a zero to ends after the hour of the last.
@@ -76,6 +82,7 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 				return err
 			}
 			aligners[ahu] = a
+			rh.recycler.track(a)
 			order = append(order, ahu)
 		}
 		sort.Strings(order)
