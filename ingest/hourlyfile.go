@@ -28,11 +28,25 @@ type HourlyWriter struct {
 	n     int
 	names []string
 	buf   []byte
+	// The values are read through pointers into probe, a copy of the
+	// record being written (metrics.Record.FieldPtrs, in the order of
+	// names), so a row does not allocate Fields' slice.
+	probe metrics.Record
+	vals  []*float64
 }
 
 // NewHourlyWriter writes CSV, or a JSON array when format is "json".
 func NewHourlyWriter(w io.Writer, format string) (*HourlyWriter, error) {
 	hw := &HourlyWriter{w: bufio.NewWriterSize(w, 64<<10), names: metrics.FieldNames()}
+	ptrs := hw.probe.FieldPtrs()
+	hw.vals = make([]*float64, len(hw.names))
+	for i, name := range hw.names {
+		p, ok := ptrs[name]
+		if !ok {
+			return nil, fmt.Errorf("hourly output: no value for field %q", name) // a bug of metrics' field lists
+		}
+		hw.vals[i] = p
+	}
 	switch format {
 	case "csv":
 		b := hw.buf[:0]
@@ -81,16 +95,16 @@ func appendNum(b []byte, v float64) []byte { return strconv.AppendFloat(b, v, 'g
 
 // Write adds one record.
 func (hw *HourlyWriter) Write(r *metrics.Record) error {
-	fields := r.Fields()
+	hw.probe = *r
 	b := hw.buf[:0]
 	if !hw.json {
 		b = r.HourStart.UTC().AppendFormat(b, time.RFC3339)
 		b = append(b, ',')
 		b = appendCSVField(b, r.AHU)
-		for _, f := range fields {
+		for _, p := range hw.vals {
 			b = append(b, ',')
-			if finite(f.Value) {
-				b = appendNum(b, f.Value) // digits, sign, point, exponent: never quoted
+			if v := *p; finite(v) {
+				b = appendNum(b, v) // digits, sign, point, exponent: never quoted
 			}
 		}
 		b = append(b, ',')
@@ -106,12 +120,12 @@ func (hw *HourlyWriter) Write(r *metrics.Record) error {
 		b = append(b, '"')
 		b = append(b, ", \"ahu\": "...)
 		b = strconv.AppendQuote(b, r.AHU)
-		for _, f := range fields {
+		for i, p := range hw.vals {
 			b = append(b, ", \""...)
-			b = append(b, f.Name...)
+			b = append(b, hw.names[i]...)
 			b = append(b, "\": "...)
-			if finite(f.Value) {
-				b = appendNum(b, f.Value)
+			if v := *p; finite(v) {
+				b = appendNum(b, v)
 			} else {
 				b = append(b, "null"...)
 			}
