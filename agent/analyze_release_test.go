@@ -15,13 +15,12 @@ import (
 	"github.com/dewline/dewline/metrics"
 )
 
-// releasingSource yields the same hours as hourSource, with values that
+// releasingSource yields hours like hourSource's, with values that
 // differ from hour to hour, filling the hours it is given back again. A
 // released hour is spoilt at once, so a record computed from it after its
 // release would differ from the reference.
 type releasingSource struct {
 	hours    int
-	release  bool
 	mu       sync.Mutex
 	free     []*metrics.Hour
 	yielded  map[*metrics.Hour]int // hours out
