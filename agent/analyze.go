@@ -23,7 +23,18 @@ type HourSource interface {
 	Hours(ctx context.Context, ahus []string, from, to time.Time, fn func(*metrics.Hour) error) error
 }
 
-// ResultFunc receives each hour's record and the alert transitions it caused.
+// HourReleaser is an HourSource that takes back the hours it yields: the
+// Analyzer releases each hour once its record is computed, and the source
+// fills it again for a later hour, so an analysis allocates the hours in
+// flight rather than one per hour of the period. ingest.StoreHours and
+// ingest.RecordHours implement it.
+type HourReleaser interface {
+	Release(h *metrics.Hour)
+}
+
+// ResultFunc receives each hour's record and the alert transitions it
+// caused. rec and tr are valid only during the call: keep a copy of what is
+// needed after it.
 type ResultFunc func(ctx context.Context, rec *metrics.Record, tr []metrics.Transition) error
 
 // Summary totals one air handler's hours.
@@ -164,11 +175,13 @@ func (an *Analyzer) Run(ctx context.Context, from, to time.Time, ahus []string, 
 		u   *metrics.AirHandler
 	}
 	type result struct {
-		seq int
-		h   *metrics.Hour
-		rec metrics.Record
-		err error
+		seq   int
+		ahu   string
+		start time.Time
+		rec   metrics.Record
+		err   error
 	}
+	release, _ := an.Source.(HourReleaser)
 	workers := max(1, runtime.GOMAXPROCS(0))
 	jobs := make(chan job, 4*workers)
 	results := make(chan result, 4*workers)
@@ -179,7 +192,11 @@ func (an *Analyzer) Run(ctx context.Context, from, to time.Time, ahus []string, 
 			defer wg.Done()
 			for j := range jobs {
 				rec, err := safeCompute(j.u, j.h)
-				results <- result{seq: j.seq, h: j.h, rec: rec, err: err}
+				r := result{seq: j.seq, ahu: j.h.AHU, start: j.h.Start, rec: rec, err: err}
+				if release != nil {
+					release.Release(j.h) // the record holds nothing of the hour
+				}
+				results <- r
 			}
 		}()
 	}
@@ -191,24 +208,25 @@ func (an *Analyzer) Run(ctx context.Context, from, to time.Time, ahus []string, 
 	)
 	go func() {
 		defer close(done)
-		pending := map[int]result{}
-		next, n := 0, 0
-		for r := range results {
-			pending[r.seq] = r
+		var pending reorder[result]
+		// One result for every hour in turn: its record, whose address put
+		// receives, is then not allocated hour after hour.
+		var r result
+		n := 0
+		for got := range results {
+			pending.put(got.seq, got)
 			for {
-				r, ok := pending[next]
-				if !ok {
+				var ok bool
+				if r, ok = pending.take(); !ok {
 					break
 				}
-				delete(pending, next)
-				next++
 				if putErr != nil {
 					continue // drain
 				}
 				n++
-				ahu := r.h.AHU
+				ahu := r.ahu
 				if r.err != nil {
-					failed = append(failed, HourError{AHU: ahu, Hour: r.h.Start, Err: r.err})
+					failed = append(failed, HourError{AHU: ahu, Hour: r.start, Err: r.err})
 					sums[ahu].Failed++
 				} else {
 					state, tr := metrics.Evaluate(rules, params, an.Alerts[ahu], &r.rec)
@@ -237,6 +255,9 @@ func (an *Analyzer) Run(ctx context.Context, from, to time.Time, ahus []string, 
 		}
 		u, ok := units[h.AHU]
 		if !ok {
+			if release != nil {
+				release.Release(h)
+			}
 			return nil
 		}
 		select {
@@ -261,6 +282,51 @@ func (an *Analyzer) Run(ctx context.Context, from, to time.Time, ahus []string, 
 		sort.Slice(s.Alerts, func(i, j int) bool { return s.Alerts[i].Kind < s.Alerts[j].Kind })
 	}
 	return sums, failed, err
+}
+
+// reorder gives back, in the order of their sequence numbers from 0, values
+// that arrive out of order: a ring of slots indexed by the sequence number,
+// grown when a value arrives further ahead than it holds, so putting and
+// taking allocate nothing once it has its size.
+type reorder[T any] struct {
+	slots []T
+	full  []bool
+	next  int // the sequence number take gives next
+}
+
+// put holds v, the value of sequence number seq (>= next, not yet put).
+func (q *reorder[T]) put(seq int, v T) {
+	if seq-q.next >= len(q.slots) {
+		size := max(16, 2*len(q.slots))
+		for seq-q.next >= size {
+			size *= 2
+		}
+		slots, full := make([]T, size), make([]bool, size)
+		for s := q.next; s < q.next+len(q.slots); s++ {
+			if i := s % len(q.slots); q.full[i] {
+				slots[s%size], full[s%size] = q.slots[i], true
+			}
+		}
+		q.slots, q.full = slots, full
+	}
+	i := seq % len(q.slots)
+	q.slots[i], q.full[i] = v, true
+}
+
+// take returns the value of sequence number next once it was put.
+func (q *reorder[T]) take() (T, bool) {
+	var zero T
+	if len(q.slots) == 0 {
+		return zero, false
+	}
+	i := q.next % len(q.slots)
+	if !q.full[i] {
+		return zero, false
+	}
+	v := q.slots[i]
+	q.slots[i], q.full[i] = zero, false
+	q.next++
+	return v, true
 }
 
 // errStopped ends a source's reading once a result could not be put.

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"sync"
 	"time"
 
 	"github.com/dewline/dewline/metrics"
@@ -77,6 +78,13 @@ type Aligner struct {
 	index   map[metrics.Role]int
 	late    int
 	emitted bool // an hour has been emitted: samples before next are late
+
+	cols [][]float64 // the hour being aligned: each role's steps, by stream index
+
+	// hours handed back by Recycle, filled again by the next hours (a
+	// consumer may recycle from another goroutine)
+	freeMu sync.Mutex
+	free   []*metrics.Hour
 }
 
 // Times inside the aligner are nanoseconds from its first hour (time.Time's
@@ -175,6 +183,7 @@ func NewAligner(ahu string, from time.Time, step time.Duration, roles map[metric
 			r.temp = a.index[tr]
 		}
 	}
+	a.cols = make([][]float64, len(a.roles))
 	return a, nil
 }
 
@@ -266,11 +275,53 @@ func (a *Aligner) Emit(until time.Time, fn func(*metrics.Hour) error) error {
 	return nil
 }
 
-// hour aligns the hour starting at a.next and consumes its samples.
-func (a *Aligner) hour() *metrics.Hour {
-	hs, he := a.nextNs, a.nextNs+int64(time.Hour)
-	step := int64(a.step)
-	h := &metrics.Hour{
+// maxFree bounds the recycled hours an aligner keeps: a few more than a
+// pool of workers has in flight (common practice, no source).
+const maxFree = 64
+
+// Recycle hands back an hour this aligner emitted once its consumer is
+// done with it: a later hour fills its maps and slices again instead of
+// allocating new ones. Nothing may use h, its Values or its Quality after
+// the call. Hours of another aligner or shape are ignored. It is safe to
+// call from any goroutine.
+func (a *Aligner) Recycle(h *metrics.Hour) {
+	if h == nil || h.AHU != a.ahu || h.Step != a.step || len(h.Values) != len(a.roles) || len(h.Quality) != len(a.roles) {
+		return
+	}
+	a.freeMu.Lock()
+	if len(a.free) < maxFree {
+		a.free = append(a.free, h)
+	}
+	a.freeMu.Unlock()
+}
+
+// newHour returns an hour to fill with every role's steps in a.cols: a
+// recycled one when there is one of the same roles, else a new one.
+func (a *Aligner) newHour() *metrics.Hour {
+	var h *metrics.Hour
+	a.freeMu.Lock()
+	if n := len(a.free); n > 0 {
+		h = a.free[n-1]
+		a.free[n-1] = nil
+		a.free = a.free[:n-1]
+	}
+	a.freeMu.Unlock()
+	if h != nil {
+		ok := true
+		for i, r := range a.roles {
+			v, has := h.Values[r.role]
+			if !has || len(v) != a.n {
+				ok = false
+				break
+			}
+			a.cols[i] = v
+		}
+		if ok {
+			h.Start = a.next
+			return h
+		}
+	}
+	h = &metrics.Hour{
 		AHU: a.ahu, Start: a.next, Step: a.step,
 		Values:  make(map[metrics.Role][]float64, len(a.roles)),
 		Quality: make(map[metrics.Role]metrics.RoleQuality, len(a.roles)),
@@ -278,11 +329,22 @@ func (a *Aligner) hour() *metrics.Hour {
 	// One allocation for every role's steps; each role's slice is capped at
 	// its own length.
 	slab := make([]float64, a.n*len(a.roles))
+	for i := range a.roles {
+		a.cols[i] = slab[i*a.n : (i+1)*a.n : (i+1)*a.n]
+	}
+	return h
+}
+
+// hour aligns the hour starting at a.next and consumes its samples.
+func (a *Aligner) hour() *metrics.Hour {
+	hs, he := a.nextNs, a.nextNs+int64(time.Hour)
+	step := int64(a.step)
+	h := a.newHour()
 	for ri, r := range a.roles {
-		vals := slab[ri*a.n : (ri+1)*a.n : (ri+1)*a.n]
+		vals := a.cols[ri]
 		var temps []float64
 		if r.temp >= 0 {
-			temps = slab[r.temp*a.n : (r.temp+1)*a.n]
+			temps = a.cols[r.temp]
 		}
 		c := consumer{r: r, hs: hs, he: he}
 		if r.look != nil {

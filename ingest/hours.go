@@ -62,7 +62,13 @@ type StoreHours struct {
 	Read   int
 	OnRead func(n int)
 	seen   map[string]bool
+
+	recycler hourRecycler
 }
+
+// Release implements agent.HourReleaser: h, an hour this source emitted,
+// is filled again by a later hour. Nothing may use h after the call.
+func (s *StoreHours) Release(h *metrics.Hour) { s.recycler.release(h) }
 
 // Hours implements agent.HourSource.
 func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Time, fn func(*metrics.Hour) error) error {
@@ -88,6 +94,7 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 		if err != nil {
 			return err
 		}
+		s.recycler.track(a)
 		// The store holds SI converted from the configured units: the
 		// aligner judges, as "dewline check --store" does, whether the
 		// values look logged in another unit.
@@ -195,6 +202,7 @@ func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []stri
 			return err
 		}
 		aligners[k] = a
+		s.recycler.track(a)
 		sort.Strings(roles)
 		for _, r := range roles {
 			spec, _ := metrics.LookupRole(r)

@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"github.com/dewline/dewline/metrics"
+	"github.com/dewline/dewline/psychro"
 )
 
 // RecordSource yields trend records in time order (ingest/csvfile.Files
@@ -36,7 +37,13 @@ type RecordHours struct {
 	// RowUnits reads each record in the unit its row states and counts the
 	// rows converted or rejected for their unit (see RowUnits).
 	RowUnits *RowUnits
+
+	recycler hourRecycler
 }
+
+// Release implements agent.HourReleaser: h, an hour this source emitted,
+// is filled again by a later hour. Nothing may use h after the call.
+func (rh *RecordHours) Release(h *metrics.Hour) { rh.recycler.release(h) }
 
 // Hours implements agent.HourSource. A zero from starts at the hour of the
 // first record; a zero to ends after the hour of the last.
@@ -76,6 +83,7 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 				return err
 			}
 			aligners[ahu] = a
+			rh.recycler.track(a)
 			order = append(order, ahu)
 		}
 		sort.Strings(order)
@@ -135,12 +143,16 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 				rh.Unmatched.Add(rec.Series)
 				continue
 			}
-			ru, ok, err := rh.RowUnits.check(rec, rt.targets)
-			if err != nil {
-				return err
-			}
-			if !ok {
-				continue // counted in RowUnits
+			var ru RowUnit // a row without a unit of its own: the configured ones
+			if rec.Unit != "" {
+				var ok bool
+				var err error
+				if ru, ok, err = rh.RowUnits.check(rec, rt.targets); err != nil {
+					return err
+				}
+				if !ok {
+					continue // counted in RowUnits
+				}
 			}
 			if len(order) == 0 {
 				if err := start(rec.Time); err != nil {
@@ -161,9 +173,15 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 			if rec.Time != convT {
 				convT, convNs = rec.Time, conv.since(rec.Time)
 			}
-			for j, tg := range rt.targets {
-				if d := rt.dest[j]; d.role >= 0 {
-					d.a.pushNs(d.role, convNs, ru.ToSI(tg, rec.Value))
+			for j := range rt.dest {
+				if d := &rt.dest[j]; d.role >= 0 {
+					v := rec.Value
+					if ru.stated {
+						v = ru.unit.ToSI(v)
+					} else {
+						v = d.unit.ToSI(v)
+					}
+					d.a.pushNs(d.role, convNs, v)
 				}
 			}
 			if rec.Time.After(last) {
@@ -212,7 +230,8 @@ type route struct {
 
 type routeDest struct {
 	a    *Aligner
-	role int // stream index in a; -1 when a does not align the role
+	role int          // stream index in a; -1 when a does not align the role
+	unit psychro.Unit // the unit configured for the target (RowUnit.ToSI's fallback)
 }
 
 func newRouter(byName PointIndex) *router {
@@ -253,7 +272,7 @@ func (rt *route) resolve(aligners map[string]*Aligner) {
 	rt.dest = make([]routeDest, len(rt.targets))
 	for i, tg := range rt.targets {
 		a := aligners[tg.AHU]
-		rt.dest[i] = routeDest{a: a, role: a.roleIndex(tg.Role)}
+		rt.dest[i] = routeDest{a: a, role: a.roleIndex(tg.Role), unit: tg.Unit}
 	}
 }
 

@@ -2,6 +2,7 @@ package main
 
 import (
 	"bufio"
+	"bytes"
 	"context"
 	"errors"
 	"fmt"
@@ -181,6 +182,13 @@ func BenchmarkAnalyzeYear(b *testing.B) {
 		parseCPU = float64(testkit.CPUTime()-cpu0) / float64(b.N)
 		b.ReportMetric(float64(benchMinutes)/(parseNs/1e9), "rows/s")
 	})
+	beside := func(b *testing.B) {
+		ns := float64(b.Elapsed().Nanoseconds()) / float64(b.N)
+		b.ReportMetric(8760/(ns/1e9), "hours/s")
+		if parseNs > 0 {
+			b.ReportMetric(ns/parseNs, "x_parse")
+		}
+	}
 	b.Run("analyze", func(b *testing.B) {
 		b.SetBytes(st.Size())
 		cpu0 := testkit.CPUTime()
@@ -189,16 +197,37 @@ func BenchmarkAnalyzeYear(b *testing.B) {
 				b.Fatalf("%d hours", hours)
 			}
 		}
-		ns := float64(b.Elapsed().Nanoseconds()) / float64(b.N)
 		cpu := float64(testkit.CPUTime()-cpu0) / float64(b.N)
-		b.ReportMetric(8760/(ns/1e9), "hours/s")
-		if parseNs > 0 {
-			b.ReportMetric(ns/parseNs, "x_parse")
-		}
+		beside(b)
 		if parseCPU > 0 {
 			b.ReportMetric(cpu/parseCPU, "cpu_x_parse")
 		}
 	})
+	// The whole command, as a user runs it: the analysis and the hourly
+	// CSV written beside it (no store).
+	b.Run("command", func(b *testing.B) {
+		b.SetBytes(st.Size())
+		out := filepath.Join(b.TempDir(), "hourly.csv")
+		cpu0 := testkit.CPUTime()
+		for b.Loop() {
+			analyzeCommand(b, cfgPath, csvPath, out)
+		}
+		cpu := float64(testkit.CPUTime()-cpu0) / float64(b.N)
+		beside(b)
+		if parseCPU > 0 {
+			b.ReportMetric(cpu/parseCPU, "cpu_x_parse")
+		}
+	})
+}
+
+// analyzeCommand runs "dewline analyze" on the export, writing the hourly
+// records to out and nothing to a store.
+func analyzeCommand(b *testing.B, cfgPath, csvPath, out string) {
+	var stderr bytes.Buffer
+	if code := run(context.Background(), []string{"--log-level", "error", "analyze", "--config", cfgPath, "--input", csvPath,
+		"--out", out, "--no-store"}, io.Discard, &stderr); code != 0 {
+		b.Fatalf("analyze exited %d: %s", code, stderr.String())
+	}
 }
 
 // BenchmarkAnalyzeMemory analyses a month and the year of the same air
@@ -229,6 +258,25 @@ func BenchmarkAnalyzeMemory(b *testing.B) {
 			}
 			b.ReportMetric(float64(after.TotalAlloc-before.TotalAlloc)/float64(hours), "B/hour")
 			b.ReportMetric(float64(after.Mallocs-before.Mallocs)/float64(hours), "allocs/hour")
+		})
+	}
+	// The whole command, writing the hourly CSV: the same must hold.
+	for _, tc := range []struct {
+		name    string
+		minutes int
+	}{{"command_month", benchMonthMinutes}, {"command_year", benchMinutes}} {
+		cfgPath, path := benchFiles(b, tc.minutes)
+		b.Run(tc.name, func(b *testing.B) {
+			out := filepath.Join(b.TempDir(), "hourly.csv")
+			var before, after runtime.MemStats
+			runtime.ReadMemStats(&before)
+			for b.Loop() {
+				analyzeCommand(b, cfgPath, path, out)
+			}
+			runtime.ReadMemStats(&after)
+			hours := float64(b.N * tc.minutes / 60)
+			b.ReportMetric(float64(after.TotalAlloc-before.TotalAlloc)/hours, "B/hour")
+			b.ReportMetric(float64(after.Mallocs-before.Mallocs)/hours, "allocs/hour")
 		})
 	}
 }

@@ -26,7 +26,8 @@ go test -run '^$' -bench . -benchmem "$@" ./psychro/...
 # --- Analysis and embedded store speed (cmd/dewline), each beside its
 # reference in the same run: the analysis of an air handler-year of
 # one-minute data from its CSV export against parsing the export (x_parse,
-# goal 1.5; cpu_x_parse compares processor times), the bytes and allocations
+# goal 1.5; cpu_x_parse compares processor times; also the whole command
+# writing its hourly CSV), the bytes and allocations
 # per hour of a month and of the year (flat memory: the year's must not
 # exceed the month's), the embedded store's import of the year against the
 # parse (x_parse, goal 2) and the analysis from the store against reading
@@ -49,7 +50,9 @@ awk '
 	END {
 		print "\nmedians (ratio | its reference)"
 		printf "analyze year from CSV:  x_parse %s, cpu_x_parse %s | parse %s ns/op\n", med("BenchmarkAnalyzeYear/analyze x_parse"), med("BenchmarkAnalyzeYear/analyze cpu_x_parse"), med("BenchmarkAnalyzeYear/parse ns/op")
+		printf "analyze command (CSV):  x_parse %s, cpu_x_parse %s\n", med("BenchmarkAnalyzeYear/command x_parse"), med("BenchmarkAnalyzeYear/command cpu_x_parse")
 		printf "memory per hour:        month %s B, %s allocs | year %s B, %s allocs\n", med("BenchmarkAnalyzeMemory/month B/hour"), med("BenchmarkAnalyzeMemory/month allocs/hour"), med("BenchmarkAnalyzeMemory/year B/hour"), med("BenchmarkAnalyzeMemory/year allocs/hour")
+		printf "command memory:         month %s B, %s allocs | year %s B, %s allocs\n", med("BenchmarkAnalyzeMemory/command_month B/hour"), med("BenchmarkAnalyzeMemory/command_month allocs/hour"), med("BenchmarkAnalyzeMemory/command_year B/hour"), med("BenchmarkAnalyzeMemory/command_year allocs/hour")
 		printf "embedded import:        x_parse %s | parse %s ns/op\n", med("BenchmarkEmbeddedYear/import x_parse"), med("BenchmarkEmbeddedYear/parse ns/op")
 		printf "analyze from embedded:  x_read %s | read back %s ns/op\n", med("BenchmarkEmbeddedYear/analyze x_read"), med("BenchmarkEmbeddedYear/read ns/op")
 	}' "$PERF_OUT"
