@@ -161,11 +161,11 @@ func upsertSeries(ctx context.Context, tx *sql.Tx, name, kind, unitSI, sourceUni
 func (s *Store) ReadSeries(ctx context.Context, ref metrics.PointRef, from, to time.Time, fn func(ingest.Sample) error) error {
 	name := ref.Name()
 	lo, hi := ceilMs(from), ceilMs(to)
-	// One query finds the series and its blocks: a series without blocks
-	// in the window is one row of NULLs, an unknown series no row.
-	rows, err := s.db.QueryContext(ctx, `SELECT b.day_ms, coalesce(b.n, 0), b.data FROM series s
-		LEFT JOIN sample_blocks b ON b.series_id = s.id AND b.day_ms >= ? AND b.day_ms < ? AND b.last_ms >= ?
-		WHERE s.name = ? ORDER BY b.day_ms`, dayOf(lo), hi, lo, name)
+	st, err := s.prepared(ctx, readBlocksSQL)
+	if err != nil {
+		return fmt.Errorf("read series %s: %w", quote(name), err)
+	}
+	rows, err := st.QueryContext(ctx, dayOf(lo), hi, lo, name)
 	if err != nil {
 		return fmt.Errorf("read series %s: %w", quote(name), err)
 	}
@@ -201,14 +201,25 @@ func (s *Store) ReadSeries(ctx context.Context, ref metrics.PointRef, from, to t
 			break
 		}
 	}
-	if err = readDone(rows, err, "read series "+quote(name)); err != nil {
-		return err
+	if err != nil {
+		return rowsDone(rows, err)
+	}
+	if err = rowsDone(rows, nil); err != nil {
+		return fmt.Errorf("read series %s: %w", quote(name), err)
 	}
 	if !known {
 		return unknownSeries(name)
 	}
 	return nil
 }
+
+// readBlocksSQL finds a series and its blocks that may hold samples of a
+// window [lo, hi): from the day of lo, ending at or after lo, starting
+// before hi. A series without such blocks is one row of NULLs, an unknown
+// series no row.
+const readBlocksSQL = `SELECT b.day_ms, coalesce(b.n, 0), b.data FROM series s
+	LEFT JOIN sample_blocks b ON b.series_id = s.id AND b.day_ms >= ?1 AND b.day_ms < ?2 AND b.last_ms >= ?3
+	WHERE s.name = ?4 ORDER BY b.day_ms`
 
 // SampleSpan returns the times of the first and the last stored sample of
 // ref's series; ok is false when it has none or was never imported.

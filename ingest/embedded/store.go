@@ -60,6 +60,12 @@ type Store struct {
 	// in Go instead of meeting SQLite's lock and busy_timeout.
 	writeMu sync.Mutex
 
+	// stmts are prepared reads, kept for the store's life: preparing
+	// (parsing and planning the SQL) costs more than running a read of a
+	// day of samples.
+	stmtMu sync.Mutex
+	stmts  map[string]*sql.Stmt
+
 	closeOnce sync.Once
 	closeErr  error
 }
@@ -218,6 +224,12 @@ func (s *Store) Close() error {
 	first := false
 	s.closeOnce.Do(func() {
 		first = true
+		s.stmtMu.Lock()
+		for _, st := range s.stmts {
+			st.Close()
+		}
+		s.stmts = nil
+		s.stmtMu.Unlock()
 		if err := s.db.Close(); err != nil {
 			s.closeErr = fmt.Errorf("close store %s: %w", s.path, err)
 		}
@@ -226,6 +238,24 @@ func (s *Store) Close() error {
 		return nil
 	}
 	return s.closeErr
+}
+
+// prepared returns the statement for q, prepared on first use.
+func (s *Store) prepared(ctx context.Context, q string) (*sql.Stmt, error) {
+	s.stmtMu.Lock()
+	defer s.stmtMu.Unlock()
+	if st, ok := s.stmts[q]; ok {
+		return st, nil
+	}
+	st, err := s.db.PrepareContext(ctx, q)
+	if err != nil {
+		return nil, err
+	}
+	if s.stmts == nil {
+		s.stmts = map[string]*sql.Stmt{}
+	}
+	s.stmts[q] = st
+	return st, nil
 }
 
 // write runs fn in one write transaction: serialised within the process,
