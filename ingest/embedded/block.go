@@ -88,14 +88,43 @@ func appendBlock(dst []byte, day int64, pts []point) []byte {
 // It checks the block against the day and against n, its sample count as
 // the row records it, and refuses anything it cannot read exactly.
 func decodeBlock(dst []point, day int64, n int, data []byte) ([]point, error) {
-	bad := func(what string) ([]point, error) {
-		return dst, fmt.Errorf("%w: %s", errCorruptBlock, what)
+	br, err := openBlock(day, n, data)
+	if err != nil {
+		return dst, err
 	}
-	if len(data) == 0 || data[0] != blockFormat {
-		if len(data) == 0 {
-			return bad("empty")
+	for br.more() {
+		p, err := br.next()
+		if err != nil {
+			return dst, err
 		}
-		return bad(fmt.Sprintf("format %d, this dewline reads %d", data[0], blockFormat))
+		dst = append(dst, p)
+	}
+	return dst, br.end()
+}
+
+// blockReader reads a block's samples one at a time, without a buffer:
+// one cursor walks the time runs, the other the values.
+type blockReader struct {
+	data       []byte
+	tpos, vpos int
+	left       int    // samples not read yet
+	ms         int64  // the time of the sample read last
+	step       int64  // the current run's step
+	run        uint64 // gaps left in the current run
+	prev       uint64 // the bits of the value read last
+	started    bool
+}
+
+func corrupt(what string) error { return fmt.Errorf("%w: %s", errCorruptBlock, what) }
+
+// openBlock checks the block's header and its time runs against the day
+// and n, its sample count as the row records it.
+func openBlock(day int64, n int, data []byte) (blockReader, error) {
+	if len(data) == 0 {
+		return blockReader{}, corrupt("empty")
+	}
+	if data[0] != blockFormat {
+		return blockReader{}, corrupt(fmt.Sprintf("format %d, this dewline reads %d", data[0], blockFormat))
 	}
 	pos := 1
 	uv := func() (uint64, bool) {
@@ -108,58 +137,79 @@ func decodeBlock(dst []point, day int64, n int, data []byte) ([]point, error) {
 	}
 	count, ok := uv()
 	if !ok || count == 0 || count != uint64(n) || count > dayMs {
-		return bad(fmt.Sprintf("holds %d samples, the row says %d", count, n))
+		return blockReader{}, corrupt(fmt.Sprintf("holds %d samples, the row says %d", count, n))
 	}
 	off, ok := uv()
 	if !ok || off >= dayMs {
-		return bad("first time outside the day")
+		return blockReader{}, corrupt("first time outside the day")
 	}
-	start := len(dst)
-	ms := day + int64(off)
-	dst = append(dst, point{ms: ms})
-	for len(dst)-start < n {
+	br := blockReader{data: data, tpos: pos, left: n, ms: day + int64(off)}
+	// Walk the runs once to check them and to find where the values start.
+	last, gaps := br.ms, uint64(n-1)
+	for gaps > 0 {
 		step, ok1 := uv()
 		k, ok2 := uv()
-		if !ok1 || !ok2 || step == 0 || k == 0 || k > uint64(n-(len(dst)-start)) || step > dayMs {
-			return bad("times do not decode")
+		if !ok1 || !ok2 || step == 0 || k == 0 || k > gaps || step >= dayMs {
+			return blockReader{}, corrupt("times do not decode")
 		}
-		for range k {
-			ms += int64(step)
-			dst = append(dst, point{ms: ms})
-		}
-		if ms >= day+dayMs {
-			return bad("a time past the day")
+		gaps -= k
+		if last += int64(step * k); last >= day+dayMs {
+			return blockReader{}, corrupt("a time past the day")
 		}
 	}
-	var prev uint64
-	for i := start; i < len(dst); i++ {
-		if pos >= len(data) {
-			return bad("values cut short")
+	br.vpos = pos
+	return br, nil
+}
+
+// more reports whether a sample is left to read.
+func (br *blockReader) more() bool { return br.left > 0 }
+
+// next returns the next sample; call it only while more.
+func (br *blockReader) next() (point, error) {
+	if br.started {
+		if br.run == 0 {
+			// openBlock checked every run, so these decode.
+			step, k := binary.Uvarint(br.data[br.tpos:])
+			br.tpos += k
+			run, k := binary.Uvarint(br.data[br.tpos:])
+			br.tpos += k
+			br.step, br.run = int64(step), run
 		}
-		h := data[pos]
-		pos++
+		br.ms += br.step
+		br.run--
+	}
+	br.started = true
+	br.left--
+	data, pos := br.data, br.vpos
+	if pos >= len(data) {
+		return point{}, corrupt("values cut short")
+	}
+	h := data[pos]
+	pos++
+	if h != 0x80 {
 		lead, trail := int(h>>4), int(h&0x0f)
-		var x uint64
-		switch {
-		case h == 0x80:
-		case lead+trail >= 8:
-			return bad(fmt.Sprintf("value header %#x", h))
-		default:
-			m := 8 - lead - trail
-			if pos+m > len(data) {
-				return bad("values cut short")
-			}
-			for _, c := range data[pos : pos+m] {
-				x = x<<8 | uint64(c)
-			}
-			x <<= 8 * trail
-			pos += m
+		if lead+trail >= 8 {
+			return point{}, corrupt(fmt.Sprintf("value header %#x", h))
 		}
-		prev ^= x
-		dst[i].v = math.Float64frombits(prev)
+		m := 8 - lead - trail
+		if pos+m > len(data) {
+			return point{}, corrupt("values cut short")
+		}
+		var x uint64
+		for _, c := range data[pos : pos+m] {
+			x = x<<8 | uint64(c)
+		}
+		pos += m
+		br.prev ^= x << (8 * trail)
 	}
-	if pos != len(data) {
-		return bad(fmt.Sprintf("%d bytes left over", len(data)-pos))
+	br.vpos = pos
+	return point{ms: br.ms, v: math.Float64frombits(br.prev)}, nil
+}
+
+// end checks, after the last sample, that nothing is left over.
+func (br *blockReader) end() error {
+	if br.vpos != len(br.data) {
+		return corrupt(fmt.Sprintf("%d bytes left over", len(br.data)-br.vpos))
 	}
-	return dst, nil
+	return nil
 }

@@ -66,7 +66,7 @@ func TestBlock_Corrupt(t *testing.T) {
 		{"count differs from the row", 4, good, "the row says 4"},
 		{"cut short", 3, good[:len(good)-1], "cut short"},
 		{"bytes left over", 3, append(good[:len(good):len(good)], 0), "left over"},
-		{"past the day", 2, []byte{1, 2, 0, 0x80, 0xb8, 0x99, 0x29, 1, 0x80, 0x80}, "past the day"}, // step 86400000, a whole day
+		{"past the day", 3, []byte{1, 3, 0, 0x80, 0xdc, 0xcc, 0x14, 2, 0x80, 0x80, 0x80}, "past the day"}, // two steps of 43200000 ms, half a day
 		{"bad value header", 1, []byte{1, 1, 0, 0x44}, "header"},
 	}
 	for _, tt := range tests {

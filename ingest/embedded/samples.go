@@ -174,7 +174,6 @@ func (s *Store) ReadSeries(ctx context.Context, ref metrics.PointRef, from, to t
 		day   sql.NullInt64
 		n     int
 		data  sql.RawBytes
-		pts   []point
 	)
 	for rows.Next() {
 		known = true
@@ -185,19 +184,10 @@ func (s *Store) ReadSeries(ctx context.Context, ref metrics.PointRef, from, to t
 		if !day.Valid || hi <= lo {
 			continue
 		}
-		if pts, err = decodeBlock(pts[:0], day.Int64, n, data); err != nil {
-			err = fmt.Errorf("read series %s: day %s: %w", quote(name), fromMs(day.Int64).Format(time.DateOnly), err)
-			break
-		}
-		for _, p := range pts {
-			if p.ms < lo || p.ms >= hi {
-				continue
+		if err = s.emitBlock(day.Int64, n, data, lo, hi, fn); err != nil {
+			if errors.Is(err, errCorruptBlock) {
+				err = fmt.Errorf("read series %s: day %s: %w", quote(name), fromMs(day.Int64).Format(time.DateOnly), err)
 			}
-			if err = fn(ingest.Sample{Time: fromMs(p.ms), Value: p.v}); err != nil {
-				break
-			}
-		}
-		if err != nil {
 			break
 		}
 	}
@@ -211,6 +201,30 @@ func (s *Store) ReadSeries(ctx context.Context, ref metrics.PointRef, from, to t
 		return unknownSeries(name)
 	}
 	return nil
+}
+
+// emitBlock calls fn with the block's samples in [lo, hi).
+func (s *Store) emitBlock(day int64, n int, data []byte, lo, hi int64, fn func(ingest.Sample) error) error {
+	br, err := openBlock(day, n, data)
+	if err != nil {
+		return err
+	}
+	for br.more() {
+		p, err := br.next()
+		if err != nil {
+			return err
+		}
+		if p.ms >= hi {
+			return nil // the rest is later still
+		}
+		if p.ms < lo {
+			continue
+		}
+		if err := fn(ingest.Sample{Time: fromMs(p.ms), Value: p.v}); err != nil {
+			return err
+		}
+	}
+	return br.end()
 }
 
 // readBlocksSQL finds a series and its blocks that may hold samples of a

@@ -393,3 +393,19 @@ func TestStore_WriteSamples_Atomic(t *testing.T) {
 	require.ErrorContains(t, err, "injected sample failure")
 	assert.Equal(t, old, collect(t, s, ref, t0, t0.Add(time.Hour)), "the batch is all or nothing")
 }
+
+// TestStore_ReadSeries_CorruptBlock: a block damaged outside dewline is an
+// error naming the series and the day, not wrong samples.
+func TestStore_ReadSeries_CorruptBlock(t *testing.T) {
+	ctx := testCtx(t)
+	s, path := newStore(t)
+	_, err := s.WriteSamples(ctx, "AHU-1 SAT", "", "°C", "", []ingest.Sample{{Time: t0, Value: 13}, {Time: t0.Add(time.Minute), Value: 14}})
+	require.NoError(t, err)
+	_, err = plainDB(t, path).Exec("UPDATE sample_blocks SET data = substr(data, 1, length(data) - 1)")
+	require.NoError(t, err)
+	err = s.ReadSeries(ctx, metrics.PointRef{Point: "AHU-1 SAT"}, t0, t0.Add(time.Hour), func(ingest.Sample) error { return nil })
+	require.ErrorIs(t, err, errCorruptBlock)
+	for _, m := range []string{`"AHU-1 SAT"`, "2024-07-01", "cut short"} {
+		assert.Contains(t, err.Error(), m)
+	}
+}
