@@ -45,7 +45,8 @@
 // Up to v5 the samples were one row each in a table samples (series_id,
 // ts_ms, value); opening such a file read-write packs them into blocks
 // and drops the table, in one transaction (a failure leaves the v5 file
-// as it was).
+// as it was). The pages the old table held stay in the file as free pages
+// that later writes reuse; "sqlite3 FILE VACUUM" returns them to the disk.
 //
 //	imports       one row per "dewline import" of a file (re-imports add rows)
 //	  id, file, sha256 (hex), rows_read, accepted, rejected, started_ms, finished_ms
