@@ -409,3 +409,33 @@ func TestStore_ReadSeries_CorruptBlock(t *testing.T) {
 		assert.Contains(t, err.Error(), m)
 	}
 }
+
+// TestStore_WriteBatch writes several series in one transaction: a series
+// named twice keeps the later value at a shared time, and a batch with one
+// refused series writes none of its series.
+func TestStore_WriteBatch(t *testing.T) {
+	ctx := testCtx(t)
+	s, _ := newStore(t)
+	_, err := s.WriteSamples(ctx, "b", "", "Pa", "", []ingest.Sample{{Time: t0, Value: 100}})
+	require.NoError(t, err)
+
+	n, err := s.WriteBatch(ctx, []SeriesSamples{
+		{Name: "a", UnitSI: "°C", Samples: []ingest.Sample{{Time: t0, Value: 1}, {Time: t0.Add(time.Minute), Value: 2}}},
+		{Name: "b", UnitSI: "Pa", Samples: []ingest.Sample{{Time: t0.Add(time.Minute), Value: 101}}},
+		{Name: "a", Samples: []ingest.Sample{{Time: t0.Add(time.Minute), Value: 3}, {Time: t0.Add(2 * time.Minute), Value: 4}}},
+	})
+	require.NoError(t, err)
+	assert.Equal(t, 5, n)
+	assert.Equal(t, []ingest.Sample{{Time: t0, Value: 1}, {Time: t0.Add(time.Minute), Value: 3}, {Time: t0.Add(2 * time.Minute), Value: 4}},
+		collect(t, s, metrics.PointRef{Point: "a"}, t0, t0.Add(time.Hour)))
+	assert.Equal(t, []ingest.Sample{{Time: t0, Value: 100}, {Time: t0.Add(time.Minute), Value: 101}},
+		collect(t, s, metrics.PointRef{Point: "b"}, t0, t0.Add(time.Hour)))
+
+	_, err = s.WriteBatch(ctx, []SeriesSamples{
+		{Name: "a", UnitSI: "°C", Samples: []ingest.Sample{{Time: t0.Add(3 * time.Minute), Value: 5}}},
+		{Name: "b", UnitSI: "°C", Samples: []ingest.Sample{{Time: t0.Add(3 * time.Minute), Value: 6}}},
+	})
+	require.ErrorIs(t, err, ErrUnitMismatch)
+	assert.Contains(t, err.Error(), `series "b"`)
+	assert.Len(t, collect(t, s, metrics.PointRef{Point: "a"}, t0, t0.Add(time.Hour)), 3, "nothing of the refused batch, not even a")
+}
