@@ -12,9 +12,11 @@ import (
 
 // batchValues is how many values the reader gathers before it hands them
 // to the writer. Larger batches mean fewer transactions and fewer day
-// blocks written twice at a batch's edges; two batches of 128 Ki samples
-// (4 MiB each) bound the import's memory whatever the file's length.
-const batchValues = 1 << 17
+// blocks written twice at a batch's edges, smaller ones less memory; two
+// batches of 64 Ki samples (2 MiB each) bound the import's memory whatever
+// the file's length. Twice as many cost no more processor time, and
+// raised the peak memory of a year's import from 40 to 49 MB.
+const batchValues = 1 << 16
 
 // batch is the values of whole lines of a file, by series, in file order.
 // A series is a slot: its index in the import's table of series (see
