@@ -184,7 +184,7 @@ func (s *Store) ReadSeries(ctx context.Context, ref metrics.PointRef, from, to t
 		if !day.Valid || hi <= lo {
 			continue
 		}
-		if err = s.emitBlock(day.Int64, n, data, lo, hi, fn); err != nil {
+		if err = emitBlock(day.Int64, n, data, lo, hi, fn); err != nil {
 			if errors.Is(err, errCorruptBlock) {
 				err = fmt.Errorf("read series %s: day %s: %w", quote(name), fromMs(day.Int64).Format(time.DateOnly), err)
 			}
@@ -204,7 +204,7 @@ func (s *Store) ReadSeries(ctx context.Context, ref metrics.PointRef, from, to t
 }
 
 // emitBlock calls fn with the block's samples in [lo, hi).
-func (s *Store) emitBlock(day int64, n int, data []byte, lo, hi int64, fn func(ingest.Sample) error) error {
+func emitBlock(day int64, n int, data []byte, lo, hi int64, fn func(ingest.Sample) error) error {
 	br, err := openBlock(day, n, data)
 	if err != nil {
 		return err
