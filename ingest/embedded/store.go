@@ -109,7 +109,7 @@ func open(ctx context.Context, path string, opt Options, steps []migration) (*St
 	s := &Store{db: db, path: path, abs: abs, readOnly: opt.ReadOnly, now: opt.Now, zone: opt.DayZone}
 	// A ping opens the first connection, which runs the DSN's PRAGMAs: a
 	// file that is not SQLite fails here.
-	err = db.PingContext(ctx)
+	err = pingBusy(ctx, db, opt.BusyTimeout)
 	if err == nil && opt.ReadOnly {
 		err = checkVersion(ctx, db, len(steps))
 	}
@@ -176,6 +176,37 @@ func dsn(abs string, opt Options, immutable bool) string {
 		q += "&_journal_mode=WAL&_synchronous=NORMAL&_txlock=immediate"
 	}
 	return u.String() + "?" + q
+}
+
+// busyRetry is how long pingBusy waits between attempts.
+const busyRetry = 10 * time.Millisecond
+
+// pingBusy opens the first connection, trying again for up to timeout
+// while the file is busy. Switching a new file to WAL, as the first
+// connection does, needs a lock that SQLite does not wait for: with
+// another process creating the same file at that moment (two agents
+// starting at once) it fails with SQLITE_BUSY at once, whatever the busy
+// timeout. Attempts are counted, not timed, so the store reads no clock.
+func pingBusy(ctx context.Context, db *sql.DB, timeout time.Duration) error {
+	for left := int(timeout / busyRetry); ; left-- {
+		err := db.PingContext(ctx)
+		if err == nil || left <= 0 || !isBusy(err) {
+			return err
+		}
+		t := time.NewTimer(busyRetry)
+		select {
+		case <-ctx.Done():
+			t.Stop()
+			return err
+		case <-t.C:
+		}
+	}
+}
+
+// isBusy reports an SQLite error SQLITE_BUSY, with any extended code.
+func isBusy(err error) bool {
+	var se *sqlite.Error
+	return errors.As(err, &se) && se.Code()&0xff == 5
 }
 
 // cannotWriteBeside reports an SQLite error of a reader that could not

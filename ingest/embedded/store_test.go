@@ -424,3 +424,30 @@ func TestStore_CancelledContext(t *testing.T) {
 	_, err = s.SeriesInfo(testCtx(t), "AHU-1 SAT")
 	assert.ErrorIs(t, err, ErrUnknownSeries, "nothing was written")
 }
+
+// TestStore_OpenAtOnce: several processes (here, separate pools) creating
+// the same new file at the same moment all open it. The first connection
+// of each switches the file to WAL, which SQLite refuses at once, without
+// the busy timeout, while another holds the lock; Open tries again.
+func TestStore_OpenAtOnce(t *testing.T) {
+	for i := range 30 {
+		path := filepath.Join(t.TempDir(), "dewline.db")
+		var wg sync.WaitGroup
+		errs := make([]error, 3)
+		for k := range errs {
+			wg.Add(1)
+			go func() {
+				defer wg.Done()
+				s, err := Open(testCtx(t), path, Options{})
+				if err == nil {
+					err = s.Close()
+				}
+				errs[k] = err
+			}()
+		}
+		wg.Wait()
+		for k, err := range errs {
+			require.NoError(t, err, "round %d, opener %d", i, k)
+		}
+	}
+}
