@@ -143,6 +143,13 @@ func (ru *RowUnits) Check(rec Record) (RowUnit, bool, error) {
 	return ru.check(&rec, ru.ix[rec.Series])
 }
 
+// CheckTargets is Check for a caller that has looked up rec's targets in
+// the index already (ts is ix[rec.Series]), for loops over millions of
+// records.
+func (ru *RowUnits) CheckTargets(rec *Record, ts []PointTarget) (RowUnit, bool, error) {
+	return ru.check(rec, ts)
+}
+
 // check is Check with the record's targets already looked up.
 func (ru *RowUnits) check(rec *Record, ts []PointTarget) (RowUnit, bool, error) {
 	if len(ts) == 0 || rec.Unit == "" {

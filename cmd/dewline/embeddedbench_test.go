@@ -4,6 +4,7 @@ import (
 	"context"
 	"os"
 	"path/filepath"
+	"runtime"
 	"testing"
 	"time"
 
@@ -13,9 +14,17 @@ import (
 
 	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/agent/config"
+	"github.com/dewline/dewline/deploy/testkit"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/metrics"
 )
+
+// allocated is the bytes this process has allocated so far.
+func allocated() uint64 {
+	var m runtime.MemStats
+	runtime.ReadMemStats(&m)
+	return m.TotalAlloc
+}
 
 // BenchmarkEmbeddedYear measures the embedded store on the air handler-year
 // of BenchmarkAnalyzeYear (ten one-minute points, 5.3 million values), each
@@ -27,6 +36,10 @@ import (
 //   - read: every sample of the year's ten series read back; analyze: the
 //     analysis of the year from the store (read, align, compute, alerts).
 //     Goal: analyze within 1.5x of read (x_read).
+//
+// Beside the wall-time ratios, cpu_x_parse and cpu_x_read compare processor
+// times (all goroutines), MB_file is the store file after the import and
+// MB_alloc the bytes allocated per import or read.
 func BenchmarkEmbeddedYear(b *testing.B) {
 	_, csvPath := benchFiles(b, benchMinutes)
 	dir := b.TempDir()
@@ -62,16 +75,20 @@ func BenchmarkEmbeddedYear(b *testing.B) {
 	from := time.Date(2025, 1, 1, 0, 0, 0, 0, time.UTC)
 	to := from.Add(benchMinutes * time.Minute)
 
-	var parseNs float64
+	var parseNs, parseCPU float64
 	b.Run("parse", func(b *testing.B) {
+		cpu0 := testkit.CPUTime()
 		for b.Loop() {
 			if n := parseExport(b, csvPath); n != 10*benchMinutes {
 				b.Fatalf("%d records", n)
 			}
 		}
 		parseNs = float64(b.Elapsed().Nanoseconds()) / float64(b.N)
+		parseCPU = float64(testkit.CPUTime()-cpu0) / float64(b.N)
 	})
 	b.Run("import", func(b *testing.B) {
+		cpu0 := testkit.CPUTime()
+		alloc0 := allocated()
 		for b.Loop() {
 			b.StopTimer()
 			removeStore(b)
@@ -90,16 +107,24 @@ func BenchmarkEmbeddedYear(b *testing.B) {
 			b.StartTimer()
 		}
 		ns := float64(b.Elapsed().Nanoseconds()) / float64(b.N)
+		cpu := float64(testkit.CPUTime()-cpu0) / float64(b.N)
 		b.ReportMetric(10*benchMinutes/(ns/1e9), "values/s")
+		b.ReportMetric(float64(allocated()-alloc0)/float64(b.N)/(1<<20), "MB_alloc")
+		if fi, err := os.Stat(cfg.StorePath()); err == nil {
+			b.ReportMetric(float64(fi.Size())/(1<<20), "MB_file")
+		}
 		if parseNs > 0 {
 			b.ReportMetric(ns/parseNs, "x_parse")
+			b.ReportMetric(cpu/parseCPU, "cpu_x_parse")
 		}
 	})
 	// The store the last import left is read back and analysed.
 	st := open(b)
 	defer st.Close()
-	var readNs float64
+	var readNs, readCPU float64
 	b.Run("read", func(b *testing.B) {
+		cpu0 := testkit.CPUTime()
+		alloc0 := allocated()
 		for b.Loop() {
 			n := 0
 			for role, ref := range a.PointMap() {
@@ -114,8 +139,11 @@ func BenchmarkEmbeddedYear(b *testing.B) {
 			}
 		}
 		readNs = float64(b.Elapsed().Nanoseconds()) / float64(b.N)
+		readCPU = float64(testkit.CPUTime()-cpu0) / float64(b.N)
+		b.ReportMetric(float64(allocated()-alloc0)/float64(b.N)/(1<<20), "MB_alloc")
 	})
 	b.Run("analyze", func(b *testing.B) {
+		cpu0 := testkit.CPUTime()
 		for b.Loop() {
 			src := &ingest.StoreHours{Reader: st, AirHandlers: units, Step: cfg.Grid.Step, IsMissing: st.IsMissing}
 			an := &agent.Analyzer{Cfg: cfg, Source: src}
@@ -132,9 +160,11 @@ func BenchmarkEmbeddedYear(b *testing.B) {
 			}
 		}
 		ns := float64(b.Elapsed().Nanoseconds()) / float64(b.N)
+		cpu := float64(testkit.CPUTime()-cpu0) / float64(b.N)
 		b.ReportMetric(8760/(ns/1e9), "hours/s")
 		if readNs > 0 {
 			b.ReportMetric(ns/readNs, "x_read")
+			b.ReportMetric(cpu/readCPU, "cpu_x_read")
 		}
 	})
 }

@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"context"
 	"crypto/sha256"
 	"database/sql"
 	"encoding/json"
@@ -17,6 +18,9 @@ import (
 	"time"
 
 	"github.com/dewline/dewline/deploy/testkit"
+	"github.com/dewline/dewline/ingest"
+	"github.com/dewline/dewline/ingest/embedded"
+	"github.com/dewline/dewline/metrics"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 )
@@ -40,17 +44,15 @@ func longExport(t *testing.T, path string, satUnit func(m int) string, satValue 
 // storedSAT reads the supply temperature samples (°C, as stored) back.
 func storedSAT(t *testing.T, dbPath string) []float64 {
 	t.Helper()
-	db := openSQLite(t, dbPath)
-	rows, err := db.Query(`SELECT x.value FROM samples x JOIN series s ON s.id = x.series_id WHERE s.name = 'SAT' ORDER BY x.ts_ms`)
+	st, err := embedded.Open(context.Background(), dbPath, embedded.Options{ReadOnly: true})
 	require.NoError(t, err)
-	defer rows.Close()
+	defer st.Close()
 	var out []float64
-	for rows.Next() {
-		var v float64
-		require.NoError(t, rows.Scan(&v))
-		out = append(out, v)
-	}
-	require.NoError(t, rows.Err())
+	require.NoError(t, st.ReadSeries(context.Background(), metrics.PointRef{Column: "SAT"},
+		time.Unix(0, 0), time.Date(2100, 1, 1, 0, 0, 0, 0, time.UTC), func(s ingest.Sample) error {
+			out = append(out, s.Value)
+			return nil
+		}))
 	return out
 }
 

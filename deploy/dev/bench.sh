@@ -45,7 +45,7 @@ awk '
 	/^Benchmark/ {
 		name = $1; sub(/-[0-9]+$/, "", name)
 		vals[name " ns/op"] = vals[name " ns/op"] " " $3
-		for (i = 4; i < NF; i++) if ($(i+1) ~ /^(x_|cpu_x_|B\/hour|allocs\/hour)/) vals[name " " $(i+1)] = vals[name " " $(i+1)] " " $i
+		for (i = 4; i < NF; i++) if ($(i+1) ~ /^(x_|cpu_x_|B\/hour|allocs\/hour|MB_)/) vals[name " " $(i+1)] = vals[name " " $(i+1)] " " $i
 	}
 	END {
 		print "\nmedians (ratio | its reference)"
@@ -53,8 +53,8 @@ awk '
 		printf "analyze command (CSV):  x_parse %s, cpu_x_parse %s\n", med("BenchmarkAnalyzeYear/command x_parse"), med("BenchmarkAnalyzeYear/command cpu_x_parse")
 		printf "memory per hour:        month %s B, %s allocs | year %s B, %s allocs\n", med("BenchmarkAnalyzeMemory/month B/hour"), med("BenchmarkAnalyzeMemory/month allocs/hour"), med("BenchmarkAnalyzeMemory/year B/hour"), med("BenchmarkAnalyzeMemory/year allocs/hour")
 		printf "command memory:         month %s B, %s allocs | year %s B, %s allocs\n", med("BenchmarkAnalyzeMemory/command_month B/hour"), med("BenchmarkAnalyzeMemory/command_month allocs/hour"), med("BenchmarkAnalyzeMemory/command_year B/hour"), med("BenchmarkAnalyzeMemory/command_year allocs/hour")
-		printf "embedded import:        x_parse %s | parse %s ns/op\n", med("BenchmarkEmbeddedYear/import x_parse"), med("BenchmarkEmbeddedYear/parse ns/op")
-		printf "analyze from embedded:  x_read %s | read back %s ns/op\n", med("BenchmarkEmbeddedYear/analyze x_read"), med("BenchmarkEmbeddedYear/read ns/op")
+		printf "embedded import:        x_parse %s, cpu_x_parse %s, file %s MB | parse %s ns/op\n", med("BenchmarkEmbeddedYear/import x_parse"), med("BenchmarkEmbeddedYear/import cpu_x_parse"), med("BenchmarkEmbeddedYear/import MB_file"), med("BenchmarkEmbeddedYear/parse ns/op")
+		printf "analyze from embedded:  x_read %s, cpu_x_read %s | read back %s ns/op\n", med("BenchmarkEmbeddedYear/analyze x_read"), med("BenchmarkEmbeddedYear/analyze cpu_x_read"), med("BenchmarkEmbeddedYear/read ns/op")
 	}' "$PERF_OUT"
 rm -f "$PERF_OUT"
 # --- end of the analysis and embedded store block.

@@ -22,10 +22,11 @@ type Backend struct {
 }
 
 var (
-	_ store.Store        = (*Backend)(nil)
-	_ store.ImportLogger = (*Backend)(nil)
-	_ store.AgentStore   = (*agentStore)(nil)
-	_ store.EventQueue   = (*agentStore)(nil)
+	_ store.Store             = (*Backend)(nil)
+	_ store.ImportLogger      = (*Backend)(nil)
+	_ store.BatchSampleWriter = (*Backend)(nil)
+	_ store.AgentStore        = (*agentStore)(nil)
+	_ store.EventQueue        = (*agentStore)(nil)
 )
 
 // NewBackend serves s as a store.Store; payload builds the webhook body
@@ -54,6 +55,17 @@ func (b *Backend) IsMissing(err error) bool { return errors.Is(err, ErrUnknownSe
 // the export logged them in.
 func (b *Backend) WriteSamples(ctx context.Context, series string, t ingest.PointTarget, samples []ingest.Sample) error {
 	_, err := b.s.WriteSamples(ctx, series, t.Kind.String(), psychro.SIUnitName(t.Kind), t.Unit.Name, samples)
+	return err
+}
+
+// WriteSampleBatch stores several series' samples (SI) in one transaction.
+func (b *Backend) WriteSampleBatch(ctx context.Context, batch []store.SeriesSamples) error {
+	ss := make([]SeriesSamples, len(batch))
+	for i, x := range batch {
+		ss[i] = SeriesSamples{Name: x.Series, Kind: x.Target.Kind.String(), UnitSI: psychro.SIUnitName(x.Target.Kind),
+			SourceUnit: x.Target.Unit.Name, Samples: x.Samples}
+	}
+	_, err := b.s.WriteBatch(ctx, ss)
 	return err
 }
 

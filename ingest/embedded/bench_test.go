@@ -2,9 +2,7 @@ package embedded
 
 import (
 	"context"
-	"database/sql"
 	"path/filepath"
-	"strconv"
 	"testing"
 	"time"
 
@@ -41,9 +39,8 @@ func reportRate(b *testing.B, samples int) {
 
 // BenchmarkStore_WriteSamples writes batches of benchBatch samples to a file
 // in a temporary folder, each batch one transaction (WAL, synchronous=NORMAL).
-// "insert" adds new times, "upsert" rewrites the same times (a re-import).
-// "rows_per_statement=1" is the reference: the same transaction with a
-// single-row prepared statement, which is what the multi-row chunks beat.
+// "insert" adds new times, "upsert" rewrites the same times (a re-import:
+// every day block is read, merged and written back).
 func BenchmarkStore_WriteSamples(b *testing.B) {
 	b.Run("insert", func(b *testing.B) {
 		s := benchStore(b)
@@ -75,29 +72,6 @@ func BenchmarkStore_WriteSamples(b *testing.B) {
 		}
 		reportRate(b, b.N*benchBatch)
 	})
-	for _, chunk := range []int{1, insertChunk} {
-		b.Run("rows_per_statement="+strconv.Itoa(chunk), func(b *testing.B) {
-			s := benchStore(b)
-			ctx := context.Background()
-			_, err := s.WriteSamples(ctx, "p", "", "", "", nil)
-			require.NoError(b, err)
-			start := t0
-			b.ReportAllocs()
-			for b.Loop() {
-				b.StopTimer()
-				batch := benchSamples(start, benchBatch)
-				start = start.Add(benchBatch * time.Minute)
-				b.StartTimer()
-				err := s.write(ctx, "bench", func(tx *sql.Tx) error {
-					return insertSamples(ctx, tx, 1, batch, chunk)
-				})
-				if err != nil {
-					b.Fatal(err)
-				}
-			}
-			reportRate(b, b.N*benchBatch)
-		})
-	}
 }
 
 // BenchmarkStore_ReadSeries streams a window of benchBatch samples out of a

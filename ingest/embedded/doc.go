@@ -17,13 +17,14 @@
 //
 // # Not-a-number
 //
-// SQLite has no NaN: it stores a bound NaN as NULL. So WriteSamples refuses
-// NaN and ±Inf samples (ErrNotFinite, naming the series and time) before
-// writing anything; a missing reading is a missing row, not a NULL. In
+// WriteSamples refuses NaN and ±Inf samples (ErrNotFinite, naming the
+// series and time) before writing anything; a missing reading is a missing
+// sample, never a stored NaN. Every other value, -0 included, is kept bit
+// for bit. (SQLite itself has no NaN: it stores a bound NaN as NULL.) In
 // hourly fields NaN and ±Inf are written as JSON null and read back as NaN.
 // In alerts a NaN energy or cost is stored as NULL and read back as NaN.
 //
-// # Schema (version 1)
+// # Schema (version 6)
 //
 //	series        one row per trend point
 //	  id          INTEGER PRIMARY KEY
@@ -33,10 +34,19 @@
 //	  source_unit TEXT                   unit the export logged before conversion
 //	  created_ms  INTEGER
 //
-//	samples       WITHOUT ROWID; PRIMARY KEY (series_id, ts_ms)
+//	sample_blocks (schema v6) one row per series and UTC day; PRIMARY KEY (series_id, day_ms)
 //	  series_id   INTEGER REFERENCES series(id) ON DELETE CASCADE
-//	  ts_ms       INTEGER                sample time
-//	  value       REAL NOT NULL          SI value, always finite
+//	  day_ms      INTEGER                start of the UTC day; a multiple of 86400000
+//	  n           INTEGER                samples in the block (> 0)
+//	  first_ms, last_ms INTEGER          first and last sample time in the block
+//	  data        BLOB                   the samples, times and SI values encoded
+//	                                     exactly (layout in block.go)
+//
+// Up to v5 the samples were one row each in a table samples (series_id,
+// ts_ms, value); opening such a file read-write packs them into blocks
+// and drops the table, in one transaction (a failure leaves the v5 file
+// as it was). The pages the old table held stay in the file as free pages
+// that later writes reuse; "sqlite3 FILE VACUUM" returns them to the disk.
 //
 //	imports       one row per "dewline import" of a file (re-imports add rows)
 //	  id, file, sha256 (hex), rows_read, accepted, rejected, started_ms, finished_ms
@@ -102,12 +112,14 @@
 // Commit writes an air handler's hourly rows, alerts, events, rule states
 // and checkpoint in one transaction.
 //
-// Reading the file by hand, for example:
+// Reading the file by hand, for example (the samples themselves are read
+// with "dewline check --store" or through this package):
 //
 //	sqlite3 -readonly dewline.db "
-//	  SELECT s.name, datetime(x.ts_ms/1000, 'unixepoch') AS utc, x.value, s.unit_si
-//	  FROM samples x JOIN series s ON s.id = x.series_id
-//	  WHERE s.name = 'AHU-1 SAT' ORDER BY x.ts_ms LIMIT 10"
+//	  SELECT s.name, date(b.day_ms/1000, 'unixepoch') AS day, b.n,
+//	    datetime(b.first_ms/1000, 'unixepoch') AS first, datetime(b.last_ms/1000, 'unixepoch') AS last, s.unit_si
+//	  FROM sample_blocks b JOIN series s ON s.id = b.series_id
+//	  WHERE s.name = 'AHU-1 SAT' ORDER BY b.day_ms"
 //
 //	sqlite3 -readonly dewline.db "
 //	  SELECT ahu, datetime(hour_ms/1000, 'unixepoch'), json_extract(fields, '$.reheat_kwh')

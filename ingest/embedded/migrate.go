@@ -8,7 +8,7 @@ import (
 
 // SchemaVersion is the schema this binary writes and reads: the number of
 // steps in migrations. A file's version is its PRAGMA user_version.
-const SchemaVersion = 5
+const SchemaVersion = 6
 
 // applicationID marks the file as a dewline store in the SQLite header
 // (PRAGMA application_id, bytes 68-71; "dewl" in ASCII), so Open can tell a
@@ -20,6 +20,9 @@ const applicationID = 0x6465776c
 type migration struct {
 	name string // short, for error messages
 	sql  string // one or more statements, run in one transaction
+	// run, when set, runs after sql in the same transaction: for a step
+	// that moves data in a way SQL alone cannot (see packSamples).
+	run func(ctx context.Context, tx *sql.Tx) error
 }
 
 // migrations is the schema history, in order. To change the schema:
@@ -42,6 +45,7 @@ var migrations = []migration{
 	{name: "daily sums", sql: schemaV3},
 	{name: "one event per alert transition", sql: schemaV4},
 	{name: "site of the file", sql: schemaV5},
+	{name: "samples in day blocks", sql: schemaV6, run: packSamples},
 }
 
 // schemaV4 records each transition of an alert once: an alert (its id is
@@ -274,6 +278,12 @@ func migrateStep(ctx context.Context, db *sql.DB, steps []migration) (done bool,
 	step := steps[version]
 	if _, err := tx.ExecContext(ctx, step.sql); err != nil {
 		return false, fmt.Errorf("migrate v%d to v%d (%s): %w", version, version+1, step.name, err)
+	}
+	if step.run != nil {
+		if err := step.run(ctx, tx); err != nil {
+			return false, fmt.Errorf("migrate v%d to v%d (%s): %w; the file is left at v%d as it was",
+				version, version+1, step.name, err, version)
+		}
 	}
 	// PRAGMA takes no bound parameters; both values are integers formatted
 	// here, never outside text.

@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"strings"
 	"time"
 
 	"github.com/dewline/dewline/ingest"
@@ -25,30 +24,6 @@ type SeriesInfo struct {
 	Last       time.Time
 }
 
-// insertChunk is how many samples one INSERT statement carries. Multi-row
-// VALUES amortise the per-statement cost of database/sql and the driver,
-// which dominates single-row inserts; 256 rows bind 768 parameters, far
-// below SQLite's limit of 32766.
-const insertChunk = 256
-
-// upsertSamplesSQL returns the upsert for n samples. ON CONFLICT ... DO
-// UPDATE keeps the row and replaces its value, so a re-import never
-// duplicates; within one statement a later duplicate time wins.
-func upsertSamplesSQL(n int) string {
-	var b strings.Builder
-	b.WriteString("INSERT INTO samples (series_id, ts_ms, value) VALUES ")
-	for i := range n {
-		if i > 0 {
-			b.WriteByte(',')
-		}
-		b.WriteString("(?,?,?)")
-	}
-	b.WriteString(" ON CONFLICT (series_id, ts_ms) DO UPDATE SET value = excluded.value")
-	return b.String()
-}
-
-var upsertChunkSQL = upsertSamplesSQL(insertChunk)
-
 // WriteSamples stores samples under the series name, creating the series on
 // first use, in one transaction: either all samples are written or none.
 // A sample whose time is already stored has its value replaced, so
@@ -61,27 +36,61 @@ var upsertChunkSQL = upsertSamplesSQL(insertChunk)
 // refused with ErrUnitMismatch, so one series never mixes units.
 //
 // Every value must be finite: NaN or ±Inf is refused with ErrNotFinite,
-// naming the series and the time, before anything is written (SQLite would
-// store NaN as NULL, which the samples table does not allow).
+// naming the series and the time, before anything is written (a block
+// could hold them, but nothing downstream expects them).
 func (s *Store) WriteSamples(ctx context.Context, name string, kind, unitSI, sourceUnit string, samples []ingest.Sample) (written int, err error) {
-	what := "write samples for " + quote(name)
-	if name == "" {
-		return 0, fmt.Errorf("write samples: empty series name: %w", ErrInvalid)
+	return s.WriteBatch(ctx, []SeriesSamples{{Name: name, Kind: kind, UnitSI: unitSI, SourceUnit: sourceUnit, Samples: samples}})
+}
+
+// SeriesSamples is one series' share of a WriteBatch: its name, its
+// description as WriteSamples takes it, and its samples.
+type SeriesSamples struct {
+	Name, Kind, UnitSI, SourceUnit string
+	Samples                        []ingest.Sample
+}
+
+// WriteBatch is WriteSamples for several series in one transaction: either
+// every sample of every series is written or none. A series may appear
+// more than once; its later samples win at equal times. It returns the
+// number of samples written.
+func (s *Store) WriteBatch(ctx context.Context, batch []SeriesSamples) (written int, err error) {
+	what := "write samples"
+	if len(batch) == 1 {
+		what = "write samples for " + quote(batch[0].Name)
 	}
-	if err := checkFinite(samples); err != nil {
-		return 0, fmt.Errorf("%s: %w", what, err)
+	for _, ss := range batch {
+		if ss.Name == "" {
+			return 0, fmt.Errorf("%s: empty series name: %w", what, ErrInvalid)
+		}
+		if err := checkFinite(ss.Samples); err != nil {
+			return 0, fmt.Errorf("write samples for %s: %w", quote(ss.Name), err)
+		}
 	}
 	err = s.write(ctx, what, func(tx *sql.Tx) error {
-		id, err := upsertSeries(ctx, tx, name, kind, unitSI, sourceUnit, s.nowMs())
+		w, err := newBlockWriter(ctx, tx)
 		if err != nil {
 			return err
 		}
-		return insertSamples(ctx, tx, id, samples, insertChunk)
+		defer w.close()
+		for _, ss := range batch {
+			id, err := upsertSeries(ctx, tx, ss.Name, ss.Kind, ss.UnitSI, ss.SourceUnit, s.nowMs())
+			if err != nil {
+				if len(batch) > 1 {
+					return fmt.Errorf("series %s: %w", quote(ss.Name), err)
+				}
+				return err
+			}
+			if err := w.write(ctx, id, ss.Samples); err != nil {
+				return fmt.Errorf("series %s: %w", quote(ss.Name), err)
+			}
+			written += len(ss.Samples)
+		}
+		return nil
 	})
 	if err != nil {
 		return 0, err
 	}
-	return len(samples), nil
+	return written, nil
 }
 
 // checkFinite reports the first non-finite sample and how many there are.
@@ -143,51 +152,6 @@ func upsertSeries(ctx context.Context, tx *sql.Tx, name, kind, unitSI, sourceUni
 	return id, nil
 }
 
-// insertSamples upserts samples in chunks of chunk rows through one
-// prepared statement, and the remainder through a second. chunk is a
-// parameter only so the benchmark can time single-row statements.
-func insertSamples(ctx context.Context, tx *sql.Tx, seriesID int64, samples []ingest.Sample, chunk int) error {
-	args := make([]any, 0, 3*chunk)
-	exec := func(stmt *sql.Stmt, part []ingest.Sample) error {
-		args = args[:0]
-		for _, sm := range part {
-			args = append(args, seriesID, toMs(sm.Time), sm.Value)
-		}
-		if _, err := stmt.ExecContext(ctx, args...); err != nil {
-			return fmt.Errorf("insert samples from %s: %w", part[0].Time.UTC().Format(time.RFC3339Nano), err)
-		}
-		return nil
-	}
-	full := len(samples) / chunk * chunk
-	if full > 0 {
-		q := upsertChunkSQL
-		if chunk != insertChunk {
-			q = upsertSamplesSQL(chunk)
-		}
-		stmt, err := tx.PrepareContext(ctx, q)
-		if err != nil {
-			return fmt.Errorf("prepare insert: %w", err)
-		}
-		defer stmt.Close()
-		for i := 0; i < full; i += chunk {
-			if err := exec(stmt, samples[i:i+chunk]); err != nil {
-				return err
-			}
-		}
-	}
-	if rest := samples[full:]; len(rest) > 0 {
-		stmt, err := tx.PrepareContext(ctx, upsertSamplesSQL(len(rest)))
-		if err != nil {
-			return fmt.Errorf("prepare insert: %w", err)
-		}
-		defer stmt.Close()
-		if err := exec(stmt, rest); err != nil {
-			return err
-		}
-	}
-	return nil
-}
-
 // ReadSeries calls fn with the samples of ref's series (ref.Name()) whose
 // time t satisfies from <= t < to, in time order, streaming them from the
 // file: memory does not grow with the window. Times come back in UTC at
@@ -196,41 +160,86 @@ func insertSamples(ctx context.Context, tx *sql.Tx, seriesID int64, samples []in
 // a known series with nothing in the window calls fn zero times.
 func (s *Store) ReadSeries(ctx context.Context, ref metrics.PointRef, from, to time.Time, fn func(ingest.Sample) error) error {
 	name := ref.Name()
-	var id int64
-	err := s.db.QueryRowContext(ctx, "SELECT id FROM series WHERE name = ?", name).Scan(&id)
-	if errors.Is(err, sql.ErrNoRows) {
-		return unknownSeries(name)
-	}
+	lo, hi := ceilMs(from), ceilMs(to)
+	st, err := s.prepared(ctx, readBlocksSQL)
 	if err != nil {
 		return fmt.Errorf("read series %s: %w", quote(name), err)
 	}
-	rows, err := s.db.QueryContext(ctx,
-		"SELECT ts_ms, value FROM samples WHERE series_id = ? AND ts_ms >= ? AND ts_ms < ? ORDER BY ts_ms",
-		id, ceilMs(from), ceilMs(to))
+	rows, err := st.QueryContext(ctx, dayOf(lo), hi, lo, name)
 	if err != nil {
 		return fmt.Errorf("read series %s: %w", quote(name), err)
 	}
 	var (
-		ms int64
-		v  float64
+		known bool
+		day   sql.NullInt64
+		n     int
+		data  sql.RawBytes
 	)
 	for rows.Next() {
-		if err = rows.Scan(&ms, &v); err != nil {
+		known = true
+		if err = rows.Scan(&day, &n, &data); err != nil {
 			err = fmt.Errorf("read series %s: %w", quote(name), err)
 			break
 		}
-		if err = fn(ingest.Sample{Time: fromMs(ms), Value: v}); err != nil {
+		if !day.Valid || hi <= lo {
+			continue
+		}
+		if err = emitBlock(day.Int64, n, data, lo, hi, fn); err != nil {
+			if errors.Is(err, errCorruptBlock) {
+				err = fmt.Errorf("read series %s: day %s: %w", quote(name), fromMs(day.Int64).Format(time.DateOnly), err)
+			}
 			break
 		}
 	}
-	return readDone(rows, err, "read series "+quote(name))
+	if err != nil {
+		return rowsDone(rows, err)
+	}
+	if err = rowsDone(rows, nil); err != nil {
+		return fmt.Errorf("read series %s: %w", quote(name), err)
+	}
+	if !known {
+		return unknownSeries(name)
+	}
+	return nil
 }
+
+// emitBlock calls fn with the block's samples in [lo, hi).
+func emitBlock(day int64, n int, data []byte, lo, hi int64, fn func(ingest.Sample) error) error {
+	br, err := openBlock(day, n, data)
+	if err != nil {
+		return err
+	}
+	for br.more() {
+		p, err := br.next()
+		if err != nil {
+			return err
+		}
+		if p.ms >= hi {
+			return nil // the rest is later still
+		}
+		if p.ms < lo {
+			continue
+		}
+		if err := fn(ingest.Sample{Time: fromMs(p.ms), Value: p.v}); err != nil {
+			return err
+		}
+	}
+	return br.end()
+}
+
+// readBlocksSQL finds a series and its blocks that may hold samples of a
+// window [lo, hi): from the day of lo, ending at or after lo, starting
+// before hi. A series without such blocks is one row of NULLs, an unknown
+// series no row.
+const readBlocksSQL = `SELECT b.day_ms, coalesce(b.n, 0), b.data FROM series s
+	LEFT JOIN sample_blocks b ON b.series_id = s.id AND b.day_ms >= ?1 AND b.day_ms < ?2 AND b.last_ms >= ?3
+	WHERE s.name = ?4 ORDER BY b.day_ms`
 
 // SampleSpan returns the times of the first and the last stored sample of
 // ref's series; ok is false when it has none or was never imported.
 func (s *Store) SampleSpan(ctx context.Context, ref metrics.PointRef) (first, last time.Time, ok bool, err error) {
 	var lo, hi sql.NullInt64
-	err = s.db.QueryRowContext(ctx, `SELECT min(x.ts_ms), max(x.ts_ms) FROM series s JOIN samples x ON x.series_id = s.id
+	err = s.db.QueryRowContext(ctx, `SELECT min(b.first_ms), max(b.last_ms) FROM series s JOIN sample_blocks b ON b.series_id = s.id
 		WHERE s.name = ?`, ref.Name()).Scan(&lo, &hi)
 	if err != nil {
 		return time.Time{}, time.Time{}, false, fmt.Errorf("span of series %s: %w", quote(ref.Name()), err)
@@ -249,12 +258,11 @@ func unknownSeries(name string) error {
 // seriesInfoSQL aggregates per series; LEFT JOIN keeps series without
 // samples (count 0, NULL bounds).
 const seriesInfoSQL = `SELECT s.name, s.kind, s.unit_si, s.source_unit,
-	count(x.ts_ms), min(x.ts_ms), max(x.ts_ms)
-	FROM series s LEFT JOIN samples x ON x.series_id = s.id`
+	coalesce(sum(b.n), 0), min(b.first_ms), max(b.last_ms)
+	FROM series s LEFT JOIN sample_blocks b ON b.series_id = s.id`
 
 // SeriesInfo describes the named series; ErrUnknownSeries when it is not
-// stored. Count scans the series' samples, so it costs time in proportion
-// to their number (about a millisecond per 100k).
+// stored. It reads one row per stored day of the series, not its samples.
 func (s *Store) SeriesInfo(ctx context.Context, name string) (SeriesInfo, error) {
 	row := s.db.QueryRowContext(ctx, seriesInfoSQL+" WHERE s.name = ? GROUP BY s.id", name)
 	info, err := scanSeriesInfo(row)

@@ -52,11 +52,15 @@ func TestStore_WriteSamples(t *testing.T) {
 	}
 	assert.Equal(t, want, got)
 
-	// The stored integer is the Unix millisecond computed outside this code.
-	var ms int64
+	// The stored integers are Unix milliseconds computed outside this code:
+	// one block for the UTC day, with the first and last sample times.
+	var day, first, last, count int64
 	require.NoError(t, plainDB(t, path).QueryRow(
-		"SELECT ts_ms FROM samples ORDER BY ts_ms LIMIT 1 OFFSET 1").Scan(&ms))
-	assert.Equal(t, t0Ms+123, ms, "date -u -d 2024-07-01T14:00:00.123Z +%s%3N gives 1719842400123")
+		"SELECT day_ms, first_ms, last_ms, n FROM sample_blocks").Scan(&day, &first, &last, &count))
+	assert.Equal(t, int64(1719792000000), day, "date -u -d 2024-07-01T00:00:00Z +%s gives 1719792000")
+	assert.Equal(t, t0Ms, first)
+	assert.Equal(t, t0Ms+2*60000, last, "two minutes after t0")
+	assert.Equal(t, int64(4), count)
 
 	info, err := s.SeriesInfo(ctx, ref.Name())
 	require.NoError(t, err)
@@ -101,29 +105,79 @@ func TestStore_WriteSamples_Rewrite(t *testing.T) {
 	assert.Len(t, list, 1, "one series, not one per import")
 }
 
-func TestStore_WriteSamples_Chunks(t *testing.T) {
-	// Sizes around the statement chunk, so both statements and their seams
-	// are exercised.
-	for _, n := range []int{0, 1, insertChunk - 1, insertChunk, insertChunk + 1, 3*insertChunk + 7} {
+func TestStore_WriteSamples_Days(t *testing.T) {
+	// t0 is 14:00 UTC, so minute 600 starts the next UTC day: sizes around
+	// the day's end exercise one block, two blocks and their seam.
+	for _, n := range []int{0, 1, 599, 600, 601, 3*1440 + 7} {
 		t.Run("n="+strconv.Itoa(n), func(t *testing.T) {
 			ctx := testCtx(t)
-			s, _ := newStore(t)
+			s, path := newStore(t)
 			in := make([]ingest.Sample, n)
 			for i := range in {
-				in[i] = ingest.Sample{Time: t0.Add(time.Duration(i) * time.Second), Value: float64(i) / 4}
+				in[i] = ingest.Sample{Time: t0.Add(time.Duration(i) * time.Minute), Value: float64(i) / 4}
 			}
 			w, err := s.WriteSamples(ctx, "p", "", "", "", in)
 			require.NoError(t, err)
 			assert.Equal(t, n, w)
-			got := collect(t, s, metrics.PointRef{Point: "p"}, t0, t0.Add(24*time.Hour))
+			got := collect(t, s, metrics.PointRef{Point: "p"}, t0, t0.Add(5*24*time.Hour))
 			require.Len(t, got, n)
 			for i, sm := range got {
 				if !assert.Equal(t, in[i], sm, "sample %d", i) {
 					break
 				}
 			}
+			// One block per UTC day touched: the first 600 minutes are on
+			// t0's day, every 1440 after on one more.
+			days := 0
+			if n > 0 {
+				days = 1 + (n-600+1439)/1440
+			}
+			var blocks int
+			require.NoError(t, plainDB(t, path).QueryRow("SELECT count(*) FROM sample_blocks").Scan(&blocks))
+			assert.Equal(t, days, blocks)
 		})
 	}
+}
+
+// TestStore_WriteSamples_Merge writes into days that already hold samples:
+// the stored samples stay, new times are added, and a new value at a
+// stored time replaces it, in every day the write touches.
+func TestStore_WriteSamples_Merge(t *testing.T) {
+	ctx := testCtx(t)
+	s, _ := newStore(t)
+	ref := metrics.PointRef{Point: "p"}
+	// Every other minute from 20:00 to 04:00 the next day, value 1.
+	start := t0.Add(6 * time.Hour)
+	var first []ingest.Sample
+	for m := 0; m < 8*60; m += 2 {
+		first = append(first, ingest.Sample{Time: start.Add(time.Duration(m) * time.Minute), Value: 1})
+	}
+	_, err := s.WriteSamples(ctx, "p", "", "", "", first)
+	require.NoError(t, err)
+	// Every third minute over the same span, value 2, written backwards.
+	var second []ingest.Sample
+	for m := 8*60 - 3; m >= 0; m -= 3 {
+		second = append(second, ingest.Sample{Time: start.Add(time.Duration(m) * time.Minute), Value: 2})
+	}
+	_, err = s.WriteSamples(ctx, "p", "", "", "", second)
+	require.NoError(t, err)
+
+	got := collect(t, s, ref, start, start.Add(8*time.Hour))
+	var want []ingest.Sample
+	for m := 0; m < 8*60; m++ {
+		switch {
+		case m%3 == 0:
+			want = append(want, ingest.Sample{Time: start.Add(time.Duration(m) * time.Minute), Value: 2})
+		case m%2 == 0:
+			want = append(want, ingest.Sample{Time: start.Add(time.Duration(m) * time.Minute), Value: 1})
+		}
+	}
+	assert.Equal(t, want, got)
+	info, err := s.SeriesInfo(ctx, "p")
+	require.NoError(t, err)
+	assert.Equal(t, len(want), info.Count)
+	assert.Equal(t, start, info.First)
+	assert.Equal(t, start.Add(8*time.Hour-2*time.Minute), info.Last, "minute 478, the last even one")
 }
 
 func TestStore_WriteSamples_Refused(t *testing.T) {
@@ -315,8 +369,8 @@ func TestStore_RecordImport(t *testing.T) {
 	}
 }
 
-// TestStore_WriteSamples_Atomic fails one statement late in a batch that
-// spans several insert statements and checks that none of the batch stays.
+// TestStore_WriteSamples_Atomic fails the last of several day blocks of a
+// batch and checks that none of the batch stays.
 func TestStore_WriteSamples_Atomic(t *testing.T) {
 	ctx := testCtx(t)
 	s, path := newStore(t)
@@ -325,16 +379,63 @@ func TestStore_WriteSamples_Atomic(t *testing.T) {
 	_, err := s.WriteSamples(ctx, ref.Name(), "", "°C", "", old)
 	require.NoError(t, err)
 
-	in := make([]ingest.Sample, 3*insertChunk)
+	// Three days of minutes; the third day's block fails.
+	in := make([]ingest.Sample, 3*1440)
 	for i := range in {
-		in[i] = ingest.Sample{Time: t0.Add(time.Duration(i) * time.Second), Value: 2}
+		in[i] = ingest.Sample{Time: t0.Add(time.Duration(i) * time.Minute), Value: 2}
 	}
-	badMs := t0Ms + int64(len(in)-5)*1000 // in the last statement
-	_, err = plainDB(t, path).Exec(`CREATE TRIGGER inject BEFORE INSERT ON samples WHEN NEW.ts_ms = ` +
-		strconv.FormatInt(badMs, 10) + ` BEGIN SELECT RAISE(ABORT, 'injected sample failure'); END`)
+	badDay := int64(1719792000000) + 3*86400000 // t0's day (date -u -d 2024-07-01 +%s) plus three
+	_, err = plainDB(t, path).Exec(`CREATE TRIGGER inject BEFORE INSERT ON sample_blocks WHEN NEW.day_ms = ` +
+		strconv.FormatInt(badDay, 10) + ` BEGIN SELECT RAISE(ABORT, 'injected sample failure'); END`)
 	require.NoError(t, err)
 
 	_, err = s.WriteSamples(ctx, ref.Name(), "", "°C", "", in)
 	require.ErrorContains(t, err, "injected sample failure")
 	assert.Equal(t, old, collect(t, s, ref, t0, t0.Add(time.Hour)), "the batch is all or nothing")
+}
+
+// TestStore_ReadSeries_CorruptBlock: a block damaged outside dewline is an
+// error naming the series and the day, not wrong samples.
+func TestStore_ReadSeries_CorruptBlock(t *testing.T) {
+	ctx := testCtx(t)
+	s, path := newStore(t)
+	_, err := s.WriteSamples(ctx, "AHU-1 SAT", "", "°C", "", []ingest.Sample{{Time: t0, Value: 13}, {Time: t0.Add(time.Minute), Value: 14}})
+	require.NoError(t, err)
+	_, err = plainDB(t, path).Exec("UPDATE sample_blocks SET data = substr(data, 1, length(data) - 1)")
+	require.NoError(t, err)
+	err = s.ReadSeries(ctx, metrics.PointRef{Point: "AHU-1 SAT"}, t0, t0.Add(time.Hour), func(ingest.Sample) error { return nil })
+	require.ErrorIs(t, err, errCorruptBlock)
+	for _, m := range []string{`"AHU-1 SAT"`, "2024-07-01", "cut short"} {
+		assert.Contains(t, err.Error(), m)
+	}
+}
+
+// TestStore_WriteBatch writes several series in one transaction: a series
+// named twice keeps the later value at a shared time, and a batch with one
+// refused series writes none of its series.
+func TestStore_WriteBatch(t *testing.T) {
+	ctx := testCtx(t)
+	s, _ := newStore(t)
+	_, err := s.WriteSamples(ctx, "b", "", "Pa", "", []ingest.Sample{{Time: t0, Value: 100}})
+	require.NoError(t, err)
+
+	n, err := s.WriteBatch(ctx, []SeriesSamples{
+		{Name: "a", UnitSI: "°C", Samples: []ingest.Sample{{Time: t0, Value: 1}, {Time: t0.Add(time.Minute), Value: 2}}},
+		{Name: "b", UnitSI: "Pa", Samples: []ingest.Sample{{Time: t0.Add(time.Minute), Value: 101}}},
+		{Name: "a", Samples: []ingest.Sample{{Time: t0.Add(time.Minute), Value: 3}, {Time: t0.Add(2 * time.Minute), Value: 4}}},
+	})
+	require.NoError(t, err)
+	assert.Equal(t, 5, n)
+	assert.Equal(t, []ingest.Sample{{Time: t0, Value: 1}, {Time: t0.Add(time.Minute), Value: 3}, {Time: t0.Add(2 * time.Minute), Value: 4}},
+		collect(t, s, metrics.PointRef{Point: "a"}, t0, t0.Add(time.Hour)))
+	assert.Equal(t, []ingest.Sample{{Time: t0, Value: 100}, {Time: t0.Add(time.Minute), Value: 101}},
+		collect(t, s, metrics.PointRef{Point: "b"}, t0, t0.Add(time.Hour)))
+
+	_, err = s.WriteBatch(ctx, []SeriesSamples{
+		{Name: "a", UnitSI: "°C", Samples: []ingest.Sample{{Time: t0.Add(3 * time.Minute), Value: 5}}},
+		{Name: "b", UnitSI: "°C", Samples: []ingest.Sample{{Time: t0.Add(3 * time.Minute), Value: 6}}},
+	})
+	require.ErrorIs(t, err, ErrUnitMismatch)
+	assert.Contains(t, err.Error(), `series "b"`)
+	assert.Len(t, collect(t, s, metrics.PointRef{Point: "a"}, t0, t0.Add(time.Hour)), 3, "nothing of the refused batch, not even a")
 }

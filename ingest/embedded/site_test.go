@@ -20,9 +20,8 @@ func TestStore_OneSitePerFile(t *testing.T) {
 	// A v3 file with a sample in it, as an older dewline left it.
 	s, err := open(ctx, path, Options{}, migrations[:3])
 	require.NoError(t, err)
-	_, err = s.WriteSamples(ctx, "AHU-1 SAT", "", "°C", "", []ingest.Sample{{Time: t0, Value: 13}})
-	require.NoError(t, err)
 	require.NoError(t, s.Close())
+	writeRowSamples(t, path, "AHU-1 SAT", []ingest.Sample{{Time: t0, Value: 13}})
 	assert.Equal(t, 3, pragmaInt(t, plainDB(t, path), "user_version"))
 
 	s, err = Open(ctx, path, Options{Site: "north"})

@@ -60,6 +60,12 @@ type Store struct {
 	// in Go instead of meeting SQLite's lock and busy_timeout.
 	writeMu sync.Mutex
 
+	// stmts are prepared reads, kept for the store's life: preparing
+	// (parsing and planning the SQL) costs more than running a read of a
+	// day of samples.
+	stmtMu sync.Mutex
+	stmts  map[string]*sql.Stmt
+
 	closeOnce sync.Once
 	closeErr  error
 }
@@ -103,7 +109,7 @@ func open(ctx context.Context, path string, opt Options, steps []migration) (*St
 	s := &Store{db: db, path: path, abs: abs, readOnly: opt.ReadOnly, now: opt.Now, zone: opt.DayZone}
 	// A ping opens the first connection, which runs the DSN's PRAGMAs: a
 	// file that is not SQLite fails here.
-	err = db.PingContext(ctx)
+	err = pingBusy(ctx, db, opt.BusyTimeout)
 	if err == nil && opt.ReadOnly {
 		err = checkVersion(ctx, db, len(steps))
 	}
@@ -172,6 +178,37 @@ func dsn(abs string, opt Options, immutable bool) string {
 	return u.String() + "?" + q
 }
 
+// busyRetry is how long pingBusy waits between attempts.
+const busyRetry = 10 * time.Millisecond
+
+// pingBusy opens the first connection, trying again for up to timeout
+// while the file is busy. Switching a new file to WAL, as the first
+// connection does, needs a lock that SQLite does not wait for: with
+// another process creating the same file at that moment (two agents
+// starting at once) it fails with SQLITE_BUSY at once, whatever the busy
+// timeout. Attempts are counted, not timed, so the store reads no clock.
+func pingBusy(ctx context.Context, db *sql.DB, timeout time.Duration) error {
+	for left := int(timeout / busyRetry); ; left-- {
+		err := db.PingContext(ctx)
+		if err == nil || left <= 0 || !isBusy(err) {
+			return err
+		}
+		t := time.NewTimer(busyRetry)
+		select {
+		case <-ctx.Done():
+			t.Stop()
+			return err
+		case <-t.C:
+		}
+	}
+}
+
+// isBusy reports an SQLite error SQLITE_BUSY, with any extended code.
+func isBusy(err error) bool {
+	var se *sqlite.Error
+	return errors.As(err, &se) && se.Code()&0xff == 5
+}
+
 // cannotWriteBeside reports an SQLite error of a reader that could not
 // create the files beside a WAL database (SQLITE_READONLY or
 // SQLITE_CANTOPEN, with any extended code).
@@ -218,6 +255,12 @@ func (s *Store) Close() error {
 	first := false
 	s.closeOnce.Do(func() {
 		first = true
+		s.stmtMu.Lock()
+		for _, st := range s.stmts {
+			st.Close()
+		}
+		s.stmts = nil
+		s.stmtMu.Unlock()
 		if err := s.db.Close(); err != nil {
 			s.closeErr = fmt.Errorf("close store %s: %w", s.path, err)
 		}
@@ -226,6 +269,24 @@ func (s *Store) Close() error {
 		return nil
 	}
 	return s.closeErr
+}
+
+// prepared returns the statement for q, prepared on first use.
+func (s *Store) prepared(ctx context.Context, q string) (*sql.Stmt, error) {
+	s.stmtMu.Lock()
+	defer s.stmtMu.Unlock()
+	if st, ok := s.stmts[q]; ok {
+		return st, nil
+	}
+	st, err := s.db.PrepareContext(ctx, q)
+	if err != nil {
+		return nil, err
+	}
+	if s.stmts == nil {
+		s.stmts = map[string]*sql.Stmt{}
+	}
+	s.stmts[q] = st
+	return st, nil
 }
 
 // write runs fn in one write transaction: serialised within the process,

@@ -291,7 +291,7 @@ func TestStore_ReadOnly(t *testing.T) {
 	}
 
 	// Even past the Go-level check, the connection itself cannot write.
-	_, err = ro.db.ExecContext(ctx, "DELETE FROM samples")
+	_, err = ro.db.ExecContext(ctx, "DELETE FROM sample_blocks")
 	assert.Error(t, err)
 
 	// And with no writer left (its close removed the -wal and -shm files).
@@ -324,26 +324,27 @@ func TestStore_PlainSQL(t *testing.T) {
 
 	db := plainDB(t, path)
 	rows, err := db.Query(`
-	  SELECT s.name, datetime(x.ts_ms/1000, 'unixepoch') AS utc, x.value, s.unit_si
-	  FROM samples x JOIN series s ON s.id = x.series_id
-	  WHERE s.name = 'AHU-1 SAT' ORDER BY x.ts_ms LIMIT 10`)
+	  SELECT s.name, date(b.day_ms/1000, 'unixepoch') AS day, b.n,
+	    datetime(b.first_ms/1000, 'unixepoch') AS first, datetime(b.last_ms/1000, 'unixepoch') AS last, s.unit_si
+	  FROM sample_blocks b JOIN series s ON s.id = b.series_id
+	  WHERE s.name = 'AHU-1 SAT' ORDER BY b.day_ms`)
 	require.NoError(t, err)
 	type row struct {
-		name, utc string
-		value     float64
-		unit      string
+		name, day         string
+		n                 int
+		first, last, unit string
 	}
 	var got []row
 	for rows.Next() {
 		var r row
-		require.NoError(t, rows.Scan(&r.name, &r.utc, &r.value, &r.unit))
+		require.NoError(t, rows.Scan(&r.name, &r.day, &r.n, &r.first, &r.last, &r.unit))
 		got = append(got, r)
 	}
 	require.NoError(t, rows.Err())
-	// SQLite's own datetime() text for the two sample times.
+	// SQLite's own date() and datetime() text for the day and the two
+	// sample times.
 	assert.Equal(t, []row{
-		{"AHU-1 SAT", "2024-07-01 14:00:00", 12.5, "°C"},
-		{"AHU-1 SAT", "2024-07-01 14:01:00", 12.75, "°C"},
+		{"AHU-1 SAT", "2024-07-01", 2, "2024-07-01 14:00:00", "2024-07-01 14:01:00", "°C"},
 	}, got)
 
 	var (
@@ -422,4 +423,31 @@ func TestStore_CancelledContext(t *testing.T) {
 	assert.True(t, errors.Is(err, context.Canceled), "got %v", err)
 	_, err = s.SeriesInfo(testCtx(t), "AHU-1 SAT")
 	assert.ErrorIs(t, err, ErrUnknownSeries, "nothing was written")
+}
+
+// TestStore_OpenAtOnce: several processes (here, separate pools) creating
+// the same new file at the same moment all open it. The first connection
+// of each switches the file to WAL, which SQLite refuses at once, without
+// the busy timeout, while another holds the lock; Open tries again.
+func TestStore_OpenAtOnce(t *testing.T) {
+	for i := range 30 {
+		path := filepath.Join(t.TempDir(), "dewline.db")
+		var wg sync.WaitGroup
+		errs := make([]error, 3)
+		for k := range errs {
+			wg.Add(1)
+			go func() {
+				defer wg.Done()
+				s, err := Open(testCtx(t), path, Options{})
+				if err == nil {
+					err = s.Close()
+				}
+				errs[k] = err
+			}()
+		}
+		wg.Wait()
+		for k, err := range errs {
+			require.NoError(t, err, "round %d, opener %d", i, k)
+		}
+	}
 }

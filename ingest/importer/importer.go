@@ -9,7 +9,6 @@ import (
 	"io"
 	"math"
 	"os"
-	"sort"
 	"time"
 
 	"github.com/rs/zerolog"
@@ -20,8 +19,8 @@ import (
 	"github.com/dewline/dewline/ingest/store"
 )
 
-// batchSamples is how many samples of one series are written at a time.
-const batchSamples = 8192
+// readRecords is how many records one read of the export returns.
+const readRecords = 1024
 
 // DefaultMaxMiB bounds one import: 64 GiB, some fifty times a year of
 // one-minute readings of 500 points in a wide export.
@@ -69,8 +68,9 @@ func Index(cfg *config.Config) (ingest.PointIndex, error) {
 }
 
 // File reads one export and writes its configured points to the store, in
-// batches per series. What was written before an error stays written
-// (re-importing the file later upserts, never duplicates).
+// batches of whole lines, each written while the next is read. What was
+// written before an error stays written, and the error says up to which
+// line (re-importing the file later upserts, never duplicates).
 //
 // The file is read once: its SHA-256 (for the import log) is taken from
 // the bytes the parser reads, so a pipe or /dev/stdin works, and reading
@@ -100,75 +100,80 @@ func File(ctx context.Context, path string, o Options) (Stats, error) {
 	if err != nil {
 		return s, err
 	}
-	batches := map[string][]ingest.Sample{}
 	s.Units = ingest.NewRowUnits(ix)
-	flush := func(name string) error {
-		b := batches[name]
-		if len(b) == 0 {
-			return nil
-		}
-		t := ix[name][0]
-		if err := o.Store.WriteSamples(ctx, name, t, b); err != nil {
-			return fmt.Errorf("import %s: write %s: %w", path, name, err)
-		}
-		s.Written += len(b)
-		batches[name] = b[:0]
-		return nil
-	}
 	prog := o.Progress
 	if prog == nil {
 		prog = func(int, int) {}
 	}
-	for n := 0; ; n++ {
-		if n%65536 == 0 {
+	// Reading and converting here, writing on the pipeline's goroutine.
+	p := startPipeline(ctx, batchWriter(o.Store))
+	cur := <-p.free
+	stopped := func(err error) error {
+		written, line, werr := p.finish(nil)
+		s.Written = written
+		if werr != nil {
+			err = fmt.Errorf("import %s: %w", path, werr)
+		}
+		return storedSoFar(path, line, err)
+	}
+	series := newSlots(ix)
+	recs := make([]ingest.Record, readRecords)
+	line, pos := -1, 0
+	for reads := 0; ; reads++ {
+		if reads%64 == 0 {
 			if err := ctx.Err(); err != nil {
-				return s, err
+				return s, stopped(err)
 			}
 			if size > 0 {
 				prog(int(cr.n*1000/size), 1000)
 			}
 		}
-		rec, err := r.Next()
+		k, err := r.Read(recs)
 		if errors.Is(err, io.EOF) {
 			break
 		}
 		if err != nil {
-			return s, err
+			return s, stopped(err)
 		}
-		s.Records++
-		ts, ok := ix[rec.Series]
-		if !ok {
-			s.Unmatched.Add(rec.Series)
-			continue
-		}
-		ru, ok, err := s.Units.Check(rec)
-		if err != nil {
-			return s, err
-		}
-		if !ok {
-			continue // counted in s.Units
-		}
-		v := ru.ToSI(ts[0], rec.Value)
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			s.NotFinite++
-			continue
-		}
-		batches[rec.Series] = append(batches[rec.Series], ingest.Sample{Time: rec.Time, Value: v})
-		if len(batches[rec.Series]) >= batchSamples {
-			if err := flush(rec.Series); err != nil {
-				return s, err
+		for i := range recs[:k] {
+			rec := &recs[i]
+			if rec.Line != line {
+				line, pos = rec.Line, 0
+				// A batch holds whole lines, so that an error can say
+				// which lines are stored.
+				if cur.values >= batchValues {
+					cur = p.hand(cur)
+					if p.failed.Load() {
+						return s, stopped(nil)
+					}
+				}
 			}
+			sl := series.of(rec.Series, pos)
+			pos++
+			s.Records++
+			if sl.ts == nil {
+				s.Unmatched.Add(rec.Series)
+				continue
+			}
+			ru, ok, err := s.Units.CheckTargets(rec, sl.ts)
+			if err != nil {
+				return s, stopped(err)
+			}
+			if !ok {
+				continue // counted in s.Units
+			}
+			v := ru.ToSI(sl.ts[0], rec.Value)
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				s.NotFinite++
+				continue
+			}
+			cur.add(sl, rec.Line, ingest.Sample{Time: rec.Time, Value: v})
 		}
 	}
-	names := make([]string, 0, len(batches))
-	for n := range batches {
-		names = append(names, n)
-	}
-	sort.Strings(names)
-	for _, n := range names {
-		if err := flush(n); err != nil {
-			return s, err
-		}
+	written, line, err := p.finish(cur)
+	s.Written = written
+	if err != nil {
+		return s, storedSoFar(path, line, fmt.Errorf("import %s: %w", path, err))
 	}
 	if size > 0 {
 		prog(1000, 1000)
@@ -194,6 +199,15 @@ func File(ctx context.Context, path string, o Options) (Stats, error) {
 		return s, nothingWritten(s, o.ConfigPath)
 	}
 	return s, nil
+}
+
+// storedSoFar adds to an import's error what of the file is stored: every
+// value of the lines up to line (0: nothing).
+func storedSoFar(path string, line int, err error) error {
+	if line == 0 {
+		return fmt.Errorf("%w (nothing of %s was stored)", err, path)
+	}
+	return fmt.Errorf("%w (every value of %s up to line %d is stored; once it is fixed, import the file again: stored samples are replaced, never duplicated)", err, path, line)
 }
 
 // nothingWritten explains an import that stored no value, with the fix.

@@ -63,6 +63,20 @@ type ResultWriter interface {
 	PutResults(ctx context.Context, recs []metrics.Record, tr []metrics.Transition, open []metrics.Alert) error
 }
 
+// BatchSampleWriter is what a store may also offer: the samples of several
+// series written at once, all or nothing, which costs one transaction
+// instead of one per series ("dewline import" hands over batches this way).
+type BatchSampleWriter interface {
+	WriteSampleBatch(ctx context.Context, batch []SeriesSamples) error
+}
+
+// SeriesSamples is one series' share of a batch: WriteSamples' arguments.
+type SeriesSamples struct {
+	Series  string
+	Target  ingest.PointTarget
+	Samples []ingest.Sample
+}
+
 // ImportLogger is what a store may also offer: a log of the files imported.
 type ImportLogger interface {
 	RecordImport(ctx context.Context, l ImportLog) error
