@@ -11,7 +11,6 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
-	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/metrics"
 )
 
@@ -96,11 +95,7 @@ func recordText(r *metrics.Record) []any {
 // records equal those of the same hours never released (the reference run),
 // and the source refills a handful of hours for the whole period.
 func TestAnalyzer_ReleasesHours(t *testing.T) {
-	cfg, err := config.Load("../testdata/config/minimal.good.yaml")
-	require.NoError(t, err)
-	cfg.AirHandlers[0].Reheat.Kind = "electric"
-	cfg.AirHandlers = append(cfg.AirHandlers, cfg.AirHandlers[0])
-	cfg.AirHandlers[1].ID = "AHU-Y"
+	cfg := twoAirHandlers(t)
 	from := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
 	const hours = 500
 	run := func(src HourSource) ([][]any, []HourError) {

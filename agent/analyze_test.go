@@ -47,12 +47,20 @@ func (s *hourSource) Hours(ctx context.Context, ahus []string, from, to time.Tim
 
 var _ HourSource = (*hourSource)(nil)
 
-func TestAnalyzer_OrderAndAlerts(t *testing.T) {
+// twoAirHandlers is the minimal configuration with electric reheat and a
+// second air handler, AHU-Y, a copy of the first.
+func twoAirHandlers(t *testing.T) *config.Config {
+	t.Helper()
 	cfg, err := config.Load("../testdata/config/minimal.good.yaml")
 	require.NoError(t, err)
 	cfg.AirHandlers[0].Reheat.Kind = "electric"
 	cfg.AirHandlers = append(cfg.AirHandlers, cfg.AirHandlers[0])
 	cfg.AirHandlers[1].ID = "AHU-Y"
+	return cfg
+}
+
+func TestAnalyzer_OrderAndAlerts(t *testing.T) {
+	cfg := twoAirHandlers(t)
 	from := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
 	an := &Analyzer{Cfg: cfg, Source: &hourSource{hours: 30}}
 	seen := map[string][]time.Time{}

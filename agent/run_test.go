@@ -127,12 +127,7 @@ func (s *spanSource) Hours(ctx context.Context, ahus []string, from, to time.Tim
 
 func runnerConfig(t *testing.T) *config.Config {
 	t.Helper()
-	cfg, err := config.Load("../testdata/config/minimal.good.yaml")
-	require.NoError(t, err)
-	cfg.AirHandlers[0].Reheat.Kind = "electric"
-	b := cfg.AirHandlers[0]
-	b.ID = "AHU-Y"
-	cfg.AirHandlers = append(cfg.AirHandlers, b)
+	cfg := twoAirHandlers(t)
 	cfg.Schedule.Backfill = 48 * time.Hour
 	cfg.Schedule.Lookback = 3 * time.Hour
 	return cfg

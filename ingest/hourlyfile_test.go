@@ -18,20 +18,8 @@ func TestHourlyWriter(t *testing.T) {
 		{HourStart: t0, AHU: "AHU-1", Coverage: 1, WaterRemovedKg: 12.5, EffectiveEER: -1.5, RequiredLeavingC: math.NaN(), Flags: []string{"low_coverage", "flat:entering_rh"}},
 		{HourStart: t0.Add(3600e9), AHU: `AHU "2"`, Coverage: 0.5},
 	}
-	// write writes recs in format and returns the file.
-	write := func(t *testing.T, format string) *bytes.Buffer {
-		t.Helper()
-		var buf bytes.Buffer
-		w, err := NewHourlyWriter(&buf, format)
-		require.NoError(t, err)
-		for i := range recs {
-			require.NoError(t, w.Write(&recs[i]))
-		}
-		require.NoError(t, w.Close())
-		return &buf
-	}
 	t.Run("csv", func(t *testing.T) {
-		rows, err := csv.NewReader(write(t, "csv")).ReadAll()
+		rows, err := csv.NewReader(bytes.NewReader(writeHourly(t, "csv", recs))).ReadAll()
 		require.NoError(t, err)
 		require.Len(t, rows, 3)
 		col := map[string]int{}
@@ -49,7 +37,7 @@ func TestHourlyWriter(t *testing.T) {
 		assert.Equal(t, `AHU "2"`, rows[2][col["ahu"]])
 	})
 	t.Run("json", func(t *testing.T) {
-		buf := write(t, "json")
+		buf := bytes.NewBuffer(writeHourly(t, "json", recs))
 		var out []map[string]any
 		require.NoError(t, json.Unmarshal(buf.Bytes(), &out), buf.String())
 		require.Len(t, out, 2)

@@ -75,17 +75,7 @@ func BenchmarkEmbeddedYear(b *testing.B) {
 	from := time.Date(2025, 1, 1, 0, 0, 0, 0, time.UTC)
 	to := from.Add(benchMinutes * time.Minute)
 
-	var parseNs, parseCPU float64
-	b.Run("parse", func(b *testing.B) {
-		cpu0 := testkit.CPUTime()
-		for b.Loop() {
-			if n := parseExport(b, csvPath); n != 10*benchMinutes {
-				b.Fatalf("%d records", n)
-			}
-		}
-		parseNs = float64(b.Elapsed().Nanoseconds()) / float64(b.N)
-		parseCPU = float64(testkit.CPUTime()-cpu0) / float64(b.N)
-	})
+	parseNs, parseCPU := benchParse(b, csvPath, 0)
 	b.Run("import", func(b *testing.B) {
 		cpu0 := testkit.CPUTime()
 		alloc0 := allocated()
