@@ -77,6 +77,9 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 		chunk = 24 * time.Hour
 	}
 	from = from.UTC().Truncate(time.Hour)
+	// The aligners of this read take back its hours while it lasts; none is
+	// kept past it (a portfolio's run would hold every air handler's).
+	defer s.recycler.forgetAll()
 	if br, ok := s.Reader.(BatchReader); ok {
 		return s.hoursBatch(ctx, br, ahus, from, to, chunk, fn)
 	}
@@ -165,6 +168,7 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 				return err
 			}
 		}
+		s.recycler.forget(a)
 	}
 	return nil
 }

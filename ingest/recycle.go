@@ -25,6 +25,24 @@ func (r *hourRecycler) track(a *Aligner) {
 	r.mu.Unlock()
 }
 
+// forget stops taking back hours for a's air handler once a has aligned
+// its period, so a source reading many air handlers keeps no aligner alive
+// past its read (a later hour of it is left to the garbage collector).
+func (r *hourRecycler) forget(a *Aligner) {
+	r.mu.Lock()
+	if r.by[a.ahu] == a {
+		delete(r.by, a.ahu)
+	}
+	r.mu.Unlock()
+}
+
+// forgetAll forgets every aligner.
+func (r *hourRecycler) forgetAll() {
+	r.mu.Lock()
+	clear(r.by)
+	r.mu.Unlock()
+}
+
 // release hands h to its aligner; an hour of an air handler no longer
 // aligned is left to the garbage collector.
 func (r *hourRecycler) release(h *metrics.Hour) {

@@ -2,6 +2,8 @@ package ingest
 
 import (
 	"context"
+	"errors"
+	"fmt"
 	"math"
 	"testing"
 	"time"
@@ -184,4 +186,41 @@ func TestRecordHours_Release(t *testing.T) {
 		sameHour(t, want[i], got[i])
 	}
 	assert.Equal(t, 2, made, "one hour per air handler, filled again and again")
+}
+
+// A store read keeps its aligners only while it lasts: an agent reading a
+// portfolio group by group through one StoreHours would otherwise keep
+// every air handler's aligner (and its recycled hours) alive for the
+// whole run. Hours released during the read are still filled again.
+func TestStoreHours_ForgetsAlignersAfterTheRead(t *testing.T) {
+	for _, batch := range []bool{false, true} {
+		t.Run(fmt.Sprintf("batch=%v", batch), func(t *testing.T) {
+			var temp []Sample
+			for i := 0; i < 6*60; i++ {
+				temp = append(temp, Sample{t0.Add(time.Duration(i) * time.Minute), 15 + float64(i%40)/4})
+			}
+			r := &memReader{series: map[string][]Sample{"SAT": temp}}
+			u := AirHandlerPoints{Points: map[metrics.Role]metrics.PointRef{metrics.RoleSupplyTemp: {Point: "SAT", Unit: "C"}}}
+			sh := &StoreHours{Reader: r, AirHandlers: map[string]AirHandlerPoints{"A": u, "B": u}, Step: time.Minute,
+				IsMissing: func(err error) bool { return errors.Is(err, errNoSeries) }}
+			if batch {
+				sh.Reader = memBatchReader{r}
+			}
+			seen := map[*metrics.Hour]int{}
+			require.NoError(t, sh.Hours(context.Background(), []string{"A", "B"}, t0, t0.Add(6*time.Hour), func(h *metrics.Hour) error {
+				seen[h]++
+				sh.Release(h)
+				return nil
+			}))
+			n := 0
+			for _, c := range seen {
+				n += c
+			}
+			assert.Equal(t, 12, n, "six hours of each air handler")
+			assert.Less(t, len(seen), 12, "released hours are filled again during the read")
+			sh.recycler.mu.Lock()
+			defer sh.recycler.mu.Unlock()
+			assert.Empty(t, sh.recycler.by, "no aligner is kept past the read")
+		})
+	}
 }
