@@ -71,6 +71,10 @@ type Server struct {
 	served  chan struct{} // closed when Serve returns
 	started bool
 
+	connMu  sync.Mutex
+	unused  map[net.Conn]struct{} // connections that have not sent a byte of a request yet
+	closing bool                  // Shutdown has begun: a new connection is closed at once
+
 	fails *authFailures                                    // wrong tokens by client address
 	sleep func(ctx context.Context, d time.Duration) error // the delay of a wrong token's answer; replaced in tests
 }
@@ -179,7 +183,8 @@ func New(opt Options) (*Server, error) {
 			opt.Listen, ErrWeakToken, n, MinTokenLength)
 	}
 	s := &Server{opt: opt, log: opt.Log.With().Str("component", "http").Logger(),
-		fails: &authFailures{byIP: map[string]*failCount{}}, sleep: wait.Sleep}
+		fails: &authFailures{byIP: map[string]*failCount{}}, sleep: wait.Sleep,
+		unused: map[net.Conn]struct{}{}}
 	if opt.BearerToken != "" {
 		s.tokenH = sha256.Sum256([]byte(opt.BearerToken))
 	}
@@ -191,6 +196,7 @@ func New(opt Options) (*Server, error) {
 		IdleTimeout:       serverIdleTimeout,
 		MaxHeaderBytes:    serverMaxHeaderBytes,
 		ErrorLog:          log.New(serverErrorLog{s.log}, "", 0),
+		ConnState:         s.trackUnused,
 	}
 	return s, nil
 }
@@ -232,8 +238,40 @@ func (s *Server) Addr() string {
 	return s.ln.Addr().String()
 }
 
-// Shutdown stops accepting connections, waits for requests in flight until
-// ctx ends, and waits for the serving goroutine. It is a no-op before Start.
+// trackUnused keeps the connections that have not begun a request.
+// net/http's Shutdown counts such a connection as busy until it is five
+// seconds old, and browsers open them ahead of need (a page load leaves one
+// or two behind), so a shutdown right after a page load would wait out its
+// whole deadline for requests that never come.
+func (s *Server) trackUnused(c net.Conn, state http.ConnState) {
+	s.connMu.Lock()
+	defer s.connMu.Unlock()
+	if state != http.StateNew {
+		delete(s.unused, c)
+		return
+	}
+	if s.closing {
+		_ = c.Close()
+		return
+	}
+	s.unused[c] = struct{}{}
+}
+
+// dropUnused closes the connections that have not begun a request, and
+// every one accepted from now on.
+func (s *Server) dropUnused() {
+	s.connMu.Lock()
+	defer s.connMu.Unlock()
+	s.closing = true
+	for c := range s.unused {
+		_ = c.Close()
+		delete(s.unused, c)
+	}
+}
+
+// Shutdown stops accepting connections, closes the ones that have not begun
+// a request, waits for requests in flight until ctx ends, and waits for the
+// serving goroutine. It is a no-op before Start.
 func (s *Server) Shutdown(ctx context.Context) error {
 	s.mu.Lock()
 	started, served := s.started, s.served
@@ -241,6 +279,7 @@ func (s *Server) Shutdown(ctx context.Context) error {
 	if !started {
 		return nil
 	}
+	s.dropUnused()
 	err := s.srv.Shutdown(ctx)
 	if err != nil {
 		_ = s.srv.Close() // the deadline passed: drop the rest

@@ -323,6 +323,31 @@ func TestServer_Shutdown(t *testing.T) {
 	assert.True(t, errors.As(err, &opErr), "connection refused after shutdown: %v", err)
 }
 
+// TestServer_ShutdownDropsUnusedConnections: a connection that never sends
+// a request (browsers open them ahead of need) does not hold a shutdown:
+// net/http alone counts it busy until it is 5 s old, past this deadline.
+func TestServer_ShutdownDropsUnusedConnections(t *testing.T) {
+	s, err := New(Options{Listen: "127.0.0.1:0", Telemetry: telemetry.New(), Log: zerolog.Nop()})
+	require.NoError(t, err)
+	require.NoError(t, s.Start())
+	idle, err := net.Dial("tcp", s.Addr())
+	require.NoError(t, err)
+	defer idle.Close()
+	// The same server still finishes a request in flight when it has one:
+	// a served request proves the unused connection was accepted first.
+	resp, _ := get(t, http.MethodGet, "http://"+s.Addr()+"/healthz", "")
+	assert.Equal(t, http.StatusOK, resp.StatusCode)
+
+	ctx, cancel := context.WithTimeout(context.Background(), 3*time.Second)
+	defer cancel()
+	require.NoError(t, s.Shutdown(ctx), "an unused connection must not hold the shutdown to its deadline")
+	require.NoError(t, idle.SetReadDeadline(time.Now().Add(3*time.Second)))
+	_, err = idle.Read(make([]byte, 1))
+	assert.Error(t, err, "the unused connection is closed")
+	var ne net.Error
+	assert.False(t, errors.As(err, &ne) && ne.Timeout(), "closed by the server, not timed out: %v", err)
+}
+
 // TestServer_WrongTokensSlowDown: after five wrong tokens from one
 // address each further wrong answer is held longer (250 ms, doubling, at
 // most 5 s); a right token clears the count. The delays are read from the
