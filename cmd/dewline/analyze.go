@@ -5,10 +5,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
-	"maps"
-	"slices"
 	"strings"
-	"sync"
 	"time"
 
 	"github.com/rs/zerolog"
@@ -148,38 +145,27 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	if !from.IsZero() && !to.IsZero() {
 		an.Progress = prog.Update
 	}
-	// Results are written in batches of a day per air handler, so a store
-	// write is a few calls, not thousands, on a goroutine of their own, so
-	// writing overlaps with computing.
-	var results store.ResultWriter
+	// Results are written in batches of a day per air handler.
+	pipe := agent.ResultPipeOptions{FileName: *out, Size: 24 * len(ahus), Open: an.OpenAlerts}
+	if hw != nil {
+		pipe.File = hw
+	}
 	if st != nil && !*noStore {
-		results = st
+		pipe.Store = st
 	}
-	openAlerts := func() []metrics.Alert {
-		// The alerts still open carry their running totals.
-		var open []metrics.Alert
-		for _, ahu := range slices.Sorted(maps.Keys(an.Alerts)) {
-			for _, kind := range slices.Sorted(maps.Keys(an.Alerts[ahu])) {
-				if a := an.Alerts[ahu][kind]; a.Status == metrics.StatusOpen {
-					open = append(open, a)
-				}
-			}
-		}
-		return open
-	}
-	rw := newResultWriter(ctx, hw, *out, results, 24*len(ahus))
+	rw := agent.NewResultPipe(ctx, pipe)
 	hours := 0
 	start := time.Now()
 	put := func(ctx context.Context, rec *metrics.Record, tr []metrics.Transition) error {
 		hours++
-		return rw.add(rec, tr, openAlerts)
+		return rw.Add(rec, tr)
 	}
 	runFrom, runTo := from, to
 	sums, failed, runErr := an.Run(ctx, runFrom, runTo, ahus, put)
 	// Keep what was computed: the last batch is written even when
 	// interrupted.
 	flush := runErr == nil || errors.Is(runErr, context.Canceled)
-	if err := rw.close(flush, openAlerts); err != nil && runErr == nil {
+	if err := rw.Close(flush); err != nil && runErr == nil {
 		runErr = err
 	}
 	if hw != nil && runErr == nil {
@@ -211,120 +197,6 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	}
 	log.Info().Int("hours", hours).Dur("took_ms", time.Since(start)).Int("failed", len(failed)).Msg("analysis done")
 	return agent.WriteSummaries(e.stdout, cfg, ahus, sums)
-}
-
-// resultWriter writes analyze's hourly records to the --out file and the
-// store on a goroutine of its own, a batch at a time, so writing overlaps
-// with computing the next hours. A batch is written to the file first,
-// then to the store with the transitions of its hours and the alerts open
-// at its end. Once a write fails nothing more is written and add returns
-// the error. A batch handed over is written even when the analysis is
-// interrupted: what was computed is kept.
-type resultWriter struct {
-	hw    *ingest.HourlyWriter // nil: no --out
-	out   string
-	store store.ResultWriter // nil: results are not stored
-	ctx   context.Context
-	size  int
-
-	cur  resultBatch      // being filled by add
-	full chan resultBatch // handed to the goroutine
-	free chan resultBatch // written, to fill again
-	done chan struct{}
-
-	mu  sync.Mutex
-	err error // the first write that failed
-}
-
-// resultBatch is what one store write takes.
-type resultBatch struct {
-	recs []metrics.Record
-	trs  []metrics.Transition
-	open []metrics.Alert
-}
-
-// resultBatches is how many batches there are: one filled, one waiting,
-// one being written.
-const resultBatches = 3
-
-func newResultWriter(ctx context.Context, hw *ingest.HourlyWriter, out string, rw store.ResultWriter, size int) *resultWriter {
-	w := &resultWriter{hw: hw, out: out, store: rw, ctx: context.WithoutCancel(ctx), size: max(1, size),
-		full: make(chan resultBatch, 1), free: make(chan resultBatch, resultBatches), done: make(chan struct{})}
-	for range resultBatches - 1 {
-		w.free <- resultBatch{}
-	}
-	go func() {
-		defer close(w.done)
-		for b := range w.full {
-			if w.failed() == nil {
-				if err := w.write(&b); err != nil {
-					w.mu.Lock()
-					w.err = err
-					w.mu.Unlock()
-				}
-			}
-			w.free <- b
-		}
-	}()
-	return w
-}
-
-func (w *resultWriter) failed() error {
-	w.mu.Lock()
-	defer w.mu.Unlock()
-	return w.err
-}
-
-// add copies rec and its transitions tr into the batch; a full batch is
-// handed over with the alerts open (open is called on the caller's
-// goroutine, which owns the alert states).
-func (w *resultWriter) add(rec *metrics.Record, tr []metrics.Transition, open func() []metrics.Alert) error {
-	if err := w.failed(); err != nil {
-		return err
-	}
-	w.cur.recs = append(w.cur.recs, *rec)
-	w.cur.trs = append(w.cur.trs, tr...)
-	if len(w.cur.recs) >= w.size {
-		w.send(open)
-	}
-	return nil
-}
-
-func (w *resultWriter) send(open func() []metrics.Alert) {
-	if w.store != nil {
-		w.cur.open = open()
-	}
-	w.full <- w.cur
-	w.cur = <-w.free
-	w.cur.recs, w.cur.trs, w.cur.open = w.cur.recs[:0], w.cur.trs[:0], nil
-}
-
-// close hands over the last batch when flush is set (to the store even
-// when it is empty: the open alerts' totals are written), waits for the
-// writes and returns the first that failed.
-func (w *resultWriter) close(flush bool, open func() []metrics.Alert) error {
-	if flush && w.failed() == nil {
-		w.send(open)
-	}
-	close(w.full)
-	<-w.done
-	return w.failed()
-}
-
-func (w *resultWriter) write(b *resultBatch) error {
-	if w.hw != nil {
-		for i := range b.recs {
-			if err := w.hw.Write(&b.recs[i]); err != nil {
-				return fmt.Errorf("write %s: %w", w.out, err)
-			}
-		}
-	}
-	if w.store != nil {
-		if err := w.store.PutResults(w.ctx, b.recs, b.trs, b.open); err != nil {
-			return fmt.Errorf("write results and alerts: %w", err)
-		}
-	}
-	return nil
 }
 
 // reportInputs logs what the exports held that was not used.

@@ -1,4 +1,4 @@
-package main
+package agent
 
 import (
 	"bytes"
@@ -60,14 +60,16 @@ func writeRec(i int) metrics.Record {
 // with the transitions of its hours and the alerts open when it was full,
 // and a last batch (even an empty one) at close; the file gets every
 // record in order. The records are copies: the caller may reuse its own.
-func TestResultWriter_Batches(t *testing.T) {
+func TestResultPipe_Batches(t *testing.T) {
 	for _, n := range []int{7, 8} {
 		t.Run(fmt.Sprint(n), func(t *testing.T) {
 			var file bytes.Buffer
 			hw, err := ingest.NewHourlyWriter(&file, "csv")
 			require.NoError(t, err)
 			st := &putLog{}
-			w := newResultWriter(context.Background(), hw, "out.csv", st, 4)
+			open := ""
+			w := NewResultPipe(context.Background(), ResultPipeOptions{File: hw, FileName: "out.csv", Store: st, Size: 4,
+				Open: func() []metrics.Alert { return []metrics.Alert{{ID: open}} }})
 			var rec metrics.Record // one record filled again, as the Analyzer does
 			for i := 0; i < n; i++ {
 				rec = writeRec(i)
@@ -75,12 +77,11 @@ func TestResultWriter_Batches(t *testing.T) {
 				if i == 1 {
 					tr = []metrics.Transition{{Alert: metrics.Alert{ID: "a1"}}}
 				}
-				at := i
-				require.NoError(t, w.add(&rec, tr, func() []metrics.Alert {
-					return []metrics.Alert{{ID: fmt.Sprintf("open at %d", at)}}
-				}))
+				open = fmt.Sprintf("open at %d", i)
+				require.NoError(t, w.Add(&rec, tr))
 			}
-			require.NoError(t, w.close(true, func() []metrics.Alert { return []metrics.Alert{{ID: "open at end"}} }))
+			open = "open at end"
+			require.NoError(t, w.Close(true))
 			require.NoError(t, hw.Close())
 
 			want := [][]string{{"AHU-1 00", "AHU-1 01", "AHU-1 02", "AHU-1 03"}, {"AHU-1 04", "AHU-1 05", "AHU-1 06"}}
@@ -109,36 +110,34 @@ func TestResultWriter_Batches(t *testing.T) {
 
 // Once the store fails nothing more is written: add and close return the
 // error, and the batches after the failure never reach the store.
-func TestResultWriter_StoreFails(t *testing.T) {
+func TestResultPipe_StoreFails(t *testing.T) {
 	st := &putLog{failAt: 2}
-	w := newResultWriter(context.Background(), nil, "", st, 2)
-	none := func() []metrics.Alert { return nil }
+	w := NewResultPipe(context.Background(), ResultPipeOptions{Store: st, Size: 2})
 	var err error
 	i := 0
 	for ; i < 1000 && err == nil; i++ {
 		rec := writeRec(i)
-		err = w.add(&rec, nil, none)
+		err = w.Add(&rec, nil)
 	}
 	require.ErrorContains(t, err, "write results and alerts: disk full")
 	assert.Less(t, i, 1000, "add returns the failure")
-	require.ErrorContains(t, w.close(true, none), "disk full")
+	require.ErrorContains(t, w.Close(true), "disk full")
 	assert.Len(t, st.calls, 2, "nothing is written after the failure")
 }
 
 // A run that failed (flush false) does not write its last, partial batch;
 // an interrupted one does, although its context has ended.
-func TestResultWriter_Close(t *testing.T) {
-	none := func() []metrics.Alert { return nil }
+func TestResultPipe_Close(t *testing.T) {
 	for _, flush := range []bool{false, true} {
 		ctx, cancel := context.WithCancel(context.Background())
 		st := &putLog{}
-		w := newResultWriter(ctx, nil, "", st, 2)
+		w := NewResultPipe(ctx, ResultPipeOptions{Store: st, Size: 2})
 		for i := 0; i < 3; i++ {
 			rec := writeRec(i)
-			require.NoError(t, w.add(&rec, nil, none))
+			require.NoError(t, w.Add(&rec, nil))
 		}
 		cancel()
-		require.NoError(t, w.close(flush, none))
+		require.NoError(t, w.Close(flush))
 		if flush {
 			assert.Equal(t, [][]string{{"AHU-1 00", "AHU-1 01"}, {"AHU-1 02"}}, st.calls)
 		} else {
