@@ -14,7 +14,6 @@ import (
 	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/ingest"
-	"github.com/dewline/dewline/ingest/influx"
 	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
 
@@ -188,7 +187,7 @@ func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]
 	}
 	log.Info().Strs("ahus", owned).Str("shard", *shardS).Msg("air handlers owned")
 	if *dry {
-		runner.Store = &influx.DryRun{Inner: rs, W: e.stdout, Site: cfg.Site.ID}
+		runner.Store = dryRun(rs, e.stdout, cfg.Site.ID)
 		_, err := runner.RunOnce(ctx)
 		return err
 	}

@@ -4,6 +4,7 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"io"
 	"time"
 
 	"github.com/rs/zerolog"
@@ -56,6 +57,12 @@ func openStore(ctx context.Context, cfg *config.Config, readOnly bool, log zerol
 		}
 		return &stores{embedded.NewBackend(s, payload)}, nil
 	}
+}
+
+// dryRun wraps a result store so that a run prints what it would write, as
+// InfluxDB line protocol, and writes nothing.
+func dryRun(inner store.ResultStore, w io.Writer, site string) store.ResultStore {
+	return &influx.DryRun{Inner: inner, W: w, Site: site}
 }
 
 // Close closes the store.
