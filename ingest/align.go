@@ -416,7 +416,7 @@ func (c *consumer) consume(s tsample) {
 				c.q.OutOfRange++
 			}
 			if r.look != nil {
-				r.look.add(&c.tally, r.look.units[r.look.conf].FromSI(s.v))
+				r.look.addSI(&c.tally, s.v)
 			}
 		}
 	}

@@ -25,13 +25,14 @@ type PointCheck struct {
 	OutOfRange int
 	look       *unitLook // under which unit the values look typical
 	tally      unitTally
+	spec       metrics.RoleSpec // the first target's role
 }
 
 // NewPointCheck starts the check of the series name, used as ts.
 func NewPointCheck(name string, ts []PointTarget) *PointCheck {
 	spec, _ := metrics.LookupRole(string(ts[0].Role))
 	look := newUnitLook(spec, ts[0].Unit.Name)
-	return &PointCheck{Name: name, Targets: ts, intervals: map[int64]int{}, look: look, tally: look.tally()}
+	return &PointCheck{Name: name, Targets: ts, intervals: map[int64]int{}, look: look, tally: look.tally(), spec: spec}
 }
 
 // Add counts one raw value (in the unit the series is logged in).
@@ -49,9 +50,7 @@ func (p *PointCheck) Add(t time.Time, raw float64) {
 		}
 	}
 	p.prev = t
-	t0 := p.Targets[0]
-	spec, _ := metrics.LookupRole(string(t0.Role))
-	if v := t0.Unit.ToSI(raw); math.IsNaN(v) || math.IsInf(v, 0) || !spec.Plausible(v) {
+	if v := p.Targets[0].Unit.ToSI(raw); math.IsNaN(v) || math.IsInf(v, 0) || !p.spec.Plausible(v) {
 		p.OutOfRange++
 	}
 	p.look.add(&p.tally, raw)

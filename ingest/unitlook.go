@@ -1,6 +1,8 @@
 package ingest
 
 import (
+	"math"
+
 	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/psychro"
 )
@@ -11,11 +13,21 @@ import (
 // raw values, at most half are typical of the role (metrics.RoleSpec.Typical)
 // under the configured unit, and another unit of the kind makes 30 points
 // more of them typical (common practice, no source).
+//
+// The rule is applied to millions of values, so each unit's typical range
+// is turned once into the exact range of the values as they arrive (raw
+// in the logged unit, or SI converted from the configured unit), where the
+// check is two comparisons: see typicalRange.
 type unitLook struct {
 	spec  metrics.RoleSpec
 	units []psychro.Unit // every unit of the role's kind
 	conf  int            // index of the configured unit in units, -1 when not one of them
+	raw   []valueRange   // by unit: the raw values x with units[i].ToSI(x) typical
+	si    []valueRange   // by unit: the SI values v with units[i].ToSI(units[conf].FromSI(v)) typical
 }
+
+// valueRange is the closed range lo..hi; lo > hi holds no value.
+type valueRange struct{ lo, hi float64 }
 
 // unitTally counts raw values: n in all, typ[i] typical under units[i].
 type unitTally struct {
@@ -42,17 +54,91 @@ func newUnitLook(spec metrics.RoleSpec, conf string) *unitLook {
 		}
 		l.units = append(l.units, u)
 	}
+	for _, u := range l.units {
+		l.raw = append(l.raw, typicalRange(spec, u.ToSI))
+	}
+	if l.conf >= 0 {
+		c := l.units[l.conf]
+		for _, u := range l.units {
+			l.si = append(l.si, typicalRange(spec, func(v float64) float64 { return u.ToSI(c.FromSI(v)) }))
+		}
+	}
 	return l
+}
+
+// typicalRange returns the range of the finite values x for which
+// spec.Typical(f(x)) holds, f being a unit conversion: additions,
+// subtractions, and multiplications and divisions by positive constants,
+// each rounded to nearest, so f never decreases as x grows (each rounded
+// step keeps the order of its operands). The x that pass are therefore
+// one range, and its ends are found by bisection over the ordered
+// float64s: x passes exactly when it lies in the range, to the last bit
+// (TestUnitLook_RangesAreExact).
+func typicalRange(spec metrics.RoleSpec, f func(float64) float64) valueRange {
+	lo, hi := orderKey(-math.MaxFloat64), orderKey(math.MaxFloat64)
+	// first: the smallest key whose value converts to at least TypMin.
+	if !(f(fromOrderKey(hi)) >= spec.TypMin) {
+		return valueRange{math.Inf(1), math.Inf(-1)}
+	}
+	a, b := lo, hi
+	for a < b {
+		m := a + int64((uint64(b)-uint64(a))/2) // b-a may not fit an int64
+		if f(fromOrderKey(m)) >= spec.TypMin {
+			b = m
+		} else {
+			a = m + 1
+		}
+	}
+	first := a
+	// last: the largest key whose value converts to at most TypMax.
+	if !(f(fromOrderKey(lo)) <= spec.TypMax) {
+		return valueRange{math.Inf(1), math.Inf(-1)}
+	}
+	a, b = lo, hi
+	for a < b {
+		m := a + int64((uint64(b)-uint64(a)+1)/2)
+		if f(fromOrderKey(m)) <= spec.TypMax {
+			a = m
+		} else {
+			b = m - 1
+		}
+	}
+	return valueRange{fromOrderKey(first), fromOrderKey(a)}
+}
+
+// orderKey maps a float64 that is not NaN to an integer in the same order
+// (-0 and +0 to 0); fromOrderKey maps it back.
+func orderKey(x float64) int64 {
+	u := math.Float64bits(x)
+	if u>>63 == 1 {
+		return -int64(u &^ (1 << 63))
+	}
+	return int64(u)
+}
+
+func fromOrderKey(k int64) float64 {
+	if k < 0 {
+		return math.Float64frombits(uint64(-k) | 1<<63)
+	}
+	return math.Float64frombits(uint64(k))
 }
 
 func (l *unitLook) tally() unitTally { return unitTally{typ: make([]int, len(l.units))} }
 
 // add counts one raw value (in the unit the series is logged in).
-func (l *unitLook) add(t *unitTally, raw float64) {
+func (l *unitLook) add(t *unitTally, raw float64) { t.count(l.raw, raw) }
+
+// addSI counts one SI value converted from the configured unit, as the
+// raw value units[conf].FromSI(v) would count; the configured unit must be
+// one of the kind's (conf >= 0).
+func (l *unitLook) addSI(t *unitTally, v float64) { t.count(l.si, v) }
+
+func (t *unitTally) count(rs []valueRange, x float64) {
 	t.n++
-	for i, u := range l.units {
-		if l.spec.Typical(u.ToSI(raw)) {
-			t.typ[i]++
+	typ := t.typ[:len(rs)]
+	for i, r := range rs {
+		if x >= r.lo && x <= r.hi {
+			typ[i]++
 		}
 	}
 }

@@ -1,6 +1,8 @@
 package ingest
 
 import (
+	"math"
+	"math/rand/v2"
 	"testing"
 	"time"
 
@@ -106,4 +108,65 @@ func BenchmarkAligner_LookAtUnits(b *testing.B) {
 			}
 		})
 	}
+}
+
+// TestUnitLook_RangesAreExact: the precomputed ranges count a value as
+// typical exactly when the rule's own formula does, spec.Typical of the
+// value converted (from the logged unit, or from SI through the configured
+// unit), for every role, every pair of units of its kind, and values
+// spread over and beyond the typical range, its ends and their
+// neighbours to a few ulps among them.
+func TestUnitLook_RangesAreExact(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 11))
+	checked := 0
+	for _, spec := range metrics.Roles() {
+		for _, confName := range psychro.UnitNames(spec.Kind) {
+			l := newUnitLook(spec, confName)
+			require.GreaterOrEqual(t, l.conf, 0, "%s %s", spec.Role, confName)
+			conf := l.units[l.conf]
+			var xs []float64
+			for _, u := range l.units {
+				// The unit conversions must keep the order of values: the
+				// ranges rest on it.
+				require.Greater(t, u.ToSI(1), u.ToSI(0), "unit %s", u.Name)
+				for _, si := range []float64{spec.TypMin, spec.TypMax} {
+					for _, x := range []float64{u.FromSI(si), conf.FromSI(si), si} {
+						y := x
+						for k := 0; k < 4; k++ {
+							xs = append(xs, y, math.Nextafter(x, math.Inf(-1)))
+							y = math.Nextafter(y, math.Inf(1))
+							x = math.Nextafter(x, math.Inf(-1))
+						}
+					}
+				}
+			}
+			for _, r := range append(append([]valueRange(nil), l.raw...), l.si...) {
+				for _, x := range []float64{r.lo, r.hi} {
+					xs = append(xs, x, math.Nextafter(x, math.Inf(1)), math.Nextafter(x, math.Inf(-1)))
+				}
+			}
+			span := spec.TypMax - spec.TypMin
+			for k := 0; k < 2000; k++ {
+				si := spec.TypMin - span + 3*span*rng.Float64()
+				xs = append(xs, si, conf.FromSI(si))
+			}
+			xs = append(xs, 0, math.Copysign(0, -1), -1e300, 1e300, math.MaxFloat64, -math.MaxFloat64)
+			for _, x := range xs {
+				if math.IsInf(x, 0) || math.IsNaN(x) {
+					continue
+				}
+				got, gotSI := l.tally(), l.tally()
+				l.add(&got, x)
+				l.addSI(&gotSI, x)
+				for i, u := range l.units {
+					assert.Equal(t, spec.Typical(u.ToSI(x)), got.typ[i] == 1,
+						"%s logged in %s: raw %v (%x)", spec.Role, u.Name, x, math.Float64bits(x))
+					assert.Equal(t, spec.Typical(u.ToSI(conf.FromSI(x))), gotSI.typ[i] == 1,
+						"%s configured in %s, looked at in %s: SI %v (%x)", spec.Role, confName, u.Name, x, math.Float64bits(x))
+					checked++
+				}
+			}
+		}
+	}
+	t.Logf("%d values x units checked", checked)
 }
