@@ -73,6 +73,7 @@ type Aligner struct {
 	n       int
 	next    time.Time // start of the next hour to emit
 	base    time.Time // the first hour: times inside are nanoseconds from it
+	baseSec int64     // base.Unix(), for since
 	nextNs  int64     // next, from base
 	roles   []*roleStream
 	index   map[metrics.Role]int
@@ -145,7 +146,7 @@ func NewAligner(ahu string, from time.Time, step time.Duration, roles map[metric
 		return nil, fmt.Errorf("align %s: grid step %v does not divide an hour", ahu, step)
 	}
 	next := from.UTC().Truncate(time.Hour)
-	a := &Aligner{ahu: ahu, step: step, n: int(time.Hour / step), next: next, base: next, index: map[metrics.Role]int{}}
+	a := &Aligner{ahu: ahu, step: step, n: int(time.Hour / step), next: next, base: next, baseSec: next.Unix(), index: map[metrics.Role]int{}}
 	names := make([]string, 0, len(roles))
 	for r := range roles {
 		names = append(names, string(r))
@@ -241,8 +242,17 @@ func (a *Aligner) roleIndex(role metrics.Role) int {
 // push is Push for the stream at index i.
 func (a *Aligner) push(i int, t time.Time, v float64) { a.pushNs(i, a.since(t), v) }
 
-// since returns t in the aligner's nanoseconds.
-func (a *Aligner) since(t time.Time) int64 { return int64(t.Sub(a.base)) }
+// since returns t in the aligner's nanoseconds, t.Sub(base): from the
+// seconds and nanoseconds of the two within 136 years of each other (base
+// is a whole hour, without a monotonic clock reading, so Sub would take
+// the same wall times), else by Sub, which saturates
+// (TestAligner_SinceIsSub).
+func (a *Aligner) since(t time.Time) int64 {
+	if s := t.Unix() - a.baseSec; s > -1<<32 && s < 1<<32 {
+		return s*int64(time.Second) + int64(t.Nanosecond())
+	}
+	return int64(t.Sub(a.base))
+}
 
 // pushNs is push with the time already in the aligner's nanoseconds.
 func (a *Aligner) pushNs(i int, ns int64, v float64) {

@@ -2,6 +2,7 @@ package ingest
 
 import (
 	"math"
+	"math/rand/v2"
 	"testing"
 	"time"
 
@@ -220,5 +221,30 @@ func TestAlign_FlatWhateverTheInterval(t *testing.T) {
 			assert.Zero(t, q.FlatFor, "hour %d", i)
 		}
 		assert.False(t, q.Flat, "four samples an hour are too few for the one-hour rule")
+	}
+}
+
+// TestAligner_SinceIsSub: the aligner's own time difference is t.Sub of
+// its first hour, to the nanosecond, for times near it and far from it
+// (where Sub saturates), in other zones and with a monotonic reading.
+func TestAligner_SinceIsSub(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 5))
+	zone := time.FixedZone("UTC-5", -5*3600)
+	for _, from := range []time.Time{time.Date(2026, 7, 14, 9, 30, 0, 0, time.UTC), time.Date(1970, 1, 1, 0, 0, 0, 0, zone)} {
+		a, err := NewAligner("AHU-1", from, time.Minute, map[metrics.Role]time.Duration{metrics.RoleSupplyTemp: 0})
+		require.NoError(t, err)
+		ts := []time.Time{
+			time.Time{}, time.Date(1, 1, 1, 0, 0, 0, 1, time.UTC), time.Date(9999, 12, 31, 23, 59, 59, 999999999, zone),
+			a.base.Add(-1), a.base, a.base.Add(1), a.base.Add(136 * 365 * 24 * time.Hour), a.base.Add(-136 * 365 * 24 * time.Hour),
+			time.Unix(a.baseSec+1<<32, 5), time.Unix(a.baseSec-1<<32, 5), time.Unix(a.baseSec+1<<32-1, 999999999), time.Unix(a.baseSec-1<<32+1, 0),
+			time.Now(),
+		}
+		for k := 0; k < 10000; k++ {
+			ts = append(ts, time.Unix(a.baseSec+rng.Int64N(2<<33)-1<<33, rng.Int64N(1e9)).In(zone))
+			ts = append(ts, a.base.Add(time.Duration(rng.Int64N(int64(400*24*time.Hour)))-200*24*time.Hour))
+		}
+		for _, tm := range ts {
+			require.Equal(t, int64(tm.Sub(a.base)), a.since(tm), "%v from %v", tm, a.base)
+		}
 	}
 }

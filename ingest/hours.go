@@ -135,10 +135,12 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 				if missing[ref.Name()] {
 					continue
 				}
-				n := 0
+				n, idx := 0, a.roleIndex(role)
 				err := s.Reader.ReadSeries(ctx, ref, spec.Kind, rs, ce, func(smp Sample) error {
 					n++
-					a.Push(role, smp)
+					if idx >= 0 {
+						a.push(idx, smp.Time, smp.Value)
+					}
 					return nil
 				})
 				s.Read += n
@@ -178,8 +180,8 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 // BatchReader reports a point without data by passing no samples.
 func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []string, from, to time.Time, chunk time.Duration, fn func(*metrics.Hour) error) error {
 	type owner struct {
-		ahu  int
-		role metrics.Role
+		ahu int
+		idx int // the role's index in the aligner (Aligner.roleIndex)
 	}
 	var (
 		aligners = make([]*Aligner, len(ahus))
@@ -211,7 +213,7 @@ func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []stri
 		for _, r := range roles {
 			spec, _ := metrics.LookupRole(r)
 			points = append(points, PointRead{Ref: u.Points[metrics.Role(r)], Kind: spec.Kind})
-			owners = append(owners, owner{k, metrics.Role(r)})
+			owners = append(owners, owner{k, a.roleIndex(metrics.Role(r))})
 		}
 	}
 	what := fmt.Sprintf("%d air handlers", len(ahus))
@@ -236,7 +238,9 @@ func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []stri
 				return nil
 			}
 			n++
-			aligners[o.ahu].Push(o.role, smp)
+			if o.idx >= 0 {
+				aligners[o.ahu].push(o.idx, smp.Time, smp.Value)
+			}
 			return nil
 		})
 		s.Read += n
