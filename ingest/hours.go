@@ -98,14 +98,7 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 			return err
 		}
 		s.recycler.track(a)
-		// The store holds SI converted from the configured units: the
-		// aligner judges, as "dewline check --store" does, whether the
-		// values look logged in another unit.
-		units := make(map[metrics.Role]string, len(u.Points))
-		for r, ref := range u.Points {
-			units[r] = ref.Unit
-		}
-		a.LookAtUnits(units)
+		lookAtConfiguredUnits(a, u)
 		roles := make([]string, 0, len(u.Points))
 		for r := range u.Points {
 			roles = append(roles, string(r))
@@ -175,6 +168,17 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 	return nil
 }
 
+// lookAtConfiguredUnits has a judge, as "dewline check --store" does,
+// whether the values look logged in another unit than configured: the
+// store holds SI converted from the configured units.
+func lookAtConfiguredUnits(a *Aligner, u AirHandlerPoints) {
+	units := make(map[metrics.Role]string, len(u.Points))
+	for r, ref := range u.Points {
+		units[r] = ref.Unit
+	}
+	a.LookAtUnits(units)
+}
+
 // hoursBatch is Hours over a BatchReader: one read per chunk for all of
 // ahus. Missing points (IsMissing) cannot be told apart in a batch; a
 // BatchReader reports a point without data by passing no samples.
@@ -209,6 +213,7 @@ func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []stri
 		}
 		aligners[k] = a
 		s.recycler.track(a)
+		lookAtConfiguredUnits(a, u)
 		sort.Strings(roles)
 		for _, r := range roles {
 			spec, _ := metrics.LookupRole(r)

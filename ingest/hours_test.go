@@ -172,3 +172,46 @@ func testFlatAcrossMidnight(t *testing.T, batch bool) {
 		}
 	}
 }
+
+// TestStoreHours_LooksAtUnits: a supply configured in °F whose stored
+// values were logged in °C (imported as if °F) is named in every hour's
+// quality, by the point-by-point read (the embedded store) and by the
+// batch read (InfluxDB) alike, and a supply logged in °F is not.
+func TestStoreHours_LooksAtUnits(t *testing.T) {
+	f, err := psychro.LookupUnit(psychro.KindTemperature, "F")
+	require.NoError(t, err)
+	day0 := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
+	for _, batch := range []bool{false, true} {
+		for _, loggedC := range []bool{false, true} {
+			t.Run(fmt.Sprintf("batch=%v,logged_in_C=%v", batch, loggedC), func(t *testing.T) {
+				var sat []Sample
+				for i := 0; i < 6*60; i++ {
+					c := 13 + 4*float64(i%10)/10 // a supply of 13-17 °C
+					raw := psychro.CToF(c)
+					if loggedC {
+						raw = c
+					}
+					sat = append(sat, Sample{day0.Add(time.Duration(i) * time.Minute), f.ToSI(raw)})
+				}
+				r := &memReader{series: map[string][]Sample{"SAT": sat}}
+				u := AirHandlerPoints{Points: map[metrics.Role]metrics.PointRef{metrics.RoleSupplyTemp: {Point: "SAT", Unit: "F"}}}
+				sh := &StoreHours{Reader: r, AirHandlers: map[string]AirHandlerPoints{"A": u}, Step: time.Minute,
+					IsMissing: func(err error) bool { return errors.Is(err, errNoSeries) }}
+				if batch {
+					sh.Reader = memBatchReader{r}
+				}
+				want := ""
+				if loggedC {
+					want = "°C"
+				}
+				n := 0
+				require.NoError(t, sh.Hours(context.Background(), []string{"A"}, day0, day0.Add(6*time.Hour), func(h *metrics.Hour) error {
+					assert.Equal(t, want, h.Quality[metrics.RoleSupplyTemp].OtherUnit, "hour %d", n)
+					n++
+					return nil
+				}))
+				assert.Equal(t, 6, n)
+			})
+		}
+	}
+}

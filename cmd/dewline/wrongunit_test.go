@@ -17,6 +17,7 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/dashboards"
+	"github.com/dewline/dewline/deploy/testkit"
 	"github.com/dewline/dewline/metrics"
 )
 
@@ -26,9 +27,41 @@ import (
 // "run --once" flags every hour wrong_unit:supply_temp, the rule check
 // applies, opens sensor_implausible naming the point and its unit, and the
 // dashboard's page of the air handler shows the alert rather than none.
+//
+// Both stores: the embedded file reads point by point, InfluxDB (the
+// real test server) in batches, and both paths judge the units.
 func TestRun_SupplyLoggedInCelsiusConfiguredAsF(t *testing.T) {
-	dir := t.TempDir()
-	cfg := site{ahus: []string{"AHU-1"}, schedule: "{backfill: 24h}"}.write(t, dir, "site.yaml")
+	t.Run("embedded", func(t *testing.T) {
+		dir := t.TempDir()
+		cfg := site{ahus: []string{"AHU-1"}, schedule: "{backfill: 24h}"}.write(t, dir, "site.yaml")
+		testWrongUnitRun(t, dir, cfg, func() []string {
+			var flags []string
+			for _, h := range storedHours(t, filepath.Join(dir, "dewline.db")) {
+				flags = append(flags, h.Flags)
+			}
+			return flags
+		})
+	})
+	t.Run("influxdb", func(t *testing.T) {
+		url, _ := testkit.InfluxDB(t)
+		db := freshDB(t, url, "dewline_unit")
+		dir := t.TempDir()
+		cfg := site{store: influxStore(url, db, "5s"), meas: "annex_trend", ahus: []string{"AHU-1"}, schedule: "{backfill: 24h}"}.write(t, dir, "site.yaml")
+		testWrongUnitRun(t, dir, cfg, func() []string {
+			var flags []string
+			for _, h := range influxHourly(t, url, db, "AHU-1") {
+				f, _ := h["flags"].(string)
+				flags = append(flags, f)
+			}
+			return flags
+		})
+	})
+}
+
+// testWrongUnitRun imports a day with the supply logged in °C into the
+// store of cfg and runs the agent over it; flags returns the flags of each
+// stored hour.
+func testWrongUnitRun(t *testing.T, dir, cfg string, flags func() []string) {
 	asOf := time.Date(2026, 7, 20, 12, 30, 0, 0, time.UTC)
 	from := asOf.Truncate(time.Hour).Add(-24 * time.Hour)
 	data := filepath.Join(dir, "trends.csv")
@@ -45,10 +78,10 @@ func TestRun_SupplyLoggedInCelsiusConfiguredAsF(t *testing.T) {
 	code, stdout, errOut := runCLI(t, "--log-level", "warn", "run", "--config", cfg, "--once", "--as-of", asOf.Format(time.RFC3339))
 	require.Equal(t, 0, code, errOut)
 	assert.Contains(t, stdout, "AHU-1: 24 hours")
-	hours := storedHours(t, filepath.Join(dir, "dewline.db"))
+	hours := flags()
 	require.Len(t, hours, 24)
-	for _, h := range hours {
-		assert.Contains(t, h.Flags, metrics.FlagWrongUnit+"supply_temp", "hour %d", h.HourMs)
+	for i, f := range hours {
+		assert.Contains(t, f, metrics.FlagWrongUnit+"supply_temp", "hour %d", i)
 	}
 
 	loaded, err := loadConfig(cfg)
