@@ -2,6 +2,7 @@ package ingest
 
 import (
 	"math"
+	"sync"
 
 	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/psychro"
@@ -41,8 +42,29 @@ const (
 	unitLookMargin     = 0.3 // and another fits this much more
 )
 
-// newUnitLook prepares the look at a role's values configured in conf.
+// unitLooks keeps the looks made, by role and configured unit: a look is
+// never changed once made (tallies are the caller's), and its ranges take
+// a few thousand conversions to find, once per role and unit rather than
+// once per air handler and run.
+var unitLooks sync.Map // unitLookKey -> *unitLook
+
+type unitLookKey struct {
+	spec metrics.RoleSpec
+	conf string
+}
+
+// newUnitLook returns the look at a role's values configured in conf.
 func newUnitLook(spec metrics.RoleSpec, conf string) *unitLook {
+	k := unitLookKey{spec, conf}
+	if l, ok := unitLooks.Load(k); ok {
+		return l.(*unitLook)
+	}
+	l, _ := unitLooks.LoadOrStore(k, makeUnitLook(spec, conf))
+	return l.(*unitLook)
+}
+
+// makeUnitLook prepares the look at a role's values configured in conf.
+func makeUnitLook(spec metrics.RoleSpec, conf string) *unitLook {
 	l := &unitLook{spec: spec, conf: -1}
 	for _, name := range psychro.UnitNames(spec.Kind) {
 		u, err := psychro.LookupUnit(spec.Kind, name)
