@@ -3,7 +3,9 @@ package ingest
 import (
 	"context"
 	"fmt"
+	"slices"
 	"sort"
+	"strings"
 	"time"
 
 	"github.com/dewline/dewline/metrics"
@@ -33,6 +35,12 @@ type BatchReader interface {
 	ReadBatch(ctx context.Context, points []PointRead, from, to time.Time, fn func(i int, s Sample) error) error
 }
 
+// PointChecker looks a point up: an error that StoreHours.IsMissing
+// accepts says it matches nothing in the store (ingest/store.PointChecker).
+type PointChecker interface {
+	CheckPoint(ctx context.Context, ref metrics.PointRef, from, to time.Time) error
+}
+
 // AirHandlerPoints is what alignment needs to know about an air handler.
 type AirHandlerPoints struct {
 	Points map[metrics.Role]metrics.PointRef
@@ -57,6 +65,17 @@ type StoreHours struct {
 	// OnMissing, when set, is called the first time a point is found
 	// missing, so a long-running agent can report it.
 	OnMissing func(ahu string, role metrics.Role, point string)
+	// CheckFirst, with a BatchReader that is also a PointChecker, looks
+	// each point up once before the first batch, so that one matching
+	// nothing is listed in Missing and left out, as on the point-by-point
+	// path (a batch cannot tell it from a quiet point). For a one-off
+	// analysis; the agent looks its points up once at start instead
+	// (agent.CheckPoints), not at every run.
+	CheckFirst bool
+	// ByHour has the batch path yield each hour of all the air handlers
+	// (by id) before the next hour, as ingest.RecordHours does, rather than each air handler's hours of a chunk together (which
+	// the agent commits at once).
+	ByHour bool
 	// Read counts the samples read; OnRead, when set, receives the count of
 	// each read.
 	Read   int
@@ -126,6 +145,7 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 				ref := u.Points[role]
 				spec, _ := metrics.LookupRole(r)
 				if missing[ref.Name()] {
+					s.missingPoint(ahu, role, ref.Name()) // found missing for another air handler
 					continue
 				}
 				n, idx := 0, a.roleIndex(role)
@@ -143,17 +163,7 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 				if err != nil {
 					if s.IsMissing != nil && s.IsMissing(err) {
 						missing[ref.Name()] = true
-						key := fmt.Sprintf("%s %s (%s)", ahu, r, ref.Name())
-						if s.seen == nil {
-							s.seen = map[string]bool{}
-						}
-						if !s.seen[key] {
-							s.seen[key] = true
-							s.Missing = append(s.Missing, key)
-							if s.OnMissing != nil {
-								s.OnMissing(ahu, role, ref.Name())
-							}
-						}
+						s.missingPoint(ahu, role, ref.Name())
 						continue
 					}
 					return fmt.Errorf("read %s %s: %w", ahu, r, err)
@@ -166,6 +176,21 @@ func (s *StoreHours) Hours(ctx context.Context, ahus []string, from, to time.Tim
 		s.recycler.forget(a)
 	}
 	return nil
+}
+
+// missingPoint lists a point found missing, once per air handler and role.
+func (s *StoreHours) missingPoint(ahu string, role metrics.Role, point string) {
+	key := fmt.Sprintf("%s %s (%s)", ahu, role, point)
+	if s.seen == nil {
+		s.seen = map[string]bool{}
+	}
+	if !s.seen[key] {
+		s.seen[key] = true
+		s.Missing = append(s.Missing, key)
+		if s.OnMissing != nil {
+			s.OnMissing(ahu, role, point)
+		}
+	}
 }
 
 // lookAtConfiguredUnits has a judge, as "dewline check --store" does,
@@ -193,7 +218,12 @@ func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []stri
 		points   []PointRead
 		owners   []owner
 		maxLead  time.Duration
+		check    PointChecker
+		checked  = map[string]error{} // by point name: what CheckPoint said
 	)
+	if s.CheckFirst && s.IsMissing != nil {
+		check, _ = br.(PointChecker)
+	}
 	for k, ahu := range ahus {
 		u, ok := s.AirHandlers[ahu]
 		if !ok {
@@ -217,10 +247,26 @@ func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []stri
 		sort.Strings(roles)
 		for _, r := range roles {
 			spec, _ := metrics.LookupRole(r)
-			points = append(points, PointRead{Ref: u.Points[metrics.Role(r)], Kind: spec.Kind})
+			ref := u.Points[metrics.Role(r)]
+			if check != nil {
+				err, done := checked[ref.Name()]
+				if !done {
+					err = check.CheckPoint(ctx, ref, from.Add(-leads[k]), to)
+					checked[ref.Name()] = err
+				}
+				if err != nil {
+					if !s.IsMissing(err) {
+						return fmt.Errorf("read %s %s: %w", ahu, r, err)
+					}
+					s.missingPoint(ahu, metrics.Role(r), ref.Name())
+					continue // as on the point-by-point path: no samples, no coverage
+				}
+			}
+			points = append(points, PointRead{Ref: ref, Kind: spec.Kind})
 			owners = append(owners, owner{k, a.roleIndex(metrics.Role(r))})
 		}
 	}
+	byID := slices.SortedFunc(slices.Values(aligners), func(a, b *Aligner) int { return strings.Compare(a.ahu, b.ahu) })
 	what := fmt.Sprintf("%d air handlers", len(ahus))
 	if len(ahus) == 1 {
 		what = ahus[0]
@@ -256,6 +302,18 @@ func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []stri
 			return fmt.Errorf("read %s: %w", what, err)
 		}
 		until := emitUntil(ce, to)
+		if s.ByHour && len(aligners) > 0 {
+			// Hour by hour across the air handlers, as the CSV path yields
+			// them; the aligners all start at the hour of from.
+			for h := aligners[0].next.Add(time.Hour); !h.After(until); h = h.Add(time.Hour) {
+				for _, a := range byID {
+					if err := a.Emit(h, fn); err != nil {
+						return err
+					}
+				}
+			}
+			continue
+		}
 		for _, a := range aligners {
 			if err := a.Emit(until, fn); err != nil {
 				return err

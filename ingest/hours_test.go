@@ -5,6 +5,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"sort"
+	"strings"
 	"testing"
 	"time"
 
@@ -214,4 +216,121 @@ func TestStoreHours_LooksAtUnits(t *testing.T) {
 			})
 		}
 	}
+}
+
+// memCheckedReader is memBatchReader that also looks points up, as the
+// InfluxDB backend does: a point with no series matches nothing.
+type memCheckedReader struct {
+	memBatchReader
+	checks int
+}
+
+func (m *memCheckedReader) CheckPoint(_ context.Context, ref metrics.PointRef, _, _ time.Time) error {
+	m.checks++
+	if _, ok := m.series[ref.Name()]; !ok {
+		return errNoSeries
+	}
+	return nil
+}
+
+// TestStoreHours_BatchChecksPointsFirst: with CheckFirst, the batch path
+// looks each point up once (a point two air handlers share, once), lists
+// one that matches nothing in Missing and through OnMissing as the
+// point-by-point path does, and gives the same hours; without it the
+// batch path looks nothing up and lists nothing.
+func TestStoreHours_BatchChecksPointsFirst(t *testing.T) {
+	day0 := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
+	var sat, oat []Sample
+	for i := 0; i < 3*60; i++ {
+		at := day0.Add(time.Duration(i) * time.Minute)
+		sat = append(sat, Sample{at, 14 + float64(i%9)/10})
+		oat = append(oat, Sample{at, 30 + float64(i%5)/10})
+	}
+	series := map[string][]Sample{"A SAT": sat, "B SAT": sat, "OAT": oat}
+	ahu := func(sat string) AirHandlerPoints {
+		return AirHandlerPoints{Points: map[metrics.Role]metrics.PointRef{
+			metrics.RoleSupplyTemp:  {Point: sat, Unit: "C"},
+			metrics.RoleOutdoorTemp: {Point: "OAT", Unit: "C"},
+			metrics.RoleEnteringRH:  {Point: "MA RH", Unit: "%"}, // not in the store
+		}}
+	}
+	points := map[string]AirHandlerPoints{"A": ahu("A SAT"), "B": ahu("B SAT")}
+	type result struct {
+		hours   []string
+		missing []string
+		told    []string
+	}
+	read := func(reader SeriesReader, checkFirst bool) result {
+		var r result
+		sh := &StoreHours{Reader: reader, AirHandlers: points, Step: time.Minute, CheckFirst: checkFirst,
+			IsMissing: func(err error) bool { return errors.Is(err, errNoSeries) },
+			OnMissing: func(ahu string, role metrics.Role, point string) {
+				r.told = append(r.told, ahu+" "+string(role)+" "+point)
+			}}
+		require.NoError(t, sh.Hours(context.Background(), []string{"A", "B"}, day0, day0.Add(3*time.Hour), func(h *metrics.Hour) error {
+			var b strings.Builder
+			fmt.Fprintf(&b, "%s %s", h.AHU, h.Start.Format("15"))
+			for _, role := range []metrics.Role{metrics.RoleSupplyTemp, metrics.RoleOutdoorTemp, metrics.RoleEnteringRH} {
+				fmt.Fprintf(&b, " %s=%v/%v", role, h.Values[role], h.Quality[role].Coverage)
+			}
+			r.hours = append(r.hours, b.String())
+			return nil
+		}))
+		sort.Strings(r.hours)
+		r.missing = sh.Missing
+		return r
+	}
+	one := read(&memReader{series: series}, false)
+	require.Len(t, one.hours, 6)
+	assert.Equal(t, []string{"A entering_rh (MA RH)", "B entering_rh (MA RH)"}, one.missing)
+
+	checked := &memCheckedReader{memBatchReader: memBatchReader{&memReader{series: series}}}
+	batch := read(checked, true)
+	assert.Equal(t, one, batch, "the batch path with CheckFirst is the point-by-point path")
+	assert.Equal(t, 4, checked.checks, "A SAT, B SAT, OAT and MA RH, each once")
+
+	unchecked := &memCheckedReader{memBatchReader: memBatchReader{&memReader{series: series}}}
+	plain := read(unchecked, false)
+	assert.Zero(t, unchecked.checks)
+	assert.Empty(t, plain.missing)
+	assert.Equal(t, one.hours, plain.hours, "a missing point gives no samples either way")
+}
+
+// TestStoreHours_ByHour: the batch path yields a chunk's hours air handler
+// by air handler (the agent commits each at once), or with ByHour hour by
+// hour across the air handlers in the order of their ids, as the CSV path
+// (RecordHours) does; the hours themselves are the same.
+func TestStoreHours_ByHour(t *testing.T) {
+	day0 := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
+	var sat []Sample
+	for i := 0; i < 2*24*60; i++ {
+		sat = append(sat, Sample{day0.Add(time.Duration(i) * time.Minute), 14 + float64(i%9)/10})
+	}
+	pts := func(p string) AirHandlerPoints {
+		return AirHandlerPoints{Points: map[metrics.Role]metrics.PointRef{metrics.RoleSupplyTemp: {Point: p, Unit: "C"}}}
+	}
+	r := memBatchReader{&memReader{series: map[string][]Sample{"S1": sat, "S2": sat, "S10": sat}}}
+	ahus := []string{"AHU-2", "AHU-10", "AHU-1"}
+	read := func(byHour bool) []string {
+		sh := &StoreHours{Reader: r, Step: time.Minute, ByHour: byHour,
+			AirHandlers: map[string]AirHandlerPoints{"AHU-1": pts("S1"), "AHU-2": pts("S2"), "AHU-10": pts("S10")}}
+		var got []string
+		require.NoError(t, sh.Hours(context.Background(), ahus, day0, day0.Add(48*time.Hour), func(h *metrics.Hour) error {
+			got = append(got, fmt.Sprintf("%s %s", h.Start.Format("02T15"), h.AHU))
+			return nil
+		}))
+		return got
+	}
+	byAHU, byHour := read(false), read(true)
+	require.Len(t, byHour, 3*48)
+	var want []string
+	for h := 0; h < 48; h++ {
+		for _, id := range []string{"AHU-1", "AHU-10", "AHU-2"} {
+			want = append(want, fmt.Sprintf("%s %s", day0.Add(time.Duration(h)*time.Hour).Format("02T15"), id))
+		}
+	}
+	assert.Equal(t, want, byHour)
+	assert.NotEqual(t, want, byAHU)
+	assert.ElementsMatch(t, want, byAHU)
+	assert.Equal(t, "14T00 AHU-2", byAHU[0])
 }

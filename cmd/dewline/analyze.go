@@ -136,7 +136,10 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		recSrc = &ingest.RecordHours{Src: files, AirHandlers: unitPoints, Step: cfg.Grid.Step}
 		src = recSrc
 	} else {
-		storeSrc = &ingest.StoreHours{Reader: st, AirHandlers: unitPoints, Step: cfg.Grid.Step, IsMissing: st.IsMissing}
+		// The backend itself, not its wrapper: StoreHours reads a batch of
+		// all the air handlers at once where the store can (InfluxDB).
+		storeSrc = &ingest.StoreHours{Reader: st.Store, AirHandlers: unitPoints, Step: cfg.Grid.Step, IsMissing: st.IsMissing,
+			CheckFirst: true, ByHour: true}
 		src = storeSrc
 	}
 

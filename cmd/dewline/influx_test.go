@@ -2,7 +2,9 @@ package main
 
 import (
 	"fmt"
+	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 	"time"
 
@@ -49,4 +51,48 @@ func TestInflux_ImportAnalyzeMatchesExport(t *testing.T) {
 	for i := range r1 {
 		assert.Equal(t, r1[i], r2[i], "hour %d", i)
 	}
+}
+
+// TestInflux_AnalyzeManyAirHandlers: "dewline analyze" reads InfluxDB a
+// day of all the air handlers at a time, and writes the same file, byte for
+// byte and in the same order, as analysing the export they were imported
+// from. A point that matches nothing in the store is named in the log, for
+// each air handler that maps it.
+func TestInflux_AnalyzeManyAirHandlers(t *testing.T) {
+	url, _ := testkit.InfluxDB(t)
+	db := freshDB(t, url, "dewline_many")
+	dir := t.TempDir()
+	ahus := []string{"AHU-1", "AHU-2", "AHU-10"}
+	s := site{store: influxStore(url, db, "10s"), meas: "annex_trend", ahus: ahus}
+	cfg := s.write(t, dir, "site.yaml")
+	from := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
+	data := filepath.Join(dir, "trends.csv")
+	writeTrends(t, data, ahus, from, 50*time.Hour)
+	code, _, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	require.Equal(t, 0, code, errOut)
+
+	period := []string{"--from", "2026-07-14T00:00:00Z", "--to", "2026-07-16T00:00:00Z"}
+	direct, fromStore := filepath.Join(dir, "direct.csv"), filepath.Join(dir, "influx.csv")
+	code, _, errOut = runCLI(t, append([]string{"--log-level", "warn", "analyze", "--config", cfg, "--input", data, "--out", direct, "--no-store"}, period...)...)
+	require.Equal(t, 0, code, errOut)
+	code, _, errOut = runCLI(t, append([]string{"--log-level", "warn", "analyze", "--config", cfg, "--out", fromStore, "--no-store"}, period...)...)
+	require.Equal(t, 0, code, errOut)
+	want, err := os.ReadFile(direct)
+	require.NoError(t, err)
+	got, err := os.ReadFile(fromStore)
+	require.NoError(t, err)
+	require.Equal(t, 1+3*48, strings.Count(string(want), "\n"), "a header and 48 hours of 3 air handlers")
+	assert.Equal(t, string(want), string(got))
+
+	// The entering RH under a measurement the store does not have.
+	s.points = map[string]string{}
+	for _, id := range ahus {
+		s.points[id+"/entering_rh"] = fmt.Sprintf(`{column: %s_MARH, unit: "%%", measurement: annex_trnd, field: marh, tags: {ahu: %s}}`, colPrefix(id), id)
+	}
+	code, _, errOut = runCLI(t, append([]string{"--log-level", "warn", "analyze", "--config", s.write(t, dir, "typo.yaml"), "--no-store", "--out", filepath.Join(dir, "typo.csv")}, period...)...)
+	require.Equal(t, 0, code, errOut)
+	for _, id := range ahus {
+		assert.Contains(t, errOut, fmt.Sprintf("%s entering_rh", id), "the missing point is named for %s", id)
+	}
+	assert.Contains(t, errOut, "run dewline import")
 }
