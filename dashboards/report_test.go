@@ -554,3 +554,81 @@ func TestHourRanges(t *testing.T) {
 		})
 	}
 }
+
+// TestReport_FanHeatNotes: each air handler's note on fan heat says what
+// metrics.Compute does with its configuration: the fan_kw point when it
+// is trended, else the rated fan power, else the assumed rise (the
+// precedence of the engine's fan power, metrics/step.go fanKW), and for
+// a blow-through fan after the entering sensor, that the heat is added to
+// the coil load. The rise is a temperature difference: 0.5 K is 0.9 °F.
+func TestReport_FanHeatNotes(t *testing.T) {
+	site := repSite(nil)
+	base := site.AirHandlers[0]
+	type tc struct {
+		id      string
+		fan     metrics.FanPosition
+		ratedKW float64
+		riseK   float64
+		trended bool
+		si, ip  string
+	}
+	cases := []tc{
+		{"F-NONE", metrics.FanNone, 0, 0, false,
+			"No fan heat between coil and supply sensor.", "No fan heat between coil and supply sensor."},
+		{"F-DT-TRENDED", metrics.FanDrawThrough, 2.5, 0.5, true,
+			"Draw-through: heat from the trended fan power.", "Draw-through: heat from the trended fan power."},
+		{"F-DT-RATED", metrics.FanDrawThrough, 2.5, 0.5, false,
+			"Draw-through: heat from the rated fan power, 2.5 kW, whenever air flows.",
+			"Draw-through: heat from the rated fan power, 2.5 kW, whenever air flows."},
+		{"F-DT-RISE", metrics.FanDrawThrough, 0, 0.5, false,
+			"Draw-through: 0.5 K rise assumed.", "Draw-through: 0.9 °F rise assumed."},
+		{"F-BT-TRENDED", metrics.FanBlowThrough, 0, 0.5, true,
+			"Blow-through, after the entering sensor: heat from the trended fan power added to the coil load.",
+			"Blow-through, after the entering sensor: heat from the trended fan power added to the coil load."},
+		{"F-BT-RATED", metrics.FanBlowThrough, 4, 0.5, false,
+			"Blow-through, after the entering sensor: the rated fan power, 4.0 kW, added to the coil load whenever air flows.",
+			"Blow-through, after the entering sensor: the rated fan power, 4.0 kW, added to the coil load whenever air flows."},
+		{"F-BT-RISE", metrics.FanBlowThrough, 0, 1, false,
+			"Blow-through, after the entering sensor: 1.0 K rise assumed, added to the coil load.",
+			"Blow-through, after the entering sensor: 1.8 °F rise assumed, added to the coil load."},
+		{"F-BT-MEASURED", metrics.FanBlowThroughMeasured, 4, 1, true,
+			"Blow-through, ahead of the entering sensor: fan heat is in the measured coil load.",
+			"Blow-through, ahead of the entering sensor: fan heat is in the measured coil load."},
+	}
+	site.AirHandlers = nil
+	trended := map[string][]string{}
+	res := &memResults{}
+	for _, c := range cases {
+		spec := *base.Spec
+		spec.ID, spec.Fan, spec.FanRatedKW, spec.FanRiseK = c.id, c.fan, c.ratedKW, c.riseK
+		site.AirHandlers = append(site.AirHandlers, AirHandler{ID: c.id, Name: c.id, Spec: &spec})
+		trended[c.id] = []string{string(metrics.RoleEnteringTemp), string(metrics.RoleSupplyTemp)}
+		if c.trended {
+			trended[c.id] = append(trended[c.id], string(metrics.RoleFanPower))
+		}
+		res.recs = append(res.recs, rec(c.id, repT0, map[string]float64{"coverage": 1, "reheat_kwh": 1}))
+	}
+	for _, ip := range []bool{false, true} {
+		page := renderReport(t, site, res, repPeriod(t), ReportOptions{Display: Display{IP: ip}, Trended: trended})
+		notes := map[string]string{}
+		walk(parseHTML(t, page), func(n *html.Node) {
+			if id, ok := attr(n, "data-unit"); ok {
+				if c, _ := attr(n, "class"); c == "unit-basis" {
+					notes[id] = text(n)
+				}
+			}
+		})
+		for _, c := range cases {
+			want := c.si
+			if ip {
+				want = c.ip
+			}
+			note, ok := notes[c.id]
+			require.True(t, ok, "%s has its paragraph of assumptions", c.id)
+			_, after, found := strings.Cut(note, "Fan heat: ")
+			require.True(t, found, "%s: %q", c.id, note)
+			fan, _, _ := strings.Cut(after, " Coil leaving humidity:")
+			assert.Equal(t, want, fan, "%s, IP %v", c.id, ip)
+		}
+	}
+}
