@@ -5,9 +5,11 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"os"
 	"time"
 
 	"github.com/dewline/dewline/ingest/draft"
+	"github.com/dewline/dewline/ingest/outfile"
 )
 
 // runDraft proposes a configuration from CSV exports or an InfluxDB bucket.
@@ -16,6 +18,7 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 	var inputs stringList
 	fs.Var(&inputs, "input", "trend export (CSV) to read the points from; repeatable (files may also follow the flags)")
 	out := fs.String("o", "", "write the configuration to this file (default: standard output)")
+	force := fs.Bool("force", false, "with -o: replace a file that exists (it may be a configuration you edited)")
 	site := fs.String("site", "", "the site's name")
 	zone := fs.String("timezone", "", "the site's IANA time zone, e.g. America/Chicago (needed for exports with local times)")
 	altitude := fs.String("altitude", "", "the site's elevation with its unit, e.g. 15m or 50ft")
@@ -39,6 +42,14 @@ func runDraft(ctx context.Context, e *env, args []string) error {
 	inputs = append(inputs, fs.Args()...)
 	if (len(inputs) == 0) == (*influxURL == "") {
 		return usagef("give either trend exports (files or --input) or --influx-url with --bucket")
+	}
+	if *out != "" {
+		if err := outfile.RefuseInputs("-o", *out, inputs...); err != nil {
+			return usagef("%v", err)
+		}
+		if _, err := os.Stat(*out); err == nil && !*force {
+			return usagef("-o %s exists and may be a configuration you edited: give another file, or --force to replace it", *out)
+		}
 	}
 	var loc *time.Location
 	if *zone != "" {

@@ -141,3 +141,43 @@ func TestDraft_NeedsZone(t *testing.T) {
 	assert.Equal(t, 2, code)
 	assert.Contains(t, errOut, "alder-court.csv has local times without a UTC offset: pass --timezone")
 }
+
+// TestDraft_KeepsWhatItWouldOverwrite: -o naming one of the exports (here
+// through a hard link) is refused before anything is written, and so is
+// an existing file unless --force: it may be a configuration the user has
+// edited since. Both exit 2 with the fix and leave the file's bytes as they
+// were; --force replaces the file with a whole draft.
+func TestDraft_KeepsWhatItWouldOverwrite(t *testing.T) {
+	dir := t.TempDir()
+	src, err := os.ReadFile("../../testdata/draft/alder-court.csv")
+	require.NoError(t, err)
+	export := filepath.Join(dir, "alder-court.csv")
+	require.NoError(t, os.WriteFile(export, src, 0o600))
+
+	link := filepath.Join(dir, "link.csv") // the same file under another name
+	require.NoError(t, os.Link(export, link))
+	code, _, errOut := runCLI(t, "--log-level", "warn", "draft", "--timezone", "UTC", "-o", link, export)
+	assert.Equal(t, 2, code)
+	assert.Contains(t, errOut, "is the same file as the input")
+	got, err := os.ReadFile(export)
+	require.NoError(t, err)
+	assert.Equal(t, src, got, "the export is untouched")
+
+	cfg := filepath.Join(dir, "site.yaml")
+	edited := []byte("# my edits\nversion: 1\n")
+	require.NoError(t, os.WriteFile(cfg, edited, 0o600))
+	code, _, errOut = runCLI(t, "--log-level", "warn", "draft", "--timezone", "UTC", "-o", cfg, export)
+	assert.Equal(t, 2, code)
+	assert.Contains(t, errOut, "--force to replace it")
+	got, err = os.ReadFile(cfg)
+	require.NoError(t, err)
+	assert.Equal(t, edited, got, "the edited configuration is untouched")
+
+	code, _, errOut = runCLI(t, "--log-level", "warn", "draft", "--timezone", "UTC", "--force", "-o", cfg, export)
+	require.Equal(t, 0, code, errOut)
+	_, err = config.Load(cfg)
+	require.NoError(t, err, "the replaced file is a whole configuration")
+	left, err := filepath.Glob(filepath.Join(dir, ".site.yaml.*"))
+	require.NoError(t, err)
+	assert.Empty(t, left, "no temporary file left")
+}

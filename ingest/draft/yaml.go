@@ -1,13 +1,14 @@
 package draft
 
 import (
+	"bufio"
 	"fmt"
 	"io"
-	"os"
 	"sort"
 	"strings"
 	"unicode"
 
+	"github.com/dewline/dewline/ingest/outfile"
 	"github.com/dewline/dewline/metrics"
 )
 
@@ -299,16 +300,10 @@ func (p *Proposal) WriteFile(path string, w io.Writer, site Site) error {
 		}
 		return nil
 	}
-	f, err := os.Create(path)
+	// Whole or not at all: an interrupted draft leaves what was there.
+	_, err := outfile.Write(path, func(bw *bufio.Writer) error { return p.Write(bw, site) })
 	if err != nil {
-		return fmt.Errorf("create %s: %w", path, err)
-	}
-	if err := p.Write(f, site); err != nil {
-		_ = f.Close()
 		return fmt.Errorf("write the draft: %w", err)
-	}
-	if err := f.Close(); err != nil {
-		return fmt.Errorf("write %s: %w", path, err)
 	}
 	return nil
 }
