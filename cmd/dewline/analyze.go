@@ -137,9 +137,12 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		src = recSrc
 	} else {
 		// The backend itself, not its wrapper: StoreHours reads a batch of
-		// all the air handlers at once where the store can (InfluxDB).
+		// all the air handlers at once where the store can (InfluxDB), a
+		// day of them, or less for many, so that a read holds no more
+		// air-handler hours than one of the agent's.
+		chunk := time.Duration(max(1, min(24, agent.DefaultReadBatch/len(ahus)))) * time.Hour
 		storeSrc = &ingest.StoreHours{Reader: st.Store, AirHandlers: unitPoints, Step: cfg.Grid.Step, IsMissing: st.IsMissing,
-			CheckFirst: true, ByHour: true}
+			CheckFirst: true, ByHour: true, Chunk: chunk}
 		src = storeSrc
 	}
 
