@@ -157,21 +157,13 @@ func TestDraft_KeepsWhatItWouldOverwrite(t *testing.T) {
 	link := filepath.Join(dir, "link.csv") // the same file under another name
 	require.NoError(t, os.Link(export, link))
 	code, _, errOut := runCLI(t, "--log-level", "warn", "draft", "--timezone", "UTC", "-o", link, export)
-	assert.Equal(t, 2, code)
-	assert.Contains(t, errOut, "is the same file as the input")
-	got, err := os.ReadFile(export)
-	require.NoError(t, err)
-	assert.Equal(t, src, got, "the export is untouched")
+	refusedUntouched(t, code, errOut, "is the same file as the input", export, src)
 
 	cfg := filepath.Join(dir, "site.yaml")
 	edited := []byte("# my edits\nversion: 1\n")
 	require.NoError(t, os.WriteFile(cfg, edited, 0o600))
 	code, _, errOut = runCLI(t, "--log-level", "warn", "draft", "--timezone", "UTC", "-o", cfg, export)
-	assert.Equal(t, 2, code)
-	assert.Contains(t, errOut, "--force to replace it")
-	got, err = os.ReadFile(cfg)
-	require.NoError(t, err)
-	assert.Equal(t, edited, got, "the edited configuration is untouched")
+	refusedUntouched(t, code, errOut, "--force to replace it", cfg, edited)
 
 	code, _, errOut = runCLI(t, "--log-level", "warn", "draft", "--timezone", "UTC", "--force", "-o", cfg, export)
 	require.Equal(t, 0, code, errOut)

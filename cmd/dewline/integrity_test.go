@@ -122,11 +122,7 @@ func TestAnalyze_OutputNeverDestroys(t *testing.T) {
 	alias := filepath.Join(dir, "alias.csv")
 	require.NoError(t, os.Symlink(data, alias))
 	code, _, errOut = runCLI(t, "--log-level", "error", "analyze", "--config", cfg, "--input", data, "--out", alias, "--no-store")
-	assert.Equal(t, 2, code)
-	assert.Contains(t, errOut, "is the same file as the input")
-	got, err := os.ReadFile(data)
-	require.NoError(t, err)
-	assert.Equal(t, orig, got, "the export is untouched")
+	refusedUntouched(t, code, errOut, "is the same file as the input", data, orig)
 
 	out := filepath.Join(dir, "hourly.csv")
 	require.NoError(t, os.WriteFile(out, []byte("previous results\n"), 0o600))
@@ -137,7 +133,7 @@ func TestAnalyze_OutputNeverDestroys(t *testing.T) {
 	code, _, errOut = runCLI(t, "--log-level", "error", "analyze", "--config", cfg, "--input", conflict, "--out", out, "--no-store")
 	assert.Equal(t, 1, code)
 	assert.Contains(t, errOut, "according to the configuration")
-	got, err = os.ReadFile(out)
+	got, err := os.ReadFile(out)
 	require.NoError(t, err)
 	assert.Equal(t, "previous results\n", string(got), "a failed run keeps the previous output")
 
@@ -534,4 +530,15 @@ func TestDemo_RefusesAnExistingSite(t *testing.T) {
 	code, _, errOut = runCLI(t, "demo", "--dir", dir, "--no-serve", "--days", "2")
 	assert.Equal(t, 2, code)
 	assert.Contains(t, errOut, "--days 2")
+}
+
+// refusedUntouched asserts a refusal, exit 2 with msg in the error output,
+// that left the file at path with its bytes as they were (orig).
+func refusedUntouched(t *testing.T, code int, errOut, msg, path string, orig []byte) {
+	t.Helper()
+	assert.Equal(t, 2, code)
+	assert.Contains(t, errOut, msg)
+	got, err := os.ReadFile(path)
+	require.NoError(t, err)
+	assert.Equal(t, orig, got, "%s is untouched", path)
 }
