@@ -5,8 +5,9 @@
 // Runner.Serve runs it on the configured cron schedule (on an injectable
 // SchedulerClock), skipping a tick while a run is in flight; Shard splits a
 // portfolio between replicas; a ResultPipe writes an analysis's records to
-// a file and a store while the next hours are computed. CheckPoints reports configured points the
-// store does not hold; WriteSummaries writes an analysis as a ranked table.
+// a file and a store while the next hours are computed. CheckPoints
+// reports configured points the store does not hold; WriteSummaries writes
+// an analysis as a ranked table.
 //
 //	cron tick --> Runner.RunOnce(slot = last complete UTC hour)
 //	  per air handler: Checkpoint --> HourSource --> metrics.Compute

@@ -36,7 +36,8 @@ type BatchReader interface {
 }
 
 // PointChecker looks a point up: an error that StoreHours.IsMissing
-// accepts says it matches nothing in the store (ingest/store.PointChecker).
+// accepts says it matches nothing in the store (ingest/store.PointChecker
+// is this interface).
 type PointChecker interface {
 	CheckPoint(ctx context.Context, ref metrics.PointRef, from, to time.Time) error
 }
@@ -73,8 +74,9 @@ type StoreHours struct {
 	// (agent.CheckPoints), not at every run.
 	CheckFirst bool
 	// ByHour has the batch path yield each hour of all the air handlers
-	// (by id) before the next hour, as ingest.RecordHours does, rather than each air handler's hours of a chunk together (which
-	// the agent commits at once).
+	// (by id) before the next hour, as ingest.RecordHours does, rather
+	// than each air handler's hours of a chunk together (which the agent
+	// commits at once).
 	ByHour bool
 	// Read counts the samples read; OnRead, when set, receives the count of
 	// each read.
@@ -266,7 +268,10 @@ func (s *StoreHours) hoursBatch(ctx context.Context, br BatchReader, ahus []stri
 			owners = append(owners, owner{k, a.roleIndex(metrics.Role(r))})
 		}
 	}
-	byID := slices.SortedFunc(slices.Values(aligners), func(a, b *Aligner) int { return strings.Compare(a.ahu, b.ahu) })
+	var byID []*Aligner // the order ByHour emits in
+	if s.ByHour {
+		byID = slices.SortedFunc(slices.Values(aligners), func(a, b *Aligner) int { return strings.Compare(a.ahu, b.ahu) })
+	}
 	what := fmt.Sprintf("%d air handlers", len(ahus))
 	if len(ahus) == 1 {
 		what = ahus[0]

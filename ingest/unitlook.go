@@ -20,7 +20,6 @@ import (
 // in the logged unit, or SI converted from the configured unit), where the
 // check is two comparisons: see typicalRange.
 type unitLook struct {
-	spec  metrics.RoleSpec
 	units []psychro.Unit // every unit of the role's kind
 	conf  int            // index of the configured unit in units, -1 when not one of them
 	raw   []valueRange   // by unit: the raw values x with units[i].ToSI(x) typical
@@ -65,7 +64,7 @@ func newUnitLook(spec metrics.RoleSpec, conf string) *unitLook {
 
 // makeUnitLook prepares the look at a role's values configured in conf.
 func makeUnitLook(spec metrics.RoleSpec, conf string) *unitLook {
-	l := &unitLook{spec: spec, conf: -1}
+	l := &unitLook{conf: -1}
 	for _, name := range psychro.UnitNames(spec.Kind) {
 		u, err := psychro.LookupUnit(spec.Kind, name)
 		if err != nil {
@@ -97,35 +96,37 @@ func makeUnitLook(spec metrics.RoleSpec, conf string) *unitLook {
 // float64s: x passes exactly when it lies in the range, to the last bit
 // (TestUnitLook_RangesAreExact).
 func typicalRange(spec metrics.RoleSpec, f func(float64) float64) valueRange {
-	lo, hi := orderKey(-math.MaxFloat64), orderKey(math.MaxFloat64)
-	// first: the smallest key whose value converts to at least TypMin.
-	if !(f(fromOrderKey(hi)) >= spec.TypMin) {
+	first, ok := firstKey(func(x float64) bool { return f(x) >= spec.TypMin })
+	if !ok {
 		return valueRange{math.Inf(1), math.Inf(-1)}
 	}
-	a, b := lo, hi
+	// The last key converting to at most TypMax is the one before the
+	// first converting to more.
+	above, ok := firstKey(func(x float64) bool { return f(x) > spec.TypMax })
+	last := orderKey(math.MaxFloat64)
+	if ok {
+		last = above - 1
+	}
+	return valueRange{fromOrderKey(first), fromOrderKey(last)}
+}
+
+// firstKey returns the smallest key of a finite float64 whose value
+// passes, for a test that, once passed, passes for every larger value;
+// false when none does.
+func firstKey(pass func(float64) bool) (int64, bool) {
+	a, b := orderKey(-math.MaxFloat64), orderKey(math.MaxFloat64)
+	if !pass(fromOrderKey(b)) {
+		return 0, false
+	}
 	for a < b {
 		m := a + int64((uint64(b)-uint64(a))/2) // b-a may not fit an int64
-		if f(fromOrderKey(m)) >= spec.TypMin {
+		if pass(fromOrderKey(m)) {
 			b = m
 		} else {
 			a = m + 1
 		}
 	}
-	first := a
-	// last: the largest key whose value converts to at most TypMax.
-	if !(f(fromOrderKey(lo)) <= spec.TypMax) {
-		return valueRange{math.Inf(1), math.Inf(-1)}
-	}
-	a, b = lo, hi
-	for a < b {
-		m := a + int64((uint64(b)-uint64(a)+1)/2)
-		if f(fromOrderKey(m)) <= spec.TypMax {
-			a = m
-		} else {
-			b = m - 1
-		}
-	}
-	return valueRange{fromOrderKey(first), fromOrderKey(a)}
+	return a, true
 }
 
 // orderKey maps a float64 that is not NaN to an integer in the same order

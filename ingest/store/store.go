@@ -243,10 +243,9 @@ func EncodeStates(states map[string]metrics.Alert) (map[string]json.RawMessage, 
 
 // PointChecker is what a store may also offer: a look-up of a configured
 // point that tells one matching nothing (IsMissing) from a quiet one, for
-// stores that cannot tell them apart when read.
-type PointChecker interface {
-	CheckPoint(ctx context.Context, ref metrics.PointRef, from, to time.Time) error
-}
+// stores that cannot tell them apart when read (ingest.PointChecker, which
+// StoreHours.CheckFirst uses).
+type PointChecker = ingest.PointChecker
 
 // SampleSpanner is what a store may also offer: the span of a point's
 // stored samples, for a command whose period defaults to what the store
