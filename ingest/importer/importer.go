@@ -155,14 +155,22 @@ func File(ctx context.Context, path string, o Options) (Stats, error) {
 				s.Unmatched.Add(rec.Series)
 				continue
 			}
-			ru, ok, err := s.Units.CheckTargets(rec, sl.ts)
-			if err != nil {
-				return s, stopped(err)
+			// A row without a unit (a wide export) is in the configured
+			// unit: what CheckTargets and RowUnit.ToSI give it, without
+			// their round trip through a returned struct per value.
+			var v float64
+			if rec.Unit == "" {
+				v = sl.ts[0].Unit.ToSI(rec.Value)
+			} else {
+				ru, ok, err := s.Units.CheckTargets(rec, sl.ts)
+				if err != nil {
+					return s, stopped(err)
+				}
+				if !ok {
+					continue // counted in s.Units
+				}
+				v = ru.ToSI(sl.ts[0], rec.Value)
 			}
-			if !ok {
-				continue // counted in s.Units
-			}
-			v := ru.ToSI(sl.ts[0], rec.Value)
 			if math.IsNaN(v) || math.IsInf(v, 0) {
 				s.NotFinite++
 				continue
