@@ -19,13 +19,76 @@ type RecordSource interface {
 	Next() (Record, error)
 }
 
+// MaxDisorder is how much earlier than the latest record before it a
+// record of the configured points may be. RecordHours keeps an hour open
+// until the input is more than this past it, so a record within it always
+// reaches its hour; one earlier could fall in an hour already emitted and
+// is refused (OutOfOrderError) rather than dropped. The exports of several
+// files merged by time (csvfile.Files) keep their files' bound.
+const MaxDisorder = time.Hour
+
+// OutOfOrderError is a record more than MaxDisorder earlier than one
+// before it: an export sorted by point, newest first, or with rows
+// appended out of order. Such a file is imported ("dewline import"), which
+// takes any order, and analysed from the store.
+type OutOfOrderError struct {
+	File   string
+	Line   int
+	Series string
+	Time   time.Time // the record's
+	Latest time.Time // the latest record before it
+}
+
+func (e *OutOfOrderError) Error() string {
+	return fmt.Sprintf("%s line %d: %s at %s comes after a record at %s: the export is not in time order (it may be sorted by point or newest first); import it with \"dewline import\" and analyse from the store, or sort its rows by time",
+		e.File, e.Line, e.Series, e.Time.UTC().Format(time.RFC3339), e.Latest.UTC().Format(time.RFC3339))
+}
+
+// Order is what ScanOrder found in an export: the span of its records of
+// configured points and the first that RecordHours would refuse.
+type Order struct {
+	First, Last time.Time // zero when there is none
+	OutOfOrder  *OutOfOrderError
+}
+
+// ScanOrder reads src to its end (one file: files in order stay in order
+// merged) and reports the span of its records of the series in ix and the
+// first of them that is out of order as RecordHours would refuse it.
+func ScanOrder(ctx context.Context, src RecordSource, ix PointIndex) (Order, error) {
+	var o Order
+	err := readBatches(ctx, src, func(recs []Record) error {
+		for i := range recs {
+			rec := &recs[i]
+			if ix[rec.Series] == nil {
+				continue
+			}
+			switch {
+			case o.First.IsZero():
+				o.First, o.Last = rec.Time, rec.Time
+				continue
+			case o.OutOfOrder == nil && rec.Time.Before(o.Last.Add(-MaxDisorder)):
+				o.OutOfOrder = &OutOfOrderError{File: rec.File, Line: rec.Line, Series: rec.Series, Time: rec.Time, Latest: o.Last}
+			}
+			if rec.Time.Before(o.First) {
+				o.First = rec.Time
+			}
+			if rec.Time.After(o.Last) {
+				o.Last = rec.Time
+			}
+		}
+		return nil
+	})
+	return o, err
+}
+
 // RecordHours streams records from exports into hours of several air
 // handlers at once, without storing them: memory stays flat however long
 // the files are. Records are matched to points by series name (the CSV
 // column or long-format point name) and converted to SI row by row (see
 // RowUnits): in the unit the row states, or else the configured one. A file
 // whose first stated unit for a series differs from the configured one is
-// refused, not guessed.
+// refused, not guessed. Records must come in time order give or take
+// MaxDisorder; an earlier one ends the read with an OutOfOrderError.
 type RecordHours struct {
 	Src         RecordSource
 	AirHandlers map[string]AirHandlerPoints
@@ -84,6 +147,7 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 			}
 			aligners[ahu] = a
 			rh.recycler.track(a)
+			lookAtConfiguredUnits(a, u) // as StoreHours: the values pushed are SI from the configured units
 			order = append(order, ahu)
 		}
 		sort.Strings(order)
@@ -126,8 +190,11 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 	}
 	routes := newRouter(byName)
 	var (
-		last, next time.Time // the latest record time; when emit has work
-		lo, hi     time.Time // the period and its lead-in, once started
+		last, next time.Time // the latest record time in the period; when emit has work
+		// oldest is the earliest time a record may have: MaxDisorder
+		// before the latest record of a configured point.
+		latest, oldest time.Time
+		lo, hi         time.Time // the period and its lead-in, once started
 		// Every aligner starts at from, so a time is converted to the
 		// aligners' nanoseconds once for all (the records of a wide row
 		// share theirs).
@@ -153,6 +220,12 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 				if !ok {
 					continue // counted in RowUnits
 				}
+			}
+			if rec.Time.Before(oldest) {
+				return &OutOfOrderError{File: rec.File, Line: rec.Line, Series: rec.Series, Time: rec.Time, Latest: latest}
+			}
+			if rec.Time.After(latest) {
+				latest, oldest = rec.Time, rec.Time.Add(-MaxDisorder)
 			}
 			if len(order) == 0 {
 				if err := start(rec.Time); err != nil {

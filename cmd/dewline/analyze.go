@@ -5,6 +5,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"os"
 	"strings"
 	"time"
 
@@ -104,10 +105,44 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		}
 		unitPoints[id] = ingest.AirHandlerPoints{Points: a.PointMap(), Stale: cfg.StaleLimits(a)}
 	}
+	var src agent.HourSource
+	var files *csvfile.Files
+	var storeSrc *ingest.StoreHours
+	var recSrc *ingest.RecordHours
+	readFrom := st // the store hours are read from
+	if len(inputs) > 0 {
+		// Exports stream in time order; ones that are not (sorted by
+		// point, newest first) are imported into a temporary store and
+		// analysed from it, as after "dewline import".
+		ix, err := ingest.NewPointIndex(unitPoints)
+		if err != nil {
+			return err
+		}
+		order, err := scanExports(ctx, inputs, cfg, ix)
+		if err != nil {
+			return err
+		}
+		if late := order.OutOfOrder; late != nil {
+			dir, err := os.MkdirTemp("", "dewline-analyze-")
+			if err != nil {
+				return fmt.Errorf("a temporary store for exports not in time order: %w", err)
+			}
+			defer os.RemoveAll(dir)
+			log.Warn().Str("file", late.File).Int("line", late.Line).Time("row_time", late.Time).Time("after", late.Latest).Str("store", dir).
+				Msg("the export is not in time order: the exports are imported into a temporary store and analysed from it")
+			if readFrom, err = importExports(ctx, inputs, cfg, *cfgPath, dir, ix, e.stderr, log); err != nil {
+				return err
+			}
+			defer readFrom.Close()
+			inputs = nil
+		} else if from.IsZero() && !order.First.IsZero() {
+			from = order.First.UTC().Truncate(time.Hour)
+		}
+	}
 	if len(inputs) == 0 && (from.IsZero() || to.IsZero()) {
 		// The period the store holds: from the first stored sample of the
 		// points analysed through the hour of the last.
-		first, last, err := storedSpan(ctx, st, ahus, unitPoints)
+		first, last, err := storedSpan(ctx, readFrom, ahus, unitPoints)
 		if err != nil {
 			return err
 		}
@@ -123,10 +158,6 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		}
 		log.Info().Time("from", from).Time("to", to).Msg("period: the stored span of the points analysed")
 	}
-	var src agent.HourSource
-	var files *csvfile.Files
-	var storeSrc *ingest.StoreHours
-	var recSrc *ingest.RecordHours
 	if len(inputs) > 0 {
 		files, err = csvfile.OpenFiles(inputs, cfg.CSVOptions())
 		if err != nil {
@@ -141,7 +172,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		// day of them, or less for many, so that a read holds no more
 		// air-handler hours than one of the agent's.
 		chunk := time.Duration(max(1, min(24, agent.DefaultReadBatch/len(ahus)))) * time.Hour
-		storeSrc = &ingest.StoreHours{Reader: st.Store, AirHandlers: unitPoints, Step: cfg.Grid.Step, IsMissing: st.IsMissing,
+		storeSrc = &ingest.StoreHours{Reader: readFrom.Store, AirHandlers: unitPoints, Step: cfg.Grid.Step, IsMissing: readFrom.IsMissing,
 			CheckFirst: true, ByHour: true, Chunk: chunk}
 		src = storeSrc
 	}
@@ -184,6 +215,10 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	}
 	if storeSrc != nil {
 		for _, m := range storeSrc.Missing {
+			if readFrom != st {
+				log.Warn().Str("point", m).Msg("point not found in the exports")
+				continue
+			}
 			log.Warn().Str("point", m).Msg("point has no data in the store; run dewline import")
 		}
 	}

@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"path/filepath"
 	"time"
 
 	"github.com/rs/zerolog"
@@ -57,6 +58,14 @@ func openStore(ctx context.Context, cfg *config.Config, readOnly bool, log zerol
 		}
 		return &stores{embedded.NewBackend(s, payload)}, nil
 	}
+}
+
+// openScratchStore opens a new embedded store in dir, for the analysis
+// of exports that must be imported first (see importExports).
+func openScratchStore(ctx context.Context, cfg *config.Config, dir string, log zerolog.Logger) (*stores, error) {
+	c := *cfg
+	c.Store = config.Store{Kind: "embedded", Path: filepath.Join(dir, "exports.db")}
+	return openStore(ctx, &c, false, log)
 }
 
 // dryRun wraps a result store so that a run prints what it would write, as
