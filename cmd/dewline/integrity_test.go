@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"compress/gzip"
 	"context"
 	"crypto/sha256"
 	"database/sql"
@@ -12,6 +13,8 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"regexp"
+	"strconv"
 	"strings"
 	"sync"
 	"testing"
@@ -312,6 +315,92 @@ func TestImport_NothingWrittenFails(t *testing.T) {
 	code, _, errOut = runCLI(t, "--log-level", "warn", "import", "--config", cfg, noRows)
 	assert.Equal(t, 1, code)
 	assert.Contains(t, errOut, "header-only.csv: nothing was written to the store (0 rows read, 0 values, 0 rejected): the file has a header but no data rows")
+}
+
+// TestImport_BadFilesDoNotStopTheOthers: files that fail for a reason of
+// their own (empty, binary, missing, a gzip cut short part-way, no data
+// rows) are each reported with the reason and the fix, the good files
+// before and after them are imported, what the cut file stored before its
+// end stays stored, and the command exits 1 naming the files that failed.
+func TestImport_BadFilesDoNotStopTheOthers(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeScenario(t, dir)
+	again := filepath.Join(dir, "again.csv")
+	raw, err := os.ReadFile(data)
+	require.NoError(t, err)
+	require.NoError(t, os.WriteFile(again, raw, 0o600))
+
+	empty := filepath.Join(dir, "empty.csv")
+	require.NoError(t, os.WriteFile(empty, nil, 0o600))
+	binary := filepath.Join(dir, "binary.csv")
+	require.NoError(t, os.WriteFile(binary, []byte("PK\x03\x04\x00\x00\x08\x00 not an export\x00\x01\x02"), 0o600))
+	missing := filepath.Join(dir, "missing.csv")
+	noRows := filepath.Join(dir, "header-only.csv")
+	require.NoError(t, os.WriteFile(noRows, []byte("Time,MAT,MARH,LAT,SAT,CFM\n"), 0o600))
+
+	// Twenty days of June (before the scenario's July days), more than a
+	// batch of the importer, gzipped and cut at nine tenths.
+	from := time.Date(2026, 6, 1, 0, 0, 0, 0, time.UTC)
+	june := minuteExport("Time,MAT,MARH,LAT,SAT,CFM", from, from.Add(20*24*time.Hour), func(ts time.Time) string {
+		return fmt.Sprintf(",%.2f,60.0,52.00,62.00,8000", 76+float64(ts.Minute())/100)
+	})
+	var gz bytes.Buffer
+	zw := gzip.NewWriter(&gz)
+	_, err = zw.Write([]byte(june))
+	require.NoError(t, err)
+	require.NoError(t, zw.Close())
+	cut := filepath.Join(dir, "cut.csv.gz")
+	require.NoError(t, os.WriteFile(cut, gz.Bytes()[:gz.Len()*9/10], 0o600))
+
+	code, out, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, empty, binary, data, missing, cut, noRows, again)
+	assert.Equal(t, 1, code)
+	assert.Contains(t, out, "export.csv: 2880 rows read, 14400 values accepted, 14400 written to the store")
+	assert.Contains(t, out, "again.csv: 2880 rows read, 14400 values accepted, 14400 written to the store", "a good file after the bad ones")
+	assert.Contains(t, errOut, fmt.Sprintf("5 of 7 files not imported, or only in part: %s, %s, %s, %s, %s", empty, binary, missing, cut, noRows))
+	assert.Contains(t, errOut, empty+": file is empty")
+	assert.Contains(t, errOut, "export the trend log again")
+	assert.Contains(t, errOut, binary+": not a delimited text file")
+	assert.Contains(t, errOut, "no such file or directory; check the path")
+	assert.Contains(t, errOut, noRows+": nothing was written to the store (0 rows read, 0 values, 0 rejected): the file has a header but no data rows")
+	assert.Contains(t, errOut, cut+" line ")
+
+	// The cut file: its error names the last line stored, and the store
+	// holds exactly the five values of every data line up to it.
+	m := regexp.MustCompile(regexp.QuoteMeta("every value of "+cut+" up to line ") + `(\d+) is stored`).FindStringSubmatch(errOut)
+	require.NotNil(t, m, "the cut file's error says up to which line it is stored:\n%s", errOut)
+	line, err := strconv.Atoi(m[1])
+	require.NoError(t, err)
+	require.Greater(t, line, 1000, "part of the cut file is stored")
+	type count struct{ n int }
+	got := sqliteRows(t, filepath.Join(dir, "test.db"), fmt.Sprintf("SELECT COALESCE(SUM(n), 0) FROM sample_blocks WHERE day_ms < %d", time.Date(2026, 7, 1, 0, 0, 0, 0, time.UTC).UnixMilli()),
+		func(c *count) []any { return []any{&c.n} })
+	assert.Equal(t, 5*(line-1), got[0].n, "the values of lines 2..%d of the cut file", line)
+}
+
+// TestImport_StoreFailureStops: when the store refuses a write, the
+// import stops at once rather than try the next file into the same store.
+func TestImport_StoreFailureStops(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeScenario(t, dir)
+	noRows := filepath.Join(dir, "header-only.csv")
+	require.NoError(t, os.WriteFile(noRows, []byte("Time,MAT,MARH,LAT,SAT,CFM\n"), 0o600))
+	mustCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	rw, err := sql.Open("sqlite", "file:"+filepath.Join(dir, "test.db")+"?_busy_timeout=5000")
+	require.NoError(t, err)
+	_, err = rw.Exec(`CREATE TRIGGER refuse_samples BEFORE INSERT ON sample_blocks BEGIN SELECT RAISE(ABORT, 'samples refused'); END`)
+	require.NoError(t, err)
+	require.NoError(t, rw.Close())
+	again := filepath.Join(dir, "again.csv")
+	raw, err := os.ReadFile(data)
+	require.NoError(t, err)
+	require.NoError(t, os.WriteFile(again, raw, 0o600))
+
+	code, out, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, noRows, data, again)
+	assert.Equal(t, 1, code)
+	assert.Contains(t, errOut, "samples refused")
+	assert.Contains(t, errOut, "nothing of "+data+" was stored")
+	assert.Contains(t, errOut, "1 of 3 files not imported, or only in part: "+noRows, "the file that failed before the store did")
+	assert.NotContains(t, out, "again.csv", "no file is tried after the store failed")
 }
 
 // TestServe_ReadOnlyFolderAndReadiness: serve opens a store in a folder

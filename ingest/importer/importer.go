@@ -7,6 +7,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"math"
 	"os"
 	"time"
@@ -57,6 +58,16 @@ type NothingWrittenError struct{ msg string }
 
 func (e *NothingWrittenError) Error() string { return e.msg }
 
+// StoreError is an import stopped by the store itself: a write of samples,
+// or of the import log, failed. Every other error of File is the file's
+// own (it cannot be opened or read, is not a trend export, is too large,
+// states a unit that does not fit) or the context's.
+type StoreError struct{ Err error }
+
+func (e *StoreError) Error() string { return e.Err.Error() }
+
+func (e *StoreError) Unwrap() error { return e.Err }
+
 // Index builds the point index of the configured air handlers.
 func Index(cfg *config.Config) (ingest.PointIndex, error) {
 	units := map[string]ingest.AirHandlerPoints{}
@@ -81,7 +92,7 @@ func File(ctx context.Context, path string, o Options) (Stats, error) {
 	log, ix, maxBytes := o.Log, o.Index, o.MaxBytes
 	f, err := os.Open(path)
 	if err != nil {
-		return s, fmt.Errorf("import: %w", err)
+		return s, openError(path, err)
 	}
 	defer f.Close()
 	size := int64(0)
@@ -111,8 +122,10 @@ func File(ctx context.Context, path string, o Options) (Stats, error) {
 	stopped := func(err error) error {
 		written, line, werr := p.finish(nil)
 		s.Written = written
+		s.CSV = r.Stats()
+		s.Rows = s.CSV.Rows
 		if werr != nil {
-			err = fmt.Errorf("import %s: %w", path, werr)
+			err = &StoreError{Err: fmt.Errorf("import %s: %w", path, werr)}
 		}
 		return storedSoFar(path, line, err)
 	}
@@ -181,7 +194,7 @@ func File(ctx context.Context, path string, o Options) (Stats, error) {
 	written, line, err := p.finish(cur)
 	s.Written = written
 	if err != nil {
-		return s, storedSoFar(path, line, fmt.Errorf("import %s: %w", path, err))
+		return s, storedSoFar(path, line, &StoreError{Err: fmt.Errorf("import %s: %w", path, err)})
 	}
 	if size > 0 {
 		prog(1000, 1000)
@@ -198,7 +211,7 @@ func File(ctx context.Context, path string, o Options) (Stats, error) {
 		rejected := s.CSV.RejectedTotal() + s.NotFinite + s.Units.Rejected
 		if err := il.RecordImport(ctx, store.ImportLog{File: path, SHA256: sum, RowsRead: s.Rows, Accepted: s.Written,
 			Rejected: rejected, Started: started, Finished: time.Now()}); err != nil {
-			return s, err
+			return s, &StoreError{Err: fmt.Errorf("import %s: record it in the import log: %w", path, err)}
 		}
 	}
 	log.Info().Str("file", path).Int("rows", s.Rows).Int("written", s.Written).Int("rejected", s.CSV.RejectedTotal()).
@@ -207,6 +220,18 @@ func File(ctx context.Context, path string, o Options) (Stats, error) {
 		return s, nothingWritten(s, o.ConfigPath)
 	}
 	return s, nil
+}
+
+// openError names the file that cannot be opened and what to do.
+func openError(path string, err error) error {
+	fix := "check that the file can be read"
+	switch {
+	case errors.Is(err, fs.ErrNotExist):
+		fix = "check the path"
+	case errors.Is(err, fs.ErrPermission):
+		fix = "give the user running dewline read access to it"
+	}
+	return fmt.Errorf("import %s: %w; %s", path, err, fix)
 }
 
 // storedSoFar adds to an import's error what of the file is stored: every

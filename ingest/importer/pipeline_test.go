@@ -156,6 +156,8 @@ func TestFile_WriteFails(t *testing.T) {
 			_, err := importWith(t, tc.w, path)
 			require.Error(t, err)
 			assert.Contains(t, err.Error(), "disk full")
+			var se *StoreError
+			assert.ErrorAs(t, err, &se, "a failure of the store, which stops the command")
 			// The SAT values are the minutes: the last one stored names
 			// the last whole line stored (minute m is line m+2).
 			sat := tc.w.got()["SAT"]
