@@ -271,3 +271,39 @@ func TestWebhook_UpdateEvery(t *testing.T) {
 		})
 	}
 }
+
+// TestValidate_SiteAltitude: a site's altitude is held to -500..5500 m,
+// given in metres or feet, with the key, its line and the range. The
+// feet are converted by hand (1 ft = 0.3048 m, exact by definition).
+func TestValidate_SiteAltitude(t *testing.T) {
+	base, err := os.ReadFile("../../testdata/config/minimal.good.yaml")
+	require.NoError(t, err)
+	for _, tt := range []struct {
+		name, altitude string
+		ok             bool
+	}{
+		{"sea level", "0m", true},
+		{"lowest", "-500m", true},
+		{"highest", "5500m", true},
+		{"lowest in feet", "-1640ft", true},  // -499.9 m
+		{"highest in feet", "18044ft", true}, // 5499.8 m
+		{"far below", "-2000m", false},
+		{"just below", "-501m", false},
+		{"below in feet", "-1700ft", false}, // -518.2 m
+		{"above", "5501m", false},
+		{"above in feet", "18100ft", false}, // 5516.9 m
+	} {
+		t.Run(tt.name, func(t *testing.T) {
+			y := strings.Replace(string(base), "pressure: 101.325kPa", "altitude: "+tt.altitude, 1)
+			require.NotEqual(t, string(base), y)
+			_, err := Parse(strings.NewReader(y), "site.yaml")
+			if tt.ok {
+				require.NoError(t, err)
+				return
+			}
+			require.Error(t, err)
+			assert.Contains(t, err.Error(), "site.yaml:2: site.altitude: "+tt.altitude+" is outside -500..5500 m (-1640..18044 ft)")
+			assert.Contains(t, err.Error(), "give the site's elevation")
+		})
+	}
+}

@@ -141,6 +141,14 @@ func (c *Config) validate(ce *Error, root *yaml.Node) {
 	}
 }
 
+// The altitudes of a building site: the shore of the Dead Sea (about
+// -430 m) to the highest towns (about 5100 m), with a margin (common
+// knowledge, no source). The standard atmosphere (psychro) holds further.
+const (
+	minSiteAltitudeM = -500.0
+	maxSiteAltitudeM = 5500.0
+)
+
 func (c *Config) validateSite(v *validator) {
 	p := []any{"site"}
 	if c.Site.TimeZone == "" {
@@ -163,8 +171,10 @@ func (c *Config) validateSite(v *validator) {
 		}
 	case c.Site.Altitude != "":
 		if z, ok := v.quantity(at(p, "altitude"), c.Site.Altitude, psychro.KindLength); ok {
-			if pa, err := psychro.PressureFromAltitude(z); err != nil || z > 5500 {
-				v.bad(at(p, "altitude"), fmt.Sprintf("%s is outside -500..5500 m", c.Site.Altitude), "give the site's elevation, e.g. 15m or 850ft")
+			// z is in metres whatever unit the file used, so one test
+			// holds both bounds for m and ft alike.
+			if pa, err := psychro.PressureFromAltitude(z); err != nil || z < minSiteAltitudeM || z > maxSiteAltitudeM {
+				v.bad(at(p, "altitude"), fmt.Sprintf("%s is outside -500..5500 m (-1640..18044 ft)", c.Site.Altitude), "give the site's elevation, e.g. 15m or 850ft")
 			} else {
 				c.PressurePa = pa
 			}
