@@ -395,7 +395,7 @@ func parseAll(r io.Reader, name string) (*Config, *Error, *yaml.Node, error) {
 	if err := dec.Decode(cfg); err != nil {
 		meant = ce.addDecodeErrors(err, &root)
 	}
-	cfg.applyDefaults()
+	cfg.applyDefaults(&root)
 	// A misspelt key is reported once: not again as the key it meant
 	// being missing.
 	vce := &Error{File: name}
@@ -409,7 +409,10 @@ func parseAll(r io.Reader, name string) (*Config, *Error, *yaml.Node, error) {
 	return cfg, ce, &root, nil
 }
 
-func (c *Config) applyDefaults() {
+// applyDefaults fills in the keys the file leaves out. A key the file
+// sets to zero keeps its zero, for validation to refuse where it means
+// nothing (grid.step: 0s).
+func (c *Config) applyDefaults(root *yaml.Node) {
 	if c.Store.Kind == "" {
 		c.Store.Kind = "embedded"
 	}
@@ -419,7 +422,7 @@ func (c *Config) applyDefaults() {
 	if c.Store.InfluxDB != nil && c.Store.InfluxDB.Timeout == 0 {
 		c.Store.InfluxDB.Timeout = DefaultInfluxWait
 	}
-	if c.Grid.Step == 0 {
+	if c.Grid.Step == 0 && !given(root, "grid", "step") {
 		c.Grid.Step = DefaultStep
 	}
 	if c.Site.Units == "" {

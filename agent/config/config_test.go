@@ -78,18 +78,33 @@ func TestLoadConfig_Bad(t *testing.T) {
 			`:6: prices.fuel_per_kwh: +Inf is outside 0..100000`,
 			`:7: prices.electricity_co2_kg_per_kwh: 40 is outside 0..3 kg/kWh`,
 			`:8: prices.fuel_co2_kg_per_kwh: -Inf is outside 0..3 kg/kWh`,
-			`:10: alerts.min_avoidable_kwh: NaN is outside 0..1000000 kWh`,
-			`:11: alerts.min_effective_eer: +Inf is outside 0..40 Btu/Wh`,
+			`:10: alerts.min_avoidable_kwh: NaN is outside 0 < x <= 1000000 kWh`,
+			`:11: alerts.min_effective_eer: +Inf is outside 0 < x <= 40 Btu/Wh`,
 			`:12: alerts.coil_min_leaving: 1e300F is outside 0..25 °C (32..77 °F)`,
-			`:15: air_handlers[0].cooling.rated_eer: NaN is outside 0..40 Btu/Wh`,
+			`:15: air_handlers[0].cooling.rated_eer: NaN is outside 0 < x <= 40 Btu/Wh`,
 			`:15: air_handlers[0].cooling.eer_per_kelvin: 5 is outside -2..0 Btu/Wh per K`,
 			`:15: air_handlers[0].cooling.rated_outdoor: 1e300F is outside 15..55 °C (59..131 °F)`,
-			`:16: air_handlers[0].reheat.boiler_efficiency: NaN is outside 0..1`,
+			`:16: air_handlers[0].reheat.boiler_efficiency: NaN is outside 0 < x <= 1;`,
 			`:19: air_handlers[0].target.max_supply_dewpoint: 1e300F is outside 0..25 °C (32..77 °F)`,
-			`:27: air_handlers[1].cooling.plant_kw_per_ton: NaN is outside 0..3 kW/ton`,
+			`:27: air_handlers[1].cooling.plant_kw_per_ton: NaN is outside 0 < x <= 3 kW/ton`,
 			`:27: air_handlers[1].cooling.eer_per_kelvin: +Inf is outside -2..0 Btu/Wh per K`,
 			`:31: air_handlers[1].target.max_space_rh: 300% is outside 20..90 %`,
 			`:31: air_handlers[1].target.space_temp: -400C is outside 10..35 °C (50..95 °F)`,
+		}},
+		// A zero that would divide, or that the code would read as the
+		// key left out, is refused with its key, its line and a range
+		// that excludes it.
+		{"zeros.bad.yaml", []string{
+			`:3: grid.step: step 0s must divide an hour and lie between 1s and 15m`,
+			`:5: alerts.min_avoidable_kwh: 0 is outside 0 < x <= 1000000 kWh`,
+			`:6: alerts.min_effective_eer: 0 is outside 0 < x <= 40 Btu/Wh`,
+			`:9: air_handlers[0].cooling.rated_eer: 0 is outside 0 < x <= 40 Btu/Wh; give the rated EER in Btu/Wh`,
+			`:9: air_handlers[0].cooling.rated_capacity: 0kW is outside 0 < x <= 5000 kW`,
+			`:10: air_handlers[0].reheat.boiler_efficiency: 0 is outside 0 < x <= 1; set boiler_efficiency as a fraction`,
+			`:12: air_handlers[0].fan.rated_power: 0kW is outside 0 < x <= 500 kW`,
+			`:22: air_handlers[1].cooling.rated_eer: -3 is outside 0 < x <= 40 Btu/Wh`,
+			`:38: air_handlers[2].cooling.plant_kw_per_ton: 0 is outside 0 < x <= 3 kW/ton`,
+			`:53: air_handlers[3].outdoor_air.min_fraction: 0% is outside 0 < x <= 100 %`,
 		}},
 		{"mixing.bad.yaml", []string{
 			`:12: air_handlers[0].points.entering_rh: entering_rh "AHU-1 Return RH" reads like a return RH, but entering_temp "AHU-1 Mixed Air Temp" is the mixed air`,
@@ -97,7 +112,7 @@ func TestLoadConfig_Bad(t *testing.T) {
 			`:24: air_handlers[1].points.entering_rh: entering_rh is the space_rh point "H2"`,
 			`air_handlers[2].points: mixing return and outdoor air needs the outdoor-air share`,
 			`set outdoor_air.min_fraction (e.g. 20%) or map outdoor_flow`,
-			`air_handlers[3].outdoor_air.min_fraction: 150% is outside 0-100 %`,
+			`air_handlers[3].outdoor_air.min_fraction: 150% is outside 0 < x <= 100 %`,
 		}},
 	}
 	for _, tt := range tests {
@@ -306,4 +321,23 @@ func TestValidate_SiteAltitude(t *testing.T) {
 			assert.Contains(t, err.Error(), "give the site's elevation")
 		})
 	}
+}
+
+// TestValidate_ZeroWhereMeaningful: a zero that means something is still
+// accepted: free energy or carbon-free supply, no moisture added by the
+// space, a leaving RH taken as exact, a metered unit with no rated EER.
+func TestValidate_ZeroWhereMeaningful(t *testing.T) {
+	base, err := os.ReadFile("../../testdata/config/minimal.good.yaml")
+	require.NoError(t, err)
+	y := strings.Replace(string(base), "    fan: {position: none}\n",
+		"    fan: {position: none}\n    space_moisture_gain: 0g/kg\n    leaving_rh_uncertainty: 0%\n", 1) +
+		"prices: {currency: USD, electricity_per_kwh: 0, fuel_per_kwh: 0, electricity_co2_kg_per_kwh: 0, fuel_co2_kg_per_kwh: 0}\n"
+	cfg, err := Parse(strings.NewReader(y), "site.yaml")
+	require.NoError(t, err)
+	assert.Zero(t, cfg.Prices.ElectricityPerKWh)
+	assert.Equal(t, DefaultStep, cfg.Grid.Step, "a step left out takes the default")
+
+	metered := strings.Replace(string(base), "rated_eer: 10}", "}", 1) + "      cooling_kw: {point: ckw, unit: kW}\n"
+	_, err = Parse(strings.NewReader(metered), "site.yaml")
+	require.NoError(t, err, "a metered DX unit needs no rated EER")
 }

@@ -267,6 +267,43 @@ func editDistance(a, b string) int {
 // lineOf finds the line of the value at a key path in the YAML tree:
 // strings step into mappings, ints into sequences. It returns the deepest
 // line found, so a missing key reports its parent's line.
+// given reports whether the file sets the key at path: a zero it gives
+// is not the zero of a key left out, which takes its default.
+func given(root *yaml.Node, path ...any) bool {
+	if root == nil {
+		return false
+	}
+	n := root
+	if n.Kind == yaml.DocumentNode && len(n.Content) > 0 {
+		n = n.Content[0]
+	}
+	for _, p := range path {
+		switch k := p.(type) {
+		case string:
+			if n.Kind != yaml.MappingNode {
+				return false
+			}
+			found := false
+			for i := 0; i+1 < len(n.Content); i += 2 {
+				if n.Content[i].Value == k {
+					n = n.Content[i+1]
+					found = true
+					break
+				}
+			}
+			if !found {
+				return false
+			}
+		case int:
+			if n.Kind != yaml.SequenceNode || k >= len(n.Content) {
+				return false
+			}
+			n = n.Content[k]
+		}
+	}
+	return !(n.Kind == yaml.ScalarNode && n.Tag == "!!null")
+}
+
 func lineOf(root *yaml.Node, path ...any) int {
 	n := root
 	if n.Kind == yaml.DocumentNode && len(n.Content) > 0 {

@@ -68,6 +68,20 @@ func (v *validator) number(path []any, x, lo, hi float64, unit, fix string) bool
 	return true
 }
 
+// given reports whether the file sets the key at path.
+func (v *validator) given(path []any) bool { return given(v.root, path...) }
+
+// positive refuses a configured number that is not finite or lies outside
+// 0 < x <= hi: a zero that would divide, or that the code would read as
+// the key left out.
+func (v *validator) positive(path []any, x, hi float64, unit, fix string) bool {
+	if math.IsNaN(x) || math.IsInf(x, 0) || x <= 0 || x > hi {
+		v.bad(path, fmt.Sprintf("%s is outside 0 < x <= %s%s", fmtNumber(x), fmtNumber(hi), unit), fix)
+		return false
+	}
+	return true
+}
+
 // fmtNumber writes NaN and infinities as Go does and other numbers
 // without an exponent where they have none.
 func fmtNumber(x float64) string {
@@ -326,16 +340,19 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 	_, metered := a.Points[string(metrics.RoleCoolingPower)]
 	switch a.Cooling.Kind {
 	case "dx":
-		if !metered && a.Cooling.RatedEER <= 0 {
+		// The modelled input divides the coil load by the COP from it.
+		if v.given(at(cp, "rated_eer")) {
+			v.positive(at(cp, "rated_eer"), a.Cooling.RatedEER, 40, " Btu/Wh", "give the rated EER in Btu/Wh, typically 8-16")
+		} else if !metered {
 			v.bad(at(cp, "rated_eer"), "a DX unit needs a cooling_kw point or a rated EER", "map cooling_kw, or set rated_eer (Btu/Wh) from the nameplate")
 		}
-		v.number(at(cp, "rated_eer"), a.Cooling.RatedEER, 0, 40, " Btu/Wh", "give the rated EER in Btu/Wh, typically 8-16")
 		v.temperatureIn(at(cp, "rated_outdoor"), a.Cooling.RatedOutdoor, 15, 55, "give the outdoor temperature of the rating, typically 95F (35C)")
 	case "chilled_water":
-		if !metered && a.Cooling.PlantKWPerTon == 0 {
+		// A plant of 0 kW per ton would make the coil's cooling free.
+		if v.given(at(cp, "plant_kw_per_ton")) {
+			v.positive(at(cp, "plant_kw_per_ton"), a.Cooling.PlantKWPerTon, 3, " kW/ton", "set plant_kw_per_ton, typically 0.6-1.2")
+		} else if !metered {
 			v.bad(at(cp, "plant_kw_per_ton"), "chilled water needs the plant's kW per ton (0 < x <= 3)", "set plant_kw_per_ton, typically 0.6-1.2")
-		} else {
-			v.number(at(cp, "plant_kw_per_ton"), a.Cooling.PlantKWPerTon, 0, 3, " kW/ton", "set plant_kw_per_ton, typically 0.6-1.2")
 		}
 	case "":
 		v.bad(at(cp, "kind"), "missing cooling kind", "use dx or chilled_water")
@@ -347,8 +364,8 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 	if a.Cooling.RatedCapacity != "" {
 		if a.Cooling.Kind != "dx" {
 			v.bad(at(cp, "rated_capacity"), "the rated capacity is for the part-load cycling of a DX unit", "remove it, or set kind: dx")
-		} else if x, ok := v.quantity(at(cp, "rated_capacity"), a.Cooling.RatedCapacity, psychro.KindPower); ok && (x <= 0 || x > 5000) {
-			v.bad(at(cp, "rated_capacity"), fmt.Sprintf("%s is outside 0-5000 kW", a.Cooling.RatedCapacity), "give the nameplate's total cooling capacity, e.g. 40ton or 140kW")
+		} else if x, ok := v.quantity(at(cp, "rated_capacity"), a.Cooling.RatedCapacity, psychro.KindPower); ok && !(x > 0 && x <= 5000) {
+			v.bad(at(cp, "rated_capacity"), fmt.Sprintf("%s is outside 0 < x <= 5000 kW", a.Cooling.RatedCapacity), "give the nameplate's total cooling capacity, e.g. 40ton or 140kW")
 		}
 	}
 	if a.Cooling.DegradationCoefficient != 0 {
@@ -370,10 +387,11 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 			v.bad(at(hp, "boiler_efficiency"), "boiler efficiency is for hot_water reheat", "remove it or set kind: hot_water")
 		}
 	case "hot_water":
-		if e := a.Reheat.BoilerEfficiency; e == 0 {
-			v.bad(at(hp, "boiler_efficiency"), "hot-water reheat needs the boiler efficiency (0 < x <= 1)", "set boiler_efficiency, e.g. 0.82; the fuel is priced with prices.fuel_per_kwh")
+		// The fuel is the reheat divided by the efficiency.
+		if v.given(at(hp, "boiler_efficiency")) {
+			v.positive(at(hp, "boiler_efficiency"), a.Reheat.BoilerEfficiency, 1, "", "set boiler_efficiency as a fraction, e.g. 0.82")
 		} else {
-			v.number(at(hp, "boiler_efficiency"), e, 0, 1, "", "set boiler_efficiency as a fraction, e.g. 0.82")
+			v.bad(at(hp, "boiler_efficiency"), "hot-water reheat needs the boiler efficiency (0 < x <= 1)", "set boiler_efficiency, e.g. 0.82; the fuel is priced with prices.fuel_per_kwh")
 		}
 	case "":
 		v.bad(at(hp, "kind"), "missing reheat kind", "use electric, hot_water, recovered or none")
@@ -429,8 +447,8 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 		if a.Fan.HeatRise != "" {
 			v.bad(at(fp, "rated_power"), "rated_power and heat_rise both give the fan's heat", "keep one")
 		}
-		if x, ok := v.quantity(at(fp, "rated_power"), a.Fan.RatedPower, psychro.KindPower); ok && (x <= 0 || x > 500) {
-			v.bad(at(fp, "rated_power"), fmt.Sprintf("%s is outside 0-500 kW", a.Fan.RatedPower), "give the fan motor's rated input, e.g. 7.5kW or 10hp as 7.5kW")
+		if x, ok := v.quantity(at(fp, "rated_power"), a.Fan.RatedPower, psychro.KindPower); ok && !(x > 0 && x <= 500) {
+			v.bad(at(fp, "rated_power"), fmt.Sprintf("%s is outside 0 < x <= 500 kW", a.Fan.RatedPower), "give the fan motor's rated input, e.g. 7.5kW or 10hp as 7.5kW")
 		}
 	}
 	if a.Fan.HeatRise != "" {
@@ -560,8 +578,14 @@ func (c *Config) validateSensors(v *validator) {
 
 func (c *Config) validateAlerts(v *validator) {
 	p := []any{"alerts"}
-	v.number(at(p, "min_avoidable_kwh"), c.Alerts.MinAvoidableKWh, 0, 1e6, " kWh", "give the smallest avoidable energy worth an alert, e.g. 5")
-	v.number(at(p, "min_effective_eer"), c.Alerts.MinEffectiveEER, 0, 40, " Btu/Wh", "give the effective EER below which an alert opens, e.g. 6")
+	// A zero of these two is read as the key left out (RuleParams): the
+	// default would apply instead of the zero written.
+	if v.given(at(p, "min_avoidable_kwh")) {
+		v.positive(at(p, "min_avoidable_kwh"), c.Alerts.MinAvoidableKWh, 1e6, " kWh", "give the smallest avoidable energy worth an alert, e.g. 5, or leave it out for 1")
+	}
+	if v.given(at(p, "min_effective_eer")) {
+		v.positive(at(p, "min_effective_eer"), c.Alerts.MinEffectiveEER, 40, " Btu/Wh", "give the effective EER below which an alert opens, e.g. 6, or leave it out for 5")
+	}
 	v.accuracy(at(p, "overcooling"), c.Alerts.Overcooling, true, 20)
 	if c.Alerts.CoilMinLeaving != "" {
 		v.temperatureIn(at(p, "coil_min_leaving"), c.Alerts.CoilMinLeaving, 0, 25, "give the coldest air the coils can deliver, e.g. 50F or 10C")
@@ -623,8 +647,8 @@ func (a *AirHandler) validateEntering(v *validator, p []any) {
 	case !rh && !dp:
 		if x := a.OutdoorAir.MinFraction; x != "" {
 			if f, ok := v.quantity(at(p, "outdoor_air", "min_fraction"), x, psychro.KindFraction); ok {
-				if f <= 0 || f > 1 {
-					v.bad(at(p, "outdoor_air", "min_fraction"), fmt.Sprintf("%s is outside 0-100 %%", x), "give the outdoor-air share at minimum position, e.g. 20%")
+				if !(f > 0 && f <= 1) {
+					v.bad(at(p, "outdoor_air", "min_fraction"), fmt.Sprintf("%s is outside 0 < x <= 100 %%", x), "give the outdoor-air share at minimum position, e.g. 20%")
 				} else {
 					a.MinOutdoorFrac = f
 				}
