@@ -468,7 +468,8 @@ func (c *Config) applyDefaults(root *yaml.Node) {
 		if a.Cooling.RatedOutdoor == "" {
 			a.Cooling.RatedOutdoor = "95F"
 		}
-		if a.Cooling.EERPerKelvin == 0 {
+		// 0 is meaningful here: an EER that does not change outdoors.
+		if a.Cooling.EERPerKelvin == 0 && !given(root, "air_handlers", i, "cooling", "eer_per_kelvin") {
 			a.Cooling.EERPerKelvin = -0.1
 		}
 	}

@@ -337,6 +337,11 @@ func TestValidate_ZeroWhereMeaningful(t *testing.T) {
 	assert.Zero(t, cfg.Prices.ElectricityPerKWh)
 	assert.Equal(t, DefaultStep, cfg.Grid.Step, "a step left out takes the default")
 
+	flat := strings.Replace(string(base), "rated_eer: 10}", "rated_eer: 10, eer_per_kelvin: 0}", 1)
+	cfg, err = Parse(strings.NewReader(flat), "site.yaml")
+	require.NoError(t, err)
+	assert.Zero(t, cfg.Spec(&cfg.AirHandlers[0]).COPPerK, "eer_per_kelvin: 0 is an EER that does not change outdoors, not the default")
+
 	metered := strings.Replace(string(base), "rated_eer: 10}", "}", 1) + "      cooling_kw: {point: ckw, unit: kW}\n"
 	_, err = Parse(strings.NewReader(metered), "site.yaml")
 	require.NoError(t, err, "a metered DX unit needs no rated EER")
