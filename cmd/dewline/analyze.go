@@ -9,12 +9,11 @@ import (
 	"strings"
 	"time"
 
-	"github.com/rs/zerolog"
-
 	"github.com/dewline/dewline/agent"
 	"github.com/dewline/dewline/agent/telemetry"
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
+	"github.com/dewline/dewline/ingest/importer"
 	"github.com/dewline/dewline/ingest/outfile"
 	"github.com/dewline/dewline/ingest/store"
 	"github.com/dewline/dewline/metrics"
@@ -118,7 +117,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		if err != nil {
 			return err
 		}
-		order, err := scanExports(ctx, inputs, cfg, ix)
+		order, err := csvfile.ScanOrder(ctx, inputs, cfg.CSVOptions(), ix)
 		if err != nil {
 			return err
 		}
@@ -223,7 +222,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		}
 	}
 	if recSrc != nil {
-		reportInputs(log, files, recSrc)
+		importer.LogInputs(log, files.Readers(), recSrc.RowUnits, recSrc.Unmatched)
 	}
 	if runErr != nil {
 		return runErr
@@ -238,33 +237,6 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 	}
 	log.Info().Int("hours", hours).Dur("took_ms", time.Since(start)).Int("failed", len(failed)).Msg("analysis done")
 	return agent.WriteSummaries(e.stdout, cfg, ahus, sums)
-}
-
-// reportInputs logs what the exports held that was not used.
-func reportInputs(log zerolog.Logger, files *csvfile.Files, rh *ingest.RecordHours) {
-	for _, r := range files.Readers() {
-		s := r.Stats()
-		ev := log.Info().Str("file", r.Name()).Int("records", s.Records).Int("rejected", s.RejectedTotal())
-		ev.Msg("input read")
-		for _, rej := range s.Examples {
-			log.Warn().Str("file", r.Name()).Str("rejected", rej.String()).Msg("row rejected")
-		}
-	}
-	if ru := rh.RowUnits; ru != nil {
-		if ru.Converted > 0 {
-			log.Info().Int("values", ru.Converted).Msg("values converted from the unit their row states")
-		}
-		if ru.Rejected > 0 {
-			ev := log.Warn().Int("rows", ru.Rejected)
-			if len(ru.Examples) > 0 {
-				ev = ev.Str("example", ru.Examples[0].String())
-			}
-			ev.Msg("rows rejected: their unit is not of the point's kind; correct the unit column")
-		}
-	}
-	if u := rh.Unmatched.Summary(unmatchedExamples); u != "" {
-		log.Info().Str("unmatched", u).Msg("series not mapped to any air handler")
-	}
 }
 
 // storedSpan is the span of the stored samples of the air handlers'

@@ -2,11 +2,9 @@ package main
 
 import (
 	"context"
-	"errors"
 	"flag"
 	"fmt"
 	"slices"
-	"strings"
 
 	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/agent/telemetry"
@@ -64,64 +62,6 @@ func runImport(ctx context.Context, e *env, args []string) error {
 	}
 	defer st.Close()
 
-	var all []importer.Stats // printed on the way out, whatever happened
-	defer func() {
-		for _, s := range all {
-			s.Write(e.stdout)
-		}
-	}()
-	var failed []fileFailure // the others are still imported
-	for _, path := range files {
-		prog := telemetry.NewProgress("importing "+path, e.log)
-		s, err := importer.File(ctx, path, importer.Options{Config: cfg, ConfigPath: *cfgPath, Store: st.Store, Index: ix,
-			MaxBytes: *maxMiB << 20, Log: e.log, Progress: prog.Update})
-		all = append(all, s)
-		if err == nil {
-			continue
-		}
-		// A failure of the store (a write or the import log refused) or
-		// an interrupt stops the command: every later file would go to
-		// the same store, or was asked not to be read. Any other failure
-		// is the file's own (missing, unreadable, not an export,
-		// truncated, too large, nothing stored): the next file may well
-		// be good.
-		var se *importer.StoreError
-		if errors.As(err, &se) || ctx.Err() != nil {
-			if len(failed) > 0 {
-				return fmt.Errorf("%w\n%v", err, importFailures{failed: failed, of: len(files)})
-			}
-			return err
-		}
-		failed = append(failed, fileFailure{path: path, err: err})
-	}
-	if len(failed) > 0 {
-		return importFailures{failed: failed, of: len(files)}
-	}
-	return nil
-}
-
-// fileFailure is a file that failed to import for a reason of its own.
-type fileFailure struct {
-	path string
-	err  error
-}
-
-// importFailures is the end of an import in which some files failed: a
-// line naming them, then each one's reason and fix.
-type importFailures struct {
-	failed []fileFailure
-	of     int // files named
-}
-
-func (f importFailures) Error() string {
-	var b strings.Builder
-	names := make([]string, len(f.failed))
-	for i, ff := range f.failed {
-		names[i] = ff.path
-	}
-	fmt.Fprintf(&b, "%d of %d files not imported, or only in part: %s", len(f.failed), f.of, strings.Join(names, ", "))
-	for _, ff := range f.failed {
-		fmt.Fprintf(&b, "\n  %v", ff.err)
-	}
-	return b.String()
+	return importer.Files(ctx, files, importer.Options{Config: cfg, ConfigPath: *cfgPath, Store: st.Store, Index: ix, MaxBytes: *maxMiB << 20, Log: e.log},
+		func(path string) func(int, int) { return telemetry.NewProgress("importing "+path, e.log).Update }, e.stdout, nil)
 }

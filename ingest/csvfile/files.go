@@ -1,6 +1,7 @@
 package csvfile
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -165,4 +166,39 @@ func (f *Files) down(i int) {
 		f.heads[i], f.heads[m] = f.heads[m], f.heads[i]
 		i = m
 	}
+}
+
+// ScanOrder reads each regular file of paths once, on its own, for
+// ingest.ScanOrder: the span of the records of the series in ix over all
+// the files, and the first record out of order in the first file that has
+// one. Files read in order merge in order (a merge by time keeps each
+// file's bound), so an analysis can stream them; it need not read a pipe
+// twice: one that is not a regular file is left out (RecordHours checks
+// its order as it streams).
+func ScanOrder(ctx context.Context, paths []string, opt Options, ix ingest.PointIndex) (ingest.Order, error) {
+	var all ingest.Order
+	for _, path := range paths {
+		if fi, err := os.Stat(path); err != nil || !fi.Mode().IsRegular() {
+			continue // OpenFiles reports what is wrong with it
+		}
+		f, err := OpenFiles([]string{path}, opt)
+		if err != nil {
+			return all, err
+		}
+		o, err := ingest.ScanOrder(ctx, f, ix)
+		f.Close()
+		if err != nil {
+			return all, err
+		}
+		if all.OutOfOrder == nil {
+			all.OutOfOrder = o.OutOfOrder
+		}
+		if !o.First.IsZero() && (all.First.IsZero() || o.First.Before(all.First)) {
+			all.First = o.First
+		}
+		if o.Last.After(all.Last) {
+			all.Last = o.Last
+		}
+	}
+	return all, nil
 }

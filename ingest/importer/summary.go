@@ -7,6 +7,7 @@ import (
 
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
+	"github.com/rs/zerolog"
 )
 
 // UnmatchedExamples is how many unmapped series names a summary shows.
@@ -57,5 +58,34 @@ func WriteRowUnits(w io.Writer, ru *ingest.RowUnits) {
 		for _, ex := range ru.Examples {
 			fmt.Fprintf(w, "    e.g. %s\n", ex.String())
 		}
+	}
+}
+
+// LogInputs logs what exports analysed as they stream held that was
+// not used: rows rejected by each reader, rows read in or refused for
+// the unit they state (ru), series no air handler maps.
+func LogInputs(log zerolog.Logger, readers []*csvfile.Reader, ru *ingest.RowUnits, unmatched ingest.Unmatched) {
+	for _, r := range readers {
+		s := r.Stats()
+		ev := log.Info().Str("file", r.Name()).Int("records", s.Records).Int("rejected", s.RejectedTotal())
+		ev.Msg("input read")
+		for _, rej := range s.Examples {
+			log.Warn().Str("file", r.Name()).Str("rejected", rej.String()).Msg("row rejected")
+		}
+	}
+	if ru != nil {
+		if ru.Converted > 0 {
+			log.Info().Int("values", ru.Converted).Msg("values converted from the unit their row states")
+		}
+		if ru.Rejected > 0 {
+			ev := log.Warn().Int("rows", ru.Rejected)
+			if len(ru.Examples) > 0 {
+				ev = ev.Str("example", ru.Examples[0].String())
+			}
+			ev.Msg("rows rejected: their unit is not of the point's kind; correct the unit column")
+		}
+	}
+	if u := unmatched.Summary(UnmatchedExamples); u != "" {
+		log.Info().Str("unmatched", u).Msg("series not mapped to any air handler")
 	}
 }
