@@ -24,6 +24,7 @@ const (
 	FlagReheatMeter        = "reheat_meter_mismatch"
 	FlagWaterInUncertainty = "water_within_uncertainty"
 	FlagModelledCooling    = "cooling_input_modelled"
+	FlagCoolingMissing     = "cooling_input_missing" // the coil cooled while cooling_kw read nothing and no rated EER or plant kW/ton could stand in
 	FlagSpaceGainAssumed   = "space_gain_assumed"
 	FlagCOPImplausible     = "cop_implausible"        // air-side coil load over metered cooling input outside 1.5-7
 	FlagLeavingSensorOut   = "leaving_sensor_missing" // a mapped leaving humidity sensor read nothing; the coil model took over
@@ -49,7 +50,7 @@ func Compute(u *AirHandler, hr *Hour) Record {
 
 	var (
 		valid, coolOnSteps, needSteps, moistSteps, supersatSteps, noCoilSteps, modelled int
-		belowCoilSteps                                                                  int
+		belowCoilSteps, unknownCool                                                     int
 		sumTIn, sumWIn, sumWLv, sumTLv, sumTSup, sumReq, sumOver                        float64
 		reheatElecIn, reheatAvoidIn, meterHeat, computedHeat                            float64
 		meterSteps, gainSteps, lvOutSteps, copSteps, meteredSteps                       int
@@ -125,8 +126,11 @@ func Compute(u *AirHandler, hr *Hour) Record {
 			meterHeat += o.reheatIn * dtH
 			computedHeat += o.reheat.v * dtH
 		}
-		if !o.meteredCool && o.coolOn {
+		if o.modelledCool && o.coolOn {
 			modelled++
+		}
+		if o.coolUnknown {
+			unknownCool++
 		}
 		if o.coolOn && o.reheatOn {
 			rec.SHCHours += dtH
@@ -316,6 +320,9 @@ func Compute(u *AirHandler, hr *Hour) Record {
 	}
 	if modelled > 0 {
 		flags = append(flags, FlagModelledCooling)
+	}
+	if unknownCool > 0 {
+		flags = append(flags, FlagCoolingMissing)
 	}
 	if gainSteps > 0 {
 		flags = append(flags, FlagSpaceGainAssumed)

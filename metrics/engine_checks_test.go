@@ -292,6 +292,63 @@ func TestCompute_CoolingInput(t *testing.T) {
 	assert.InEpsilon(t, psychro.KWToTons(chw.CoilTotalKWh)*0.9, chw.CoolingInputKWh, 1e-9)
 }
 
+// TestCompute_CoolingInputMissing: a unit whose cooling input is metered
+// and which has no rated EER (or plant kW/ton) to fall back on has no
+// cooling input while the meter is silent and the coil cools. Everything
+// that needs the input (electricity, cost, the EERs) is unknown, never
+// 0 or +Inf, and the hour says why; the air side is what it is.
+func TestCompute_CoolingInputMissing(t *testing.T) {
+	vals := func(kw func(int) float64) *metrics.Hour {
+		return newHour(day0, map[metrics.Role]func(int) float64{
+			metrics.RoleEnteringTemp: constant(26), metrics.RoleEnteringRH: constant(0.6),
+			metrics.RoleLeavingTemp: constant(12), metrics.RoleSupplyTemp: constant(16), metrics.RoleSupplyFlow: constant(3),
+			metrics.RoleCoolingPower: kw,
+		})
+	}
+	silent := constant(math.NaN())
+	firstTwenty := func(i int) float64 {
+		if i < 20 {
+			return math.NaN()
+		}
+		return 20
+	}
+	dx := testAirHandler()
+	dx.RatedCOP = 0
+	chw := testAirHandler()
+	chw.Cooling, chw.PlantKWPerKW = metrics.CoolingChilledWater, 0
+	for _, u := range []*metrics.AirHandler{dx, chw} {
+		metered := metrics.Compute(u, vals(constant(20)))
+		require.InDelta(t, 20, metered.CoolingInputKWh, 1e-9)
+		for name, kw := range map[string]func(int) float64{"silent all hour": silent, "silent 20 min": firstTwenty} {
+			t.Run(name, func(t *testing.T) {
+				r := metrics.Compute(u, vals(kw))
+				for field, v := range map[string]float64{
+					"cooling_input_kwh": r.CoolingInputKWh, "cooling_avoidable_input_kwh": r.CoolingAvoidKWh,
+					"electricity_kwh": r.ElectricityKWh, "cost": r.Cost, "cost_avoidable": r.CostAvoidable,
+					"co2_kg": r.CO2Kg, "coil_eer": r.CoilEER, "effective_eer": r.EffectiveEER,
+					"effective_eer_cost_basis": r.EffectiveEERCost, "water_per_kwh_l": r.WaterPerKWhL,
+				} {
+					assert.True(t, math.IsNaN(v), "%s = %v, want unknown", field, v)
+				}
+				assert.Contains(t, r.Flags, metrics.FlagCoolingMissing)
+				assert.NotContains(t, r.Flags, metrics.FlagModelledCooling, "nothing could be modelled")
+				assert.Equal(t, metered.CoilTotalKWh, r.CoilTotalKWh, "the air side does not need the meter")
+				assert.Equal(t, metered.ReheatInputKWh, r.ReheatInputKWh)
+			})
+		}
+	}
+	t.Run("coil off", func(t *testing.T) {
+		// No coil load, no cooling input, meter or not.
+		r := metrics.Compute(dx, newHour(day0, map[metrics.Role]func(int) float64{
+			metrics.RoleEnteringTemp: constant(22), metrics.RoleEnteringRH: constant(0.5),
+			metrics.RoleLeavingTemp: constant(22), metrics.RoleSupplyTemp: constant(22), metrics.RoleSupplyFlow: constant(3),
+			metrics.RoleCoolingPower: silent,
+		}))
+		assert.Equal(t, 0.0, r.CoolingInputKWh)
+		assert.NotContains(t, r.Flags, metrics.FlagCoolingMissing)
+	})
+}
+
 // TestCompute_UncertaintyMonteCarlo compares the propagated 95 % half-widths
 // with a Monte Carlo over the same sensor biases (an independent method):
 // each trial draws one bias per sensor for the hour, normal with the

@@ -54,6 +54,8 @@ type stepOut struct {
 	enteringSupersat         bool    // entering dew point above dry bulb (sensor problem)
 	reheatWithoutCoil        bool    // supply warmer than leaving with no reheat coil
 	meteredCool, meteredHeat bool
+	modelledCool             bool // the cooling input came from the rated EER or plant kW/ton
+	coolUnknown              bool // the coil cooled, and neither meter nor model gave its input
 }
 
 // engine evaluates steps for one unit, caching the target's required temperature.
@@ -680,14 +682,22 @@ func (e *engine) step(x *stepIn, o *stepOut) bool {
 		if total > 0 {
 			o.coolAvoidIn = x.coolKW * o.coilAvoid / total
 		}
-	case u.Cooling == CoolingDX:
+	case u.Cooling == CoolingDX && u.RatedCOP > 0:
 		// The avoidable input is what the load beyond the needed one drew:
 		// at part load each kWh of coil load costs more input (PLF).
+		o.modelledCool = true
 		cop := e.copAt(x.tOut)
 		o.coolIn = u.modelledCoolIn(total, cop)
 		o.coolAvoidIn = o.coolIn - u.modelledCoolIn(total-o.coilAvoid, cop)
-	case u.Cooling == CoolingChilledWater:
+	case u.Cooling == CoolingChilledWater && u.PlantKWPerKW > 0:
+		o.modelledCool = true
 		o.coolIn, o.coolAvoidIn = total*u.PlantKWPerKW, o.coilAvoid*u.PlantKWPerKW
+	case o.coolOn:
+		// A metered unit without an efficiency to fall back on, its meter
+		// silent while the coil cools: the input is unknown, not zero and
+		// not load / 0. A coil that does not cool draws none (stays 0).
+		o.coolIn, o.coolAvoidIn = math.NaN(), math.NaN()
+		o.coolUnknown = true
 	}
 	switch u.Reheat {
 	case ReheatElectric:
