@@ -60,17 +60,22 @@ type Summary struct {
 	SHCUnneededHours float64
 	WaterU95         float64 // hours' half-widths added in quadrature (hour biases taken as independent)
 	ReheatAvoidU95   float64
-	Failed           int             // hours whose computation failed (see Errors)
-	Alerts           []metrics.Alert // alerts pending or open at the end
+	// NoCoolingInput counts the hours without a cooling input: the sums
+	// above skip their empty values, and the EER leaves out their coil.
+	NoCoolingInput metrics.CoolingGap
+	Failed         int             // hours whose computation failed (see Errors)
+	Alerts         []metrics.Alert // alerts pending or open at the end
 }
 
-// EffectiveEER is the period's effective EER in Btu/Wh.
+// EffectiveEER is the period's effective EER in Btu/Wh, over the hours
+// with a cooling input.
 func (s *Summary) EffectiveEER() float64 {
-	in := s.CoolingInputKWh + s.ReheatInputKWh
+	g := &s.NoCoolingInput
+	in := s.CoolingInputKWh + s.ReheatInputKWh - g.ReheatInputKWh
 	if in == 0 {
 		return math.NaN()
 	}
-	return psychro.COPToEER((s.CoilKWh - s.ReheatKWh) / in)
+	return psychro.COPToEER((s.CoilKWh - g.CoilKWh - (s.ReheatKWh - g.ReheatKWh)) / in)
 }
 
 // Coverage is the mean coverage of the period's hours.
@@ -83,25 +88,35 @@ func (s *Summary) Coverage() float64 {
 
 func (s *Summary) add(r *metrics.Record) {
 	s.Hours++
-	s.CoveredHours += r.Coverage
-	s.WaterKg += r.WaterRemovedKg
-	s.CoilKWh += r.CoilTotalKWh
-	s.ReheatKWh += r.ReheatKWh
-	s.ReheatNeededKWh += r.ReheatNeededKWh
-	s.ReheatAvoidKWh += r.ReheatAvoidKWh
-	s.ReheatInputKWh += r.ReheatInputKWh
-	s.CoolingInputKWh += r.CoolingInputKWh
-	s.CoolingAvoidKWh += r.CoolingAvoidKWh
-	s.ElectricityKWh += r.ElectricityKWh
-	s.FuelKWh += r.FuelKWh
-	s.Cost += r.Cost
-	s.CostAvoidable += r.CostAvoidable
-	s.CO2Kg += r.CO2Kg
-	s.CO2AvoidableKg += r.CO2AvoidableKg
-	s.SHCHours += r.SHCHours
-	s.SHCUnneededHours += r.SHCUnneededH
-	s.WaterU95 = math.Hypot(s.WaterU95, r.WaterRemovedKgU95)
-	s.ReheatAvoidU95 = math.Hypot(s.ReheatAvoidU95, r.ReheatAvoidKWhU95)
+	s.NoCoolingInput.Add(r)
+	add := func(dst *float64, v float64) { // an hour without the value adds nothing
+		if !math.IsNaN(v) && !math.IsInf(v, 0) {
+			*dst += v
+		}
+	}
+	add(&s.CoveredHours, r.Coverage)
+	add(&s.WaterKg, r.WaterRemovedKg)
+	add(&s.CoilKWh, r.CoilTotalKWh)
+	add(&s.ReheatKWh, r.ReheatKWh)
+	add(&s.ReheatNeededKWh, r.ReheatNeededKWh)
+	add(&s.ReheatAvoidKWh, r.ReheatAvoidKWh)
+	add(&s.ReheatInputKWh, r.ReheatInputKWh)
+	add(&s.CoolingInputKWh, r.CoolingInputKWh)
+	add(&s.CoolingAvoidKWh, r.CoolingAvoidKWh)
+	add(&s.ElectricityKWh, r.ElectricityKWh)
+	add(&s.FuelKWh, r.FuelKWh)
+	add(&s.Cost, r.Cost)
+	add(&s.CostAvoidable, r.CostAvoidable)
+	add(&s.CO2Kg, r.CO2Kg)
+	add(&s.CO2AvoidableKg, r.CO2AvoidableKg)
+	add(&s.SHCHours, r.SHCHours)
+	add(&s.SHCUnneededHours, r.SHCUnneededH)
+	if v := r.WaterRemovedKgU95; !math.IsNaN(v) {
+		s.WaterU95 = math.Hypot(s.WaterU95, v)
+	}
+	if v := r.ReheatAvoidKWhU95; !math.IsNaN(v) {
+		s.ReheatAvoidU95 = math.Hypot(s.ReheatAvoidU95, v)
+	}
 }
 
 // Analyzer computes hourly records and alerts for a period.

@@ -31,7 +31,7 @@ func WriteSummaries(w io.Writer, cfg *config.Config, ahus []string, sums map[str
 	}
 	fmt.Fprintf(tw, "air handler\thours\tcoverage\t%s\treheat kWh\tavoidable kWh\tavoidable %s\tcost %s\teff. EER\topen alerts\t\n", waterUnit, cur, cur)
 	var tot Summary
-	var notes []string
+	var notes, gaps []string
 	for _, s := range rows {
 		water := s.WaterKg
 		if ip {
@@ -47,6 +47,11 @@ func WriteSummaries(w io.Writer, cfg *config.Config, ahus []string, sums map[str
 		}
 		fmt.Fprintf(tw, "%s\t%d\t%.0f%%\t%.0f\t%.0f\t%.0f\t%.2f\t%.2f\t%s\t%d\t\n",
 			s.AHU, s.Hours, 100*s.Coverage(), water, s.ReheatKWh, s.ReheatAvoidKWh, s.CostAvoidable, s.Cost, eer(s.EffectiveEER()), open)
+		if n := s.NoCoolingInput.Hours; n > 0 {
+			gaps = append(gaps, fmt.Sprintf("  %s: %s flagged %s, left out of its cost, avoidable cost and EER",
+				s.AHU, plural(n, "hour"), metrics.FlagCoolingMissing))
+			tot.NoCoolingInput.Hours += n
+		}
 		tot.CostAvoidable += s.CostAvoidable
 		tot.Cost += s.Cost
 		tot.ReheatKWh += s.ReheatKWh
@@ -57,6 +62,13 @@ func WriteSummaries(w io.Writer, cfg *config.Config, ahus []string, sums map[str
 	}
 	fmt.Fprintf(w, "\ntotal: reheat %.0f kWh, of which %.0f kWh avoidable (%.2f %s of %.2f %s)\n",
 		tot.ReheatKWh, tot.ReheatAvoidKWh, tot.CostAvoidable, cur, tot.Cost, cur)
+	if len(gaps) > 0 {
+		fmt.Fprintf(w, "\n%s without a cooling input (a metered cooling_kw read nothing, and no rated_eer or plant_kw_per_ton stands in):\n",
+			plural(tot.NoCoolingInput.Hours, "hour"))
+		for _, g := range gaps {
+			fmt.Fprintln(w, g)
+		}
+	}
 	if len(notes) > 0 {
 		fmt.Fprintln(w, "\nopen alerts:")
 		for _, n := range notes {
@@ -74,4 +86,11 @@ func eer(v float64) string {
 		return "-"
 	}
 	return fmt.Sprintf("%.1f", v)
+}
+
+func plural(n int, what string) string {
+	if n == 1 {
+		return "1 " + what
+	}
+	return fmt.Sprintf("%d %ss", n, what)
 }

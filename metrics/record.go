@@ -230,3 +230,49 @@ func ratio(a, b float64) float64 {
 	}
 	return a / b
 }
+
+// HasCoolingInput reports whether the hour has a cooling input: false when
+// it could not be computed (a metered unit whose meter was silent with no
+// rated efficiency to stand in, flagged FlagCoolingMissing; stored before
+// that flag, an empty or infinite value).
+func (r *Record) HasCoolingInput() bool {
+	return !math.IsNaN(r.CoolingInputKWh) && !math.IsInf(r.CoolingInputKWh, 0)
+}
+
+// CoolingGap counts the hours without a cooling input and sums the coil
+// and reheat figures of those hours, which a ratio over many hours (an
+// EER of sums) leaves out of its numerator as their input is out of its
+// denominator. Sums of the cost and energy fields skip such hours'
+// empty values; the count says how many were skipped.
+type CoolingGap struct {
+	Hours          int
+	CoilKWh        float64 // coil_total_kwh of those hours
+	ReheatKWh      float64 // reheat_kwh
+	ReheatInputKWh float64 // reheat_input_kwh
+}
+
+// Add counts r when it has no cooling input.
+func (g *CoolingGap) Add(r *Record) {
+	if r.HasCoolingInput() {
+		return
+	}
+	g.Hours++
+	g.CoilKWh += finiteOr0(r.CoilTotalKWh)
+	g.ReheatKWh += finiteOr0(r.ReheatKWh)
+	g.ReheatInputKWh += finiteOr0(r.ReheatInputKWh)
+}
+
+// Merge adds the gap of other hours (a day's, say) to g.
+func (g *CoolingGap) Merge(o CoolingGap) {
+	g.Hours += o.Hours
+	g.CoilKWh += o.CoilKWh
+	g.ReheatKWh += o.ReheatKWh
+	g.ReheatInputKWh += o.ReheatInputKWh
+}
+
+func finiteOr0(v float64) float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0
+	}
+	return v
+}
