@@ -174,3 +174,21 @@ func (a *AirHandler) EnteringAir() string {
 	}
 	return "entering air: return and outdoor air mixed (W = x W_oa + (1 - x) W_ra); the outdoor-air share x from the mixed, return and outdoor temperatures when outdoor and return differ by 3 K or more, else the hour's own share from such steps, else " + share
 }
+
+// CoolingFallback is a warning for an air handler whose cooling input is
+// metered with nothing to stand in for the meter (no rated_eer for DX, no
+// plant_kw_per_ton for chilled water): an hour the meter reads nothing
+// while the coil cools has no cooling input, so no cost and no EER. Empty
+// when the unit has a fallback or no meter.
+func (a *AirHandler) CoolingFallback() string {
+	if _, metered := a.Points[string(metrics.RoleCoolingPower)]; !metered {
+		return ""
+	}
+	switch {
+	case a.Cooling.Kind == "dx" && a.Cooling.RatedEER <= 0:
+		return "warning: cooling_kw has no fallback: while it reads nothing (a dropout, an out-of-range sample) the coil's cooling input, the hour's cost and its EERs are unknown; add cooling.rated_eer (Btu/Wh, from the nameplate) to model them instead"
+	case a.Cooling.Kind == "chilled_water" && a.Cooling.PlantKWPerTon <= 0:
+		return "warning: cooling_kw has no fallback: while it reads nothing (a dropout, an out-of-range sample) the coil's cooling input, the hour's cost and its EERs are unknown; add cooling.plant_kw_per_ton to model them instead"
+	}
+	return ""
+}

@@ -38,6 +38,9 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 	fmt.Fprintf(e.stdout, "%s: valid; %d air handler(s), %d point(s), store %s, grid %v\n", *cfgPath, len(cfg.AirHandlers), points, cfg.Store.Kind, cfg.Grid.Step)
 	for i := range cfg.AirHandlers {
 		fmt.Fprintf(e.stdout, "  %s %s\n", cfg.AirHandlers[i].ID, cfg.AirHandlers[i].EnteringAir())
+		if w := cfg.AirHandlers[i].CoolingFallback(); w != "" {
+			fmt.Fprintf(e.stdout, "  %s %s\n", cfg.AirHandlers[i].ID, w)
+		}
 	}
 	if len(inputs) == 0 && !*useStore {
 		return nil

@@ -117,3 +117,20 @@ func TestAnalyze_CoolingMeterDropout(t *testing.T) {
 	require.NoError(t, err)
 	assert.Equal(t, fmt.Sprintf("%.1f", eer), line[8], "effective EER over the hours with a cooling input")
 }
+
+// TestCheck_CoolingMeterWithoutFallback: check warns about a metered
+// cooling input with no rated EER to stand in for the meter, and not once
+// the rated EER is set.
+func TestCheck_CoolingMeterWithoutFallback(t *testing.T) {
+	dir := t.TempDir()
+	cfg, _ := writeCase(t, dir, meterDropoutConfig, "")
+	r := runDewline(t, time.Minute, "check", "--config", cfg)
+	require.Equal(t, 0, r.code, r.stderr)
+	assert.Contains(t, r.stdout, "AHU-1 warning: cooling_kw has no fallback")
+	assert.Contains(t, r.stdout, "add cooling.rated_eer")
+
+	cfg, _ = writeCase(t, dir, strings.Replace(meterDropoutConfig, "{kind: dx}", "{kind: dx, rated_eer: 11}", 1), "")
+	r = runDewline(t, time.Minute, "check", "--config", cfg)
+	require.Equal(t, 0, r.code, r.stderr)
+	assert.NotContains(t, r.stdout, "warning")
+}
