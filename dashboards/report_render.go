@@ -355,6 +355,14 @@ func (r *Report) airHandlerView(ur AirHandlerReport) rvAirHandler {
 		row("Cost", fmtMoney(float64(t.Cost))+" "+cur, "avoidable "+fmtMoney(float64(t.CostAvoidable))+" "+cur, "cost_avoidable", float64(t.CostAvoidable)),
 		row("CO2", co2Text(float64(t.CO2Kg)), "avoidable "+co2Text(float64(t.CO2AvoidKg)), "co2_avoidable_kg", float64(t.CO2AvoidKg)),
 	}
+	if n := t.NoCoolingInputHours; n > 0 {
+		// The rows after the sixth are the cooling side: say which hours they leave out.
+		hours := "hours"
+		if n == 1 {
+			hours = "hour"
+		}
+		uv.Totals[6].Note += fmt.Sprintf("; %d %s without a cooling input (flag cooling_input_missing) left out of it, the EERs and the cost", n, hours)
+	}
 	uv.Totals, uv.TotalsR = uv.Totals[:6], uv.Totals[6:]
 	uv.PsyNote = fmt.Sprintf("%d hours drawn, each from the air entering the coil to the coil leaving state to the supply, at %s kPa; the humidity target is marked. Hour means: the spread within an hour is not shown.", ur.States, fmtFixed(r.pressure(ur.AirHandler)/1000, 2))
 	kinds := map[string]*rvAlertKind{}

@@ -100,6 +100,7 @@ type DaySums struct {
 	Day            time.Time // local midnight
 	Hours, Flagged int
 	Sums           *metrics.Record
+	NoCoolingInput metrics.CoolingGap // the day's hours without a cooling input
 }
 
 // AlertQuery selects alerts; empty fields match all.

@@ -12,40 +12,46 @@ import (
 
 // Totals sums an air handler's hours. Energies in kWh, water in kg, money
 // in the site's currency. A sum skips hours where its field has no value;
-// Known counts the hours that had a cooling input.
+// NoCoolingInputHours counts the hours without a cooling input, whose
+// cost and electricity are so left out, and the EERs of the sums are
+// taken over the hours with one.
 type Totals struct {
-	Hours           int     `json:"hours"`
-	Coverage        Num     `json:"coverage"` // mean share of covered steps
-	WaterKg         Num     `json:"water_removed_kg"`
-	WaterKgU95      Num     `json:"water_removed_kg_u95"`
-	CoilKWh         Num     `json:"coil_total_kwh"`
-	CoilKWhU95      Num     `json:"coil_total_kwh_u95"`
-	CoilSensibleKWh Num     `json:"coil_sensible_kwh"`
-	CoilLatentKWh   Num     `json:"coil_latent_kwh"`
-	ReheatKWh       Num     `json:"reheat_kwh"`
-	ReheatKWhU95    Num     `json:"reheat_kwh_u95"`
-	ReheatNeeded    Num     `json:"reheat_needed_kwh"`
-	ReheatAvoid     Num     `json:"reheat_avoidable_kwh"`
-	ReheatAvoidU95  Num     `json:"reheat_avoidable_kwh_u95"`
-	ReheatInput     Num     `json:"reheat_input_kwh"`
-	CoolingInput    Num     `json:"cooling_input_kwh"`
-	CoolingAvoid    Num     `json:"cooling_avoidable_input_kwh"`
-	ElectricityKWh  Num     `json:"electricity_kwh"`
-	FuelKWh         Num     `json:"fuel_kwh"`
-	Cost            Num     `json:"cost"`
-	CostAvoidable   Num     `json:"cost_avoidable"`
-	CO2Kg           Num     `json:"co2_kg"`
-	CO2AvoidKg      Num     `json:"co2_avoidable_kg"`
-	SHCHours        Num     `json:"shc_h"`
-	SHCUnneededH    Num     `json:"shc_unneeded_h"`
-	HumidityNeedH   Num     `json:"humidity_need_h"`
-	EffectiveEER    Num     `json:"effective_eer"` // of the sums: 3.412 × (coil − reheat) / (cooling input + reheat input)
-	CoilEER         Num     `json:"coil_eer"`
-	ReheatCoilRatio Num     `json:"reheat_coil_ratio"`
-	AvoidableShare  Num     `json:"avoidable_share"` // avoidable reheat / reheat
-	FlaggedHours    int     `json:"flagged_hours"`   // hours with a data-quality flag (metrics.QualityFlagged)
-	NotedHours      int     `json:"noted_hours"`     // hours with an informational flag only (metrics.Informational)
-	covSum          float64 // for the mean
+	Hours           int `json:"hours"`
+	Coverage        Num `json:"coverage"` // mean share of covered steps
+	WaterKg         Num `json:"water_removed_kg"`
+	WaterKgU95      Num `json:"water_removed_kg_u95"`
+	CoilKWh         Num `json:"coil_total_kwh"`
+	CoilKWhU95      Num `json:"coil_total_kwh_u95"`
+	CoilSensibleKWh Num `json:"coil_sensible_kwh"`
+	CoilLatentKWh   Num `json:"coil_latent_kwh"`
+	ReheatKWh       Num `json:"reheat_kwh"`
+	ReheatKWhU95    Num `json:"reheat_kwh_u95"`
+	ReheatNeeded    Num `json:"reheat_needed_kwh"`
+	ReheatAvoid     Num `json:"reheat_avoidable_kwh"`
+	ReheatAvoidU95  Num `json:"reheat_avoidable_kwh_u95"`
+	ReheatInput     Num `json:"reheat_input_kwh"`
+	CoolingInput    Num `json:"cooling_input_kwh"`
+	CoolingAvoid    Num `json:"cooling_avoidable_input_kwh"`
+	ElectricityKWh  Num `json:"electricity_kwh"`
+	FuelKWh         Num `json:"fuel_kwh"`
+	Cost            Num `json:"cost"`
+	CostAvoidable   Num `json:"cost_avoidable"`
+	CO2Kg           Num `json:"co2_kg"`
+	CO2AvoidKg      Num `json:"co2_avoidable_kg"`
+	SHCHours        Num `json:"shc_h"`
+	SHCUnneededH    Num `json:"shc_unneeded_h"`
+	HumidityNeedH   Num `json:"humidity_need_h"`
+	EffectiveEER    Num `json:"effective_eer"` // of the sums: 3.412 × (coil − reheat) / (cooling input + reheat input)
+	CoilEER         Num `json:"coil_eer"`
+	ReheatCoilRatio Num `json:"reheat_coil_ratio"`
+	AvoidableShare  Num `json:"avoidable_share"` // avoidable reheat / reheat
+	FlaggedHours    int `json:"flagged_hours"`   // hours with a data-quality flag (metrics.QualityFlagged)
+	NotedHours      int `json:"noted_hours"`     // hours with an informational flag only (metrics.Informational)
+	// NoCoolingInputHours counts the hours without a cooling input
+	// (metrics.Record.HasCoolingInput).
+	NoCoolingInputHours int `json:"no_cooling_input_hours"`
+	covSum              float64
+	gap                 metrics.CoolingGap
 }
 
 // add sums v into *dst, treating a NaN total as zero once a value arrives.
@@ -79,6 +85,7 @@ func (t *Totals) Add(r *metrics.Record) {
 	case len(r.Flags) > 0:
 		t.NotedHours++
 	}
+	t.gap.Add(r)
 	t.addSums(r)
 }
 
@@ -86,6 +93,7 @@ func (t *Totals) Add(r *metrics.Record) {
 func (t *Totals) AddDay(d DaySums) {
 	t.Hours += d.Hours
 	t.FlaggedHours += d.Flagged
+	t.gap.Merge(d.NoCoolingInput)
 	t.addSums(d.Sums)
 }
 
@@ -130,12 +138,17 @@ func (t *Totals) finish() {
 		}
 		return a / b
 	}
+	// The EERs are over the hours with a cooling input: the coil and
+	// reheat of the others are out of the numerators as their input is
+	// out of the denominators.
+	t.NoCoolingInputHours = t.gap.Hours
+	coil, reheat := t.CoilKWh-Num(t.gap.CoilKWh), t.ReheatKWh-Num(t.gap.ReheatKWh)
 	input := t.CoolingInput
 	if !math.IsNaN(float64(t.ReheatInput)) && !math.IsNaN(float64(input)) {
-		input += t.ReheatInput
+		input += t.ReheatInput - Num(t.gap.ReheatInputKWh)
 	}
-	t.EffectiveEER = Num(psychro.COPToEER(float64(ratio(t.CoilKWh-t.ReheatKWh, input))))
-	t.CoilEER = Num(psychro.COPToEER(float64(ratio(t.CoilKWh, t.CoolingInput))))
+	t.EffectiveEER = Num(psychro.COPToEER(float64(ratio(coil-reheat, input))))
+	t.CoilEER = Num(psychro.COPToEER(float64(ratio(coil, t.CoolingInput))))
 	t.ReheatCoilRatio = ratio(t.ReheatKWh, t.CoilKWh)
 	t.AvoidableShare = ratio(t.ReheatAvoid, t.ReheatKWh)
 }

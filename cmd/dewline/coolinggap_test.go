@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"os"
 	"path/filepath"
 	"slices"
 	"strconv"
@@ -133,4 +134,41 @@ func TestCheck_CoolingMeterWithoutFallback(t *testing.T) {
 	r = runDewline(t, time.Minute, "check", "--config", cfg)
 	require.Equal(t, 0, r.code, r.stderr)
 	assert.NotContains(t, r.stdout, "warning")
+}
+
+// TestReport_CoolingMeterDropout: the stored hours of the same analysis
+// sum the same way in the report (from the store's daily sums) as in the
+// summary, and the report says how many hours had no cooling input.
+func TestReport_CoolingMeterDropout(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeCase(t, dir, meterDropoutConfig, meterDropoutExport(3))
+	out := filepath.Join(dir, "hourly.csv")
+	r := runDewline(t, time.Minute, "analyze", "--config", cfg, "--input", data, "--out", out)
+	require.Equal(t, 0, r.code, r.stderr)
+	header, rows := readHourly(t, out)
+	cost := 0.0
+	for _, row := range rows {
+		if v := row[slices.Index(header, "cost")]; v != "" {
+			c, err := strconv.ParseFloat(v, 64)
+			require.NoError(t, err)
+			cost += c
+		}
+	}
+	html := filepath.Join(dir, "report.html")
+	r = runDewline(t, time.Minute, "report", "--config", cfg, "--from", "2026-07-01", "--to", "2026-07-01", "-o", html)
+	require.Equal(t, 0, r.code, r.stderr)
+	b, err := os.ReadFile(html)
+	require.NoError(t, err)
+	page := string(b)
+	assert.Contains(t, page, "1 hour without a cooling input")
+	assert.Contains(t, page, fmt.Sprintf("%.2f USD", cost))
+	// Every hour is the same but for the meter: the EER of the sums over
+	// the hours with a cooling input is any such hour's (the coil of the
+	// hour without one, counted over the others' input, read 5.8).
+	eer, err := strconv.ParseFloat(rows[0][slices.Index(header, "effective_eer")], 64)
+	require.NoError(t, err)
+	assert.Contains(t, page, fmt.Sprintf(`data-field="effective_eer" data-value="%.10g"`, eer)[:len(`data-field="effective_eer" data-value="`)+5])
+	for _, bad := range []string{"NaN", "Inf"} {
+		assert.NotContains(t, page, bad)
+	}
 }

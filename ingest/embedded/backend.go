@@ -287,7 +287,7 @@ func (e results) Hours(ctx context.Context, ahu string, from, to time.Time, fn f
 
 func (e results) Days(ctx context.Context, from, to time.Time, fn func(dashboards.DaySums) error) (bool, error) {
 	return e.st.ReadDays(ctx, from, to, func(d DayRow) error {
-		return fn(dashboards.DaySums{AHU: d.AHU, Day: d.Day, Hours: d.Hours, Flagged: d.Flagged, Sums: d.Sums})
+		return fn(dashboards.DaySums{AHU: d.AHU, Day: d.Day, Hours: d.Hours, Flagged: d.Flagged, Sums: d.Sums, NoCoolingInput: d.NoCoolingInput})
 	})
 }
 

@@ -19,6 +19,16 @@ import (
 // disagrees with the hourly table (rows written by a store opened without
 // a zone, or before the table existed).
 
+// The day's hours without a cooling input (metrics.CoolingGap), kept in
+// its sums beside the additive fields; a day without such hours, or built
+// before they were kept, has none of these keys.
+const (
+	gapHours    = "no_cooling_input_h"
+	gapCoil     = "no_cooling_input_coil_total_kwh"
+	gapReheat   = "no_cooling_input_reheat_kwh"
+	gapReheatIn = "no_cooling_input_reheat_input_kwh"
+)
+
 // dayKey is one air handler's local day.
 type dayKey struct {
 	ahu string
@@ -71,6 +81,8 @@ func rollUp(ctx context.Context, tx *sql.Tx, zone *time.Location, keys []dayKey)
 		ptrs[n] = &vals[i]
 	}
 	sums := make(map[string]float64, len(names))
+	var rec metrics.Record // the hour's additive fields, for metrics.CoolingGap
+	recPtrs := rec.FieldPtrs()
 	var buf []byte
 	for _, k := range keys {
 		start := time.UnixMilli(k.day).In(zone)
@@ -81,6 +93,7 @@ func rollUp(ctx context.Context, tx *sql.Tx, zone *time.Location, keys []dayKey)
 		}
 		clear(sums)
 		hours, flagged := 0, 0
+		var gap metrics.CoolingGap
 		for rows.Next() {
 			var fields, flags sql.RawBytes
 			if err := rows.Scan(&fields, &flags); err != nil {
@@ -93,10 +106,12 @@ func rollUp(ctx context.Context, tx *sql.Tx, zone *time.Location, keys []dayKey)
 				return rowsDone(rows, fmt.Errorf("daily sums of %s %s: %w", quote(k.ahu), start.Format("2006-01-02"), err))
 			}
 			for i, n := range names {
+				*recPtrs[n] = vals[i]
 				if v := vals[i]; !math.IsNaN(v) && !math.IsInf(v, 0) {
 					sums[n] += v
 				}
 			}
+			gap.Add(&rec)
 			hours++
 			if len(flags) > 2 {
 				var fl []string
@@ -118,6 +133,9 @@ func rollUp(ctx context.Context, tx *sql.Tx, zone *time.Location, keys []dayKey)
 			continue
 		}
 		// A field no hour had stays out (reads back as unknown).
+		if gap.Hours > 0 {
+			sums[gapHours], sums[gapCoil], sums[gapReheat], sums[gapReheatIn] = float64(gap.Hours), gap.CoilKWh, gap.ReheatKWh, gap.ReheatInputKWh
+		}
 		buf = appendFields(buf[:0], sums)
 		if _, err := upsert.ExecContext(ctx, zone.String(), k.ahu, k.day, end.UnixMilli(), hours, flagged, string(buf)); err != nil {
 			return fmt.Errorf("daily sums of %s %s: %w", quote(k.ahu), start.Format("2006-01-02"), err)
@@ -203,6 +221,8 @@ type DayRow struct {
 	// Sums holds the day's sums in the additive fields of a record (the
 	// rest NaN; a field no hour had is NaN too). Reused between rows.
 	Sums *metrics.Record
+	// NoCoolingInput is the day's hours without a cooling input.
+	NoCoolingInput metrics.CoolingGap
 }
 
 // ReadDays calls fn with the daily sums of every air handler for the local
@@ -233,6 +253,10 @@ func (s *Store) ReadDays(ctx context.Context, from, to time.Time, fn func(DayRow
 	}
 	var rec metrics.Record
 	ptrs := rec.FieldPtrs()
+	var gap [4]float64
+	for i, k := range []string{gapHours, gapCoil, gapReheat, gapReheatIn} {
+		ptrs[k] = &gap[i]
+	}
 	all := make([]*float64, 0, len(ptrs))
 	for _, p := range ptrs {
 		all = append(all, p)
@@ -251,6 +275,9 @@ func (s *Store) ReadDays(ctx context.Context, from, to time.Time, fn func(DayRow
 		}
 		if err := decodeInto(sums, ptrs); err != nil {
 			return false, rowsDone(rows, fmt.Errorf("read daily sums of %s: %w", quote(d.AHU), err))
+		}
+		if gap[0] > 0 {
+			d.NoCoolingInput = metrics.CoolingGap{Hours: int(gap[0]), CoilKWh: gap[1], ReheatKWh: gap[2], ReheatInputKWh: gap[3]}
 		}
 		d.Day, d.End = time.UnixMilli(day).In(s.zone), time.UnixMilli(end).In(s.zone)
 		rec.AHU, rec.HourStart = d.AHU, d.Day.UTC()
