@@ -100,6 +100,9 @@ type RecordHours struct {
 	// RowUnits reads each record in the unit its row states and counts the
 	// rows converted or rejected for their unit (see RowUnits).
 	RowUnits *RowUnits
+	// Duplicates counts records that repeat their series' previous time
+	// with another value (the later is used).
+	Duplicates Duplicates
 
 	recycler hourRecycler
 }
@@ -122,6 +125,7 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 	}
 	rh.Unmatched = Unmatched{}
 	rh.RowUnits = NewRowUnits(byName)
+	rh.Duplicates = Duplicates{}
 	lead := time.Duration(0)
 	for _, ahu := range ahus {
 		u := rh.AirHandlers[ahu]
@@ -240,6 +244,7 @@ func (rh *RecordHours) Hours(ctx context.Context, ahus []string, from, to time.T
 				continue // outside the period and its lead-in
 			}
 			rh.Records++
+			rh.Duplicates.See(&rt.last, rec)
 			if rt.dest == nil {
 				rt.resolve(aligners)
 			}
@@ -299,6 +304,7 @@ type route struct {
 	targets []PointTarget // nil: no air handler maps the series
 	dest    []routeDest
 	seq     int // index in router.seen
+	last    LastRecord
 }
 
 type routeDest struct {

@@ -285,3 +285,42 @@ func TestRecordHours_LooksAtUnits(t *testing.T) {
 		assert.Equal(t, 3, n)
 	}
 }
+
+// TestDuplicates: a record that gives its series another value at the
+// time of its previous record is counted with both lines; the same value
+// again, a value in another unit, another series' record or a later time
+// is not.
+func TestDuplicates(t *testing.T) {
+	rec := func(series, unit string, min int, v float64, line int) Record {
+		return Record{Series: series, Unit: unit, Time: t0.Add(time.Duration(min) * time.Minute), Value: v, File: "x.csv", Line: line}
+	}
+	recs := []Record{
+		rec("MAT", "", 0, 20, 2),
+		rec("MAT", "", 0, 20, 3),  // the same value again: no conflict
+		rec("MAT", "", 0, 21, 4),  // another value: counted
+		rec("SAT", "", 0, 15, 5),  // another series
+		rec("SAT", "C", 1, 15, 6), // a later time
+		rec("SAT", "F", 1, 59, 7), // another unit: not compared
+		rec("SAT", "F", 1, 60, 8), // counted
+	}
+	var d Duplicates
+	last := map[string]*LastRecord{"MAT": {}, "SAT": {}}
+	for i := range recs {
+		d.See(last[recs[i].Series], &recs[i])
+	}
+	assert.Equal(t, 2, d.Conflicting)
+	require.Len(t, d.Examples, 2)
+	assert.Equal(t, Duplicate{File: "x.csv", Series: "MAT", Time: t0, Line: 3, Later: 4, Value: 20, LaterV: 21}, d.Examples[0])
+	assert.Equal(t, "x.csv lines 7 and 8: SAT at 2026-07-14T12:01:00Z is 59, then 60 (kept)", d.Examples[1].String())
+
+	// RecordHours counts them as it streams, and aligns the later value.
+	rh := &RecordHours{Src: &sliceSource{recs: recs[:3]}, Step: time.Minute, AirHandlers: map[string]AirHandlerPoints{
+		"A": {Points: map[metrics.Role]metrics.PointRef{metrics.RoleEnteringTemp: {Column: "MAT", Unit: "C"}}}}}
+	var first float64
+	require.NoError(t, rh.Hours(context.Background(), []string{"A"}, time.Time{}, time.Time{}, func(h *metrics.Hour) error {
+		first = h.Values[metrics.RoleEnteringTemp][0]
+		return nil
+	}))
+	assert.Equal(t, 1, rh.Duplicates.Conflicting)
+	assert.Equal(t, 21.0, first, "the later row")
+}

@@ -222,7 +222,7 @@ func runAnalyze(ctx context.Context, e *env, args []string) error {
 		}
 	}
 	if recSrc != nil {
-		importer.LogInputs(log, files.Readers(), recSrc.RowUnits, recSrc.Unmatched)
+		importer.LogInputs(log, files.Readers(), recSrc.RowUnits, recSrc.Unmatched, &recSrc.Duplicates)
 	}
 	if runErr != nil {
 		return runErr

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bytes"
 	"os"
 	"path/filepath"
 	"slices"
@@ -98,4 +99,51 @@ func TestAnalyze_PipeOutOfOrder(t *testing.T) {
 	assert.Contains(t, stderr, "the export is not in time order")
 	assert.Contains(t, stderr, `import it with "dewline import"`)
 	assert.NoFileExists(t, out)
+}
+
+// TestExports_ConflictingDuplicates: a row repeated with another value
+// (the scenario's 13:00 row written again with the mixed air at 95 °F) is
+// named with both lines by check, import and analyze; the later row is
+// used on every path, so the export analysed as it streams and the store
+// it was imported into give the same hours. An identical repeated row is
+// not reported.
+func TestExports_ConflictingDuplicates(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeScenario(t, dir)
+	raw, err := os.ReadFile(data)
+	require.NoError(t, err)
+	lines := strings.Split(strings.TrimSuffix(string(raw), "\n"), "\n")
+	var out []string
+	for _, l := range lines {
+		out = append(out, l)
+		if strings.HasPrefix(l, "2026-07-14 13:00:00,") {
+			f := strings.Split(l, ",")
+			f[1] = "95.00"
+			out = append(out, strings.Join(f, ","))
+		}
+		if strings.HasPrefix(l, "2026-07-14 14:00:00,") {
+			out = append(out, l) // the same row again
+		}
+	}
+	require.NoError(t, os.WriteFile(data, []byte(strings.Join(out, "\n")+"\n"), 0o600))
+	// The header is line 1, 2026-07-14 00:00 line 2: 13:00 (18:00Z) is line
+	// 782, its mixed air 76 + sin(780/90) = 76.69 °F.
+	const want = "lines 782 and 783: MAT at 2026-07-14T18:00:00Z is 76.69, then 95 (kept)"
+
+	code, check, stderr := runCLI(t, "check", "--config", cfg, "--input", data)
+	require.Contains(t, []int{0, 3}, code, stderr)
+	assert.Contains(t, check, "1 values repeat their series' previous time with another value")
+	assert.Contains(t, check, want)
+	imp := mustCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	assert.Contains(t, imp, want)
+
+	code, _, stderr = runCLI(t, "analyze", "--config", cfg, "--no-store", "--input", data, "--out", filepath.Join(dir, "streamed.csv"))
+	require.Equal(t, 0, code, stderr)
+	assert.Contains(t, stderr, want)
+	mustCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--no-store", "--out", filepath.Join(dir, "stored.csv"))
+	a, err := os.ReadFile(filepath.Join(dir, "streamed.csv"))
+	require.NoError(t, err)
+	b, err := os.ReadFile(filepath.Join(dir, "stored.csv"))
+	require.NoError(t, err)
+	assert.True(t, bytes.Equal(a, b), "the streamed and the stored analysis differ")
 }

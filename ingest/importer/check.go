@@ -49,6 +49,8 @@ func (c *Checks) ReadExports(w io.Writer, inputs []string, cfg *config.Config) e
 	defer files.Close()
 	var unmatched ingest.Unmatched
 	rowUnits := ingest.NewRowUnits(c.Index)
+	var dups ingest.Duplicates
+	last := map[string]*ingest.LastRecord{}
 	for {
 		rec, err := files.Next()
 		if errors.Is(err, io.EOF) {
@@ -69,6 +71,12 @@ func (c *Checks) ReadExports(w io.Writer, inputs []string, cfg *config.Config) e
 		if !ok {
 			continue // counted in rowUnits
 		}
+		l := last[rec.Series]
+		if l == nil {
+			l = &ingest.LastRecord{}
+			last[rec.Series] = l
+		}
+		dups.See(l, &rec)
 		t0 := pc.Targets[0]
 		pc.Add(rec.Time, t0.Unit.FromSI(ru.ToSI(t0, rec.Value)))
 	}
@@ -80,6 +88,9 @@ func (c *Checks) ReadExports(w io.Writer, inputs []string, cfg *config.Config) e
 		}
 	}
 	WriteRowUnits(w, rowUnits)
+	if d := dups.Summary("; correct the export if the later value is not the right one"); d != "" {
+		fmt.Fprintln(w, d)
+	}
 	if u := unmatched.Summary(UnmatchedExamples); u != "" {
 		fmt.Fprintf(w, "%s; map them under air_handlers[].points if they are needed\n", u)
 	}

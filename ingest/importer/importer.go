@@ -37,6 +37,9 @@ type Stats struct {
 	NotFinite int // values not finite after unit conversion
 	Units     *ingest.RowUnits
 	CSV       csvfile.Stats
+	// Duplicates counts values that repeat their series' previous time
+	// with another value: the later row is stored.
+	Duplicates ingest.Duplicates
 }
 
 // Options are what one import needs besides the file.
@@ -188,6 +191,7 @@ func File(ctx context.Context, path string, o Options) (Stats, error) {
 				s.NotFinite++
 				continue
 			}
+			s.Duplicates.See(&sl.last, rec)
 			cur.add(sl, rec.Line, ingest.Sample{Time: rec.Time, Value: v})
 		}
 	}

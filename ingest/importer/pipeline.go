@@ -57,6 +57,7 @@ type slot struct {
 	name string
 	ts   []ingest.PointTarget
 	id   int
+	last ingest.LastRecord // the series' previous record (Stats.Duplicates)
 }
 
 // slots finds the series of a record. In a wide export the k-th value of

@@ -35,6 +35,9 @@ func (s Stats) Write(w io.Writer) {
 		fmt.Fprintf(w, "  rejected, not a finite number after unit conversion: %d\n", s.NotFinite)
 	}
 	WriteRowUnits(w, s.Units)
+	if d := s.Duplicates.Summary(""); d != "" {
+		fmt.Fprintf(w, "  %s\n", d)
+	}
 	if d := s.CSV.DST; d.Repeated > 0 || d.Skipped > 0 {
 		fmt.Fprintf(w, "  daylight saving: %d rows in a repeated hour (%d read as the earlier offset, %d as the later); %d rows in a skipped hour rejected\n",
 			d.Repeated, d.RepeatedEarlier, d.RepeatedLater, d.Skipped)
@@ -63,8 +66,16 @@ func WriteRowUnits(w io.Writer, ru *ingest.RowUnits) {
 
 // LogInputs logs what exports analysed as they stream held that was
 // not used: rows rejected by each reader, rows read in or refused for
-// the unit they state (ru), series no air handler maps.
-func LogInputs(log zerolog.Logger, readers []*csvfile.Reader, ru *ingest.RowUnits, unmatched ingest.Unmatched) {
+// the unit they state (ru), series no air handler maps, values given
+// twice for one time (dups).
+func LogInputs(log zerolog.Logger, readers []*csvfile.Reader, ru *ingest.RowUnits, unmatched ingest.Unmatched, dups *ingest.Duplicates) {
+	if dups.Conflicting > 0 {
+		ev := log.Warn().Int("values", dups.Conflicting)
+		for i, ex := range dups.Examples {
+			ev = ev.Str(fmt.Sprintf("example_%d", i+1), ex.String())
+		}
+		ev.Msg("values repeat their series' previous time with another value; the later row is used")
+	}
 	for _, r := range readers {
 		s := r.Stats()
 		ev := log.Info().Str("file", r.Name()).Int("records", s.Records).Int("rejected", s.RejectedTotal())
