@@ -81,7 +81,10 @@ type Rule struct {
 	Persist  int
 	Clear    int
 	// Check reports whether the condition holds in the hour, the energy
-	// (kWh) and money at stake in it, and a plain-language reason.
+	// (kWh) and money at stake in it, and a plain-language reason. A NaN
+	// energy or money is at stake but could not be computed (an hour
+	// without a cooling input): Evaluate leaves it out of the alert's
+	// totals and counts the hour (Alert.UncomputedHours).
 	Check func(r *Record, p RuleParams) (hit bool, kwh, money float64, reason string)
 }
 
@@ -107,17 +110,31 @@ func checkReheatNotNeeded(r *Record, p RuleParams) (bool, float64, float64, stri
 		return false, 0, 0, ""
 	}
 	kwh := r.ReheatAvoidKWh
-	return true, kwh, r.CostAvoidable, fmt.Sprintf(
+	reason := fmt.Sprintf(
 		"reheat added %.1f kWh while the entering air (dew point %s) was already drier than the humidity target; %.1f kWh of it was not needed",
 		r.ReheatKWh, p.temp(r.EnteringDewPointC), kwh)
+	if !finite(r.CostAvoidable) {
+		reason += "; " + noCoolingInput + ", so the hour's avoidable cost could not be computed"
+	}
+	return true, kwh, r.CostAvoidable, reason
 }
+
+// noCoolingInput says why an hour's cooling figures are unknown
+// (FlagCoolingMissing).
+const noCoolingInput = "the hour has no cooling input (cooling_kw read nothing and no rated efficiency stands in)"
+
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
 func checkOvercooling(r *Record, p RuleParams) (bool, float64, float64, string) {
 	if !covered(r) || math.IsNaN(r.OvercoolingK) || r.OvercoolingK < p.OvercoolingK {
 		return false, 0, 0, ""
 	}
 	kwh, money := r.CoolingAvoidKWh+r.ReheatAvoidKWh, r.CostAvoidable
-	if kwh < p.MinAvoidableKWh {
+	// Without a cooling input the avoidable cooling input is unknown, not
+	// small: the coil cooled beyond the need, so the hour counts, its
+	// energy and money uncomputed (NaN).
+	known := finite(r.CoolingAvoidKWh)
+	if known && kwh < p.MinAvoidableKWh {
 		return false, 0, 0, ""
 	}
 	// Each avoidable kWh belongs to one alert: when reheat_not_needed
@@ -129,9 +146,12 @@ func checkOvercooling(r *Record, p RuleParams) (bool, float64, float64, string) 
 	if !math.IsNaN(r.RequiredLeavingC) {
 		need = fmt.Sprintf("the humidity target (%s)", p.temp(r.RequiredLeavingC))
 	}
-	return true, kwh, money, fmt.Sprintf(
-		"the coil left air at %s, %s colder than %s needed; that cost %.1f kWh of cooling and %.1f kWh of reheat",
-		p.temp(r.LeavingTempC), p.delta(r.OvercoolingK), need, r.CoolingAvoidKWh, r.ReheatAvoidKWh)
+	told := fmt.Sprintf("the coil left air at %s, %s colder than %s needed; ", p.temp(r.LeavingTempC), p.delta(r.OvercoolingK), need)
+	if !known {
+		return true, kwh, money, told + fmt.Sprintf("that cost %.1f kWh of reheat and cooling that could not be computed: %s",
+			r.ReheatAvoidKWh, noCoolingInput)
+	}
+	return true, kwh, money, told + fmt.Sprintf("that cost %.1f kWh of cooling and %.1f kWh of reheat", r.CoolingAvoidKWh, r.ReheatAvoidKWh)
 }
 
 func checkLowEfficiency(r *Record, p RuleParams) (bool, float64, float64, string) {
@@ -216,6 +236,9 @@ func checkImplausible(r *Record, p RuleParams) (bool, float64, float64, string) 
 		case f == FlagSupplyBelowCoil:
 			why = append(why, fmt.Sprintf("the supply (%s) reads colder than the coil leaving air (%s), which nothing after the coil can do: check the supply sensor and its unit (°C logged as °F reads far too cold)",
 				p.temp(r.SupplyTempC), p.temp(r.LeavingTempC)))
+		case f == FlagCOPImplausible && !r.HasCoolingInput():
+			// The meter read for part of the hour only: no hourly input to name.
+			why = append(why, "the air-side coil load over the metered cooling input, while the meter read, is outside 1.5-7: suspect the airflow, the entering humidity sensor or the meter")
 		case f == FlagCOPImplausible:
 			why = append(why, fmt.Sprintf("the air-side coil load (%.1f kWh) over the metered cooling input (%.1f kWh) is outside 1.5-7: suspect the airflow, the entering humidity sensor or the meter", r.CoilTotalKWh, r.CoolingInputKWh))
 		case f == FlagLeavingSensorOut:
@@ -253,9 +276,14 @@ type Alert struct {
 	Opened    time.Time // end of the hour it opened (its open transition's At); zero while pending
 	Hits      int       // consecutive hours the condition held
 	Misses    int       // consecutive hours it did not
-	EnergyKWh float64   // at stake over the hours the condition held
+	EnergyKWh float64   // at stake over the hours the condition held (those where it could be computed)
 	Money     float64
-	Reason    string // the latest hour's reason (the last hour the condition held)
+	// UncomputedHours counts the hours the condition held whose energy or
+	// money at stake could not be computed (an hour without a cooling
+	// input): the totals leave that figure of those hours out, and Told
+	// says how many.
+	UncomputedHours int    `json:",omitempty"`
+	Reason          string // the latest hour's reason (the last hour the condition held)
 	// OpenReason is the reason of the hour it opened; empty while pending
 	// (and in states kept before it was recorded).
 	OpenReason string `json:",omitempty"`
@@ -269,15 +297,27 @@ type Alert struct {
 //
 // or "opened: <reason>" alone while the opening hour is the latest. An
 // alert without an opening reason (pending, or kept before it was
-// recorded) tells its latest reason unlabelled.
+// recorded) tells its latest reason unlabelled. An alert with uncomputed
+// hours ends with how many ("; the energy or cost at stake could not be
+// computed for N hours and is left out of the totals").
 func (a Alert) Told() string {
+	var s string
 	switch {
 	case a.OpenReason == "":
-		return a.Reason
+		s = a.Reason
 	case !a.Opened.IsZero() && !a.LastSeen.Add(time.Hour).After(a.Opened):
-		return "opened: " + a.OpenReason
+		s = "opened: " + a.OpenReason
+	default:
+		s = "opened: " + a.OpenReason + "; latest hour: " + a.Reason
 	}
-	return "opened: " + a.OpenReason + "; latest hour: " + a.Reason
+	if n := a.UncomputedHours; n > 0 {
+		hours := "1 hour"
+		if n > 1 {
+			hours = fmt.Sprintf("%d hours", n)
+		}
+		s += "; the energy or cost at stake could not be computed for " + hours + " and is left out of the totals"
+	}
+	return s
 }
 
 // AlertLabel is how people read an alert kind: words in sentence case
@@ -350,8 +390,15 @@ func Evaluate(rules []Rule, p RuleParams, prev map[string]Alert, r *Record) (map
 		case hit:
 			a.Hits++
 			a.Misses = 0
-			a.EnergyKWh += kwh
-			a.Money += money
+			if finite(kwh) {
+				a.EnergyKWh += kwh
+			}
+			if finite(money) {
+				a.Money += money
+			}
+			if !finite(kwh) || !finite(money) {
+				a.UncomputedHours++
+			}
 			a.Reason = reason
 			a.LastSeen = r.HourStart
 			if a.Status == StatusPending && a.Hits >= rule.Persist {

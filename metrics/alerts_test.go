@@ -1,6 +1,7 @@
 package metrics_test
 
 import (
+	"math"
 	"testing"
 	"time"
 
@@ -205,4 +206,88 @@ func TestAlertLabel(t *testing.T) {
 	assert.Equal(t, "Reheat not needed", metrics.AlertLabel(metrics.AlertReheatNotNeeded))
 	assert.Equal(t, "Sensor implausible", metrics.AlertLabel(metrics.AlertSensorImplausible))
 	assert.Equal(t, "", metrics.AlertLabel(""))
+}
+
+// overcoolHour is an hour whose coil ran 4 K colder than the target
+// needed: 6 kWh of avoidable cooling input and 11 kWh of avoidable reheat
+// at 0.1 a kWh. Without a cooling input (noInput) the cooling figures are
+// unknown, as Compute leaves them.
+func overcoolHour(h int, noInput bool) metrics.Record {
+	r := metrics.Record{HourStart: day0.Add(time.Duration(h) * time.Hour), AHU: "AHU-T", Coverage: 1,
+		HumidityNeedHours: 1, OvercoolingK: 4, LeavingTempC: 8, RequiredLeavingC: 12, SupplyTempC: 16,
+		CoilTotalKWh: 30, ReheatKWh: 11, ReheatAvoidKWh: 11, CoolingInputKWh: 8, CoolingAvoidKWh: 6, CostAvoidable: 1.7,
+		EffectiveEER: 8, CoilEER: 12}
+	if noInput {
+		nan := math.NaN()
+		r.CoolingInputKWh, r.CoolingAvoidKWh, r.CostAvoidable, r.EffectiveEER, r.CoilEER = nan, nan, nan, nan, nan
+		r.Flags = []string{metrics.FlagCoolingMissing}
+	}
+	return r
+}
+
+// TestEvaluate_UncomputedHours: an hour without a cooling input keeps an
+// alert going, adds none of its unknown figures to the alert's totals
+// (they stay the sum of the other hours, added by hand below) and is
+// counted; no reason prints NaN.
+func TestEvaluate_UncomputedHours(t *testing.T) {
+	rules, p := metrics.Rules(), metrics.DefaultRuleParams
+	t.Run("over-cooling", func(t *testing.T) {
+		hours := []metrics.Record{overcoolHour(0, false), overcoolHour(1, false), overcoolHour(2, true), overcoolHour(3, false), quietHour(4), quietHour(5)}
+		state := map[string]metrics.Alert{}
+		var all []metrics.Transition
+		for i := range hours {
+			var tr []metrics.Transition
+			state, tr = metrics.Evaluate(rules, p, state, &hours[i])
+			all = append(all, tr...)
+		}
+		require.Len(t, all, 2, "opens in the hour without an input (persistence 3) and closes")
+		opened, closed := all[0].Alert, all[1].Alert
+		assert.Equal(t, metrics.AlertOvercooling, opened.Kind)
+		assert.Equal(t, day0.Add(3*time.Hour), all[0].At)
+		assert.Equal(t, 1, opened.UncomputedHours)
+		assert.InDelta(t, 2*(6+11), opened.EnergyKWh, 1e-9, "hours 0 and 1")
+		assert.InDelta(t, 2*1.7, opened.Money, 1e-9)
+		assert.Contains(t, opened.OpenReason, "could not be computed")
+		assert.InDelta(t, 3*(6+11), closed.EnergyKWh, 1e-9, "hours 0, 1 and 3")
+		assert.InDelta(t, 3*1.7, closed.Money, 1e-9)
+		assert.Equal(t, 1, closed.UncomputedHours)
+		assert.Contains(t, closed.Told(), "; the energy or cost at stake could not be computed for 1 hour and is left out of the totals")
+		for _, a := range []metrics.Alert{opened, closed} {
+			assert.NotContains(t, a.Told(), "NaN")
+		}
+	})
+	t.Run("reheat not needed", func(t *testing.T) {
+		// The reheat's energy is known; the hour's avoidable cost is not.
+		hours := []metrics.Record{dryReheatHour(0, 12), dryReheatHour(1, 10), dryReheatHour(2, 8)}
+		hours[1].CostAvoidable = math.NaN()
+		state := map[string]metrics.Alert{}
+		for i := range hours {
+			state, _ = metrics.Evaluate(rules, p, state, &hours[i])
+		}
+		a := state[metrics.AlertReheatNotNeeded]
+		assert.InDelta(t, 12+10+8, a.EnergyKWh, 1e-9)
+		assert.InDelta(t, (12+8)*0.15, a.Money, 1e-9)
+		assert.Equal(t, 1, a.UncomputedHours)
+		assert.Contains(t, a.OpenReason, "avoidable cost could not be computed")
+		assert.NotContains(t, a.Told(), "NaN")
+	})
+}
+
+// TestRules_NoNaNInReasons: every rule's reason for an hour without a
+// cooling input, the meter silent for part of it (cop_implausible from
+// the steps it read), names no NaN or Inf.
+func TestRules_NoNaNInReasons(t *testing.T) {
+	r := overcoolHour(0, true)
+	r.Flags = append(r.Flags, metrics.FlagCOPImplausible)
+	var hits []string
+	for _, rule := range metrics.Rules() {
+		hit, _, _, reason := rule.Check(&r, metrics.DefaultRuleParams)
+		if !hit {
+			continue
+		}
+		hits = append(hits, rule.Kind)
+		assert.NotContains(t, reason, "NaN", rule.Kind)
+		assert.NotContains(t, reason, "Inf", rule.Kind)
+	}
+	assert.Equal(t, []string{metrics.AlertOvercooling, metrics.AlertSensorImplausible}, hits)
 }

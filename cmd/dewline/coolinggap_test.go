@@ -1,6 +1,7 @@
 package main
 
 import (
+	"encoding/json"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -42,13 +43,19 @@ air_handlers:
 // logged every 5 minutes as a long export, the meter (KW, 20 kW) silent
 // in the hour gapHour.
 func meterDropoutExport(gapHour int) string {
+	return leavingExport(gapHour, func(int) float64 { return 10 })
+}
+
+// leavingExport is meterDropoutExport with the coil leaving air at
+// leavingC(hour) °C.
+func leavingExport(gapHour int, leavingC func(hour int) float64) string {
 	var b strings.Builder
 	b.WriteString("time,point,value\n")
 	for m := 0; m < 720; m += 5 {
 		for _, p := range []struct {
 			name string
 			v    float64
-		}{{"MAT", 26}, {"MARH", 60}, {"LAT", 10}, {"SAT", 16}, {"CFM", 2}, {"KW", 20}} {
+		}{{"MAT", 26}, {"MARH", 60}, {"LAT", leavingC(m / 60)}, {"SAT", 16}, {"CFM", 2}, {"KW", 20}} {
 			if p.name == "KW" && m/60 == gapHour {
 				continue
 			}
@@ -168,6 +175,108 @@ func TestReport_CoolingMeterDropout(t *testing.T) {
 	eer, err := strconv.ParseFloat(rows[0][slices.Index(header, "effective_eer")], 64)
 	require.NoError(t, err)
 	assert.Contains(t, page, fmt.Sprintf(`data-field="effective_eer" data-value="%.10g"`, eer)[:len(`data-field="effective_eer" data-value="`)+5])
+	for _, bad := range []string{"NaN", "Inf"} {
+		assert.NotContains(t, page, bad)
+	}
+}
+
+// TestAnalyze_CoolingMeterDropoutAlerts: the coil runs colder than needed
+// from hour 1 to 9 and the meter is silent in hour 3, so the alert opens
+// in the hour without a cooling input. Its totals are the sums of the
+// hourly file's figures over the other hours, it says that one hour could
+// not be computed, and nothing (summary, hourly files, store, queued
+// webhook bodies, report) says NaN; the store's write no longer fails on
+// the alert's NaN.
+func TestAnalyze_CoolingMeterDropoutAlerts(t *testing.T) {
+	dir := t.TempDir()
+	export := leavingExport(3, func(h int) float64 {
+		if h >= 1 && h <= 9 {
+			return 8 // 4.5 K below the 12.5 °C the 12 °C dew point needs
+		}
+		return 12
+	})
+	cfg, data := writeCase(t, dir, meterDropoutConfig, export)
+	const told = "the energy or cost at stake could not be computed for 1 hour and is left out of the totals"
+
+	for _, name := range []string{"hourly.json", "hourly.csv"} {
+		out := filepath.Join(dir, "nostore-"+name)
+		r := runDewline(t, time.Minute, "analyze", "--config", cfg, "--input", data, "--no-store", "--out", out)
+		require.Equal(t, 0, r.code, r.stderr)
+		b, err := os.ReadFile(out)
+		require.NoError(t, err)
+		for _, bad := range []string{"NaN", "Inf"} {
+			assert.NotContains(t, r.stdout, bad)
+			assert.NotContains(t, string(b), bad, name)
+		}
+	}
+
+	out := filepath.Join(dir, "hourly.csv")
+	r := runDewline(t, time.Minute, "analyze", "--config", cfg, "--input", data, "--out", out)
+	require.Equal(t, 0, r.code, r.stderr)
+	header, rows := readHourly(t, out)
+	val := func(row []string, name string) string {
+		i := slices.Index(header, name)
+		require.GreaterOrEqual(t, i, 0, name)
+		return row[i]
+	}
+	num := func(row []string, name string) float64 {
+		v, err := strconv.ParseFloat(val(row, name), 64)
+		require.NoError(t, err, name)
+		return v
+	}
+	var kwh, money float64
+	held, without := 0, 0
+	for _, row := range rows {
+		if num(row, "overcooling_k") < 1.5 {
+			continue
+		}
+		held++
+		if val(row, "cooling_avoidable_input_kwh") == "" {
+			without++
+			continue
+		}
+		kwh += num(row, "cooling_avoidable_input_kwh") + num(row, "reheat_avoidable_kwh")
+		money += num(row, "cost_avoidable")
+	}
+	require.Equal(t, 9, held, "hours 1 to 9 over-cool")
+	require.Equal(t, 1, without, "hour 3 has no cooling input")
+
+	type alertRow struct {
+		ID, State, Reason string
+		Energy, Cost      *float64
+	}
+	alerts := sqliteRows(t, filepath.Join(dir, "m.db"), "SELECT id, state, reason, energy_kwh, cost FROM alerts WHERE kind = 'coil_colder_than_needed'",
+		func(a *alertRow) []any { return []any{&a.ID, &a.State, &a.Reason, &a.Energy, &a.Cost} })
+	require.Len(t, alerts, 1)
+	a := alerts[0]
+	assert.Equal(t, "closed", a.State)
+	require.NotNil(t, a.Energy, "energy_kwh stored as NULL")
+	require.NotNil(t, a.Cost, "cost stored as NULL")
+	assert.InDelta(t, kwh, *a.Energy, 1e-6, "the hours with a cooling input")
+	assert.InDelta(t, money, *a.Cost, 1e-6)
+	assert.Contains(t, a.Reason, "opened: the coil left air at 8.0 °C")
+	assert.Contains(t, a.Reason, "could not be computed: the hour has no cooling input")
+	assert.True(t, strings.HasSuffix(a.Reason, told), a.Reason)
+
+	var closed map[string]any
+	for _, e := range storedEvents(t, filepath.Join(dir, "m.db")) {
+		assert.NotContains(t, e.Payload, "NaN")
+		if e.AlertID == a.ID && e.Transition == "closed" {
+			require.NoError(t, json.Unmarshal([]byte(e.Payload), &closed))
+		}
+	}
+	require.NotNil(t, closed, "the closed event is queued")
+	assert.InDelta(t, kwh, closed["energy_kwh"], 1e-6)
+	assert.InDelta(t, money, closed["money"], 1e-6)
+	assert.Contains(t, closed["reason"], told)
+
+	html := filepath.Join(dir, "report.html")
+	r = runDewline(t, time.Minute, "report", "--config", cfg, "--from", "2026-07-01", "--to", "2026-07-01", "-o", html)
+	require.Equal(t, 0, r.code, r.stderr)
+	b, err := os.ReadFile(html)
+	require.NoError(t, err)
+	page := string(b)
+	assert.Contains(t, page, told)
 	for _, bad := range []string{"NaN", "Inf"} {
 		assert.NotContains(t, page, bad)
 	}
