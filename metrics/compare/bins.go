@@ -141,11 +141,14 @@ type BinCheck struct {
 	ReheatInput  Change    `json:"reheat_input_kwh"`
 	Water        Change    `json:"water_removed_kg"`
 	Cost         Change    `json:"cost"`
-	EER          EERChange `json:"effective_eer"`
+	EER          EERChange `json:"effective_eer"` // over the hours with a cooling input
 	CommonBins   int       `json:"common_bins"`
 	Bins         []BinRow  `json:"bins,omitempty"`
 	Compared     bool      `json:"compared"` // false: no common bin, no normalised figure
 	Warnings     []string  `json:"warnings"`
+	// The EER's coil, reheat and reheat input, normalised over the hours
+	// with a cooling input (the hours CoolingInput sums).
+	eerCoil, eerReheat, eerReheatIn Change
 }
 
 // SideHours counts one period's hours of a unit.
@@ -206,15 +209,25 @@ const (
 	qWater
 	qWaterU95
 	qCost
+	// The EER's terms over the hours with a cooling input (NaN, so not
+	// averaged, in the others).
+	qEERCoil
+	qEERReheat
+	qEERReheatInput
 	nQty
 )
 
 func quantities(r *metrics.Record) [nQty]float64 {
-	return [nQty]float64{
+	q := [nQty]float64{
 		qReheat: r.ReheatKWh, qReheatU95: r.ReheatKWhU95, qAvoid: r.ReheatAvoidKWh, qAvoidU95: r.ReheatAvoidKWhU95,
 		qCooling: r.CoolingInputKWh, qCoil: r.CoilTotalKWh, qReheatInput: r.ReheatInputKWh,
 		qWater: r.WaterRemovedKg, qWaterU95: r.WaterRemovedKgU95, qCost: r.Cost,
+		qEERCoil: math.NaN(), qEERReheat: math.NaN(), qEERReheatInput: math.NaN(),
 	}
+	if r.HasCoolingInput() {
+		q[qEERCoil], q[qEERReheat], q[qEERReheatInput] = r.CoilTotalKWh, r.ReheatKWh, r.ReheatInputKWh
+	}
+	return q
 }
 
 // moments keeps a running mean and sum of squared deviations (Welford),
@@ -523,7 +536,8 @@ func compareAirHandler(u AirHandler, s [2]side, opt Options, minCov float64) Bin
 	uc.ReheatInput = norm(qReheatInput, -1)
 	uc.Water = norm(qWater, qWaterU95)
 	uc.Cost = norm(qCost, -1)
-	uc.EER = eerChange(uc.CoilTotal, uc.Reheat, uc.CoolingInput, uc.ReheatInput)
+	uc.eerCoil, uc.eerReheat, uc.eerReheatIn = norm(qEERCoil, -1), norm(qEERReheat, -1), norm(qEERReheatInput, -1)
+	uc.EER = eerChange(uc.eerCoil, uc.eerReheat, uc.CoolingInput, uc.eerReheatIn)
 
 	// What the reader must know before trusting the figures.
 	for k, h := range [2]SideHours{b.hours, a.hours} {
@@ -536,6 +550,15 @@ func compareAirHandler(u AirHandler, s [2]side, opt Options, minCov float64) Bin
 		case h.NoDewPoint+h.LowCoverage > 0:
 			uc.Warnings = append(uc.Warnings, fmt.Sprintf("%d of the %s period's %d hours are left out (%d without an entering dew point, %d below %s coverage)",
 				h.NoDewPoint+h.LowCoverage, name, h.Stored, h.NoDewPoint, h.LowCoverage, fmtPct(minCov)))
+		}
+	}
+	// Hours without a cooling input next to hours with one: the sums and
+	// the EER describe part of the period. (With none at all they are
+	// unknown and show as such.)
+	for k, raw := range [2]Sums{b.raw, a.raw} {
+		if n := raw.NoCoolingInput; n > 0 && n < raw.Hours {
+			uc.Warnings = append(uc.Warnings, fmt.Sprintf("%d of the %s period's %d hours have no cooling input (%s): their cost is left out of the sums, their coil out of the effective EER",
+				n, [2]string{"before", "after"}[k], raw.Hours, metrics.FlagCoolingMissing))
 		}
 	}
 	switch {
@@ -642,7 +665,7 @@ func eerChange(coil, reheat, cooling, reheatIn Change) EERChange {
 // totalSum adds the compared units into the site total.
 type totalSum struct {
 	before, after SideHours
-	fields        [7]changeSum
+	fields        [10]changeSum
 	compared      int
 	bins          int // common bins of the compared units
 }
@@ -660,8 +683,9 @@ func newTotalSum() *totalSum {
 	return t
 }
 
-func (uc *BinCheck) changes() [7]*Change {
-	return [7]*Change{&uc.Reheat, &uc.ReheatAvoid, &uc.CoolingInput, &uc.CoilTotal, &uc.ReheatInput, &uc.Water, &uc.Cost}
+func (uc *BinCheck) changes() [10]*Change {
+	return [10]*Change{&uc.Reheat, &uc.ReheatAvoid, &uc.CoolingInput, &uc.CoilTotal, &uc.ReheatInput, &uc.Water, &uc.Cost,
+		&uc.eerCoil, &uc.eerReheat, &uc.eerReheatIn}
 }
 
 func (t *totalSum) add(uc *BinCheck) {
@@ -717,5 +741,5 @@ func (t *totalSum) finish(total *BinCheck) {
 			c.BeforeU95, c.AfterU95, c.ChangeU95 = Num(f.bU), Num(f.aU), Num(math.Hypot(f.bU, f.aU))
 		}
 	}
-	total.EER = eerChange(total.CoilTotal, total.Reheat, total.CoolingInput, total.ReheatInput)
+	total.EER = eerChange(total.eerCoil, total.eerReheat, total.CoolingInput, total.eerReheatIn)
 }

@@ -314,6 +314,50 @@ func TestCompare_EERIsRatioOfSums(t *testing.T) {
 	assert.InEpsilon(t, 3.412*690/155, float64(c.AirHandlers[0].Bins.RawAfter.EffectiveEER), 5e-4)
 }
 
+// TestCompare_EERLeavesOutHoursWithoutCoolingInput: the after period
+// behaves as the before one (TestCompare_EERIsRatioOfSums' before hours),
+// but in 5 of its 10 humid hours the cooling meter read nothing (no
+// cooling input) while the coil carried 60 kWh instead of 40. The EERs,
+// normalised and raw, are over the hours with a cooling input, so the
+// coil of the others is out of their numerator as their input is out of
+// the denominator:
+//
+//	normalised, both periods: coil 10×20 + 10×40 = 600, reheat 50,
+//	  input 130 + 50: 3.412 × 550/180 = 10.43 (with the 60s: 650/180, 12.32)
+//	raw after, hours with an input: coil 200 + 5×40, reheat 50, input
+//	  (50 + 5×8) + 50: 3.412 × 350/140 = 8.53 (with the 60s: 650/140, 15.84)
+func TestCompare_EERLeavesOutHoursWithoutCoolingInput(t *testing.T) {
+	m := &memResults{}
+	f := func(coil, reheat, cooling, reheatIn float64) func(int) map[string]float64 {
+		return func(int) map[string]float64 {
+			h := map[string]float64{"coil_total_kwh": coil, "reheat_kwh": reheat, "reheat_input_kwh": reheatIn}
+			if !math.IsNaN(cooling) {
+				h["cooling_input_kwh"] = cooling
+				h["effective_eer"] = 3.412 * (coil - reheat) / (cooling + reheatIn)
+			}
+			return h
+		}
+	}
+	at := cmpBefore.From
+	cmpHours(m, "AHU-1", &at, 10, dpDry, f(20, 5, 5, 5))
+	cmpHours(m, "AHU-1", &at, 10, dpHumid, f(40, 0, 8, 0))
+	at = cmpAfter.From
+	cmpHours(m, "AHU-1", &at, 10, dpDry, f(20, 5, 5, 5))
+	cmpHours(m, "AHU-1", &at, 5, dpHumid, f(40, 0, 8, 0))
+	cmpHours(m, "AHU-1", &at, 5, dpHumid, f(60, 0, math.NaN(), 0))
+	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})
+	require.NoError(t, err)
+	for name, b := range map[string]BinCheck{"AHU-1": c.AirHandlers[0].Bins, "site": c.Total.Bins} {
+		assert.InEpsilon(t, 3.412*550/180, float64(b.EER.Before), 5e-4, name)
+		assert.InEpsilon(t, 3.412*550/180, float64(b.EER.After), 5e-4, name)
+		assert.InDelta(t, 0, float64(b.EER.ChangePct), 1e-9, name)
+		assert.InEpsilon(t, 3.412*350/140, float64(b.RawAfter.EffectiveEER), 5e-4, name)
+		assert.Equal(t, 5, b.RawAfter.NoCoolingInput, name)
+		assert.Equal(t, 0, b.RawBefore.NoCoolingInput, name)
+	}
+	assert.True(t, hasWarning(c.AirHandlers[0].Bins.Warnings, "5 of the after period's 20 hours have no cooling input"), c.AirHandlers[0].Bins.Warnings)
+}
+
 func TestCompare_NoCommonBins(t *testing.T) {
 	m := &memResults{recs: comparetest.NoCommonBins("AHU-1", cmpBefore.From, cmpAfter.From)}
 	c, err := run(cmpSite("AHU-1"), m, cmpBefore, cmpAfter, Options{})

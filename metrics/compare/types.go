@@ -61,7 +61,11 @@ type Sums struct {
 	CoolingInput Num `json:"cooling_input_kwh"`
 	WaterKg      Num `json:"water_removed_kg"`
 	Cost         Num `json:"cost"`
-	EffectiveEER Num `json:"effective_eer"` // of the sums: 3.412 × (coil − reheat) / (cooling input + reheat input)
+	EffectiveEER Num `json:"effective_eer"` // of the sums over the hours with a cooling input: 3.412 × (coil − reheat) / (cooling input + reheat input)
+	// NoCoolingInput counts the hours without a cooling input: the EER
+	// leaves out their coil, reheat and reheat input (gap).
+	NoCoolingInput int `json:"no_cooling_input_hours"`
+	gap            metrics.CoolingGap
 }
 
 // NewSums returns empty sums.
@@ -90,15 +94,20 @@ func (t *Sums) Add(r *metrics.Record) {
 	addNum(&t.CoolingInput, r.CoolingInputKWh)
 	addNum(&t.WaterKg, r.WaterRemovedKg)
 	addNum(&t.Cost, r.Cost)
+	t.gap.Add(r)
+	t.NoCoolingInput = t.gap.Hours
 }
 
-// finish computes the effective EER of the sums.
+// finish computes the effective EER of the sums over the hours with a
+// cooling input: the other hours' input is not in the sum, so neither is
+// their coil (as the analysis summary and the dashboard's totals do).
 func (t *Sums) finish() {
+	g := &t.gap
 	input := t.CoolingInput
 	if !math.IsNaN(float64(t.ReheatInput)) && !math.IsNaN(float64(input)) {
-		input += t.ReheatInput
+		input += t.ReheatInput - Num(g.ReheatInputKWh)
 	}
-	num := t.CoilKWh - t.ReheatKWh
+	num := t.CoilKWh - Num(g.CoilKWh) - (t.ReheatKWh - Num(g.ReheatKWh))
 	if math.IsNaN(float64(num)) || math.IsNaN(float64(input)) || input == 0 {
 		t.EffectiveEER = Num(math.NaN())
 		return
