@@ -182,6 +182,26 @@ func TestRunner_BackfillThenHourly(t *testing.T) {
 	assert.Equal(t, 3, rep.AHUs[0].Hours, "only the lookback again")
 }
 
+// TestRunner_NoLookback: schedule.lookback: 0 re-computes no hour already
+// done; each run computes only the hours after its checkpoint.
+func TestRunner_NoLookback(t *testing.T) {
+	cfg := runnerConfig(t)
+	cfg.Schedule.Lookback = 0
+	store, src := newMemResults(), &spanSource{}
+	now := time.Date(2026, 7, 14, 10, 7, 0, 0, time.UTC)
+	r := &Runner{Cfg: cfg, Source: src, Store: store, Clock: func() time.Time { return now }, Log: zerolog.Nop()}
+	_, err := r.RunOnce(context.Background())
+	require.NoError(t, err)
+
+	now = now.Add(time.Hour)
+	rep, err := r.RunOnce(context.Background())
+	require.NoError(t, err)
+	assert.Equal(t, 1, rep.AHUs[0].Hours, "the new hour only")
+	rep, err = r.RunOnce(context.Background())
+	require.NoError(t, err)
+	assert.Zero(t, rep.AHUs[0].Hours, "nothing pending in the same hour")
+}
+
 func TestRunner_StoreDownKeepsCheckpoint(t *testing.T) {
 	cfg := runnerConfig(t)
 	store, src := newMemResults(), &spanSource{}

@@ -69,7 +69,7 @@ type InfluxConfig struct {
 	Bucket    string        `yaml:"bucket"`     // 2.x bucket, or "db/rp" for 1.8
 	TokenEnv  string        `yaml:"token_env"`  // environment variable holding the token ("user:pass" for 1.8)
 	TokenFile string        `yaml:"token_file"` // or a file holding it, relative to the config file
-	Timeout   time.Duration `yaml:"timeout"`    // per request
+	Timeout   time.Duration `yaml:"timeout"`    // per request, above 0; default 30s
 
 	baseDir string // the configuration file's folder, for a relative token_file
 }
@@ -103,9 +103,9 @@ type Exports struct {
 // Schedule says when "dewline run" evaluates hours.
 type Schedule struct {
 	Cron     string        `yaml:"cron"`     // five-field cron spec in the site's time zone; default "7 * * * *"
-	Lookback time.Duration `yaml:"lookback"` // recent hours re-computed each run for late data; default 3h
+	Lookback time.Duration `yaml:"lookback"` // recent hours re-computed each run for late data, 0..168h (0: none); default 3h
 	Backfill time.Duration `yaml:"backfill"` // how far back a fresh or late agent catches up; default 168h
-	Timeout  time.Duration `yaml:"timeout"`  // limit of one run; default 45m
+	Timeout  time.Duration `yaml:"timeout"`  // limit of one run, at least 1m; default 45m
 }
 
 // HTTP is the agent's own endpoint: health, readiness, metrics and the dashboard.
@@ -118,11 +118,11 @@ type HTTP struct {
 type Webhook struct {
 	URL       string        `yaml:"url"`
 	SecretEnv string        `yaml:"secret_env"` // environment variable with the HMAC-SHA256 signing secret
-	Timeout   time.Duration `yaml:"timeout"`    // per request; default 10s
-	MaxAge    time.Duration `yaml:"max_age"`    // undelivered events older than this are dropped and counted; default 24h
+	Timeout   time.Duration `yaml:"timeout"`    // per request, above 0; default 10s
+	MaxAge    time.Duration `yaml:"max_age"`    // undelivered events older than this are dropped and counted, above 0; default 24h
 	// UpdateEvery is the cadence of an open alert's while-open updates
 	// (its running totals), counted from the hour it opened; whole hours,
-	// default 1h.
+	// 0 for none, default 1h.
 	UpdateEvery time.Duration `yaml:"update_every"`
 }
 
@@ -192,8 +192,8 @@ type Cooling struct {
 	// or 140kW: with it a modelled cooling input carries the part-load
 	// cycling loss (PLF = 1 - Cd (1 - PLR), AHRI Standard 210/240).
 	RatedCapacity string `yaml:"rated_capacity"`
-	// DegradationCoefficient is Cd of that factor, default
-	// metrics.DefaultDegradationCd.
+	// DegradationCoefficient is Cd of that factor, 0..0.5 (0: no cycling
+	// loss); left out, metrics.DefaultDegradationCd.
 	DegradationCoefficient float64 `yaml:"degradation_coefficient"`
 }
 
@@ -419,7 +419,7 @@ func (c *Config) applyDefaults(root *yaml.Node) {
 	if c.Store.Kind == "embedded" && c.Store.Path == "" {
 		c.Store.Path = DefaultStorePath
 	}
-	if c.Store.InfluxDB != nil && c.Store.InfluxDB.Timeout == 0 {
+	if c.Store.InfluxDB != nil && c.Store.InfluxDB.Timeout == 0 && !given(root, "store", "influxdb", "timeout") {
 		c.Store.InfluxDB.Timeout = DefaultInfluxWait
 	}
 	if c.Grid.Step == 0 && !given(root, "grid", "step") {
@@ -434,26 +434,28 @@ func (c *Config) applyDefaults(root *yaml.Node) {
 	if c.Schedule.Cron == "" {
 		c.Schedule.Cron = "7 * * * *"
 	}
-	if c.Schedule.Lookback == 0 {
+	// lookback: 0 is meaningful (re-compute no hour already done).
+	if c.Schedule.Lookback == 0 && !given(root, "schedule", "lookback") {
 		c.Schedule.Lookback = 3 * time.Hour
 	}
-	if c.Schedule.Backfill == 0 {
+	if c.Schedule.Backfill == 0 && !given(root, "schedule", "backfill") {
 		c.Schedule.Backfill = 7 * 24 * time.Hour
 	}
-	if c.Schedule.Timeout == 0 {
+	if c.Schedule.Timeout == 0 && !given(root, "schedule", "timeout") {
 		c.Schedule.Timeout = 45 * time.Minute
 	}
 	if c.HTTP.Listen == "" {
 		c.HTTP.Listen = "127.0.0.1:9470"
 	}
 	if c.Webhook != nil {
-		if c.Webhook.Timeout == 0 {
+		if c.Webhook.Timeout == 0 && !given(root, "webhook", "timeout") {
 			c.Webhook.Timeout = 10 * time.Second
 		}
-		if c.Webhook.MaxAge == 0 {
+		if c.Webhook.MaxAge == 0 && !given(root, "webhook", "max_age") {
 			c.Webhook.MaxAge = 24 * time.Hour
 		}
-		if c.Webhook.UpdateEvery == 0 {
+		// update_every: 0 is meaningful (no while-open updates).
+		if c.Webhook.UpdateEvery == 0 && !given(root, "webhook", "update_every") {
 			c.Webhook.UpdateEvery = time.Hour
 		}
 	}
@@ -471,6 +473,10 @@ func (c *Config) applyDefaults(root *yaml.Node) {
 		// 0 is meaningful here: an EER that does not change outdoors.
 		if a.Cooling.EERPerKelvin == 0 && !given(root, "air_handlers", i, "cooling", "eer_per_kelvin") {
 			a.Cooling.EERPerKelvin = -0.1
+		}
+		// 0 is meaningful here too: a unit without cycling loss.
+		if a.Cooling.RatedCapacity != "" && a.Cooling.DegradationCoefficient == 0 && !given(root, "air_handlers", i, "cooling", "degradation_coefficient") {
+			a.Cooling.DegradationCoefficient = metrics.DefaultDegradationCd
 		}
 	}
 }

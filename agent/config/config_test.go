@@ -106,6 +106,15 @@ func TestLoadConfig_Bad(t *testing.T) {
 			`:38: air_handlers[2].cooling.plant_kw_per_ton: 0 is outside 0 < x <= 3 kW/ton`,
 			`:53: air_handlers[3].outdoor_air.min_fraction: 0% is outside 0 < x <= 100 %`,
 		}},
+		// A duration of 0 that means nothing is refused with its key,
+		// its line and its range, not replaced by the default.
+		{"zero-durations.bad.yaml", []string{
+			`:8: store.influxdb.timeout: 0s is outside 0 < x: a request needs time; give the time one request may take, e.g. 30s, or leave it out for 30s`,
+			`:10: schedule.backfill: backfill 0s must lie between 1h and 3 years`,
+			`:11: schedule.timeout: timeout 0s is too short: a run needs at least 1m`,
+			`:14: webhook.timeout: 0s is outside 0 < x: a request needs time`,
+			`:15: webhook.max_age: 0s is outside 0 < x: every event would be too old to send`,
+		}},
 		{"mixing.bad.yaml", []string{
 			`:12: air_handlers[0].points.entering_rh: entering_rh "AHU-1 Return RH" reads like a return RH, but entering_temp "AHU-1 Mixed Air Temp" is the mixed air`,
 			`map it as return_rh (or space_rh) instead`,
@@ -341,6 +350,17 @@ func TestValidate_ZeroWhereMeaningful(t *testing.T) {
 	cfg, err = Parse(strings.NewReader(flat), "site.yaml")
 	require.NoError(t, err)
 	assert.Zero(t, cfg.Spec(&cfg.AirHandlers[0]).COPPerK, "eer_per_kelvin: 0 is an EER that does not change outdoors, not the default")
+
+	// lookback: 0 re-computes no hour already done; update_every: 0
+	// sends no while-open update; degradation_coefficient: 0 is a unit
+	// without cycling loss.
+	zeros := strings.Replace(string(base), "rated_eer: 10}", "rated_eer: 10, rated_capacity: 40ton, degradation_coefficient: 0}", 1) +
+		"schedule: {lookback: 0s}\nwebhook: {url: https://alerts.example.org/dewline, update_every: 0s}\n"
+	cfg, err = Parse(strings.NewReader(zeros), "site.yaml")
+	require.NoError(t, err)
+	assert.Zero(t, cfg.Schedule.Lookback, "lookback: 0s, not the default 3h")
+	assert.Zero(t, cfg.Webhook.UpdateEvery, "update_every: 0s, not the default 1h")
+	assert.Zero(t, cfg.Spec(&cfg.AirHandlers[0]).DegradationCd, "degradation_coefficient: 0, not the default 0.25")
 
 	metered := strings.Replace(string(base), "rated_eer: 10}", "}", 1) + "      cooling_kw: {point: ckw, unit: kW}\n"
 	_, err = Parse(strings.NewReader(metered), "site.yaml")

@@ -47,10 +47,9 @@ func (c *Config) Spec(a *AirHandler) *metrics.AirHandler {
 		u.COPPerK = psychro.EERToCOP(a.Cooling.EERPerKelvin)
 		if a.Cooling.RatedCapacity != "" {
 			u.RatedCapacityKW = q(a.Cooling.RatedCapacity, psychro.KindPower)
-			u.DegradationCd = metrics.DefaultDegradationCd
-			if a.Cooling.DegradationCoefficient > 0 {
-				u.DegradationCd = a.Cooling.DegradationCoefficient
-			}
+			// applyDefaults put metrics.DefaultDegradationCd where the
+			// key is left out; a given 0 is a unit without cycling loss.
+			u.DegradationCd = a.Cooling.DegradationCoefficient
 		}
 	case "chilled_water":
 		u.Cooling = metrics.CoolingChilledWater

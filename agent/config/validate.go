@@ -228,6 +228,9 @@ func (c *Config) validateStore(v *validator) {
 		if ic.Bucket == "" {
 			v.bad(at(ip, "bucket"), "missing bucket", "give the 2.x bucket, or database/retention_policy for 1.8 (e.g. bms/autogen)")
 		}
+		if ic.Timeout <= 0 {
+			v.bad(at(ip, "timeout"), fmt.Sprintf("%v is outside 0 < x: a request needs time", ic.Timeout), fmt.Sprintf("give the time one request may take, e.g. 30s, or leave it out for %v", DefaultInfluxWait))
+		}
 		if ic.TokenEnv != "" && ic.TokenFile != "" {
 			v.bad(at(ip, "token_file"), "both token_env and token_file are given", "keep one")
 		}
@@ -368,7 +371,7 @@ func (a *AirHandler) validate(v *validator, p []any, c *Config, units map[string
 			v.bad(at(cp, "rated_capacity"), fmt.Sprintf("%s is outside 0 < x <= 5000 kW", a.Cooling.RatedCapacity), "give the nameplate's total cooling capacity, e.g. 40ton or 140kW")
 		}
 	}
-	if a.Cooling.DegradationCoefficient != 0 {
+	if v.given(at(cp, "degradation_coefficient")) {
 		if a.Cooling.RatedCapacity == "" {
 			v.bad(at(cp, "degradation_coefficient"), "the degradation coefficient needs the rated capacity to tell the part load", "set rated_capacity, or remove degradation_coefficient")
 		}
@@ -605,7 +608,7 @@ func (c *Config) validateSchedule(v *validator) {
 		v.bad(at(p, "backfill"), fmt.Sprintf("backfill %v must lie between 1h and 3 years", c.Schedule.Backfill), "e.g. 168h (a week) or 720h (a month)")
 	}
 	if c.Schedule.Timeout < time.Minute {
-		v.bad(at(p, "timeout"), fmt.Sprintf("timeout %v is too short", c.Schedule.Timeout), "give a run at least a few minutes, less than the time between runs")
+		v.bad(at(p, "timeout"), fmt.Sprintf("timeout %v is too short: a run needs at least 1m", c.Schedule.Timeout), "give a run at least a few minutes, less than the time between runs, or leave it out for 45m")
 	}
 	if host, port, err := net.SplitHostPort(c.HTTP.Listen); err != nil || port == "" {
 		v.bad([]any{"http", "listen"}, fmt.Sprintf("%q is not host:port", c.HTTP.Listen), "e.g. 127.0.0.1:9470 (loopback) or 0.0.0.0:9470 with a token")
@@ -618,12 +621,18 @@ func (c *Config) validateSchedule(v *validator) {
 		if u, err := url.Parse(w.URL); err != nil || (u.Scheme != "http" && u.Scheme != "https") || u.Host == "" {
 			v.bad(at(wp, "url"), fmt.Sprintf("%q is not an http(s) URL", w.URL), "give the receiver's URL, e.g. https://alerts.example.org/dewline")
 		}
-		if w.Timeout < 0 || w.MaxAge < 0 {
-			v.bad(wp, "negative durations", "")
+		// A request without time, or an event too old to send as soon as
+		// it is queued, means nothing: 0 is refused, not taken for the
+		// key left out.
+		if w.Timeout <= 0 {
+			v.bad(at(wp, "timeout"), fmt.Sprintf("%v is outside 0 < x: a request needs time", w.Timeout), "give the time one post may take, e.g. 10s, or leave it out for 10s")
+		}
+		if w.MaxAge <= 0 {
+			v.bad(at(wp, "max_age"), fmt.Sprintf("%v is outside 0 < x: every event would be too old to send", w.MaxAge), "give how long an undelivered event stays worth sending, e.g. 24h, or leave it out for 24h")
 		}
 		if w.UpdateEvery < 0 || w.UpdateEvery%time.Hour != 0 {
-			v.bad(at(wp, "update_every"), fmt.Sprintf("%s is not a whole number of hours", w.UpdateEvery),
-				"give the cadence of an open alert's updates in whole hours, e.g. 1h (the default) or 6h")
+			v.bad(at(wp, "update_every"), fmt.Sprintf("%s is not a whole number of hours (0 or more)", w.UpdateEvery),
+				"give the cadence of an open alert's updates in whole hours, e.g. 1h (the default) or 6h, or 0 for none")
 		}
 	}
 }
