@@ -290,3 +290,61 @@ func TestDeploy_ExampleReferences(t *testing.T) {
 	}
 	assert.Positive(t, seen, "no example was mentioned anywhere")
 }
+
+// commentRange finds a range in a comment: "lo..hi" (both bounds allowed)
+// or "lo < x <= hi" (the lower bound excluded), bounds with or without a
+// unit.
+var commentRange = regexp.MustCompile(`(-?[0-9][0-9.]*[a-zA-Z%]*)\s*(\.\.|< x <=)\s*(-?[0-9][0-9.]*[a-zA-Z%]*)`)
+
+// lastValue finds the last "key: value" before a comment, the key the
+// comment speaks of (in a flow mapping too).
+var lastValue = regexp.MustCompile(`([a-z_]+):\s*([^\s,{}#]+)[\s}]*$`)
+
+// TestDeploy_ExampleRanges: a range stated in a comment of an example
+// (or of the Kubernetes ConfigMap's configuration) is the one validation
+// applies: each bound it allows loads, a bound it excludes is refused
+// with the key's name.
+func TestDeploy_ExampleRanges(t *testing.T) {
+	texts := map[string]string{}
+	files, err := filepath.Glob("examples/*.yaml")
+	require.NoError(t, err)
+	for _, f := range files {
+		b, err := os.ReadFile(f)
+		require.NoError(t, err)
+		texts[f] = string(b)
+	}
+	k := loadKube(t)
+	texts["kubernetes/configmap.yaml data."+k.configKey(t)] = k.cm.Data[k.configKey(t)]
+	seen := 0
+	for name, text := range texts {
+		lines := strings.Split(text, "\n")
+		for i, line := range lines {
+			code, comment, ok := strings.Cut(line, "#")
+			if !ok {
+				continue
+			}
+			r := commentRange.FindStringSubmatch(comment)
+			kv := lastValue.FindStringSubmatchIndex(code)
+			if r == nil || kv == nil {
+				continue
+			}
+			key := code[kv[2]:kv[3]]
+			seen++
+			with := func(v string) error {
+				mutated := slices.Clone(lines)
+				mutated[i] = code[:kv[4]] + v + code[kv[5]:] + "#" + comment
+				_, err := config.Parse(strings.NewReader(strings.Join(mutated, "\n")), name)
+				return err
+			}
+			t.Run(fmt.Sprintf("%s:%d %s", name, i+1, key), func(t *testing.T) {
+				if r[2] == ".." {
+					assert.NoError(t, with(r[1]), "%q says %s..%s: %s allowed", strings.TrimSpace(comment), r[1], r[3], r[1])
+				} else if err := with(r[1]); assert.Error(t, err, "%q excludes %s", strings.TrimSpace(comment), r[1]) {
+					assert.Contains(t, err.Error(), key)
+				}
+				assert.NoError(t, with(r[3]), "%q allows %s", strings.TrimSpace(comment), r[3])
+			})
+		}
+	}
+	assert.GreaterOrEqual(t, seen, 3, "no commented range found: the pattern no longer matches the examples")
+}
