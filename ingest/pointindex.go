@@ -53,14 +53,20 @@ func (ix PointIndex) CheckUnit(rec Record) error {
 	if len(ts) == 0 || rec.Unit == "" {
 		return nil
 	}
+	// The line that states the unit: a wide export's header or unit
+	// row, else the record's own.
+	line := rec.Line
+	if rec.UnitLine > 0 {
+		line = rec.UnitLine
+	}
 	fileUnit, err := psychro.LookupUnit(ts[0].Kind, rec.Unit)
 	if err != nil {
 		return fmt.Errorf("%s line %d: column %q states the unit %q, which is not a unit of %s; correct the file's header or the configuration",
-			rec.File, rec.Line, rec.Series, rec.Unit, ts[0].Kind)
+			rec.File, line, rec.Series, rec.Unit, ts[0].Kind)
 	}
 	if fileUnit.Name != ts[0].Unit.Name {
 		return fmt.Errorf("%s line %d: column %q is in %s according to the file but %s according to the configuration; correct the unit in the configuration",
-			rec.File, rec.Line, rec.Series, fileUnit.Name, ts[0].Ref.Unit)
+			rec.File, line, rec.Series, fileUnit.Name, ts[0].Ref.Unit)
 	}
 	return nil
 }

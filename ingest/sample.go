@@ -18,4 +18,7 @@ type Record struct {
 	Value  float64
 	File   string
 	Line   int
+	// UnitLine is the line that states Unit when it is not Line: a wide
+	// export's header or unit row; 0 when the record's own line does.
+	UnitLine int
 }

@@ -109,6 +109,41 @@ func TestImport_RowUnits(t *testing.T) {
 	}
 }
 
+// TestImport_WideUnitLine: a wide export's unit for a column is stated
+// once, in the header or in the unit row under it; a unit that differs
+// from the configuration's names that line, not the first data row.
+func TestImport_WideUnitLine(t *testing.T) {
+	dir := t.TempDir()
+	cfg, _ := writeScenario(t, dir)
+	wide := func(name, header, unitRow string) string {
+		var b strings.Builder
+		b.WriteString(header + "\n")
+		if unitRow != "" {
+			b.WriteString(unitRow + "\n")
+		}
+		start := time.Date(2026, 7, 14, 0, 0, 0, 0, time.UTC)
+		for m := 0; m < 120; m++ {
+			fmt.Fprintf(&b, "%s,76,60,52,21.1,8000\n", start.Add(time.Duration(m)*time.Minute).Format("2006-01-02 15:04:05"))
+		}
+		path := filepath.Join(dir, name)
+		require.NoError(t, os.WriteFile(path, []byte(b.String()), 0o600))
+		return path
+	}
+	for _, tt := range []struct{ name, path, want string }{
+		{"unit row", wide("row.csv", "Time,MAT,MARH,LAT,SAT,CFM", ",°F,%,°F,°C,CFM"), `row.csv line 2: column "SAT" is in °C according to the file but F`},
+		{"header", wide("head.csv", "Time,MAT,MARH,LAT,SAT (°C),CFM", ""), `head.csv line 1: column "SAT" is in °C according to the file but F`},
+	} {
+		t.Run(tt.name, func(t *testing.T) {
+			for _, cmd := range [][]string{{"import", "--config", cfg, tt.path}, {"check", "--config", cfg, "--input", tt.path},
+				{"analyze", "--config", cfg, "--input", tt.path, "--no-store"}} {
+				code, _, errOut := runCLI(t, append([]string{"--log-level", "warn"}, cmd...)...)
+				assert.Equal(t, 1, code, cmd[0])
+				assert.Contains(t, errOut, tt.want, cmd[0])
+			}
+		})
+	}
+}
+
 // TestAnalyze_OutputNeverDestroys: --out naming an input is refused and
 // the input stays whole; a run that fails leaves the previous output as
 // it was; a run that succeeds replaces it.

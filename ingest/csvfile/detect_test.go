@@ -303,8 +303,8 @@ func TestReader_Quotes(t *testing.T) {
 	require.NoError(t, err)
 	cols := r.Columns()
 	require.Len(t, cols, 2)
-	assert.Equal(t, Column{Index: 1, Header: "AHU-1 \"North\"\nSupply Temp (°F)", Name: "AHU-1 \"North\"\nSupply Temp", Unit: "°F"}, cols[0])
-	assert.Equal(t, Column{Index: 2, Header: "Flow, CFM", Name: "Flow", Unit: "CFM"}, cols[1])
+	assert.Equal(t, Column{Index: 1, Header: "AHU-1 \"North\"\nSupply Temp (°F)", Name: "AHU-1 \"North\"\nSupply Temp", Unit: "°F", UnitLine: 1}, cols[0])
+	assert.Equal(t, Column{Index: 2, Header: "Flow, CFM", Name: "Flow", Unit: "CFM", UnitLine: 1}, cols[1])
 
 	var lines []int
 	var vals []float64

@@ -14,6 +14,10 @@ type Column struct {
 	Header string // the header cell as written (wide) or the point name as written (long)
 	Name   string // the series name records carry: the header without its unit
 	Unit   string // the unit as the file writes it, "" when the file states none
+	// UnitLine is the line that states Unit in a wide export (the header
+	// or the unit row under it); 0 when no unit is stated or when each
+	// row states its own (long).
+	UnitLine int
 }
 
 // psychroKinds are the kinds of quantity psychro names units for.

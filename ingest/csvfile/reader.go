@@ -165,7 +165,7 @@ func NewReader(src io.Reader, name string, opt Options) (*Reader, error) {
 	for i := range r.recs {
 		r.recs[i].File = name
 		if i < len(r.cols) {
-			r.recs[i].Series, r.recs[i].Unit = r.cols[i].Name, r.cols[i].Unit
+			r.recs[i].Series, r.recs[i].Unit, r.recs[i].UnitLine = r.cols[i].Name, r.cols[i].Unit, r.cols[i].UnitLine
 		}
 	}
 	r.spare = make([]ingest.Record, len(r.recs))
@@ -396,7 +396,7 @@ func (r *Reader) row() {
 		n := len(r.ready)
 		r.ready = r.spare[:n+1]
 		rec := &r.ready[n]
-		rec.Series, rec.Unit, rec.File = c.Name, c.Unit, r.name
+		rec.Series, rec.Unit, rec.UnitLine, rec.File = c.Name, c.Unit, c.UnitLine, r.name
 		rec.Time, rec.Value, rec.Line = t, v, line
 	}
 }

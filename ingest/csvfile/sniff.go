@@ -306,7 +306,9 @@ func (r *Reader) sniff(head []byte, atEOF bool) (needPass bool, err error) {
 	// A unit row under a wide header: no timestamps, no numbers, and at
 	// least one unit psychro knows.
 	var unitRow []string
+	unitRowLine := 0
 	if r.layout == LayoutWide && len(data) > 0 && data[0].st == recOK && isUnitRow(data[0].fields) {
+		unitRowLine = data[0].line
 		for _, f := range data[0].fields {
 			unitRow = append(unitRow, text(f))
 		}
@@ -494,6 +496,7 @@ func (r *Reader) sniff(head []byte, atEOF bool) (needPass bool, err error) {
 			continue
 		}
 		name, unit := splitNameUnit(hd)
+		unitLine := hdr.line
 		if name == "" {
 			return false, fe(ErrHeader, hdr.line, fmt.Sprintf("column %d has no name", i+1),
 				"name every column, or remove the empty one")
@@ -503,14 +506,17 @@ func (r *Reader) sniff(head []byte, atEOF bool) (needPass bool, err error) {
 				return false, fe(ErrHeader, hdr.line, fmt.Sprintf("column %q states unit %q in its name and %q in the unit row", hd, unit, unitRow[i]),
 					"correct one of them")
 			}
-			unit = unitRow[i]
+			unit, unitLine = unitRow[i], unitRowLine
 		}
 		if j, dup := seen[name]; dup {
 			return false, fe(ErrHeader, hdr.line, fmt.Sprintf("columns %d and %d are both named %q", j+1, i+1, name),
 				"rename one of them; records could not be told apart")
 		}
 		seen[name] = i
-		r.cols = append(r.cols, Column{Index: i, Header: hd, Name: name, Unit: unit})
+		if unit == "" {
+			unitLine = 0
+		}
+		r.cols = append(r.cols, Column{Index: i, Header: hd, Name: name, Unit: unit, UnitLine: unitLine})
 	}
 	if len(r.cols) == 0 {
 		return false, fe(ErrHeader, hdr.line, "no value columns besides the time", "check the delimiter ("+r.opt.setting("Delimiter")+")")
