@@ -455,7 +455,7 @@ func (r *roleStream) otherUnit(hour unitTally) string {
 	if hour.n == 0 {
 		return ""
 	}
-	if conf := float64(hour.typ[r.look.conf]) / float64(hour.n); conf > unitLookMaxConf {
+	if conf := float64(hour.typ[r.look.conf]) / float64(hour.n); conf > metrics.UnitMaxConf {
 		return ""
 	}
 	day := r.look.tally()

@@ -10,10 +10,12 @@ import (
 
 // unitLook tells when a series' values look logged in another unit than
 // the configured one, by the rule "dewline check" states in its note
-// column and the analysis applies hour by hour: of at least minSamples
-// raw values, at most half are typical of the role (metrics.RoleSpec.Typical)
+// column, the analysis applies hour by hour and "dewline draft" applies
+// to an export's declared unit (metrics.OtherUnit): of at least ten raw
+// values, at most half are typical of the role (metrics.RoleSpec.Typical)
 // under the configured unit, and another unit of the kind makes 30 points
-// more of them typical (common practice, no source).
+// more of them typical, a decimal multiple of the configured unit first
+// (common practice, no source).
 //
 // The rule is applied to millions of values, so each unit's typical range
 // is turned once into the exact range of the values as they arrive (raw
@@ -34,12 +36,6 @@ type unitTally struct {
 	n   int
 	typ []int
 }
-
-const (
-	unitLookMinSamples = 10  // raw values before a judgement
-	unitLookMaxConf    = 0.5 // the configured unit fits at most this share
-	unitLookMargin     = 0.3 // and another fits this much more
-)
 
 // unitLooks keeps the looks made, by role and configured unit: a look is
 // never changed once made (tallies are the caller's), and its ranges take
@@ -167,21 +163,16 @@ func (t *unitTally) count(rs []valueRange, x float64) {
 }
 
 // other returns the unit the tally's values look logged in when the rule
-// holds (ok), with the shares typical under it and under the configured one.
+// holds (ok), with the shares typical under it and under the configured
+// one: metrics.OtherUnit, the rule dewline draft applies too.
 func (l *unitLook) other(t unitTally) (best psychro.Unit, bestShare, confShare float64, ok bool) {
-	if l.conf < 0 || t.n < unitLookMinSamples {
+	if l.conf < 0 || t.n == 0 {
 		return psychro.Unit{}, 0, 0, false
 	}
 	n := float64(t.n)
-	confShare = float64(t.typ[l.conf]) / n
-	bestShare = confShare
-	for i, c := range t.typ {
-		if share := float64(c) / n; share > bestShare+unitLookMargin {
-			best, bestShare, ok = l.units[i], share, true
-		}
+	i, ok := metrics.OtherUnit(l.units, l.conf, t.n, func(i int) float64 { return float64(t.typ[i]) / n })
+	if !ok {
+		return psychro.Unit{}, 0, 0, false
 	}
-	if confShare > unitLookMaxConf {
-		ok = false
-	}
-	return best, bestShare, confShare, ok
+	return l.units[i], float64(t.typ[i]) / n, float64(t.typ[l.conf]) / n, true
 }

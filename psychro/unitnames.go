@@ -257,3 +257,15 @@ func SIUnitName(k Kind) string {
 	}
 	return ""
 }
+
+// DecimalMultipleOf reports whether u is o times a power of ten, neither
+// with an offset: a prefix or a scaling apart (W and kW, a fraction and %,
+// L/s and m³/s), not a unit of another system (Btu/h and kW) or a
+// temperature scale.
+func (u Unit) DecimalMultipleOf(o Unit) bool {
+	if u.Kind != o.Kind || u.off != 0 || o.off != 0 || u.scale <= 0 || o.scale <= 0 {
+		return false
+	}
+	e := math.Log10(u.scale / o.scale)
+	return math.Abs(e-math.Round(e)) < 1e-9
+}

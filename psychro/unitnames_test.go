@@ -78,3 +78,24 @@ func TestUnit_RoundTrip(t *testing.T) {
 		assert.InDelta(t, v, e.u.FromSI(e.u.ToSI(v)), 1e-9, e.u.Name)
 	}
 }
+
+// TestUnit_DecimalMultipleOf: W, MW and kW differ by SI prefixes (powers
+// of ten, SI Brochure, 9th ed., 2019), as % and a fraction do; Btu/h and
+// ton are not decimal multiples of kW, and temperature scales have an
+// offset.
+func TestUnit_DecimalMultipleOf(t *testing.T) {
+	u := func(k Kind, name string) Unit {
+		x, err := LookupUnit(k, name)
+		require.NoError(t, err)
+		return x
+	}
+	kW := u(KindPower, "kW")
+	assert.True(t, u(KindPower, "W").DecimalMultipleOf(kW))
+	assert.True(t, u(KindPower, "MW").DecimalMultipleOf(kW))
+	assert.True(t, kW.DecimalMultipleOf(kW))
+	assert.False(t, u(KindPower, "Btu/h").DecimalMultipleOf(kW))
+	assert.False(t, u(KindPower, "ton").DecimalMultipleOf(kW))
+	assert.True(t, u(KindRH, "fraction").DecimalMultipleOf(u(KindRH, "%")))
+	assert.False(t, u(KindTemperature, "°F").DecimalMultipleOf(u(KindTemperature, "°C")))
+	assert.False(t, u(KindTemperature, "K").DecimalMultipleOf(u(KindTemperature, "°C")), "an offset, not a factor")
+}

@@ -3,7 +3,9 @@ package main
 import (
 	"os"
 	"path/filepath"
+	"slices"
 	"sort"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -172,4 +174,48 @@ func TestDraft_KeepsWhatItWouldOverwrite(t *testing.T) {
 	left, err := filepath.Glob(filepath.Join(dir, ".site.yaml.*"))
 	require.NoError(t, err)
 	assert.Empty(t, left, "no temporary file left")
+}
+
+// TestCheckDraft_KWLoggedInW: a compressor's power logged in W under a
+// kW label (the demo's rooftop unit, its values times 1000) is named W by
+// check and by draft alike, by one rule (metrics.OtherUnit): its values
+// read in Btu/h are typical too, but a factor of 1000 is a prefix slipped
+// (W = kW / 1000, SI Brochure, 9th ed., 2019), the likelier mistake.
+func TestCheckDraft_KWLoggedInW(t *testing.T) {
+	dir := t.TempDir()
+	sc, err := demo.Write(dir, demo.Options{Days: demo.MinDays})
+	require.NoError(t, err)
+	var rtu string
+	for _, e := range sc.Exports {
+		if strings.Contains(filepath.Base(e), "rtu-5") {
+			rtu = e
+		}
+	}
+	require.NotEmpty(t, rtu, "the demo's wide export with a unit row")
+	b, err := os.ReadFile(rtu)
+	require.NoError(t, err)
+	lines := strings.Split(strings.TrimRight(string(b), "\n"), "\n")
+	col := slices.Index(strings.Split(lines[0], ","), "RTU-5 Compressor Power")
+	require.Positive(t, col)
+	require.Equal(t, "kW", strings.Split(lines[1], ",")[col], "the unit row states kW")
+	for i := 2; i < len(lines); i++ {
+		f := strings.Split(lines[i], ",")
+		v, err := strconv.ParseFloat(f[col], 64)
+		require.NoError(t, err, "line %d", i+1)
+		f[col] = strconv.FormatFloat(v*1000, 'f', -1, 64)
+		lines[i] = strings.Join(f, ",")
+	}
+	watts := filepath.Join(dir, "rtu-watts.csv")
+	require.NoError(t, os.WriteFile(watts, []byte(strings.Join(lines, "\n")+"\n"), 0o600))
+
+	code, out, errOut := runCLI(t, "--log-level", "warn", "check", "--config", sc.ConfigPath, "--input", watts)
+	require.Equal(t, 3, code, errOut)
+	assert.Regexp(t, `RTU-5\s+cooling_kw\s+RTU-5 Compressor Power\s+kW\s.*values look like W, not kW`, out)
+
+	cfg := filepath.Join(dir, "draft.yaml")
+	code, out, errOut = runCLI(t, "--log-level", "warn", "draft", "--timezone", sc.Zone, "-o", cfg, watts)
+	require.Equal(t, 0, code, errOut+out)
+	drafted, err := os.ReadFile(cfg)
+	require.NoError(t, err)
+	assert.Regexp(t, `declared kW, but the values \([^)]*\) read as W for`, string(drafted))
 }

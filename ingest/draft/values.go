@@ -65,13 +65,8 @@ func chooseUnit(role metrics.Role, declared string, s *Stats, ip bool) unitChoic
 		if own >= 0.8 {
 			return unitChoice{unit: u.Name, cap: High}
 		}
-		for _, alt := range candidateUnits[spec.Kind] {
-			if alt == u.Name {
-				continue
-			}
-			if a := typical(alt); a >= 0.8 && own < 0.5 {
-				return unitChoice{unit: u.Name, cap: Low, note: fmt.Sprintf("declared %s, but the values (%s) read as %s for a %s: fix the export's unit label", u.Name, span, alt, spec.Doc)}
-			}
+		if alt, ok := otherUnit(spec, u, s); ok {
+			return unitChoice{unit: u.Name, cap: Low, note: fmt.Sprintf("declared %s, but the values (%s) read as %s for a %s: fix the export's unit label", u.Name, span, alt, spec.Doc)}
 		}
 		c := Low
 		if own >= 0.5 {
@@ -80,6 +75,34 @@ func chooseUnit(role metrics.Role, declared string, s *Stats, ip bool) unitChoic
 		return unitChoice{unit: u.Name, cap: c, note: fmt.Sprintf("%.0f %% of the values (%s %s) are unusual for a %s; check the role and the unit", 100*(1-own), span, u.Name, spec.Doc)}
 	}
 	return guessUnit(role, spec, s, typical, ip)
+}
+
+// otherUnit names the unit a point declared in declared looks logged in,
+// by the rule dewline check and the analysis apply to a configured unit
+// (metrics.OtherUnit), over the kept values with the check's shares: a
+// value counts for a unit where, read in it, it is typical of the role.
+func otherUnit(spec metrics.RoleSpec, declared psychro.Unit, s *Stats) (string, bool) {
+	var units []psychro.Unit
+	conf := -1
+	for _, name := range psychro.UnitNames(spec.Kind) {
+		u, err := psychro.LookupUnit(spec.Kind, name)
+		if err != nil {
+			continue
+		}
+		if name == declared.Name {
+			conf = len(units)
+		}
+		units = append(units, u)
+	}
+	shares := make([]float64, len(units))
+	for i, u := range units {
+		shares[i] = s.share(func(v float64) bool { return spec.Typical(u.ToSI(v)) })
+	}
+	i, ok := metrics.OtherUnit(units, conf, len(s.values), func(i int) float64 { return shares[i] })
+	if !ok {
+		return "", false
+	}
+	return units[i].Name, true
 }
 
 // guessUnit picks the unit under which most values are typical.
