@@ -1,6 +1,7 @@
 package main
 
 import (
+	"fmt"
 	"os"
 	"path/filepath"
 	"slices"
@@ -218,4 +219,59 @@ func TestCheckDraft_KWLoggedInW(t *testing.T) {
 	drafted, err := os.ReadFile(cfg)
 	require.NoError(t, err)
 	assert.Regexp(t, `declared kW, but the values \([^)]*\) read as W for`, string(drafted))
+}
+
+// TestDraft_HeaderOnly: an export cut to its header (and unit row) has no
+// data rows; the draft says so, and still maps a wide export's columns by
+// name, as the demo's own configuration maps them. A long export names
+// its points in its rows: without one, the draft stops with the reason.
+func TestDraft_HeaderOnly(t *testing.T) {
+	dir := t.TempDir()
+	sc, err := demo.Write(dir, demo.Options{Days: demo.MinDays})
+	require.NoError(t, err)
+	want, err := config.Load(sc.ConfigPath)
+	require.NoError(t, err)
+	wantRTU, ok := want.AirHandler("RTU-5")
+	require.True(t, ok)
+	var wide, long string
+	for _, e := range sc.Exports {
+		switch b := filepath.Base(e); {
+		case strings.Contains(b, "rtu-5"):
+			wide = e
+		case strings.HasPrefix(b, "ahu-1") && strings.HasSuffix(b, ".csv"):
+			long = e
+		}
+	}
+	require.NotEmpty(t, wide)
+	require.NotEmpty(t, long)
+	head := func(src string, n int) string {
+		b, err := os.ReadFile(src)
+		require.NoError(t, err)
+		lines := strings.SplitAfter(string(b), "\n")
+		path := filepath.Join(dir, fmt.Sprintf("head%d-%s", n, filepath.Base(src)))
+		require.NoError(t, os.WriteFile(path, []byte(strings.Join(lines[:n], "")), 0o600))
+		return path
+	}
+	for _, n := range []int{2, 1} { // with the unit row, and the header alone
+		t.Run(fmt.Sprintf("wide head -%d", n), func(t *testing.T) {
+			in := head(wide, n)
+			cfg := filepath.Join(dir, fmt.Sprintf("draft%d.yaml", n))
+			_, out, errOut := runCLI(t, "--log-level", "warn", "draft", "--timezone", sc.Zone, "-o", cfg, in)
+			assert.Contains(t, out+errOut, filepath.Base(in)+" has no data rows (only its header)")
+			assert.NotContains(t, out+errOut, "missing entering_temp")
+			got, err := config.Load(cfg)
+			require.NoError(t, err, out+errOut)
+			a, ok := got.AirHandler("RTU-5")
+			require.True(t, ok)
+			for _, r := range []string{"entering_temp", "entering_rh", "leaving_temp", "supply_temp", "supply_flow"} {
+				assert.Equal(t, wantRTU.Points[r].Name(), a.Points[r].Name(), r)
+			}
+		})
+	}
+	t.Run("long head -1", func(t *testing.T) {
+		in := head(long, 1)
+		code, out, errOut := runCLI(t, "--log-level", "warn", "draft", "--timezone", sc.Zone, "-o", filepath.Join(dir, "long.yaml"), in)
+		assert.Equal(t, 1, code)
+		assert.Contains(t, out+errOut, filepath.Base(in)+" has no data rows (only its header): export a period with data")
+	})
 }

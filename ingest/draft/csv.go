@@ -18,6 +18,9 @@ type Read struct {
 	DayFirst, DecimalComma string
 	Rows                   int
 	Rejected               int
+	// NoRows lists the exports without a data row (only a header, and
+	// perhaps a unit row).
+	NoRows []string
 }
 
 // ReadCSV reads CSV trend exports into points: one per column of a wide
@@ -74,11 +77,17 @@ func ReadCSV(paths []string, opt csvfile.Options) ([]Point, Read, error) {
 			points[i].Stats.Add(rec.Time, rec.Value)
 		}
 		// Columns of a wide file that hold no value at all are points too:
-		// the draft lists them rather than letting them vanish.
+		// the draft lists them rather than letting them vanish, and maps
+		// them by name when the file has no data row at all.
+		noRows := ""
+		if r.Stats().Rows == 0 {
+			noRows = path
+			rd.NoRows = append(rd.NoRows, path)
+		}
 		for _, col := range r.Columns() {
 			if _, ok := idx[col.Name]; !ok && !long {
 				idx[col.Name] = len(points)
-				points = append(points, Point{Name: col.Name, Unit: col.Unit, Ref: metrics.PointRef{Column: col.Name}})
+				points = append(points, Point{Name: col.Name, Unit: col.Unit, Ref: metrics.PointRef{Column: col.Name}, NoRowsIn: noRows})
 			}
 		}
 		rd.Rejected += r.Stats().RejectedTotal()

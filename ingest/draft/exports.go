@@ -3,6 +3,7 @@ package draft
 import (
 	"errors"
 	"fmt"
+	"strings"
 	"time"
 
 	"github.com/dewline/dewline/ingest/csvfile"
@@ -48,6 +49,11 @@ func ReadExports(ex Exports, site *Site) ([]Point, Read, error) {
 	}
 	if err != nil {
 		return nil, rd, err
+	}
+	if len(points) == 0 && len(rd.NoRows) > 0 {
+		// A long export names its points in its rows: without one there
+		// is nothing to map.
+		return nil, rd, fmt.Errorf("%s has no data rows (only its header): export a period with data", strings.Join(rd.NoRows, ", "))
 	}
 	site.Sources = ex.Paths
 	site.DayFirst, site.DecimalComma = or(ex.DayFirst, rd.DayFirst), or(ex.DecimalComma, rd.DecimalComma)

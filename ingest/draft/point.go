@@ -24,6 +24,10 @@ type Point struct {
 	Tags map[string]string
 	// Stats summarises the values.
 	Stats Stats
+	// NoRowsIn is the export the point was read from when that export
+	// has no data rows (only its header): the point is known by its name
+	// and declared unit alone.
+	NoRowsIn string
 
 	unitFrom string // where Unit came from when not the source: "name" or "tag"
 }

@@ -2,6 +2,7 @@ package draft
 
 import (
 	"fmt"
+	"slices"
 	"sort"
 	"strings"
 
@@ -59,6 +60,9 @@ type Proposal struct {
 	AirHandlers []*AirHandler
 	Unassigned  []Unassigned
 	IP          bool // most temperatures are logged in °F
+	// NoRows lists the exports without a data row whose columns were
+	// mapped by name alone.
+	NoRows []string
 }
 
 // Options steer Propose.
@@ -87,6 +91,9 @@ func Propose(points []Point, opt Options) *Proposal {
 	nF, nC := 0, 0
 	for i := range points {
 		p := &points[i]
+		if p.NoRowsIn != "" && !slices.Contains(prop.NoRows, p.NoRowsIn) {
+			prop.NoRows = append(prop.NoRows, p.NoRowsIn)
+		}
 		c := judge(p)
 		cands = append(cands, c)
 		if c.ahu != "" && !strings.HasPrefix(c.ahu, "!") {
@@ -149,7 +156,7 @@ func Propose(points []Point, opt Options) *Proposal {
 	var shared []*candidate
 	for _, c := range cands {
 		switch {
-		case c.p.Stats.N == 0:
+		case c.p.Stats.N == 0 && c.p.NoRowsIn == "":
 			prop.Unassigned = append(prop.Unassigned, Unassigned{Point: c.p, AHU: strings.TrimPrefix(c.ahu, "!"), Note: "no numeric value in the source"})
 		case strings.HasPrefix(c.ahu, "!"):
 			prop.Unassigned = append(prop.Unassigned, Unassigned{Point: c.p, Note: "belongs to " + c.ahu[1:] + ", not an air handler"})
@@ -294,6 +301,11 @@ func mapping(c *candidate, shared, ip bool) *Mapping {
 	uc := chooseUnit(c.v.role, c.p.Unit, &c.p.Stats, ip)
 	m := &Mapping{Role: c.v.role, Point: c.p, Unit: uc.unit, Conf: min(c.v.conf, uc.cap), Shared: shared}
 	m.Evidence = append(m.Evidence, c.v.evidence...)
+	if c.p.NoRowsIn != "" {
+		// No value to confirm the name or the unit.
+		m.Conf = min(m.Conf, Medium)
+		m.Evidence = append(m.Evidence, "by name alone: "+c.p.NoRowsIn+" has no data rows")
+	}
 	if uc.note != "" {
 		m.Evidence = append(m.Evidence, uc.note)
 	} else if c.p.Unit != "" {
@@ -301,7 +313,11 @@ func mapping(c *candidate, shared, ip bool) *Mapping {
 		if c.p.unitFrom != "" {
 			from = "from " + c.p.unitFrom
 		}
-		m.Evidence = append(m.Evidence, "unit "+c.p.Unit+" "+from+", values "+num(c.p.Stats.Min)+".."+num(c.p.Stats.Max))
+		ev := "unit " + c.p.Unit + " " + from
+		if c.p.Stats.N > 0 {
+			ev += ", values " + num(c.p.Stats.Min) + ".." + num(c.p.Stats.Max)
+		}
+		m.Evidence = append(m.Evidence, ev)
 	}
 	if c.p.Stats.N > 0 {
 		m.Evidence = append(m.Evidence, intervalText(&c.p.Stats))

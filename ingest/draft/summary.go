@@ -11,6 +11,9 @@ import (
 // out, when set, is the file the configuration went to. It returns an
 // error when no air handler has every required role.
 func (p *Proposal) WriteSummary(w io.Writer, points int, out string) error {
+	for _, f := range p.NoRows {
+		fmt.Fprintf(w, "%s has no data rows (only its header): its columns are mapped by name alone, units as declared; draft again from an export with data to check them against values\n", f)
+	}
 	complete := 0
 	for _, a := range p.AirHandlers {
 		low := 0
