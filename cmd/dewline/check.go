@@ -21,7 +21,7 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 	fs.Usage = func() {
 		fmt.Fprintln(fs.Output(), "usage: dewline check --config FILE [--input trends.csv ...] [--store [--from T] [--to T]]")
 		fmt.Fprintln(fs.Output(), "Period bounds: "+periodRule+".")
-		fmt.Fprintf(fs.Output(), "Exit status: 0 all points look right, 1 an error (the configuration, a secret, a file), 2 a usage mistake, %d points need a look.\n", exitNeedsLook)
+		fmt.Fprintf(fs.Output(), "Exit status: 0 all points look right, 1 an error (the configuration, a secret, a file), 2 a usage mistake, %d points need a look or an export has more than %.0f %% of its rows rejected.\n", exitNeedsLook, 100*importer.MaxRejectedShare)
 		fs.PrintDefaults()
 	}
 	cfg, err := parseWithConfig(fs, args, e.stdout)
@@ -80,8 +80,8 @@ func runCheck(ctx context.Context, e *env, args []string) error {
 	if err != nil {
 		return err
 	}
-	if n > 0 {
-		return &exitError{code: exitNeedsLook, msg: fmt.Sprintf("%d point(s) need a look", n)}
+	if msg := checks.NeedsLook(n); msg != "" {
+		return &exitError{code: exitNeedsLook, msg: msg}
 	}
 	return nil
 }

@@ -109,6 +109,54 @@ func TestImport_RowUnits(t *testing.T) {
 	}
 }
 
+// TestCheck_RejectedShare: an export with more than 5 % of its rows
+// rejected (importer.MaxRejectedShare, common practice, no source) needs
+// a look, exit 3 with the reason, although every point's own figures look
+// right; a few rejected rows do not. Here the rejected rows are written
+// in a second time format (month/day/year with AM/PM) among ISO ones.
+func TestCheck_RejectedShare(t *testing.T) {
+	dir := t.TempDir()
+	cfg, _ := writeScenario(t, dir)
+	mixed := func(name string, other func(m int) bool) string {
+		path := filepath.Join(dir, name)
+		longExport(t, path, func(int) string { return "F" }, func(int) float64 { return 70 })
+		b, err := os.ReadFile(path)
+		require.NoError(t, err)
+		lines := strings.Split(string(b), "\n")
+		for i := 1; i < len(lines); i++ { // five rows a minute, after the header
+			if m := (i - 1) / 5; lines[i] != "" && m > 0 && other(m) {
+				ts, err := time.Parse("2006-01-02 15:04:05", lines[i][:19])
+				require.NoError(t, err)
+				lines[i] = ts.Format("01/02/2006 3:04:05 PM") + lines[i][19:]
+			}
+		}
+		require.NoError(t, os.WriteFile(path, []byte(strings.Join(lines, "\n")), 0o600))
+		return path
+	}
+	tests := []struct {
+		name  string
+		other func(m int) bool
+		code  int
+		want  string
+	}{
+		{"every other minute", func(m int) bool { return m%2 == 1 }, 3,
+			`dewline check: 1 export(s) with more than 5 % of their rows rejected (common practice, no source): ` + filepath.Join(dir, "every.csv") + ` (300 rejected in 600 data rows, 50 %)`},
+		{"one minute in forty", func(m int) bool { return m%40 == 39 }, 0, ""},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			path := mixed(strings.Fields(tt.name)[0]+".csv", tt.other)
+			code, out, errOut := runCLI(t, "--log-level", "warn", "check", "--config", cfg, "--input", path)
+			assert.Contains(t, out, "unparseable time", "the rejected rows are listed")
+			require.Equal(t, tt.code, code, out+errOut)
+			if tt.want != "" {
+				assert.Contains(t, errOut, tt.want)
+				assert.Contains(t, out, "needs a look: 50 % of the rows rejected, above the 5 % dewline check accepts")
+			}
+		})
+	}
+}
+
 // TestImport_WideUnitLine: a wide export's unit for a column is stated
 // once, in the header or in the unit row under it; a unit that differs
 // from the configuration's names that line, not the first data row.

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"strings"
 	"time"
 
 	"github.com/dewline/dewline/agent/config"
@@ -18,7 +19,18 @@ import (
 type Checks struct {
 	Index  ingest.PointIndex
 	Points map[string]*ingest.PointCheck
+	// Rejected says, per export whose rejections exceed MaxRejectedShare
+	// of its data rows, how many there were: the export needs a look.
+	Rejected []string
 }
+
+// MaxRejectedShare is the share of an export's data rows beyond which its
+// rejections (rows and cells refused: a time that does not parse, a value
+// that is no number) make "dewline check" exit as needing a look: common
+// practice, no source. A few bad cells are usual in a building's export;
+// more, such as every other row in another time format, leave hours
+// with part of their samples while every point's own figures look right.
+const MaxRejectedShare = 0.05
 
 // NewChecks indexes the configured points for inspection.
 func NewChecks(cfg *config.Config) (*Checks, error) {
@@ -86,6 +98,11 @@ func (c *Checks) ReadExports(w io.Writer, inputs []string, cfg *config.Config) e
 		for _, ex := range s.Examples {
 			fmt.Fprintf(w, "  rejected: %s\n", ex.String())
 		}
+		if n := s.RejectedTotal(); s.Rows > 0 && float64(n) > MaxRejectedShare*float64(s.Rows) {
+			c.Rejected = append(c.Rejected, fmt.Sprintf("%s (%d rejected in %d data rows, %.0f %%)", r.Name(), n, s.Rows, 100*float64(n)/float64(s.Rows)))
+			fmt.Fprintf(w, "  needs a look: %.0f %% of the rows rejected, above the %.0f %% dewline check accepts; fix the rows listed (or the exports settings they need) and check again\n",
+				100*float64(n)/float64(s.Rows), 100*MaxRejectedShare)
+		}
 	}
 	WriteRowUnits(w, rowUnits)
 	if d := dups.Summary("; correct the export if the later value is not the right one"); d != "" {
@@ -95,6 +112,20 @@ func (c *Checks) ReadExports(w io.Writer, inputs []string, cfg *config.Config) e
 		fmt.Fprintf(w, "%s; map them under air_handlers[].points if they are needed\n", u)
 	}
 	return nil
+}
+
+// NeedsLook says why "dewline check" found something to look at: the
+// points that need a look (as WritePointChecks counts them) and the
+// exports with too many rejections; "" when nothing does.
+func (c *Checks) NeedsLook(points int) string {
+	var why []string
+	if points > 0 {
+		why = append(why, fmt.Sprintf("%d point(s) need a look", points))
+	}
+	if n := len(c.Rejected); n > 0 {
+		why = append(why, fmt.Sprintf("%d export(s) with more than %.0f %% of their rows rejected (common practice, no source): %s", n, 100*MaxRejectedShare, strings.Join(c.Rejected, ", ")))
+	}
+	return strings.Join(why, "; ")
 }
 
 // ReadStore reads what the store holds for each point in [from, to) into
