@@ -115,6 +115,18 @@ func TestLoadConfig_Bad(t *testing.T) {
 			`:14: webhook.timeout: 0s is outside 0 < x: a request needs time`,
 			`:15: webhook.max_age: 0s is outside 0 < x: every event would be too old to send`,
 		}},
+		// For an InfluxDB store, the names its writes would refuse: the
+		// site and air handler ids tag every result, a point without a
+		// measurement of its own is stored under its name.
+		{"linenames.bad.yaml", []string{
+			`:2: site.id: site id "North\\ Wing" has a backslash before ' ', which InfluxDB would read as an escape`,
+			`:7: air_handlers[0].id: air handler id "AHU\\=2" has a backslash before '='`,
+			`:15: air_handlers[0].points.entering_rh.point: the point "RH\\" is stored in InfluxDB under its name (tag point), but the name ends with a backslash`,
+			`keep point: as the export names it and add measurement: and field:`,
+			`:16: air_handlers[0].points.leaving_temp.column: the point "LAT\tA" is stored in InfluxDB under its name (tag point), but the name contains a tab or line break`,
+			`:17: air_handlers[0].points.supply_temp: measurement "#ahu" starts with #`,
+			`:18: air_handlers[0].points.supply_flow: tag key "_field" is reserved by Flux or line protocol; tag "unit" value "a\\\"b" has a backslash before '"'`,
+		}},
 		{"mixing.bad.yaml", []string{
 			`:12: air_handlers[0].points.entering_rh: entering_rh "AHU-1 Return RH" reads like a return RH, but entering_temp "AHU-1 Mixed Air Temp" is the mixed air`,
 			`map it as return_rh (or space_rh) instead`,
@@ -365,4 +377,35 @@ func TestValidate_ZeroWhereMeaningful(t *testing.T) {
 	metered := strings.Replace(string(base), "rated_eer: 10}", "}", 1) + "      cooling_kw: {point: ckw, unit: kW}\n"
 	_, err = Parse(strings.NewReader(metered), "site.yaml")
 	require.NoError(t, err, "a metered DX unit needs no rated EER")
+}
+
+// TestValidate_LineNamesInSiteName: a site name that line protocol cannot
+// carry is refused for an InfluxDB store only when it stands in for the
+// missing site.id, and the fix is a site.id.
+func TestValidate_LineNamesInSiteName(t *testing.T) {
+	const base = `version: 1
+site: {SITE timezone: UTC, altitude: 0m, units: si}
+store: {kind: influxdb, influxdb: {url: "http://127.0.0.1:8086", bucket: bms/autogen}}
+air_handlers:
+  - id: AHU-1
+    cooling: {kind: dx, rated_eer: 11}
+    reheat: {kind: electric}
+    airflow: {basis: standard}
+    fan: {position: none}
+    target: {max_supply_dewpoint: 12C}
+    points:
+      entering_temp: {point: MAT, unit: C}
+      entering_rh: {point: MRH, unit: "%"}
+      leaving_temp: {point: LAT, unit: C}
+      supply_temp: {point: SAT, unit: C}
+      supply_flow: {point: FLOW, unit: m3/s}
+`
+	_, err := Parse(strings.NewReader(strings.Replace(base, "SITE", `name: 'Wing\,B',`, 1)), "site.yaml")
+	require.Error(t, err)
+	assert.Contains(t, err.Error(), `site.yaml:2: site.name: site name "Wing\\,B", the site's id when site.id is left out, has a backslash before ','`)
+	assert.Contains(t, err.Error(), "set site.id to an id line protocol can carry")
+
+	cfg, err := Parse(strings.NewReader(strings.Replace(base, "SITE", `name: 'Wing\,B', id: wing-b,`, 1)), "site.yaml")
+	require.NoError(t, err)
+	assert.Equal(t, "wing-b", cfg.Site.ID)
 }

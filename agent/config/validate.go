@@ -153,6 +153,61 @@ func (c *Config) validate(ce *Error, root *yaml.Node) {
 		}
 		a.validate(v, p, c, units)
 	}
+	if c.Store.Kind == "influxdb" {
+		c.validateLineNames(v)
+	}
+}
+
+// validateLineNames refuses, for an InfluxDB store, the names its writes
+// would refuse (metrics.LineNameProblem, the writer's own rule): the site
+// id and the air handler ids tag every result, and a point without a
+// measurement of its own is stored under its name. The embedded store and
+// exports carry any name, so they are left alone there.
+func (c *Config) validateLineNames(v *validator) {
+	if why := metrics.LineNameProblem(c.Site.ID); why != "" && c.Site.ID != "" {
+		if v.given([]any{"site", "id"}) {
+			v.bad([]any{"site", "id"}, fmt.Sprintf("site id %q %s; it tags every result written to InfluxDB", c.Site.ID, why),
+				"choose an id line protocol can carry, e.g. without the backslash")
+		} else {
+			v.bad([]any{"site", "name"}, fmt.Sprintf("site name %q, the site's id when site.id is left out, %s; the id tags every result written to InfluxDB", c.Site.ID, why),
+				"set site.id to an id line protocol can carry (the name stays as it is)")
+		}
+	}
+	for i := range c.AirHandlers {
+		a := &c.AirHandlers[i]
+		p := []any{"air_handlers", i}
+		if why := metrics.LineNameProblem(a.ID); why != "" && strings.TrimSpace(a.ID) != "" {
+			v.bad(at(p, "id"), fmt.Sprintf("air handler id %q %s; it tags every result written to InfluxDB", a.ID, why),
+				"choose an id line protocol can carry, e.g. without the backslash")
+		}
+		roles := make([]string, 0, len(a.Points))
+		for r := range a.Points {
+			roles = append(roles, r)
+		}
+		sort.Strings(roles)
+		for _, r := range roles {
+			ref := a.Points[r]
+			if (ref.Measurement == "") != (ref.Field == "") {
+				continue // refused above: measurement and field go together
+			}
+			problems := ref.InfluxProblems()
+			if len(problems) == 0 {
+				continue
+			}
+			rp := at(p, "points", r)
+			if ref.Measurement != "" {
+				v.bad(rp, fmt.Sprintf("%s; every write of the point to InfluxDB would be refused", strings.Join(problems, "; ")),
+					"give a measurement, field and tags line protocol can carry")
+				continue
+			}
+			key := "point"
+			if ref.Column != "" {
+				key = "column"
+			}
+			v.bad(at(rp, key), fmt.Sprintf("the point %q is stored in InfluxDB under its name (tag %s), but the name %s; every write of it would be refused", ref.Name(), metrics.DefaultPointTag, metrics.LineNameProblem(ref.Name())),
+				fmt.Sprintf("keep %s: as the export names it and add measurement: and field: (e.g. measurement: trends, field: %s) to store it under", key, r))
+		}
+	}
 }
 
 // The altitudes of a building site: the shore of the Dead Sea (about

@@ -187,7 +187,7 @@ func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]
 	}
 	log.Info().Strs("ahus", owned).Str("shard", *shardS).Msg("air handlers owned")
 	if *dry {
-		runner.Store = dryRun(rs, e.stdout, cfg.Site.ID)
+		runner.Store = dryRun(rs, e.stdout, cfg)
 		_, err := runner.RunOnce(ctx)
 		return err
 	}

@@ -69,9 +69,10 @@ func openScratchStore(ctx context.Context, cfg *config.Config, dir string, log z
 }
 
 // dryRun wraps a result store so that a run prints what it would write, as
-// InfluxDB line protocol, and writes nothing.
-func dryRun(inner store.ResultStore, w io.Writer, site string) store.ResultStore {
-	return &influx.DryRun{Inner: inner, W: w, Site: site}
+// InfluxDB line protocol, and writes nothing; for an InfluxDB store it
+// refuses what the write would.
+func dryRun(inner store.ResultStore, w io.Writer, cfg *config.Config) store.ResultStore {
+	return &influx.DryRun{Inner: inner, W: w, Site: cfg.Site.ID, Check: cfg.Store.Kind == "influxdb"}
 }
 
 // Close closes the store.

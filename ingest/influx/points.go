@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"slices"
 	"strings"
-	"unicode/utf8"
 
 	"github.com/dewline/dewline/metrics"
 	"github.com/dewline/dewline/psychro"
@@ -18,14 +17,6 @@ type location struct {
 	tags        map[string]string
 	keys        []string // tag keys, sorted
 	own         bool     // the point's own location, logged in its unit; else the default location, in SI
-}
-
-// reservedKeys are column names a tag or field key must not take: Flux's
-// own columns, the annotated CSV's result and table, and line protocol's
-// time.
-var reservedKeys = map[string]bool{
-	colMeasurement: true, colField: true, colTime: true, colValue: true, colStart: true, colStop: true,
-	"result": true, "table": true, "time": true,
 }
 
 // locate works out where ref lives and checks that it can be queried.
@@ -56,7 +47,7 @@ func locate(ref metrics.PointRef) (location, error) {
 		switch {
 		case k == "":
 			return fail("a tag has an empty key")
-		case reservedKeys[k]:
+		case metrics.ReservedInfluxKey(k):
 			return fail("tag key %q is reserved by Flux; it cannot name a tag", k)
 		case v == "":
 			return fail("tag %q has an empty value; InfluxDB never stores empty tag values, so it would match nothing", k)
@@ -118,28 +109,4 @@ func siUnit(kind psychro.Kind) (string, error) {
 		}
 	}
 	return "", fmt.Errorf("no SI unit for %s: %w", kind, ErrInvalidPoint)
-}
-
-// checkName reports why name cannot be written through line protocol
-// unchanged, or "" when it can. The client library escapes commas, spaces
-// and equals signs but leaves a backslash alone, and InfluxDB stores a tab
-// or line break as the two characters of its escape; so those names would be
-// refused or silently renamed.
-func checkName(name string) string {
-	switch {
-	case name == "":
-		return "is empty"
-	case !utf8.ValidString(name):
-		return "is not valid UTF-8"
-	case strings.ContainsAny(name, "\n\r\t\f"):
-		return "contains a tab or line break, which line protocol cannot carry"
-	case strings.HasSuffix(name, `\`):
-		return "ends with a backslash, which line protocol cannot carry"
-	}
-	for i := 0; i+1 < len(name); i++ {
-		if name[i] == '\\' && strings.IndexByte(`, ="`, name[i+1]) >= 0 {
-			return fmt.Sprintf("has a backslash before %q, which InfluxDB would read as an escape", name[i+1])
-		}
-	}
-	return ""
 }

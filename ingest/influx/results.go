@@ -339,11 +339,14 @@ func clientPoint(p Point) *write.Point {
 
 // DryRun wraps the agent's results: it reads checkpoints and alert states
 // from them, prints what a commit would write to InfluxDB as line
-// protocol, and writes nothing.
+// protocol, and writes nothing. With Check (the store is InfluxDB), a
+// commit that a write would refuse (a name line protocol cannot carry, a
+// value that is not finite) is refused the same way and prints nothing.
 type DryRun struct {
 	Inner store.ResultStore
 	W     io.Writer
 	Site  string // the site id the points are tagged with
+	Check bool   // refuse what Client.WritePoints would refuse
 }
 
 var (
@@ -383,7 +386,15 @@ func (d *DryRun) AlertStates(ctx context.Context, ahu string) (map[string]metric
 // Commit prints the hourly and alert points and where the checkpoint would move.
 func (d *DryRun) Commit(_ context.Context, ahu string, recs []metrics.Record, up store.AlertUpdate, through time.Time) error {
 	pts := append(HourlyPoints(d.Site, recs), AlertPoints(d.Site, up.Transitions)...)
-	for _, p := range append(pts, OpenAlertPoints(d.Site, slices.Collect(maps.Values(up.States)))...) {
+	pts = append(pts, OpenAlertPoints(d.Site, slices.Collect(maps.Values(up.States)))...)
+	if d.Check {
+		for i, p := range pts {
+			if err := checkPoint(p); err != nil {
+				return fmt.Errorf("%s: point %d (measurement %q at %s) would be refused by InfluxDB: %w", ahu, i, p.Measurement, fluxTime(p.Time), err)
+			}
+		}
+	}
+	for _, p := range pts {
 		fmt.Fprintln(d.W, LineProtocol(p))
 	}
 	fmt.Fprintf(d.W, "# %s: checkpoint would move to %s (dry run: nothing written)\n", ahu, through.UTC().Format(time.RFC3339))

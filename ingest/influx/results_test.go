@@ -45,6 +45,37 @@ func TestDryRun_WritesNothing(t *testing.T) {
 	assert.Zero(t, inner.commits)
 }
 
+// TestDryRun_RefusesWhatTheWriteWould: for an InfluxDB store, a dry run
+// refuses a commit that the write would refuse (here a site id with a
+// backslash before a space, which InfluxDB reads as an escape), with the
+// write's own words, and prints nothing; for another store it prints the
+// lines as before.
+func TestDryRun_RefusesWhatTheWriteWould(t *testing.T) {
+	hour := time.Date(2026, 7, 14, 10, 0, 0, 0, time.UTC)
+	rec := metrics.Record{AHU: "AHU-1", HourStart: hour}
+	const why = `tag "site" value "North\\ Wing" has a backslash before ' ', which InfluxDB would read as an escape`
+
+	var out bytes.Buffer
+	d := &DryRun{Inner: &countingResults{}, W: &out, Site: `North\ Wing`, Check: true}
+	err := d.Commit(context.Background(), "AHU-1", []metrics.Record{rec}, store.AlertUpdate{}, hour)
+	require.Error(t, err)
+	assert.ErrorIs(t, err, ErrInvalidPoint)
+	assert.Contains(t, err.Error(), why)
+	assert.Empty(t, out.String())
+
+	// The write refuses the same point with the same words, before any
+	// request (the address is never dialled).
+	c, err := New(Options{URL: "http://127.0.0.1:9", Bucket: "db/autogen"})
+	require.NoError(t, err)
+	err = c.WritePoints(context.Background(), HourlyPoints(`North\ Wing`, []metrics.Record{rec}))
+	require.Error(t, err)
+	assert.Contains(t, err.Error(), why)
+
+	d.Check = false
+	require.NoError(t, d.Commit(context.Background(), "AHU-1", []metrics.Record{rec}, store.AlertUpdate{}, hour))
+	assert.Contains(t, out.String(), `site=North\\ Wing`)
+}
+
 type countingResults struct{ commits int }
 
 func (c *countingResults) Checkpoint(context.Context, string) (time.Time, bool, error) {

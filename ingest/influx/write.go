@@ -159,36 +159,10 @@ func checkPoint(p Point) error {
 }
 
 // checkNames checks that a measurement, tags and field keys can be written
-// and read back unchanged.
+// and read back unchanged (metrics.LineProblems, the rule the
+// configuration's check applies too).
 func checkNames(measurement string, tags map[string]string, fields []string) error {
-	var errs []string
-	add := func(format string, args ...any) { errs = append(errs, fmt.Sprintf(format, args...)) }
-	if why := checkName(measurement); why != "" {
-		add("measurement %q %s", measurement, why)
-	} else if measurement[0] == '#' {
-		add("measurement %q starts with #, which makes the line a comment that InfluxDB skips", measurement)
-	}
-	for _, k := range sortedKeys(tags) {
-		v := tags[k]
-		if why := checkName(k); why != "" {
-			add("tag key %q %s", k, why)
-		} else if reservedKeys[k] {
-			add("tag key %q is reserved by Flux or line protocol", k)
-		}
-		if why := checkName(v); why != "" {
-			add("tag %q value %q %s", k, v, why)
-		}
-	}
-	for _, f := range fields {
-		if why := checkName(f); why != "" {
-			add("field %q %s", f, why)
-		} else if reservedKeys[f] {
-			add("field %q is reserved by Flux or line protocol", f)
-		} else if _, clash := tags[f]; clash {
-			add("field %q has the name of a tag", f)
-		}
-	}
-	if len(errs) > 0 {
+	if errs := metrics.LineProblems(measurement, tags, fields); len(errs) > 0 {
 		return fmt.Errorf("%s: %w", strings.Join(errs, "; "), ErrInvalidPoint)
 	}
 	return nil
