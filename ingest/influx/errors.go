@@ -68,8 +68,12 @@ func (e *RequestError) Error() string {
 		fmt.Fprintf(&b, "cannot reach the server after %s: %s; check that InfluxDB is running at %s and that the url option is right",
 			plural(e.Attempts, "attempt"), e.Message, e.URL)
 	case ErrNoSuchBucket:
-		fmt.Fprintf(&b, "bucket %q does not exist (server said: %s); create it (InfluxDB 1.x: CREATE DATABASE %s) or fix the bucket option",
-			e.Bucket, e.status(), database(e.Bucket))
+		create := "CREATE DATABASE " + database(e.Bucket)
+		if db, rp, ok := strings.Cut(e.Bucket, "/"); ok && rp != "" && missingRP.MatchString(e.Message) {
+			create = fmt.Sprintf("CREATE RETENTION POLICY %s ON %s DURATION INF REPLICATION 1", quoteQL(rp), quoteQL(db))
+		}
+		fmt.Fprintf(&b, "bucket %q does not exist (server said: %s); create it (InfluxDB 1.x: %s) or fix the bucket option",
+			e.Bucket, e.status(), create)
 	case ErrUnauthorized:
 		fmt.Fprintf(&b, "%s; check the token (InfluxDB 2.x: an API token with access to the bucket; 1.x: user:password)", e.status())
 	case ErrServer:
@@ -111,15 +115,25 @@ func plural(n int, word string) string {
 // InfluxQL.
 func database(bucket string) string {
 	db, _, _ := strings.Cut(bucket, "/")
-	return `"` + strings.ReplaceAll(db, `"`, `\"`) + `"`
+	return quoteQL(db)
 }
+
+// quoteQL quotes a 1.x database or retention policy name for InfluxQL.
+func quoteQL(name string) string { return `"` + strings.ReplaceAll(name, `"`, `\"`) + `"` }
 
 // missingBucket matches what servers say about a bucket, database or
 // retention policy that does not exist: InfluxDB 1.8 answers a Flux query
-// with 500 "failed to initialize execute state: no database" and a write
-// with 404 "database not found"; 2.x says `could not find bucket "x"` or
+// with 500 "failed to initialize execute state: no database" (or "invalid
+// retention policy", its only words for a policy the database lacks), an
+// InfluxQL query with "database not found" or "retention policy not
+// found" in the result, and a write with 404 "database not found" or 500
+// "retention policy not found"; 2.x says `could not find bucket "x"` or
 // `bucket "x" not found`.
-var missingBucket = regexp.MustCompile(`(?i)no database|database not found|retention policy not found|could not find bucket|bucket .*not found`)
+var missingBucket = regexp.MustCompile(`(?i)no database|database not found|retention policy not found|invalid retention policy|could not find bucket|bucket .*not found`)
+
+// missingRP matches the part of missingBucket that is about a 1.x
+// retention policy, whose fix is not CREATE DATABASE.
+var missingRP = regexp.MustCompile(`(?i)retention policy not found|invalid retention policy`)
 
 // permanentQueryError matches the errors InfluxDB 1.8 reports with HTTP
 // 500 although retrying cannot help: Flux syntax and type errors, which

@@ -135,6 +135,7 @@ func TestClient_DoesNotRetryClientErrors(t *testing.T) {
 		// InfluxDB 1.8 reports Flux errors with 500; retrying cannot help.
 		{"flux error as 500 (1.8)", http.StatusInternalServerError, "", "loc 1:107-1:156: expected RPAREN, got EOF", ErrRejected, "expected RPAREN"},
 		{"no database as 500 (1.8)", http.StatusInternalServerError, "", "failed to initialize execute state: no database", ErrNoSuchBucket, "create it"},
+		{"no retention policy as 500 (1.8)", http.StatusInternalServerError, "", "failed to initialize execute state: invalid retention policy", ErrNoSuchBucket, "CREATE RETENTION POLICY"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {

@@ -449,24 +449,52 @@ func TestInflux_CheckPoint(t *testing.T) {
 	}
 }
 
+// TestInflux_MissingDatabase: a database, or a retention policy of an
+// existing database, that the server lacks is named with the fix on every
+// path (a Flux read, InfluxQL's batch read, the point check, a write,
+// readiness) and not retried. InfluxDB 1.8 calls a missing policy
+// "invalid retention policy" in a Flux query's HTTP 500, which was retried
+// as a server error.
 func TestInflux_MissingDatabase(t *testing.T) {
-	c := realClient(t, Options{Bucket: unique("dewline_missing") + "/autogen", Retries: 3})
-	ctx := context.Background()
-	ref := metrics.PointRef{Measurement: "ahu", Field: "sat", Unit: "°C"}
-	checks := map[string]error{
-		"read":  c.ReadSeries(ctx, ref, psychro.KindTemperature, t0, t0.Add(time.Hour), func(ingest.Sample) error { return nil }),
-		"write": c.WriteSamples(ctx, ref, psychro.KindTemperature, []ingest.Sample{{Time: t0, Value: 1}}),
-		"ready": c.Ready(ctx),
+	_, db := testkit.InfluxDB(t)
+	tests := []struct {
+		name, bucket, fix string
+	}{
+		{"database", unique("dewline_missing") + "/autogen", "CREATE DATABASE"},
+		{"retention policy", db + "/nosuchrp", `CREATE RETENTION POLICY "nosuchrp" ON "` + db + `"`},
 	}
-	_, checks["check"] = c.CheckPoint(ctx, ref, t0, t0.Add(time.Hour))
-	for what, err := range checks {
-		require.Error(t, err, what)
-		assert.ErrorIs(t, err, ErrNoSuchBucket, what)
-		assert.NotErrorIs(t, err, ErrNoSuchPoint, what)
-		assert.ErrorContains(t, err, "CREATE DATABASE", what)
-		var re *RequestError
-		require.True(t, errors.As(err, &re), what)
-		assert.Equal(t, 1, re.Attempts, "%s: not retried", what)
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			c := realClient(t, Options{Bucket: tt.bucket, Retries: 3})
+			ctx := context.Background()
+			ref := metrics.PointRef{Measurement: "ahu", Field: "sat", Unit: "°C"}
+			checks := map[string]error{
+				"read":  c.ReadSeries(ctx, ref, psychro.KindTemperature, t0, t0.Add(time.Hour), func(ingest.Sample) error { return nil }),
+				"write": c.WriteSamples(ctx, ref, psychro.KindTemperature, []ingest.Sample{{Time: t0, Value: 1}}),
+			}
+			if tt.name == "database" {
+				checks["ready"] = c.Ready(ctx) // readiness asks for the database, not the policy
+			}
+			_, checks["check"] = c.CheckPoint(ctx, ref, t0, t0.Add(time.Hour))
+			q := Query{Ref: ref, Kind: psychro.KindTemperature}
+			for _, lang := range []struct {
+				name string
+				ql   int
+			}{{"batch flux", batchFlux}, {"batch influxql", batchInfluxQL}} {
+				c.batchQL = lang.ql
+				checks[lang.name] = c.ReadBatch(ctx, []Query{q, q}, t0, t0.Add(time.Hour), func(int, ingest.Sample) error { return nil })
+			}
+			for what, err := range checks {
+				require.Error(t, err, what)
+				assert.ErrorIs(t, err, ErrNoSuchBucket, what)
+				assert.NotErrorIs(t, err, ErrNoSuchPoint, what)
+				assert.ErrorContains(t, err, fmt.Sprintf("bucket %q does not exist", tt.bucket), what)
+				assert.ErrorContains(t, err, tt.fix, what)
+				var re *RequestError
+				require.True(t, errors.As(err, &re), what)
+				assert.Equal(t, 1, re.Attempts, "%s: not retried", what)
+			}
+		})
 	}
 }
 
