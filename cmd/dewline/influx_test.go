@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"net/http"
 	"os"
 	"path/filepath"
 	"strings"
@@ -101,4 +102,44 @@ func TestInflux_AnalyzeManyAirHandlers(t *testing.T) {
 		assert.Contains(t, errOut, fmt.Sprintf("%s entering_rh", id), "the missing point is named for %s", id)
 	}
 	assert.Contains(t, errOut, "run dewline import")
+}
+
+// TestInflux_ImportRefusedPartWay: the real server refuses the last
+// series of a file's only batch (its field already holds strings: a field
+// type conflict) after the four before it in name order are stored. The
+// import says which series of which lines are stored, not "nothing", and
+// counts the rows it read; the server holds those four series whole.
+func TestInflux_ImportRefusedPartWay(t *testing.T) {
+	url, _ := testkit.InfluxDB(t)
+	db := freshDB(t, url, "dewline_part")
+	dir := t.TempDir()
+	_, data := writeScenario(t, dir)
+	const meas = "ahu7"
+	cfg := influxConfig(t, dir, inMeasurement(analyzeConfig, meas), url, db, "")
+	// A string in field sat on every day of the export (site time
+	// 2026-07-14..15, Chicago), so every shard it falls in holds one.
+	var seed strings.Builder
+	for d := 13; d <= 16; d++ {
+		fmt.Fprintf(&seed, "%s sat=\"text\" %d\n", meas, time.Date(2026, 7, d, 12, 0, 0, 0, time.UTC).UnixNano())
+	}
+	resp, err := http.Post(url+"/write?db="+db, "text/plain", strings.NewReader(seed.String()))
+	require.NoError(t, err)
+	require.NoError(t, resp.Body.Close())
+	require.Equal(t, http.StatusNoContent, resp.StatusCode)
+
+	code, out, errOut := runCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	assert.Equal(t, 1, code)
+	assert.Contains(t, errOut, "field type conflict")
+	assert.NotContains(t, errOut, "nothing of")
+	assert.Contains(t, errOut, fmt.Sprintf(`(no line of %s is stored whole; of lines 2 to 2881, these series are stored whole: "CFM" (2880 values), "LAT" (2880 values), "MARH" (2880 values), "MAT" (2880 values), the others only as far as the error says`, data))
+	assert.Contains(t, out, "2880 rows read, 14400 values accepted, 11520 written to the store")
+
+	for _, field := range []string{"cfm", "lat", "marh", "mat"} {
+		rows := influxQL(t, url, db, fmt.Sprintf(`SELECT count(%q) FROM %q`, field, meas))
+		require.Len(t, rows, 1, field)
+		assert.Equal(t, "2880", fmt.Sprint(rows[0].Values[0][1]), field)
+	}
+	rows := influxQL(t, url, db, fmt.Sprintf(`SELECT count("sat") FROM %q`, meas))
+	require.Len(t, rows, 1)
+	assert.Equal(t, "4", fmt.Sprint(rows[0].Values[0][1]), "the seeded strings only")
 }

@@ -10,6 +10,7 @@ import (
 	"io/fs"
 	"math"
 	"os"
+	"strings"
 	"time"
 
 	"github.com/rs/zerolog"
@@ -123,14 +124,14 @@ func File(ctx context.Context, path string, o Options) (Stats, error) {
 	p := startPipeline(ctx, batchWriter(o.Store))
 	cur := <-p.free
 	stopped := func(err error) error {
-		written, line, werr := p.finish(nil)
+		written, line, part, werr := p.finish(nil)
 		s.Written = written
 		s.CSV = r.Stats()
 		s.Rows = s.CSV.Rows
 		if werr != nil {
 			err = &StoreError{Err: fmt.Errorf("import %s: %w", path, werr)}
 		}
-		return storedSoFar(path, line, err)
+		return storedSoFar(path, line, part, err)
 	}
 	series := newSlots(ix)
 	recs := make([]ingest.Record, readRecords)
@@ -195,10 +196,12 @@ func File(ctx context.Context, path string, o Options) (Stats, error) {
 			cur.add(sl, rec.Line, ingest.Sample{Time: rec.Time, Value: v})
 		}
 	}
-	written, line, err := p.finish(cur)
+	written, line, part, err := p.finish(cur)
 	s.Written = written
+	s.CSV = r.Stats()
+	s.Rows = s.CSV.Rows
 	if err != nil {
-		return s, storedSoFar(path, line, &StoreError{Err: fmt.Errorf("import %s: %w", path, err)})
+		return s, storedSoFar(path, line, part, &StoreError{Err: fmt.Errorf("import %s: %w", path, err)})
 	}
 	if size > 0 {
 		prog(1000, 1000)
@@ -238,13 +241,47 @@ func openError(path string, err error) error {
 	return fmt.Errorf("import %s: %w; %s", path, err, fix)
 }
 
+// storedSeriesNamed is how many series of a batch stored in part an
+// error names.
+const storedSeriesNamed = 5
+
 // storedSoFar adds to an import's error what of the file is stored: every
-// value of the lines up to line (0: nothing).
-func storedSoFar(path string, line int, err error) error {
-	if line == 0 {
+// value of the lines up to line (0: none), and the values of the series
+// of the failed batch (lines part.from..part.to) stored before it failed.
+func storedSoFar(path string, line int, part partial, err error) error {
+	if line == 0 && len(part.series) == 0 {
 		return fmt.Errorf("%w (nothing of %s was stored)", err, path)
 	}
-	return fmt.Errorf("%w (every value of %s up to line %d is stored; once it is fixed, import the file again: stored samples are replaced, never duplicated)", err, path, line)
+	var b strings.Builder
+	if line == 0 {
+		fmt.Fprintf(&b, "no line of %s is stored whole", path)
+	} else {
+		fmt.Fprintf(&b, "every value of %s up to line %d is stored", path, line)
+	}
+	if len(part.series) > 0 {
+		named := make([]string, 0, storedSeriesNamed+1)
+		rest, restValues := 0, 0
+		for i, ss := range part.series {
+			if i < storedSeriesNamed {
+				named = append(named, fmt.Sprintf("%q (%s)", ss.name, plural(ss.values, "value")))
+			} else {
+				rest++
+				restValues += ss.values
+			}
+		}
+		if rest > 0 {
+			named = append(named, fmt.Sprintf("%d more series (%s)", rest, plural(restValues, "value")))
+		}
+		fmt.Fprintf(&b, "; of lines %d to %d, these series are stored whole: %s, the others only as far as the error says", part.from, part.to, strings.Join(named, ", "))
+	}
+	return fmt.Errorf("%w (%s; once it is fixed, import the file again: stored samples are replaced, never duplicated)", err, b.String())
+}
+
+func plural(n int, word string) string {
+	if n == 1 {
+		return "1 " + word
+	}
+	return fmt.Sprintf("%d %ss", n, word)
 }
 
 // nothingWritten explains an import that stored no value, with the fix.

@@ -3,6 +3,7 @@ package importer
 import (
 	"context"
 	"fmt"
+	"slices"
 	"sort"
 	"sync/atomic"
 
@@ -22,12 +23,27 @@ const batchValues = 1 << 16
 // A series is a slot: its index in the import's table of series (see
 // slots), the same in every batch.
 type batch struct {
-	samples  [][]ingest.Sample // by slot
-	series   []slot            // by slot: what the writer needs of each
-	values   int
-	lastLine int // the file line of the batch's last value
-	order    []int
-	out      []store.SeriesSamples
+	samples   [][]ingest.Sample // by slot
+	series    []slot            // by slot: what the writer needs of each
+	values    int
+	firstLine int // the file line of the batch's first value
+	lastLine  int // the file line of the batch's last value
+	order     []int
+	out       []store.SeriesSamples
+	stored    []storedSeries // series stored whole before a write of the batch failed
+}
+
+// storedSeries is a series whose values in a batch are stored.
+type storedSeries struct {
+	name   string
+	values int
+}
+
+// partial is what a batch whose write failed stored before the failure:
+// the values of some of its series, on lines from..to.
+type partial struct {
+	from, to int
+	series   []storedSeries
 }
 
 func (b *batch) add(sl *slot, line int, s ingest.Sample) {
@@ -39,6 +55,9 @@ func (b *batch) add(sl *slot, line int, s ingest.Sample) {
 		b.series[sl.id] = *sl
 	}
 	b.samples[sl.id] = append(b.samples[sl.id], s)
+	if b.values == 0 {
+		b.firstLine = line
+	}
 	b.values++
 	b.lastLine = line
 }
@@ -48,7 +67,8 @@ func (b *batch) reset() {
 	for i := range b.samples {
 		b.samples[i] = b.samples[i][:0]
 	}
-	b.values, b.lastLine = 0, 0
+	b.values, b.firstLine, b.lastLine = 0, 0, 0
+	b.stored = b.stored[:0]
 }
 
 // slot is a series of the file: its name, its targets (nil when no point
@@ -112,7 +132,8 @@ type pipeline struct {
 	// Owned by the writer until done is closed.
 	err        error
 	written    int
-	storedLine int // every value of the lines up to it is stored
+	storedLine int     // every value of the lines up to it is stored
+	partial    partial // what the failed batch stored, past storedLine
 }
 
 func startPipeline(ctx context.Context, write func(ctx context.Context, b *batch) (int, error)) *pipeline {
@@ -133,6 +154,7 @@ func (p *pipeline) run(ctx context.Context) {
 			if err != nil {
 				p.err = err
 				p.failed.Store(true)
+				p.partial = partial{from: b.firstLine, to: b.lastLine, series: slices.Clone(b.stored)}
 			} else {
 				p.storedLine = b.lastLine
 			}
@@ -149,21 +171,22 @@ func (p *pipeline) hand(b *batch) *batch {
 }
 
 // finish passes the last batch, if it holds values, waits for the writer
-// and returns the values written, the last line stored and the writer's
-// error.
-func (p *pipeline) finish(last *batch) (written, storedLine int, err error) {
+// and returns the values written, the last line stored whole, what the
+// failed batch stored past it and the writer's error.
+func (p *pipeline) finish(last *batch) (written, storedLine int, part partial, err error) {
 	if last != nil && last.values > 0 {
 		p.full <- last
 	}
 	close(p.full)
 	<-p.done
-	return p.written, p.storedLine, p.err
+	return p.written, p.storedLine, p.partial, p.err
 }
 
 // batchWriter stores a batch in st: in one call where st takes batches
 // (store.BatchSampleWriter), else series by series. Series are written in
 // name order; a series' samples in file order, so a later value of the
-// same time wins.
+// same time wins. Series by series, those stored before a failure are
+// noted in the batch (batch.stored): a failed batch may be stored in part.
 func batchWriter(st store.SampleWriter) func(ctx context.Context, b *batch) (int, error) {
 	bw, _ := st.(store.BatchSampleWriter)
 	return func(ctx context.Context, b *batch) (int, error) {
@@ -191,6 +214,7 @@ func batchWriter(st store.SampleWriter) func(ctx context.Context, b *batch) (int
 				return written, fmt.Errorf("write %s: %w", sl.name, err)
 			}
 			written += len(s)
+			b.stored = append(b.stored, storedSeries{name: sl.name, values: len(s)})
 		}
 		return written, nil
 	}

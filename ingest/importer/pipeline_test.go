@@ -170,10 +170,48 @@ func TestFile_WriteFails(t *testing.T) {
 		})
 	}
 
+	t.Run("series of the batch that failed", func(t *testing.T) {
+		// Series go in name order (FLOW, LAT, MARH, MAT, SAT): the
+		// seventh write is LAT's of the second batch, after FLOW's.
+		w := &fakeWriter{failAt: 7}
+		s, err := importWith(t, w, path)
+		require.Error(t, err)
+		lastLine := int(w.got()["SAT"][len(w.got()["SAT"])-1].Value) + 2
+		past := len(w.got()["FLOW"]) - (lastLine - 1) // FLOW's values after the lines stored whole, one a line
+		require.Positive(t, past)
+		assert.Contains(t, err.Error(), fmt.Sprintf("up to line %d is stored; of lines %d to ", lastLine, lastLine+1))
+		assert.Contains(t, err.Error(), fmt.Sprintf(`these series are stored whole: "FLOW" (%d values), the others only as far as the error says`, past))
+		assert.Equal(t, 5*(lastLine-1)+past, s.Written)
+	})
+
 	t.Run("first batch", func(t *testing.T) {
 		_, err := importWith(t, &fakeBatchWriter{fakeWriter{failAt: 1}}, path)
 		require.Error(t, err)
 		assert.Contains(t, err.Error(), "disk full")
 		assert.Contains(t, err.Error(), "nothing of "+path+" was stored")
 	})
+}
+
+// TestFile_WriteFailsInTheLastBatch: a store that takes a series at a
+// time stores the first series of a file's only batch and refuses the
+// second. The error says which series of which lines are stored, not
+// "nothing", and the summary counts the rows read.
+func TestFile_WriteFailsInTheLastBatch(t *testing.T) {
+	const minutes = 100
+	path := writeExport(t, minutes)
+	w := &fakeWriter{failAt: 2}
+	s, err := importWith(t, w, path)
+	require.Error(t, err)
+	var se *StoreError
+	assert.ErrorAs(t, err, &se)
+	require.Len(t, w.got(), 1)
+	require.Len(t, w.got()["FLOW"], minutes, "the first series in name order is stored")
+	assert.NotContains(t, err.Error(), "nothing of")
+	assert.Contains(t, err.Error(), fmt.Sprintf(`(no line of %s is stored whole; of lines 2 to %d, these series are stored whole: "FLOW" (%d values), the others only as far as the error says; once it is fixed, import the file again`, path, minutes+1, minutes))
+	assert.Equal(t, minutes, s.Rows, "the header is not a row")
+	assert.Equal(t, minutes, s.Written)
+
+	var out strings.Builder
+	s.Write(&out)
+	assert.Contains(t, out.String(), fmt.Sprintf("%s: %d rows read, %d values accepted, %d written to the store", path, minutes, 6*minutes, minutes))
 }
