@@ -77,7 +77,8 @@
 // reached the caller. A failed request returns a *RequestError whose Kind
 // (ErrTimeout, ErrUnreachable, ErrServer, ErrRejected, ErrUnauthorized,
 // ErrNoSuchBucket) errors.Is matches and whose text names the URL, the
-// attempts and what to check.
+// attempts and what to check; its Timeout method (as net.Error's, reached
+// with errors.As) is true for ErrTimeout only.
 //
 // # What it must never do
 //

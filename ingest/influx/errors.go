@@ -9,24 +9,27 @@ import (
 )
 
 // Sentinel errors, matched with errors.Is. Request failures come as a
-// *RequestError whose Kind is one of the first six.
+// *RequestError whose Kind is one of the first six; each of those has a
+// Timeout method, as net.Error has, true for ErrTimeout only, and it is the
+// first one errors.As finds in a RequestError: the agent takes a read
+// that timed out as an outage and stops its run's reads.
 var (
 	// ErrTimeout: the server did not answer, or stopped sending a result,
 	// within Options.Timeout on every attempt.
-	ErrTimeout = errors.New("request timed out")
+	ErrTimeout error = &requestKind{"request timed out", true}
 	// ErrUnreachable: no connection to the server (refused, unknown host,
 	// reset) on every attempt.
-	ErrUnreachable = errors.New("server unreachable")
+	ErrUnreachable error = &requestKind{"server unreachable", false}
 	// ErrServer: the server kept answering 429 or 5xx.
-	ErrServer = errors.New("server error")
+	ErrServer error = &requestKind{"server error", false}
 	// ErrRejected: the server refused the request (4xx other than those
 	// below) or reported an error in the query; it is not retried.
-	ErrRejected = errors.New("request rejected")
+	ErrRejected error = &requestKind{"request rejected", false}
 	// ErrUnauthorized: HTTP 401 or 403; the token is missing or wrong.
-	ErrUnauthorized = errors.New("not authorized")
+	ErrUnauthorized error = &requestKind{"not authorized", false}
 	// ErrNoSuchBucket: the bucket (2.x) or database or retention policy
 	// (1.x) does not exist.
-	ErrNoSuchBucket = errors.New("no such bucket")
+	ErrNoSuchBucket error = &requestKind{"no such bucket", false}
 
 	// ErrNoSuchPoint: no series in the bucket matches a point's
 	// measurement, field and tags at any time (CheckPoint).
@@ -83,6 +86,18 @@ func (e *RequestError) Error() string {
 	}
 	return b.String()
 }
+
+// requestKind is the Kind of a RequestError.
+type requestKind struct {
+	msg     string
+	timeout bool
+}
+
+func (k *requestKind) Error() string { return k.msg }
+
+// Timeout reports whether the request timed out (ErrTimeout), as
+// net.Error's method does.
+func (k *requestKind) Timeout() bool { return k.timeout }
 
 // status is "503 Service Unavailable: message", or the message alone.
 func (e *RequestError) status() string {

@@ -59,6 +59,13 @@ func fakeServer(t *testing.T, opt Options, handler http.HandlerFunc) (*Client, *
 	return c, &n
 }
 
+// saysTimeout reports what err's Timeout method says, as the agent asks
+// it (net.Error's method).
+func saysTimeout(err error) bool {
+	var t interface{ Timeout() bool }
+	return errors.As(err, &t) && t.Timeout()
+}
+
 func readFake(c *Client) (int, error) {
 	n := 0
 	err := c.ReadSeries(context.Background(), fakeRef, psychro.KindTemperature, fakeFrom, fakeTo,
@@ -97,6 +104,7 @@ func TestClient_RetriesServerErrors(t *testing.T) {
 	assert.Equal(t, http.StatusServiceUnavailable, he.StatusCode)
 	assert.Contains(t, err.Error(), "server error after 3 attempts")
 	assert.Contains(t, err.Error(), "storage engine overloaded")
+	assert.False(t, saysTimeout(err), "an answer, not a timeout")
 
 	n.Store(0)
 	require.Error(t, writeFake(c))
@@ -266,6 +274,7 @@ func TestClient_HungServerTimesOut(t *testing.T) {
 	require.Error(t, err)
 	assert.ErrorIs(t, err, ErrTimeout)
 	assert.Contains(t, err.Error(), "timed out after 3 attempts (timeout 200ms each)")
+	assert.True(t, saysTimeout(err), "the agent stops its run's reads on it")
 	assert.EqualValues(t, 3, n.Load())
 	assert.GreaterOrEqual(t, elapsed, 600*time.Millisecond, "three full timeouts")
 	assert.Less(t, elapsed, 10*time.Second, "bounded, not hanging")
