@@ -57,7 +57,8 @@ func (nopObserver) SetStoreUp(bool, string)           {}
 //	    alert rules run on hours after C only (re-computed hours never re-alert)
 //	    store.Commit(records, alert states, events, checkpoint) per air handler
 //	      <- atomic per air handler, one batch for the group
-//	  a failure or panic stops that air handler, not the others
+//	  a failure or panic stops that air handler, not the others;
+//	  a read that times out stops the run's reads
 type Runner struct {
 	Cfg    *config.Config
 	Source HourSource
@@ -86,6 +87,16 @@ type Runner struct {
 	// Scheduler is the clock Serve's ticks and shutdown grace run on;
 	// nil is the wall clock.
 	Scheduler SchedulerClock
+
+	// halted is set, during a run, once a read of the store has timed
+	// out: the run reads no more (see halt).
+	halted *stall
+}
+
+// stall is the read that timed out and stopped a run's reads.
+type stall struct {
+	cs, ce time.Time
+	ahus   []string
 }
 
 // storeError records err against the store's health when it is an outage.
@@ -159,7 +170,8 @@ func (r *Runner) ahus() []string {
 // ReadBatch air-handler hours), and its results are one commit
 // (store.BatchCommitter). Should a group's read fail, its air handlers are
 // run one by one again (until two in a row find the store down), so that
-// only the one at fault fails; a commit that fails for a reason of its own
+// only the one at fault fails, unless the read timed out: then the run
+// reads no more (readFailed). A commit that fails for a reason of its own
 // rather than an outage is written again air handler by air handler.
 func (r *Runner) RunOnce(ctx context.Context) (*RunReport, error) {
 	start := time.Now()
@@ -173,10 +185,17 @@ func (r *Runner) RunOnce(ctx context.Context) (*RunReport, error) {
 	ahus := append([]string(nil), r.ahus()...)
 	sort.Strings(ahus)
 	runs := r.plan(ctx, ahus, slot)
+	r.halted = nil
 	for _, g := range r.groups(runs, slot) {
 		if err := ctx.Err(); err != nil {
 			for _, a := range g {
 				a.fail(err)
+			}
+			continue
+		}
+		if r.halted != nil {
+			for _, a := range g {
+				a.fail(r.halted.notRead(a.from, slot.Add(time.Hour)))
 			}
 			continue
 		}
@@ -397,6 +416,12 @@ func (r *Runner) runGroup(ctx context.Context, g []*ahuRun, slot time.Time) {
 			}
 			break
 		}
+		if r.halted != nil {
+			for _, a := range live {
+				a.fail(r.halted.notRead(cs, end))
+			}
+			break
+		}
 		r.runChunk(ctx, live, cs, ce)
 		for _, a := range live {
 			if a.rep.Err == nil && a.total > r.chunkHours() {
@@ -420,39 +445,11 @@ type chunkResult struct {
 }
 
 // runChunk computes and commits the hours [cs, ce) of the air handlers g.
-// A failed read (or a panic) of a group runs its air handlers again one by
-// one, so that it is charged to the one at fault.
+// A failed read (or a panic) is charged by readFailed.
 func (r *Runner) runChunk(ctx context.Context, g []*ahuRun, cs, ce time.Time) {
 	res, own, err := r.compute(ctx, g, cs, ce)
 	if err != nil {
-		if len(g) > 1 && ctx.Err() == nil {
-			// One by one, so that only the air handler at fault fails (a
-			// store whose every error counts as an outage, such as the
-			// embedded file, too); two outages in a row mean the store is
-			// down, and the rest fail without asking it again.
-			down := 0
-			for k, a := range g {
-				if down >= 2 {
-					for _, b := range g[k:] {
-						b.fail(err)
-					}
-					break
-				}
-				r.runChunk(ctx, []*ahuRun{a}, cs, ce)
-				if a.rep.Err != nil && r.isOutage(a.rep.Err) {
-					down, err = down+1, a.rep.Err
-				} else {
-					down = 0
-				}
-			}
-			return
-		}
-		if !own {
-			r.storeError(err)
-		}
-		for _, a := range g {
-			a.fail(err)
-		}
+		r.readFailed(ctx, g, cs, ce, own, err)
 		return
 	}
 	var items []store.CommitItem
@@ -512,12 +509,123 @@ func (r *Runner) runChunk(ctx context.Context, g []*ahuRun, cs, ce time.Time) {
 	}
 }
 
+// readFailed charges the failed read of the hours [cs, ce) of g (or a
+// panic computing them, own) to its air handlers, each with an error that
+// names the read it was part of.
+//
+// A read that timed out (an error with a Timeout method that says so, as
+// net.Error has) is an outage of the store: asking it again, air handler
+// by air handler, would only wait out the same timeout once per read. The
+// run stops its reads there (halt); what it committed stays, and the next
+// run resumes from the checkpoints.
+//
+// Any other failure of a group's read runs its air handlers again one by
+// one, so that only the one at fault fails (a store whose every error
+// counts as an outage, such as the embedded file, too); two outages in a
+// row mean the store is down, and the rest fail without asking it again.
+// The retry is logged with the group's error and what came of it.
+func (r *Runner) readFailed(ctx context.Context, g []*ahuRun, cs, ce time.Time, own bool, err error) {
+	mine := func(a *ahuRun) error {
+		if own {
+			return err
+		}
+		return readError(a.id, len(g), cs, ce, err)
+	}
+	stalled := !own && ctx.Err() == nil && isTimeout(err) && r.isOutage(err)
+	if len(g) == 1 || stalled || ctx.Err() != nil {
+		if !own {
+			r.storeError(err)
+		}
+		for _, a := range g {
+			a.fail(mine(a))
+		}
+		if stalled {
+			r.halt(g, cs, ce, err)
+		}
+		return
+	}
+	down := 0
+	var failed []string
+	for k, a := range g {
+		if r.halted != nil || down >= 2 {
+			why := "not read alone: the two before it failed alone too"
+			if r.halted != nil {
+				why = "not read alone: this run stopped its reads when the store timed out"
+			}
+			for _, b := range g[k:] {
+				b.fail(fmt.Errorf("%w; %s", mine(b), why))
+				failed = append(failed, b.id)
+			}
+			break
+		}
+		r.runChunk(ctx, []*ahuRun{a}, cs, ce)
+		if a.rep.Err == nil {
+			down = 0
+			continue
+		}
+		failed = append(failed, a.id)
+		if r.isOutage(a.rep.Err) {
+			down++
+		} else {
+			down = 0
+		}
+	}
+	r.Log.Warn().Err(err).Time("from", cs).Time("to", ce).Strs("ahus", ids(g)).Strs("failed", failed).
+		Msg("a group read failed; its air handlers were read again one by one")
+}
+
+// readError is the error of air handler ahu when the read of the hours
+// [cs, ce) of it and n-1 others failed with err.
+func readError(ahu string, n int, cs, ce time.Time, err error) error {
+	span := cs.Format(time.RFC3339) + ".." + ce.Format(time.RFC3339)
+	if n == 1 {
+		return fmt.Errorf("read hours %s: %w", span, err)
+	}
+	return fmt.Errorf("read hours %s of %s, in one read with %d other air handlers: %w", span, ahu, n-1, err)
+}
+
+// isTimeout reports whether err says it is a timeout (net.Error's
+// Timeout method, which the stores' request errors also have).
+func isTimeout(err error) bool {
+	var t interface{ Timeout() bool }
+	return errors.As(err, &t) && t.Timeout()
+}
+
+// halt stops the run's reads after the read of the hours [cs, ce) of g
+// timed out with err, and says so once.
+func (r *Runner) halt(g []*ahuRun, cs, ce time.Time, err error) {
+	r.halted = &stall{cs: cs, ce: ce, ahus: ids(g)}
+	r.Log.Error().Err(err).Time("from", cs).Time("to", ce).Strs("ahus", r.halted.ahus).
+		Msg("the store timed out: this run reads no more; what it wrote stays, and the next run resumes from the checkpoints")
+}
+
+// notRead is the error of an air handler whose hours [from, to) a halted
+// run did not read.
+func (s *stall) notRead(from, to time.Time) error {
+	who := s.ahus[0]
+	if len(s.ahus) > 1 {
+		who = fmt.Sprintf("%s and %d other air handlers", who, len(s.ahus)-1)
+	}
+	return fmt.Errorf("hours %s..%s not read: this run stopped its reads when the store timed out reading the hours %s..%s of %s",
+		from.Format(time.RFC3339), to.Format(time.RFC3339), s.cs.Format(time.RFC3339), s.ce.Format(time.RFC3339), who)
+}
+
+// ids are the air handlers of g.
+func ids(g []*ahuRun) []string {
+	out := make([]string, len(g))
+	for i, a := range g {
+		out[i] = a.id
+	}
+	return out
+}
+
 // isOutage reports whether err is the store's rather than one air handler's.
 func (r *Runner) isOutage(err error) bool { return r.StoreDown == nil || r.StoreDown(err) }
 
 // compute reads the hours [cs, ce) of g in one call of the source and
 // computes them, evaluating the alert rules on the new ones. own reports
-// an error of the computation (a panic) rather than of the source.
+// an error of the computation (a panic) rather than of the source, whose
+// error comes back as it was.
 func (r *Runner) compute(ctx context.Context, g []*ahuRun, cs, ce time.Time) (res []chunkResult, own bool, err error) {
 	defer func() {
 		if p := recover(); p != nil {
@@ -556,7 +664,7 @@ func (r *Runner) compute(ctx context.Context, g []*ahuRun, cs, ce time.Time) (re
 		return nil
 	})
 	if err != nil {
-		return nil, false, fmt.Errorf("read hours %s..%s: %w", cs.Format(time.RFC3339), ce.Format(time.RFC3339), err)
+		return nil, false, err
 	}
 	return res, false, nil
 }

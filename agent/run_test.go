@@ -2,8 +2,11 @@ package agent
 
 import (
 	"context"
+	"encoding/json"
 	"errors"
+	"fmt"
 	"sort"
+	"strings"
 	"sync"
 	"testing"
 	"time"
@@ -17,6 +20,7 @@ import (
 	"github.com/dewline/dewline/metrics"
 
 	"github.com/dewline/dewline/agent/telemetry"
+	"github.com/dewline/dewline/deploy/testkit"
 )
 
 // memResults is a fake result store.
@@ -101,7 +105,11 @@ func (s *spanSource) Hours(ctx context.Context, ahus []string, from, to time.Tim
 	}
 	s.mu.Unlock()
 	if err != nil {
-		return err
+		// Named as ingest.StoreHours names its reads.
+		if len(ahus) > 1 {
+			return fmt.Errorf("read %d air handlers: %w", len(ahus), err)
+		}
+		return fmt.Errorf("read %s: %w", ahus[0], err)
 	}
 	for _, a := range ahus {
 		if a == s.panic {
@@ -285,6 +293,138 @@ func TestRunner_GroupReadFailsOneByOne(t *testing.T) {
 	require.Error(t, err)
 	assert.Len(t, rep.Failed(), 6)
 	assert.Equal(t, 3, src.calls, "one read of the group and two alone")
+	// Each error is of a read of its own air handler: alone (AHU-A, AHU-B)
+	// or the group's (the rest), never another air handler's read alone.
+	for _, f := range rep.Failed() {
+		msg := f.Err.Error()
+		assert.Contains(t, msg, f.AHU, "its own read")
+		for _, other := range []string{"AHU-X", "AHU-Y", "AHU-A", "AHU-B", "AHU-C", "AHU-D"} {
+			if other != f.AHU {
+				assert.NotContains(t, msg, other, "%s's error", f.AHU)
+			}
+		}
+	}
+	assert.Contains(t, rep.Failed()[5].Err.Error(), "in one read with 5 other air handlers: read 6 air handlers: connection refused; not read alone")
+}
+
+// timeoutError is a read that timed out, as the InfluxDB client's
+// request errors and net.Error tell it.
+type timeoutError struct{}
+
+func (timeoutError) Error() string {
+	return "influx query http://127.0.0.1:1: timed out after 4 attempts (timeout 5s each)"
+}
+func (timeoutError) Timeout() bool { return true }
+
+// sixAirHandlers is runnerConfig with AHU-A..AHU-D added to AHU-X, AHU-Y.
+func sixAirHandlers(t *testing.T) *config.Config {
+	t.Helper()
+	cfg := runnerConfig(t)
+	b := cfg.AirHandlers[0]
+	for _, id := range []string{"AHU-A", "AHU-B", "AHU-C", "AHU-D"} {
+		b.ID = id
+		cfg.AirHandlers = append(cfg.AirHandlers, b)
+	}
+	return cfg
+}
+
+// logLines are the JSON lines of a run's log with the message msg.
+func logLines(t *testing.T, log *testkit.SyncBuffer, msg string) []map[string]any {
+	t.Helper()
+	var out []map[string]any
+	for _, l := range strings.Split(strings.TrimSpace(log.String()), "\n") {
+		var m map[string]any
+		require.NoError(t, json.Unmarshal([]byte(l), &m), l)
+		if m["message"] == msg {
+			out = append(out, m)
+		}
+	}
+	return out
+}
+
+// TestRunner_GroupReadTimesOut: a group read that times out is an outage.
+// The run asks the store nothing more (neither the group's air handlers
+// alone nor the other groups), says so once, and every air handler's error
+// names its own read; what was written stays, and the next run resumes
+// from the checkpoints.
+func TestRunner_GroupReadTimesOut(t *testing.T) {
+	cfg := sixAirHandlers(t)
+	now := time.Date(2026, 7, 14, 10, 7, 0, 0, time.UTC)
+	mem, src := newMemResults(), &spanSource{}
+	var log testkit.SyncBuffer
+	r := &Runner{Cfg: cfg, Source: src, Store: mem, Clock: func() time.Time { return now }, Log: zerolog.New(&log),
+		ReadBatch: 2 * 3, // after the first run, two air handlers (3 h of lookback each) a read: three groups
+		StoreDown: func(err error) bool { return !strings.Contains(err.Error(), "matches two series") }}
+	_, err := r.RunOnce(context.Background())
+	require.NoError(t, err)
+	before := map[string]time.Time{}
+	for id, cp := range mem.cp {
+		before[id] = cp
+	}
+	require.Len(t, before, 6)
+
+	now = now.Add(2 * time.Hour)
+	src.err, src.calls = timeoutError{}, 0
+	rep, err := r.RunOnce(context.Background())
+	require.Error(t, err, "every air handler failed")
+	assert.Equal(t, 1, src.calls, "the read that timed out is the run's last")
+	failed := rep.Failed()
+	require.Len(t, failed, 6)
+	first := map[string]bool{"AHU-A": true, "AHU-B": true} // the first group, by id
+	for _, f := range failed {
+		msg := f.Err.Error()
+		if first[f.AHU] {
+			assert.Contains(t, msg, "of "+f.AHU+", in one read with 1 other air handlers: ", "its own read")
+			assert.Contains(t, msg, "timed out after 4 attempts")
+		} else {
+			assert.Contains(t, msg, "not read: this run stopped its reads when the store timed out reading the hours", f.AHU)
+			assert.Contains(t, msg, "of AHU-A and 1 other air handlers", f.AHU)
+		}
+		for other := range before {
+			if other != f.AHU && !first[other] {
+				assert.NotContains(t, msg, other, "%s's error names no other air handler's read", f.AHU)
+			}
+		}
+	}
+	stops := logLines(t, &log, "the store timed out: this run reads no more; what it wrote stays, and the next run resumes from the checkpoints")
+	require.Len(t, stops, 1, "said once")
+	assert.Equal(t, "error", stops[0]["level"])
+	assert.Equal(t, []any{"AHU-A", "AHU-B"}, stops[0]["ahus"])
+	assert.Equal(t, before, mem.cp, "no checkpoint moved")
+
+	src.err = nil
+	rep, err = r.RunOnce(context.Background())
+	require.NoError(t, err)
+	assert.Empty(t, rep.Failed())
+	for id, cp := range before {
+		assert.Equal(t, cp.Add(2*time.Hour), mem.cp[id], "%s resumed from its checkpoint", id)
+	}
+}
+
+// TestRunner_GroupRetryIsLogged: a group read that fails for one air
+// handler's reason and is read again one by one leaves a warning with the
+// group's error and what was read again.
+func TestRunner_GroupRetryIsLogged(t *testing.T) {
+	cfg := sixAirHandlers(t)
+	now := time.Date(2026, 7, 14, 10, 7, 0, 0, time.UTC)
+	mem, src := newMemResults(), &spanSource{failFor: "AHU-B"}
+	var log testkit.SyncBuffer
+	r := &Runner{Cfg: cfg, Source: src, Store: mem, Clock: func() time.Time { return now }, Log: zerolog.New(&log),
+		StoreDown: func(err error) bool { return !strings.Contains(err.Error(), "matches two series") }}
+	rep, err := r.RunOnce(context.Background())
+	require.NoError(t, err)
+	require.Len(t, rep.Failed(), 1)
+	assert.Equal(t, "read hours 2026-07-12T10:00:00Z..2026-07-13T10:00:00Z: read AHU-B: point \"SAT\" of AHU-B matches two series",
+		rep.Failed()[0].Err.Error(), "read alone, its own error")
+	warned := logLines(t, &log, "a group read failed; its air handlers were read again one by one")
+	require.Len(t, warned, 1, "the first chunk's group read failed; the later chunks read without AHU-B")
+	w := warned[0]
+	assert.Equal(t, "warn", w["level"])
+	assert.Equal(t, []any{"AHU-A", "AHU-B", "AHU-C", "AHU-D", "AHU-X", "AHU-Y"}, w["ahus"])
+	assert.Equal(t, []any{"AHU-B"}, w["failed"])
+	assert.Equal(t, "2026-07-12T10:00:00Z", w["from"])
+	assert.Equal(t, "2026-07-13T10:00:00Z", w["to"])
+	assert.Contains(t, w["error"], "matches two series")
 }
 
 func TestSlot(t *testing.T) {

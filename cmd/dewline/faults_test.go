@@ -11,6 +11,7 @@ import (
 	"regexp"
 	"sort"
 	"strconv"
+	"strings"
 	"sync"
 	"testing"
 	"time"
@@ -604,6 +605,59 @@ func TestFault_InfluxSlowOrFailing(t *testing.T) {
 	require.Equal(t, 0, r.code, r.stderr)
 	assert.Equal(t, slot2, influxCheckpoints(t, url, db)["AHU-1"])
 	everyHourOnce(t, slot2)
+}
+
+// TestFault_InfluxStallDuringGroupRead stalls the trend read of three air
+// handlers read together (InfluxQL's /query, 3 s late with a 1 s timeout)
+// while the agent's state reads and writes pass. The read that times out
+// is the run's last: 4 attempts in all, not 4 more for each air handler
+// read alone; the run says so once, each air handler's error is of the
+// read it was in, no checkpoint moves, and the next run catches up.
+func TestFault_InfluxStallDuringGroupRead(t *testing.T) {
+	url, _ := testkit.InfluxDB(t)
+	db := freshDB(t, url, "dewline_stall")
+	proxy := startFaultProxy(t, url)
+	dir := t.TempDir()
+	ahus := []string{"AHU-1", "AHU-2", "AHU-3"}
+	s := site{store: influxStore(proxy.URL, db, "1s"), meas: "annex_trend", schedule: "{backfill: 48h}", ahus: ahus}
+	cfg := s.write(t, dir, "site.yaml")
+	s.store = influxStore(url, db, "1s")
+	direct := s.write(t, dir, "direct.yaml")
+	from := time.Date(2026, 7, 14, 5, 0, 0, 0, time.UTC)
+	importTrends(t, dir, direct, ahus, from, 48*time.Hour)
+	const t0, t1 = "2026-07-14T15:30", "2026-07-15T01:30" // slots 19:00Z and 05:00Z on the 15th
+	slot0, slot1 := from.Add(14*time.Hour), from.Add(24*time.Hour)
+
+	r := runDewline(t, runBound, "run", "--config", cfg, "--once", "--as-of", t0)
+	require.Equal(t, 0, r.code, r.stderr)
+	require.Positive(t, proxy.count("/query"), "the trend read is InfluxQL through the proxy")
+
+	proxy.set("delay", "/query", 3*time.Second)
+	r = runDewline(t, runBound, "run", "--config", cfg, "--once", "--as-of", t1)
+	assert.Equal(t, 1, r.code, r.stderr)
+	assert.Equal(t, 4, proxy.count("/query"), "one read of the three, 1 attempt and 3 retries, and no more")
+	assert.Equal(t, 1, strings.Count(r.stderr, "the store timed out: this run reads no more"), r.stderr)
+	assert.NotContains(t, r.stderr, "read again one by one")
+	failed := regexp.MustCompile(`(?m)^(\S+): \d+ hours.*\n  failed: (.*)$`).FindAllStringSubmatch(r.stdout, -1)
+	require.Len(t, failed, 3, r.stdout)
+	for _, f := range failed {
+		assert.Contains(t, f[2], "of "+f[1]+", in one read with 2 other air handlers: read 3 air handlers: ")
+		assert.Contains(t, f[2], "timed out after 4 attempts (timeout 1s each)")
+	}
+	for id, cp := range influxCheckpoints(t, url, db) {
+		assert.Equal(t, slot0, cp, "%s: the checkpoint stays", id)
+	}
+
+	proxy.set("pass", "", 0)
+	r = runDewline(t, runBound, "run", "--config", cfg, "--once", "--as-of", t1)
+	require.Equal(t, 0, r.code, r.stderr)
+	counts := hoursPerAHU(t, url, db, slot0.Add(-47*time.Hour), slot1.Add(time.Hour))
+	for _, id := range ahus {
+		assert.Equal(t, slot1, influxCheckpoints(t, url, db)[id], "%s caught up", id)
+		for h := slot0.Add(-47 * time.Hour); !h.After(slot1); h = h.Add(time.Hour) {
+			assert.Equal(t, 1, counts[id][h.UnixMilli()], "%s hour %s", id, h.Format(time.RFC3339))
+		}
+	}
 }
 
 // TestFault_ReadinessFollowsTheStore runs the long-running agent against a
