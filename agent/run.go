@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"runtime/debug"
 	"sort"
+	"strings"
 	"time"
 
 	"github.com/rs/zerolog"
@@ -87,6 +88,10 @@ type Runner struct {
 	// Scheduler is the clock Serve's ticks and shutdown grace run on;
 	// nil is the wall clock.
 	Scheduler SchedulerClock
+	// ConfigPath is the configuration file as the command was given it,
+	// for the command that fills hours skipped behind the backfill horizon
+	// (FillCommand); empty names it FILE.
+	ConfigPath string
 
 	// halted is set, during a run, once a read of the store has timed
 	// out: the run reads no more (see halt).
@@ -334,9 +339,13 @@ func (r *Runner) plan(ctx context.Context, ahus []string, slot time.Time) []*ahu
 				a.from = earliest
 			}
 			if a.newFrom.Before(earliest) {
-				// Further behind than the backfill horizon: the gap is left
-				// unevaluated (and logged); alerts restart from here.
-				r.Log.Warn().Str("ahu", id).Time("checkpoint", a.cp).Time("resume", earliest).Msg("behind the backfill horizon; older hours skipped")
+				// Further behind than the backfill horizon, which bounds a
+				// run's work: the gap is left to the command logged, and
+				// alerts restart from here.
+				r.Log.Warn().Str("ahu", id).Time("checkpoint", a.cp).Time("from", a.newFrom).Time("to", earliest).
+					Int("hours", int(earliest.Sub(a.newFrom)/time.Hour)).Time("resume", earliest).
+					Str("fill", FillCommand(r.ConfigPath, id, a.newFrom, earliest)).
+					Msg("behind the backfill horizon (schedule.backfill): the hours from..to are skipped; the command in fill computes and stores them")
 				a.newFrom = earliest
 			}
 		}
@@ -360,6 +369,29 @@ func (r *Runner) plan(ctx context.Context, ahus []string, slot time.Time) []*ahu
 		}
 	}
 	return runs
+}
+
+// FillCommand is the command line that computes the hours [from, to) of
+// air handler ahu and writes them to the configured store: "dewline
+// analyze", whose --to excludes a time, with the bounds in UTC.
+func FillCommand(configPath, ahu string, from, to time.Time) string {
+	if configPath == "" {
+		configPath = "FILE"
+	}
+	return strings.Join([]string{"dewline analyze --config", shellWord(configPath), "--ahu", shellWord(ahu),
+		"--from", from.UTC().Format(time.RFC3339), "--to", to.UTC().Format(time.RFC3339)}, " ")
+}
+
+// shellWord quotes s for a POSIX shell when it holds more than letters,
+// digits and -_./:=@+,.
+func shellWord(s string) string {
+	plain := s != "" && strings.IndexFunc(s, func(c rune) bool {
+		return !(c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z' || c >= '0' && c <= '9' || strings.ContainsRune("-_./:=@+,", c))
+	}) < 0
+	if plain {
+		return s
+	}
+	return "'" + strings.ReplaceAll(s, "'", `'\''`) + "'"
 }
 
 // DefaultReadBatch is Runner.ReadBatch's default: air-handler hours per

@@ -440,3 +440,21 @@ func TestSlot(t *testing.T) {
 }
 
 var _ Observer = (*telemetry.Telemetry)(nil) // the run loop reports through Observer
+
+func TestFillCommand(t *testing.T) {
+	from := time.Date(2026, 10, 22, 5, 0, 0, 0, time.UTC)
+	to := time.Date(2026, 10, 27, 0, 0, 0, 0, time.FixedZone("CDT", -5*3600)) // 05:00Z
+	tests := []struct{ name, path, ahu, want string }{
+		{"plain", "/etc/dewline/site.yaml", "AHU-1",
+			"dewline analyze --config /etc/dewline/site.yaml --ahu AHU-1 --from 2026-10-22T05:00:00Z --to 2026-10-27T05:00:00Z"},
+		{"spaces and a quote", "my sites/o'hare.yaml", "RTU 5",
+			`dewline analyze --config 'my sites/o'\''hare.yaml' --ahu 'RTU 5' --from 2026-10-22T05:00:00Z --to 2026-10-27T05:00:00Z`},
+		{"no path", "", "AHU-1",
+			"dewline analyze --config FILE --ahu AHU-1 --from 2026-10-22T05:00:00Z --to 2026-10-27T05:00:00Z"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			assert.Equal(t, tt.want, FillCommand(tt.path, tt.ahu, from, to))
+		})
+	}
+}

@@ -93,7 +93,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		return fmt.Errorf("shard %s: %w", *shardS, agent.ErrNothingOwned)
 	}
 	if len(sites) == 1 {
-		return runSite(ctx, e, sites[0].cfg, sites[0].broken, sites[0].owned, runFlags{once: *once, dry: *dry, asOf: *asOf, shard: *shardS, grace: *grace}, "")
+		return runSite(ctx, e, sites[0].cfg, sites[0].broken, sites[0].owned, runFlags{once: *once, dry: *dry, asOf: *asOf, shard: *shardS, grace: *grace, path: sites[0].path}, "")
 	}
 	var failed []string
 	for _, s := range sites {
@@ -101,7 +101,7 @@ func runRun(ctx context.Context, e *env, args []string) error {
 			fmt.Fprintf(e.stdout, "%s: no air handler in this shard\n", siteLabel(s.cfg.Site.ID))
 			continue
 		}
-		err := runSite(ctx, e, s.cfg, s.broken, s.owned, runFlags{once: *once, dry: *dry, asOf: *asOf, shard: *shardS, grace: *grace}, siteLabel(s.cfg.Site.ID)+" ")
+		err := runSite(ctx, e, s.cfg, s.broken, s.owned, runFlags{once: *once, dry: *dry, asOf: *asOf, shard: *shardS, grace: *grace, path: s.path}, siteLabel(s.cfg.Site.ID)+" ")
 		if err != nil {
 			if ctx.Err() != nil {
 				return err
@@ -116,11 +116,11 @@ func runRun(ctx context.Context, e *env, args []string) error {
 	return nil
 }
 
-// runFlags are run's flags that runSite uses.
+// runFlags are run's flags that runSite uses, and the site's file.
 type runFlags struct {
-	once, dry   bool
-	asOf, shard string
-	grace       time.Duration
+	once, dry         bool
+	asOf, shard, path string
+	grace             time.Duration
 }
 
 // runSite runs one site's agent over its owned air handlers; prefix starts
@@ -170,13 +170,14 @@ func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]
 			tel.SetConfigProblem(ahu, fmt.Sprintf("%s: point %q has no data in the store", role, point))
 		}}
 	runner := &agent.Runner{
-		Cfg:       cfg,
-		Source:    source,
-		Store:     rs,
-		Obs:       tel,
-		Log:       log,
-		AHUs:      owned,
-		StoreDown: st.IsOutage,
+		Cfg:        cfg,
+		Source:     source,
+		Store:      rs,
+		Obs:        tel,
+		Log:        log,
+		AHUs:       owned,
+		StoreDown:  st.IsOutage,
+		ConfigPath: f.path,
 	}
 	if *asOf != "" {
 		t, err := parseTime(*asOf, cfg.Location)

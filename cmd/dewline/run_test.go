@@ -1,8 +1,11 @@
 package main
 
 import (
+	"encoding/json"
+	"path/filepath"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
@@ -44,4 +47,50 @@ func TestRun_OnceAndDryRun(t *testing.T) {
 	code, _, errOut = runCLI(t, "run", "--config", cfg, "--as-of", "2026-07-15")
 	assert.Equal(t, 2, code)
 	assert.Contains(t, errOut, "--as-of goes with --once")
+}
+
+// TestRun_BehindTheBackfillHorizon: an agent stopped for longer than
+// schedule.backfill skips the hours beyond it (a run's work stays
+// bounded), and its warning names them and the command that fills them;
+// that command, run as logged, leaves every hour stored once.
+func TestRun_BehindTheBackfillHorizon(t *testing.T) {
+	dir := t.TempDir()
+	ahus := []string{"AHU-1"}
+	cfg := site{schedule: "{backfill: 24h}", ahus: ahus}.write(t, dir, "site.yaml")
+	from := time.Date(2026, 7, 1, 5, 0, 0, 0, time.UTC) // 2026-07-01 00:00 CDT
+	importTrends(t, dir, cfg, ahus, from, 7*24*time.Hour)
+
+	r := runDewline(t, runBound, "--log-level", "warn", "run", "--config", cfg, "--once", "--as-of", "2026-07-02T00:30")
+	require.Equal(t, 0, r.code, r.stderr)
+	// Five days later (00:30 CDT is 05:30Z): the slot is 04:00Z on the
+	// 7th, the horizon 24 hours back; the checkpoint is at 04:00Z on the 2nd.
+	r = runDewline(t, runBound, "--log-level", "warn", "run", "--config", cfg, "--once", "--as-of", "2026-07-07T00:30")
+	require.Equal(t, 0, r.code, r.stderr)
+	var warn map[string]any
+	for _, l := range strings.Split(r.stderr, "\n") {
+		if strings.Contains(l, "behind the backfill horizon") {
+			require.NoError(t, json.Unmarshal([]byte(l), &warn), l)
+		}
+	}
+	require.NotNil(t, warn, r.stderr)
+	assert.Equal(t, "warn", warn["level"])
+	assert.Equal(t, "AHU-1", warn["ahu"])
+	assert.Equal(t, "2026-07-02T05:00:00Z", warn["from"], "the first hour skipped: the checkpoint's next")
+	assert.Equal(t, "2026-07-06T05:00:00Z", warn["to"], "the horizon, excluded")
+	assert.EqualValues(t, 96, warn["hours"])
+	want := "dewline analyze --config " + cfg + " --ahu AHU-1 --from 2026-07-02T05:00:00Z --to 2026-07-06T05:00:00Z"
+	require.Equal(t, want, warn["fill"])
+
+	args := strings.Fields(warn["fill"].(string))
+	r = runDewline(t, runBound, append([]string{"--log-level", "warn"}, args[1:]...)...)
+	require.Equal(t, 0, r.code, r.stderr)
+	seen := map[int64]int{}
+	for _, h := range storedHours(t, filepath.Join(dir, "dewline.db")) {
+		seen[h.HourMs]++
+	}
+	last := time.Date(2026, 7, 7, 4, 0, 0, 0, time.UTC)
+	for h := from; !h.After(last); h = h.Add(time.Hour) {
+		assert.Equal(t, 1, seen[h.UnixMilli()], "hour %s", h.Format(time.RFC3339))
+	}
+	assert.Len(t, seen, 6*24, "no hour outside the runs and the fill")
 }
