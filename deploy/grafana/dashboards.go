@@ -45,7 +45,7 @@ func Build(name string, f Flavour) (dashboard.Dashboard, error) {
 		d = dashboard.NewDashboardBuilder("dewline: air handlers by money at stake (" + lang + ")").
 			Description("Avoidable cost, reheat and effective EER per air handler over the time range, from the hourly results dewline writes to InfluxDB.")
 		d.WithPanel(statPanel("Money at stake", "Avoidable cost, cost, and avoidable reheat (kWh) of every air handler over the range, in the site's currency.", qs.qMoney, f).Span(24).Height(5))
-		d.WithPanel(tablePanel("Air handlers by money at stake", "Sums over the range; effective EER = 3.412 × (coil total − reheat) / (cooling input + reheat input), of the sums. An air handler's name opens its hours.", qs.qByAHU, f).
+		d.WithPanel(tablePanel("Air handlers by money at stake", "Sums over the range; effective EER = 3.412 × (coil total − reheat) / (cooling input + reheat input), of the sums over the hours with a cooling input. An air handler's name opens its hours.", qs.qByAHU, f).
 			SortBy([]cog.Builder[common.TableSortByFieldState]{common.NewTableSortByFieldStateBuilder().DisplayName("cost_avoidable").Desc(true)}).
 			OverrideByName(tagAHU, []dashboard.DynamicConfigValue{{Id: "links", Value: []map[string]any{{
 				"title": "Hours of ${__value.text}",

@@ -2,6 +2,7 @@ package grafana
 
 import (
 	"fmt"
+	"slices"
 	"strings"
 
 	"github.com/grafana/grafana-foundation-sdk/go/cog"
@@ -141,7 +142,8 @@ type queries struct {
 }
 
 // Queries of every panel. Sums skip hours where a field has no value, as
-// dewline's own totals do; the effective EER is that of the sums.
+// dewline's own totals do; the effective EER is that of the sums over the
+// hours with a cooling input (byAHU).
 func newQueries() *queries {
 	x := &queries{}
 
@@ -151,17 +153,7 @@ func newQueries() *queries {
 		flux: fluxFrom(measHourly, false, "v.timeRangeStart") + fieldFilter("cost_avoidable", "cost", "reheat_avoidable_kwh") +
 			"  |> group(columns: [\"_field\"])\n  |> sum()\n",
 	}
-	x.qByAHU = q{
-		influxQL: "SELECT " + sums(append(overviewFields, "coil_total_kwh", "reheat_input_kwh")...) +
-			", " + eerPerCOP + " * (sum(\"coil_total_kwh\") - sum(\"reheat_kwh\")) / (sum(\"cooling_input_kwh\") + sum(\"reheat_input_kwh\")) AS \"effective_eer\" " +
-			hourly + where(false, "$timeFilter") + " GROUP BY \"" + tagAHU + "\"",
-		table: true,
-		flux: fluxFrom(measHourly, false, "v.timeRangeStart") + fieldFilter(append(overviewFields, "coil_total_kwh", "reheat_input_kwh")...) +
-			"  |> group(columns: [\"" + tagAHU + "\", \"_field\"])\n  |> sum()\n" +
-			"  |> pivot(rowKey: [\"" + tagAHU + "\"], columnKey: [\"_field\"], valueColumn: \"_value\")\n" +
-			"  |> map(fn: (r) => ({r with effective_eer: " + eerPerCOP + " * (r.coil_total_kwh - r.reheat_kwh) / (r.cooling_input_kwh + r.reheat_input_kwh)}))\n" +
-			"  |> group()\n  |> sort(columns: [\"cost_avoidable\"], desc: true)\n",
-	}
+	x.qByAHU = byAHU()
 	x.qAvoidByAHU = q{
 		influxQL: "SELECT sum(\"cost_avoidable\") AS \"cost_avoidable\" " + hourly + where(false, "$timeFilter") + " GROUP BY \"" + tagAHU + "\"",
 		flux: fluxFrom(measHourly, false, "v.timeRangeStart") + fieldFilter("cost_avoidable") +
@@ -224,6 +216,88 @@ func newQueries() *queries {
 			"  |> keep(columns: [\"" + tagAHU + "\", \"kind\", \"severity\", \"id\", \"money\", \"start\", \"reason\"])\n",
 	}
 	return x
+}
+
+// The fields of the effective EER, 3.412 × (coil total − reheat) /
+// (cooling input + reheat input).
+const (
+	fCoil, fReheat, fCoolingInput, fReheatInput = "coil_total_kwh", "reheat_kwh", "cooling_input_kwh", "reheat_input_kwh"
+	fMissing                                    = "missing" // the fields without a value, space-separated
+)
+
+// coolingInputListed matches a missing field that names cooling_input_kwh:
+// InfluxDB merges the fields of a re-written point with the old ones, so
+// an hour that had a cooling input and is written again without one keeps
+// the old value, and dewline's writer lists it in "missing"
+// (influx.HourlyPoints), as its own reads honour.
+var coolingInputListed = "/(^| )" + fCoolingInput + "( |$)/"
+
+// byAHU sums each air handler's fields over the range and takes the
+// effective EER of the sums over the hours with a cooling input only, as
+// dewline's totals do (metrics.CoolingGap): an hour whose meter was silent
+// with no rated fallback has no cooling_input_kwh, and its coil and reheat
+// counted over the other hours' input would raise the EER. The other sums,
+// and the all-hours coil and reheat input, keep every hour with a value.
+//
+// InfluxQL: two subqueries, one of the fields over every hour, one of the
+// EER's terms over the hours with an input ("x + 0 * cooling_input_kwh" is
+// empty where the input is empty, and the condition on "missing" drops an
+// hour whose input is stale; it drops an hour without "missing" too, and
+// dewline writes that field in every hour), summed per air handler by the
+// outer query.
+// Flux: the hours with an input (pivoted by time, the same two tests),
+// joined with the EER's terms, summed by reduce in long form (a pivoted
+// table lacks the columns of an air handler without them, and a record
+// type cannot name an absent column), then put beside the other sums.
+func byAHU() q {
+	all := append(slices.DeleteFunc(slices.Clone(overviewFields), func(f string) bool { return f == fCoolingInput }), fCoil, fReheatInput)
+	withInput := func(f string) string { return f + "_with_input" }
+	ahu := "\"" + tagAHU + "\""
+	// The join matches an hour of one series: its time, air handler and
+	// scope tags.
+	key := []string{"_time", tagAHU}
+	for _, t := range scopeTags {
+		key = append(key, t.Tag)
+	}
+	cols := func(c []string) string { return "[\"" + strings.Join(c, "\", \"") + "\"]" }
+
+	var in []string
+	for _, f := range []string{fCoil, fReheat, fReheatInput} {
+		in = append(in, fmt.Sprintf("%q + 0 * %q AS %q", f, fCoolingInput, withInput(f)))
+	}
+	influxQL := "SELECT " + sums(slices.Concat(overviewFields, []string{fCoil, fReheatInput})...) +
+		", " + eerPerCOP + " * (sum(\"" + withInput(fCoil) + "\") - sum(\"" + withInput(fReheat) + "\")) / (sum(\"" + fCoolingInput + "\") + sum(\"" + withInput(fReheatInput) + "\")) AS \"effective_eer\"" +
+		" FROM (SELECT " + fields(all...) + " " + hourly + where(false, "$timeFilter") + " GROUP BY " + ahu + ")" +
+		", (SELECT " + fields(fCoolingInput) + ", " + strings.Join(in, ", ") + " " + hourly +
+		where(false, fmt.Sprintf("%q !~ %s AND $timeFilter", fMissing, coolingInputListed)) + " GROUP BY " + ahu + ")" +
+		" WHERE $timeFilter GROUP BY " + ahu
+
+	flux := "hours = " + fluxFrom(measHourly, false, "v.timeRangeStart") +
+		"sums = hours\n" + fieldFilter(all...) +
+		"  |> group(columns: [\"" + tagAHU + "\", \"_field\"])\n  |> sum()\n" +
+		"withInput = hours\n" + fieldFilter(fCoolingInput, fMissing) +
+		"  |> pivot(rowKey: [\"_time\"], columnKey: [\"_field\"], valueColumn: \"_value\")\n" +
+		"  |> filter(fn: (r) => exists r." + fCoolingInput + " and not (exists r." + fMissing + " and r." + fMissing + " =~ " + coolingInputListed + "))\n" +
+		"  |> keep(columns: " + cols(key) + ")\n  |> group(columns: [\"" + tagAHU + "\"])\n" +
+		"terms = hours\n" + fieldFilter(fCoil, fReheat, fCoolingInput, fReheatInput) +
+		"  |> keep(columns: " + cols(slices.Concat(key, []string{"_field", "_value"})) + ")\n  |> group(columns: [\"" + tagAHU + "\"])\n" +
+		"input = join(tables: {t: terms, h: withInput}, on: " + cols(key) + ")\n" +
+		"cooling = input\n" + fieldFilter(fCoolingInput) +
+		"  |> group(columns: [\"" + tagAHU + "\", \"_field\"])\n  |> sum()\n" +
+		"eer = input\n" +
+		"  |> reduce(identity: {coil: 0.0, reheat: 0.0, input: 0.0, coil_hours: 0, reheat_hours: 0}, fn: (r, accumulator) => ({\n" +
+		"      coil: accumulator.coil + (if r._field == \"" + fCoil + "\" then r._value else 0.0),\n" +
+		"      reheat: accumulator.reheat + (if r._field == \"" + fReheat + "\" then r._value else 0.0),\n" +
+		"      input: accumulator.input + (if r._field == \"" + fCoolingInput + "\" or r._field == \"" + fReheatInput + "\" then r._value else 0.0),\n" +
+		"      coil_hours: accumulator.coil_hours + (if r._field == \"" + fCoil + "\" then 1 else 0),\n" +
+		"      reheat_hours: accumulator.reheat_hours + (if r._field == \"" + fReheat + "\" then 1 else 0)}))\n" +
+		"  |> filter(fn: (r) => r.coil_hours > 0 and r.reheat_hours > 0 and r.input != 0.0)\n" +
+		"  |> map(fn: (r) => ({" + tagAHU + ": r." + tagAHU + ", _field: \"effective_eer\", _value: " + eerPerCOP + " * (r.coil - r.reheat) / r.input}))\n" +
+		"  |> group(columns: [\"" + tagAHU + "\", \"_field\"])\n" +
+		"union(tables: [sums, cooling, eer])\n" +
+		"  |> pivot(rowKey: [\"" + tagAHU + "\"], columnKey: [\"_field\"], valueColumn: \"_value\")\n" +
+		"  |> group()\n  |> sort(columns: [\"cost_avoidable\"], desc: true)\n"
+	return q{influxQL: influxQL, table: true, flux: flux}
 }
 
 // rawFields reads fields of one air handler hour by hour.
