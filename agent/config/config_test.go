@@ -409,3 +409,66 @@ air_handlers:
 	require.NoError(t, err)
 	assert.Equal(t, "wing-b", cfg.Site.ID)
 }
+
+// TestValidate_ScheduleCron: schedule.cron must fire at least once a year
+// (30 February never comes; 29 February once in four years), an @every
+// interval must lie between a minute and a year (the parser would raise
+// zero, negative and sub-second ones to a second), and a time zone prefix
+// is refused (it would override site.timezone). Each refusal names the
+// key, its line and the fix.
+func TestValidate_ScheduleCron(t *testing.T) {
+	base, err := os.ReadFile("../../testdata/config/minimal.good.yaml")
+	require.NoError(t, err)
+	for _, tt := range []struct {
+		name, cron string
+		want       string // "" when valid; else the problem after the key
+	}{
+		{"hourly", "7 * * * *", ""},
+		{"every minute", "* * * * *", ""},
+		{"daily", "@daily", ""},
+		{"yearly", "@yearly", ""},
+		{"every minute by interval", "@every 1m", ""},
+		{"every 90 minutes", "@every 1h30m", ""},
+		{"every year by interval", "@every 8784h", ""},
+		{"last of February or Mondays", "0 0 29 2 1", ""}, // day of month or of week: every Monday of February
+		{"30 February", "0 0 30 2 *", "the schedule never fires (no such day)"},
+		{"31 April", "0 0 31 4 *", "the schedule never fires (no such day)"},
+		{"29 February", "0 0 29 2 *", "the schedule fires only on 29 February, once in four years"},
+		{"negative interval", "@every -1h", "the interval -1h0m0s is below a minute"},
+		{"zero interval", "@every 0s", "the interval 0s is below a minute"},
+		{"millisecond", "@every 1ms", "the interval 1ms is below a minute"},
+		{"59 seconds", "@every 59s", "the interval 59s is below a minute"},
+		{"over a year", "@every 8785h", "the interval 8785h0m0s is above a year (8784h)"},
+		{"CRON_TZ", "CRON_TZ=Asia/Tokyo 0 3 * * *", `the time zone prefix "CRON_TZ=Asia/Tokyo" would override the site's zone`},
+		{"TZ", "TZ=UTC 0 3 * * *", `the time zone prefix "TZ=UTC" would override the site's zone`},
+		{"TZ alone", "TZ=UTC", `the time zone prefix "TZ=UTC" would override the site's zone`},
+		{"malformed", "7 * * *", "not a cron schedule"},
+	} {
+		t.Run(tt.name, func(t *testing.T) {
+			y := string(base) + "schedule: {cron: \"" + tt.cron + "\"}\n"
+			cfg, err := Parse(strings.NewReader(y), "site.yaml")
+			if tt.want == "" {
+				require.NoError(t, err)
+				assert.Equal(t, tt.cron, cfg.Schedule.Cron)
+				return
+			}
+			require.Error(t, err)
+			assert.Contains(t, err.Error(), "site.yaml:16: schedule.cron: \""+tt.cron+"\": "+tt.want)
+			var fix string
+			switch {
+			case strings.Contains(tt.cron, "="):
+				fix = "set site.timezone"
+			case strings.HasPrefix(tt.cron, "@every"):
+				fix = "@every 1h"
+			case tt.want == "not a cron schedule":
+				fix = "use five fields"
+			default:
+				fix = "choose a day every month has"
+			}
+			assert.Contains(t, err.Error(), fix)
+			_, err = ParseCron(tt.cron)
+			var ce *CronError
+			assert.ErrorAs(t, err, &ce, "the agent refuses it at start too")
+		})
+	}
+}

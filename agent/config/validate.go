@@ -1,6 +1,7 @@
 package config
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"net"
@@ -10,7 +11,6 @@ import (
 	"strings"
 	"time"
 
-	"github.com/robfig/cron/v3"
 	"go.yaml.in/yaml/v3"
 
 	"github.com/dewline/dewline/metrics"
@@ -653,8 +653,13 @@ func (c *Config) validateAlerts(v *validator) {
 
 func (c *Config) validateSchedule(v *validator) {
 	p := []any{"schedule"}
-	if _, err := cron.ParseStandard(c.Schedule.Cron); err != nil {
-		v.bad(at(p, "cron"), fmt.Sprintf("%q is not a cron schedule: %v", c.Schedule.Cron, err), "use five fields, e.g. \"7 * * * *\" for seven minutes past every hour")
+	if _, err := ParseCron(c.Schedule.Cron); err != nil {
+		var ce *CronError
+		if errors.As(err, &ce) {
+			v.bad(at(p, "cron"), fmt.Sprintf("%q: %s", ce.Spec, ce.Msg), ce.Fix)
+		} else {
+			v.bad(at(p, "cron"), err.Error(), cronExample)
+		}
 	}
 	if c.Schedule.Lookback < 0 || c.Schedule.Lookback > 7*24*time.Hour {
 		v.bad(at(p, "lookback"), fmt.Sprintf("lookback %v must lie between 0 and 168h", c.Schedule.Lookback), "late trend data rarely arrives after a few hours; 3h is typical")
