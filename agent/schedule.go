@@ -11,8 +11,6 @@ import (
 	"sync/atomic"
 	"time"
 
-	"github.com/robfig/cron/v3"
-
 	"github.com/dewline/dewline/agent/config"
 )
 
@@ -31,6 +29,10 @@ type realClock struct{}
 func (realClock) Now() time.Time                         { return time.Now() }
 func (realClock) After(d time.Duration) <-chan time.Time { return time.After(d) }
 
+// parseCron reads schedule.cron; tests replace it with a schedule that
+// ends, which config.ParseCron never returns.
+var parseCron = config.ParseCron
+
 // Serve runs the runner on the configured cron schedule (in the site's time
 // zone) until ctx ends: once at start to catch up, then at every tick. Runs
 // never overlap: a tick that finds the previous run still going is skipped
@@ -38,11 +40,13 @@ func (realClock) After(d time.Duration) <-chan time.Time { return time.After(d) 
 // run starts; the one in flight has grace to finish, then its context is
 // cancelled: its commits are atomic, so an abandoned run never moves a
 // checkpoint past an unwritten hour. Time is Runner.Scheduler's, the wall
-// clock by default.
+// clock by default. A schedule with no next run stops scheduling: Serve
+// then waits for the run in flight (within grace) and returns a
+// *config.CronError.
 func (r *Runner) Serve(ctx context.Context, grace time.Duration) error {
-	sched, err := cron.ParseStandard(r.Cfg.Schedule.Cron)
+	sched, err := parseCron(r.Cfg.Schedule.Cron)
 	if err != nil {
-		return fmt.Errorf("schedule: %w", err)
+		return err
 	}
 	clk := r.Scheduler
 	if clk == nil {
@@ -74,10 +78,25 @@ func (r *Runner) Serve(ctx context.Context, grace time.Duration) error {
 	// The schedule's ticks are in the site's zone (a daily "0 6 * * *" is
 	// 06:00 there, across daylight saving).
 	next := func() time.Time { return sched.Next(clk.Now().In(r.Cfg.Location)) }
+	// A schedule that ends (the parser gives up after five years without
+	// a match) stops scheduling: its zero time is long past, and waiting
+	// for it would start run after run at once.
+	ended := func() error {
+		return &config.CronError{Spec: r.Cfg.Schedule.Cron, Msg: fmt.Sprintf("the schedule has no run after %s", clk.Now().In(r.Cfg.Location).Format(time.RFC3339)),
+			Fix: "choose one that fires at least once a year, e.g. \"7 * * * *\" for every hour, and restart"}
+	}
+	if next().IsZero() {
+		return ended()
+	}
 	job() // catch up at start
 	r.Log.Info().Str("schedule", r.Cfg.Schedule.Cron).Str("zone", r.Cfg.Location.String()).Time("next", next()).Msg("agent started")
+	var stopErr error
 	for stop := false; !stop; {
 		at := next()
+		if at.IsZero() {
+			stopErr = ended()
+			break
+		}
 		select {
 		case <-ctx.Done():
 			stop = true
@@ -97,7 +116,7 @@ func (r *Runner) Serve(ctx context.Context, grace time.Duration) error {
 		<-done
 	}
 	r.Log.Info().Msg("agent stopped")
-	return nil
+	return stopErr
 }
 
 // Shard is one of N replicas sharing a portfolio; the zero value owns all.

@@ -8,7 +8,9 @@ import (
 	"testing"
 	"time"
 
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/metrics"
+	"github.com/robfig/cron/v3"
 	"github.com/rs/zerolog"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
@@ -250,4 +252,61 @@ func TestServe_RunEndsWithinGrace(t *testing.T) {
 	close(src.release)
 	require.NoError(t, within(t, src.ended, "the end of the run"), "not cancelled")
 	require.NoError(t, within(t, done, "Serve's return"))
+}
+
+// endingSchedule fires on every hour before end and never after.
+type endingSchedule struct{ end time.Time }
+
+func (s endingSchedule) Next(t time.Time) time.Time {
+	if !t.Before(s.end) {
+		return time.Time{}
+	}
+	return t.Truncate(time.Hour).Add(time.Hour)
+}
+
+// runCounter counts the runs started.
+type runCounter struct {
+	nopObserver
+	started atomic.Int32
+}
+
+func (c *runCounter) RunStarted() { c.started.Add(1) }
+
+// TestServe_ScheduleEnds: a schedule with no next run stops scheduling
+// with an error naming schedule.cron, at start before any run and later
+// after the last tick, instead of waiting for its zero time (long past)
+// and so starting run after run at once.
+func TestServe_ScheduleEnds(t *testing.T) {
+	start := time.Date(2026, 7, 14, 10, 7, 0, 0, time.UTC)
+	serve := func(end time.Time) (*fakeClock, *runCounter, chan error) {
+		parseCron = func(string) (cron.Schedule, error) { return endingSchedule{end: end}, nil }
+		t.Cleanup(func() { parseCron = config.ParseCron })
+		clk, obs := newFakeClock(start), &runCounter{}
+		r := &Runner{Cfg: runnerConfig(t), Source: &spanSource{}, Store: newMemResults(), Log: zerolog.Nop(), Obs: obs, Scheduler: clk,
+			Clock: func() time.Time { return start }}
+		done := make(chan error, 1)
+		go func() { done <- r.Serve(context.Background(), time.Minute) }()
+		return clk, obs, done
+	}
+	t.Run("at start", func(t *testing.T) {
+		_, obs, done := serve(start)
+		err := within(t, done, "Serve's return")
+		var ce *config.CronError
+		require.ErrorAs(t, err, &ce)
+		assert.ErrorContains(t, err, "schedule.cron")
+		assert.ErrorContains(t, err, "no run after 2026-07-14T10:07:00Z")
+		assert.Zero(t, obs.started.Load(), "no run starts")
+	})
+	t.Run("later", func(t *testing.T) {
+		clk, obs, done := serve(time.Date(2026, 7, 14, 12, 0, 0, 0, time.UTC)) // ticks at 11:00 and 12:00, then none
+		assert.Equal(t, 53*time.Minute, within(t, clk.waiting, "waiting for 11:00"))
+		clk.Advance(53 * time.Minute)
+		assert.Equal(t, time.Hour, within(t, clk.waiting, "waiting for 12:00"))
+		clk.Advance(time.Hour)
+		err := within(t, done, "Serve's return")
+		var ce *config.CronError
+		require.ErrorAs(t, err, &ce)
+		assert.ErrorContains(t, err, "no run after 2026-07-14T12:00:00Z")
+		assert.LessOrEqual(t, obs.started.Load(), int32(3), "the catch-up and two ticks at most")
+	})
 }
