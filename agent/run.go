@@ -116,13 +116,29 @@ type AHUReport struct {
 	AHU        string
 	From, To   time.Time // hours computed: [From, To)
 	Hours      int
-	Checkpoint time.Time
-	Opened     int
-	Closed     int
+	Checkpoint time.Time // the air handler's last hour written; see CheckpointKnown
+	// CheckpointKnown is false when the checkpoint could not be read (the
+	// store down): Checkpoint is then zero and says nothing.
+	CheckpointKnown bool
+	Opened          int
+	Closed          int
 	// NotQueued counts the transitions recorded but not queued for the
 	// webhook: older than webhook.max_age when computed (a catch-up).
 	NotQueued int
 	Err       error
+}
+
+// CheckpointText says where the air handler stands: "checkpoint" and the
+// hour (RFC 3339, UTC), "checkpoint unknown" when it could not be read, or
+// "no checkpoint yet" before its first hour is written.
+func (a AHUReport) CheckpointText() string {
+	switch {
+	case !a.CheckpointKnown:
+		return "checkpoint unknown"
+	case a.Checkpoint.IsZero():
+		return "no checkpoint yet"
+	}
+	return "checkpoint " + a.Checkpoint.UTC().Format(time.RFC3339)
 }
 
 // RunReport is what one run did.
@@ -349,7 +365,7 @@ func (r *Runner) plan(ctx context.Context, ahus []string, slot time.Time) []*ahu
 				a.newFrom = earliest
 			}
 		}
-		a.rep.From, a.rep.To, a.rep.Checkpoint = a.from, end, a.cp
+		a.rep.From, a.rep.To, a.rep.Checkpoint, a.rep.CheckpointKnown = a.from, end, a.cp, true
 		if !a.from.Before(end) {
 			r.obs().SetLag(id, 0)
 			continue

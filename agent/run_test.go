@@ -458,3 +458,29 @@ func TestFillCommand(t *testing.T) {
 		})
 	}
 }
+
+// TestAHUReport_CheckpointText: the summary names an air handler's
+// checkpoint only when it is known: "unknown" when the store could not give
+// it, "no checkpoint yet" before the first hour is written, never the zero
+// time.
+func TestAHUReport_CheckpointText(t *testing.T) {
+	store := newMemResults()
+	store.fail = errors.New("connection refused")
+	now := time.Date(2026, 7, 14, 10, 7, 0, 0, time.UTC)
+	r := &Runner{Cfg: runnerConfig(t), Source: &spanSource{}, Store: store, Clock: func() time.Time { return now }, Log: zerolog.Nop()}
+	rep, _ := r.RunOnce(context.Background())
+	require.NotNil(t, rep)
+	require.NotEmpty(t, rep.AHUs)
+	for _, a := range rep.AHUs {
+		require.Error(t, a.Err)
+		assert.Equal(t, "checkpoint unknown", a.CheckpointText())
+	}
+
+	store.fail = nil
+	rep, err := r.RunOnce(context.Background())
+	require.NoError(t, err)
+	for _, a := range rep.AHUs {
+		assert.Equal(t, "checkpoint 2026-07-14T09:00:00Z", a.CheckpointText())
+	}
+	assert.Equal(t, "no checkpoint yet", AHUReport{CheckpointKnown: true}.CheckpointText())
+}

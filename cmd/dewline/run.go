@@ -198,8 +198,7 @@ func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]
 			return err
 		}
 		for _, a := range rep.AHUs {
-			fmt.Fprintf(e.stdout, "%s%s: %d hours, checkpoint %s, %d alerts opened, %d closed\n", prefix, a.AHU, a.Hours,
-				a.Checkpoint.UTC().Format(time.RFC3339), a.Opened, a.Closed)
+			fmt.Fprintf(e.stdout, "%s%s: %d hours, %s, %d alerts opened, %d closed\n", prefix, a.AHU, a.Hours, a.CheckpointText(), a.Opened, a.Closed)
 			if a.Err != nil {
 				fmt.Fprintf(e.stdout, "  failed: %v\n", a.Err)
 			}

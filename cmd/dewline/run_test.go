@@ -1,6 +1,7 @@
 package main
 
 import (
+	"database/sql"
 	"encoding/json"
 	"path/filepath"
 	"strings"
@@ -93,4 +94,24 @@ func TestRun_BehindTheBackfillHorizon(t *testing.T) {
 		assert.Equal(t, 1, seen[h.UnixMilli()], "hour %s", h.Format(time.RFC3339))
 	}
 	assert.Len(t, seen, 6*24, "no hour outside the runs and the fill")
+}
+
+// TestRun_CheckpointUnknown: when the store cannot give an air handler's
+// checkpoint (its table gone stands in for a store that is down), the
+// summary says the checkpoint is unknown, not the zero time.
+func TestRun_CheckpointUnknown(t *testing.T) {
+	dir := t.TempDir()
+	cfg, data := writeScenario(t, dir)
+	mustCLI(t, "--log-level", "warn", "import", "--config", cfg, data)
+	db, err := sql.Open("sqlite", "file:"+filepath.Join(dir, "test.db")+"?_busy_timeout=5000")
+	require.NoError(t, err)
+	_, err = db.Exec(`ALTER TABLE checkpoints RENAME TO checkpoints_gone`)
+	require.NoError(t, err)
+	require.NoError(t, db.Close())
+
+	code, out, _ := runCLI(t, "--log-level", "error", "run", "--config", cfg, "--once", "--as-of", "2026-07-15T12:07")
+	assert.Equal(t, 1, code)
+	assert.Contains(t, out, "AHU-7: 0 hours, checkpoint unknown, 0 alerts opened, 0 closed")
+	assert.Contains(t, out, "failed: read checkpoint")
+	assert.NotContains(t, out, "0001-01-01")
 }
