@@ -27,6 +27,8 @@ type Observer interface {
 	SetAlertsOpen(n int)
 	ObserveWrite(d time.Duration, err error)
 	SetStoreUp(ok bool, reason string)
+	// SetIdle marks an agent that runs nothing by design, with why.
+	SetIdle(note string)
 }
 
 // nopObserver discards the metrics.
@@ -41,6 +43,7 @@ func (nopObserver) SetLag(string, float64)            {}
 func (nopObserver) SetAlertsOpen(int)                 {}
 func (nopObserver) ObserveWrite(time.Duration, error) {}
 func (nopObserver) SetStoreUp(bool, string)           {}
+func (nopObserver) SetIdle(string)                    {}
 
 // Runner computes the pending hours of every air handler it owns and
 // writes them back, moving each air handler's checkpoint only once its
@@ -769,6 +772,3 @@ func latestUpdates(updates map[string]metrics.Transition, states map[string]metr
 	sort.Slice(out, func(i, j int) bool { return out[i].Alert.Kind < out[j].Alert.Kind })
 	return out
 }
-
-// ErrNothingOwned reports a shard that owns no air handler.
-var ErrNothingOwned = errors.New("this shard owns no air handler")

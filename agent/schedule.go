@@ -33,6 +33,14 @@ func (realClock) After(d time.Duration) <-chan time.Time { return time.After(d) 
 // ends, which config.ParseCron never returns.
 var parseCron = config.ParseCron
 
+// NothingOwned and NothingOwnedFix are what a shard that owns no air
+// handler says: the split by hash can leave a replica without any even
+// with fewer replicas than air handlers, and it is not an error.
+const (
+	NothingOwned    = "this shard owns no air handler"
+	NothingOwnedFix = "it runs nothing and takes air handlers as the configuration grows; to use it now, run fewer replicas (spec.replicas and the n of --shard together)"
+)
+
 // Serve runs the runner on the configured cron schedule (in the site's time
 // zone) until ctx ends: once at start to catch up, then at every tick. Runs
 // never overlap: a tick that finds the previous run still going is skipped
@@ -40,13 +48,23 @@ var parseCron = config.ParseCron
 // run starts; the one in flight has grace to finish, then its context is
 // cancelled: its commits are atomic, so an abandoned run never moves a
 // checkpoint past an unwritten hour. Time is Runner.Scheduler's, the wall
-// clock by default. A schedule with no next run stops scheduling: Serve
+// clock by default. A runner whose AHUs are empty (not nil: a shard that
+// owns nothing) runs nothing, reports itself idle and waits for ctx. A
+// schedule with no next run stops scheduling: Serve
 // then waits for the run in flight (within grace) and returns a
 // *config.CronError.
 func (r *Runner) Serve(ctx context.Context, grace time.Duration) error {
 	sched, err := parseCron(r.Cfg.Schedule.Cron)
 	if err != nil {
 		return err
+	}
+	if r.AHUs != nil && len(r.AHUs) == 0 {
+		// A shard that owns nothing stays up and ready, and runs nothing:
+		// exiting would make a StatefulSet restart it again and again.
+		r.obs().SetIdle(NothingOwned + "; " + NothingOwnedFix)
+		<-ctx.Done()
+		r.Log.Info().Msg("agent stopped")
+		return nil
 	}
 	clk := r.Scheduler
 	if clk == nil {
@@ -204,9 +222,10 @@ func (sh Shard) Owns(site, ahu string) bool {
 	return best == sh.Index
 }
 
-// Owned returns the configuration's air handlers this shard takes, sorted.
+// Owned returns the configuration's air handlers this shard takes, sorted;
+// never nil, so that a Runner given none runs none (its nil AHUs is all).
 func (sh Shard) Owned(cfg *config.Config) []string {
-	var out []string
+	out := []string{}
 	for _, a := range cfg.AirHandlers {
 		if sh.Owns(cfg.Site.ID, a.ID) {
 			out = append(out, a.ID)

@@ -310,3 +310,49 @@ func TestServe_ScheduleEnds(t *testing.T) {
 		assert.LessOrEqual(t, obs.started.Load(), int32(3), "the catch-up and two ticks at most")
 	})
 }
+
+// idleRecorder records the idle note and counts the runs started.
+type idleRecorder struct {
+	runCounter
+	mu   sync.Mutex
+	note string
+}
+
+func (c *idleRecorder) SetIdle(note string) { c.mu.Lock(); c.note = note; c.mu.Unlock() }
+
+// TestServe_NothingOwned: a runner given an empty share (a replica the
+// split left without air handlers) stays up, reports itself idle with the
+// fix, runs nothing (an empty share is not nil, which is all of them) and
+// stops cleanly.
+func TestServe_NothingOwned(t *testing.T) {
+	cfg := runnerConfig(t)
+	// Two air handlers among eight replicas: six own nothing.
+	var owned []string
+	for i := 0; i < 8 && (owned == nil || len(owned) > 0); i++ {
+		owned = Shard{Index: i, Count: 8}.Owned(cfg)
+	}
+	require.NotNil(t, owned, "an empty share is not nil")
+	require.Empty(t, owned)
+	store, obs := newMemResults(), &idleRecorder{}
+	r := &Runner{Cfg: cfg, Source: &spanSource{}, Store: store, Log: zerolog.Nop(), Obs: obs, AHUs: owned,
+		Clock: func() time.Time { return time.Date(2026, 7, 14, 10, 7, 0, 0, time.UTC) }}
+	ctx, cancel := context.WithCancel(context.Background())
+	done := make(chan error, 1)
+	go func() { done <- r.Serve(ctx, time.Minute) }()
+	require.Eventually(t, func() bool {
+		obs.mu.Lock()
+		defer obs.mu.Unlock()
+		return obs.note != ""
+	}, 5*time.Second, 10*time.Millisecond)
+	select {
+	case err := <-done:
+		t.Fatalf("Serve returned %v with its context still going", err)
+	default:
+	}
+	cancel()
+	require.NoError(t, within(t, done, "Serve's return"))
+	assert.Contains(t, obs.note, "owns no air handler")
+	assert.Contains(t, obs.note, "fewer replicas")
+	assert.Zero(t, obs.started.Load(), "no run")
+	assert.Zero(t, store.commits)
+}

@@ -591,14 +591,13 @@ func TestDeploy_KubernetesArgs(t *testing.T) {
 		pod := fmt.Sprintf("%s-%d", k.sts.Metadata.Name, i)
 		arg := strings.Replace(vals["shard"], "$(POD_NAME)", pod, 1)
 		// A one-hour embedded configuration stands in for the store: a
-		// usage error (exit 2) would mean the argument itself is refused;
-		// exit 1 ("owns no air handler") is its share, not the argument.
+		// usage error (exit 2) would mean the argument itself is refused.
 		code, _, errOut := runDewline(t, "--log-level", "error", "run", "--config", cfgCopy, "--shard", arg, "--dry-run", "--as-of", "2026-07-01T08:07")
 		assert.NotEqual(t, 2, code, "dewline refuses --shard %s: %s", arg, errOut)
 		assert.NotContains(t, errOut, "--shard")
 
 		owned := agent.Shard{Index: i, Count: replicas}.Owned(cfg)
-		assert.NotEmpty(t, owned, "pod %s owns no air handler of the ConfigMap's configuration: it would exit and restart forever", pod)
+		assert.NotEmpty(t, owned, "pod %s owns no air handler of the ConfigMap's configuration: it would run nothing", pod)
 		for _, id := range owned {
 			_, twice := owner[id]
 			assert.False(t, twice, "%s owned by two replicas", id)

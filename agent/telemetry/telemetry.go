@@ -74,6 +74,7 @@ type Telemetry struct {
 	running     int    // runs started and not finished
 	runErr      string // error of the last finished run, empty when it succeeded
 	problems    map[string]string
+	idle        string // why the agent runs nothing (SetIdle), empty while it runs
 }
 
 // Buckets of the duration histograms, in seconds. A run reads and computes
@@ -328,6 +329,18 @@ func (t *Telemetry) ClearConfigProblem(ahu string) {
 	t.ahuProblem.WithLabelValues(ahu).Set(0)
 }
 
+// SetIdle marks an agent that runs nothing by design (a shard that owns no
+// air handler): it is ready whatever the store and runs say, since it
+// needs neither, and /readyz shows note, which must hold no secret.
+func (t *Telemetry) SetIdle(note string) {
+	if t == nil {
+		return
+	}
+	t.mu.Lock()
+	defer t.mu.Unlock()
+	t.idle = note
+}
+
 // Readiness states shown by /readyz.
 const (
 	ReadinessReady    = "ready"    // store up, last run fine, every air handler configured
@@ -339,6 +352,7 @@ const (
 type Readiness struct {
 	Status  string         `json:"status"` // ReadinessReady, ReadinessDegraded or ReadinessUnready
 	Reasons []string       `json:"reasons"`
+	Note    string         `json:"note,omitempty"` // why a ready agent runs nothing (SetIdle)
 	Store   ReadinessStore `json:"store"`
 	LastRun ReadinessRun   `json:"last_run"`
 	AHUs    []ReadinessAHU `json:"degraded_ahus"` // by id
@@ -369,6 +383,8 @@ type ReadinessAHU struct {
 // not fail as a whole. Air handlers with a configuration problem are listed
 // and make the status "degraded", but the agent stays ready: the others are
 // still analysed, and restarting the agent would not fix a configuration.
+// An idle agent (SetIdle) is ready with its note: restarting it would not
+// give it work.
 func (t *Telemetry) Readiness() Readiness {
 	if t == nil {
 		return Readiness{Status: ReadinessUnready, Reasons: []string{"no telemetry"}, AHUs: []ReadinessAHU{}}
@@ -380,6 +396,10 @@ func (t *Telemetry) Readiness() Readiness {
 		Store:   ReadinessStore{Checked: t.storeKnown, Up: t.storeOK, Reason: t.storeReason},
 		LastRun: ReadinessRun{Running: t.running > 0, Failed: t.runErr != "", Error: t.runErr},
 		AHUs:    make([]ReadinessAHU, 0, len(t.problems)),
+	}
+	if t.idle != "" {
+		r.Status, r.Note = ReadinessReady, t.idle
+		return r
 	}
 	ready := true
 	switch {

@@ -174,6 +174,17 @@ func TestTelemetry_Ready(t *testing.T) {
 			reasons: []string{"store down: disk full", "ahu-2 skipped: x"},
 			ahus:    []string{"ahu-2"},
 		},
+		{
+			// A shard that owns nothing needs neither store nor runs:
+			// restarting it would not give it work.
+			name: "idle",
+			do: func(t *Telemetry) {
+				t.SetIdle("this shard owns no air handler")
+				t.SetStoreUp(false, "connection refused")
+			},
+			ready:  true,
+			status: ReadinessReady,
+		},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
@@ -192,6 +203,11 @@ func TestTelemetry_Ready(t *testing.T) {
 				ahus = append(ahus, a.AHU)
 			}
 			assert.Equal(t, tt.ahus, ahus)
+			if tt.name == "idle" {
+				assert.Equal(t, "this shard owns no air handler", r.Note)
+			} else {
+				assert.Empty(t, r.Note)
+			}
 		})
 	}
 }
@@ -238,6 +254,7 @@ func TestTelemetry_Nil(t *testing.T) {
 		tel.SetStoreUp(true, "")
 		tel.SetConfigProblem("a", "b")
 		tel.ClearConfigProblem("a")
+		tel.SetIdle("a")
 	})
 	ok, _ := tel.Ready()
 	assert.False(t, ok)

@@ -89,10 +89,10 @@ func runRun(ctx context.Context, e *env, args []string) error {
 		total += len(owned)
 		sites = append(sites, site{path: p, cfg: cfg, broken: broken, owned: owned})
 	}
-	if total == 0 {
-		return fmt.Errorf("shard %s: %w", *shardS, agent.ErrNothingOwned)
+	if total == 0 { // not an error: a replica left empty by the hash split stays up (agent.Runner.Serve)
+		e.log.Warn().Str("shard", *shardS).Str("fix", agent.NothingOwnedFix).Msg(agent.NothingOwned)
 	}
-	if len(sites) == 1 {
+	if len(sites) == 1 && (total > 0 || !*once && !*dry) {
 		return runSite(ctx, e, sites[0].cfg, sites[0].broken, sites[0].owned, runFlags{once: *once, dry: *dry, asOf: *asOf, shard: *shardS, grace: *grace, path: sites[0].path}, "")
 	}
 	var failed []string

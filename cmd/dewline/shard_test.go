@@ -2,8 +2,12 @@ package main
 
 import (
 	"fmt"
+	"net/http"
+	"os"
+	"path/filepath"
 	"regexp"
 	"strconv"
+	"strings"
 	"testing"
 	"time"
 
@@ -11,6 +15,7 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/dewline/dewline/agent"
+	"github.com/dewline/dewline/agent/config"
 	"github.com/dewline/dewline/deploy/testkit"
 )
 
@@ -154,4 +159,84 @@ func TestShard_ThreeReplicasWriteEveryHourOnce(t *testing.T) {
 			assert.Equal(t, 1, n, "%s at %s: one point", id, time.UnixMilli(ms).UTC().Format(time.RFC3339))
 		}
 	}
+}
+
+// TestRun_EmptyShard: the split by hash can leave a replica without any air
+// handler even with fewer replicas than air handlers. Such a replica is no
+// error: --once and --dry-run say so and exit 0, for one site as for
+// several, the long-running agent stays up and ready with a note and runs
+// nothing, and each warns once, naming the shard and the fix.
+func TestRun_EmptyShard(t *testing.T) {
+	dir := t.TempDir()
+	cfgPath, data := writeScenario(t, dir)
+	mustCLI(t, "--log-level", "warn", "import", "--config", cfgPath, data)
+	cfg, err := config.Load(cfgPath)
+	require.NoError(t, err)
+	// The one air handler goes to one of two replicas; the other is empty.
+	shard := "dewline-0/2"
+	if !(agent.Shard{Index: 1, Count: 2}).Owns(cfg.Site.ID, "AHU-7") {
+		shard = "dewline-1/2"
+	}
+	warnedOnce := func(t *testing.T, logs string) {
+		t.Helper()
+		assert.Equal(t, 1, strings.Count(logs, `"message":"this shard owns no air handler"`), logs)
+		assert.Contains(t, logs, `"shard":"`+shard+`"`)
+		assert.Contains(t, logs, "run fewer replicas")
+		assert.Contains(t, logs, "takes air handlers as the configuration grows")
+	}
+
+	t.Run("once", func(t *testing.T) {
+		code, out, errOut := runCLI(t, "--log-level", "warn", "run", "--config", cfgPath, "--once", "--as-of", "2026-07-15T12:07", "--shard", shard)
+		require.Equal(t, 0, code, errOut)
+		assert.Contains(t, out, "no air handler in this shard")
+		warnedOnce(t, errOut)
+		assert.Empty(t, storedHours(t, filepath.Join(dir, "test.db")), "nothing is run, not every air handler")
+	})
+	t.Run("dry run", func(t *testing.T) {
+		code, out, errOut := runCLI(t, "--log-level", "warn", "run", "--config", cfgPath, "--dry-run", "--as-of", "2026-07-15T12:07", "--shard", shard)
+		require.Equal(t, 0, code, errOut)
+		assert.NotContains(t, out, "dewline_hourly")
+		warnedOnce(t, errOut)
+	})
+	t.Run("several sites", func(t *testing.T) {
+		// Two sites of one air handler each, and a replica of many that
+		// owns neither.
+		sites := filepath.Join(dir, "sites")
+		require.NoError(t, os.MkdirAll(sites, 0o700))
+		for _, id := range []string{"north", "south"} {
+			text := strings.Replace(analyzeConfig, "site: {", "site: {id: "+id+", ", 1)
+			require.NoError(t, os.WriteFile(filepath.Join(sites, id+".yaml"), []byte(text), 0o600))
+		}
+		i := 0
+		for (agent.Shard{Index: i, Count: 8}).Owns("north", "AHU-7") || (agent.Shard{Index: i, Count: 8}).Owns("south", "AHU-7") {
+			i++
+		}
+		many := fmt.Sprintf("%d/8", i)
+		code, out, errOut := runCLI(t, "--log-level", "warn", "run", "--config", sites, "--once", "--as-of", "2026-07-15T12:07", "--shard", many)
+		require.Equal(t, 0, code, errOut)
+		assert.Contains(t, out, "north: no air handler in this shard")
+		assert.Contains(t, out, "south: no air handler in this shard")
+		assert.Equal(t, 1, strings.Count(errOut, `"message":"this shard owns no air handler"`), errOut)
+		assert.Contains(t, errOut, `"shard":"`+many+`"`)
+	})
+	t.Run("agent", func(t *testing.T) {
+		text, err := os.ReadFile(cfgPath)
+		require.NoError(t, err)
+		agentCfg := filepath.Join(dir, "agent.yaml")
+		require.NoError(t, os.WriteFile(agentCfg, append(text, "http: {listen: \"127.0.0.1:0\"}\n"...), 0o600))
+		p := startDewline(t, "run", "--config", agentCfg, "--shard", shard)
+		base := "http://" + p.httpAddr(t)
+		status, body := httpGet(t, base, "/readyz")
+		assert.Equal(t, http.StatusOK, status, body)
+		assert.Contains(t, body, `"status":"ready"`)
+		assert.Contains(t, body, `"note":"this shard owns no air handler`)
+		status, _ = httpGet(t, base, "/healthz")
+		assert.Equal(t, http.StatusOK, status)
+		p.stop(t, 30*time.Second)
+		assert.NoError(t, p.err, "up until stopped, then a clean exit")
+		logs := p.stderrText()
+		warnedOnce(t, logs)
+		assert.NotContains(t, logs, `"run done"`, "runs nothing")
+		assert.Empty(t, storedHours(t, filepath.Join(dir, "test.db")))
+	})
 }
