@@ -403,7 +403,7 @@ type page struct {
 	Req     request
 	Title   string
 	Nav     string // which tab is current
-	Path    string
+	Path    string // the request's path, percent-encoded (a unit id may hold a "/")
 	Display Display
 	Empty   bool
 }
@@ -442,7 +442,7 @@ func (p page) UnitsLink(name string) string {
 }
 
 func (h *Handler) newPage(r *http.Request, req request, title, nav string) page {
-	return page{Base: h.opt.Base, Site: h.opt.Site, Req: req, Title: title, Nav: nav, Path: r.URL.Path, Display: req.display, Empty: req.empty}
+	return page{Base: h.opt.Base, Site: h.opt.Site, Req: req, Title: title, Nav: nav, Path: r.URL.EscapedPath(), Display: req.display, Empty: req.empty}
 }
 
 func (h *Handler) overviewPage(w http.ResponseWriter, r *http.Request) error {

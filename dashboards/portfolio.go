@@ -9,6 +9,7 @@ import (
 	"net/http"
 	"net/url"
 	"slices"
+	"strings"
 	"time"
 
 	"github.com/rs/zerolog"
@@ -44,6 +45,7 @@ type PortfolioOptions struct {
 type Portfolio struct {
 	opt      PortfolioOptions
 	handlers []*Handler
+	byID     map[string]*Handler
 	mux      *http.ServeMux
 	tmpl     *template.Template
 }
@@ -60,24 +62,31 @@ func NewPortfolio(opt PortfolioOptions) (*Portfolio, error) {
 	if err != nil {
 		return nil, fmt.Errorf("portfolio templates: %w", err)
 	}
-	p := &Portfolio{opt: opt, tmpl: t, mux: http.NewServeMux()}
-	seen := map[string]bool{}
+	p := &Portfolio{opt: opt, tmpl: t, mux: http.NewServeMux(), byID: map[string]*Handler{}}
 	for _, s := range opt.Sites {
 		if s.Site == nil || s.Site.ID == "" {
 			return nil, errors.New("portfolio: every site needs an id (site.id)")
 		}
-		if seen[s.Site.ID] {
+		if p.byID[s.Site.ID] != nil {
 			return nil, fmt.Errorf("portfolio: site %q is given twice; give each site its own site.id", s.Site.ID)
 		}
-		seen[s.Site.ID] = true
-		base := "/sites/" + url.PathEscape(s.Site.ID)
-		h, err := New(Options{Site: s.Site, Results: s.Results, Now: opt.Now, Log: opt.Log, Base: base})
+		if s.Site.ID == "." || s.Site.ID == ".." {
+			return nil, fmt.Errorf("portfolio: site id %q cannot name a path segment; give the site another site.id", s.Site.ID)
+		}
+		h, err := New(Options{Site: s.Site, Results: s.Results, Now: opt.Now, Log: opt.Log, Base: SitePath(s.Site.ID)})
 		if err != nil {
 			return nil, fmt.Errorf("site %s: %w", s.Site.ID, err)
 		}
 		p.handlers = append(p.handlers, h)
-		p.mux.Handle(base+"/", http.StripPrefix(base, h))
+		p.byID[s.Site.ID] = h
 	}
+	// One route for every site, looked up by its id: the id is one path
+	// segment, percent-encoded in links (a space, "*", "/" or "%" in an
+	// id, as site names hold), which a route per site written from the
+	// encoded id would never match, and which the site's handler must
+	// get back as encoded to find unit ids holding a "/".
+	p.mux.HandleFunc("/sites/{site}", p.siteRoot)
+	p.mux.HandleFunc("/sites/{site}/{rest...}", p.site)
 	first := p.handlers[0]
 	p.mux.Handle("GET /static/", first)
 	p.mux.Handle("GET /favicon.ico", first)
@@ -89,6 +98,51 @@ func NewPortfolio(opt PortfolioOptions) (*Portfolio, error) {
 }
 
 func (p *Portfolio) ServeHTTP(w http.ResponseWriter, r *http.Request) { p.mux.ServeHTTP(w, r) }
+
+// SitePath is the path of a site's pages in a portfolio, without the
+// trailing slash: /sites/ and the id percent-encoded as one segment.
+func SitePath(id string) string { return "/sites/" + url.PathEscape(id) }
+
+// siteRoot sends /sites/{id} to the site's overview, /sites/{id}/, with
+// the id encoded as it came (the mux's own redirect would decode a "/").
+func (p *Portfolio) siteRoot(w http.ResponseWriter, r *http.Request) {
+	id := r.PathValue("site")
+	if p.byID[id] == nil {
+		http.Error(w, fmt.Sprintf("no site %q in the portfolio", id), http.StatusNotFound)
+		return
+	}
+	to := SitePath(id) + "/"
+	if r.URL.RawQuery != "" {
+		to += "?" + r.URL.RawQuery
+	}
+	http.Redirect(w, r, to, http.StatusMovedPermanently)
+}
+
+// site hands a request under /sites/{id}/ to that site's handler, with
+// the path below the site's, still encoded where the request encoded it.
+func (p *Portfolio) site(w http.ResponseWriter, r *http.Request) {
+	id := r.PathValue("site")
+	h := p.byID[id]
+	if h == nil {
+		http.Error(w, fmt.Sprintf("no site %q in the portfolio", id), http.StatusNotFound)
+		return
+	}
+	// The mux split the escaped path at its slashes: the site's segment
+	// ends at the first one after /sites/.
+	esc := strings.TrimPrefix(r.URL.EscapedPath(), "/sites/")
+	rest := esc[strings.IndexByte(esc, '/'):]
+	path, err := url.PathUnescape(rest)
+	if err != nil {
+		http.Error(w, "bad path: "+err.Error(), http.StatusBadRequest)
+		return
+	}
+	r2 := new(http.Request)
+	*r2 = *r
+	r2.URL = new(url.URL)
+	*r2.URL = *r.URL
+	r2.URL.Path, r2.URL.RawPath = path, rest
+	h.ServeHTTP(w, r2)
+}
 
 func (p *Portfolio) page(fn func(http.ResponseWriter, *http.Request) error) http.HandlerFunc {
 	return func(w http.ResponseWriter, r *http.Request) {
