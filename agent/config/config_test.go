@@ -127,6 +127,13 @@ func TestLoadConfig_Bad(t *testing.T) {
 			`:17: air_handlers[0].points.supply_temp: measurement "#ahu" starts with #`,
 			`:18: air_handlers[0].points.supply_flow: tag key "_field" is reserved by Flux or line protocol; tag "unit" value "a\\\"b" has a backslash before '"'`,
 		}},
+		// "." and ".." are the ids a path segment cannot carry, encoded
+		// or not; every other id is percent-encoded in the dashboard's
+		// addresses.
+		{"dots.bad.yaml", []string{
+			`:2: site.id: ".." cannot name the site's pages`,
+			`:4: air_handlers[0].id: id "." cannot name the air handler's pages`,
+		}},
 		{"mixing.bad.yaml", []string{
 			`:12: air_handlers[0].points.entering_rh: entering_rh "AHU-1 Return RH" reads like a return RH, but entering_temp "AHU-1 Mixed Air Temp" is the mixed air`,
 			`map it as return_rh (or space_rh) instead`,
@@ -469,6 +476,38 @@ func TestValidate_ScheduleCron(t *testing.T) {
 			_, err = ParseCron(tt.cron)
 			var ce *CronError
 			assert.ErrorAs(t, err, &ce, "the agent refuses it at start too")
+		})
+	}
+}
+
+// TestValidate_SiteIDInAddresses: a site id goes into the dashboard's
+// addresses percent-encoded, so spaces, "/", "%", "*" and letters beyond
+// ASCII are kept; "." and ".." (a path resolves them away) are refused,
+// on site.name when site.id is left to default to it.
+func TestValidate_SiteIDInAddresses(t *testing.T) {
+	base, err := os.ReadFile("../../testdata/config/minimal.good.yaml")
+	require.NoError(t, err)
+	for _, tt := range []struct {
+		name, site, want string // want: the problem, "" when accepted
+	}{
+		{"name with spaces", `name: "Saltmarsh Point Clinic"`, ""},
+		{"slash and star", `id: "north/2.*"`, ""},
+		{"percent", `id: "a%2Fb"`, ""},
+		{"beyond ASCII", `id: "ÄBC"`, ""},
+		{"two dots", `id: ".."`, `site.yaml:2: site.id: ".." cannot name the site's pages`},
+		{"dot as the name", `name: "."`, `site.yaml:2: site.name: "." cannot name the site's pages`},
+	} {
+		t.Run(tt.name, func(t *testing.T) {
+			y := strings.Replace(string(base), "site: {", "site: {"+tt.site+", ", 1)
+			require.NotEqual(t, string(base), y)
+			_, err := Parse(strings.NewReader(y), "site.yaml")
+			if tt.want == "" {
+				require.NoError(t, err)
+				return
+			}
+			require.Error(t, err)
+			assert.Contains(t, err.Error(), tt.want)
+			assert.Contains(t, err.Error(), "set site.id to a name of the site")
 		})
 	}
 }

@@ -146,6 +146,8 @@ func (c *Config) validate(ce *Error, root *yaml.Node) {
 		p := []any{"air_handlers", i}
 		if strings.TrimSpace(a.ID) == "" {
 			v.bad(at(p, "id"), "missing id", "give each air handler a short unique id such as AHU-1")
+		} else if dotSegment(a.ID) {
+			v.bad(at(p, "id"), fmt.Sprintf("id %q cannot name the air handler's pages: a web address resolves %q away", a.ID, a.ID), "give the air handler an id such as AHU-1")
 		} else if j, dup := ids[a.ID]; dup {
 			v.bad(at(p, "id"), fmt.Sprintf("id %q is also used by air_handlers[%d]", a.ID, j), "ids must be unique")
 		} else {
@@ -210,6 +212,11 @@ func (c *Config) validateLineNames(v *validator) {
 	}
 }
 
+// dotSegment reports whether id is "." or "..": the one id a web address
+// cannot carry as a path segment, percent-encoded or not (clients and
+// servers resolve it, also written %2E). Any other id is encoded.
+func dotSegment(id string) bool { return id == "." || id == ".." }
+
 // The altitudes of a building site: the shore of the Dead Sea (about
 // -430 m) to the highest towns (about 5100 m), with a margin (common
 // knowledge, no source). The standard atmosphere (psychro) holds further.
@@ -250,6 +257,15 @@ func (c *Config) validateSite(v *validator) {
 		}
 	default:
 		v.bad(p, "neither altitude nor pressure is given", "set site.altitude (e.g. 15m) or site.pressure (e.g. 101.1kPa); at altitude air is thinner and every mass flow depends on it")
+	}
+	if dotSegment(c.Site.ID) {
+		// site.id defaults to site.name: name the key the file gave.
+		key := "id"
+		if !v.given(at(p, "id")) {
+			key = "name"
+		}
+		v.bad(at(p, key), fmt.Sprintf("%q cannot name the site's pages (/sites/ID/ in a portfolio): a web address resolves %q away", c.Site.ID, c.Site.ID),
+			"set site.id to a name of the site, e.g. north-campus")
 	}
 	if c.Site.Units != "si" && c.Site.Units != "ip" {
 		v.bad(at(p, "units"), fmt.Sprintf("unknown display units %q", c.Site.Units), "use si or ip")
