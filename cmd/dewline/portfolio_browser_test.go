@@ -5,6 +5,8 @@ import (
 	"io"
 	"math"
 	"net/http"
+	"os"
+	"strings"
 	"testing"
 	"time"
 
@@ -120,4 +122,72 @@ func TestPortfolio_Browser(t *testing.T) {
 	require.NoError(t, err)
 	resp.Body.Close()
 	assert.Equal(t, http.StatusBadRequest, resp.StatusCode, fmt.Sprintf("an unknown site: %d", resp.StatusCode))
+}
+
+// TestPortfolio_BrowserSiteIDs: site ids as site names make them (site.id
+// defaults to site.name), with a space, "/", "*", "%" and a letter beyond
+// ASCII, and an air-handler id with a space and a "/", each on its own
+// embedded store. Chromium follows every site and air-handler link of the
+// portfolio to the page of that site and air handler, and from there the
+// chart, the other display units and the way back.
+func TestPortfolio_BrowserSiteIDs(t *testing.T) {
+	sites := []struct{ id, name, unit string }{
+		{id: "Saltmarsh Point/North*", name: "Saltmarsh North", unit: "AHU 7/East"},
+		{id: "Süd 100%", name: "Süd", unit: "AHU-7"},
+	}
+	var cfgs []string
+	for i, s := range sites {
+		cfg, data := writePortfolioSite(t, portfolioSites[i], "", "")
+		text, err := os.ReadFile(cfg)
+		require.NoError(t, err)
+		named := strings.Replace(string(text), "id: "+portfolioSites[i].id+", name: "+portfolioSites[i].id,
+			"id: "+yamlQuote(s.id)+", name: "+yamlQuote(s.name), 1)
+		named = strings.Replace(named, "  - id: AHU-7\n", "  - id: "+yamlQuote(s.unit)+"\n", 1)
+		require.NotEqual(t, string(text), named)
+		require.NoError(t, os.WriteFile(cfg, []byte(named), 0o600))
+		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data)
+		require.Equal(t, 0, code, errOut)
+		cfgs = append(cfgs, cfg)
+	}
+	b := startBrowser(t)
+	base := serveDash(t, cfgs[0], cfgs[1])
+	const query = "?period=custom&from=2026-07-14&to=2026-07-15&units=si"
+	type link struct{ Site, Unit, Href string }
+	checkPage(t, b, base, "/"+query, true)
+	siteLinks := eval[[]link](t, b, `[...document.querySelectorAll('#site-table tbody tr')].map(tr => ({
+		Site: tr.dataset.site, Href: tr.querySelector('a').href}))`)
+	unitLinks := eval[[]link](t, b, `[...document.querySelectorAll('#portfolio-table tbody tr')].map(tr => ({
+		Site: tr.dataset.site, Unit: tr.dataset.unit, Href: tr.querySelector('th a').href}))`)
+	require.Len(t, siteLinks, len(sites))
+	require.Len(t, unitLinks, len(sites))
+	for _, s := range sites {
+		var site, unit link
+		for _, l := range siteLinks {
+			if l.Site == s.id {
+				site = l
+			}
+		}
+		for _, l := range unitLinks {
+			if l.Site == s.id {
+				unit = l
+			}
+		}
+		require.NotEmpty(t, site.Href, "no row of site %q: %v", s.id, siteLinks)
+		require.Equal(t, s.unit, unit.Unit, "site %q", s.id)
+
+		checkPage(t, b, base, strings.TrimPrefix(site.Href, base), s.id == sites[0].id)
+		assert.Equal(t, s.name, eval[string](t, b, `document.querySelector('header .site').textContent`), "site link of %q", s.id)
+
+		checkPage(t, b, base, strings.TrimPrefix(unit.Href, base), false)
+		assert.Equal(t, s.name, eval[string](t, b, `document.querySelector('header .site').textContent`), "unit link of %q", s.id)
+		assert.Equal(t, s.unit, eval[string](t, b, `document.querySelector('h1 .id').textContent`), "unit link of %q", s.id)
+		for _, id := range []string{"units-ip", "chart-link", "lines-wetbulb"} {
+			st := b.click(t, id, "")
+			assert.EqualValues(t, http.StatusOK, st.status, "%s: #%s to %s", s.id, id, st.url)
+			assert.Contains(t, eval[string](t, b, `document.querySelector('h1 .id').textContent`), s.unit, "%s: #%s", s.id, id)
+		}
+		st := b.click(t, "portfolio-link", "")
+		assert.EqualValues(t, http.StatusOK, st.status)
+		assert.Equal(t, len(sites), eval[int](t, b, `document.querySelectorAll('#site-table tbody tr').length`), "back on the portfolio")
+	}
 }
