@@ -4,7 +4,9 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"html"
 	"math"
+	"net/url"
 	"os"
 	"path/filepath"
 	"regexp"
@@ -334,4 +336,52 @@ func TestPortfolio_Report(t *testing.T) {
 	code, _, errOut = runCLI(t, "report", "--config", cfgs[0], "--config", cfgs[1], "--pdf", "-o", out)
 	assert.Equal(t, 2, code)
 	assert.Contains(t, errOut, "--pdf takes one site")
+}
+
+// TestPortfolio_ReportSiteIDs: sites whose ids differ only in characters
+// a file name cannot hold ("a b", "a/b") each get a report of their own,
+// and the summary, also written to a name with a space, "%", "#" and ":",
+// links each site to its own report.
+func TestPortfolio_ReportSiteIDs(t *testing.T) {
+	names := map[string]string{"a b": "Site with a space", "a/b": "Site with a slash"}
+	var cfgs []string
+	for i, id := range []string{"a b", "a/b"} {
+		cfg, data := writePortfolioSite(t, portfolioSites[i], "", "")
+		text, err := os.ReadFile(cfg)
+		require.NoError(t, err)
+		named := strings.Replace(string(text), "id: "+portfolioSites[i].id+", name: "+portfolioSites[i].id,
+			"id: "+yamlQuote(id)+", name: "+yamlQuote(names[id]), 1)
+		require.NotEqual(t, string(text), named)
+		require.NoError(t, os.WriteFile(cfg, []byte(named), 0o600))
+		code, _, errOut := runCLI(t, "--log-level", "warn", "analyze", "--config", cfg, "--input", data)
+		require.Equal(t, 0, code, errOut)
+		cfgs = append(cfgs, cfg)
+	}
+	for _, name := range []string{"portfolio.html", "100% #1: sites.html"} {
+		t.Run(name, func(t *testing.T) {
+			out := filepath.Join(t.TempDir(), name)
+			code, _, errOut := runCLI(t, "--log-level", "warn", "report", "--config", cfgs[0], "--config", cfgs[1], "--from", "2026-07-14", "--to", "2026-07-15", "-o", out)
+			require.Equal(t, 0, code, errOut)
+			b, err := os.ReadFile(out)
+			require.NoError(t, err)
+			rows := regexp.MustCompile(`<tr data-site="([^"]+)"><th scope="row"><a href="([^"]+)">`).FindAllStringSubmatch(string(b), -1)
+			require.Len(t, rows, 2, string(b))
+			// The summary's links, resolved as a browser resolves them from the
+			// summary's own address.
+			from := &url.URL{Scheme: "file", Path: out}
+			files := map[string]bool{}
+			for _, r := range rows {
+				id := html.UnescapeString(r[1])
+				ref, err := url.Parse(html.UnescapeString(r[2]))
+				require.NoError(t, err, r[2])
+				target := from.ResolveReference(ref)
+				require.Equal(t, "file", target.Scheme, r[2])
+				files[target.Path] = true
+				site, err := os.ReadFile(target.Path)
+				require.NoError(t, err, "site %q links to %s", id, r[2])
+				assert.Contains(t, string(site), `id="site-name">`+names[id]+`<`, "site %q's link goes to its own report", id)
+			}
+			assert.Len(t, files, 2, "a report file each")
+		})
+	}
 }

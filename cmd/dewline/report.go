@@ -6,6 +6,7 @@ import (
 	"flag"
 	"fmt"
 	"math"
+	"net/url"
 	"path/filepath"
 	"regexp"
 	"strings"
@@ -244,7 +245,7 @@ var fileSafe = regexp.MustCompile(`[^A-Za-z0-9._-]+`)
 func writePortfolioReport(ctx context.Context, e *env, paths []string, out string, rf reportFlags) error {
 	stem := strings.TrimSuffix(out, filepath.Ext(out))
 	var sites []dashboards.PortfolioReportSite
-	seen := map[string]string{}
+	seen, taken := map[string]string{}, map[string]bool{}
 	for _, p := range paths {
 		rep, _, site, log, err := buildSiteReport(ctx, e, p, rf)
 		if err != nil {
@@ -255,14 +256,20 @@ func writePortfolioReport(ctx context.Context, e *env, paths []string, out strin
 			return fmt.Errorf("%s and %s are both site %q: give each site its own site.id", prev, p, site.ID)
 		}
 		seen[site.ID] = p
-		file := stem + "-" + fileSafe.ReplaceAllString(site.ID, "_") + ".html"
+		// Ids alike but for what fileSafe replaces, or case: a file each.
+		name := stem + "-" + fileSafe.ReplaceAllString(site.ID, "_")
+		file := name + ".html"
+		for n := 2; taken[strings.ToLower(file)]; n++ {
+			file = fmt.Sprintf("%s-%d.html", name, n)
+		}
+		taken[strings.ToLower(file)] = true
 		n, err := outfile.Write(file, func(w *bufio.Writer) error { return rep.WriteHTML(w) })
 		if err != nil {
 			return err
 		}
 		log.Info().Str("path", file).Int64("bytes", n).Msg("site report written")
 		fmt.Fprintln(e.stdout, file)
-		sites = append(sites, dashboards.PortfolioReportSite{Report: rep, Href: filepath.Base(file)})
+		sites = append(sites, dashboards.PortfolioReportSite{Report: rep, Href: strings.ReplaceAll(url.PathEscape(filepath.Base(file)), ":", "%3A")})
 	}
 	if _, err := outfile.Write(out, func(w *bufio.Writer) error {
 		return dashboards.WritePortfolioReport(w, sites, time.Now())
