@@ -11,9 +11,6 @@ import (
 	"github.com/dewline/dewline/ingest/importer"
 )
 
-// unmatchedExamples is how many unmapped series names a summary shows.
-const unmatchedExamples = importer.UnmatchedExamples
-
 func runImport(ctx context.Context, e *env, args []string) error {
 	fs := flag.NewFlagSet("import", flag.ContinueOnError)
 	cfgPath := fs.String("config", "", "configuration file (required)")
