@@ -55,31 +55,73 @@ type Order struct {
 // merged) and reports the span of its records of the series in ix and the
 // first of them that is out of order as RecordHours would refuse it.
 func ScanOrder(ctx context.Context, src RecordSource, ix PointIndex) (Order, error) {
-	var o Order
+	var (
+		o      Order
+		oldest time.Time // MaxDisorder before o.Last
+		// A wide export repeats its columns in order: the series after
+		// the last one met is tried before the index (a map look-up per
+		// record is most of a scan's cost).
+		seen []scanSeries
+		pos  int
+	)
+	configured := func(name string) bool {
+		if n := len(seen); n > 0 {
+			p := pos + 1
+			if p == n {
+				p = 0
+			}
+			if seen[p].name == name {
+				pos = p
+				return seen[p].ok
+			}
+		}
+		for i := range seen {
+			if seen[i].name == name {
+				pos = i
+				return seen[i].ok
+			}
+		}
+		ok := ix[name] != nil
+		if len(seen) < maxScanSeries {
+			seen = append(seen, scanSeries{name, ok})
+			pos = len(seen) - 1
+		}
+		return ok
+	}
 	err := readBatches(ctx, src, func(recs []Record) error {
 		for i := range recs {
 			rec := &recs[i]
-			if ix[rec.Series] == nil {
+			if !configured(rec.Series) {
 				continue
 			}
 			switch {
 			case o.First.IsZero():
-				o.First, o.Last = rec.Time, rec.Time
+				o.First, o.Last, oldest = rec.Time, rec.Time, rec.Time.Add(-MaxDisorder)
 				continue
-			case o.OutOfOrder == nil && rec.Time.Before(o.Last.Add(-MaxDisorder)):
+			case o.OutOfOrder == nil && rec.Time.Before(oldest):
 				o.OutOfOrder = &OutOfOrderError{File: rec.File, Line: rec.Line, Series: rec.Series, Time: rec.Time, Latest: o.Last}
 			}
 			if rec.Time.Before(o.First) {
 				o.First = rec.Time
 			}
 			if rec.Time.After(o.Last) {
-				o.Last = rec.Time
+				o.Last, oldest = rec.Time, rec.Time.Add(-MaxDisorder)
 			}
 		}
 		return nil
 	})
 	return o, err
 }
+
+// scanSeries is a series ScanOrder met and whether it is configured.
+type scanSeries struct {
+	name string
+	ok   bool
+}
+
+// maxScanSeries bounds the series names ScanOrder remembers; past them it
+// looks each up in the index.
+const maxScanSeries = 64
 
 // RecordHours streams records from exports into hours of several air
 // handlers at once, without storing them: memory stays flat however long
