@@ -58,40 +58,15 @@ func ScanOrder(ctx context.Context, src RecordSource, ix PointIndex) (Order, err
 	var (
 		o      Order
 		oldest time.Time // MaxDisorder before o.Last
-		// A wide export repeats its columns in order: the series after
-		// the last one met is tried before the index (a map look-up per
-		// record is most of a scan's cost).
-		seen []scanSeries
-		pos  int
+		// A wide export repeats its columns in order: the router tries the
+		// series after the last one met before the index (a map look-up
+		// per record was most of a scan's cost).
+		routes = newRouter(ix)
 	)
-	configured := func(name string) bool {
-		if n := len(seen); n > 0 {
-			p := pos + 1
-			if p == n {
-				p = 0
-			}
-			if seen[p].name == name {
-				pos = p
-				return seen[p].ok
-			}
-		}
-		for i := range seen {
-			if seen[i].name == name {
-				pos = i
-				return seen[i].ok
-			}
-		}
-		ok := ix[name] != nil
-		if len(seen) < maxScanSeries {
-			seen = append(seen, scanSeries{name, ok})
-			pos = len(seen) - 1
-		}
-		return ok
-	}
 	err := readBatches(ctx, src, func(recs []Record) error {
 		for i := range recs {
 			rec := &recs[i]
-			if !configured(rec.Series) {
+			if routes.find(rec.Series).targets == nil {
 				continue
 			}
 			switch {
@@ -112,16 +87,6 @@ func ScanOrder(ctx context.Context, src RecordSource, ix PointIndex) (Order, err
 	})
 	return o, err
 }
-
-// scanSeries is a series ScanOrder met and whether it is configured.
-type scanSeries struct {
-	name string
-	ok   bool
-}
-
-// maxScanSeries bounds the series names ScanOrder remembers; past them it
-// looks each up in the index.
-const maxScanSeries = 64
 
 // RecordHours streams records from exports into hours of several air
 // handlers at once, without storing them: memory stays flat however long
