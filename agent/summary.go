@@ -49,7 +49,7 @@ func WriteSummaries(w io.Writer, cfg *config.Config, ahus []string, sums map[str
 			s.AHU, s.Hours, 100*s.Coverage(), water, s.ReheatKWh, s.ReheatAvoidKWh, s.CostAvoidable, s.Cost, eer(s.EffectiveEER()), open)
 		if n := s.NoCoolingInput.Hours; n > 0 {
 			gaps = append(gaps, fmt.Sprintf("  %s: %s flagged %s, left out of its cost, avoidable cost and EER",
-				s.AHU, plural(n, "hour"), metrics.FlagCoolingMissing))
+				s.AHU, metrics.Plural(n, "hour"), metrics.FlagCoolingMissing))
 			tot.NoCoolingInput.Hours += n
 		}
 		tot.CostAvoidable += s.CostAvoidable
@@ -64,7 +64,7 @@ func WriteSummaries(w io.Writer, cfg *config.Config, ahus []string, sums map[str
 		tot.ReheatKWh, tot.ReheatAvoidKWh, tot.CostAvoidable, cur, tot.Cost, cur)
 	if len(gaps) > 0 {
 		fmt.Fprintf(w, "\n%s without a cooling input (a metered cooling_kw read nothing, and no rated_eer or plant_kw_per_ton stands in):\n",
-			plural(tot.NoCoolingInput.Hours, "hour"))
+			metrics.Plural(tot.NoCoolingInput.Hours, "hour"))
 		for _, g := range gaps {
 			fmt.Fprintln(w, g)
 		}
@@ -86,11 +86,4 @@ func eer(v float64) string {
 		return "-"
 	}
 	return fmt.Sprintf("%.1f", v)
-}
-
-func plural(n int, what string) string {
-	if n == 1 {
-		return "1 " + what
-	}
-	return fmt.Sprintf("%d %ss", n, what)
 }

@@ -311,11 +311,7 @@ func (a Alert) Told() string {
 		s = "opened: " + a.OpenReason + "; latest hour: " + a.Reason
 	}
 	if n := a.UncomputedHours; n > 0 {
-		hours := "1 hour"
-		if n > 1 {
-			hours = fmt.Sprintf("%d hours", n)
-		}
-		s += "; the energy or cost at stake could not be computed for " + hours + " and is left out of the totals"
+		s += "; the energy or cost at stake could not be computed for " + Plural(n, "hour") + " and is left out of the totals"
 	}
 	return s
 }

@@ -19,6 +19,7 @@ import (
 	"github.com/dewline/dewline/ingest"
 	"github.com/dewline/dewline/ingest/csvfile"
 	"github.com/dewline/dewline/ingest/store"
+	"github.com/dewline/dewline/metrics"
 )
 
 // readRecords is how many records one read of the export returns.
@@ -263,25 +264,18 @@ func storedSoFar(path string, line int, part partial, err error) error {
 		rest, restValues := 0, 0
 		for i, ss := range part.series {
 			if i < storedSeriesNamed {
-				named = append(named, fmt.Sprintf("%q (%s)", ss.name, plural(ss.values, "value")))
+				named = append(named, fmt.Sprintf("%q (%s)", ss.name, metrics.Plural(ss.values, "value")))
 			} else {
 				rest++
 				restValues += ss.values
 			}
 		}
 		if rest > 0 {
-			named = append(named, fmt.Sprintf("%d more series (%s)", rest, plural(restValues, "value")))
+			named = append(named, fmt.Sprintf("%d more series (%s)", rest, metrics.Plural(restValues, "value")))
 		}
 		fmt.Fprintf(&b, "; of lines %d to %d, these series are stored whole: %s, the others only as far as the error says", part.from, part.to, strings.Join(named, ", "))
 	}
 	return fmt.Errorf("%w (%s; once it is fixed, import the file again: stored samples are replaced, never duplicated)", err, b.String())
-}
-
-func plural(n int, word string) string {
-	if n == 1 {
-		return "1 " + word
-	}
-	return fmt.Sprintf("%d %ss", n, word)
 }
 
 // nothingWritten explains an import that stored no value, with the fix.

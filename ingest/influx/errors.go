@@ -6,6 +6,8 @@ import (
 	"regexp"
 	"strings"
 	"time"
+
+	"github.com/dewline/dewline/metrics"
 )
 
 // Sentinel errors, matched with errors.Is. Request failures come as a
@@ -63,13 +65,13 @@ func (e *RequestError) Error() string {
 	fmt.Fprintf(&b, "influx %s %s: ", e.Op, e.URL)
 	switch e.Kind {
 	case ErrTimeout:
-		fmt.Fprintf(&b, "timed out after %s (timeout %s each)", plural(e.Attempts, "attempt"), e.Timeout)
+		fmt.Fprintf(&b, "timed out after %s (timeout %s each)", metrics.Plural(e.Attempts, "attempt"), e.Timeout)
 		if e.Message != "" {
 			fmt.Fprintf(&b, ": %s", e.Message)
 		}
 	case ErrUnreachable:
 		fmt.Fprintf(&b, "cannot reach the server after %s: %s; check that InfluxDB is running at %s and that the url option is right",
-			plural(e.Attempts, "attempt"), e.Message, e.URL)
+			metrics.Plural(e.Attempts, "attempt"), e.Message, e.URL)
 	case ErrNoSuchBucket:
 		create := "CREATE DATABASE " + database(e.Bucket)
 		if db, rp, ok := strings.Cut(e.Bucket, "/"); ok && rp != "" && missingRP.MatchString(e.Message) {
@@ -80,7 +82,7 @@ func (e *RequestError) Error() string {
 	case ErrUnauthorized:
 		fmt.Fprintf(&b, "%s; check the token (InfluxDB 2.x: an API token with access to the bucket; 1.x: user:password)", e.status())
 	case ErrServer:
-		fmt.Fprintf(&b, "server error after %s: %s", plural(e.Attempts, "attempt"), e.status())
+		fmt.Fprintf(&b, "server error after %s: %s", metrics.Plural(e.Attempts, "attempt"), e.status())
 	default:
 		b.WriteString(e.status())
 	}
@@ -117,13 +119,6 @@ func (e *RequestError) Unwrap() []error {
 		return []error{e.Kind}
 	}
 	return []error{e.Kind, e.err}
-}
-
-func plural(n int, word string) string {
-	if n == 1 {
-		return "1 " + word
-	}
-	return fmt.Sprintf("%d %ss", n, word)
 }
 
 // database is the 1.x database part of a "db/rp" bucket, quoted for
