@@ -264,57 +264,23 @@ func editDistance(a, b string) int {
 	return prev[len(b)]
 }
 
-// lineOf finds the line of the value at a key path in the YAML tree:
-// strings step into mappings, ints into sequences. It returns the deepest
-// line found, so a missing key reports its parent's line.
-// given reports whether the file sets the key at path: a zero it gives
-// is not the zero of a key left out, which takes its default.
-func given(root *yaml.Node, path ...any) bool {
+// walk follows a key path in the YAML tree (strings step into mappings,
+// ints into sequences) and returns the node reached, the line of the
+// deepest key or item found, and whether the whole path was found.
+func walk(root *yaml.Node, path ...any) (n *yaml.Node, line int, ok bool) {
 	if root == nil {
-		return false
+		return nil, 0, false
 	}
-	n := root
+	n = root
 	if n.Kind == yaml.DocumentNode && len(n.Content) > 0 {
 		n = n.Content[0]
 	}
+	line = n.Line
 	for _, p := range path {
 		switch k := p.(type) {
 		case string:
 			if n.Kind != yaml.MappingNode {
-				return false
-			}
-			found := false
-			for i := 0; i+1 < len(n.Content); i += 2 {
-				if n.Content[i].Value == k {
-					n = n.Content[i+1]
-					found = true
-					break
-				}
-			}
-			if !found {
-				return false
-			}
-		case int:
-			if n.Kind != yaml.SequenceNode || k >= len(n.Content) {
-				return false
-			}
-			n = n.Content[k]
-		}
-	}
-	return !(n.Kind == yaml.ScalarNode && n.Tag == "!!null")
-}
-
-func lineOf(root *yaml.Node, path ...any) int {
-	n := root
-	if n.Kind == yaml.DocumentNode && len(n.Content) > 0 {
-		n = n.Content[0]
-	}
-	line := n.Line
-	for _, p := range path {
-		switch k := p.(type) {
-		case string:
-			if n.Kind != yaml.MappingNode {
-				return line
+				return n, line, false
 			}
 			found := false
 			for i := 0; i+1 < len(n.Content); i += 2 {
@@ -326,15 +292,30 @@ func lineOf(root *yaml.Node, path ...any) int {
 				}
 			}
 			if !found {
-				return line
+				return n, line, false
 			}
 		case int:
 			if n.Kind != yaml.SequenceNode || k >= len(n.Content) {
-				return line
+				return n, line, false
 			}
 			n = n.Content[k]
 			line = n.Line
 		}
 	}
+	return n, line, true
+}
+
+// given reports whether the file sets the key at path: a zero it gives
+// is not the zero of a key left out, which takes its default.
+func given(root *yaml.Node, path ...any) bool {
+	n, _, ok := walk(root, path...)
+	return ok && !(n.Kind == yaml.ScalarNode && n.Tag == "!!null")
+}
+
+// lineOf finds the line of the value at a key path in the YAML tree. It
+// returns the deepest line found, so a missing key reports its parent's
+// line.
+func lineOf(root *yaml.Node, path ...any) int {
+	_, line, _ := walk(root, path...)
 	return line
 }
