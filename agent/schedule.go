@@ -41,6 +41,19 @@ const (
 	NothingOwnedFix = "it runs nothing and takes air handlers as the configuration grows; to use it now, run fewer replicas (spec.replicas and the n of --shard together)"
 )
 
+// MarkIdle tells the observer, when the runner owns no air handler (AHUs
+// empty, not nil: a shard left empty), that it runs nothing and why, and
+// reports whether it does. Serve calls it; a caller that serves readiness
+// before Serve starts calls it first, so that no probe sees the idle agent
+// without its note.
+func (r *Runner) MarkIdle() bool {
+	if r.AHUs == nil || len(r.AHUs) > 0 {
+		return false
+	}
+	r.obs().SetIdle(NothingOwned + "; " + NothingOwnedFix)
+	return true
+}
+
 // Serve runs the runner on the configured cron schedule (in the site's time
 // zone) until ctx ends: once at start to catch up, then at every tick. Runs
 // never overlap: a tick that finds the previous run still going is skipped
@@ -58,10 +71,9 @@ func (r *Runner) Serve(ctx context.Context, grace time.Duration) error {
 	if err != nil {
 		return err
 	}
-	if r.AHUs != nil && len(r.AHUs) == 0 {
+	if r.MarkIdle() {
 		// A shard that owns nothing stays up and ready, and runs nothing:
 		// exiting would make a StatefulSet restart it again and again.
-		r.obs().SetIdle(NothingOwned + "; " + NothingOwnedFix)
 		<-ctx.Done()
 		r.Log.Info().Msg("agent stopped")
 		return nil

@@ -226,6 +226,7 @@ func runSite(ctx context.Context, e *env, cfg *config.Config, broken map[string]
 	if err != nil {
 		return err
 	}
+	runner.MarkIdle() // before the endpoint answers its first probe
 	if err := srv.Start(); err != nil {
 		return err
 	}
